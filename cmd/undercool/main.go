@@ -1,0 +1,102 @@
+// Command undercool is the melt-deck thermal-analysis tool: live cup
+// acquisition, cooling-curve analysis, limits, records and reports.
+//
+// Each subcommand lives in its own file and registers itself in init.
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"sort"
+	"syscall"
+)
+
+// command is one subcommand of undercool.
+type command struct {
+	name    string
+	summary string // one line for the command list
+	// run gets the arguments after the subcommand's name. It returns an
+	// error to print; errUsage prints the usage and exits 2.
+	run func(ctx context.Context, env *environ, args []string) error
+}
+
+// environ is what a subcommand may touch of the process.
+type environ struct {
+	stdin  io.Reader
+	stdout io.Writer
+	stderr io.Writer
+	getenv func(string) string
+}
+
+var commands = map[string]command{}
+
+func register(c command) {
+	if _, dup := commands[c.name]; dup {
+		panic("undercool: command registered twice: " + c.name)
+	}
+	commands[c.name] = c
+}
+
+// exitError carries a chosen exit status without printing more.
+type exitError struct{ code int }
+
+func (e exitError) Error() string { return fmt.Sprintf("exit status %d", e.code) }
+
+// errUsage asks main to print usage and exit with status 2.
+var errUsage = errors.New("usage")
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	env := &environ{stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, getenv: os.Getenv}
+	code := runMain(ctx, env, os.Args[1:])
+	stop()
+	os.Exit(code)
+}
+
+func runMain(ctx context.Context, env *environ, args []string) int {
+	if len(args) == 0 || args[0] == "help" || args[0] == "-h" || args[0] == "--help" {
+		usage(env.stdout)
+		if len(args) == 0 {
+			return 2
+		}
+		return 0
+	}
+	c, ok := commands[args[0]]
+	if !ok {
+		fmt.Fprintf(env.stderr, "undercool: unknown command %q (try 'undercool help')\n", args[0])
+		return 2
+	}
+	err := c.run(ctx, env, args[1:])
+	var ee exitError
+	switch {
+	case err == nil:
+		return 0
+	case errors.As(err, &ee):
+		return ee.code
+	case errors.Is(err, errUsage):
+		fmt.Fprintf(env.stderr, "undercool %s: see 'undercool %s -h'\n", c.name, c.name)
+		return 2
+	default:
+		fmt.Fprintf(env.stderr, "undercool %s: %v\n", c.name, err)
+		return 1
+	}
+}
+
+func usage(w io.Writer) {
+	fmt.Fprintln(w, "undercool: thermal analysis of cast-iron and aluminium cup samples on the melt deck.")
+	fmt.Fprintln(w, "Advice only: follow your shop's written procedures and your metallurgist.")
+	fmt.Fprintln(w, "\nCommands:")
+	names := make([]string, 0, len(commands))
+	for n := range commands {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	for _, n := range names {
+		fmt.Fprintf(w, "  %-10s %s\n", n, commands[n].summary)
+	}
+	fmt.Fprintln(w, "\nRun 'undercool COMMAND -h' for a command's options.")
+}
