@@ -6,6 +6,7 @@ package assess
 
 import (
 	"github.com/undercool-foundry/undercool/internal/arrest"
+	"github.com/undercool-foundry/undercool/internal/limits"
 )
 
 // Verdict values (stable, documented in README.md).
@@ -56,6 +57,10 @@ type Input struct {
 	Time    []float64 // s
 	Temp    []float64 // °C
 	Skipped int       // lines the reader skipped as noise
+
+	// Limits is the shop's limits book; nil uses limits.Builtin() (the
+	// shipped examples).
+	Limits *limits.Book
 }
 
 // Assess analyses one sample and fills its record.
