@@ -1,0 +1,75 @@
+package curve
+
+import "math"
+
+// Spike test (a Hampel-type median test on five samples). Sample i is a spike
+// when it lies further from the median of its five-sample window than
+//
+//	thr = max(minC, 6·noise) + 2·min(|x[i+1]−x[i−1]|/2, |x[i+2]−x[i−2]|/4)
+//
+// The second term is the local change per sample, so a steep but genuine
+// slope (the pour, the end of freezing) is never taken for a spike. A spike
+// takes the window median, which is always one of the neighbours' readings:
+// nothing is invented. Up to two adjacent spikes are removed. The window
+// keeps five samples at the ends of x by moving inward.
+
+// SpikeSigmas is the multiple of the noise estimate in the spike threshold.
+const SpikeSigmas = 6
+
+// SpikeAt applies the spike test to sample i of x (len(x) ≥ 5) with the given
+// minimum threshold and noise estimate, both °C. It returns the value to use
+// (x[i] itself, or the window median) and whether x[i] was a spike.
+func SpikeAt(x []float64, i int, minC, noise float64) (float64, bool) {
+	n := len(x)
+	lo := i - 2
+	if lo < 0 {
+		lo = 0
+	}
+	if lo > n-5 {
+		lo = n - 5
+	}
+	w := x[lo : lo+5 : lo+5]
+	med := median5(w[0], w[1], w[2], w[3], w[4])
+	slope := math.Min(math.Abs(w[3]-w[1])/2, math.Abs(w[4]-w[0])/4)
+	thr := math.Max(minC, SpikeSigmas*noise) + 2*slope
+	if math.Abs(x[i]-med) > thr {
+		return med, true
+	}
+	return x[i], false
+}
+
+// Despike writes x with single-sample spikes replaced (see SpikeAt) into dst
+// and returns it with the number of samples replaced. A nil dst allocates;
+// dst may not alias x. Fewer than five samples are copied unchanged.
+func Despike(dst, x []float64, minC, noise float64) ([]float64, int) {
+	n := len(x)
+	if dst == nil {
+		dst = make([]float64, n)
+	}
+	dst = dst[:n]
+	if n < 5 {
+		copy(dst, x)
+		return dst, 0
+	}
+	count := 0
+	for i := range x {
+		v, spike := SpikeAt(x, i, minC, noise)
+		dst[i] = v
+		if spike {
+			count++
+		}
+	}
+	return dst, count
+}
+
+// median5 returns the median of five values (one of them, never a mean),
+// by insertion sort of a copy.
+func median5(a, b, c, d, e float64) float64 {
+	v := [5]float64{a, b, c, d, e}
+	for i := 1; i < 5; i++ {
+		for j := i; j > 0 && v[j] < v[j-1]; j-- {
+			v[j], v[j-1] = v[j-1], v[j]
+		}
+	}
+	return v[2]
+}

@@ -1,0 +1,65 @@
+package curve
+
+import (
+	"math"
+	"math/rand/v2"
+	"slices"
+	"testing"
+)
+
+func TestDespikeRemovesSpikesOnly(t *testing.T) {
+	r := rand.New(rand.NewPCG(5, 6))
+	for _, rate := range []float64{2, 4, 10, 50, 200} {
+		clean := constructedCurve(int(300*rate), rate, 0.3, uint64(rate))
+		x := slices.Clone(clean)
+		spikes := map[int]bool{}
+		for i := 10; i < len(x)-10; i += 200 + r.IntN(600) {
+			x[i] += (10 + 30*r.Float64()) * float64(1-2*r.IntN(2))
+			spikes[i] = true
+		}
+		y, n := Despike(nil, x, 3, 0.3)
+		if n != len(spikes) {
+			t.Errorf("%g Hz: removed %d spikes, put in %d", rate, n, len(spikes))
+		}
+		for i := range y {
+			if spikes[i] {
+				if !slices.Contains(x[max(0, i-2):min(len(x), i+3)], y[i]) {
+					t.Errorf("%g Hz: replacement %g at %d is not a neighbour's reading", rate, y[i], i)
+				}
+				if math.Abs(y[i]-clean[i]) > 3 {
+					t.Errorf("%g Hz: spike at %d replaced by %g, clean %g", rate, i, y[i], clean[i])
+				}
+			} else if y[i] != x[i] {
+				t.Errorf("%g Hz: sample %d changed from %g to %g", rate, i, x[i], y[i])
+			}
+		}
+	}
+}
+
+// A steep genuine rise (the pour: 25 → 1400 °C in half a second) is no spike.
+func TestDespikeKeepsThePour(t *testing.T) {
+	x := []float64{25, 25, 25, 300, 900, 1300, 1390, 1385, 1380, 1376, 1371, 1366}
+	y, n := Despike(nil, x, 3, 0.3)
+	if n != 0 || !slices.Equal(x, y) {
+		t.Fatalf("pour altered: %v (%d removed)", y, n)
+	}
+}
+
+// The noise estimate recovers the standard deviation of white noise on a
+// smooth constructed curve, with and without spikes, within 10 %.
+func TestNoiseEstimate(t *testing.T) {
+	for _, sd := range []float64{0.05, 0.1, 0.3, 1} {
+		x := constructedCurve(3000, 10, sd, 11)
+		for i := 100; i < len(x); i += 500 {
+			x[i] += 30
+		}
+		got, _ := Noise(nil, x)
+		if math.Abs(got-sd) > 0.1*sd {
+			t.Errorf("noise %g: estimated %g", sd, got)
+		}
+		t.Logf("white noise sd %.2f °C: estimate %.4f °C", sd, got)
+	}
+	if got, _ := Noise(nil, make([]float64, 100)); got != 0 {
+		t.Errorf("flat line: noise %g", got)
+	}
+}

@@ -1,0 +1,284 @@
+// Package curve holds the signal processing of a cooling curve: single-sample
+// spike removal, Savitzky–Golay smoothing and derivatives, and a robust noise
+// estimate. It is pure: slices in, slices out. Functions that fill a slice take
+// the destination first; a nil destination allocates.
+package curve
+
+import (
+	"fmt"
+	"math"
+	"sync"
+)
+
+// Kernel is a Savitzky–Golay filter: the least-squares polynomial of degree
+// Order fitted to Window consecutive equally spaced samples, differentiated
+// Deriv times and evaluated at the centre sample (Savitzky & Golay, Anal.
+// Chem. 36 (1964) 1627; corrected tables: Steinier, Termonia & Deltour, Anal.
+// Chem. 44 (1972) 1906).
+//
+// Edges: the first and last Window/2 outputs come from the same polynomial
+// fitted to the first (last) Window samples, evaluated at the output's own
+// position — the "interp" edge mode of scipy.signal.savgol_filter. No sample
+// is padded or mirrored.
+//
+// A Kernel is immutable and safe for concurrent use. Get one from SavGol, which
+// computes each (window, order, deriv) once and then returns the same value.
+type Kernel struct {
+	Window, Order, Deriv int
+
+	half int
+	// rows[r] holds the weights that give the output at window position r
+	// (0 … Window−1) from the Window samples; rows[half] is the centre kernel.
+	// Weights are per sample^Deriv; Apply and At divide by dt^Deriv.
+	rows [][]float64
+}
+
+type kernelKey struct{ window, order, deriv int }
+
+var (
+	kernelMu    sync.Mutex
+	kernelCache = map[kernelKey]*Kernel{}
+)
+
+// SavGol returns the Savitzky–Golay kernel for an odd window of samples, a
+// polynomial order below the window and a derivative order 0 … order. Kernels
+// are computed once per (window, order, deriv) and shared. It panics on
+// misuse, since the arguments come from code, not from data.
+func SavGol(window, order, deriv int) *Kernel {
+	if window < 3 || window%2 == 0 {
+		panic(fmt.Sprintf("curve: Savitzky–Golay window %d must be odd and at least 3", window))
+	}
+	if order < 0 || order >= window {
+		panic(fmt.Sprintf("curve: Savitzky–Golay order %d must be in [0, window−1=%d]", order, window-1))
+	}
+	if deriv < 0 || deriv > order {
+		panic(fmt.Sprintf("curve: Savitzky–Golay derivative %d must be in [0, order=%d]", deriv, order))
+	}
+	key := kernelKey{window, order, deriv}
+	kernelMu.Lock()
+	defer kernelMu.Unlock()
+	if k, ok := kernelCache[key]; ok {
+		return k
+	}
+	k := newKernel(window, order, deriv)
+	kernelCache[key] = k
+	return k
+}
+
+// newKernel solves the normal equations of the fit on the scaled abscissa
+// z = (j − half)/half, which keeps them well conditioned, and rescales.
+func newKernel(window, order, deriv int) *Kernel {
+	half := window / 2
+	np := order + 1
+	scale := float64(half)
+	// Gram matrix G = AᵀA with A[j][a] = z_j^a.
+	g := make([]float64, np*np)
+	zp := make([]float64, window*np) // z_j^a
+	for j := 0; j < window; j++ {
+		z := float64(j-half) / scale
+		p := 1.0
+		for a := 0; a < np; a++ {
+			zp[j*np+a] = p
+			p *= z
+		}
+	}
+	for a := 0; a < np; a++ {
+		for b := 0; b < np; b++ {
+			s := 0.0
+			for j := 0; j < window; j++ {
+				s += zp[j*np+a] * zp[j*np+b]
+			}
+			g[a*np+b] = s
+		}
+	}
+	inv := invert(g, np)
+	// Coefficient b_a of the fit = Σ_j (G⁻¹Aᵀ)[a][j] y_j. The deriv-th
+	// derivative at z_r, per unit of z, is Σ_a b_a a!/(a−deriv)! z_r^(a−deriv);
+	// per sample it is divided by scale^deriv.
+	proj := make([]float64, np*window)
+	for a := 0; a < np; a++ {
+		for j := 0; j < window; j++ {
+			s := 0.0
+			for b := 0; b < np; b++ {
+				s += inv[a*np+b] * zp[j*np+b]
+			}
+			proj[a*window+j] = s
+		}
+	}
+	rows := make([][]float64, window)
+	unit := math.Pow(scale, float64(deriv))
+	for r := 0; r < window; r++ {
+		z := float64(r-half) / scale
+		row := make([]float64, window)
+		for a := deriv; a < np; a++ {
+			f := fallingFactorial(a, deriv) * math.Pow(z, float64(a-deriv)) // Pow(0, 0) = 1
+			for j := 0; j < window; j++ {
+				row[j] += f * proj[a*window+j]
+			}
+		}
+		for j := range row {
+			row[j] /= unit
+		}
+		rows[r] = row
+	}
+	return &Kernel{Window: window, Order: order, Deriv: deriv, half: half, rows: rows}
+}
+
+func fallingFactorial(a, d int) float64 {
+	f := 1.0
+	for i := 0; i < d; i++ {
+		f *= float64(a - i)
+	}
+	return f
+}
+
+// invert returns the inverse of the n×n matrix m (row major) by Gauss–Jordan
+// elimination with partial pivoting.
+func invert(m []float64, n int) []float64 {
+	a := make([]float64, n*2*n)
+	for i := 0; i < n; i++ {
+		copy(a[i*2*n:], m[i*n:(i+1)*n])
+		a[i*2*n+n+i] = 1
+	}
+	w := 2 * n
+	for c := 0; c < n; c++ {
+		p := c
+		for r := c + 1; r < n; r++ {
+			if math.Abs(a[r*w+c]) > math.Abs(a[p*w+c]) {
+				p = r
+			}
+		}
+		if p != c {
+			for k := 0; k < w; k++ {
+				a[c*w+k], a[p*w+k] = a[p*w+k], a[c*w+k]
+			}
+		}
+		d := a[c*w+c]
+		for k := 0; k < w; k++ {
+			a[c*w+k] /= d
+		}
+		for r := 0; r < n; r++ {
+			if r == c {
+				continue
+			}
+			f := a[r*w+c]
+			if f == 0 {
+				continue
+			}
+			for k := 0; k < w; k++ {
+				a[r*w+k] -= f * a[c*w+k]
+			}
+		}
+	}
+	out := make([]float64, n*n)
+	for i := 0; i < n; i++ {
+		copy(out[i*n:(i+1)*n], a[i*2*n+n:(i+1)*2*n])
+	}
+	return out
+}
+
+// Coefficients returns the centre weights, per sample^Deriv, in window order:
+// the output at i is Σ_k c[k]·x[i−Window/2+k]. The slice is shared; do not
+// modify it.
+func (k *Kernel) Coefficients() []float64 { return k.rows[k.half] }
+
+// EdgeCoefficients returns the weights for the output at window position r
+// (0 … Window−1) of a fit to one window of samples; r = Window/2 is the
+// centre. The slice is shared; do not modify it.
+func (k *Kernel) EdgeCoefficients(r int) []float64 { return k.rows[r] }
+
+// NoiseGain is √Σc², the factor by which the kernel scales the standard
+// deviation of white noise (per sample^Deriv; divide by dt^Deriv for units
+// of time).
+func (k *Kernel) NoiseGain() float64 {
+	s := 0.0
+	for _, c := range k.rows[k.half] {
+		s += c * c
+	}
+	return math.Sqrt(s)
+}
+
+// At returns the filter output at sample i of x sampled every dt seconds
+// (°C/s^Deriv for temperatures in °C), with the edge handling described on
+// Kernel. It panics if x is shorter than the window.
+func (k *Kernel) At(x []float64, i int, dt float64) float64 {
+	n := len(x)
+	if n < k.Window {
+		panic(fmt.Sprintf("curve: %d samples are fewer than the window %d", n, k.Window))
+	}
+	var row []float64
+	var win []float64
+	switch {
+	case i < k.half:
+		row, win = k.rows[i], x[:k.Window]
+	case i >= n-k.half:
+		row, win = k.rows[i-(n-k.Window)], x[n-k.Window:]
+	default:
+		row, win = k.rows[k.half], x[i-k.half:i+k.half+1]
+	}
+	return dot(row, win) / math.Pow(dt, float64(k.Deriv))
+}
+
+// Apply filters x, sampled every dt seconds, into dst and returns it (nil
+// allocates; dst may not alias x). Outputs are in the units of x per
+// s^Deriv. It panics if x is shorter than the window or dst is too short.
+func (k *Kernel) Apply(dst, x []float64, dt float64) []float64 {
+	n := len(x)
+	if n < k.Window {
+		panic(fmt.Sprintf("curve: %d samples are fewer than the window %d", n, k.Window))
+	}
+	if dst == nil {
+		dst = make([]float64, n)
+	}
+	if len(dst) < n {
+		panic(fmt.Sprintf("curve: destination of %d is shorter than %d samples", len(dst), n))
+	}
+	inv := 1 / math.Pow(dt, float64(k.Deriv))
+	h := k.half
+	for i := 0; i < h; i++ {
+		dst[i] = dot(k.rows[i], x[:k.Window]) * inv
+		dst[n-h+i] = dot(k.rows[h+1+i], x[n-k.Window:]) * inv
+	}
+	c := k.rows[h]
+	for i := h; i < n-h; i++ {
+		dst[i] = dot(c, x[i-h:i+h+1]) * inv
+	}
+	return dst[:n]
+}
+
+// dot is Σ a[i]·b[i] over len(a) with four partial sums.
+func dot(a, b []float64) float64 {
+	b = b[:len(a)]
+	var s0, s1, s2, s3 float64
+	i := 0
+	for ; i+4 <= len(a); i += 4 {
+		s0 += a[i] * b[i]
+		s1 += a[i+1] * b[i+1]
+		s2 += a[i+2] * b[i+2]
+		s3 += a[i+3] * b[i+3]
+	}
+	for ; i < len(a); i++ {
+		s0 += a[i] * b[i]
+	}
+	return (s0 + s1) + (s2 + s3)
+}
+
+// WindowSamples converts a window length in seconds to an odd number of
+// samples at rateHz, at least minSamples (raised to odd) and at least
+// order+2, so that windows keep their length in time from 2 Hz to 200 Hz.
+func WindowSamples(seconds, rateHz float64, order, minSamples int) int {
+	w := int(math.Round(seconds * rateHz))
+	if w < minSamples {
+		w = minSamples
+	}
+	if w < order+2 {
+		w = order + 2
+	}
+	if w < 3 {
+		w = 3
+	}
+	if w%2 == 0 {
+		w++
+	}
+	return w
+}

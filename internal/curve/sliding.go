@@ -1,0 +1,75 @@
+package curve
+
+// Sliding gives the quadratic Savitzky–Golay smoothing and first derivative of
+// a window of 2·Half+1 samples from running moment sums, O(1) per sample
+// instead of O(window). For a centred window the quadratic (and cubic)
+// smoothing weights are c_k = (3(3m²+3m−1) − 15k²) / ((2m−1)(2m+1)(2m+3)) and
+// the linear (and quadratic) first-derivative weights are k / Σk² with
+// Σk² = m(m+1)(2m+1)/3, m = Half, k = −m … m (Savitzky & Golay 1964, the
+// closed forms behind their tables). The sums
+// S_p = Σ k^p (x[c+k] − ref) move from centre c to c+1 by the binomial
+// shift S_p(c+1) = Σ (k−1)^p …, and are recomputed directly every 128 steps
+// so that rounding cannot drift; the results agree with Kernel.At to about
+// 1e-12 of the signal's range.
+//
+// Only interior centres (Half ≤ c < len(x)−Half) are served. The zero value is
+// unusable: call Reset first. Sliding is not safe for concurrent use.
+type Sliding struct {
+	half       int
+	wSmooth0   float64 // 3(3m²+3m−1)/D
+	wSmooth2   float64 // 15/D
+	invSumK2   float64 // 1/Σk²
+	c          int     // centre of the current sums, −1 when none
+	ref        float64
+	s0, s1, s2 float64
+}
+
+const slidingAnchor = 128
+
+// Reset prepares s for windows of 2·half+1 samples (half ≥ 2).
+func (s *Sliding) Reset(half int) {
+	if half < 2 {
+		panic("curve: Sliding half-width must be at least 2")
+	}
+	m := float64(half)
+	d := (2*m - 1) * (2*m + 1) * (2*m + 3)
+	*s = Sliding{
+		half:     half,
+		wSmooth0: 3 * (3*m*m + 3*m - 1) / d,
+		wSmooth2: 15 / d,
+		invSumK2: 3 / (m * (m + 1) * (2*m + 1)),
+		c:        -1,
+	}
+}
+
+// Half returns the half-width the Sliding was reset to.
+func (s *Sliding) Half() int { return s.half }
+
+// At returns the smoothed value and the first derivative per sample (divide
+// by the sample interval for units per second) at interior centre c of x.
+// Successive centres c, c+1, c+2 … cost O(1) each.
+func (s *Sliding) At(x []float64, c int) (smooth, slope float64) {
+	m := s.half
+	if c == s.c+1 && c%slidingAnchor != 0 {
+		out := x[c-1-m] - s.ref
+		in := x[c+m] - s.ref
+		fm := float64(m)
+		a0 := s.s0 - out + in
+		a1 := s.s1 + fm*out + (fm+1)*in
+		a2 := s.s2 - fm*fm*out + (fm+1)*(fm+1)*in
+		s.s0, s.s1, s.s2 = a0, a1-a0, a2-2*a1+a0
+	} else {
+		s.ref = x[c]
+		var s0, s1, s2 float64
+		for k := -m; k <= m; k++ {
+			y := x[c+k] - s.ref
+			fk := float64(k)
+			s0 += y
+			s1 += fk * y
+			s2 += fk * fk * y
+		}
+		s.s0, s.s1, s.s2 = s0, s1, s2
+	}
+	s.c = c
+	return s.ref + s.wSmooth0*s.s0 - s.wSmooth2*s.s2, s.s1 * s.invSumK2
+}
