@@ -1,0 +1,200 @@
+package sim
+
+import (
+	"math"
+	"math/rand/v2"
+	"strconv"
+
+	"github.com/undercool-foundry/undercool/internal/curvefile"
+)
+
+// Output is one simulated cup.
+type Output struct {
+	Time  []float64 // logger clock, s
+	Temp  []float64 // logger view: lagged thermocouple with noise, spikes, mains pickup, quantisation, °C
+	Clean []float64 // noiseless logger view (lagged thermocouple), °C
+	// Open is true where the logger saw an open thermocouple (nil when the
+	// thermocouple never opened); Temp there holds OpenReadingC.
+	Open   []bool
+	Truth  Truth
+	Meta   []curvefile.Meta // curve-file metadata, "simulated: true" included
+	Params Params           // the parameters with defaults filled in
+}
+
+// Simulate runs one cup. It panics on parameters that Validate rejects
+// (check them first where they come from a user).
+func Simulate(p Params) Output {
+	p = p.withDefaults()
+	if err := p.Validate(); err != nil {
+		panic(err.Error())
+	}
+	f, m := p.run()
+	out := Output{Params: p}
+	// Where the recording stops.
+	total := p.PourAtS + float64(len(f.tc)-1)*stepS
+	stopS, openS := total, math.Inf(1)
+	pulled := p.Fault == FaultPulledEarly
+	if p.Fault == FaultOpen || pulled {
+		at := p.FaultAtS
+		if at == 0 {
+			at = p.PourAtS + midPlateau(f)
+		}
+		if pulled {
+			stopS = math.Min(at, total)
+		} else {
+			openS = at
+		}
+	}
+	nFine := len(f.tc)
+	if end := min(stopS, openS); end < total {
+		nFine = max(0, int((end-p.PourAtS)/stepS)+1)
+	}
+	out.Truth = m.truth(f, nFine)
+
+	rate := p.Logger.RateHz
+	n := int(math.Floor(stopS*rate+1e-9)) + 1
+	out.Time = make([]float64, n)
+	out.Temp = make([]float64, n)
+	out.Clean = make([]float64, n)
+	rng := rand.New(rand.NewPCG(p.Seed, p.Seed^0x9e3779b97f4a7c15))
+	lg := p.Logger
+	mainsHz := lg.MainsHz
+	if mainsHz == 0 {
+		mainsHz = 50 + 0.1*(rng.Float64()-0.5)
+	}
+	phase := 2 * math.Pi * rng.Float64()
+	for k := range n {
+		t := float64(k) / rate
+		out.Time[k] = math.Round(t*1e6) / 1e6
+		c := p.AmbientC
+		if t >= p.PourAtS {
+			u := (t - p.PourAtS) / stepS
+			i := min(int(u), len(f.tc)-2)
+			a := u - float64(i)
+			c = f.tc[i] + a*(f.tc[i+1]-f.tc[i])
+		}
+		out.Clean[k] = c
+		v := c + lg.NoiseC*rng.NormFloat64() + lg.MainsC*math.Sin(2*math.Pi*mainsHz*t+phase)
+		if lg.SpikeRate > 0 && rng.Float64() < lg.SpikeRate {
+			s := lg.SpikeMinC + (lg.SpikeMaxC-lg.SpikeMinC)*rng.Float64()
+			if rng.Float64() < 0.5 {
+				s = -s
+			}
+			v += s
+		}
+		if lg.QuantC > 0 {
+			v = math.Round(v/lg.QuantC) * lg.QuantC
+		}
+		if t >= openS {
+			if out.Open == nil {
+				out.Open = make([]bool, n)
+			}
+			out.Open[k] = true
+			v = OpenReadingC
+		}
+		out.Temp[k] = math.Round(v*1e4) / 1e4
+	}
+	out.Meta = p.meta()
+	return out
+}
+
+// midPlateau is the model time halfway through the eutectic, s.
+func midPlateau(f fine) float64 {
+	if f.eutOn < 0 {
+		return float64(len(f.tc)) * stepS / 2
+	}
+	end := f.endT
+	if end < 0 {
+		end = float64(len(f.tc)) * stepS
+	}
+	return (f.eutOn + end) / 2
+}
+
+// run integrates the cup model with its defaults filled in.
+func (p Params) run() (fine, cup) {
+	m := p.model()
+	if p.Fault == FaultShortPour {
+		// A third of a cup, poured barely above the first arrest.
+		m.mass /= 3
+		d := math.Cbrt(4 * m.mass / m.rho / math.Pi)
+		m.area, m.areaTop = 1.5*math.Pi*d*d, math.Pi*d*d/4
+		m.pour = math.Max(m.liquidus, m.eutectic) + 25
+	}
+	dur := 0.0
+	if p.DurationS > 0 {
+		dur = math.Max(p.DurationS-p.PourAtS, stepS)
+	}
+	est := int(dur/stepS) + 2
+	if dur == 0 {
+		est = int(400 / stepS)
+	}
+	f := fine{offset: p.PourAtS, tc: make([]float64, 0, est), temp: make([]float64, 0, est), fs: make([]float64, 0, est)}
+	var last state
+	m.integrate(dur, p.FillS, p.Logger.LagS, func(s *state) {
+		f.tc = append(f.tc, s.tc)
+		f.temp = append(f.temp, s.temp)
+		f.fs = append(f.fs, s.fs)
+		last = *s
+	})
+	f.primOn, f.eutOn, f.endT = last.primOn, last.eutOn, last.endT
+	m.last = last
+	return f, m
+}
+
+// truth reads the characteristic points off the first n fine steps.
+func (m *cup) truth(f fine, n int) Truth {
+	tr := Truth{EutecticC: m.eutectic, StableEutecticC: m.tst, MetastableEutecticC: m.tmst}
+	if m.primary {
+		tr.EquilibriumLiquidusC = m.liquidus
+	}
+	tr.FinalFractionSolid = m.last.fs
+	tr.LatentJPerKg = m.last.released / m.mass
+	tr.EutecticCellsPerM3 = m.last.eut.m0
+	if m.last.endT >= 0 {
+		tr.FreezingEndS = f.offset + m.last.endT
+	}
+	f.points(n, &tr)
+	return tr
+}
+
+// meta is the curve-file metadata of a simulated cup.
+func (p Params) meta() []curvefile.Meta {
+	g := func(v float64) string { return strconv.FormatFloat(v, 'f', -1, 64) }
+	md := []curvefile.Meta{{Key: "alloy", Value: p.Alloy}}
+	add := func(k, v string) {
+		if v != "" {
+			md = append(md, curvefile.Meta{Key: k, Value: v})
+		}
+	}
+	add("sample", p.Sample)
+	add("ladle", p.Ladle)
+	add("operator", p.Operator)
+	add("thermocouple", "K")
+	add("simulated", "true")
+	add("note", "SIMULATED cup from the undercool cup model, not a measurement")
+	add("seed", strconv.FormatUint(p.Seed, 10))
+	if isIron(p.Alloy) {
+		add("sim_c_pct", g(p.C))
+		add("sim_si_pct", g(p.Si))
+		add("sim_p_pct", g(p.P))
+		add("sim_ce", g(math.Round(CarbonEquivalent(p.C, p.Si, p.P)*1000)/1000))
+	}
+	if p.Alloy == AlSi7Mg {
+		add("sim_si_pct", g(p.Si))
+		add("sim_modification", g(p.Modification))
+	}
+	add("sim_inoculation", g(p.Inoculation))
+	add("sim_hold_min", g(p.HoldMin))
+	add("sim_pour_c", g(p.PourC))
+	add("sim_cup_kg", g(p.CupMassKg))
+	add("sim_rate_hz", g(p.Logger.RateHz))
+	add("sim_noise_c", g(p.Logger.NoiseC))
+	add("sim_lag_s", g(p.Logger.LagS))
+	if p.Logger.SpikeRate > 0 {
+		add("sim_spikes", g(p.Logger.SpikeRate)+" of "+g(p.Logger.SpikeMinC)+"–"+g(p.Logger.SpikeMaxC)+" °C")
+	}
+	add("sim_quant_c", g(p.Logger.QuantC))
+	add("sim_mains_c", g(p.Logger.MainsC))
+	add("sim_fault", string(p.Fault))
+	return md
+}
