@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"strings"
 
 	"github.com/BurntSushi/toml"
 )
@@ -95,7 +96,7 @@ func Parse(data []byte, name string) (*Book, error) {
 		return nil, decodeError(name, err)
 	}
 	if und := md.Undecoded(); len(und) > 0 {
-		k := und[0].String()
+		k := strings.Join(und[0], ".")
 		return nil, &Error{File: name, Line: lineOf(data, k), Key: k, Msg: "unknown key"}
 	}
 	b.Source = name
@@ -128,7 +129,7 @@ func LoadCalibration(path string) (*Calibration, error) {
 		return nil, decodeError(path, err)
 	}
 	if und := md.Undecoded(); len(und) > 0 {
-		k := und[0].String()
+		k := strings.Join(und[0], ".")
 		return nil, &Error{File: path, Line: lineOf(data, k), Key: k, Msg: "unknown key"}
 	}
 	if f.Calibration == nil {
