@@ -1,0 +1,135 @@
+package tui
+
+import (
+	"fmt"
+	"strings"
+
+	"github.com/charmbracelet/bubbles/key"
+	"github.com/charmbracelet/bubbles/textinput"
+	tea "github.com/charmbracelet/bubbletea"
+	"github.com/charmbracelet/lipgloss"
+)
+
+// formDoneMsg carries the filled-in sample form.
+type formDoneMsg struct {
+	channel string
+	meta    SampleMeta
+}
+
+// formClosedMsg says the form was left without changes.
+type formClosedMsg struct{}
+
+var formLabels = [4]string{"sample / ladle", "alloy", "operator", "note"}
+
+// formPane is the sample form: sample or ladle id, alloy, operator, note.
+type formPane struct {
+	st      *Styles
+	keys    *KeyMap
+	inputs  [4]textinput.Model
+	focus   int
+	channel string
+	alloys  []string
+	err     string
+}
+
+func newFormPane(st *Styles, keys *KeyMap, alloys []string) formPane {
+	f := formPane{st: st, keys: keys, alloys: alloys}
+	for i := range f.inputs {
+		in := textinput.New()
+		in.Prompt = ""
+		in.CharLimit = 64
+		in.Width = 30
+		f.inputs[i] = in
+	}
+	f.inputs[1].Placeholder = strings.Join(alloys, ", ")
+	return f
+}
+
+// open shows the form for a channel, prefilled.
+func (f formPane) open(channel string, m SampleMeta) (formPane, tea.Cmd) {
+	f.channel, f.err, f.focus = channel, "", 0
+	for i, v := range []string{m.Sample, m.Alloy, m.Operator, m.Note} {
+		f.inputs[i].SetValue(v)
+		f.inputs[i].CursorEnd()
+		f.inputs[i].Blur()
+	}
+	return f, f.inputs[0].Focus()
+}
+
+func (f formPane) meta() SampleMeta {
+	v := func(i int) string { return strings.TrimSpace(f.inputs[i].Value()) }
+	return SampleMeta{Sample: v(0), Alloy: v(1), Operator: v(2), Note: v(3)}
+}
+
+// validate checks the alloy is one the limits know.
+func (f formPane) validate(m SampleMeta) error {
+	if m.Alloy == "" {
+		return nil
+	}
+	for _, a := range f.alloys {
+		if a == m.Alloy {
+			return nil
+		}
+	}
+	return fmt.Errorf("alloy %q is not in the limits; use one of %s", m.Alloy, strings.Join(f.alloys, ", "))
+}
+
+func (f formPane) move(d int) (formPane, tea.Cmd) {
+	f.inputs[f.focus].Blur()
+	f.focus = (f.focus + d + len(f.inputs)) % len(f.inputs)
+	return f, f.inputs[f.focus].Focus()
+}
+
+func (f formPane) Update(msg tea.Msg) (formPane, tea.Cmd) {
+	if k, ok := msg.(tea.KeyMsg); ok {
+		switch {
+		case k.Type == tea.KeyEsc:
+			return f, func() tea.Msg { return formClosedMsg{} }
+		case key.Matches(k, f.keys.Next):
+			return f.move(1)
+		case key.Matches(k, f.keys.Prev):
+			return f.move(-1)
+		case key.Matches(k, f.keys.Done):
+			if f.focus < len(f.inputs)-1 {
+				return f.move(1)
+			}
+			m := f.meta()
+			if err := f.validate(m); err != nil {
+				f.err = err.Error()
+				f.inputs[f.focus].Blur()
+				f.focus = 1
+				return f, f.inputs[1].Focus()
+			}
+			ch := f.channel
+			return f, func() tea.Msg { return formDoneMsg{ch, m} }
+		}
+	}
+	var cmd tea.Cmd
+	f.inputs[f.focus], cmd = f.inputs[f.focus].Update(msg)
+	return f, cmd
+}
+
+func (f formPane) View() string {
+	lines := []string{f.st.Title.Render("SAMPLE FORM · CUP " + f.channel), ""}
+	for i, in := range f.inputs {
+		lab := f.st.Label.Render(fmt.Sprintf("%-15s", formLabels[i]))
+		if i == f.focus {
+			lab = f.st.Mark.Render(fmt.Sprintf("%-15s", "▸ "+formLabels[i]))
+		}
+		lines = append(lines, lab+" "+in.View())
+	}
+	lines = append(lines, "")
+	if f.err != "" {
+		lines = append(lines, wrapText(f.st.Error, f.err, 48)...)
+	}
+	lines = append(lines, f.st.Muted.Render("enter: next / save on the last field · esc: leave"))
+	return f.st.Dialog.Render(lipgloss.JoinVertical(lipgloss.Left, lines...))
+}
+
+func (f formPane) ShortHelp() []key.Binding {
+	return []key.Binding{f.keys.Done, f.keys.Next, f.keys.Back}
+}
+
+func (f formPane) FullHelp() [][]key.Binding {
+	return [][]key.Binding{{f.keys.Next, f.keys.Prev, f.keys.Done, f.keys.Back}}
+}

@@ -1,0 +1,343 @@
+package tui
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+
+	"github.com/charmbracelet/bubbles/key"
+	tea "github.com/charmbracelet/bubbletea"
+
+	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/limits"
+)
+
+// preferredMetrics come first in the trend's metric cycle; any other
+// numeric key of the record follows in name order.
+var preferredMetrics = []string{
+	"undercooling_c", "recalescence_c", "eutectic_min_c", "eutectic_max_c", "liquidus_c",
+	"solidus_c", "cooling_rate_c_per_s", "plateau_s", "freezing_time_s", "pour_peak_c",
+}
+
+// historyLoadedMsg carries a history query's answer.
+type historyLoadedMsg struct {
+	entries []Entry
+	err     error
+}
+
+// curveLoadedMsg carries an opened sample's curve read from its file.
+type curveLoadedMsg struct {
+	id   int64
+	t, v []float64
+	err  error
+}
+
+// historyPane lists the shift's samples, newest first, with a trend of one
+// metric across them and the alloy's limit bands; enter opens a sample.
+type historyPane struct {
+	st      *Styles
+	keys    *KeyMap
+	book    *limits.Book
+	read    CurveReader
+	all     []Entry // newest first
+	alloys  []string
+	alloy   int // 0 = all alloys, else index+1 into alloys
+	metric  int
+	sel     int
+	open    *Entry
+	opened  cup // the opened sample drawn as a finished cup
+	w, h    int
+	errText string
+}
+
+func newHistoryPane(st *Styles, keys *KeyMap, book *limits.Book, read CurveReader) historyPane {
+	return historyPane{st: st, keys: keys, book: book, read: read}
+}
+
+func (p historyPane) SetSize(w, h int) historyPane { p.w, p.h = w, h; return p }
+
+// load is the command that reads the history.
+func loadHistory(rs Records) tea.Cmd {
+	return func() tea.Msg {
+		es, err := rs.List(context.Background(), "", 500)
+		return historyLoadedMsg{es, err}
+	}
+}
+
+func (p historyPane) filterName() string {
+	if p.alloy == 0 || p.alloy > len(p.alloys) {
+		return ""
+	}
+	return p.alloys[p.alloy-1]
+}
+
+func (p historyPane) shown() []Entry {
+	f := p.filterName()
+	if f == "" {
+		return p.all
+	}
+	var out []Entry
+	for _, e := range p.all {
+		if e.Meta.Alloy == f {
+			out = append(out, e)
+		}
+	}
+	return out
+}
+
+func (p historyPane) metrics() []string {
+	seen := map[string]bool{}
+	for _, e := range p.shown() {
+		for k := range metricValues(e.Record) {
+			seen[k] = true
+		}
+	}
+	var out []string
+	for _, k := range preferredMetrics {
+		if seen[k] {
+			out = append(out, k)
+			delete(seen, k)
+		}
+	}
+	var rest []string
+	for k := range seen {
+		if !strings.HasSuffix(k, "_s") || k == "plateau_s" || k == "freezing_time_s" {
+			rest = append(rest, k)
+		}
+	}
+	sort.Strings(rest)
+	return append(out, rest...)
+}
+
+func (p historyPane) metricName() string {
+	ms := p.metrics()
+	if len(ms) == 0 {
+		return ""
+	}
+	return ms[p.metric%len(ms)]
+}
+
+func (p *historyPane) setEntries(es []Entry) {
+	p.all = es
+	set := map[string]bool{}
+	for _, e := range es {
+		if e.Meta.Alloy != "" {
+			set[e.Meta.Alloy] = true
+		}
+	}
+	p.alloys = p.alloys[:0]
+	for a := range set {
+		p.alloys = append(p.alloys, a)
+	}
+	sort.Strings(p.alloys)
+	if n := len(p.shown()); p.sel >= n {
+		p.sel = max(0, n-1)
+	}
+}
+
+func (p historyPane) Update(msg tea.Msg) (historyPane, tea.Cmd) {
+	switch msg := msg.(type) {
+	case historyLoadedMsg:
+		if msg.err != nil {
+			p.errText = msg.err.Error()
+			return p, nil
+		}
+		p.errText = ""
+		p.setEntries(msg.entries)
+	case curveLoadedMsg:
+		if p.open != nil && p.open.ID == msg.id {
+			if msg.err != nil {
+				p.errText = msg.err.Error()
+				return p, nil
+			}
+			p.open.Time, p.open.Temp = msg.t, msg.v
+			p.opened = openedCup(*p.open)
+		}
+	case tea.KeyMsg:
+		if p.open != nil {
+			if key.Matches(msg, p.keys.Back) {
+				p.open = nil
+				p.errText = ""
+			}
+			return p, nil
+		}
+		n := len(p.shown())
+		switch {
+		case key.Matches(msg, p.keys.Up):
+			p.sel = max(0, p.sel-1)
+		case key.Matches(msg, p.keys.Down):
+			p.sel = min(max(n-1, 0), p.sel+1)
+		case key.Matches(msg, p.keys.Alloy):
+			p.alloy = (p.alloy + 1) % (len(p.alloys) + 1)
+			p.sel = 0
+		case key.Matches(msg, p.keys.Metric):
+			p.metric++
+		case key.Matches(msg, p.keys.Open) && n > 0:
+			e := p.shown()[p.sel]
+			p.open = &e
+			if len(e.Time) == 0 && e.Path != "" {
+				return p, readCurve(p.read, e.ID, e.Path)
+			}
+			p.opened = openedCup(e)
+		}
+	}
+	return p, nil
+}
+
+// CurveReader reads a stored sample's curve file (curvefile.ReadFile).
+type CurveReader func(path string) (*curvefile.Curve, error)
+
+// readCurve is the command that reads a stored sample's curve file.
+func readCurve(read CurveReader, id int64, path string) tea.Cmd {
+	return func() tea.Msg {
+		if read == nil {
+			return curveLoadedMsg{id: id, err: fmt.Errorf("no curve reader to open %s", path)}
+		}
+		c, err := read(path)
+		if err != nil {
+			return curveLoadedMsg{id: id, err: err}
+		}
+		return curveLoadedMsg{id: id, t: c.Time, v: c.Temp}
+	}
+}
+
+// openedCup draws a stored sample the way the live view draws a finished
+// one, from its record's points.
+func openedCup(e Entry) cup {
+	c := newCup(e.Channel)
+	c.meta = e.Meta
+	for i := range e.Time {
+		c.append(Reading{TimeS: e.Time[i], TempC: e.Temp[i], Channel: e.Channel})
+	}
+	if n := len(e.Temp); n > 0 {
+		c.last, c.hasLast = Reading{TimeS: e.Time[n-1], TempC: e.Temp[n-1]}, true
+	}
+	c.res = resultFromRecord(e.Record)
+	rec := e.Record
+	c.rec, c.state, c.path = &rec, StateDone, e.Path
+	return *c
+}
+
+func (p historyPane) View() string {
+	if p.open != nil {
+		c := p.opened
+		if len(c.t) == 0 {
+			return box(p.st.Muted.Render("Reading "+p.open.Path+" …")+"\n"+p.st.Error.Render(p.errText), p.w, p.h)
+		}
+		return c.view(p.st, p.w, p.h)
+	}
+	es := p.shown()
+	filter := "all alloys"
+	if f := p.filterName(); f != "" {
+		filter = f
+	}
+	head := p.st.Title.Render("SAMPLES") + p.st.Muted.Render(fmt.Sprintf("  %d shown · %s · newest first", len(es), filter))
+	if len(es) == 0 {
+		msg := "No finished samples yet this shift."
+		if p.errText != "" {
+			msg = p.errText
+		}
+		return box(head+"\n\n"+p.st.Muted.Render(msg), p.w, p.h)
+	}
+	trendH := 0
+	if p.h >= 14 {
+		trendH = max(7, p.h*2/5)
+	}
+	listH := p.h - 2 - trendH
+	cols := fmt.Sprintf("%-5s %-5s %-3s %-18s %-13s %-9s %8s %7s", "#", "time", "cup", "sample", "alloy", "verdict", "eut.min", "recal.")
+	lines := []string{head, p.st.Label.Render(clip(cols, p.w))}
+	start := 0
+	if rows := listH - 1; rows > 0 && p.sel >= rows {
+		start = p.sel - rows + 1
+	}
+	for i := start; i < len(es) && len(lines) < listH+1; i++ {
+		e := es[i]
+		row := fmt.Sprintf("%-5d %-5s %-3s %-18s %-13s %-9s %8s %7s", e.ID, e.At.Format("15:04"), e.Channel,
+			cut(e.Meta.Sample, 18), cut(e.Meta.Alloy, 13), e.Record.Verdict,
+			fmtOpt(e.Record.EutecticMinC, "%.1f"), fmtOpt(e.Record.RecalescenceC, "%.1f"))
+		row = clip(row, p.w)
+		if i == p.sel {
+			row = p.st.Selected.Render(row)
+		} else {
+			row = p.st.Value.Render(row)
+		}
+		lines = append(lines, row)
+	}
+	out := box(strings.Join(lines, "\n"), p.w, p.h-trendH)
+	if trendH > 0 {
+		out += "\n" + p.trend(es, trendH)
+	}
+	return out
+}
+
+func cut(s string, n int) string {
+	r := []rune(s)
+	if len(r) > n {
+		return string(r[:n-1]) + "…"
+	}
+	return s
+}
+
+func fmtOpt(v *float64, f string) string {
+	if v == nil {
+		return "—"
+	}
+	return fmt.Sprintf(f, *v)
+}
+
+// trend draws the metric across the samples shown, oldest on the left, with
+// the alloy's pass band (solid) and marginal band (dotted) where set.
+func (p historyPane) trend(es []Entry, h int) string {
+	name := p.metricName()
+	var xs, ys []float64
+	for i := len(es) - 1; i >= 0; i-- {
+		if v, ok := metricValues(es[i].Record)[name]; ok {
+			xs = append(xs, float64(len(xs)+1))
+			ys = append(ys, v)
+		}
+	}
+	title := p.st.Label.Render("trend: ") + p.st.Value.Render(name) + p.st.Muted.Render("  (m: next metric, a: alloy)")
+	if len(ys) == 0 {
+		return box(title+"\n"+p.st.Muted.Render("no values"), p.w, h)
+	}
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, y := range ys {
+		lo, hi = math.Min(lo, y), math.Max(hi, y)
+	}
+	var levels []level
+	if al, ok := p.book.Alloy(p.filterName()); ok && al.Metrics != nil {
+		if lm := al.Metrics[name]; lm != nil {
+			for _, b := range []struct {
+				v *float64
+				r rune
+			}{{lm.PassMin, '─'}, {lm.PassMax, '─'}, {lm.MarginalMin, '·'}, {lm.MarginalMax, '·'}} {
+				if b.v != nil {
+					levels = append(levels, level{y: *b.v, r: b.r, style: p.st.Limit})
+					lo, hi = math.Min(lo, *b.v), math.Max(hi, *b.v)
+				}
+			}
+		}
+	}
+	lo, hi = padRange(lo, hi, 0.1, 1)
+	pl := plot{w: p.w, h: h - 1, x0: 0.5, x1: math.Max(float64(len(xs))+0.5, 5.5), y0: lo, y1: hi,
+		yFmt: "%.1f", xFmt: "%.0f", line: p.st.Curve, xs: xs, ys: ys, levels: levels}
+	var ms []mark
+	for i := range xs {
+		ms = append(ms, mark{x: xs[i], y: ys[i], r: '●'})
+	}
+	pl.marks = ms
+	return title + "\n" + pl.render(p.st)
+}
+
+func (p historyPane) ShortHelp() []key.Binding {
+	if p.open != nil {
+		return []key.Binding{p.keys.Back}
+	}
+	return []key.Binding{p.keys.Open, p.keys.Alloy, p.keys.Metric}
+}
+
+func (p historyPane) FullHelp() [][]key.Binding {
+	return [][]key.Binding{{p.keys.Up, p.keys.Down, p.keys.Open, p.keys.Back}, {p.keys.Alloy, p.keys.Metric}}
+}

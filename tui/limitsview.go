@@ -1,0 +1,341 @@
+package tui
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+
+	"github.com/charmbracelet/bubbles/key"
+	"github.com/charmbracelet/bubbles/textinput"
+	tea "github.com/charmbracelet/bubbletea"
+
+	"github.com/undercool-foundry/undercool/internal/limits"
+)
+
+// LimitsSaver writes the edited book (keeping a backup and logging the
+// change with its time) and says where it went.
+type LimitsSaver func(ctx context.Context, b *limits.Book) (string, error)
+
+// limitsSavedMsg is the answer of a save.
+type limitsSavedMsg struct {
+	where string
+	err   error
+}
+
+// bound names one editable number of a metric's limit.
+type bound int
+
+const (
+	passMin bound = iota
+	passMax
+	margMin
+	margMax
+)
+
+var boundNames = [...]string{"pass min", "pass max", "marginal min", "marginal max"}
+
+func (b bound) of(l *limits.Limit) **float64 {
+	switch b {
+	case passMin:
+		return &l.PassMin
+	case passMax:
+		return &l.PassMax
+	case margMin:
+		return &l.MarginalMin
+	default:
+		return &l.MarginalMax
+	}
+}
+
+// limitRow is one editable number: a metric's bound.
+type limitRow struct {
+	metric string
+	b      bound
+}
+
+// limitsPane shows an alloy's limits and edits them with validation.
+type limitsPane struct {
+	st     *Styles
+	keys   *KeyMap
+	book   *limits.Book
+	save   LimitsSaver
+	alloys []string
+	alloy  int
+	sel    int
+	// pending edits, applied to the book only when saved
+	pending map[string]map[limitRow]*float64
+	editing bool
+	input   textinput.Model
+	msg     string
+	msgBad  bool
+	w, h    int
+}
+
+func newLimitsPane(st *Styles, keys *KeyMap, book *limits.Book, save LimitsSaver) limitsPane {
+	in := textinput.New()
+	in.CharLimit = 12
+	in.Prompt = "new value: "
+	return limitsPane{st: st, keys: keys, book: book, save: save, alloys: book.Names(), input: in,
+		pending: map[string]map[limitRow]*float64{}}
+}
+
+func (p limitsPane) SetSize(w, h int) limitsPane { p.w, p.h = w, h; return p }
+
+func (p limitsPane) alloyName() string {
+	if len(p.alloys) == 0 {
+		return ""
+	}
+	return p.alloys[p.alloy%len(p.alloys)]
+}
+
+func (p limitsPane) rows() []limitRow {
+	al, ok := p.book.Alloy(p.alloyName())
+	if !ok {
+		return nil
+	}
+	var names []string
+	for n := range al.Metrics {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	var rs []limitRow
+	for _, n := range names {
+		for b := passMin; b <= margMax; b++ {
+			rs = append(rs, limitRow{n, b})
+		}
+	}
+	return rs
+}
+
+// value is the row's value with pending edits applied.
+func (p limitsPane) value(r limitRow) (*float64, bool) {
+	if m, ok := p.pending[p.alloyName()]; ok {
+		if v, ok := m[r]; ok {
+			return v, true
+		}
+	}
+	al, _ := p.book.Alloy(p.alloyName())
+	l := al.Metrics[r.metric]
+	if l == nil {
+		return nil, false
+	}
+	return *r.b.of(l), false
+}
+
+// check validates a metric's four bounds: each bound pair in order and the
+// marginal band holding the pass band.
+func (p limitsPane) check(metric string) error {
+	get := func(b bound) *float64 { v, _ := p.value(limitRow{metric, b}); return v }
+	pmin, pmax, mmin, mmax := get(passMin), get(passMax), get(margMin), get(margMax)
+	lt := func(a, b *float64) bool { return a != nil && b != nil && *a > *b }
+	switch {
+	case lt(pmin, pmax):
+		return fmt.Errorf("%s: pass min %g is above pass max %g", metric, *pmin, *pmax)
+	case lt(mmin, mmax):
+		return fmt.Errorf("%s: marginal min %g is above marginal max %g", metric, *mmin, *mmax)
+	case pmin == nil && mmin != nil:
+		return fmt.Errorf("%s: the pass band is open below but the marginal band is not", metric)
+	case pmax == nil && mmax != nil:
+		return fmt.Errorf("%s: the pass band is open above but the marginal band is not", metric)
+	case lt(mmin, pmin):
+		return fmt.Errorf("%s: marginal min %g must not be above pass min %g", metric, *mmin, *pmin)
+	case lt(pmax, mmax):
+		return fmt.Errorf("%s: marginal max %g must not be below pass max %g", metric, *mmax, *pmax)
+	}
+	return nil
+}
+
+func parseBound(s string) (*float64, error) {
+	s = strings.TrimSpace(strings.ReplaceAll(s, ",", "."))
+	if s == "" || s == "-" || s == "—" {
+		return nil, nil
+	}
+	v, err := strconv.ParseFloat(s, 64)
+	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil, fmt.Errorf("%q is not a number (leave it empty for no bound)", s)
+	}
+	return &v, nil
+}
+
+func (p limitsPane) Update(msg tea.Msg) (limitsPane, tea.Cmd) {
+	switch msg := msg.(type) {
+	case limitsSavedMsg:
+		if msg.err != nil {
+			p.msg, p.msgBad = "not saved: "+msg.err.Error(), true
+		} else {
+			p.msg, p.msgBad = "saved to "+msg.where, false
+		}
+		return p, nil
+	case tea.KeyMsg:
+		rows := p.rows()
+		if p.editing {
+			switch {
+			case msg.Type == tea.KeyEnter:
+				v, err := parseBound(p.input.Value())
+				if err != nil {
+					p.msg, p.msgBad = err.Error(), true
+					return p, nil
+				}
+				r := rows[p.sel]
+				old, had := p.pending[p.alloyName()][r]
+				if p.pending[p.alloyName()] == nil {
+					p.pending[p.alloyName()] = map[limitRow]*float64{}
+				}
+				p.pending[p.alloyName()][r] = v
+				if err := p.check(r.metric); err != nil {
+					if had {
+						p.pending[p.alloyName()][r] = old
+					} else {
+						delete(p.pending[p.alloyName()], r)
+					}
+					p.msg, p.msgBad = err.Error(), true
+					return p, nil
+				}
+				p.editing = false
+				p.input.Blur()
+				p.msg, p.msgBad = "changed; press w to write the limits file", false
+			case msg.Type == tea.KeyEsc:
+				p.editing = false
+				p.input.Blur()
+				p.msg = ""
+			default:
+				var cmd tea.Cmd
+				p.input, cmd = p.input.Update(msg)
+				return p, cmd
+			}
+			return p, nil
+		}
+		switch {
+		case key.Matches(msg, p.keys.Up):
+			p.sel = max(0, p.sel-1)
+		case key.Matches(msg, p.keys.Down):
+			p.sel = min(max(len(rows)-1, 0), p.sel+1)
+		case key.Matches(msg, p.keys.Alloy):
+			p.alloy = (p.alloy + 1) % max(1, len(p.alloys))
+			p.sel = 0
+		case key.Matches(msg, p.keys.Edit) && len(rows) > 0:
+			v, _ := p.value(rows[p.sel])
+			p.input.SetValue(fmtBound(v))
+			p.input.CursorEnd()
+			p.editing = true
+			p.msg = ""
+			return p, p.input.Focus()
+		case key.Matches(msg, p.keys.Save):
+			return p.commit()
+		}
+	}
+	return p, nil
+}
+
+// commit applies the pending edits to the book and saves it.
+func (p limitsPane) commit() (limitsPane, tea.Cmd) {
+	if p.save == nil {
+		p.msg, p.msgBad = "this session has no limits file to write", true
+		return p, nil
+	}
+	n := 0
+	for alloy, m := range p.pending {
+		al, ok := p.book.Alloy(alloy)
+		if !ok {
+			continue
+		}
+		for r, v := range m {
+			if l := al.Metrics[r.metric]; l != nil {
+				*r.b.of(l) = v
+				n++
+			}
+		}
+	}
+	if n == 0 {
+		p.msg, p.msgBad = "nothing changed", false
+		return p, nil
+	}
+	p.pending = map[string]map[limitRow]*float64{}
+	save, book := p.save, p.book
+	p.msg, p.msgBad = "saving…", false
+	return p, func() tea.Msg {
+		where, err := save(context.Background(), book)
+		return limitsSavedMsg{where, err}
+	}
+}
+
+func fmtBound(v *float64) string {
+	if v == nil {
+		return ""
+	}
+	return strconv.FormatFloat(*v, 'g', -1, 64)
+}
+
+func (p limitsPane) View() string {
+	src := p.book.Source
+	if src == "" {
+		src = "built-in examples"
+	}
+	head := p.st.Title.Render("LIMITS ") + p.st.Value.Render(p.alloyName()) + p.st.Muted.Render("  from "+src)
+	lines := []string{clip(head, p.w), p.st.Muted.Render(clip("Examples only until your metallurgist sets them. Empty = no bound.", p.w)), ""}
+	rows := p.rows()
+	if len(rows) == 0 {
+		lines = append(lines, p.st.Muted.Render("This alloy has no metric limits."))
+	}
+	bodyH := p.h - len(lines) - 3
+	start := 0
+	if bodyH > 0 && p.sel >= bodyH {
+		start = p.sel - bodyH + 1
+	}
+	for i := start; i < len(rows) && i-start < bodyH; i++ {
+		r := rows[i]
+		v, changed := p.value(r)
+		val := fmtBound(v)
+		if val == "" {
+			val = "—"
+		}
+		if changed {
+			val += " *"
+		}
+		al, _ := p.book.Alloy(p.alloyName())
+		advice := ""
+		if l := al.Metrics[r.metric]; l != nil {
+			switch r.b {
+			case passMin:
+				advice = l.Low
+			case passMax:
+				advice = l.High
+			}
+		}
+		row := clip(fmt.Sprintf("%-24s %-13s %10s  %s", r.metric, boundNames[r.b], val, advice), p.w)
+		if i == p.sel {
+			row = p.st.Selected.Render(row)
+		} else {
+			row = p.st.Value.Render(row)
+		}
+		lines = append(lines, row)
+	}
+	for len(lines) < p.h-3 {
+		lines = append(lines, "")
+	}
+	if p.editing {
+		lines = append(lines, p.input.View())
+	} else {
+		lines = append(lines, "")
+	}
+	if p.msgBad {
+		lines = append(lines, p.st.Error.Render(clip(p.msg, p.w)))
+	} else {
+		lines = append(lines, p.st.Muted.Render(clip(p.msg, p.w)))
+	}
+	return box(strings.Join(lines, "\n"), p.w, p.h)
+}
+
+func (p limitsPane) ShortHelp() []key.Binding {
+	if p.editing {
+		return []key.Binding{p.keys.Done, p.keys.Back}
+	}
+	return []key.Binding{p.keys.Edit, p.keys.Save, p.keys.Alloy}
+}
+
+func (p limitsPane) FullHelp() [][]key.Binding {
+	return [][]key.Binding{{p.keys.Up, p.keys.Down, p.keys.Edit, p.keys.Save, p.keys.Alloy}}
+}

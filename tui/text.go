@@ -1,0 +1,42 @@
+package tui
+
+import (
+	"github.com/charmbracelet/x/ansi"
+
+	"github.com/undercool-foundry/undercool/internal/arrest"
+	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/limits"
+)
+
+// ansiTruncate cuts a styled string to w cells.
+func ansiTruncate(s string, w int) string { return ansi.Truncate(s, w, "") }
+
+// familyOf is the detector family for an alloy name.
+func familyOf(alloy string) arrest.Family { return limits.Family(alloy) }
+
+// recordReasons is why the record has its verdict: the problems found.
+func recordReasons(r *assess.Record) []string { return r.Problems }
+
+// recordAdvice is what the record suggests doing.
+func recordAdvice(r *assess.Record) []string { return nil }
+
+// resultFromRecord gives back the points of a stored record, for drawing.
+func resultFromRecord(r assess.Record) arrest.Result {
+	pt := func(c, s *float64) arrest.Point {
+		if c == nil || s == nil {
+			return arrest.Point{}
+		}
+		return arrest.Point{TempC: *c, TimeS: *s, OK: true}
+	}
+	res := arrest.Result{
+		Samples: r.Samples, RateHz: r.RateHz,
+		PourPeak: pt(r.PourPeakC, r.PourPeakS), LiquidusMin: pt(r.LiquidusMinC, r.LiquidusMinS),
+		Liquidus: pt(r.LiquidusC, r.LiquidusS), EutecticMin: pt(r.EutecticMinC, r.EutecticMinS),
+		EutecticMax: pt(r.EutecticMaxC, r.EutecticMaxS), Solidus: pt(r.SolidusC, r.SolidusS),
+		Complete: true,
+	}
+	if r.RecalescenceC != nil {
+		res.Recalescence, res.RecalescenceOK = *r.RecalescenceC, true
+	}
+	return res
+}
