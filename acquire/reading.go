@@ -12,9 +12,27 @@ type Flag uint16
 const (
 	FlagOpen     Flag = 1 << iota // thermocouple open circuit reported by the device
 	FlagFault                     // other device fault (short, out of range)
-	FlagGapAfter                  // the connection dropped before the next reading (reconnected)
+	FlagGapAfter                  // the connection dropped before the next reading (see Acquirer, "gaps")
 	FlagEMF                       // converted on the host from a raw EMF reading
+	FlagGapBefore                 // the first reading of its channel after a reconnection
 )
+
+// String lists the flags as the curve files write them, joined by '|':
+// open, fault, emf, gap_after, gap_before; "" for none.
+func (f Flag) String() string {
+	var b []byte
+	for i, name := range flagNames {
+		if f&(1<<i) != 0 {
+			if len(b) > 0 {
+				b = append(b, '|')
+			}
+			b = append(b, name...)
+		}
+	}
+	return string(b)
+}
+
+var flagNames = [...]string{"open", "fault", "gap_after", "emf", "gap_before"}
 
 // Reading is one thermocouple reading.
 type Reading struct {

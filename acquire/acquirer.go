@@ -1,0 +1,819 @@
+package acquire
+
+import (
+	"bufio"
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"path/filepath"
+	"slices"
+	"sync"
+	"sync/atomic"
+	"time"
+
+	"github.com/undercool-foundry/undercool/internal/arrest"
+	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/thermocouple"
+)
+
+// Trigger is the pour detector: a channel waiting for the pour starts
+// recording when a reading of at least MinC has risen by more than RiseC
+// within the last WithinS seconds. The readings of the last PreS seconds
+// before the trigger start the file, so nothing of the pour is cut.
+//
+// The defaults (a rise of 100 °C within 3 s to at least 300 °C, 10 s kept
+// before) fit iron and aluminium cups poured from ambient (practice: a cup
+// thermocouple goes from ambient to the melt temperature within seconds).
+type Trigger struct {
+	RiseC   float64 // °C
+	WithinS float64 // s
+	MinC    float64 // °C
+	PreS    float64 // s, at least WithinS
+	Manual  bool    // no automatic trigger: samples start only by Start
+}
+
+// Config sets up an Acquirer. The zero value of each field takes the
+// default named beside it.
+type Config struct {
+	Port string // the port's name, for status, messages and the curve files
+
+	// Thermocouple is the type that raw EMF readings (mv=) are converted
+	// with; "" takes the type a device announces ("! tc=K"), else K.
+	Thermocouple string
+	// ColdJunctionC is the cold-junction temperature, °C, for EMF readings
+	// that carry no cj=, used when ColdJunctionSet is true. Without it such
+	// readings assume 25 °C and a warning says so.
+	ColdJunctionC   float64
+	ColdJunctionSet bool
+
+	// Dir is where the curve files go ("" = the current directory). It is
+	// searched for interrupted samples at the start of Run.
+	Dir string
+	// OutPath, when set, is the curve file of the first sample (it must end
+	// in ".csv" and must not exist); later samples go beside it with
+	// generated names.
+	OutPath string
+	// Meta is written into every sample's curve file (e.g. the shop, the
+	// stand), before the form data of the sample.
+	Meta []curvefile.Meta
+
+	// Channels, when not empty, limits recording to these channel ids;
+	// readings of other channels are still passed on in batches.
+	Channels []string
+	// MaxSamples stops starting new samples after this many (0 = no limit).
+	MaxSamples int
+
+	Trigger Trigger
+
+	// Finished decides that freezing has ended, from the valid readings of
+	// the sample so far (t in s from the start of the file, temp in °C). It
+	// is asked about once every FinishCheckS of sample time. The default
+	// is arrest.Analyze(t, temp, {Family}).Complete.
+	Finished      func(t, temp []float64) bool
+	Family        arrest.Family // for the default Finished
+	FinishCheckS  float64       // s, default 1
+	FreezeMarginS float64       // s recorded after Finished, default 15
+	MaxS          float64       // s, time limit of a sample, default 600
+
+	BatchEvery   time.Duration // default 33 ms
+	ReconnectMin time.Duration // first reconnection delay, default 100 ms, doubling
+	ReconnectMax time.Duration // longest reconnection delay, default 2 s
+	SyncEvery    time.Duration // fsync of the curve files, default 500 ms (at most 1 s)
+	SilentAfter  time.Duration // warn when a connected port has been quiet this long, default 10 s
+
+	// Now is the clock, default time.Now. Readings without device time
+	// are timed by it (monotonic), as they are framed.
+	Now func() time.Time
+}
+
+func (c Config) withDefaults() Config {
+	def := func(v *float64, d float64) {
+		if *v <= 0 {
+			*v = d
+		}
+	}
+	defDur := func(v *time.Duration, d time.Duration) {
+		if *v <= 0 {
+			*v = d
+		}
+	}
+	def(&c.Trigger.RiseC, 100)
+	def(&c.Trigger.WithinS, 3)
+	def(&c.Trigger.MinC, 300)
+	def(&c.Trigger.PreS, 10)
+	c.Trigger.PreS = max(c.Trigger.PreS, c.Trigger.WithinS)
+	def(&c.FinishCheckS, 1)
+	def(&c.FreezeMarginS, 15)
+	def(&c.MaxS, 600)
+	defDur(&c.BatchEvery, 33*time.Millisecond)
+	defDur(&c.ReconnectMin, 100*time.Millisecond)
+	defDur(&c.ReconnectMax, 2*time.Second)
+	defDur(&c.SyncEvery, 500*time.Millisecond)
+	c.SyncEvery = min(c.SyncEvery, time.Second)
+	defDur(&c.SilentAfter, 10*time.Second)
+	if c.Now == nil {
+		c.Now = time.Now
+	}
+	if c.Finished == nil {
+		var an arrest.Analyzer
+		fam := c.Family
+		c.Finished = func(t, temp []float64) bool {
+			return an.Analyze(t, temp, arrest.Options{Family: fam}).Complete
+		}
+	}
+	return c
+}
+
+// Acquirer reads one port, parses the line protocol, runs the sample
+// lifecycle of each channel, keeps the crash-safe raw logs and hands
+// readings over in batches. Start, Stop and SetMeta may be called from any
+// goroutine; they never block.
+type Acquirer struct {
+	open Opener
+	cfg  Config
+	out  chan Batch
+	in   *queue[item]
+	ctl  *queue[control]
+	fr   Framer
+	ran  atomic.Bool
+
+	// Owned by the Run goroutine.
+	st         Status
+	pending    Batch
+	lastIdx    map[string]int // channel → index of its last reading in pending
+	chans      map[string]*channel
+	order      []string // channel ids in order of appearance
+	tb         timebase
+	tc         thermocouple.Type
+	tcName     string
+	devInfo    []curvefile.Meta // latest device info, non-form keys
+	form       []curvefile.Meta // form data for channels not seen yet (info lines without ch=)
+	started    int              // samples started
+	lastLine   time.Time
+	silentSaid bool
+	warned     map[string]bool
+	lastOpen   string
+	garbageAt  time.Time
+	garbageN   int
+	rateN      int
+	rateAt     time.Time
+	everConn   bool
+	wantStatus bool      // send a batch even if it holds nothing but the status
+	sentAt     time.Time // when the last batch went
+}
+
+// New returns an Acquirer that reads from what open opens.
+func New(open Opener, cfg Config) *Acquirer {
+	return &Acquirer{
+		open: open,
+		cfg:  cfg.withDefaults(),
+		out:  make(chan Batch),
+		in:   newQueue[item](),
+		ctl:  newQueue[control](),
+	}
+}
+
+// Batches is the stream of batches. It is closed when Run returns.
+func (a *Acquirer) Batches() <-chan Batch { return a.out }
+
+// Start starts recording channel ch now (with the pre-trigger readings),
+// unless it is already recording.
+func (a *Acquirer) Start(ch string) { a.ctl.push(control{op: opStart, ch: ch}) }
+
+// Stop ends the sample recording on channel ch and completes its file.
+func (a *Acquirer) Stop(ch string) { a.ctl.push(control{op: opStop, ch: ch}) }
+
+// SetMeta sets sample form data (e.g. sample, alloy, operator) for channel
+// ch ("" = every channel): it goes into the curve file of the sample being
+// recorded on it, or else of its next sample. Later values of a key win.
+func (a *Acquirer) SetMeta(ch string, meta []curvefile.Meta) {
+	a.ctl.push(control{op: opMeta, ch: ch, meta: slices.Clone(meta)})
+}
+
+type controlOp uint8
+
+const (
+	opStart controlOp = iota + 1
+	opStop
+	opMeta
+)
+
+type control struct {
+	op   controlOp
+	ch   string
+	meta []curvefile.Meta
+}
+
+type itemKind uint8
+
+const (
+	itemLine itemKind = iota + 1
+	itemConnected
+	itemDisconnected
+	itemOpenFailed
+)
+
+// item is what the reader goroutine hands to Run.
+type item struct {
+	kind itemKind
+	line []byte
+	at   time.Time
+	err  error
+}
+
+// queue is an unbounded hand-over between goroutines: push never blocks.
+type queue[T any] struct {
+	mu    sync.Mutex
+	items []T
+	ready chan struct{}
+}
+
+func newQueue[T any]() *queue[T] { return &queue[T]{ready: make(chan struct{}, 1)} }
+
+func (q *queue[T]) push(v T) {
+	q.mu.Lock()
+	q.items = append(q.items, v)
+	q.mu.Unlock()
+	select {
+	case q.ready <- struct{}{}:
+	default:
+	}
+}
+
+// swap takes everything queued, handing spare (emptied) in for reuse.
+func (q *queue[T]) swap(spare []T) []T {
+	clear(spare)
+	q.mu.Lock()
+	got := q.items
+	q.items = spare[:0]
+	q.mu.Unlock()
+	return got
+}
+
+// Run acquires until ctx ends: it recovers interrupted samples in the
+// output directory, opens the port (and reopens it with back-off whenever
+// it fails), and sends batches. When ctx ends, samples being recorded are
+// completed, a last batch is offered for up to 2 s and Batches is closed.
+// Run returns an error only for a setting it cannot work with or a curve
+// file it cannot write; a port that fails is reopened, not an error.
+func (a *Acquirer) Run(ctx context.Context) (err error) {
+	defer close(a.out)
+	if !a.ran.CompareAndSwap(false, true) {
+		return errors.New("acquire: Run called twice")
+	}
+	if err := a.setup(); err != nil {
+		return err
+	}
+	dirs := []string{a.outDir()}
+	for _, d := range dirs {
+		recs, err := recoverDir(d, a.cfg.Now())
+		for _, r := range recs {
+			a.event(Event{Kind: EventRecovered, Path: r.Path, Channel: r.Channel,
+				Text: fmt.Sprintf("recovered interrupted sample %s (%d readings)", r.Path, r.Rows)})
+		}
+		if err != nil {
+			a.warn("recover", err.Error())
+		}
+	}
+
+	readCtx, stopRead := context.WithCancel(ctx)
+	var wg sync.WaitGroup
+	wg.Go(func() { a.readLoop(readCtx) })
+	defer func() {
+		stopRead()
+		wg.Wait()
+		if ferr := a.finishAll("acquisition stopped"); ferr != nil && err == nil {
+			err = ferr
+		}
+		a.flushLast()
+	}()
+
+	tick := time.NewTicker(250 * time.Millisecond)
+	defer tick.Stop()
+	send := time.NewTimer(time.Hour)
+	defer send.Stop()
+	var nextSend time.Time
+	var items []item
+	var ctls []control
+	for {
+		var out chan<- Batch
+		if a.hasPending() {
+			if wait := time.Until(nextSend); wait <= 0 {
+				out = a.out
+			} else {
+				send.Reset(wait)
+			}
+		}
+		var b Batch
+		if out != nil {
+			b = a.batch()
+		}
+		select {
+		case <-ctx.Done():
+			return nil
+		case out <- b:
+			a.pending = Batch{}
+			a.wantStatus = false
+			clear(a.lastIdx)
+			a.sentAt = a.cfg.Now()
+			nextSend = time.Now().Add(a.cfg.BatchEvery)
+		case <-send.C:
+		case <-a.in.ready:
+			items = a.in.swap(items)
+			for i := range items {
+				if err := a.handle(&items[i]); err != nil {
+					return err
+				}
+			}
+		case <-a.ctl.ready:
+			ctls = a.ctl.swap(ctls)
+			for _, c := range ctls {
+				if err := a.control(c); err != nil {
+					return err
+				}
+			}
+		case <-tick.C:
+			if err := a.tick(); err != nil {
+				return err
+			}
+		}
+	}
+}
+
+func (a *Acquirer) setup() error {
+	a.lastIdx = map[string]int{}
+	a.chans = map[string]*channel{}
+	a.warned = map[string]bool{}
+	a.st.Port = a.cfg.Port
+	a.st.ColdJunctionC = math.NaN()
+	if a.cfg.ColdJunctionSet {
+		a.st.ColdJunctionC = a.cfg.ColdJunctionC
+	}
+	if a.cfg.Thermocouple != "" {
+		tc, err := thermocouple.Lookup(a.cfg.Thermocouple)
+		if err != nil {
+			return fmt.Errorf("acquire: %w", err)
+		}
+		a.tc, a.tcName = tc, tc.Name()
+		a.st.Thermocouple = a.tcName
+	}
+	if a.cfg.OutPath != "" && filepath.Ext(a.cfg.OutPath) != ".csv" {
+		return fmt.Errorf("acquire: output file %s: the name must end in .csv", a.cfg.OutPath)
+	}
+	return nil
+}
+
+func (a *Acquirer) outDir() string {
+	if a.cfg.OutPath != "" {
+		return filepath.Dir(a.cfg.OutPath)
+	}
+	if a.cfg.Dir == "" {
+		return "."
+	}
+	return a.cfg.Dir
+}
+
+// readLoop opens the port, reads it line by line and reopens it with
+// back-off when it fails, until ctx ends.
+func (a *Acquirer) readLoop(ctx context.Context) {
+	delay := a.cfg.ReconnectMin
+	for ctx.Err() == nil {
+		rc, err := a.open(ctx)
+		if err != nil {
+			if ctx.Err() != nil {
+				return
+			}
+			a.in.push(item{kind: itemOpenFailed, err: err, at: a.cfg.Now()})
+		} else {
+			a.in.push(item{kind: itemConnected, at: a.cfg.Now()})
+			stop := context.AfterFunc(ctx, func() { rc.Close() })
+			lines, err := a.readPort(ctx, rc)
+			stop()
+			rc.Close()
+			if ctx.Err() != nil {
+				return
+			}
+			if err == nil {
+				err = errors.New("end of stream")
+			}
+			a.in.push(item{kind: itemDisconnected, err: err, at: a.cfg.Now()})
+			if lines > 0 {
+				delay = a.cfg.ReconnectMin
+			}
+		}
+		t := time.NewTimer(delay)
+		select {
+		case <-ctx.Done():
+			t.Stop()
+			return
+		case <-t.C:
+		}
+		delay = min(2*delay, a.cfg.ReconnectMax)
+	}
+}
+
+func (a *Acquirer) readPort(ctx context.Context, rc interface{ Read([]byte) (int, error) }) (lines int, err error) {
+	a.fr.Reset()
+	sc := bufio.NewScanner(waitForData(ctx, rc))
+	sc.Buffer(make([]byte, 4096), 64*1024)
+	sc.Split(a.fr.Split)
+	for sc.Scan() {
+		a.in.push(item{kind: itemLine, line: slices.Clone(sc.Bytes()), at: a.cfg.Now()})
+		lines++
+	}
+	return lines, sc.Err()
+}
+
+func (a *Acquirer) hasPending() bool {
+	return len(a.pending.Readings) > 0 || len(a.pending.Events) > 0 || a.wantStatus
+}
+
+// batch is the pending batch with a fresh status.
+func (a *Acquirer) batch() Batch {
+	b := a.pending
+	b.Status = a.status()
+	return b
+}
+
+func (a *Acquirer) status() Status {
+	s := a.st
+	s.Overlong = int(a.fr.Overlong.Load())
+	s.Partial = int(a.fr.Partial.Load())
+	s.LF, s.CRLF, s.CR = int(a.fr.LF.Load()), int(a.fr.CRLF.Load()), int(a.fr.CR.Load())
+	s.Garbage += s.Overlong
+	if !a.lastLine.IsZero() {
+		s.SilentS = a.cfg.Now().Sub(a.lastLine).Seconds()
+	}
+	s.Channels = make(map[string]State, len(a.chans))
+	for id, c := range a.chans {
+		s.Channels[id] = c.state
+	}
+	return s
+}
+
+// flushLast offers the final batch for up to 2 s.
+func (a *Acquirer) flushLast() {
+	if !a.hasPending() {
+		return
+	}
+	t := time.NewTimer(2 * time.Second)
+	defer t.Stop()
+	select {
+	case a.out <- a.batch():
+	case <-t.C:
+	}
+}
+
+func (a *Acquirer) event(e Event) { a.pending.Events = append(a.pending.Events, e) }
+
+// warn emits a warning once per key.
+func (a *Acquirer) warn(key, text string) {
+	if a.warned[key] {
+		return
+	}
+	a.warned[key] = true
+	a.event(Event{Kind: EventWarning, Text: text, TimeS: a.tb.last})
+}
+
+func (a *Acquirer) handle(it *item) error {
+	switch it.kind {
+	case itemConnected:
+		a.st.Connected, a.st.Reconnecting = true, false
+		text := "connected to " + a.portName()
+		if a.everConn {
+			a.st.Reconnects++
+			text = "reconnected to " + a.portName()
+		}
+		a.everConn = true
+		a.lastOpen = ""
+		a.lastLine = it.at
+		a.silentSaid = false
+		a.event(Event{Kind: EventConnected, TimeS: a.tb.last, Text: text})
+	case itemDisconnected:
+		a.st.Connected, a.st.Reconnecting = false, true
+		for _, i := range a.lastIdx {
+			a.pending.Readings[i].Flags |= FlagGapAfter
+		}
+		for _, c := range a.chans {
+			c.markGap()
+		}
+		a.event(Event{Kind: EventDisconnected, TimeS: a.tb.last,
+			Text: fmt.Sprintf("lost %s (%v); reconnecting", a.portName(), it.err)})
+	case itemOpenFailed:
+		a.st.Connected, a.st.Reconnecting = false, true
+		if msg := it.err.Error(); msg != a.lastOpen {
+			a.lastOpen = msg
+			a.event(Event{Kind: EventWarning, TimeS: a.tb.last, Text: msg + "; retrying"})
+		}
+	case itemLine:
+		return a.line(it)
+	}
+	return nil
+}
+
+func (a *Acquirer) portName() string {
+	if a.cfg.Port == "" {
+		return "the device"
+	}
+	return a.cfg.Port
+}
+
+func (a *Acquirer) line(it *item) error {
+	a.lastLine = it.at
+	a.silentSaid = false
+	l, err := ParseLine(it.line)
+	if err != nil {
+		a.st.Lines++
+		a.garbage(it.line, err)
+		return nil
+	}
+	switch l.Kind {
+	case LineBlank:
+		a.st.Blank++
+		return nil
+	case LineInfo:
+		a.st.Lines++
+		a.info(&l)
+		return nil
+	}
+	a.st.Lines++
+	r := a.reading(&l, it.at)
+	return a.accept(r)
+}
+
+// garbage counts a bad line and tells the operator about the first one and
+// then at most one every 10 s.
+func (a *Acquirer) garbage(b []byte, err error) {
+	a.st.Garbage++
+	a.garbageN++
+	if len(b) > 60 {
+		b = b[:60]
+	}
+	a.st.LastGarbage = fmt.Sprintf("%q: %v", b, err)
+	now := a.cfg.Now()
+	if !a.garbageAt.IsZero() && now.Sub(a.garbageAt) < 10*time.Second {
+		return
+	}
+	a.garbageAt = now
+	a.event(Event{Kind: EventWarning, TimeS: a.tb.last, Text: fmt.Sprintf(
+		"%d garbage line(s) from %s, last %s (noise on the line, or the wrong --baud or --frame?)",
+		a.garbageN, a.portName(), a.st.LastGarbage)})
+	a.garbageN = 0
+}
+
+// formKeys are device-info keys that describe the sample rather than the
+// device; they go into the curve file as their own metadata lines.
+var formKeys = map[string]bool{"sample": true, "alloy": true, "operator": true, "ladle": true,
+	"furnace": true, "cup": true, "note": true, "melt": true, "heat": true}
+
+func (a *Acquirer) info(l *Line) {
+	ch := l.InfoValue("ch")
+	info := make(map[string]string, len(l.Info))
+	var form []curvefile.Meta
+	for _, kv := range l.Info {
+		info[kv.Key] = kv.Value
+		switch {
+		case formKeys[kv.Key]:
+			form = append(form, curvefile.Meta{Key: kv.Key, Value: kv.Value})
+		case kv.Key == "ch":
+		default:
+			a.devInfo = mergeMeta(a.devInfo, []curvefile.Meta{{Key: kv.Key, Value: kv.Value}})
+		}
+	}
+	if tcName := l.InfoValue("tc"); tcName != "" {
+		a.deviceTC(tcName)
+	}
+	if len(form) > 0 {
+		a.applyForm(ch, form)
+	}
+	a.event(Event{Kind: EventDeviceInfo, Channel: ch, TimeS: a.tb.last, Info: info,
+		Text: "device: " + string(trimSpace(l.rawInfo()))})
+}
+
+func (l *Line) rawInfo() []byte {
+	var b []byte
+	for i, kv := range l.Info {
+		if i > 0 {
+			b = append(b, ' ')
+		}
+		b = append(b, kv.Key...)
+		b = append(b, '=')
+		if indexByte([]byte(kv.Value), ' ') >= 0 || kv.Value == "" {
+			b = append(b, '"')
+			b = append(b, kv.Value...)
+			b = append(b, '"')
+		} else {
+			b = append(b, kv.Value...)
+		}
+	}
+	return b
+}
+
+func (a *Acquirer) deviceTC(name string) {
+	tc, err := thermocouple.Lookup(name)
+	if err != nil {
+		a.warn("devtc:"+name, fmt.Sprintf("the device announces thermocouple %q: %v", name, err))
+		return
+	}
+	switch {
+	case a.cfg.Thermocouple == "":
+		a.tc, a.tcName = tc, tc.Name()
+		a.st.Thermocouple = a.tcName
+	case tc.Name() != a.tcName:
+		a.warn("tcdiff", fmt.Sprintf("the device announces type %s but EMF is converted as type %s (--tc)", tc.Name(), a.tcName))
+	}
+}
+
+// applyForm hands form data to channel ch, or to every channel ("").
+func (a *Acquirer) applyForm(ch string, form []curvefile.Meta) {
+	if ch != "" {
+		if c := a.channel(ch); c != nil {
+			c.setForm(form)
+		}
+		return
+	}
+	a.form = mergeMeta(a.form, form)
+	for _, c := range a.chans {
+		c.setForm(form)
+	}
+}
+
+// reading turns a parsed reading line into a Reading.
+func (a *Acquirer) reading(l *Line, at time.Time) Reading {
+	r := Reading{TimeS: a.tb.at(l, at), Channel: l.Channel}
+	switch {
+	case l.Fault == FaultOpen:
+		r.Flags, r.TempC = FlagOpen, math.NaN()
+	case l.Fault != FaultNone:
+		r.Flags, r.TempC = FlagFault, math.NaN()
+	case l.HasEMF:
+		r.Flags |= FlagEMF
+		r.EMFmV = l.EMFmV
+		switch {
+		case l.HasCJ:
+			r.ColdJctC = l.ColdJctC
+		case a.cfg.ColdJunctionSet:
+			r.ColdJctC = a.cfg.ColdJunctionC
+		default:
+			r.ColdJctC = 25
+			a.warn("cj", "EMF readings without cj= and no --cj given: assuming a 25 °C cold junction")
+		}
+		if a.tcName == "" {
+			a.tc, _ = thermocouple.Lookup("K")
+			a.tcName = "K"
+			a.st.Thermocouple = "K"
+			a.warn("tc", "EMF readings and no thermocouple type given (--tc) or announced by the device: converting as type K")
+		}
+		t, err := a.tc.Temp(r.EMFmV, r.ColdJctC)
+		if err != nil {
+			r.Flags |= FlagFault
+			r.TempC = math.NaN()
+			a.warn("emf:"+l.Channel, fmt.Sprintf("channel %s: %v", l.Channel, err))
+		} else {
+			r.TempC = t
+		}
+	default:
+		r.TempC = l.TempC
+	}
+	if l.HasCJ && !l.HasEMF {
+		r.ColdJctC = l.ColdJctC
+	}
+	return r
+}
+
+// accept passes a reading on and through its channel's lifecycle.
+func (a *Acquirer) accept(r Reading) error {
+	if r.Flags&(FlagOpen|FlagFault) != 0 {
+		a.st.Faults++
+	}
+	a.st.Readings++
+	a.rateN++
+	c := a.channel(r.Channel)
+	if c != nil && c.gapBefore {
+		r.Flags |= FlagGapBefore
+	}
+	a.lastIdx[r.Channel] = len(a.pending.Readings)
+	a.pending.Readings = append(a.pending.Readings, r)
+	if c == nil {
+		return nil
+	}
+	return c.add(a, r)
+}
+
+// channel returns the lifecycle of channel id, creating it on first use;
+// nil when the configuration leaves that channel out.
+func (a *Acquirer) channel(id string) *channel {
+	if c, ok := a.chans[id]; ok {
+		return c
+	}
+	if len(a.cfg.Channels) > 0 && !slices.Contains(a.cfg.Channels, id) {
+		return nil
+	}
+	c := &channel{id: id}
+	c.setForm(a.form)
+	a.chans[id] = c
+	a.order = append(a.order, id)
+	return c
+}
+
+func (a *Acquirer) control(c control) error {
+	switch c.op {
+	case opMeta:
+		a.applyForm(c.ch, c.meta)
+	case opStart:
+		ch := a.channel(c.ch)
+		if ch == nil {
+			a.event(Event{Kind: EventWarning, Channel: c.ch, TimeS: a.tb.last,
+				Text: fmt.Sprintf("channel %q is not being recorded (channels: %v)", c.ch, a.cfg.Channels)})
+			return nil
+		}
+		if ch.state == StateWaiting || ch.state == StateDone {
+			return ch.start(a, "started by hand", a.tb.last)
+		}
+	case opStop:
+		if ch, ok := a.chans[c.ch]; ok && (ch.state == StateRecording || ch.state == StateFrozen) {
+			return ch.finish(a, "stopped by hand")
+		}
+	}
+	return nil
+}
+
+// tick runs four times a second: the reading rate, time limits of samples
+// whose readings stopped, and a warning for a silent port.
+func (a *Acquirer) tick() error {
+	now := a.cfg.Now()
+	if a.rateAt.IsZero() {
+		a.rateAt = now
+	} else if d := now.Sub(a.rateAt); d >= time.Second {
+		a.st.ReadingsPerS = float64(a.rateN) / d.Seconds()
+		a.rateN, a.rateAt = 0, now
+	}
+	for _, id := range a.order {
+		c := a.chans[id]
+		if (c.state == StateRecording || c.state == StateFrozen) && now.Sub(c.startHost).Seconds() > a.cfg.MaxS+2 {
+			if err := c.finish(a, fmt.Sprintf("time limit of %g s reached (no readings for %.0f s)",
+				a.cfg.MaxS, now.Sub(a.lastLine).Seconds())); err != nil {
+				return err
+			}
+		}
+	}
+	if a.st.Connected && !a.silentSaid && !a.lastLine.IsZero() && now.Sub(a.lastLine) >= a.cfg.SilentAfter {
+		a.silentSaid = true
+		a.event(Event{Kind: EventWarning, TimeS: a.tb.last,
+			Text: fmt.Sprintf("no data from %s for %.0f s (still connected)", a.portName(), now.Sub(a.lastLine).Seconds())})
+	}
+	if now.Sub(a.sentAt) >= time.Second {
+		a.wantStatus = true // keep the status flowing while nothing happens
+	}
+	return nil
+}
+
+// finishAll completes every sample still recording.
+func (a *Acquirer) finishAll(reason string) error {
+	var first error
+	for _, id := range a.order {
+		c := a.chans[id]
+		if c.state == StateRecording || c.state == StateFrozen {
+			if err := c.finish(a, reason); err != nil && first == nil {
+				first = err
+			}
+		}
+	}
+	return first
+}
+
+// timebase turns device times and host arrival times into acquisition
+// seconds: device ms= times where the line has one (relative to the first,
+// re-based when the device restarts), else the host's monotonic clock.
+type timebase struct {
+	started bool
+	host0   time.Time
+	haveMS  bool
+	msBase  uint64
+	offS    float64
+	lastMS  uint64
+	last    float64 // the latest time given
+}
+
+func (tb *timebase) at(l *Line, at time.Time) float64 {
+	if !tb.started {
+		tb.started, tb.host0 = true, at
+	}
+	host := at.Sub(tb.host0).Seconds()
+	t := host
+	if l.HasMS {
+		restart := tb.haveMS && (l.MS+1000 < tb.lastMS || l.MS > tb.lastMS+3_600_000)
+		if !tb.haveMS || restart {
+			tb.haveMS, tb.msBase = true, l.MS
+			tb.offS = 0
+			if restart || tb.last > 0 {
+				tb.offS = max(host, tb.last)
+			}
+		}
+		tb.lastMS = l.MS
+		t = tb.offS + float64(l.MS-tb.msBase)/1000
+	}
+	tb.last = max(tb.last, t)
+	return t
+}
