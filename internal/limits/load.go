@@ -7,6 +7,8 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"regexp"
+	"strconv"
 	"strings"
 
 	"github.com/BurntSushi/toml"
@@ -138,10 +140,17 @@ func LoadCalibration(path string) (*Calibration, error) {
 	return f.Calibration, nil
 }
 
+var typeErr = regexp.MustCompile(`^toml: line (\d+) \(last key "([^"]*)"\): (.*)$`)
+
 func decodeError(name string, err error) error {
 	var pe toml.ParseError
 	if errors.As(err, &pe) {
 		return &Error{File: name, Line: pe.Position.Line, Key: pe.LastKey, Msg: pe.Message}
+	}
+	// Type mismatches come as "toml: line N (last key "K"): message".
+	if m := typeErr.FindStringSubmatch(err.Error()); m != nil {
+		line, _ := strconv.Atoi(m[1])
+		return &Error{File: name, Line: line, Key: m[2], Msg: m[3]}
 	}
 	return &Error{File: name, Msg: "cannot read", Err: err}
 }

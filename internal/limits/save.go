@@ -1,0 +1,326 @@
+package limits
+
+import (
+	"bytes"
+	"fmt"
+	"maps"
+	"os"
+	"path/filepath"
+	"reflect"
+	"slices"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/BurntSushi/toml"
+)
+
+// now is the clock of Save (replaced in tests).
+var now = time.Now
+
+// Save validates the book and writes it to path as a limits file, setting
+// its "edited" stamp. An existing file is first copied to a backup beside it
+// (PATH.YYYYMMDDTHHMMSSZ.bak, never overwritten), the new text is written to
+// a temporary file and renamed over path, and the change is appended with
+// its time, editor and the keys that changed to the sidecar log PATH.log.
+func Save(path string, b *Book) error {
+	if err := b.Validate(); err != nil {
+		return fmt.Errorf("limits: not saved: %w", err)
+	}
+	t := now().UTC()
+	saved := *b
+	saved.Edited = t.Format(time.RFC3339)
+	text := Encode(&saved)
+	if _, err := Parse(text, path); err != nil && saved.CalibrationFile == "" {
+		return fmt.Errorf("limits: not saved, the encoded text does not read back: %w", err)
+	}
+	old, err := os.ReadFile(path)
+	switch {
+	case err == nil:
+		bak := fmt.Sprintf("%s.%s.bak", path, t.Format("20060102T150405Z"))
+		for i := 1; exists(bak); i++ {
+			bak = fmt.Sprintf("%s.%s-%d.bak", path, t.Format("20060102T150405Z"), i)
+		}
+		if err := writeFile(bak, old); err != nil {
+			return fmt.Errorf("limits: backup before saving: %w", err)
+		}
+	case os.IsNotExist(err):
+		old = nil
+	default:
+		return fmt.Errorf("limits: %w", err)
+	}
+	if err := writeFile(path, text); err != nil {
+		return fmt.Errorf("limits: %w", err)
+	}
+	b.Edited = saved.Edited
+	entry := fmt.Sprintf("%s\t%s\tversion %s\t%s\n", saved.Edited, or(saved.EditedBy, "unknown editor"), or(saved.Version, "-"), strings.Join(changes(old, text), "; "))
+	f, err := os.OpenFile(path+".log", os.O_APPEND|os.O_CREATE|os.O_WRONLY, 0o644)
+	if err != nil {
+		return fmt.Errorf("limits: saved, but the change log: %w", err)
+	}
+	_, err = f.WriteString(entry)
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err != nil {
+		return fmt.Errorf("limits: saved, but the change log: %w", err)
+	}
+	return nil
+}
+
+func exists(p string) bool { _, err := os.Stat(p); return err == nil }
+
+// writeFile writes data to a temporary file beside path, syncs it and
+// renames it over path, so a crash leaves either the old or the new file.
+func writeFile(path string, data []byte) error {
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
+	if err != nil {
+		return err
+	}
+	tmp := f.Name()
+	_, err = f.Write(data)
+	if err == nil {
+		err = f.Sync()
+	}
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil {
+		err = os.Rename(tmp, path)
+	}
+	if err != nil {
+		os.Remove(tmp)
+	}
+	return err
+}
+
+// changes lists the keys whose values differ between two limits texts:
+// "alloy.grey-iron.metric.eutectic_min_c.pass_min 1142 → 1143". The edited
+// stamp itself is left out.
+func changes(old, new []byte) []string {
+	if old == nil {
+		return []string{"created"}
+	}
+	a, b := flatten(old), flatten(new)
+	var out []string
+	for _, k := range slices.Sorted(maps.Keys(merge(a, b))) {
+		if k == "edited" {
+			continue
+		}
+		va, oka := a[k]
+		vb, okb := b[k]
+		switch {
+		case !oka:
+			out = append(out, k+" added "+vb)
+		case !okb:
+			out = append(out, k+" removed (was "+va+")")
+		case va != vb:
+			out = append(out, k+" "+va+" → "+vb)
+		}
+	}
+	if len(out) == 0 {
+		return []string{"no value changed"}
+	}
+	return out
+}
+
+func merge(a, b map[string]string) map[string]string {
+	m := maps.Clone(a)
+	maps.Copy(m, b)
+	return m
+}
+
+func flatten(data []byte) map[string]string {
+	var v map[string]any
+	if _, err := toml.Decode(string(data), &v); err != nil {
+		return map[string]string{"(unreadable)": err.Error()}
+	}
+	out := map[string]string{}
+	var walk func(prefix string, x any)
+	walk = func(prefix string, x any) {
+		if m, ok := x.(map[string]any); ok {
+			for k, y := range m {
+				walk(strings.TrimPrefix(prefix+"."+k, "."), y)
+			}
+			return
+		}
+		out[prefix] = fmt.Sprint(x)
+	}
+	walk("", v)
+	return out
+}
+
+// Encode writes the book as limits-file text: top-level stamp, then the
+// calibration, then each alloy in name order with its metrics in the fixed
+// metric order. Unset optional values are left out.
+func Encode(b *Book) []byte {
+	var w bytes.Buffer
+	w.WriteString("# undercool limits file (format: README.md, \"Limits file\"). Temperatures in °C,\n")
+	w.WriteString("# times in s, chemistry in wt %. The shop's metallurgist is responsible for every number;\n")
+	w.WriteString("# verdicts assist the shop's written procedures and never replace them.\n\n")
+	scalar(&w, "version", b.Version)
+	scalar(&w, "edited", b.Edited)
+	scalar(&w, "edited_by", b.EditedBy)
+	scalar(&w, "note", b.Note)
+	if b.CalibrationFile != "" {
+		scalar(&w, "calibration_file", b.CalibrationFile)
+	} else if b.Calibration != nil {
+		EncodeCalibration(&w, b.Calibration)
+	}
+	for _, n := range b.Names() {
+		a := b.Alloys[n]
+		base := "alloy." + quoteKey(n)
+		fmt.Fprintf(&w, "\n[%s]\n", base)
+		fields(&w, base, reflect.ValueOf(a).Elem())
+		for _, m := range sortedMetrics(a.Metrics) {
+			fmt.Fprintf(&w, "\n[%s.metric.%s]\n", base, quoteKey(m))
+			fields(&w, base+".metric."+quoteKey(m), reflect.ValueOf(a.Metrics[m]).Elem())
+		}
+	}
+	return w.Bytes()
+}
+
+// EncodeCalibration writes a [calibration] table (for `undercool calibrate`).
+func EncodeCalibration(w *bytes.Buffer, c *Calibration) {
+	w.WriteString("\n[calibration]\n")
+	fields(w, "calibration", reflect.ValueOf(c).Elem())
+}
+
+// fields writes a struct's set scalar fields, then its sub-tables. Maps of
+// numbers become inline tables; maps of structs are written by the caller.
+func fields(w *bytes.Buffer, path string, v reflect.Value) {
+	t := v.Type()
+	var subs []int
+	for i := range t.NumField() {
+		tag := t.Field(i).Tag.Get("toml")
+		if tag == "" || tag == "-" {
+			continue
+		}
+		f := v.Field(i)
+		switch {
+		case f.Kind() == reflect.Pointer && f.Type().Elem().Kind() == reflect.Struct:
+			if !f.IsNil() {
+				subs = append(subs, i)
+			}
+		case f.Kind() == reflect.Struct:
+			subs = append(subs, i)
+		case f.Kind() == reflect.Map && f.Type().Elem().Kind() == reflect.Float64:
+			if f.Len() > 0 {
+				m := f.Interface().(map[string]float64)
+				parts := make([]string, 0, len(m))
+				for _, k := range slices.Sorted(maps.Keys(m)) {
+					parts = append(parts, quoteKey(k)+" = "+formatFloat(m[k]))
+				}
+				fmt.Fprintf(w, "%s = { %s }\n", tag, strings.Join(parts, ", "))
+			}
+		case f.Kind() == reflect.Map:
+			// alloy and metric tables: written by Encode
+		default:
+			if s, ok := value(f); ok {
+				fmt.Fprintf(w, "%s = %s\n", tag, s)
+			}
+		}
+	}
+	for _, i := range subs {
+		f := v.Field(i)
+		if f.Kind() == reflect.Pointer {
+			f = f.Elem()
+		}
+		var inner bytes.Buffer
+		sub := path + "." + t.Field(i).Tag.Get("toml")
+		fields(&inner, sub, f)
+		if inner.Len() > 0 {
+			fmt.Fprintf(w, "\n[%s]\n", sub)
+			w.Write(inner.Bytes())
+		}
+	}
+}
+
+// value formats a set scalar; zero values (and nil pointers) are unset.
+func value(f reflect.Value) (string, bool) {
+	if f.Kind() == reflect.Pointer {
+		if f.IsNil() {
+			return "", false
+		}
+		return value2(f.Elem(), true)
+	}
+	return value2(f, false)
+}
+
+func value2(f reflect.Value, keepZero bool) (string, bool) {
+	switch f.Kind() {
+	case reflect.String:
+		if f.String() == "" && !keepZero {
+			return "", false
+		}
+		return quote(f.String()), true
+	case reflect.Float64:
+		if f.Float() == 0 && !keepZero {
+			return "", false
+		}
+		return formatFloat(f.Float()), true
+	case reflect.Int:
+		if f.Int() == 0 && !keepZero {
+			return "", false
+		}
+		return strconv.FormatInt(f.Int(), 10), true
+	case reflect.Bool:
+		if !f.Bool() && !keepZero {
+			return "", false
+		}
+		return strconv.FormatBool(f.Bool()), true
+	}
+	return "", false
+}
+
+func scalar(w *bytes.Buffer, key, v string) {
+	if v != "" {
+		fmt.Fprintf(w, "%s = %s\n", key, quote(v))
+	}
+}
+
+// formatFloat writes a TOML float that reads back as a float.
+func formatFloat(v float64) string {
+	s := strconv.FormatFloat(v, 'g', -1, 64)
+	if !strings.ContainsAny(s, ".eEn") {
+		s += ".0"
+	}
+	return s
+}
+
+// quote writes a TOML basic string.
+func quote(s string) string {
+	var b strings.Builder
+	b.WriteByte('"')
+	for _, r := range s {
+		switch {
+		case r == '"':
+			b.WriteString(`\"`)
+		case r == '\\':
+			b.WriteString(`\\`)
+		case r == '\n':
+			b.WriteString(`\n`)
+		case r == '\t':
+			b.WriteString(`\t`)
+		case r < 0x20 || r == 0x7f:
+			fmt.Fprintf(&b, `\u%04X`, r)
+		default:
+			b.WriteRune(r)
+		}
+	}
+	b.WriteByte('"')
+	return b.String()
+}
+
+// quoteKey quotes a key that is not a bare TOML key.
+func quoteKey(k string) string {
+	for _, r := range k {
+		if !(r >= 'a' && r <= 'z' || r >= 'A' && r <= 'Z' || r >= '0' && r <= '9' || r == '_' || r == '-') {
+			return quote(k)
+		}
+	}
+	if k == "" {
+		return `""`
+	}
+	return k
+}
