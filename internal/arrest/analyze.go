@@ -1,26 +1,691 @@
 package arrest
 
-// Options steer the detector. The zero value analyses a cast-iron curve.
+import (
+	"fmt"
+	"math"
+	"slices"
+
+	"github.com/undercool-foundry/undercool/internal/curve"
+)
+
+// Options steer the detector. The zero value analyses a finished cast-iron
+// curve.
 type Options struct {
 	Family Family
+
+	// Live says more readings may follow. Problems that only the end of a
+	// recording can establish ("ended-early", "no-pour", "too-few") are then
+	// left out; everything else, the points included, is identical. Call
+	// with Live false once the sample has ended to get the offline answer.
+	Live bool
+
+	// EutecticTopC overrides the family's hint: an arrest above this
+	// temperature, °C, is the primary (liquidus) arrest; the first one at or
+	// below it is the eutectic. 0 keeps the family default (see Hints).
+	EutecticTopC float64
 }
+
+// Hints are the family's expectations the detector uses. They steer, they
+// never make a point: every point still comes from the curve's own T'.
+type Hints struct {
+	MinPourC     float64 // a pour must reach this reading, °C
+	EutecticTopC float64 // arrests above are primary arrests; +Inf: the first arrest is the plateau
+	SmoothS      float64 // Savitzky–Golay window for T, s
+	SlopeS       float64 // Savitzky–Golay window for T', s
+	ConfirmS     float64 // T' must stay above its minimum this long to settle the end of freezing, s
+}
+
+// FamilyHints returns the hints for a family (the zero Family is iron).
+// Temperature windows (practice and field notes, memory): the iron graphite
+// eutectic sits near 1130–1160 °C and hypoeutectic liquidus arrests above it;
+// the white (cementite) eutectic near 1100–1148 °C; the Al-Si eutectic at
+// 577 °C binary (Murray & McAlister 1984), 560–577 °C in casting alloys, with
+// α-Al liquidus arrests near 600–640 °C; a pure metal freezes on one plateau.
+func FamilyHints(f Family) Hints {
+	switch f {
+	case FamilyWhite:
+		return Hints{MinPourC: 1000, EutecticTopC: 1160, SmoothS: 2, SlopeS: 4, ConfirmS: 8}
+	case FamilyAluminum:
+		return Hints{MinPourC: 560, EutecticTopC: 590, SmoothS: 3, SlopeS: 6, ConfirmS: 10}
+	case FamilyPure:
+		return Hints{MinPourC: 150, EutecticTopC: math.Inf(1), SmoothS: 2, SlopeS: 4, ConfirmS: 8}
+	default:
+		return Hints{MinPourC: 1000, EutecticTopC: 1170, SmoothS: 2, SlopeS: 4, ConfirmS: 8}
+	}
+}
+
+// Limits of the raw reading and the detector's fixed thresholds.
+const (
+	MaxValidC    = 1800 // above: thermocouple fault (open circuit pegs high, no cup gets this hot)
+	MinValidC    = -50  // below: thermocouple fault (reversed or open)
+	SpikeMinC    = 3    // smallest spike removed, °C
+	StepFaultC   = 30   // a sustained jump of more than this between readings after the pour is a fault, °C
+	NoisyC       = 1.0  // noise above this, °C (robust σ), makes the curve untrustworthy
+	pourDropC    = 3    // the pour peak is settled once the reading is this far below it, °C
+	rateReadings = 21   // readings whose median interval fixes the sample rate
+	slopeFloor   = 0.02 // smallest hysteresis on T', °C/s
+	promFloor    = 0.05 // smallest prominence of an arrest in T', °C/s
+	dropFloor    = 0.3  // smallest temperature drop that settles a recalescence maximum, °C
+	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
+)
+
+// Stable problem codes.
+const (
+	CodeNoPour     = "no-pour"
+	CodeFault      = "tc-fault"
+	CodeEndedEarly = "ended-early"
+	CodeTooFew     = "too-few"
+	CodeTimeOrder  = "time-order"
+	CodeNoisy      = "too-noisy"
+)
 
 // Analyze finds the characteristic points of the curve temp(t), t in s and
 // temp in °C, both of the same length. Fed the first k readings of a live
 // sample it reports only the points already settled by then; fed the whole
 // curve it gives the offline answer.
+//
+// The method (definitions in DEVELOPERS.md and design.md):
+//   - readings whose time does not increase are dropped ("time-order");
+//     a reading that is NaN, infinite, above MaxValidC or below MinValidC, or
+//     a jump of more than StepFaultC that outlasts the spike test after the
+//     pour, ends the usable data ("tc-fault"); points settled before stay;
+//   - the sample rate is the median interval of the first 21 readings;
+//     single-sample spikes are replaced by a neighbour's reading
+//     (curve.SpikeAt, threshold max(SpikeMinC, 6σ) plus the local slope);
+//   - σ, the noise, is the median over 2 s blocks of curve.Noise, using only
+//     blocks already complete at each reading, so every decision depends on
+//     the data up to a fixed distance after it and never on later data;
+//   - T is the quadratic Savitzky–Golay smoothing over Hints.SmoothS and T'
+//     the quadratic Savitzky–Golay derivative over Hints.SlopeS; at the start
+//     the polynomial of the first window is used (scipy's "interp"); the
+//     last half-window of a curve is never used for a point, so a point can
+//     only be reported once no further reading can change it;
+//   - the pour peak is the highest despiked reading once the curve has
+//     fallen pourDropC below it (and it reached Hints.MinPourC);
+//   - an arrest is a local maximum of T' of prominence P = max(0.05 °C/s,
+//     6σ_T'). Sign changes of T' count only past a hysteresis
+//     h = max(0.02 °C/s, 4σ_T'): T' > +h confirms recalescence, and the
+//     minimum is T at the last − → + crossing of T' before it; the maximum is
+//     T at the first + → − crossing after T' was last above +h, settled when
+//     T' < −h or T has fallen max(0.3 °C, 6σ_T) below it. Noise crossings on
+//     a flat plateau are thus never taken for the underlying one. Without
+//     recalescence the point is T at the local maximum of T';
+//   - the first arrest above Hints.EutecticTopC is the liquidus arrest; the
+//     first arrest at or below it is the eutectic (the single plateau of a
+//     pure metal); liquidus is null when no arrest precedes the eutectic;
+//   - the end of freezing is T at the most negative T' after the eutectic,
+//     settled when no lower T' has followed for Hints.ConfirmS seconds and the
+//     drop below the plateau's T' is at least P and a third of the liquid's
+//     cooling rate.
 func Analyze(t, temp []float64, opt Options) Result {
 	var a Analyzer
+	a.reserve = len(t)
 	return a.Analyze(t, temp, opt)
 }
 
-// Analyzer holds reusable work space so that repeated live calls do not
-// allocate. The zero value is ready to use; it is not safe for concurrent use.
-type Analyzer struct{}
+// Analyzer holds reusable work space and the state of a growing curve, so
+// that repeated live calls do not allocate and do not redo settled work:
+// each call processes only the readings added since the previous one. It
+// starts afresh when the curve is not the previous one extended (a shorter
+// slice, a changed earlier reading) or the options other than Live change.
+// The zero value is ready to use; it is not safe for concurrent use.
+type Analyzer struct {
+	opt     Options
+	h       Hints
+	reserve int
+	ready   bool
+
+	nIn          int // input readings consumed
+	lastT, lastV float64
+	badTime      int
+	stopped      bool // a fault or noise ended the usable data
+	end          int  // raw readings usable (when stopped)
+
+	ts, raw []float64 // accepted readings
+	x       []float64 // despiked readings
+	s, d    []float64 // smoothed T (°C) and T' (°C/s)
+	despike int
+
+	rate, dt        float64
+	ws, wd          int
+	ks, kd          *curve.Kernel
+	sls, sld        curve.Sliding
+	gainS, gainD    float64 // noise gains of T and T' (per °C of σ)
+	block           int     // noise block length, readings
+	blockSig        []float64
+	sigByCount      []float64 // median σ of the first k blocks
+	sorted          []float64 // work space for the median
+	scratch         []float64
+	xmax            float64
+	xmaxI, pourConf int
+
+	det   detector
+	probs []Problem
+}
+
+// detector is the state of the point finder over the settled indices.
+type detector struct {
+	j     int // next index to examine
+	stage int
+	sub   int
+	start int // first index of the current arrest search
+
+	dmin, dmax   float64
+	dminI, dmaxI int
+	lastAbove    int
+	cand         int // index after the + → − crossing, −1 none
+	minPt, maxPt Point
+
+	firstI, firstArrestT float64 // first arrest point time
+	haveFirst            bool
+	eutRefD              float64 // T' at the eutectic point
+	eutI                 int
+
+	res Result
+}
+
+const (
+	stagePour = iota
+	stageArrest
+	stageSolidus
+	stageDone
+)
+
+const (
+	subValley = iota
+	subRise
+	subPos
+)
 
 // Analyze is the package-level Analyze reusing the Analyzer's work space.
+// Result.Problems may share storage with the Analyzer; the elements already
+// returned are never changed.
 func (a *Analyzer) Analyze(t, temp []float64, opt Options) Result {
-	// Placeholder until the detector lands (issue 2): it counts the samples
-	// and reports that nothing was analysed, so the verdict is invalid.
-	return Result{Samples: len(t), Problems: []Problem{{Code: "not-analysed", Message: "the detector is not built yet", Fatal: true}}}
+	if len(temp) < len(t) {
+		t = t[:len(temp)]
+	}
+	live := opt.Live
+	opt.Live = false
+	if !a.ready || opt != a.opt || len(t) < a.nIn || a.nIn > 0 && (t[a.nIn-1] != a.lastT || !same(temp[a.nIn-1], a.lastV)) {
+		a.reset(opt, len(t))
+	}
+	a.ingest(t, temp)
+	if a.rate == 0 && len(a.ts) >= rateReadings {
+		a.setRate()
+	}
+	if a.rate > 0 {
+		a.filter()
+		a.detect()
+	}
+	return a.result(live)
+}
+
+func same(a, b float64) bool { return a == b || math.IsNaN(a) && math.IsNaN(b) }
+
+func (a *Analyzer) reset(opt Options, n int) {
+	r := max(n, a.reserve, 4096)
+	if cap(a.ts) < r {
+		a.ts, a.raw, a.x = make([]float64, 0, r), make([]float64, 0, r), make([]float64, 0, r)
+		a.s, a.d = make([]float64, 0, r), make([]float64, 0, r)
+	}
+	if cap(a.blockSig) < 64 {
+		a.blockSig, a.sigByCount, a.sorted = make([]float64, 0, 256), make([]float64, 0, 257), make([]float64, 0, 256)
+	}
+	*a = Analyzer{
+		opt: opt, h: FamilyHints(opt.Family), reserve: a.reserve,
+		ts: a.ts[:0], raw: a.raw[:0], x: a.x[:0], s: a.s[:0], d: a.d[:0],
+		blockSig: a.blockSig[:0], sigByCount: append(a.sigByCount[:0], 0), sorted: a.sorted[:0], scratch: a.scratch,
+		ready: true, probs: nil, end: math.MaxInt, xmax: math.Inf(-1), pourConf: -1,
+	}
+	if opt.EutecticTopC != 0 {
+		a.h.EutecticTopC = opt.EutecticTopC
+	}
+	a.det = detector{stage: stagePour, cand: -1}
+}
+
+func (a *Analyzer) problem(code, msg string, fatal bool) {
+	for _, p := range a.probs {
+		if p.Code == code {
+			return
+		}
+	}
+	a.probs = append(a.probs, Problem{Code: code, Message: msg, Fatal: fatal})
+}
+
+// ingest takes the new readings: time order, range and noise blocks.
+func (a *Analyzer) ingest(t, temp []float64) {
+	for i := a.nIn; i < len(t); i++ {
+		ti, v := t[i], temp[i]
+		a.nIn, a.lastT, a.lastV = i+1, ti, v
+		if a.stopped || a.det.stage == stageDone {
+			continue
+		}
+		if n := len(a.ts); math.IsNaN(ti) || n > 0 && !(ti > a.ts[n-1]) {
+			a.badTime++
+			a.problem(CodeTimeOrder, fmt.Sprintf("time goes backwards or repeats at reading %d (t = %g s); such readings were left out", i+1, ti), true)
+			continue
+		}
+		if math.IsNaN(v) || v > MaxValidC || v < MinValidC {
+			a.stop(len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: reading %g °C at %.1f s (open circuit or out of range); the curve after it was not analysed", v, ti))
+			continue
+		}
+		a.ts = append(a.ts, ti)
+		a.raw = append(a.raw, v)
+		if a.rate > 0 {
+			a.noiseBlocks()
+		}
+	}
+}
+
+func (a *Analyzer) stop(end int, code, msg string) {
+	if a.stopped {
+		return
+	}
+	a.stopped = true
+	a.end = end
+	a.problem(code, msg, true)
+}
+
+func (a *Analyzer) setRate() {
+	var iv [rateReadings - 1]float64
+	for i := range iv {
+		iv[i] = a.ts[i+1] - a.ts[i]
+	}
+	slices.Sort(iv[:])
+	a.dt = iv[len(iv)/2]
+	a.rate = 1 / a.dt
+	h := a.h
+	a.ws = curve.WindowSamples(h.SmoothS, a.rate, 2, 5)
+	a.wd = curve.WindowSamples(h.SlopeS, a.rate, 2, 5)
+	a.ks, a.kd = curve.SavGol(a.ws, 2, 0), curve.SavGol(a.wd, 2, 1)
+	a.sls.Reset(a.ws / 2)
+	a.sld.Reset(a.wd / 2)
+	a.gainS = a.ks.NoiseGain()
+	a.gainD = a.kd.NoiseGain() / a.dt
+	a.block = max(16, int(math.Round(2*a.rate)))
+	a.noiseBlocks()
+}
+
+// noiseBlocks estimates σ for every block whose readings have all arrived.
+func (a *Analyzer) noiseBlocks() {
+	for {
+		b := len(a.blockSig)
+		hi := (b+1)*a.block + 1
+		if hi > len(a.raw) || hi > a.end {
+			return
+		}
+		blk := a.raw[b*a.block : hi]
+		sig := math.NaN() // a block spanning the pour says nothing about noise
+		if lo, top := slices.Min(blk), slices.Max(blk); top-lo <= blockRangeC {
+			sig, a.scratch = curve.Noise(a.scratch, blk)
+		}
+		a.blockSig = append(a.blockSig, sig)
+		// median of the valid estimates among the first b+1 blocks
+		tmp := a.sorted[:0]
+		for _, v := range a.blockSig {
+			if !math.IsNaN(v) {
+				tmp = append(tmp, v)
+			}
+		}
+		m := 0.0
+		if len(tmp) > 0 {
+			slices.Sort(tmp)
+			m = tmp[len(tmp)/2]
+			if len(tmp)%2 == 0 {
+				m = (tmp[len(tmp)/2-1] + m) / 2
+			}
+		}
+		a.sorted = tmp[:0]
+		a.sigByCount = append(a.sigByCount, m)
+	}
+}
+
+// sigma is the noise estimate usable at raw index i: from blocks that end at
+// or before i.
+func (a *Analyzer) sigma(i int) float64 {
+	k := i / a.block
+	if k >= len(a.sigByCount) {
+		k = len(a.sigByCount) - 1
+	}
+	if k < 0 {
+		return 0
+	}
+	return a.sigByCount[k]
+}
+
+// filter despikes, then smooths and differentiates, every reading whose
+// windows are complete.
+func (a *Analyzer) filter() {
+	n := min(len(a.raw), a.end)
+	raw := a.raw[:n]
+	for i := len(a.x); i+2 < n && n >= 5; i++ {
+		v, spike := curve.SpikeAt(raw, i, SpikeMinC, a.sigma(i))
+		if spike {
+			a.despike++
+		}
+		// pour confirmation and the sustained-step fault, both on the despiked reading
+		if a.pourConf < 0 {
+			if v > a.xmax {
+				a.xmax, a.xmaxI = v, i
+			}
+			if a.xmax >= a.h.MinPourC && v <= a.xmax-math.Max(pourDropC, 10*a.sigma(i)) {
+				a.pourConf = i
+			}
+		} else if i > 0 && math.Abs(v-a.x[i-1]) > StepFaultC {
+			a.stop(len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: the reading jumped from %.1f to %.1f °C at %.1f s and stayed; the curve after it was not analysed", a.x[i-1], v, a.ts[i]))
+			a.end = i
+			break
+		}
+		a.x = append(a.x, v)
+	}
+	x := a.x
+	hs, hd := a.ws/2, a.wd/2
+	for j := len(a.s); j+max(hs, hd) < len(x) && len(x) >= max(a.ws, a.wd); j++ {
+		var sj, dj float64
+		if j < hs {
+			sj = a.ks.At(x[:a.ws], j, 1)
+		} else {
+			sj, _ = a.sls.At(x, j)
+		}
+		if j < hd {
+			dj = a.kd.At(x[:a.wd], j, a.dt)
+		} else {
+			_, dj = a.sld.At(x, j)
+			dj /= a.dt
+		}
+		a.s = append(a.s, sj)
+		a.d = append(a.d, dj)
+	}
+}
+
+// crossing interpolates the zero crossing of T' between indices k and k+1.
+func (a *Analyzer) crossing(k int) Point {
+	d0, d1 := a.d[k], a.d[k+1]
+	f := 0.0
+	if d1 != d0 {
+		f = d0 / (d0 - d1)
+	}
+	f = math.Max(0, math.Min(1, f))
+	return Point{
+		TempC: a.s[k] + f*(a.s[k+1]-a.s[k]),
+		TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]),
+		OK:    true,
+	}
+}
+
+func (a *Analyzer) at(i int) Point { return Point{TempC: a.s[i], TimeS: a.ts[i], OK: true} }
+
+// extremum refines a local extremum of T' at sample i to a fraction of a
+// sample: the vertex of the parabola through T' at i−1, i, i+1, and T there
+// by quadratic interpolation of the smoothed T. Without it a point would be
+// off by up to T'·dt/2 at low sample rates.
+func (a *Analyzer) extremum(i int) Point {
+	if i < 1 || i+1 >= len(a.d) {
+		return a.at(i)
+	}
+	return a.vertex(i, a.d[i-1], a.d[i], a.d[i+1])
+}
+
+// vertex interpolates T and t at the vertex of the parabola through the
+// derivative values d0, d1, d2 at samples i−1, i, i+1.
+func (a *Analyzer) vertex(i int, d0, d1, d2 float64) Point {
+	den := d0 - 2*d1 + d2
+	f := 0.0
+	if den != 0 {
+		f = math.Max(-0.5, math.Min(0.5, 0.5*(d0-d2)/den))
+	}
+	s0, s1, s2 := a.s[i-1], a.s[i], a.s[i+1]
+	temp := s1 + f*(s2-s0)/2 + f*f*(s0-2*s1+s2)/2
+	var ts float64
+	if f >= 0 {
+		ts = a.ts[i] + f*(a.ts[i+1]-a.ts[i])
+	} else {
+		ts = a.ts[i] + f*(a.ts[i]-a.ts[i-1])
+	}
+	return Point{TempC: temp, TimeS: ts, OK: true}
+}
+
+// detect runs the point finder over the indices settled since the last call.
+func (a *Analyzer) detect() {
+	e := &a.det
+	for ; e.j < len(a.d) && e.stage != stageDone; e.j++ {
+		j := e.j
+		d := a.d[j]
+		sig := a.sigma(j)
+		if e.stage != stagePour && sig > NoisyC {
+			// Too noisy: nothing from here on is used.
+			a.stop(len(a.raw), CodeNoisy, fmt.Sprintf("too noisy to trust: the reading scatters by about %.1f °C (more than %.1f °C) from %.0f s on; check the thermocouple, its wiring and earthing", sig, float64(NoisyC), a.ts[j]))
+			e.stage = stageDone
+			break
+		}
+		sd := sig * a.gainD
+		h := math.Max(slopeFloor, 4*sd)
+		p := math.Max(promFloor, 6*sd)
+		switch e.stage {
+		case stagePour:
+			if a.pourConf >= 0 && j >= a.pourConf {
+				e.res.PourPeak = Point{TempC: a.x[a.xmaxI], TimeS: a.ts[a.xmaxI], OK: true}
+				e.stage = stageArrest
+				e.startArrest(j, d)
+			}
+		case stageArrest:
+			a.arrestStep(j, d, h, p)
+		case stageSolidus:
+			if d < e.dmin {
+				e.dmin, e.dminI = d, j
+			}
+			drop := e.eutRefD - e.dmin
+			need := math.Max(p, math.Abs(e.res.CoolingRateCps)/3)
+			if drop >= need && a.ts[j]-a.ts[e.dminI] >= a.h.ConfirmS {
+				a.solidus()
+			}
+		}
+	}
+}
+
+func (e *detector) startArrest(j int, d float64) {
+	e.sub, e.start = subValley, j
+	e.dmin, e.dminI = d, j
+	e.cand = -1
+}
+
+func (a *Analyzer) arrestStep(j int, d, h, p float64) {
+	e := &a.det
+	switch e.sub {
+	case subValley, subRise:
+		if e.sub == subValley {
+			if d < e.dmin {
+				e.dmin, e.dminI = d, j
+			}
+		} else if d > e.dmax {
+			e.dmax, e.dmaxI = d, j
+		}
+		if d > h {
+			// recalescence: the minimum is at the last − → + crossing before j
+			k := j - 1
+			for k > e.start && a.d[k] > 0 {
+				k--
+			}
+			if a.d[k] > 0 {
+				e.minPt = a.at(k)
+			} else {
+				e.minPt = a.crossing(k)
+			}
+			e.sub, e.lastAbove, e.cand = subPos, j, -1
+			e.dmax, e.dmaxI = d, j
+			return
+		}
+		if e.sub == subValley && d > e.dmin+p {
+			e.sub, e.dmax, e.dmaxI = subRise, d, j
+			return
+		}
+		if e.sub == subRise && d < e.dmax-p {
+			pt := a.extremum(e.dmaxI)
+			a.arrest(j, pt, pt, false)
+		}
+	case subPos:
+		if d > e.dmax {
+			e.dmax, e.dmaxI = d, j
+		}
+		if d > h {
+			e.lastAbove, e.cand = j, -1
+			return
+		}
+		if e.cand < 0 && d <= 0 {
+			e.cand = j
+			e.maxPt = a.crossing(j - 1)
+		}
+		sdT := a.sigma(j) * a.gainS
+		if e.cand >= 0 && (d < -h || a.s[j] < e.maxPt.TempC-math.Max(dropFloor, 6*sdT)) {
+			a.arrest(j, e.minPt, e.maxPt, true)
+		}
+	}
+}
+
+// arrest classifies a settled arrest (lo, hi: the minimum and maximum points,
+// equal without recalescence) found at index j.
+func (a *Analyzer) arrest(j int, lo, hi Point, recal bool) {
+	e := &a.det
+	r := &e.res
+	if !e.haveFirst {
+		e.haveFirst = true
+		e.firstArrestT = lo.TimeS
+		r.CoolingRateCps = a.coolingRate(e)
+	}
+	if lo.TempC > a.h.EutecticTopC {
+		if !r.Liquidus.OK {
+			r.Liquidus = hi
+			if recal {
+				r.LiquidusMin = lo
+				r.LiquidusRecalescence = hi.TempC - lo.TempC
+			}
+		}
+		e.startArrest(j, a.d[j])
+		return
+	}
+	r.EutecticMin, r.EutecticMax = lo, hi
+	r.Recalescence, r.RecalescenceOK = hi.TempC-lo.TempC, true
+	if !recal {
+		r.Recalescence = 0
+	}
+	e.eutRefD = a.d[e.dmaxI] // T' at the arrest; 0 at the maximum of a recalescence
+	if recal {
+		e.eutRefD = 0
+	}
+	e.eutI = j
+	e.stage = stageSolidus
+	e.dmin, e.dminI = a.d[j], j
+}
+
+// coolingRate is the mean slope of T over the 10 s (less when the pour is
+// nearer) ending where T' has risen halfway from its minimum after the pour
+// to its value at the first arrest, °C/s.
+func (a *Analyzer) coolingRate(e *detector) float64 {
+	peak := e.dmax
+	if e.sub == subPos {
+		peak = 0
+	}
+	half := (e.dmin + peak) / 2
+	k := e.dmaxI
+	for k > e.dminI && a.d[k] > half {
+		k--
+	}
+	lo := k
+	for lo > e.start && a.ts[k]-a.ts[lo-1] <= 10 {
+		lo--
+	}
+	if lo == k {
+		return a.d[k]
+	}
+	return (a.s[k] - a.s[lo]) / (a.ts[k] - a.ts[lo])
+}
+
+// refineMin locates the most negative T' near sample i again with a
+// derivative window half as long, which halves the shift a long window gives
+// an asymmetric dip; the search stays within the long window around i.
+func (a *Analyzer) refineMin(i int) Point {
+	w := curve.WindowSamples(a.h.SlopeS/2, a.rate, 2, 5)
+	if w >= a.wd {
+		return a.extremum(i)
+	}
+	k := curve.SavGol(w, 2, 1)
+	hd, h := a.wd/2, w/2
+	lo, hi := max(i-hd, h), min(i+hd, len(a.x)-1-h)
+	if lo+2 > hi {
+		return a.extremum(i)
+	}
+	best, bi := math.Inf(1), lo
+	for c := lo; c <= hi; c++ {
+		if v := k.At(a.x, c, a.dt); v < best {
+			best, bi = v, c
+		}
+	}
+	if bi == lo || bi == hi {
+		return a.extremum(i)
+	}
+	d0, d1, d2 := k.At(a.x, bi-1, a.dt), best, k.At(a.x, bi+1, a.dt)
+	return a.vertex(bi, d0, d1, d2)
+}
+
+// solidus settles the end of freezing at the most negative T' and derives
+// the plateau and freezing times.
+func (a *Analyzer) solidus() {
+	e := &a.det
+	r := &e.res
+	r.Solidus = a.refineMin(e.dminI)
+	// end of the plateau: where T' has fallen halfway from the eutectic's
+	// value to its minimum
+	half := (e.eutRefD + e.dmin) / 2
+	k := e.dminI
+	for k > e.eutI && a.d[k] < half {
+		k--
+	}
+	r.PlateauS = a.ts[k] - r.EutecticMin.TimeS
+	if r.PlateauS < 0 {
+		r.PlateauS = 0
+	}
+	first := r.EutecticMin.TimeS
+	switch {
+	case r.LiquidusMin.OK:
+		first = r.LiquidusMin.TimeS
+	case r.Liquidus.OK:
+		first = r.Liquidus.TimeS
+	}
+	r.FreezingTimeS = r.Solidus.TimeS - first
+	r.Complete = true
+	e.stage = stageDone
+}
+
+// result assembles the Result of the current state.
+func (a *Analyzer) result(live bool) Result {
+	r := a.det.res
+	r.Samples = a.nIn - a.badTime
+	r.RateHz = a.rate
+	r.Despiked = a.despike
+	if a.stopped && a.det.j >= len(a.d) {
+		r.Complete = true
+	}
+	r.Problems = a.probs[:len(a.probs):len(a.probs)]
+	if live || r.Complete && !a.stopped {
+		if len(r.Problems) == 0 {
+			r.Problems = nil
+		}
+		return r
+	}
+	var end []Problem
+	switch {
+	case a.rate == 0 || len(a.d) == 0:
+		end = append(end, Problem{Code: CodeTooFew, Message: fmt.Sprintf("too few readings to analyse (%d)", r.Samples), Fatal: true})
+	case !r.PourPeak.OK:
+		end = append(end, Problem{Code: CodeNoPour, Message: fmt.Sprintf("no pour found: the reading never rose to %.0f °C and fell back", a.h.MinPourC), Fatal: true})
+	case !a.stopped:
+		end = append(end, Problem{Code: CodeEndedEarly, Message: "the recording ended before the end of freezing", Fatal: true})
+	}
+	if len(end) > 0 {
+		r.Problems = append(slices.Clone(r.Problems), end...)
+	}
+	if len(r.Problems) == 0 {
+		r.Problems = nil
+	}
+	return r
 }

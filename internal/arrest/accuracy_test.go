@@ -1,0 +1,114 @@
+package arrest
+
+import (
+	"fmt"
+	"math"
+	"slices"
+	"strings"
+	"testing"
+)
+
+// pointErr compares one point with its truth; it returns the absolute error,
+// or +Inf when one is found and the other not (NaN when both are absent).
+func pointErr(got, want Point) float64 {
+	switch {
+	case !got.OK && !want.OK:
+		return math.NaN()
+	case got.OK != want.OK:
+		return math.Inf(1)
+	}
+	return math.Abs(got.TempC - want.TempC)
+}
+
+type errSet struct {
+	name string
+	tol  float64
+	errs []float64
+}
+
+func (e *errSet) add(v float64) {
+	if !math.IsNaN(v) {
+		e.errs = append(e.errs, v)
+	}
+}
+
+// summary prints the error distribution: count, median, 90 %, 99 %, max.
+func (e *errSet) summary() string {
+	if len(e.errs) == 0 {
+		return fmt.Sprintf("%-16s none", e.name)
+	}
+	s := slices.Clone(e.errs)
+	slices.Sort(s)
+	q := func(p float64) float64 { return s[int(p*float64(len(s)-1))] }
+	return fmt.Sprintf("%-16s n=%3d  median %.3f  p90 %.3f  p99 %.3f  max %.3f  (tolerance %.2f °C)", e.name, len(s), q(0.5), q(0.9), q(0.99), s[len(s)-1], e.tol)
+}
+
+type accuracy struct{ sets []*errSet }
+
+func newAccuracy(tols ...any) *accuracy {
+	var a accuracy
+	for i := 0; i < len(tols); i += 2 {
+		a.sets = append(a.sets, &errSet{name: tols[i].(string), tol: tols[i+1].(float64)})
+	}
+	return &a
+}
+
+// check records the errors of one case and reports those beyond tolerance.
+func (a *accuracy) check(t *testing.T, label string, got, want Result) {
+	t.Helper()
+	recal := math.NaN()
+	if got.RecalescenceOK && want.RecalescenceOK {
+		recal = math.Abs(got.Recalescence - want.Recalescence)
+	} else if got.RecalescenceOK != want.RecalescenceOK {
+		recal = math.Inf(1)
+	}
+	errs := map[string]float64{
+		"liquidus_min": pointErr(got.LiquidusMin, want.LiquidusMin),
+		"liquidus":     pointErr(got.Liquidus, want.Liquidus),
+		"eutectic_min": pointErr(got.EutecticMin, want.EutecticMin),
+		"eutectic_max": pointErr(got.EutecticMax, want.EutecticMax),
+		"recalescence": recal,
+		"solidus":      pointErr(got.Solidus, want.Solidus),
+		"pour_peak":    pointErr(got.PourPeak, want.PourPeak),
+	}
+	for _, s := range a.sets {
+		v, ok := errs[s.name]
+		if !ok {
+			continue
+		}
+		s.add(v)
+		if v > s.tol {
+			t.Errorf("%s: %s off by %.3f °C (tolerance %.2f)", label, s.name, v, s.tol)
+		}
+	}
+}
+
+func (a *accuracy) log(t *testing.T, title string) {
+	var b strings.Builder
+	fmt.Fprintf(&b, "%s — absolute error, °C:\n", title)
+	for _, s := range a.sets {
+		fmt.Fprintf(&b, "  %s\n", s.summary())
+	}
+	t.Log(b.String())
+}
+
+// Constructed noise-free curves: every point within 0.1 °C of the
+// definitions applied to the exact curve, at 2 to 200 Hz.
+func TestAccuracyNoiseFree(t *testing.T) {
+	acc := newAccuracy("pour_peak", 0.1, "liquidus_min", 0.1, "liquidus", 0.1, "eutectic_min", 0.1, "eutectic_max", 0.1, "recalescence", 0.1, "solidus", 0.1)
+	for _, sh := range shapes() {
+		want := sh.truth()
+		for _, rate := range []float64{2, 4, 5, 10, 20, 50, 100, 200} {
+			for _, phase := range []float64{0, 0.37, 0.81} {
+				tt, v := sh.sample(sampling{rate: rate, phase: phase, tailS: 0})
+				got := Analyze(tt, v, Options{Family: sh.family})
+				label := fmt.Sprintf("%s at %g Hz, phase %.2f", sh.name, rate, phase)
+				if !got.Complete || got.Invalid() {
+					t.Errorf("%s: complete %v, problems %v", label, got.Complete, got.Problems)
+				}
+				acc.check(t, label, got, want)
+			}
+		}
+	}
+	acc.log(t, "constructed noise-free curves, 2–200 Hz")
+}
