@@ -25,15 +25,17 @@ type Analyzer func(t, temp []float64, family arrest.Family) arrest.Result
 // the alloy's limits).
 type Judge func(in assess.Input, res arrest.Result) assess.Record
 
-// preTrigger is how much of the curve before the start event is kept, s.
-const preTrigger = 10.0
+// recentMax bounds the readings kept while waiting: the acquirer's sample
+// starts up to its pre-trigger time (10 s by default) before the event.
+const recentMax = 2048
 
 // cup is one channel's sample: its whole curve, the decimated copies for
 // drawing, the live analysis and, once known, the record.
 type cup struct {
 	id    string
 	state State
-	meta  SampleMeta
+	meta  SampleMeta  // the sample shown
+	next  *SampleMeta // the form for the next sample, while one is recording
 
 	t0         float64   // acquirer time of the sample start
 	t, v       []float64 // the whole sample curve, s from t0 and °C
@@ -56,8 +58,33 @@ func newCup(id string) *cup {
 	return &cup{id: id, temp: newTrace(), rate: newTrace(), sl: slope{w: 2}, peakV: math.Inf(-1)}
 }
 
+// busy reports whether a sample is being recorded.
+func (c *cup) busy() bool { return c.state == StateRecording || c.state == StateFrozen }
+
+// form is the sample form's current values for this cup: the next
+// sample's while one is recording.
+func (c *cup) form() SampleMeta {
+	if c.busy() && c.next != nil {
+		return *c.next
+	}
+	return c.meta
+}
+
+// setForm takes the sample form: for the sample shown, or for the next
+// one while a sample is recording.
+func (c *cup) setForm(m SampleMeta) {
+	if c.busy() {
+		c.next = &m
+		return
+	}
+	c.meta, c.next = m, nil
+}
+
 // begin starts a new sample at acquirer time t0.
 func (c *cup) begin(t0 float64) {
+	if c.next != nil {
+		c.meta, c.next = *c.next, nil
+	}
 	c.t0 = t0
 	c.t, c.v = c.t[:0], c.v[:0]
 	c.temp.reset()
@@ -67,7 +94,7 @@ func (c *cup) begin(t0 float64) {
 	c.res, c.rec, c.path, c.elapsed = arrest.Result{}, nil, "", 0
 	c.state = StateRecording
 	for _, r := range c.recent {
-		if r.TimeS >= t0-preTrigger {
+		if r.TimeS >= t0 {
 			c.append(r)
 		}
 	}
@@ -84,8 +111,8 @@ func (c *cup) take(r Reading) {
 	if c.state != StateRecording && c.state != StateFrozen {
 		if usable(r) {
 			c.recent = append(c.recent, r)
-			if len(c.recent) > 256 {
-				c.recent = append(c.recent[:0], c.recent[128:]...)
+			if len(c.recent) > recentMax {
+				c.recent = append(c.recent[:0], c.recent[recentMax/2:]...)
 			}
 		}
 		return

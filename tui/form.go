@@ -28,6 +28,7 @@ type formPane struct {
 	inputs  [4]textinput.Model
 	focus   int
 	channel string
+	forNext bool // a sample is recording: the form is for the next one
 	alloys  []string
 	err     string
 }
@@ -46,8 +47,8 @@ func newFormPane(st *Styles, keys *KeyMap, alloys []string) formPane {
 }
 
 // open shows the form for a channel, prefilled.
-func (f formPane) open(channel string, m SampleMeta) (formPane, tea.Cmd) {
-	f.channel, f.err, f.focus = channel, "", 0
+func (f formPane) open(channel string, m SampleMeta, forNext bool) (formPane, tea.Cmd) {
+	f.channel, f.err, f.focus, f.forNext = channel, "", 0, forNext
 	for i, v := range []string{m.Sample, m.Alloy, m.Operator, m.Note} {
 		f.inputs[i].SetValue(v)
 		f.inputs[i].CursorEnd()
@@ -110,7 +111,11 @@ func (f formPane) Update(msg tea.Msg) (formPane, tea.Cmd) {
 }
 
 func (f formPane) View() string {
-	lines := []string{f.st.Title.Render("SAMPLE FORM · CUP " + f.channel), ""}
+	title := "SAMPLE FORM · CUP " + f.channel
+	if f.forNext {
+		title += " · NEXT SAMPLE"
+	}
+	lines := []string{f.st.Title.Render(title), ""}
 	for i, in := range f.inputs {
 		lab := f.st.Label.Render(fmt.Sprintf("%-15s", formLabels[i]))
 		if i == f.focus {

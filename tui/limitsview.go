@@ -236,7 +236,11 @@ func (p limitsPane) commit() (limitsPane, tea.Cmd) {
 		p.msg, p.msgBad = "this session has no limits file to write", true
 		return p, nil
 	}
-	n := 0
+	type undo struct {
+		at  **float64
+		was *float64
+	}
+	var undos []undo
 	for alloy, m := range p.pending {
 		al, ok := p.book.Alloy(alloy)
 		if !ok {
@@ -244,13 +248,21 @@ func (p limitsPane) commit() (limitsPane, tea.Cmd) {
 		}
 		for r, v := range m {
 			if l := al.Metrics[r.metric]; l != nil {
-				*r.b.of(l) = v
-				n++
+				at := r.b.of(l)
+				undos = append(undos, undo{at, *at})
+				*at = v
 			}
 		}
 	}
-	if n == 0 {
+	if len(undos) == 0 {
 		p.msg, p.msgBad = "nothing changed", false
+		return p, nil
+	}
+	if err := p.book.Validate(); err != nil {
+		for _, u := range undos {
+			*u.at = u.was
+		}
+		p.msg, p.msgBad = "not saved: "+err.Error(), true
 		return p, nil
 	}
 	p.pending = map[string]map[limitRow]*float64{}

@@ -61,47 +61,53 @@ func (p *livePane) shown() []*cup {
 // recording reports whether any cup is recording a sample.
 func (p *livePane) recording() bool {
 	for _, c := range p.cups {
-		if c.state == StateRecording || c.state == StateFrozen {
+		if c.busy() {
 			return true
 		}
 	}
 	return false
 }
 
-// applyInfo takes sample form data from a device information line.
+// applyInfo takes sample form data from a device information line. It
+// fills the form of the channel's next sample (a recording cup keeps its
+// own until it is done).
 func (p *livePane) applyInfo(ev Event) {
-	set := func(m *SampleMeta) {
-		for k, v := range ev.Info {
-			switch k {
-			case "sample", "ladle":
-				m.Sample = v
-			case "alloy":
-				m.Alloy = v
-			case "operator":
-				m.Operator = v
-			case "note":
-				m.Note = v
-			}
+	var m SampleMeta
+	any := false
+	get := func(k string, dst *string) {
+		if v, ok := ev.Info[k]; ok {
+			*dst, any = v, true
 		}
 	}
-	if _, ok := ev.Info["sample"]; !ok {
-		if _, ok := ev.Info["alloy"]; !ok {
-			if _, ok := ev.Info["operator"]; !ok {
-				return
-			}
-		}
-	}
-	if ev.Channel != "" || len(p.order) == 0 {
-		c := p.cup(ev.Channel)
-		set(&c.meta)
-		p.prefill = c.meta
+	get("ladle", &m.Sample)
+	get("sample", &m.Sample)
+	get("alloy", &m.Alloy)
+	get("operator", &m.Operator)
+	get("note", &m.Note)
+	if !any {
 		return
 	}
-	for _, c := range p.cups {
-		if c.state != StateRecording && c.state != StateFrozen {
-			set(&c.meta)
-			p.prefill = c.meta
+	merge := func(c *cup) {
+		base := c.meta
+		if c.busy() {
+			if c.next != nil {
+				base = *c.next
+			}
 		}
+		for _, kv := range [][2]*string{{&base.Sample, &m.Sample}, {&base.Alloy, &m.Alloy}, {&base.Operator, &m.Operator}, {&base.Note, &m.Note}} {
+			if *kv[1] != "" {
+				*kv[0] = *kv[1]
+			}
+		}
+		c.setForm(base)
+		p.prefill = base
+	}
+	if ev.Channel != "" || len(p.order) == 0 {
+		merge(p.cup(ev.Channel))
+		return
+	}
+	for _, id := range p.order {
+		merge(p.cups[id])
 	}
 }
 

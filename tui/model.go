@@ -192,8 +192,7 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 		return m, nil
 	case formDoneMsg:
 		m.formOpen = false
-		c := m.live.cup(msg.channel)
-		c.meta = msg.meta
+		m.live.cup(msg.channel).setForm(msg.meta)
 		m.live.prefill = msg.meta
 		m.log.Printf("sample form for cup %s: %+v", msg.channel, msg.meta)
 		src, ch, meta := m.opt.Source, msg.channel, metaLines(msg.meta)
@@ -306,7 +305,7 @@ func (m Model) liveKey(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 	case key.Matches(k, m.keys.Form):
 		m.formOpen = true
 		var cmd tea.Cmd
-		m.form, cmd = m.form.open(c.id, c.meta)
+		m.form, cmd = m.form.open(c.id, c.form(), c.busy())
 		return m, cmd
 	case key.Matches(k, m.keys.Start) && src != nil:
 		ch := c.id

@@ -14,11 +14,22 @@ func ansiTruncate(s string, w int) string { return ansi.Truncate(s, w, "") }
 // familyOf is the detector family for an alloy name.
 func familyOf(alloy string) arrest.Family { return limits.Family(alloy) }
 
-// recordReasons is why the record has its verdict: the problems found.
-func recordReasons(r *assess.Record) []string { return r.Problems }
+// recordReasons is why the record has its verdict: the problems found and
+// the reasons in numbers, without repeats.
+func recordReasons(r *assess.Record) []string {
+	seen := map[string]bool{}
+	var out []string
+	for _, s := range append(append([]string(nil), r.Problems...), r.Reasons...) {
+		if s != "" && !seen[s] {
+			seen[s] = true
+			out = append(out, s)
+		}
+	}
+	return out
+}
 
-// recordAdvice is what the record suggests doing.
-func recordAdvice(r *assess.Record) []string { return nil }
+// recordAdvice is what the record suggests doing, worded as advice.
+func recordAdvice(r *assess.Record) []string { return r.Advice }
 
 // resultFromRecord gives back the points of a stored record, for drawing.
 func resultFromRecord(r assess.Record) arrest.Result {

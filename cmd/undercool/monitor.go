@@ -1,0 +1,184 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strconv"
+	"sync"
+	"time"
+
+	"github.com/charmbracelet/x/term"
+
+	"github.com/undercool-foundry/undercool/acquire"
+	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/store"
+	"github.com/undercool-foundry/undercool/tui"
+)
+
+func init() {
+	register(command{
+		name:    "monitor",
+		summary: "the live dashboard on a real amplifier (serial port)",
+		run:     runMonitor,
+	})
+}
+
+func runMonitor(ctx context.Context, env *environ, args []string) error {
+	fs := flag.NewFlagSet("monitor", flag.ContinueOnError)
+	fs.SetOutput(env.stderr)
+	port := fs.String("port", "", "serial port of the amplifier, e.g. /dev/ttyUSB0 (required)")
+	mode := acquire.DefaultPortMode
+	mode.AddFlags(fs)
+	tc := fs.String("tc", "", "thermocouple type for raw EMF readings (default: what the device says, else K)")
+	cj := fs.String("cj", "", "cold-junction temperature in °C for EMF readings without cj=")
+	data := fs.String("data", "", "data directory for curve files, records and the log (default: the records database's directory)")
+	limitsPath := fs.String("limits", "", "limits file (default: the built-in examples)")
+	fs.Usage = func() {
+		fmt.Fprintln(env.stderr, "usage: undercool monitor --port PATH [--baud N] [--frame 8N1] [--tc K] [--cj C] [--data DIR] [--limits FILE]")
+		fs.PrintDefaults()
+	}
+	if err := fs.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return nil
+		}
+		return errUsage
+	}
+	if *port == "" || fs.NArg() > 0 {
+		fmt.Fprintln(env.stderr, "undercool monitor: --port is required (and no other arguments)")
+		return errUsage
+	}
+	if err := mode.Check(); err != nil {
+		return fmt.Errorf("--baud/--frame: %w", err)
+	}
+	cfg := acquire.Config{Port: *port, Thermocouple: *tc}
+	if *cj != "" {
+		v, err := strconv.ParseFloat(*cj, 64)
+		if err != nil {
+			return fmt.Errorf("--cj %q: not a temperature in °C", *cj)
+		}
+		cfg.ColdJunctionC, cfg.ColdJunctionSet = v, true
+	}
+	dir := *data
+	if dir == "" {
+		p, err := store.DefaultPath(env.getenv)
+		if err != nil {
+			return err
+		}
+		dir = filepath.Dir(p)
+	}
+	return runDashboard(ctx, env, dashboard{
+		dir: dir, limitsPath: *limitsPath, title: "monitor · " + *port,
+		open: acquire.SerialOpener(*port, mode), cfg: cfg,
+	})
+}
+
+// dashboard is one live session: a source of lines, the acquirer over it,
+// the records and the screen (or lines when there is no terminal).
+type dashboard struct {
+	dir        string
+	limitsPath string
+	title      string
+	open       acquire.Opener
+	cfg        acquire.Config
+	simulated  bool
+	maxSamples int // lines mode: stop after this many samples (0: no limit)
+	// feed, when set, runs beside the acquirer (the simulated deck) until
+	// the session ends.
+	feed func(ctx context.Context) error
+}
+
+// isTerminal reports whether both ends are a terminal.
+func isTerminal(env *environ) bool {
+	in, ok1 := env.stdin.(*os.File)
+	out, ok2 := env.stdout.(*os.File)
+	return ok1 && ok2 && term.IsTerminal(in.Fd()) && term.IsTerminal(out.Fd())
+}
+
+func runDashboard(ctx context.Context, env *environ, d dashboard) error {
+	curves := filepath.Join(d.dir, "curves")
+	if err := os.MkdirAll(curves, 0o755); err != nil {
+		return fmt.Errorf("data directory: %w", err)
+	}
+	logf, err := os.OpenFile(filepath.Join(d.dir, "undercool.log"), os.O_CREATE|os.O_APPEND|os.O_WRONLY, 0o644)
+	if err != nil {
+		return fmt.Errorf("log file: %w", err)
+	}
+	defer logf.Close()
+	book, saver, err := loadLimits(d.limitsPath)
+	if err != nil {
+		return err
+	}
+	db, err := store.Open(ctx, filepath.Join(d.dir, "records.db"))
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+
+	d.cfg.Dir = curves
+	acq := acquire.New(d.open, d.cfg)
+	runCtx, cancel := context.WithCancel(ctx)
+	var wg sync.WaitGroup
+	var acqErr error
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		acqErr = acq.Run(runCtx)
+	}()
+	if d.feed != nil {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			if err := d.feed(runCtx); err != nil && !errors.Is(err, context.Canceled) {
+				fmt.Fprintf(logf, "%s feed: %v\n", time.Now().Format(time.RFC3339), err)
+			}
+		}()
+	}
+	opt := tui.Options{
+		Source: acq, Title: d.title, Limits: book, SaveLimits: saver,
+		Records:   tui.StoreRecords{DB: db, Simulated: d.simulated},
+		ReadCurve: curvefile.ReadFile, Log: logf,
+	}
+	if isTerminal(env) {
+		err = tui.Run(runCtx, opt, env.stdin, env.stdout)
+	} else {
+		err = tui.Lines(runCtx, opt, env.stdout, d.maxSamples)
+	}
+	cancel()
+	wg.Wait()
+	if err != nil {
+		return err
+	}
+	if acqErr != nil && !errors.Is(acqErr, context.Canceled) {
+		return acqErr
+	}
+	return nil
+}
+
+// loadLimits reads the limits file, or takes the built-in examples (which
+// cannot be saved back).
+func loadLimits(path string) (*limits.Book, tui.LimitsSaver, error) {
+	if path == "" {
+		return limits.Builtin(), nil, nil
+	}
+	b, err := limits.Load(path)
+	if err != nil {
+		return nil, nil, err
+	}
+	return b, limitsSaver(path), nil
+}
+
+// limitsSaver saves an edited book to path with limits.Save (backup and
+// change log beside it).
+func limitsSaver(path string) tui.LimitsSaver {
+	return func(_ context.Context, b *limits.Book) (string, error) {
+		if err := limits.Save(path, b); err != nil {
+			return "", err
+		}
+		return path, nil
+	}
+}

@@ -1,0 +1,90 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"path/filepath"
+	"sync"
+
+	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/tui"
+)
+
+func init() {
+	register(command{
+		name:    "replay",
+		summary: "run a curve file through the live dashboard at 1x to 50x, or straight to the end",
+		run:     runReplay,
+	})
+}
+
+func runReplay(ctx context.Context, env *environ, args []string) error {
+	fs := flag.NewFlagSet("replay", flag.ContinueOnError)
+	fs.SetOutput(env.stderr)
+	speed := fs.Float64("speed", 10, "how many times faster than it was recorded (1 to 50)")
+	end := fs.Bool("end", false, "go straight to the end of the file")
+	limitsPath := fs.String("limits", "", "limits file (default: the built-in examples)")
+	fs.Usage = func() {
+		fmt.Fprintln(env.stderr, "usage: undercool replay FILE [--speed X | --end] [--limits FILE]")
+		fs.PrintDefaults()
+	}
+	// Accept options before or after the file name.
+	var files []string
+	rest := args
+	for {
+		if err := fs.Parse(rest); err != nil {
+			if errors.Is(err, flag.ErrHelp) {
+				return nil
+			}
+			return errUsage
+		}
+		if fs.NArg() == 0 {
+			break
+		}
+		files = append(files, fs.Arg(0))
+		rest = fs.Args()[1:]
+	}
+	if len(files) != 1 {
+		fmt.Fprintln(env.stderr, "undercool replay: give exactly one curve file")
+		return errUsage
+	}
+	if *speed < 1 || *speed > 50 {
+		fmt.Fprintf(env.stderr, "undercool replay: --speed %g: use 1 to 50\n", *speed)
+		return errUsage
+	}
+	path := files[0]
+	curve, err := curvefile.ReadFile(path)
+	if err != nil {
+		return err
+	}
+	if len(curve.Time) == 0 {
+		return fmt.Errorf("%s: no readings to replay", path)
+	}
+	book, saver, err := loadLimits(*limitsPath)
+	if err != nil {
+		return err
+	}
+	abs, _ := filepath.Abs(path)
+	src := tui.NewReplay(curve, abs, curve.Get("channel"), *speed)
+	if *end {
+		src.SkipToEnd()
+	}
+	runCtx, cancel := context.WithCancel(ctx)
+	var wg sync.WaitGroup
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		src.Run(runCtx)
+	}()
+	opt := tui.Options{Source: src, Title: "replay · " + filepath.Base(path), Limits: book, SaveLimits: saver, ReadCurve: curvefile.ReadFile}
+	if isTerminal(env) {
+		err = tui.Run(runCtx, opt, env.stdin, env.stdout)
+	} else {
+		err = tui.Lines(runCtx, opt, env.stdout, 1)
+	}
+	cancel()
+	wg.Wait()
+	return err
+}
