@@ -588,26 +588,7 @@ func (a *Acquirer) info(l *Line) {
 		a.applyForm(ch, form)
 	}
 	a.event(Event{Kind: EventDeviceInfo, Channel: ch, TimeS: a.tb.last, Info: info,
-		Text: "device: " + string(trimSpace(l.rawInfo()))})
-}
-
-func (l *Line) rawInfo() []byte {
-	var b []byte
-	for i, kv := range l.Info {
-		if i > 0 {
-			b = append(b, ' ')
-		}
-		b = append(b, kv.Key...)
-		b = append(b, '=')
-		if indexByte([]byte(kv.Value), ' ') >= 0 || kv.Value == "" {
-			b = append(b, '"')
-			b = append(b, kv.Value...)
-			b = append(b, '"')
-		} else {
-			b = append(b, kv.Value...)
-		}
-	}
-	return b
+		Text: "device:" + string(AppendLine(nil, *l)[1:])})
 }
 
 func (a *Acquirer) deviceTC(name string) {

@@ -40,8 +40,19 @@ func (f *Framer) Reset() {
 }
 
 // Split implements bufio.SplitFunc. Empty lines are returned as empty,
-// non-nil tokens.
+// non-nil tokens. Dropped lines are skipped within the call (a Scanner
+// stops at the end of the stream when a call returns no token).
 func (f *Framer) Split(data []byte, atEOF bool) (advance int, token []byte, err error) {
+	for {
+		n, tok := f.split1(data[advance:], atEOF)
+		advance += n
+		if tok != nil || n == 0 || advance == len(data) {
+			return advance, tok, nil
+		}
+	}
+}
+
+func (f *Framer) split1(data []byte, atEOF bool) (advance int, token []byte) {
 	start := 0
 	if f.afterCR && len(data) > 0 {
 		f.afterCR = false
@@ -64,27 +75,27 @@ func (f *Framer) Split(data []byte, atEOF bool) (advance int, token []byte, err 
 		}
 		if f.discarding {
 			f.discarding = false
-			return i + 1, nil, nil
+			return i + 1, nil
 		}
 		if i-start > MaxLineLen {
 			f.Overlong.Add(1)
-			return i + 1, nil, nil
+			return i + 1, nil
 		}
-		return i + 1, data[start:i:i], nil
+		return i + 1, data[start:i:i]
 	}
 	rest := len(data) - start
 	switch {
 	case f.discarding:
-		return len(data), nil, nil
+		return len(data), nil
 	case rest > MaxLineLen:
 		f.discarding = true
 		f.Overlong.Add(1)
-		return len(data), nil, nil
+		return len(data), nil
 	case atEOF && rest > 0:
 		f.Partial.Add(1)
-		return len(data), nil, nil
+		return len(data), nil
 	}
-	return start, nil, nil
+	return start, nil
 }
 
 // LineKind tells what a parsed line holds.
@@ -340,8 +351,8 @@ func (l *Line) InfoValue(key string) string {
 var smallChannels = [...]string{"1", "2", "3", "4", "5", "6", "7", "8"}
 
 func parseChannel(v []byte) (string, error) {
-	if len(v) > 8 {
-		return "", fmt.Errorf("channel id %q is longer than 8 characters", v)
+	if len(v) > 16 {
+		return "", fmt.Errorf("channel id %q is longer than 16 characters", v)
 	}
 	for _, c := range v {
 		if !isIDByte(c) {
@@ -500,4 +511,67 @@ func countBits(x uint8) int {
 		n++
 	}
 	return n
+}
+
+// AppendLine appends l in protocol form (without a terminator or
+// checksum): the inverse of ParseLine, used by fake devices in tests and as
+// a reference for firmware writers. Numbers are written in their shortest
+// exact form.
+func AppendLine(b []byte, l Line) []byte {
+	switch l.Kind {
+	case LineBlank:
+		return b
+	case LineInfo:
+		b = append(b, '!')
+		for _, kv := range l.Info {
+			b = append(b, ' ')
+			b = append(b, kv.Key...)
+			b = append(b, '=')
+			if kv.Value == "" || indexByte([]byte(kv.Value), ' ') >= 0 || indexByte([]byte(kv.Value), '\t') >= 0 {
+				b = append(b, '"')
+				b = append(b, kv.Value...)
+				b = append(b, '"')
+			} else {
+				b = append(b, kv.Value...)
+			}
+		}
+		return b
+	}
+	if l.Plain {
+		return strconv.AppendFloat(b, l.TempC, 'g', -1, 64)
+	}
+	start := len(b)
+	sep := func() {
+		if len(b) > start {
+			b = append(b, ' ')
+		}
+	}
+	if l.Channel != "" && l.Channel != "1" {
+		b = append(b, "ch="...)
+		b = append(b, l.Channel...)
+	}
+	if l.HasMS {
+		sep()
+		b = append(b, "ms="...)
+		b = strconv.AppendUint(b, l.MS, 10)
+	}
+	switch {
+	case l.Fault != FaultNone:
+		sep()
+		b = append(b, "f="...)
+		b = append(b, l.Fault.String()...)
+	case l.HasEMF:
+		sep()
+		b = append(b, "mv="...)
+		b = strconv.AppendFloat(b, l.EMFmV, 'g', -1, 64)
+	default:
+		sep()
+		b = append(b, "c="...)
+		b = strconv.AppendFloat(b, l.TempC, 'g', -1, 64)
+	}
+	if l.HasCJ {
+		b = append(b, " cj="...)
+		b = strconv.AppendFloat(b, l.ColdJctC, 'g', -1, 64)
+	}
+	return b
 }

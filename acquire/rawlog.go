@@ -424,4 +424,3 @@ func cmpOr(a, b error) error {
 	}
 	return b
 }
-

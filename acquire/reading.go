@@ -10,11 +10,11 @@ type Flag uint16
 
 // Reading flags.
 const (
-	FlagOpen     Flag = 1 << iota // thermocouple open circuit reported by the device
-	FlagFault                     // other device fault (short, out of range)
-	FlagGapAfter                  // the connection dropped before the next reading (see Acquirer, "gaps")
-	FlagEMF                       // converted on the host from a raw EMF reading
-	FlagGapBefore                 // the first reading of its channel after a reconnection
+	FlagOpen      Flag = 1 << iota // thermocouple open circuit reported by the device
+	FlagFault                      // other device fault (short, out of range)
+	FlagGapAfter                   // the connection dropped before the next reading (see Acquirer, "gaps")
+	FlagEMF                        // converted on the host from a raw EMF reading
+	FlagGapBefore                  // the first reading of its channel after a reconnection
 )
 
 // String lists the flags as the curve files write them, joined by '|':
