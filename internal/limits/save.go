@@ -34,38 +34,37 @@ func Save(path string, b *Book) error {
 	if _, err := Parse(text, path); err != nil && saved.CalibrationFile == "" {
 		return fmt.Errorf("limits: not saved, the encoded text does not read back: %w", err)
 	}
-	old, err := os.ReadFile(path)
-	switch {
-	case err == nil:
-		bak := fmt.Sprintf("%s.%s.bak", path, t.Format("20060102T150405Z"))
-		for i := 1; exists(bak); i++ {
-			bak = fmt.Sprintf("%s.%s-%d.bak", path, t.Format("20060102T150405Z"), i)
-		}
-		if err := writeFile(bak, old); err != nil {
-			return fmt.Errorf("limits: backup before saving: %w", err)
-		}
-	case os.IsNotExist(err):
-		old = nil
-	default:
-		return fmt.Errorf("limits: %w", err)
+	old, err := backup(path, t)
+	if err != nil {
+		return err
 	}
 	if err := writeFile(path, text); err != nil {
 		return fmt.Errorf("limits: %w", err)
 	}
 	b.Edited = saved.Edited
-	entry := fmt.Sprintf("%s\t%s\tversion %s\t%s\n", saved.Edited, or(saved.EditedBy, "unknown editor"), or(saved.Version, "-"), strings.Join(changes(old, text), "; "))
-	f, err := os.OpenFile(path+".log", os.O_APPEND|os.O_CREATE|os.O_WRONLY, 0o644)
+	return appendLog(path, fmt.Sprintf("%s\t%s\tversion %s\t%s\n", saved.Edited, or(saved.EditedBy, "unknown editor"),
+		or(saved.Version, "-"), strings.Join(changes(old, text), "; ")))
+}
+
+// backup copies an existing file to PATH.<time>.bak (never overwriting an
+// older backup) and returns its old contents; nil when there was no file.
+func backup(path string, t time.Time) ([]byte, error) {
+	old, err := os.ReadFile(path)
+	if os.IsNotExist(err) {
+		return nil, nil
+	}
 	if err != nil {
-		return fmt.Errorf("limits: saved, but the change log: %w", err)
+		return nil, fmt.Errorf("limits: %w", err)
 	}
-	_, err = f.WriteString(entry)
-	if cerr := f.Close(); err == nil {
-		err = cerr
+	stamp := t.Format("20060102T150405Z")
+	bak := fmt.Sprintf("%s.%s.bak", path, stamp)
+	for i := 1; exists(bak); i++ {
+		bak = fmt.Sprintf("%s.%s-%d.bak", path, stamp, i)
 	}
-	if err != nil {
-		return fmt.Errorf("limits: saved, but the change log: %w", err)
+	if err := writeFile(bak, old); err != nil {
+		return nil, fmt.Errorf("limits: backup before saving: %w", err)
 	}
-	return nil
+	return old, nil
 }
 
 func exists(p string) bool { _, err := os.Stat(p); return err == nil }
@@ -323,4 +322,40 @@ func quoteKey(k string) string {
 		return `""`
 	}
 	return k
+}
+
+// SaveCalibration writes a file holding only a [calibration] table (what
+// `undercool calibrate --out` writes, for a limits file's calibration_file),
+// keeping a timestamped backup of an existing file and logging the change in
+// PATH.log, as Save does.
+func SaveCalibration(path string, c *Calibration) error {
+	var w bytes.Buffer
+	w.WriteString("# undercool shop calibration, fitted by `undercool calibrate` to the shop's own pairs of cup\n")
+	w.WriteString("# results and spectrometer analyses. Name it in the limits file with calibration_file = \"...\".\n")
+	w.WriteString("# Check the fit quality figures below with the shop's metallurgist before use.\n")
+	EncodeCalibration(&w, c)
+	t := now().UTC()
+	old, err := backup(path, t)
+	if err != nil {
+		return err
+	}
+	if err := writeFile(path, w.Bytes()); err != nil {
+		return fmt.Errorf("limits: %w", err)
+	}
+	return appendLog(path, fmt.Sprintf("%s\tundercool calibrate\tpairs %s\t%s\n", t.Format(time.RFC3339), c.Pairs, strings.Join(changes(old, w.Bytes()), "; ")))
+}
+
+func appendLog(path, entry string) error {
+	f, err := os.OpenFile(path+".log", os.O_APPEND|os.O_CREATE|os.O_WRONLY, 0o644)
+	if err != nil {
+		return fmt.Errorf("limits: saved, but the change log: %w", err)
+	}
+	_, err = f.WriteString(entry)
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err != nil {
+		return fmt.Errorf("limits: saved, but the change log: %w", err)
+	}
+	return nil
 }

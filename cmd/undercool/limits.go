@@ -1,0 +1,234 @@
+package main
+
+import (
+	"cmp"
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/undercool-foundry/undercool/internal/limits"
+)
+
+func init() {
+	register(command{
+		name:    "limits",
+		summary: "check, show or start a per-alloy limits file (check FILE, show [ALLOY], init FILE)",
+		run:     runLimits,
+	})
+}
+
+const limitsUsage = `usage:
+  undercool limits check FILE...           validate limits files (errors name file, line and key)
+  undercool limits show [ALLOY] [--limits FILE] [--metrics]
+                                           show the alloys, or one alloy's bands and advice
+  undercool limits init FILE               write the shipped example file to edit
+
+Without --limits, show uses the shipped examples, whose numbers the shop's
+metallurgist must set before use.`
+
+func runLimits(ctx context.Context, env *environ, args []string) error {
+	if len(args) == 0 {
+		fmt.Fprintln(env.stderr, limitsUsage)
+		return errUsage
+	}
+	switch args[0] {
+	case "check":
+		return limitsCheck(env, args[1:])
+	case "show":
+		return limitsShow(env, args[1:])
+	case "init":
+		return limitsInit(env, args[1:])
+	case "-h", "--help", "help":
+		fmt.Fprintln(env.stdout, limitsUsage)
+		return nil
+	}
+	fmt.Fprintf(env.stderr, "undercool limits: unknown action %q\n%s\n", args[0], limitsUsage)
+	return errUsage
+}
+
+// parseLimitsArgs parses flags that may come before or after the
+// positional arguments.
+func parseLimitsArgs(fs *flag.FlagSet, args []string) ([]string, error) {
+	var pos []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			return nil, err
+		}
+		if fs.NArg() == 0 {
+			return pos, nil
+		}
+		pos = append(pos, fs.Arg(0))
+		args = fs.Args()[1:]
+	}
+}
+
+func limitsCheck(env *environ, args []string) error {
+	fs := flag.NewFlagSet("limits check", flag.ContinueOnError)
+	fs.SetOutput(env.stderr)
+	files, err := parseLimitsArgs(fs, args)
+	if err != nil {
+		return errUsage
+	}
+	if len(files) == 0 {
+		fmt.Fprintln(env.stderr, "undercool limits check: name at least one FILE")
+		return errUsage
+	}
+	bad := 0
+	for _, f := range files {
+		b, err := limits.Load(f)
+		if err != nil {
+			bad++
+			for _, line := range strings.Split(err.Error(), "\n") {
+				fmt.Fprintln(env.stderr, line)
+			}
+			continue
+		}
+		fmt.Fprintf(env.stdout, "%s: ok: version %s, edited %s, %d alloys (%s)\n", f, b.Version, cmp.Or(b.Edited, "-"), len(b.Alloys), strings.Join(b.Names(), ", "))
+	}
+	if bad > 0 {
+		return exitError{1}
+	}
+	return nil
+}
+
+func limitsShow(env *environ, args []string) error {
+	fs := flag.NewFlagSet("limits show", flag.ContinueOnError)
+	fs.SetOutput(env.stderr)
+	file := fs.String("limits", "", "limits file (default: the shipped examples)")
+	metrics := fs.Bool("metrics", false, "list every metric a limit can be set on")
+	pos, err := parseLimitsArgs(fs, args)
+	if err != nil || len(pos) > 1 {
+		return errUsage
+	}
+	if *metrics {
+		tw := tabwriter.NewWriter(env.stdout, 2, 4, 2, ' ', 0)
+		fmt.Fprintln(tw, "METRIC\tUNIT\tMEANING")
+		for _, m := range limits.Metrics() {
+			fmt.Fprintf(tw, "%s\t%s\t%s\n", m.Name, cmp.Or(m.Unit, "-"), m.Label)
+		}
+		return tw.Flush()
+	}
+	book := limits.Builtin()
+	if *file != "" {
+		if book, err = limits.Load(*file); err != nil {
+			return err
+		}
+	}
+	fmt.Fprintf(env.stdout, "limits: %s  version %s  edited %s by %s\n", book.Source, book.Version, cmp.Or(book.Edited, "-"), cmp.Or(book.EditedBy, "-"))
+	if book.Note != "" {
+		fmt.Fprintf(env.stdout, "note: %s\n", book.Note)
+	}
+	if len(pos) == 0 {
+		tw := tabwriter.NewWriter(env.stdout, 2, 4, 2, ' ', 0)
+		fmt.Fprintln(tw, "\nALLOY\tFAMILY\tMETRICS\tDESCRIPTION")
+		for _, n := range book.Names() {
+			a := book.Alloys[n]
+			fmt.Fprintf(tw, "%s\t%s\t%d\t%s\n", n, a.Family, len(a.Metrics), a.Description)
+		}
+		return tw.Flush()
+	}
+	a, ok := book.Alloy(pos[0])
+	if !ok {
+		return fmt.Errorf("no alloy %q in %s (it has: %s)", pos[0], book.Source, strings.Join(book.Names(), ", "))
+	}
+	return showAlloy(env.stdout, book, a)
+}
+
+func showAlloy(w io.Writer, book *limits.Book, a *limits.Alloy) error {
+	fmt.Fprintf(w, "\n%s (%s): %s\n", a.Name, a.Family, a.Description)
+	if len(a.Chemistry) > 0 {
+		var parts []string
+		for _, el := range limits.Elements {
+			if v, ok := a.Chemistry[el]; ok {
+				parts = append(parts, fmt.Sprintf("%s %g", strings.ToUpper(el[:1])+el[1:], v))
+			}
+		}
+		fmt.Fprintf(w, "nominal chemistry, wt %% (used when a curve carries none): %s\n", strings.Join(parts, ", "))
+	}
+	switch a.Family {
+	case "iron", "white":
+		e := a.Eutectic()
+		st, mst := a.Offsets()
+		fmt.Fprintf(w, "stable eutectic Tst = %g %+g·Si %+g·P − %g; metastable Tmst = %g %+g·Si %+g·P − %g (°C)\n",
+			e.StableBase, e.StableSi, e.StableP, st, e.MetaBase, e.MetaSi, e.MetaP, mst)
+		r, _ := book.LiquidusCE(a.CELRegressionName())
+		fmt.Fprintf(w, "carbon equivalent from the liquidus: %s, TL = %g − %g·CEL (%s)\n", a.CELRegressionName(), r.A, r.B, r.Source)
+		if a.Family == "white" {
+			wc, shop := book.WhiteCup(a)
+			src := "formula (inverted eutectic and Heine relations)"
+			if shop {
+				src = "shop calibration"
+			}
+			fmt.Fprintf(w, "tellurium cup, %s: Si = %.4g %+.4g·T_white; C = %.4g %+.4g·TL %+.4g·Si %+.4g·P\n", src, wc.SiA, wc.SiB, wc.CA, wc.CTL, wc.CSi, wc.CP)
+		}
+	case "aluminum":
+		m := a.AlSi()
+		fmt.Fprintf(w, "liquidus = %g + Σ %v·wt %%; unmodified eutectic = %g − (%g/Si)·Σ %v·wt %% − %g (°C)\n",
+			m.LiquidusBase, m.LiquidusSlope, m.EutecticBase, m.EutecticSiRef, m.Depressor, m.EutecticOffset)
+	case "pure":
+		if a.Reference.FixedPointC != nil {
+			fmt.Fprintf(w, "fixed point (ITS-90): %.3f °C\n", *a.Reference.FixedPointC)
+		}
+	}
+	if c, o, metric, ok := a.PotencyModel(a.Family); ok {
+		fmt.Fprintf(w, "nucleation potency: ΔT from %s, %s constants, onset %s (an effective, ranking figure)\n", metric, c.Name, cmp.Or(o.Mode, "hom-ratio"))
+	}
+	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
+	fmt.Fprintln(tw, "\nMETRIC\tPASS\tMARGINAL\tREQUIRED\tADVICE WHEN OUT")
+	for _, c := range a.Evaluate(limits.Sample{Complete: true}).Checks {
+		mi, _ := limits.Metric(c.Metric)
+		req := ""
+		if c.Required {
+			req = "yes"
+		}
+		l := a.Metrics[c.Metric]
+		advice := []string{}
+		if l.Low != "" {
+			advice = append(advice, "low: "+l.Low)
+		}
+		if l.High != "" {
+			advice = append(advice, "high: "+l.High)
+		}
+		if l.Missing != "" {
+			advice = append(advice, "missing: "+l.Missing)
+		}
+		unit := ""
+		if mi.Unit != "" {
+			unit = " " + mi.Unit
+		}
+		fmt.Fprintf(tw, "%s\t%s%s\t%s%s\t%s\t%s\n", c.Metric, limits.FormatBand(mi, c.Pass), unit, limits.FormatBand(mi, c.Marginal), unit, req, strings.Join(advice, " | "))
+	}
+	return tw.Flush()
+}
+
+func limitsInit(env *environ, args []string) error {
+	fs := flag.NewFlagSet("limits init", flag.ContinueOnError)
+	fs.SetOutput(env.stderr)
+	pos, err := parseLimitsArgs(fs, args)
+	if err != nil || len(pos) != 1 {
+		fmt.Fprintln(env.stderr, "undercool limits init: name one FILE to write")
+		return errUsage
+	}
+	path := pos[0]
+	f, err := os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
+	if errors.Is(err, os.ErrExist) {
+		return fmt.Errorf("%s already exists: not overwritten (edit it, or choose another name)", path)
+	}
+	if err != nil {
+		return err
+	}
+	_, err = f.Write(limits.Example())
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err != nil {
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
+	fmt.Fprintf(env.stdout, "wrote %s: EXAMPLE numbers only; the shop's metallurgist must set every limit, then run 'undercool limits check %s'\n", path, path)
+	return nil
+}

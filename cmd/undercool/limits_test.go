@@ -1,0 +1,75 @@
+package main
+
+import (
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+
+	"github.com/undercool-foundry/undercool/internal/limits"
+)
+
+func TestLimitsInitCheckShow(t *testing.T) {
+	p := filepath.Join(t.TempDir(), "shop.toml")
+	code, out, errs := decisionRun(t, "limits", "init", p)
+	if code != 0 || !strings.Contains(out, "EXAMPLE numbers only") {
+		t.Fatalf("init: exit %d %s %s", code, out, errs)
+	}
+	// init never overwrites.
+	if code, _, errs := decisionRun(t, "limits", "init", p); code != 1 || !strings.Contains(errs, "already exists") {
+		t.Errorf("second init: exit %d %s", code, errs)
+	}
+	code, out, _ = decisionRun(t, "limits", "check", p)
+	if code != 0 || !strings.Contains(out, p+": ok: version example-1") || !strings.Contains(out, "grey-iron") {
+		t.Errorf("check: exit %d %s", code, out)
+	}
+	code, out, _ = decisionRun(t, "limits", "show", "grey-iron", "--limits", p)
+	for _, want := range []string{"grey-iron (iron)", "eutectic_min_c", "≥ 1142.0 °C", "≥ 1138.0 °C", "koriyama2020", "Consider a late"} {
+		if code != 0 || !strings.Contains(out, want) {
+			t.Errorf("show lacks %q (exit %d):\n%s", want, code, out)
+		}
+	}
+	code, out, _ = decisionRun(t, "limits", "show")
+	if code != 0 || !strings.Contains(out, "built-in") || !strings.Contains(out, "pure-zn") {
+		t.Errorf("show all: %d %s", code, out)
+	}
+	code, out, _ = decisionRun(t, "limits", "show", "--metrics")
+	if code != 0 || !strings.Contains(out, "eutectic_depression_c") {
+		t.Errorf("show --metrics: %d %s", code, out)
+	}
+	if code, _, errs := decisionRun(t, "limits", "show", "steel"); code != 1 || !strings.Contains(errs, `no alloy "steel"`) {
+		t.Errorf("unknown alloy: %d %s", code, errs)
+	}
+}
+
+func TestLimitsCheckErrors(t *testing.T) {
+	bad := strings.Replace(string(limits.Example()), "marginal_min = 1138.0", "marginal_min = 1150.0", 1)
+	bad = strings.Replace(bad, "pass_max = 10.0", "pass_max = 10.0\npass_maks = 11.0", 1)
+	p := filepath.Join(t.TempDir(), "bad.toml")
+	if err := os.WriteFile(p, []byte(bad), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, _, errs := decisionRun(t, "limits", "check", p)
+	if code != 1 || !strings.Contains(errs, p+":") || !strings.Contains(errs, "pass_maks: unknown key") {
+		t.Errorf("exit %d, stderr %q", code, errs)
+	}
+	good := strings.Replace(string(limits.Example()), "pass_max = 10.0", "pass_max = 10.0", 1)
+	good = strings.Replace(good, "marginal_min = 1138.0", "marginal_min = 1150.0", 1)
+	if err := os.WriteFile(p, []byte(good), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, _, errs = decisionRun(t, "limits", "check", p)
+	// line of the marginal_min key in the shipped file
+	line := 1 + strings.Count(good[:strings.Index(good, "marginal_min = 1150.0")], "\n")
+	want := p + ":" + strconv.Itoa(line) + ": alloy.grey-iron.metric.eutectic_min_c.marginal_min: 1150 is above pass_min 1142"
+	if code != 1 || !strings.Contains(errs, want) {
+		t.Errorf("exit %d, stderr %q, want %q", code, errs, want)
+	}
+	if code, _, _ := decisionRun(t, "limits", "check"); code != 2 {
+		t.Errorf("no file: exit %d", code)
+	}
+	if code, _, _ := decisionRun(t, "limits"); code != 2 {
+		t.Errorf("no action: exit %d", code)
+	}
+}
