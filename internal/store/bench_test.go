@@ -1,0 +1,96 @@
+package store
+
+import (
+	"context"
+	"fmt"
+	"path/filepath"
+	"testing"
+	"time"
+)
+
+// constructedSamples gives n constructed samples spread over days days
+// ending at end, alloys cycling.
+func constructedSamples(n, days int, end time.Time) []Sample {
+	alloys := []string{"grey-iron", "ductile-iron", "al-si7mg"}
+	verdicts := []string{"pass", "pass", "marginal", "fail"}
+	step := time.Duration(days) * 24 * time.Hour / time.Duration(n)
+	ss := make([]Sample, n)
+	for i := range ss {
+		a := alloys[i%len(alloys)]
+		ss[i] = Sample{
+			Recorded: end.Add(-time.Duration(n-i) * step),
+			Sample:   fmt.Sprintf("L-%d cup 1", 2000+i), Ladle: fmt.Sprintf("L-%d", 2000+i),
+			Alloy: a, Furnace: "IF-1", Operator: "Ade Okafor", Channel: "1", Thermocouple: "K",
+			CurvePath: fmt.Sprintf("/var/lib/undercool/curves/L-%d.csv", 2000+i), CurveSHA256: fmt.Sprintf("%064x", i),
+			Record: constructedRecord(a, 1140+float64(i%13), verdicts[i%len(verdicts)]), LimitsVersion: "2026-11",
+		}
+	}
+	return ss
+}
+
+// BenchmarkAddSamples10k inserts 10,000 samples (one transaction per batch
+// of 1,000) into a fresh database; target: at most 2 s per op.
+func BenchmarkAddSamples10k(b *testing.B) {
+	ctx := context.Background()
+	ss := constructedSamples(10000, 60, time.Date(2026, 12, 1, 0, 0, 0, 0, time.UTC))
+	dir := b.TempDir()
+	i := 0
+	for b.Loop() {
+		b.StopTimer()
+		db, err := Open(ctx, filepath.Join(dir, fmt.Sprintf("bench%d.db", i)))
+		i++
+		if err != nil {
+			b.Fatal(err)
+		}
+		b.StartTimer()
+		for j := 0; j < len(ss); j += 1000 {
+			if _, err := db.AddSamples(ctx, ss[j:j+1000]); err != nil {
+				b.Fatal(err)
+			}
+		}
+		b.StopTimer()
+		db.Close()
+		b.StartTimer()
+	}
+}
+
+// BenchmarkAddSample is one sample in its own transaction, as the live
+// dashboard stores them.
+func BenchmarkAddSample(b *testing.B) {
+	ctx := context.Background()
+	db, _ := openTemp(b)
+	ss := constructedSamples(1000, 1, time.Date(2026, 12, 1, 0, 0, 0, 0, time.UTC))
+	i := 0
+	for b.Loop() {
+		if _, err := db.AddSample(ctx, ss[i%len(ss)]); err != nil {
+			b.Fatal(err)
+		}
+		i++
+	}
+}
+
+// BenchmarkHistoryMonth queries the last 30 days (150 samples a day, 4,500
+// rows, latest result each) from a database holding 60 days; target: at
+// most 20 ms per op.
+func BenchmarkHistoryMonth(b *testing.B) {
+	ctx := context.Background()
+	db, _ := openTemp(b)
+	end := time.Date(2026, 12, 1, 0, 0, 0, 0, time.UTC)
+	if _, err := db.AddSamples(ctx, constructedSamples(9000, 60, end)); err != nil {
+		b.Fatal(err)
+	}
+	since := end.Add(-30 * 24 * time.Hour)
+	cpu := cpuTime()
+	for b.Loop() {
+		h, err := db.History(ctx, Filter{Since: since})
+		if err != nil {
+			b.Fatal(err)
+		}
+		if len(h) != 4500 {
+			b.Fatalf("%d rows, want 4500", len(h))
+		}
+	}
+	// CPU time as well as wall time: on a shared, loaded machine the
+	// wall time says more about the neighbours than about the query
+	b.ReportMetric(float64(cpuTime()-cpu)/float64(b.N), "cpu-ns/op")
+}

@@ -1,0 +1,432 @@
+package store
+
+import (
+	"context"
+	"database/sql"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io/fs"
+	"math"
+	"strings"
+	"time"
+)
+
+// Filter selects samples for History. Zero fields select everything.
+type Filter struct {
+	Alloy   string
+	Ladle   string
+	Since   time.Time // recorded at or after
+	Until   time.Time // recorded before
+	Verdict string    // of the result shown
+	Limit   int       // at most this many rows (0: no limit)
+
+	// AllResults gives one row for every result of each sample, not only
+	// the latest.
+	AllResults bool
+	// Oldest gives the oldest first (export); the default is newest first.
+	Oldest bool
+	// Full decodes each row's whole stored record (keys that have no
+	// column of their own included) instead of building Result.Record from
+	// the columns; it costs about 20 µs a row.
+	Full bool
+}
+
+// Entry is one row of history: a sample and the result shown with it
+// (in Result; Sample.Record and Sample.LimitsVersion are left empty).
+type Entry struct {
+	Sample Sample
+	Result Result
+}
+
+// summaryColumns are what a history row reads; fullColumns add the rest
+// of the sample and the whole record.
+const (
+	summaryColumns = `s.id, s.recorded_at, s.sample, s.ladle, s.alloy, s.furnace, s.operator, s.interrupted, s.simulated,
+	r.id, r.analysed_at, r.limits_version, r.verdict, r.reasons, r.problems, r.file, r.packed,
+	CASE WHEN r.packed IS NULL THEN r.record END`
+	fullColumns = summaryColumns + `, s.created_at, s.channel, s.thermocouple, s.note, s.curve_path, s.curve_sha256, r.record`
+)
+
+// History returns the samples the filter selects, newest first unless
+// f.Oldest, each with its latest result (every result with f.AllResults).
+// Without f.Full, a row holds the sample's id, times, names and flags
+// (not its channel, thermocouple, note or curve file) and a Result.Record
+// built from the result's columns: every key of the Record of schema
+// version 1 (points and times, samples, rate, problems, verdict); a key the
+// Record gained later is left zero. f.Full gives everything.
+func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
+	var (
+		where []string
+		args  []any
+	)
+	if f.Alloy != "" {
+		where, args = append(where, "s.alloy = ?"), append(args, f.Alloy)
+	}
+	if f.Ladle != "" {
+		where, args = append(where, "s.ladle = ?"), append(args, f.Ladle)
+	}
+	if !f.Since.IsZero() {
+		where, args = append(where, "s.recorded_at >= ?"), append(args, formatTime(f.Since))
+	}
+	if !f.Until.IsZero() {
+		where, args = append(where, "s.recorded_at < ?"), append(args, formatTime(f.Until))
+	}
+	if f.Verdict != "" {
+		where, args = append(where, "r.verdict = ?"), append(args, f.Verdict)
+	}
+	from := " FROM samples s JOIN results r ON r.id = s.latest_result_id"
+	if f.AllResults {
+		from = " FROM samples s JOIN results r ON r.sample_id = s.id"
+	}
+	if len(where) > 0 {
+		from += " WHERE " + strings.Join(where, " AND ")
+	}
+	// count first, so the rows go straight into a slice of the right size
+	var n int
+	if err := db.sql.QueryRowContext(ctx, "SELECT count(*)"+from, args...).Scan(&n); err != nil {
+		return nil, db.fail("reading history from", err)
+	}
+	if f.Limit > 0 && f.Limit < n {
+		n = f.Limit
+	}
+	q := "SELECT " + summaryColumns
+	if f.Full {
+		q = "SELECT " + fullColumns
+	}
+	q += from
+	if f.Oldest {
+		q += " ORDER BY s.recorded_at, s.id, r.id"
+	} else {
+		q += " ORDER BY s.recorded_at DESC, s.id DESC, r.id DESC"
+	}
+	if f.Limit > 0 {
+		q += " LIMIT ?"
+		args = append(args, f.Limit)
+	}
+	rows, err := db.sql.QueryContext(ctx, q, args...)
+	if err != nil {
+		return nil, db.fail("reading history from", err)
+	}
+	defer rows.Close()
+	out := make([]Entry, 0, n)
+	sc := newScanner(f.Full)
+	for rows.Next() {
+		out = append(out, Entry{})
+		if err := sc.scan(rows, &out[len(out)-1]); err != nil {
+			return nil, db.fail("reading history from", err)
+		}
+	}
+	if err := rows.Err(); err != nil {
+		return nil, db.fail("reading history from", err)
+	}
+	return out, nil
+}
+
+// scanner reads entry rows straight into the caller's Entry.
+type scanner struct {
+	recorded, analysed, created string
+	reasons, problems           string
+	packed                      []byte
+	record, fallback            sql.NullString
+	dest                        []any
+	full                        bool
+}
+
+func newScanner(full bool) *scanner {
+	return &scanner{full: full, dest: make([]any, 0, 32)}
+}
+
+func (sc *scanner) scan(rows *sql.Rows, e *Entry) error {
+	s, r := &e.Sample, &e.Result
+	sc.dest = append(sc.dest[:0], &s.ID, &sc.recorded, &s.Sample, &s.Ladle, &s.Alloy, &s.Furnace, &s.Operator, &s.Interrupted, &s.Simulated,
+		&r.ID, &sc.analysed, &r.LimitsVersion, &r.Verdict, &sc.reasons, &sc.problems, &r.Record.File, &sc.packed, &sc.fallback)
+	if sc.full {
+		sc.dest = append(sc.dest, &sc.created, &s.Channel, &s.Thermocouple, &s.Note, &s.CurvePath, &s.CurveSHA256, &sc.record)
+	}
+	if err := rows.Scan(sc.dest...); err != nil {
+		return err
+	}
+	r.SampleID = s.ID
+	var err error
+	if s.Recorded, err = parseTime(sc.recorded); err != nil {
+		return err
+	}
+	if r.Analysed, err = parseTime(sc.analysed); err != nil {
+		return err
+	}
+	r.Reasons = splitLines(sc.reasons)
+	switch {
+	case sc.full || sc.fallback.Valid:
+		js := sc.record.String
+		if !sc.full {
+			js = sc.fallback.String
+		}
+		if err := json.Unmarshal([]byte(js), &r.Record); err != nil {
+			return fmt.Errorf("result %d: record: %w", r.ID, err)
+		}
+	default:
+		rec := &r.Record
+		rec.Alloy, rec.Verdict, rec.Problems = s.Alloy, r.Verdict, splitLines(sc.problems)
+		if err := unpackNumbers(sc.packed, rec); err != nil {
+			return fmt.Errorf("result %d: %w", r.ID, err)
+		}
+	}
+	if sc.full {
+		if s.Created, err = parseTime(sc.created); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// Get returns one sample, with its latest result in Sample.Record, and all
+// its results, oldest first, each with its whole stored record. A missing
+// id gives an error wrapping ErrNoSample.
+func (db *DB) Get(ctx context.Context, id int64) (Sample, []Result, error) {
+	rows, err := db.sql.QueryContext(ctx, "SELECT "+fullColumns+
+		" FROM samples s JOIN results r ON r.sample_id = s.id WHERE s.id = ? ORDER BY r.id", id)
+	if err != nil {
+		return Sample{}, nil, db.fail("reading", err)
+	}
+	defer rows.Close()
+	var (
+		s   Sample
+		res []Result
+	)
+	sc := newScanner(true)
+	for rows.Next() {
+		var e Entry
+		if err := sc.scan(rows, &e); err != nil {
+			return Sample{}, nil, db.fail("reading", err)
+		}
+		s = e.Sample
+		s.Record, s.LimitsVersion = e.Result.Record, e.Result.LimitsVersion
+		res = append(res, e.Result)
+	}
+	if err := rows.Err(); err != nil {
+		return Sample{}, nil, db.fail("reading", err)
+	}
+	if len(res) == 0 {
+		return Sample{}, nil, fmt.Errorf("store: database %s: sample %d: %w", db.path, id, ErrNoSample)
+	}
+	return s, res, nil
+}
+
+// TrendPoint is one sample's value of a metric.
+type TrendPoint struct {
+	SampleID int64
+	Time     time.Time // when the sample was taken
+	Sample   string
+	Ladle    string
+	Value    float64
+	Verdict  string
+	// Beyond is true when Value lies outside the SPC control limits.
+	Beyond bool
+}
+
+// SPC is the statistical process control summary of a series of
+// individual values (one per sample), as for an individuals (X) chart
+// (Montgomery, Introduction to Statistical Quality Control, ch. 6, the
+// individuals and moving range chart) (memory):
+//
+//	Mean  = Σx/n
+//	SD    = sqrt(Σ(x−Mean)²/(n−1))        sample standard deviation
+//	MRBar = Σ|x_i − x_{i−1}|/(n−1)        mean moving range of span 2
+//	Sigma = MRBar/d2, d2 = 1.128 (n = 2)  short-term σ estimate
+//	UCL, LCL = Mean ± 3·Sigma
+//
+// The moving-range σ is the textbook choice for individuals: it reflects
+// sample-to-sample variation and is not inflated by a drift across the
+// shift, which the chart is there to show. With fewer than two values the
+// spread and limits are NaN.
+type SPC struct {
+	N        int
+	Mean     float64
+	SD       float64
+	MRBar    float64
+	Sigma    float64
+	UCL, LCL float64
+}
+
+// d2 is the bias-correction constant of the range of two observations
+// (Montgomery, Appendix table VI: d2 = 1.128 for n = 2) (memory).
+const d2 = 1.128
+
+// ComputeSPC summarises values in the order given (time order for the
+// moving range).
+func ComputeSPC(values []float64) SPC {
+	s := SPC{N: len(values), Mean: math.NaN(), SD: math.NaN(), MRBar: math.NaN(), Sigma: math.NaN(), UCL: math.NaN(), LCL: math.NaN()}
+	if s.N == 0 {
+		return s
+	}
+	var sum float64
+	for _, v := range values {
+		sum += v
+	}
+	s.Mean = sum / float64(s.N)
+	if s.N < 2 {
+		return s
+	}
+	var ss, mr float64
+	for i, v := range values {
+		d := v - s.Mean
+		ss += d * d
+		if i > 0 {
+			mr += math.Abs(v - values[i-1])
+		}
+	}
+	s.SD = math.Sqrt(ss / float64(s.N-1))
+	s.MRBar = mr / float64(s.N-1)
+	s.Sigma = s.MRBar / d2
+	s.UCL = s.Mean + 3*s.Sigma
+	s.LCL = s.Mean - 3*s.Sigma
+	return s
+}
+
+// ErrUnknownMetric is returned by Trend for a name not in Metrics().
+var ErrUnknownMetric = errors.New("unknown metric")
+
+// Trend returns one alloy's metric (a name from Metrics) for each sample
+// recorded in [since, until) (zero times: unbounded), oldest first, from
+// each sample's latest result; samples where the metric is null are left
+// out. It also gives the series' SPC summary and marks points beyond its
+// control limits.
+func (db *DB) Trend(ctx context.Context, alloy, metric string, since, until time.Time) ([]TrendPoint, SPC, error) {
+	mf, ok := metricByKey(metric)
+	if !ok {
+		return nil, SPC{}, fmt.Errorf("store: trend of %q: %w (known: %s)", metric, ErrUnknownMetric, strings.Join(Metrics(), ", "))
+	}
+	col := "r." + mf.key
+	if !mf.column {
+		col = "json_extract(r.record, '$." + mf.key + "')" // key is a Go struct tag, not user text
+	}
+	where := []string{"s.alloy = ?", col + " IS NOT NULL"}
+	args := []any{alloy}
+	if !since.IsZero() {
+		where, args = append(where, "s.recorded_at >= ?"), append(args, formatTime(since))
+	}
+	if !until.IsZero() {
+		where, args = append(where, "s.recorded_at < ?"), append(args, formatTime(until))
+	}
+	q := "SELECT s.id, s.recorded_at, s.sample, s.ladle, r.verdict, " + col +
+		" FROM samples s JOIN results r ON r.id = s.latest_result_id WHERE " + strings.Join(where, " AND ") +
+		" ORDER BY s.recorded_at, s.id"
+	rows, err := db.sql.QueryContext(ctx, q, args...)
+	if err != nil {
+		return nil, SPC{}, db.fail("reading a trend from", err)
+	}
+	defer rows.Close()
+	var (
+		pts  []TrendPoint
+		vals []float64
+	)
+	for rows.Next() {
+		var (
+			p   TrendPoint
+			rec string
+		)
+		if err := rows.Scan(&p.SampleID, &rec, &p.Sample, &p.Ladle, &p.Verdict, &p.Value); err != nil {
+			return nil, SPC{}, db.fail("reading a trend from", err)
+		}
+		if p.Time, err = parseTime(rec); err != nil {
+			return nil, SPC{}, db.fail("reading a trend from", err)
+		}
+		pts = append(pts, p)
+		vals = append(vals, p.Value)
+	}
+	if err := rows.Err(); err != nil {
+		return nil, SPC{}, db.fail("reading a trend from", err)
+	}
+	spc := ComputeSPC(vals)
+	for i := range pts {
+		pts[i].Beyond = pts[i].Value > spc.UCL || pts[i].Value < spc.LCL
+	}
+	return pts, spc, nil
+}
+
+// CurveState is what Verify found for one sample's curve file.
+type CurveState int
+
+// States of a curve file.
+const (
+	CurveOK         CurveState = iota // contents match the stored hash
+	CurveChanged                      // the file is there but its contents differ
+	CurveMissing                      // the file is gone
+	CurveUnreadable                   // the file is there but cannot be read
+	CurveNone                         // no curve file was recorded for the sample
+)
+
+func (c CurveState) String() string {
+	switch c {
+	case CurveOK:
+		return "ok"
+	case CurveChanged:
+		return "changed"
+	case CurveMissing:
+		return "missing"
+	case CurveUnreadable:
+		return "unreadable"
+	case CurveNone:
+		return "no curve file"
+	}
+	return fmt.Sprintf("CurveState(%d)", int(c))
+}
+
+// Check is Verify's finding for one sample.
+type Check struct {
+	SampleID int64
+	Sample   string
+	Path     string
+	Want     string // stored SHA-256
+	Got      string // SHA-256 now ("" when missing or unreadable)
+	State    CurveState
+	Err      error // why the file could not be read
+}
+
+// Verify re-hashes every sample's curve file and reports each one's state,
+// in sample order.
+func (db *DB) Verify(ctx context.Context) ([]Check, error) {
+	rows, err := db.sql.QueryContext(ctx, `SELECT id, sample, curve_path, curve_sha256 FROM samples ORDER BY id`)
+	if err != nil {
+		return nil, db.fail("reading", err)
+	}
+	var checks []Check
+	for rows.Next() {
+		var c Check
+		if err := rows.Scan(&c.SampleID, &c.Sample, &c.Path, &c.Want); err != nil {
+			rows.Close()
+			return nil, db.fail("reading", err)
+		}
+		checks = append(checks, c)
+	}
+	err = rows.Err()
+	rows.Close()
+	if err != nil {
+		return nil, db.fail("reading", err)
+	}
+	for i := range checks { // hash after the query, so no read transaction stays open meanwhile
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		c := &checks[i]
+		if c.Path == "" {
+			c.State = CurveNone
+			continue
+		}
+		got, err := HashFile(c.Path)
+		switch {
+		case err == nil:
+			c.Got = got
+			c.State = CurveOK
+			if got != c.Want {
+				c.State = CurveChanged
+			}
+		case errors.Is(err, fs.ErrNotExist):
+			c.State = CurveMissing
+		default:
+			c.State, c.Err = CurveUnreadable, err
+		}
+	}
+	return checks, nil
+}

@@ -1,0 +1,356 @@
+// Package store keeps the records of every sample in a SQLite database
+// (modernc.org/sqlite, pure Go, no server): one samples row per finished
+// sample, with its metadata and the SHA-256 of its curve file, and one
+// results row per analysis of it. Re-analysis after a limits change adds a
+// results row and keeps the old one; history shows the latest by default.
+//
+// The database runs in WAL mode with a busy timeout, so the dashboard, a
+// re-analysis and a history query may use it at the same time, from one
+// process or several. Writes are transactions begun IMMEDIATE: a writer
+// killed at any moment leaves the database as it was before its
+// transaction. The schema is built by numbered migrations embedded in the
+// program (migrations/NNNN_name.sql), each applied in its own transaction
+// and counted in the schema_version table.
+package store
+
+import (
+	"context"
+	"database/sql"
+	"embed"
+	"errors"
+	"fmt"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"runtime"
+	"sort"
+	"strconv"
+	"strings"
+	"time"
+
+	"modernc.org/sqlite"
+	sqlite3 "modernc.org/sqlite/lib"
+)
+
+//go:embed migrations/*.sql
+var migrationFiles embed.FS
+
+// DB is an open records database. It is safe for concurrent use.
+type DB struct {
+	sql  *sql.DB
+	path string
+}
+
+// busyTimeoutMS is how long a statement waits for another writer's lock
+// before it gives up with "database is locked".
+const busyTimeoutMS = 15000
+
+// Open opens (creating it and its directory where needed) the database at
+// path and brings its schema up to date. Errors name the path; a directory
+// that cannot be written, or a file that cannot, gives a clear error before
+// anything is written.
+func Open(ctx context.Context, path string) (*DB, error) {
+	return open(ctx, path, -1)
+}
+
+// open is Open with the schema brought only up to version upto (-1: all);
+// tests use it to build databases of every earlier version.
+func open(ctx context.Context, path string, upto int) (*DB, error) {
+	if path == "" {
+		return nil, errors.New("store: no database path given")
+	}
+	if strings.ContainsAny(path, "?#") {
+		return nil, fmt.Errorf("store: database path %q: '?' and '#' are not allowed in the path", path)
+	}
+	if err := checkWritable(path); err != nil {
+		return nil, err
+	}
+	dsn := path + "?_pragma=busy_timeout(" + strconv.Itoa(busyTimeoutMS) + ")" +
+		"&_pragma=foreign_keys(1)&_pragma=journal_mode(WAL)&_pragma=synchronous(FULL)&_pragma=cache_size(-32768)&_pragma=mmap_size(268435456)&_txlock=immediate"
+	sdb, err := sql.Open("sqlite", dsn)
+	if err != nil {
+		return nil, fmt.Errorf("store: opening database %s: %w", path, err)
+	}
+	db := &DB{sql: sdb, path: path}
+	if err := db.ping(ctx); err != nil {
+		sdb.Close()
+		return nil, db.fail("opening", err)
+	}
+	if err := db.migrate(ctx, upto); err != nil {
+		sdb.Close()
+		return nil, err
+	}
+	return db, nil
+}
+
+// ping opens the first connection. Switching a new file to WAL needs a
+// moment alone with it, and SQLite answers SQLITE_BUSY at once (without
+// waiting the busy timeout) when another process is doing the same, so
+// that is retried for as long as the busy timeout.
+func (db *DB) ping(ctx context.Context) error {
+	deadline := time.Now().Add(busyTimeoutMS * time.Millisecond)
+	for {
+		err := db.sql.PingContext(ctx)
+		var se *sqlite.Error
+		if err == nil || !errors.As(err, &se) || se.Code()&0xff != sqlite3.SQLITE_BUSY || time.Now().After(deadline) {
+			return err
+		}
+		select {
+		case <-ctx.Done():
+			return ctx.Err()
+		case <-time.After(20 * time.Millisecond):
+		}
+	}
+}
+
+// checkWritable makes the database's directory and checks that the
+// directory and an existing database file can be written, so a read-only
+// place fails here with a clear error rather than on the first sample.
+func checkWritable(path string) error {
+	dir := filepath.Dir(path)
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return fmt.Errorf("store: database %s: cannot create its directory (choose another place with --db or UNDERCOOL_DB): %w", path, err)
+	}
+	probe, err := os.CreateTemp(dir, ".undercool-probe-*")
+	if err != nil {
+		return fmt.Errorf("store: database %s: its directory %s cannot be written (SQLite needs it for the journal; choose another place with --db or UNDERCOOL_DB): %w", path, dir, err)
+	}
+	probe.Close()
+	os.Remove(probe.Name())
+	f, err := os.OpenFile(path, os.O_RDWR, 0)
+	switch {
+	case err == nil:
+		f.Close()
+	case errors.Is(err, fs.ErrNotExist):
+	default:
+		return fmt.Errorf("store: database %s cannot be opened for writing: %w", path, err)
+	}
+	return nil
+}
+
+// Path returns the database's file path.
+func (db *DB) Path() string { return db.path }
+
+// Close closes the database.
+func (db *DB) Close() error {
+	if err := db.sql.Close(); err != nil {
+		return fmt.Errorf("store: closing database %s: %w", db.path, err)
+	}
+	return nil
+}
+
+// fail wraps err with the database path and, for the errors a user can do
+// something about (read-only, disk full, cannot open), plain advice.
+func (db *DB) fail(doing string, err error) error {
+	var se *sqlite.Error
+	hint := ""
+	if errors.As(err, &se) {
+		switch se.Code() & 0xff {
+		case sqlite3.SQLITE_READONLY:
+			hint = " (the database or its directory is read-only; nothing was written; choose another place with --db or UNDERCOOL_DB)"
+		case sqlite3.SQLITE_FULL:
+			hint = " (the disk is full; this change was not written and the records already stored are intact; free some space and retry)"
+		case sqlite3.SQLITE_CANTOPEN:
+			hint = " (cannot open the file; check the path and its permissions)"
+		case sqlite3.SQLITE_NOTADB, sqlite3.SQLITE_CORRUPT:
+			hint = " (this file is not an undercool database or is damaged; nothing was changed)"
+		case sqlite3.SQLITE_BUSY:
+			hint = " (another program held the database too long; retry)"
+		}
+	}
+	return fmt.Errorf("store: %s database %s%s: %w", doing, db.path, hint, err)
+}
+
+// migration is one numbered schema step.
+type migration struct {
+	version int
+	name    string
+	sql     string
+}
+
+// migrations returns the embedded migrations in version order.
+func migrations() ([]migration, error) {
+	ents, err := fs.ReadDir(migrationFiles, "migrations")
+	if err != nil {
+		return nil, fmt.Errorf("store: reading embedded migrations: %w", err)
+	}
+	var ms []migration
+	for _, e := range ents {
+		num, _, ok := strings.Cut(e.Name(), "_")
+		v, err := strconv.Atoi(num)
+		if !ok || err != nil || !strings.HasSuffix(e.Name(), ".sql") {
+			return nil, fmt.Errorf("store: embedded migration %q is not named NNNN_name.sql", e.Name())
+		}
+		b, err := migrationFiles.ReadFile("migrations/" + e.Name())
+		if err != nil {
+			return nil, fmt.Errorf("store: reading migration %s: %w", e.Name(), err)
+		}
+		ms = append(ms, migration{version: v, name: e.Name(), sql: string(b)})
+	}
+	sort.Slice(ms, func(i, j int) bool { return ms[i].version < ms[j].version })
+	for i, m := range ms {
+		if m.version != i+1 {
+			return nil, fmt.Errorf("store: migrations must be numbered 1, 2, 3...: %s is number %d", m.name, i+1)
+		}
+	}
+	return ms, nil
+}
+
+// SchemaVersion is the schema version this program builds.
+func SchemaVersion() int {
+	ms, err := migrations()
+	if err != nil {
+		panic(err) // the embedded files are part of the program
+	}
+	return len(ms)
+}
+
+// migrate applies every migration newer than the database's version, up to
+// upto (-1: all), each in its own transaction.
+func (db *DB) migrate(ctx context.Context, upto int) error {
+	ms, err := migrations()
+	if err != nil {
+		return err
+	}
+	if upto < 0 || upto > len(ms) {
+		upto = len(ms)
+	}
+	if _, err := db.sql.ExecContext(ctx, `CREATE TABLE IF NOT EXISTS schema_version (
+		version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)`); err != nil {
+		return db.fail("preparing", err)
+	}
+	have, err := db.version(ctx)
+	if err != nil {
+		return err
+	}
+	if have > len(ms) {
+		return fmt.Errorf("store: database %s has schema version %d, newer than this undercool knows (%d): use a newer undercool", db.path, have, len(ms))
+	}
+	for _, m := range ms[:upto] {
+		if err := db.apply(ctx, m); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func (db *DB) version(ctx context.Context) (int, error) {
+	var v int
+	if err := db.sql.QueryRowContext(ctx, `SELECT coalesce(max(version), 0) FROM schema_version`).Scan(&v); err != nil {
+		return 0, db.fail("reading the schema version of", err)
+	}
+	return v, nil
+}
+
+// apply runs one migration in its own transaction, unless another process
+// applied it first (checked inside the transaction, which holds the write
+// lock from its start).
+func (db *DB) apply(ctx context.Context, m migration) error {
+	tx, err := db.sql.BeginTx(ctx, nil)
+	if err != nil {
+		return db.fail("migrating", err)
+	}
+	defer tx.Rollback()
+	var done int
+	if err := tx.QueryRowContext(ctx, `SELECT count(*) FROM schema_version WHERE version = ?`, m.version).Scan(&done); err != nil {
+		return db.fail("migrating", err)
+	}
+	if done > 0 {
+		return nil
+	}
+	if _, err := tx.ExecContext(ctx, m.sql); err != nil {
+		return db.fail("applying migration "+m.name+" to", err)
+	}
+	if _, err := tx.ExecContext(ctx, `INSERT INTO schema_version(version, name, applied_at) VALUES (?, ?, ?)`,
+		m.version, m.name, formatTime(time.Now())); err != nil {
+		return db.fail("migrating", err)
+	}
+	if err := tx.Commit(); err != nil {
+		return db.fail("applying migration "+m.name+" to", err)
+	}
+	return nil
+}
+
+// DefaultPath is where the records live unless the user says otherwise:
+// $UNDERCOOL_DB when set; else undercool/undercool.db under the user's data
+// directory: $XDG_DATA_HOME or ~/.local/share (Linux and other Unix, XDG
+// Base Directory Specification), ~/Library/Application Support (macOS),
+// %LocalAppData% (Windows). getenv is os.Getenv or a test's stand-in.
+func DefaultPath(getenv func(string) string) (string, error) {
+	return defaultPath(runtime.GOOS, getenv)
+}
+
+func defaultPath(goos string, getenv func(string) string) (string, error) {
+	if p := getenv("UNDERCOOL_DB"); p != "" {
+		return p, nil
+	}
+	var dir string
+	switch goos {
+	case "windows":
+		dir = getenv("LocalAppData")
+		if dir == "" {
+			dir = getenv("LOCALAPPDATA")
+		}
+		if dir == "" {
+			return "", errors.New("store: %LocalAppData% is not set: give the database with --db or UNDERCOOL_DB")
+		}
+	case "darwin", "ios":
+		home := getenv("HOME")
+		if home == "" {
+			return "", errors.New("store: $HOME is not set: give the database with --db or UNDERCOOL_DB")
+		}
+		dir = filepath.Join(home, "Library", "Application Support")
+	default:
+		dir = getenv("XDG_DATA_HOME")
+		if dir == "" || !filepath.IsAbs(dir) { // the XDG spec says to ignore a relative value
+			home := getenv("HOME")
+			if home == "" {
+				return "", errors.New("store: neither $XDG_DATA_HOME nor $HOME is set: give the database with --db or UNDERCOOL_DB")
+			}
+			dir = filepath.Join(home, ".local", "share")
+		}
+	}
+	return filepath.Join(dir, "undercool", "undercool.db"), nil
+}
+
+// timeLayout is fixed-width UTC with milliseconds, so that text order in
+// the database is time order.
+const timeLayout = "2006-01-02T15:04:05.000Z"
+
+func formatTime(t time.Time) string { return t.UTC().Format(timeLayout) }
+
+// parseTime reads timeLayout. It is hand-written because history parses
+// thousands of these per query and time.Parse costs several times more;
+// anything not in exactly that layout goes to time.Parse for its error.
+func parseTime(s string) (time.Time, error) {
+	if len(s) == len(timeLayout) && s[4] == '-' && s[7] == '-' && s[10] == 'T' && s[13] == ':' && s[16] == ':' && s[19] == '.' && s[23] == 'Z' {
+		n := func(i, j int) (int, bool) {
+			v := 0
+			for _, c := range []byte(s[i:j]) {
+				if c < '0' || c > '9' {
+					return 0, false
+				}
+				v = v*10 + int(c-'0')
+			}
+			return v, true
+		}
+		y, ok1 := n(0, 4)
+		mo, ok2 := n(5, 7)
+		d, ok3 := n(8, 10)
+		h, ok4 := n(11, 13)
+		mi, ok5 := n(14, 16)
+		se, ok6 := n(17, 19)
+		ms, ok7 := n(20, 23)
+		if ok1 && ok2 && ok3 && ok4 && ok5 && ok6 && ok7 && mo >= 1 && mo <= 12 && d >= 1 && d <= 31 && h < 24 && mi < 60 && se < 60 {
+			t := time.Date(y, time.Month(mo), d, h, mi, se, ms*1e6, time.UTC)
+			if t.Day() == d { // not 31 April
+				return t, nil
+			}
+		}
+	}
+	t, err := time.Parse(timeLayout, s)
+	if err != nil {
+		return time.Time{}, fmt.Errorf("stored time %q: %w", s, err)
+	}
+	return t, nil
+}
