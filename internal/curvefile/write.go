@@ -24,7 +24,10 @@ type Writer struct {
 
 // NewWriter writes the metadata and the header row and returns a Writer for
 // the readings. Metadata keys and values must not hold line breaks; extra
-// names the further columns after time_s and temp_c.
+// names the further columns after time_s and temp_c. Names and extra
+// values holding a separator (',' ';' tab), a double quote or leading or
+// trailing blanks are written quoted ("a,b" and "" for a quote inside), as
+// Read expects; line breaks are refused.
 func NewWriter(w io.Writer, meta []Meta, extra ...string) (*Writer, error) {
 	var b strings.Builder
 	for _, m := range meta {
@@ -35,11 +38,11 @@ func NewWriter(w io.Writer, meta []Meta, extra ...string) (*Writer, error) {
 	}
 	b.WriteString("time_s,temp_c")
 	for _, e := range extra {
-		if strings.ContainsAny(e, ",;\t\r\n") || e == "" {
-			return nil, fmt.Errorf("curvefile: column name %q must be non-empty without separators", e)
+		if strings.ContainsAny(e, "\r\n") || strings.TrimSpace(e) == "" {
+			return nil, fmt.Errorf("curvefile: column name %q must be non-empty without line breaks", e)
 		}
 		b.WriteString(",")
-		b.WriteString(e)
+		b.Write(appendField(nil, e))
 	}
 	b.WriteString("\n")
 	if _, err := io.WriteString(w, b.String()); err != nil {
@@ -49,7 +52,7 @@ func NewWriter(w io.Writer, meta []Meta, extra ...string) (*Writer, error) {
 }
 
 // Write appends one reading: time in s, temperature in °C, and one value
-// for each extra column (text without separators or line breaks).
+// for each extra column (text without line breaks; quoted where needed).
 func (w *Writer) Write(timeS, tempC float64, extra ...string) error {
 	if len(extra) != w.extra {
 		return fmt.Errorf("curvefile: %d extra values for %d extra columns", len(extra), w.extra)
@@ -59,11 +62,11 @@ func (w *Writer) Write(timeS, tempC float64, extra ...string) error {
 	b = append(b, ',')
 	b = strconv.AppendFloat(b, tempC, 'f', -1, 64)
 	for _, e := range extra {
-		if strings.ContainsAny(e, ",\r\n") {
-			return fmt.Errorf("curvefile: extra value %q holds a separator or line break", e)
+		if strings.ContainsAny(e, "\r\n") {
+			return fmt.Errorf("curvefile: extra value %q holds a line break", e)
 		}
 		b = append(b, ',')
-		b = append(b, e...)
+		b = appendField(b, e)
 	}
 	b = append(b, '\n')
 	w.buf = b
@@ -103,4 +106,14 @@ func WriteCurve(w io.Writer, c *Curve) error {
 		return fmt.Errorf("curvefile: %w", err)
 	}
 	return nil
+}
+
+// appendField appends s, quoted when Read would otherwise split or trim it.
+func appendField(b []byte, s string) []byte {
+	if !strings.ContainsAny(s, ",;\t\"") && strings.TrimLeft(s, " ") == s && strings.TrimRight(s, " ") == s {
+		return append(b, s...)
+	}
+	b = append(b, '"')
+	b = append(b, strings.ReplaceAll(s, `"`, `""`)...)
+	return append(b, '"')
 }
