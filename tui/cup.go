@@ -275,13 +275,13 @@ func fmtPoint(p arrest.Point) string {
 func (c *cup) pointList(st *Styles) []string {
 	var lines []string
 	for _, p := range c.points() {
-		lines = append(lines, st.Mark.Render(string(p.sym))+" "+st.Label.Render(fmt.Sprintf("%-15s", p.label))+st.Value.Render(fmtPoint(p.p)))
+		lines = append(lines, st.Mark.Render(string(p.sym))+" "+st.Label.Render(fmt.Sprintf("%-16s", p.label))+st.Value.Render(fmtPoint(p.p)))
 	}
 	rc := "   —"
 	if c.res.RecalescenceOK {
 		rc = fmt.Sprintf("%6.1f °C", c.res.Recalescence)
 	}
-	lines = append(lines, "  "+st.Label.Render(fmt.Sprintf("%-15s", "recalescence"))+st.Value.Render(rc))
+	lines = append(lines, "  "+st.Label.Render(fmt.Sprintf("%-16s", "recalescence"))+st.Value.Render(rc))
 	return lines
 }
 
@@ -326,7 +326,7 @@ func wrapParts(parts []string, sep string, w int) []string {
 
 // verdictLines is the verdict with its reasons and advice, or what the
 // cup is waiting for.
-func (c *cup) verdictLines(st *Styles, w int) []string {
+func (c *cup) verdictLines(st *Styles, w int, boxed bool) []string {
 	if c.rec == nil {
 		if c.state == StateWaiting {
 			return []string{st.Muted.Render("Press s to fill in the sample form.")}
@@ -334,8 +334,10 @@ func (c *cup) verdictLines(st *Styles, w int) []string {
 		return []string{st.Muted.Render("Verdict when freezing is done.")}
 	}
 	v := c.rec.Verdict
-	head := st.verdictBox(v).Render(st.verdictStyle(v).Render(verdictWord(v)))
-	lines := strings.Split(head, "\n")
+	lines := []string{st.verdictStyle(v).Render("VERDICT  " + verdictWord(v))}
+	if boxed {
+		lines = strings.Split(st.verdictBox(v).Render(st.verdictStyle(v).Render(verdictWord(v))), "\n")
+	}
 	for _, r := range recordReasons(c.rec) {
 		lines = append(lines, wrapText(st.Value, "• "+r, w)...)
 	}
@@ -417,10 +419,10 @@ func (c *cup) charts(st *Styles, w, h int) string {
 
 // viewWide: facts on the left, charts on the right.
 func (c *cup) viewWide(st *Styles, w, h int) string {
-	lw := 34
+	lw := 35
 	left := []string{c.header(st, lw), c.bigBlock(st), ""}
 	left = append(left, c.pointList(st)...)
-	left = append(left, c.verdictLines(st, lw)...)
+	left = append(left, c.verdictLines(st, lw, true)...)
 	leftS := box(strings.Join(left, "\n"), lw, h)
 	return lipgloss.JoinHorizontal(lipgloss.Top, leftS, " ", c.charts(st, w-lw-1, h))
 }
@@ -429,7 +431,7 @@ func (c *cup) viewWide(st *Styles, w, h int) string {
 func (c *cup) viewTall(st *Styles, w, h int) string {
 	top := []string{c.header(st, w), c.bigBlock(st)}
 	bottom := c.compactPoints(st, w)
-	bottom = append(bottom, c.verdictLines(st, w)...)
+	bottom = append(bottom, c.verdictLines(st, w, false)...)
 	if len(bottom) > 4 {
 		bottom = bottom[:4]
 	}

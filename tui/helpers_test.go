@@ -3,6 +3,7 @@ package tui
 import (
 	"math"
 	"regexp"
+	"sort"
 
 	"github.com/charmbracelet/lipgloss"
 	"github.com/muesli/termenv"
@@ -49,14 +50,23 @@ func constructedCurve(seconds, rate float64) (t, v []float64) {
 // per readings on channel ch, with a start event at the first reading and a
 // done event after the last.
 func constructedBatches(ch string, seconds, rate float64, per int) []Batch {
+	return constructedBatchesAt(ch, 0, seconds, rate, per)
+}
+
+// constructedBatchesAt is constructedBatches with the sample starting at
+// acquirer time t0.
+func constructedBatchesAt(ch string, t0, seconds, rate float64, per int) []Batch {
 	t, v := constructedCurve(seconds, rate)
+	for i := range t {
+		t[i] += t0
+	}
 	st := Status{Port: "sim:deck", Connected: true, ReadingsPerS: rate, Lines: 0, Channels: map[string]State{ch: StateRecording}}
 	var out []Batch
 	for i := 0; i < len(t); i += per {
 		var b Batch
 		if i == 0 {
 			b.Events = append(b.Events, Event{Kind: EventDeviceInfo, Channel: ch, Info: map[string]string{"sample": "L-2417 cup 1", "alloy": "grey-iron", "operator": "Priya Natarajan"}},
-				Event{Kind: EventSampleStarted, Channel: ch, TimeS: 0})
+				Event{Kind: EventSampleStarted, Channel: ch, TimeS: t0})
 		}
 		for k := i; k < min(i+per, len(t)); k++ {
 			b.Readings = append(b.Readings, Reading{TimeS: t[k], TempC: v[k], Channel: ch})
@@ -80,10 +90,10 @@ func constructedAnalyzer(t, v []float64, _ arrest.Family) arrest.Result {
 		if end < s+5 {
 			return arrest.Point{}
 		}
-		i := int(s / (t[1] - t[0]))
+		i := sort.SearchFloat64s(t, s)
 		return arrest.Point{TempC: math.Round(v[i]*10) / 10, TimeS: s, OK: true}
 	}
-	r := arrest.Result{Samples: len(t), RateHz: 1 / (t[1] - t[0]), PourPeak: at(2), Liquidus: at(50), EutecticMin: at(75), EutecticMax: at(85), Solidus: at(190)}
+	r := arrest.Result{Samples: len(t), RateHz: 10, PourPeak: at(2), Liquidus: at(50), EutecticMin: at(75), EutecticMax: at(85), Solidus: at(190)}
 	if r.EutecticMax.OK {
 		r.Recalescence, r.RecalescenceOK = r.EutecticMax.TempC-r.EutecticMin.TempC, true
 	}
@@ -91,10 +101,17 @@ func constructedAnalyzer(t, v []float64, _ arrest.Family) arrest.Result {
 	return r
 }
 
-// constructedJudge gives a fixed-form record with a pass verdict.
+// constructedJudge gives a CONSTRUCTED record for screen tests: the
+// points of the result, a marginal verdict and made-up reason and advice
+// lines (the real judgement is tested in internal/assess).
 func constructedJudge(in assess.Input, res arrest.Result) assess.Record {
-	rec := assess.FromResult(in, res)
-	rec.Verdict = assess.VerdictPass
+	rec := assess.FromResult(assess.Input{File: in.File, Alloy: in.Alloy, Family: in.Family}, res)
+	rec.Verdict = assess.VerdictMarginal
+	rec.Problems = nil
+	rec.Reasons = []string{"constructed reason: recalescence 4.0 °C is near its limit"}
+	rec.Advice = []string{"constructed advice: consider re-sampling, per the shop's practice"}
+	uc := 12.5 + float64(len(in.Time)%7)
+	rec.UndercoolingC = &uc
 	return rec
 }
 

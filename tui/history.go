@@ -321,8 +321,8 @@ func (p historyPane) trend(es []Entry, h int) string {
 		}
 	}
 	lo, hi = padRange(lo, hi, 0.1, 1)
-	pl := plot{w: p.w, h: h - 1, x0: 0.5, x1: math.Max(float64(len(xs))+0.5, 5.5), y0: lo, y1: hi,
-		yFmt: "%.1f", xFmt: "%.0f", line: p.st.Curve, xs: xs, ys: ys, levels: levels}
+	pl := plot{w: p.w, h: h - 1, x0: 0, x1: math.Max(float64(len(xs))+0.5, 5.5), y0: lo, y1: hi,
+		yFmt: "%7.1f", xFmt: "%.0f", line: p.st.Curve, xs: xs, ys: ys, levels: levels, niceX: true}
 	var ms []mark
 	for i := range xs {
 		ms = append(ms, mark{x: xs[i], y: ys[i], r: '●'})

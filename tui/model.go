@@ -421,7 +421,7 @@ func (m Model) titleBar() string {
 
 func (m Model) statusLine() string {
 	s := m.status
-	port := s.Port
+	port := cut(s.Port, max(12, m.w/4))
 	if port == "" {
 		port = "no port"
 	}
@@ -442,7 +442,7 @@ func (m Model) statusLine() string {
 	}
 	line := strings.Join([]string{
 		m.st.Status.Render(port), conn,
-		m.st.Status.Render(fmt.Sprintf("%.1f readings/s", s.ReadingsPerS)),
+		m.st.Status.Render(fmt.Sprintf("%.0f readings/s", s.ReadingsPerS)),
 		faults,
 		m.st.Status.Render(fmt.Sprintf("garbage %d", s.Garbage)),
 		m.st.Status.Render(fmt.Sprintf("reconnects %d", s.Reconnects)),

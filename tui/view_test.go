@@ -1,0 +1,190 @@
+package tui
+
+import (
+	"flag"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+
+	tea "github.com/charmbracelet/bubbletea"
+
+	"github.com/undercool-foundry/undercool/internal/limits"
+)
+
+var update = flag.Bool("update", false, "rewrite the golden files")
+
+// fixedClock is a clock that always says 09:41 on the test day: views must
+// not depend on the real time.
+func fixedClock() time.Time { return time.Date(2026, 3, 2, 9, 41, 0, 0, time.UTC) }
+
+// testModel is a dashboard with no colour, the constructed analyzer and a
+// fixed clock, fed nothing yet.
+func testModel(t testing.TB, w, h int) Model {
+	t.Helper()
+	m := New(Options{Title: "test deck", Styles: asciiStyles(), Analyzer: constructedAnalyzer, Judge: constructedJudge, Clock: fixedClock})
+	return m.resize(w, h)
+}
+
+// feed runs batches through Update, running the commands that store
+// finished samples, as the program would.
+func feed(m Model, bs []Batch) Model {
+	for _, b := range bs {
+		var tm tea.Model
+		var cmd tea.Cmd
+		tm, cmd = m.Update(batchMsg{b})
+		m = tm.(Model)
+		m = runCmds(m, cmd)
+	}
+	return m
+}
+
+// runCmds runs a command tree synchronously, feeding back the messages
+// the dashboard itself made (not the batch waits).
+func runCmds(m Model, cmd tea.Cmd) Model {
+	if cmd == nil {
+		return m
+	}
+	msg := cmd()
+	switch msg := msg.(type) {
+	case tea.BatchMsg:
+		for _, c := range msg {
+			if c != nil {
+				m = runCmds(m, c)
+			}
+		}
+	case sampleDoneMsg, historyLoadedMsg, limitsSavedMsg, formDoneMsg, formClosedMsg:
+		tm, c := m.Update(msg)
+		m = runCmds(tm.(Model), c)
+	}
+	return m
+}
+
+func press(m Model, keys ...string) Model {
+	for _, k := range keys {
+		var msg tea.KeyMsg
+		switch k {
+		case "enter":
+			msg = tea.KeyMsg{Type: tea.KeyEnter}
+		case "esc":
+			msg = tea.KeyMsg{Type: tea.KeyEsc}
+		case "tab":
+			msg = tea.KeyMsg{Type: tea.KeyTab}
+		case "down":
+			msg = tea.KeyMsg{Type: tea.KeyDown}
+		case "up":
+			msg = tea.KeyMsg{Type: tea.KeyUp}
+		case "backspace":
+			msg = tea.KeyMsg{Type: tea.KeyBackspace}
+		default:
+			msg = tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune(k)}
+		}
+		tm, cmd := m.Update(msg)
+		m = runCmds(tm.(Model), cmd)
+	}
+	return m
+}
+
+// twoCups interleaves two channels' constructed samples.
+func twoCups(seconds float64) []Batch {
+	a := constructedBatches("1", seconds, 10, 5)
+	b := constructedBatches("2", seconds*0.6, 10, 5)
+	var out []Batch
+	for i := range a {
+		x := a[i]
+		if i < len(b) {
+			x.Readings = append(x.Readings, b[i].Readings...)
+			x.Events = append(x.Events, b[i].Events...)
+		}
+		x.Status.Channels = map[string]State{"1": StateRecording, "2": StateRecording}
+		out = append(out, x)
+	}
+	return out
+}
+
+func checkGolden(t *testing.T, name, got string) {
+	t.Helper()
+	got = stripANSI(got)
+	path := filepath.Join("testdata", name+".golden")
+	if *update {
+		if err := os.WriteFile(path, []byte(got), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		return
+	}
+	want, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatalf("%v (run go test ./tui -update)", err)
+	}
+	if got != string(want) {
+		t.Errorf("%s differs from %s (run go test ./tui -update if the change is meant):\n%s", name, path, got)
+	}
+}
+
+func TestGoldenScreens(t *testing.T) {
+	sizes := []struct{ w, h int }{{80, 24}, {120, 40}}
+	screens := []struct {
+		name string
+		make func(m Model) Model
+	}{
+		{"waiting", func(m Model) Model { return m }},
+		{"live-recording", func(m Model) Model { return feed(m, constructedBatches("1", 100, 10, 5)[:140]) }},
+		{"live-verdict", func(m Model) Model { return feed(m, constructedBatches("1", 230, 10, 5)) }},
+		{"live-two-cups", func(m Model) Model { return feed(m, twoCups(120)) }},
+		{"history", func(m Model) Model {
+			m = feed(m, constructedBatches("1", 230, 10, 5))
+			m = feed(m, constructedBatchesAt("1", 300, 200, 10, 5))
+			m = feed(m, constructedBatchesAt("1", 600, 215, 10, 5))
+			return press(m, "2")
+		}},
+		{"history-open", func(m Model) Model {
+			return press(feed(m, constructedBatches("1", 230, 10, 5)), "2", "enter")
+		}},
+		{"limits", func(m Model) Model { return press(m, "3") }},
+		{"form", func(m Model) Model { return press(feed(m, constructedBatches("1", 20, 10, 5)[:2]), "s") }},
+		{"help", func(m Model) Model { return press(m, "?") }},
+		{"quit-ask", func(m Model) Model { return press(feed(m, constructedBatches("1", 100, 10, 5)[:60]), "q") }},
+	}
+	for _, sz := range sizes {
+		for _, sc := range screens {
+			name := sc.name + "-" + strconv.Itoa(sz.w) + "x" + strconv.Itoa(sz.h)
+			t.Run(name, func(t *testing.T) {
+				m := sc.make(testModel(t, sz.w, sz.h))
+				v := m.View()
+				lines := strings.Split(v, "\n")
+				if len(lines) != sz.h {
+					t.Errorf("view has %d lines, want %d", len(lines), sz.h)
+				}
+				for i, l := range lines {
+					if w := len([]rune(stripANSI(l))); w > sz.w {
+						t.Errorf("line %d is %d cells wide, more than %d", i+1, w, sz.w)
+					}
+				}
+				if !strings.Contains(v, "Molten metal") {
+					t.Error("the safety line is missing")
+				}
+				checkGolden(t, name, v)
+			})
+		}
+	}
+}
+
+// The limits shown are the book's: the grey-iron recalescence bound of the
+// built-in examples appears in the limits screen.
+func TestLimitsScreenShowsBook(t *testing.T) {
+	b := limits.Builtin()
+	m := New(Options{Styles: asciiStyles(), Limits: b, Clock: fixedClock}).resize(120, 40)
+	m = press(m, "3")
+	v := stripANSI(m.View())
+	al, ok := b.Alloy(m.lim.alloyName())
+	if !ok {
+		t.Fatalf("alloy %q not in the book", m.lim.alloyName())
+	}
+	for name := range al.Metrics {
+		if !strings.Contains(v, name) {
+			t.Errorf("metric %s of %s not shown:\n%s", name, al.Name, v)
+		}
+	}
+}
