@@ -361,6 +361,9 @@ func (a *Acquirer) setup() error {
 	if a.cfg.OutPath != "" && filepath.Ext(a.cfg.OutPath) != ".csv" {
 		return fmt.Errorf("acquire: output file %s: the name must end in .csv", a.cfg.OutPath)
 	}
+	if a.cfg.OutPath != "" && exists(a.cfg.OutPath) {
+		return fmt.Errorf("acquire: output file %s already exists; not overwritten", a.cfg.OutPath)
+	}
 	return nil
 }
 

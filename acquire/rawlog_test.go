@@ -1,0 +1,120 @@
+package acquire
+
+import (
+	"errors"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+)
+
+const tornPartial = `# sample: L-2417 cup 3
+# channel: 1
+time_s,temp_c,flags
+0,25.1,
+0.1,25.2,
+0.2,1290.5,
+0.3,1288,gap_before
+0.4,1287.6,
+0.5,128`
+
+func TestRecover(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "20260302-063000-ch1.partial.csv")
+	if err := os.WriteFile(p, []byte(tornPartial), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	recs, err := Recover(dir)
+	if err != nil || len(recs) != 1 {
+		t.Fatalf("Recover: %v %v", recs, err)
+	}
+	r := recs[0]
+	if r.Path != filepath.Join(dir, "20260302-063000-ch1.csv") || r.Rows != 5 || !r.Torn || r.Channel != "1" {
+		t.Fatalf("recovered %+v", r)
+	}
+	c := readRows(t, r.Path)
+	if c.meta["interrupted"] != "true" || c.meta["recovered"] == "" || c.meta["sample"] != "L-2417 cup 3" {
+		t.Fatalf("metadata %v", c.meta)
+	}
+	fl := c.col("flags")
+	if len(c.rows) != 5 || c.rows[2][fl] != "gap_after" || c.rows[3][fl] != "gap_before" || c.rows[4][1] != "1287.6" {
+		t.Fatalf("rows %q", c.rows)
+	}
+	if _, err := os.Stat(p); !errors.Is(err, os.ErrNotExist) {
+		t.Fatalf("partial file still there: %v", err)
+	}
+	// A second run finds nothing more.
+	if recs, err := Recover(dir); err != nil || len(recs) != 0 {
+		t.Fatalf("second Recover: %v %v", recs, err)
+	}
+}
+
+// TestRecoverLeavesLiveLog: a raw log that a recorder is writing (locked)
+// is not taken over.
+func TestRecoverLeavesLiveLog(t *testing.T) {
+	dir := t.TempDir()
+	l, err := createLog(filepath.Join(dir, "live.csv"), nil, false, 100*time.Millisecond)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := l.write(Reading{TimeS: 1, TempC: 1300}, 0); err != nil {
+		t.Fatal(err)
+	}
+	recs, err := Recover(dir)
+	if err != nil || len(recs) != 0 {
+		t.Fatalf("Recover took a live log: %v %v", recs, err)
+	}
+	path, err := l.finish()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c := readRows(t, path); len(c.rows) != 1 {
+		t.Fatalf("rows %q", c.rows)
+	}
+}
+
+// TestRecoverAfterCompleting: a crash after the completed file was renamed
+// but before the partial one was removed leaves both; the completed one is
+// kept as it is.
+func TestRecoverAfterCompleting(t *testing.T) {
+	dir := t.TempDir()
+	final := filepath.Join(dir, "s.csv")
+	os.WriteFile(final, []byte("# ended: freezing done\ntime_s,temp_c,flags\n0,1,\n"), 0o644)
+	os.WriteFile(partialName(final), []byte(tornPartial), 0o644)
+	if recs, err := Recover(dir); err != nil || len(recs) != 0 {
+		t.Fatalf("Recover: %v %v", recs, err)
+	}
+	b, _ := os.ReadFile(final)
+	if !strings.HasPrefix(string(b), "# ended: freezing done") || exists(partialName(final)) {
+		t.Fatalf("final %q, partial left %v", b, exists(partialName(final)))
+	}
+}
+
+// TestRunRecovers: Run completes interrupted samples in its directory
+// first and says so.
+func TestRunRecovers(t *testing.T) {
+	dir := t.TempDir()
+	os.WriteFile(filepath.Join(dir, "x.partial.csv"), []byte(tornPartial), 0o644)
+	port := newPipePort()
+	_, col, _ := startAcq(t, port.open, Config{Dir: dir})
+	col.until("recovered", 5*time.Second, func() bool { return col.has(EventRecovered, "") != nil })
+	if e := col.has(EventRecovered, ""); e.Path != filepath.Join(dir, "x.csv") || e.Channel != "1" {
+		t.Fatalf("event %+v", e)
+	}
+}
+
+func TestOutPathNotOverwritten(t *testing.T) {
+	dir := t.TempDir()
+	out := filepath.Join(dir, "cup.csv")
+	os.WriteFile(out, []byte("keep me\n"), 0o644)
+	port := newPipePort()
+	_, _, stop := startAcq(t, port.open, Config{OutPath: out})
+	err := stop()
+	if err == nil || !strings.Contains(err.Error(), "already exists") {
+		t.Fatalf("Run: %v", err)
+	}
+	if b, _ := os.ReadFile(out); string(b) != "keep me\n" {
+		t.Fatalf("overwritten: %q", b)
+	}
+}
