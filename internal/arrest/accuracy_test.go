@@ -112,3 +112,34 @@ func TestAccuracyNoiseFree(t *testing.T) {
 	}
 	acc.log(t, "constructed noise-free curves, 2–200 Hz")
 }
+
+// Constructed curves logged like a real cup: white noise up to 0.3 °C, one
+// reading in 500 a spike of 10–40 °C, quantisation to 0.25 °C, 4 to 50 Hz,
+// 300 seeded cases over iron and aluminium shapes. Tolerances from the issue:
+// eutectic minimum, maximum and recalescence 0.5 °C, liquidus 1.5 °C, end of
+// freezing 4 °C.
+func TestAccuracyNoisy(t *testing.T) {
+	acc := newAccuracy("liquidus_min", 1.5, "liquidus", 1.5, "eutectic_min", 0.5, "eutectic_max", 0.5, "recalescence", 0.5, "solidus", 4.0)
+	rates := []float64{4, 5, 8, 10, 16, 20, 25, 50}
+	sh := shapes()
+	cases := 300
+	if testing.Short() {
+		cases = 60
+	}
+	despiked := 0
+	for c := range cases {
+		s := sh[c%len(sh)]
+		seed := uint64(1000 + c)
+		rate := rates[(c/len(sh))%len(rates)]
+		noise := 0.3 * float64((c*7919)%101) / 100
+		tt, v := s.sample(sampling{rate: rate, phase: float64(c%10) / 10, noise: noise, spikeP: 1.0 / 500, spikeLo: 10, spikeHi: 40, quant: 0.25, seed: seed, tailS: 0})
+		got := Analyze(tt, v, Options{Family: s.family})
+		label := fmt.Sprintf("case %d: %s at %g Hz, noise %.2f °C, seed %d", c, s.name, rate, noise, seed)
+		if !got.Complete || got.Invalid() {
+			t.Errorf("%s: complete %v, problems %v", label, got.Complete, got.Problems)
+		}
+		despiked += got.Despiked
+		acc.check(t, label, got, s.truth())
+	}
+	acc.log(t, fmt.Sprintf("%d constructed noisy curves (noise ≤ 0.3 °C, spikes 1/500 of 10–40 °C, 0.25 °C steps, 4–50 Hz); %d spikes removed", cases, despiked))
+}

@@ -66,6 +66,8 @@ const (
 	slopeFloor   = 0.02 // smallest hysteresis on T', °C/s
 	promFloor    = 0.05 // smallest prominence of an arrest in T', °C/s
 	dropFloor    = 0.3  // smallest temperature drop that settles a recalescence maximum, °C
+	promShare    = 0.15 // an arrest's prominence is at least this share of the preceding minimum of |T'|
+	longFactor   = 2  // refinement window of a flat eutectic arrest, in SlopeS
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
 )
 
@@ -101,9 +103,9 @@ const (
 //     last half-window of a curve is never used for a point, so a point can
 //     only be reported once no further reading can change it;
 //   - the pour peak is the highest despiked reading once the curve has
-//     fallen pourDropC below it (and it reached Hints.MinPourC);
+//     stayed pourDropC below it for 0.5 s (and it reached Hints.MinPourC);
 //   - an arrest is a local maximum of T' of prominence P = max(0.05 °C/s,
-//     6σ_T'). Sign changes of T' count only past a hysteresis
+//     8σ_T', 0.15·|T'| at the minimum before it). Sign changes of T' count only past a hysteresis
 //     h = max(0.02 °C/s, 4σ_T'): T' > +h confirms recalescence, and the
 //     minimum is T at the last − → + crossing of T' before it; the maximum is
 //     T at the first + → − crossing after T' was last above +h, settled when
@@ -149,15 +151,18 @@ type Analyzer struct {
 	rate, dt        float64
 	ws, wd          int
 	ks, kd          *curve.Kernel
-	sls, sld        curve.Sliding
+	sls, sld, sll   curve.Sliding
+	dl              []float64 // work space: T' over a longer window
 	gainS, gainD    float64 // noise gains of T and T' (per °C of σ)
 	block           int     // noise block length, readings
 	blockSig        []float64
 	sigByCount      []float64 // median σ of the first k blocks
+	validByCount    []int     // valid block estimates among the first k blocks
 	sorted          []float64 // work space for the median
 	scratch         []float64
 	xmax            float64
 	xmaxI, pourConf int
+	pourBelow       int // consecutive readings below the peak by the pour drop
 
 	det   detector
 	probs []Problem
@@ -230,11 +235,13 @@ func (a *Analyzer) reset(opt Options, n int) {
 	}
 	if cap(a.blockSig) < 64 {
 		a.blockSig, a.sigByCount, a.sorted = make([]float64, 0, 256), make([]float64, 0, 257), make([]float64, 0, 256)
+		a.validByCount = make([]int, 0, 257)
 	}
 	*a = Analyzer{
 		opt: opt, h: FamilyHints(opt.Family), reserve: a.reserve,
-		ts: a.ts[:0], raw: a.raw[:0], x: a.x[:0], s: a.s[:0], d: a.d[:0],
+		ts: a.ts[:0], raw: a.raw[:0], dl: a.dl[:0], x: a.x[:0], s: a.s[:0], d: a.d[:0],
 		blockSig: a.blockSig[:0], sigByCount: append(a.sigByCount[:0], 0), sorted: a.sorted[:0], scratch: a.scratch,
+		validByCount: append(a.validByCount[:0], 0),
 		ready: true, probs: nil, end: math.MaxInt, xmax: math.Inf(-1), pourConf: -1,
 	}
 	if opt.EutecticTopC != 0 {
@@ -337,6 +344,7 @@ func (a *Analyzer) noiseBlocks() {
 		}
 		a.sorted = tmp[:0]
 		a.sigByCount = append(a.sigByCount, m)
+		a.validByCount = append(a.validByCount, len(tmp))
 	}
 }
 
@@ -351,6 +359,11 @@ func (a *Analyzer) sigma(i int) float64 {
 		return 0
 	}
 	return a.sigByCount[k]
+}
+
+// validBlocks is the number of valid noise blocks behind sigma(i).
+func (a *Analyzer) validBlocks(i int) int {
+	return a.validByCount[min(i/a.block, len(a.validByCount)-1)]
 }
 
 // filter despikes, then smooths and differentiates, every reading whose
@@ -369,6 +382,13 @@ func (a *Analyzer) filter() {
 				a.xmax, a.xmaxI = v, i
 			}
 			if a.xmax >= a.h.MinPourC && v <= a.xmax-math.Max(pourDropC, 10*a.sigma(i)) {
+				a.pourBelow++
+			} else {
+				a.pourBelow = 0
+			}
+			// the fall must last half a second (at least 3 readings): a
+			// spike on the steep rise is no peak
+			if a.pourBelow >= max(3, int(math.Round(0.5*a.rate))) {
 				a.pourConf = i
 			}
 		} else if i > 0 && math.Abs(v-a.x[i-1]) > StepFaultC {
@@ -452,7 +472,7 @@ func (a *Analyzer) detect() {
 		j := e.j
 		d := a.d[j]
 		sig := a.sigma(j)
-		if e.stage != stagePour && sig > NoisyC {
+		if e.stage != stagePour && sig > NoisyC && a.validBlocks(j) >= 5 {
 			// Too noisy: nothing from here on is used.
 			a.stop(len(a.raw), CodeNoisy, fmt.Sprintf("too noisy to trust: the reading scatters by about %.1f °C (more than %.1f °C) from %.0f s on; check the thermocouple, its wiring and earthing", sig, float64(NoisyC), a.ts[j]))
 			e.stage = stageDone
@@ -460,7 +480,11 @@ func (a *Analyzer) detect() {
 		}
 		sd := sig * a.gainD
 		h := math.Max(slopeFloor, 4*sd)
-		p := math.Max(promFloor, 6*sd)
+		p := math.Max(promFloor, 8*sd)
+		if e.stage == stageArrest {
+			// an arrest must also stand out against the liquid's cooling rate
+			p = math.Max(p, promShare*math.Abs(e.dmin))
+		}
 		switch e.stage {
 		case stagePour:
 			if a.pourConf >= 0 && j >= a.pourConf {
@@ -563,6 +587,9 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal bool) {
 		e.startArrest(j, a.d[j])
 		return
 	}
+	if !recal {
+		lo, hi, recal = a.refineMax(e.dminI, j, e.dmaxI)
+	}
 	r.EutecticMin, r.EutecticMax = lo, hi
 	r.Recalescence, r.RecalescenceOK = hi.TempC-lo.TempC, true
 	if !recal {
@@ -600,17 +627,127 @@ func (a *Analyzer) coolingRate(e *detector) float64 {
 	return (a.s[k] - a.s[lo]) / (a.ts[k] - a.ts[lo])
 }
 
+// xAvail is the last despiked reading that is final when index j is
+// examined; decisions at j use nothing beyond it, so that they do not depend
+// on how much of the curve has arrived.
+func (a *Analyzer) xAvail(j int) int { return j + max(a.ws, a.wd)/2 }
+
+// refineMax settles an eutectic arrest that did not pass the recalescence
+// hysteresis, from T' over samples lo … j computed again with a window
+// longFactor times as long (√8 times less noise; where T' is near zero, as
+// here, the longer window moves a point by a negligible T'·Δt):
+//   - if that T' turns positive the arrest recalesces after all, and the
+//     minimum and maximum are T at its − → + and + → − crossings;
+//   - otherwise the point is the first sample where T' comes within 2σ of
+//     its maximum: on a flat, noisy plateau the maximum itself could be
+//     anywhere along it, while the rise into the arrest is well defined.
+//     Without noise this is the maximum itself, refined to a fraction of a
+//     sample.
+func (a *Analyzer) refineMax(lo, j, fallback int) (Point, Point, bool) {
+	w := curve.WindowSamples(longFactor*a.h.SlopeS, a.rate, 2, 5)
+	h := w / 2
+	lo, hi := max(lo, h), min(j, a.xAvail(j)-h)
+	if lo+2 > hi {
+		p := a.extremum(fallback)
+		return p, p, false
+	}
+	a.sll.Reset(h)
+	dl := a.dl[:0]
+	best, bi := math.Inf(-1), lo
+	for c := lo; c <= hi; c++ {
+		_, v := a.sll.At(a.x, c)
+		v /= a.dt
+		dl = append(dl, v)
+		if v > best {
+			best, bi = v, c
+		}
+	}
+	a.dl = dl[:0]
+	at := func(c int) float64 { return dl[c-lo] }
+	if bi == lo || bi == hi {
+		p := a.extremum(fallback)
+		return p, p, false
+	}
+	if best > 0 {
+		k := bi
+		for k > lo && at(k) > 0 {
+			k--
+		}
+		m := bi
+		for m < hi && at(m) > 0 {
+			m++
+		}
+		if at(k) <= 0 && at(m) <= 0 {
+			return a.levelPoint(k, at(k), at(k+1), 0), a.levelPoint(m-1, at(m-1), at(m), 0), true
+		}
+	}
+	sdl := a.sigma(j) * curve.SavGol(w, 2, 1).NoiseGain() / a.dt
+	level := best - 2*sdl
+	f := lo
+	for at(f) < level {
+		f++
+	}
+	// f is the first sample within 2σ of the maximum (f ≤ bi)
+	if f == bi || f == lo {
+		p := a.vertex(bi, at(bi-1), best, at(bi+1))
+		return p, p, false
+	}
+	p := a.levelPoint(f-1, at(f-1), at(f), level)
+	return p, p, false
+}
+
+// levelPoint interpolates T and t where a derivative going from v0 at
+// sample k to v1 at k+1 passes level.
+func (a *Analyzer) levelPoint(k int, v0, v1, level float64) Point {
+	f := 0.0
+	if v1 != v0 {
+		f = math.Max(0, math.Min(1, (level-v0)/(v1-v0)))
+	}
+	return Point{TempC: a.s[k] + f*(a.s[k+1]-a.s[k]), TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]), OK: true}
+}
+
+// solidusPoint places the end of freezing at the most negative T' (sample
+// i, settled at j). On a noisy curve the bottom of the dip is a run of
+// samples within 2σ of the minimum, and the point is the middle of that run
+// (by interpolated level crossings): steadier than the lowest sample, which
+// noise moves along the bottom. Without noise it is refined by refineMin.
+func (a *Analyzer) solidusPoint(i, j int) Point {
+	sd := a.sigma(j) * a.gainD
+	if 2*sd < 0.01 {
+		return a.refineMin(i, j)
+	}
+	level := a.d[i] + 2*sd
+	l := i
+	for l > a.det.eutI && a.d[l-1] <= level {
+		l--
+	}
+	r := i
+	for r < j && a.d[r+1] <= level {
+		r++
+	}
+	if l == a.det.eutI || r == j || l == 0 {
+		return a.extremum(i)
+	}
+	// fractional indices of the two level crossings
+	fl := float64(l-1) + (level-a.d[l-1])/(a.d[l]-a.d[l-1])
+	fr := float64(r) + (level-a.d[r])/(a.d[r+1]-a.d[r])
+	mid := (fl + fr) / 2
+	k := int(math.Floor(mid))
+	f := mid - float64(k)
+	return Point{TempC: a.s[k] + f*(a.s[k+1]-a.s[k]), TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]), OK: true}
+}
+
 // refineMin locates the most negative T' near sample i again with a
 // derivative window half as long, which halves the shift a long window gives
 // an asymmetric dip; the search stays within the long window around i.
-func (a *Analyzer) refineMin(i int) Point {
+func (a *Analyzer) refineMin(i, j int) Point {
 	w := curve.WindowSamples(a.h.SlopeS/2, a.rate, 2, 5)
 	if w >= a.wd {
 		return a.extremum(i)
 	}
 	k := curve.SavGol(w, 2, 1)
 	hd, h := a.wd/2, w/2
-	lo, hi := max(i-hd, h), min(i+hd, len(a.x)-1-h)
+	lo, hi := max(i-hd, h), min(i+hd, a.xAvail(j)-h)
 	if lo+2 > hi {
 		return a.extremum(i)
 	}
@@ -632,7 +769,7 @@ func (a *Analyzer) refineMin(i int) Point {
 func (a *Analyzer) solidus() {
 	e := &a.det
 	r := &e.res
-	r.Solidus = a.refineMin(e.dminI)
+	r.Solidus = a.solidusPoint(e.dminI, e.j)
 	// end of the plateau: where T' has fallen halfway from the eutectic's
 	// value to its minimum
 	half := (e.eutRefD + e.dmin) / 2

@@ -5,15 +5,19 @@ import "math"
 // Noise estimate. For white noise of standard deviation σ on a smooth curve,
 // the second difference e_i = x[i+1] − 2x[i] + x[i−1] is noise of standard
 // deviation √6·σ (the curve's own contribution, T''·dt², is negligible at
-// cup sampling rates). The estimate is the mean of the smallest 90 % of |e_i|
-// (trimming drops spikes, the pour and the sharpest bends), divided by its
-// value for unit σ, √6·√(2/π)·(1 − exp(−q²/2))/0.9 with q = 1.6449 the 90 %
-// point of |N(0,1)|. Unlike a median of |e_i| it stays above zero on curves
-// quantised to steps larger than the noise.
+// cup sampling rates). The estimate is the mean of the smaller half of |e_i|
+// (the trimming drops spikes, each of which spoils three e_i, the pour and
+// the sharpest bends), divided by its value for unit σ,
+// √6·√(2/π)·(1 − exp(−q²/2))/0.5 with q = 0.67449 the median of |N(0,1)|.
+// Quantisation adds noise of q/√12 for a step q (the uniform distribution),
+// which the trimmed mean under-reads; it is added in quadrature, with q the
+// smallest non-zero change between consecutive readings, when at least a
+// tenth of those changes are exactly zero (repeated readings are the mark of
+// quantisation; a smooth unquantised curve has none).
 
-const noiseTrim = 0.9
+const noiseTrim = 0.5
 
-var noiseUnit = math.Sqrt(6) * math.Sqrt(2/math.Pi) * (1 - math.Exp(-1.6448536269514722*1.6448536269514722/2)) / noiseTrim
+var noiseUnit = math.Sqrt(6) * math.Sqrt(2/math.Pi) * (1 - math.Exp(-0.6744897501960817*0.6744897501960817/2)) / noiseTrim
 
 // Noise returns the robust noise estimate of x in the units of x (0 for
 // fewer than 8 samples). scratch is work space of any length (nil
@@ -28,8 +32,16 @@ func Noise(scratch, x []float64) (float64, []float64) {
 		scratch = make([]float64, m)
 	}
 	e := scratch[:m]
+	q := math.Inf(1)
+	zeros := 0
 	for i := 1; i < n-1; i++ {
 		e[i-1] = math.Abs(x[i+1] - 2*x[i] + x[i-1])
+		switch st := math.Abs(x[i] - x[i-1]); {
+		case st == 0:
+			zeros++
+		case st < q:
+			q = st
+		}
 	}
 	k := int(float64(m) * noiseTrim)
 	if k < 1 {
@@ -40,7 +52,11 @@ func Noise(scratch, x []float64) (float64, []float64) {
 	for _, v := range e[:k] {
 		s += v
 	}
-	return s / float64(k) / noiseUnit, scratch
+	sig := s / float64(k) / noiseUnit
+	if !math.IsInf(q, 1) && zeros*10 >= n-2 {
+		sig = math.Hypot(sig, q/math.Sqrt(12))
+	}
+	return sig, scratch
 }
 
 // selectSmallest reorders v so that its k smallest values come first
