@@ -235,3 +235,7 @@ func checkRowsMatch(t *testing.T, c curveRows, sent []cupReading, from int) {
 func finishedAfter(s float64) func(t, temp []float64) bool {
 	return func(t, _ []float64) bool { return len(t) > 0 && t[len(t)-1] >= s }
 }
+
+func contextWithCancel() (context.Context, context.CancelFunc) {
+	return context.WithCancel(context.Background())
+}
