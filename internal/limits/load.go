@@ -90,7 +90,7 @@ func (e *Error) Error() string {
 func (e *Error) Unwrap() error { return e.Err }
 
 // Parse decodes and validates the text of a limits file; name is used in
-// error messages.
+// error messages. A calibration_file it names is not read (Load reads it).
 func Parse(data []byte, name string) (*Book, error) {
 	var b Book
 	md, err := toml.NewDecoder(bytes.NewReader(data)).Decode(&b)
@@ -109,10 +109,8 @@ func Parse(data []byte, name string) (*Book, error) {
 		}
 		a.Name = n
 	}
-	if b.CalibrationFile == "" {
-		if err := b.validate(data, name); err != nil {
-			return nil, err
-		}
+	if err := b.validate(data, name); err != nil {
+		return nil, err
 	}
 	return &b, nil
 }

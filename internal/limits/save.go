@@ -31,7 +31,7 @@ func Save(path string, b *Book) error {
 	saved := *b
 	saved.Edited = t.Format(time.RFC3339)
 	text := Encode(&saved)
-	if _, err := Parse(text, path); err != nil && saved.CalibrationFile == "" {
+	if _, err := Parse(text, path); err != nil {
 		return fmt.Errorf("limits: not saved, the encoded text does not read back: %w", err)
 	}
 	old, err := backup(path, t)

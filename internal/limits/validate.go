@@ -115,10 +115,12 @@ func (b *Book) validate(data []byte, name string) error {
 func (b *Book) validateReference(a *Alloy, base string, add func(key, format string, args ...any)) {
 	r := a.Reference
 	cal := b.Calibration
+	// A calibration_file not yet read (Parse): Load checks again once it is.
+	pending := cal == nil && b.CalibrationFile != ""
 	switch r.CELRegression {
 	case "", RegressionKoriyama, RegressionHeine:
 	case RegressionShop:
-		if cal == nil || cal.Liquidus == nil {
+		if !pending && (cal == nil || cal.Liquidus == nil) {
 			add(base+".reference.cel_regression", "\"shop\" needs a [calibration.liquidus] (run `undercool calibrate`)")
 		}
 	default:
@@ -127,7 +129,7 @@ func (b *Book) validateReference(a *Alloy, base string, add func(key, format str
 	switch r.WhiteCup {
 	case "", WhiteFormula:
 	case WhiteShop:
-		if cal == nil || cal.Silicon == nil || cal.Carbon == nil {
+		if !pending && (cal == nil || cal.Silicon == nil || cal.Carbon == nil) {
 			add(base+".reference.white_cup", "\"shop\" needs [calibration.silicon] and [calibration.carbon] (run `undercool calibrate`)")
 		}
 	default:
