@@ -67,7 +67,7 @@ const (
 	promFloor    = 0.05 // smallest prominence of an arrest in T', °C/s
 	dropFloor    = 0.3  // smallest temperature drop that settles a recalescence maximum, °C
 	promShare    = 0.15 // an arrest's prominence is at least this share of the preceding minimum of |T'|
-	longFactor   = 2  // refinement window of a flat eutectic arrest, in SlopeS
+	longFactor   = 2    // refinement window of a flat eutectic arrest, in SlopeS
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
 )
 
@@ -138,23 +138,28 @@ type Analyzer struct {
 	ready   bool
 
 	nIn          int // input readings consumed
+	first, mid   float64 // t[0] and temp[nIn/2] of the readings seen
 	lastT, lastV float64
+	goodT        int     // readings whose time was in order
+	lastGoodT    float64 // time of the last of them
 	badTime      int
+	limit        int   // once done: the last reading the result depends on
+	probAt       []int // reading index (accepted) of each problem
+	spikes       []int // indices of the despiked readings
 	stopped      bool // a fault or noise ended the usable data
 	end          int  // raw readings usable (when stopped)
 
 	ts, raw []float64 // accepted readings
 	x       []float64 // despiked readings
 	s, d    []float64 // smoothed T (°C) and T' (°C/s)
-	despike int
 
 	rate, dt        float64
 	ws, wd          int
 	ks, kd          *curve.Kernel
 	sls, sld, sll   curve.Sliding
 	dl              []float64 // work space: T' over a longer window
-	gainS, gainD    float64 // noise gains of T and T' (per °C of σ)
-	block           int     // noise block length, readings
+	gainS, gainD    float64   // noise gains of T and T' (per °C of σ)
+	block           int       // noise block length, readings
 	blockSig        []float64
 	sigByCount      []float64 // median σ of the first k blocks
 	validByCount    []int     // valid block estimates among the first k blocks
@@ -211,7 +216,7 @@ func (a *Analyzer) Analyze(t, temp []float64, opt Options) Result {
 	}
 	live := opt.Live
 	opt.Live = false
-	if !a.ready || opt != a.opt || len(t) < a.nIn || a.nIn > 0 && (t[a.nIn-1] != a.lastT || !same(temp[a.nIn-1], a.lastV)) {
+	if !a.ready || opt != a.opt || len(t) < a.nIn || a.nIn > 0 && (t[0] != a.first || !same(temp[a.nIn/2], a.mid) || t[a.nIn-1] != a.lastT || !same(temp[a.nIn-1], a.lastV)) {
 		a.reset(opt, len(t))
 	}
 	a.ingest(t, temp)
@@ -224,6 +229,11 @@ func (a *Analyzer) Analyze(t, temp []float64, opt Options) Result {
 	}
 	return a.result(live)
 }
+
+// Reset makes the next call start afresh. Analyze notices a different
+// curve by its first, middle and last readings; call Reset when a different
+// curve could agree with the previous one in those.
+func (a *Analyzer) Reset() { a.ready = false }
 
 func same(a, b float64) bool { return a == b || math.IsNaN(a) && math.IsNaN(b) }
 
@@ -242,7 +252,7 @@ func (a *Analyzer) reset(opt Options, n int) {
 		ts: a.ts[:0], raw: a.raw[:0], dl: a.dl[:0], x: a.x[:0], s: a.s[:0], d: a.d[:0],
 		blockSig: a.blockSig[:0], sigByCount: append(a.sigByCount[:0], 0), sorted: a.sorted[:0], scratch: a.scratch,
 		validByCount: append(a.validByCount[:0], 0),
-		ready: true, probs: nil, end: math.MaxInt, xmax: math.Inf(-1), pourConf: -1,
+		ready: true, probs: nil, probAt: a.probAt[:0], spikes: a.spikes[:0], end: math.MaxInt, limit: math.MaxInt, xmax: math.Inf(-1), pourConf: -1, // probs never reused: earlier Results share it
 	}
 	if opt.EutecticTopC != 0 {
 		a.h.EutecticTopC = opt.EutecticTopC
@@ -250,30 +260,38 @@ func (a *Analyzer) reset(opt Options, n int) {
 	a.det = detector{stage: stagePour, cand: -1}
 }
 
-func (a *Analyzer) problem(code, msg string, fatal bool) {
+// problem records a finding at accepted reading index at (the first of
+// each code counts).
+func (a *Analyzer) problem(at int, code, msg string, fatal bool) {
 	for _, p := range a.probs {
 		if p.Code == code {
 			return
 		}
 	}
 	a.probs = append(a.probs, Problem{Code: code, Message: msg, Fatal: fatal})
+	a.probAt = append(a.probAt, at)
 }
 
-// ingest takes the new readings: time order, range and noise blocks.
+// ingest takes the new readings: time order, range and noise blocks. The
+// time check runs on every reading, before and after a stop, against the
+// last reading whose time was in order, so that it depends on the input
+// alone.
 func (a *Analyzer) ingest(t, temp []float64) {
 	for i := a.nIn; i < len(t); i++ {
 		ti, v := t[i], temp[i]
-		a.nIn, a.lastT, a.lastV = i+1, ti, v
+		a.nIn = i + 1
+		if math.IsNaN(ti) || a.goodT > 0 && !(ti > a.lastGoodT) {
+			a.badTime++
+			a.problem(len(a.ts), CodeTimeOrder, fmt.Sprintf("time goes backwards or repeats at reading %d (t = %g s); such readings were left out", i+1, ti), true)
+			continue
+		}
+		a.goodT++
+		a.lastGoodT = ti
 		if a.stopped || a.det.stage == stageDone {
 			continue
 		}
-		if n := len(a.ts); math.IsNaN(ti) || n > 0 && !(ti > a.ts[n-1]) {
-			a.badTime++
-			a.problem(CodeTimeOrder, fmt.Sprintf("time goes backwards or repeats at reading %d (t = %g s); such readings were left out", i+1, ti), true)
-			continue
-		}
 		if math.IsNaN(v) || v > MaxValidC || v < MinValidC {
-			a.stop(len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: reading %g °C at %.1f s (open circuit or out of range); the curve after it was not analysed", v, ti))
+			a.stop(len(a.raw), len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: reading %g °C at %.1f s (open circuit or out of range); the curve after it was not analysed", v, ti))
 			continue
 		}
 		a.ts = append(a.ts, ti)
@@ -282,15 +300,18 @@ func (a *Analyzer) ingest(t, temp []float64) {
 			a.noiseBlocks()
 		}
 	}
+	if n := len(t); n > 0 {
+		a.first, a.mid, a.lastT, a.lastV = t[0], temp[n/2], t[n-1], temp[n-1]
+	}
 }
 
-func (a *Analyzer) stop(end int, code, msg string) {
+func (a *Analyzer) stop(at, end int, code, msg string) {
 	if a.stopped {
 		return
 	}
 	a.stopped = true
 	a.end = end
-	a.problem(code, msg, true)
+	a.problem(at, code, msg, true)
 }
 
 func (a *Analyzer) setRate() {
@@ -374,7 +395,7 @@ func (a *Analyzer) filter() {
 	for i := len(a.x); i+2 < n && n >= 5; i++ {
 		v, spike := curve.SpikeAt(raw, i, SpikeMinC, a.sigma(i))
 		if spike {
-			a.despike++
+			a.spikes = append(a.spikes, i)
 		}
 		// pour confirmation and the sustained-step fault, both on the despiked reading
 		if a.pourConf < 0 {
@@ -392,7 +413,7 @@ func (a *Analyzer) filter() {
 				a.pourConf = i
 			}
 		} else if i > 0 && math.Abs(v-a.x[i-1]) > StepFaultC {
-			a.stop(len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: the reading jumped from %.1f to %.1f °C at %.1f s and stayed; the curve after it was not analysed", a.x[i-1], v, a.ts[i]))
+			a.stop(i, len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: the reading jumped from %.1f to %.1f °C at %.1f s and stayed; the curve after it was not analysed", a.x[i-1], v, a.ts[i]))
 			a.end = i
 			break
 		}
@@ -474,8 +495,9 @@ func (a *Analyzer) detect() {
 		sig := a.sigma(j)
 		if e.stage != stagePour && sig > NoisyC && a.validBlocks(j) >= 5 {
 			// Too noisy: nothing from here on is used.
-			a.stop(len(a.raw), CodeNoisy, fmt.Sprintf("too noisy to trust: the reading scatters by about %.1f °C (more than %.1f °C) from %.0f s on; check the thermocouple, its wiring and earthing", sig, float64(NoisyC), a.ts[j]))
+			a.stop(j, len(a.raw), CodeNoisy, fmt.Sprintf("too noisy to trust: the reading scatters by about %.1f °C (more than %.1f °C) from %.0f s on; check the thermocouple, its wiring and earthing", sig, float64(NoisyC), a.ts[j]))
 			e.stage = stageDone
+			a.limit = a.xAvail(j) + 2
 			break
 		}
 		sd := sig * a.gainD
@@ -791,19 +813,36 @@ func (a *Analyzer) solidus() {
 	r.FreezingTimeS = r.Solidus.TimeS - first
 	r.Complete = true
 	e.stage = stageDone
+	a.limit = a.xAvail(e.j) + 2
 }
 
-// result assembles the Result of the current state.
+// result assembles the Result of the current state. Once the analysis is
+// done, findings after the last reading it depended on (a.limit) are left
+// out, so that the answer does not depend on how much more was fed.
 func (a *Analyzer) result(live bool) Result {
 	r := a.det.res
 	r.Samples = a.nIn - a.badTime
 	r.RateHz = a.rate
-	r.Despiked = a.despike
-	if a.stopped && a.det.j >= len(a.d) {
-		r.Complete = true
+	n := len(a.spikes)
+	for n > 0 && a.spikes[n-1] > a.limit {
+		n--
+	}
+	r.Despiked = n
+	if a.stopped && (a.det.j >= len(a.d) || a.det.stage == stageDone) {
+		r.Complete = true // the analysis has decided the curve will give no more
 	}
 	r.Problems = a.probs[:len(a.probs):len(a.probs)]
-	if live || r.Complete && !a.stopped {
+	if slices.ContainsFunc(a.probAt, func(at int) bool { return at > a.limit }) {
+		// rare: copy the problems that count
+		var keep []Problem
+		for k, p := range a.probs {
+			if a.probAt[k] <= a.limit {
+				keep = append(keep, p)
+			}
+		}
+		r.Problems = keep
+	}
+	if live || r.Complete && a.det.stage == stageDone && !a.stopped {
 		if len(r.Problems) == 0 {
 			r.Problems = nil
 		}

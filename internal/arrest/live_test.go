@@ -1,0 +1,101 @@
+package arrest
+
+import (
+	"fmt"
+	"math"
+	"reflect"
+	"testing"
+)
+
+// livePoints lists a result's settled values by name, for the
+// never-changes check.
+func livePoints(r *Result) map[string]Point {
+	return map[string]Point{
+		"pour_peak": r.PourPeak, "liquidus_min": r.LiquidusMin, "liquidus": r.Liquidus,
+		"eutectic_min": r.EutecticMin, "eutectic_max": r.EutecticMax, "solidus": r.Solidus,
+	}
+}
+
+// Live use: every 7th prefix of noisy constructed curves through one
+// Analyzer (incremental) and, for every 50th, through a fresh Analyze. A
+// point once reported never changes (exactly: the same arithmetic on the
+// same readings), the incremental and fresh answers agree, and the final
+// live answer deep-equals the offline one.
+func TestLiveSettledPointsNeverChange(t *testing.T) {
+	sh := shapes()
+	for c := range 2 * len(sh) {
+		s := sh[c%len(sh)]
+		rate := []float64{4, 10, 25}[c%3]
+		tt, v := s.sample(sampling{rate: rate, phase: 0.3, noise: 0.25, spikeP: 1.0 / 500, spikeLo: 10, spikeHi: 40, quant: 0.25, seed: uint64(77 + c), tailS: 0})
+		label := fmt.Sprintf("%s at %g Hz", s.name, rate)
+		offline := Analyze(tt, v, Options{Family: s.family})
+		var a Analyzer
+		seen := map[string]Point{}
+		completeAt := -1
+		var last Result
+		for k := 1; k <= len(tt); k += 7 {
+			if k+7 > len(tt) {
+				k = len(tt)
+			}
+			r := a.Analyze(tt[:k], v[:k], Options{Family: s.family, Live: true})
+			for name, p := range livePoints(&r) {
+				old, ok := seen[name]
+				switch {
+				case ok && !p.OK:
+					t.Fatalf("%s: %s vanished at reading %d", label, name, k)
+				case ok && (p.TempC != old.TempC || p.TimeS != old.TimeS):
+					t.Fatalf("%s: %s changed at reading %d: %+v -> %+v", label, name, k, old, p)
+				case !ok && p.OK:
+					seen[name] = p
+				}
+			}
+			if r.Complete && completeAt < 0 {
+				completeAt = k
+			}
+			if completeAt >= 0 && !r.Complete {
+				t.Fatalf("%s: Complete went back to false at %d", label, k)
+			}
+			if k%50 == 1 {
+				fresh := Analyze(tt[:k], v[:k], Options{Family: s.family, Live: true})
+				if !reflect.DeepEqual(fresh, r) {
+					t.Fatalf("%s: incremental and fresh analyses of %d readings differ:\n%+v\n%+v", label, k, r, fresh)
+				}
+			}
+			last = r
+		}
+		final := a.Analyze(tt, v, Options{Family: s.family})
+		if !reflect.DeepEqual(final, offline) {
+			t.Fatalf("%s: final live answer differs from offline:\n%+v\n%+v", label, final, offline)
+		}
+		last.Problems, offline.Problems = nil, nil
+		if !reflect.DeepEqual(last, offline) {
+			t.Fatalf("%s: last live (Live option) answer differs from offline:\n%+v\n%+v", label, last, offline)
+		}
+		if !offline.Complete {
+			t.Fatalf("%s: offline not complete: %v", label, offline.Problems)
+		}
+		t.Logf("%s: complete after %d of %d readings (%.0f s after the end of freezing)", label, completeAt, len(tt),
+			tt[completeAt-1]-offline.Solidus.TimeS)
+	}
+}
+
+// The Analyzer starts afresh when the slice is not the previous one grown.
+func TestAnalyzerRestartsOnNewCurve(t *testing.T) {
+	sh := shapes()
+	t1, v1 := sh[0].sample(sampling{rate: 10, noise: 0.1, seed: 1})
+	t2, v2 := sh[4].sample(sampling{rate: 10, noise: 0.1, seed: 2})
+	var a Analyzer
+	a.Analyze(t1, v1, Options{Family: sh[0].family})
+	got := a.Analyze(t2, v2, Options{Family: sh[4].family})
+	if want := Analyze(t2, v2, Options{Family: sh[4].family}); !reflect.DeepEqual(got, want) {
+		t.Fatalf("reused Analyzer differs from a fresh one:\n%+v\n%+v", got, want)
+	}
+	// same length, one earlier reading changed
+	v3 := append([]float64(nil), v2...)
+	v3[len(v3)/2] += 0.5 // the middle reading is among those compared
+	got = a.Analyze(t2, v3, Options{Family: sh[4].family})
+	if want := Analyze(t2, v3, Options{Family: sh[4].family}); !reflect.DeepEqual(got, want) {
+		t.Fatalf("changed reading not picked up")
+	}
+	_ = math.Pi
+}
