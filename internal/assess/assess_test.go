@@ -323,3 +323,14 @@ func TestJSONKeys(t *testing.T) {
 		}
 	}
 }
+
+func TestAssessEmptyCurveNeverPasses(t *testing.T) {
+	// Whatever the detector makes of an empty curve, it must not pass.
+	rec := Assess(Input{File: "empty.csv", Alloy: "Grey-Iron "})
+	if rec.Verdict == VerdictPass {
+		t.Errorf("an empty curve passed: %+v", rec)
+	}
+	if rec.Family != string(arrest.FamilyIron) {
+		t.Errorf("family %q", rec.Family)
+	}
+}

@@ -12,6 +12,7 @@ package limits
 
 import (
 	"sort"
+	"strings"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 )
@@ -113,12 +114,17 @@ type Limit struct {
 	Missing  string `toml:"missing"` // advice when the value could not be computed
 }
 
-// Alloy returns the named alloy's specification.
+// Alloy returns the named alloy's specification; a name not found as
+// given is tried in lower case without surrounding spaces.
 func (b *Book) Alloy(name string) (*Alloy, bool) {
 	if b == nil {
 		return nil, false
 	}
 	a, ok := b.Alloys[name]
+	if !ok {
+		// Curve metadata is typed by hand: "Grey-Iron " finds grey-iron.
+		a, ok = b.Alloys[strings.ToLower(strings.TrimSpace(name))]
+	}
 	return a, ok && a != nil
 }
 
