@@ -36,6 +36,9 @@ type plot struct {
 	xs, ys     []float64 // or points joined by a braille line (trend)
 	marks      []mark
 	levels     []level
+	// lc, when set, is a chart kept between draws: reused (cleared) when
+	// its size still fits, so a redraw does not allocate a new canvas.
+	lc *linechart.Model
 	// niceX widens x1 so that the labels, every xStep columns, fall on
 	// round values (multiples of 10 × a round step per column).
 	niceX bool
@@ -110,12 +113,31 @@ func (p plot) render(st *Styles) string {
 	}
 	yFmt, xFmt := p.yFmt, p.xFmt
 	ySteps := max(1, (p.h-2)/3)
-	lc := linechart.New(p.w, p.h, p.x0, p.x1, p.y0, p.y1,
-		linechart.WithXYSteps(xStep, ySteps),
-		linechart.WithStyles(st.Axis, st.Axis, p.line),
-		linechart.WithXLabelFormatter(func(_ int, v float64) string { return fmt.Sprintf(xFmt, v) }),
-		linechart.WithYLabelFormatter(func(_ int, v float64) string { return fmt.Sprintf(yFmt, v) }),
-	)
+	xf := func(_ int, v float64) string { return fmt.Sprintf(xFmt, v) }
+	yf := func(_ int, v float64) string { return fmt.Sprintf(yFmt, v) }
+	var lc *linechart.Model
+	if p.lc != nil && p.lc.Width() == p.w && p.lc.Height() == p.h {
+		lc = p.lc
+		lc.Clear()
+		lc.XLabelFormatter, lc.YLabelFormatter = xf, yf
+		lc.SetYStep(ySteps)
+		lc.SetXYRange(p.x0, p.x1, p.y0, p.y1)
+		lc.SetViewXYRange(p.x0, p.x1, p.y0, p.y1)
+		lc.Style = p.line
+		lc.UpdateGraphSizes()
+	} else {
+		n := linechart.New(p.w, p.h, p.x0, p.x1, p.y0, p.y1,
+			linechart.WithXYSteps(xStep, ySteps),
+			linechart.WithStyles(st.Axis, st.Axis, p.line),
+			linechart.WithXLabelFormatter(xf),
+			linechart.WithYLabelFormatter(yf),
+		)
+		lc = &n
+		if p.lc != nil {
+			*p.lc = n
+			lc = p.lc
+		}
+	}
 	lc.DrawXYAxisAndLabel()
 	for _, l := range p.levels {
 		if l.y < p.y0 || l.y > p.y1 {
@@ -128,8 +150,14 @@ func (p plot) render(st *Styles) string {
 	clampY := func(v float64) float64 { return math.Max(p.y0, math.Min(p.y1, v)) }
 	pt := func(x, y float64) canvas.Point { return g.GridPoint(canvas.Float64Point{X: x, Y: clampY(y)}) }
 	line := func(a, b canvas.Point) {
-		for _, q := range graph.GetLinePoints(a, b) {
-			g.Set(q)
+		dx, dy := b.X-a.X, b.Y-a.Y
+		n := max(abs(dx), abs(dy))
+		if n == 0 {
+			g.Set(a)
+			return
+		}
+		for i := 0; i <= n; i++ {
+			g.Set(canvas.Point{X: a.X + (dx*i+sign(dx)*n/2)/n, Y: a.Y + (dy*i+sign(dy)*n/2)/n})
 		}
 	}
 	if tr := p.tr; tr != nil && tr.len() > 0 {
@@ -158,47 +186,85 @@ func (p plot) render(st *Styles) string {
 		}
 		lc.DrawRuneWithStyle(canvas.Float64Point{X: m.x, Y: m.y}, m.r, st.Mark)
 	}
-	return renderCanvas(&lc.Canvas)
+	return renderCanvas(st, &lc.Canvas)
 }
 
-// renderCanvas turns a canvas into text. Unlike canvas.View, which styles
-// every cell on its own, it styles runs of cells that share colour and
-// weight at once: the same text for a fraction of the work.
-func renderCanvas(c *canvas.Model) string {
-	var sb, run strings.Builder
+// renderCanvas turns a canvas into text. Unlike canvas.View, which runs
+// lipgloss over every cell, it writes each run of cells that share colour
+// and weight between one cached pair of escape sequences: the same text for
+// a small part of the work.
+func renderCanvas(st *Styles, c *canvas.Model) string {
+	var sb strings.Builder
 	w, h := c.Width(), c.Height()
-	sb.Grow(w * h * 3)
+	sb.Grow(w * h * 4)
 	for y := 0; y < h; y++ {
-		var cur lipgloss.Style
-		var curFg lipgloss.TerminalColor
-		curBold, open := false, false
-		flush := func() {
-			if run.Len() > 0 {
-				sb.WriteString(cur.Render(run.String()))
-				run.Reset()
-			}
-		}
+		var cur runKey
+		open := false
 		for x := 0; x < w; x++ {
 			cell := c.Cell(canvas.Point{X: x, Y: y})
 			r := cell.Rune
 			if r == 0 {
 				r = ' '
 			}
-			fg, bold := cell.Style.GetForeground(), cell.Style.GetBold()
 			if r == ' ' && open {
-				run.WriteRune(r) // a space looks the same in any colour
+				sb.WriteRune(r) // a space looks the same in any colour
 				continue
 			}
-			if !open || fg != curFg || bold != curBold {
-				flush()
-				cur, curFg, curBold, open = cell.Style, fg, bold, true
+			k := runKey{fg: cell.Style.GetForeground(), bold: cell.Style.GetBold()}
+			if !open || k != cur {
+				if open {
+					sb.WriteString(st.runStyle(cur, cell.Style)[1])
+				}
+				sb.WriteString(st.runStyle(k, cell.Style)[0])
+				cur, open = k, true
 			}
-			run.WriteRune(r)
+			sb.WriteRune(r)
 		}
-		flush()
+		if open {
+			sb.WriteString(st.runStyle(cur, lipgloss.Style{})[1])
+		}
 		if y < h-1 {
 			sb.WriteByte('\n')
 		}
 	}
 	return sb.String()
+}
+
+// runKey is what tells chart cells' looks apart.
+type runKey struct {
+	fg   lipgloss.TerminalColor
+	bold bool
+}
+
+// runStyle gives the escape sequences that open and close a run of cells
+// drawn with s, found once by rendering a marker and cached.
+func (st *Styles) runStyle(k runKey, s lipgloss.Style) [2]string {
+	if v, ok := st.runs[k]; ok {
+		return v
+	}
+	out := s.Render("\x00")
+	i := strings.IndexByte(out, 0)
+	v := [2]string{out[:i], out[i+1:]}
+	if st.runs == nil {
+		st.runs = map[runKey][2]string{}
+	}
+	st.runs[k] = v
+	return v
+}
+
+func abs(v int) int {
+	if v < 0 {
+		return -v
+	}
+	return v
+}
+
+func sign(v int) int {
+	switch {
+	case v < 0:
+		return -1
+	case v > 0:
+		return 1
+	}
+	return 0
 }

@@ -5,7 +5,9 @@ import (
 	"math"
 	"strings"
 
+	"github.com/NimbleMarkets/ntcharts/linechart"
 	"github.com/charmbracelet/lipgloss"
+	"github.com/charmbracelet/x/ansi"
 
 	"github.com/undercool-foundry/undercool/acquire"
 	"github.com/undercool-foundry/undercool/internal/arrest"
@@ -40,6 +42,8 @@ type cup struct {
 	t0         float64   // acquirer time of the sample start
 	t, v       []float64 // the whole sample curve, s from t0 and °C
 	temp, rate trace
+	tempLC     *linechart.Model // charts kept between draws
+	rateLC     *linechart.Model
 	sl         slope
 	peakT      float64 // time of the highest reading so far (end of the pour transient)
 	peakV      float64
@@ -55,7 +59,8 @@ type cup struct {
 }
 
 func newCup(id string) *cup {
-	return &cup{id: id, temp: newTrace(), rate: newTrace(), sl: slope{w: 2}, peakV: math.Inf(-1)}
+	return &cup{id: id, temp: newTrace(), rate: newTrace(), sl: slope{w: 2}, peakV: math.Inf(-1),
+		tempLC: &linechart.Model{}, rateLC: &linechart.Model{}}
 }
 
 // busy reports whether a sample is being recorded.
@@ -389,7 +394,7 @@ func (c *cup) tempPlot(st *Styles, w, h int) plot {
 	}
 	lo, hi = padRange(lo, hi, 0.05, 20)
 	return plot{w: w, h: h, x0: 0, x1: x1, y0: math.Floor(lo/10) * 10, y1: math.Ceil(hi/10) * 10,
-		yFmt: "%6.0f", xFmt: "%.0fs", line: st.Curve, tr: &c.temp, marks: c.marks(), niceX: true}.roundX()
+		yFmt: "%6.0f", xFmt: "%.0fs", line: st.Curve, tr: &c.temp, marks: c.marks(), niceX: true, lc: c.tempLC}.roundX()
 }
 
 func (c *cup) ratePlot(st *Styles, w, h int, x1 float64) plot {
@@ -400,7 +405,7 @@ func (c *cup) ratePlot(st *Styles, w, h int, x1 float64) plot {
 	lo, hi = math.Min(lo, 0), math.Max(hi, 0)
 	lo, hi = padRange(lo, hi, 0.1, 1)
 	return plot{w: w, h: h, x0: 0, x1: x1, y0: lo, y1: hi, yFmt: "%+6.1f", xFmt: "%.0fs", line: st.Rate, tr: &c.rate,
-		levels: []level{{y: 0, r: '·', style: st.Axis}}, niceX: true}
+		levels: []level{{y: 0, r: '·', style: st.Axis}}, niceX: true, lc: c.rateLC}
 }
 
 func (c *cup) charts(st *Styles, w, h int) string {
@@ -452,13 +457,25 @@ func box(s string, w, h int) string {
 	if len(lines) > h {
 		lines = lines[:h]
 	}
-	for i, l := range lines {
-		lines[i] = clip(l, w)
-	}
 	for len(lines) < h {
 		lines = append(lines, "")
 	}
-	return lipgloss.NewStyle().Width(w).Render(strings.Join(lines, "\n"))
+	for i, l := range lines {
+		lines[i] = fit(l, w)
+	}
+	return strings.Join(lines, "\n")
+}
+
+// fit cuts or pads a styled line to exactly w cells.
+func fit(l string, w int) string {
+	n := ansi.StringWidth(l)
+	switch {
+	case n > w:
+		return ansi.Truncate(l, w, "")
+	case n < w:
+		return l + strings.Repeat(" ", w-n)
+	}
+	return l
 }
 
 // clip cuts a styled line to w cells.

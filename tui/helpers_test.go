@@ -125,3 +125,10 @@ func asciiStyles() *Styles {
 var ansiRE = regexp.MustCompile("\x1b\\[[0-9;?]*[ -/]*[@-~]")
 
 func stripANSI(s string) string { return ansiRE.ReplaceAllString(s, "") }
+
+// colourRenderer renders true colour, as on a modern terminal.
+func colourRenderer() *lipgloss.Renderer {
+	r := lipgloss.NewRenderer(nil)
+	r.SetColorProfile(termenv.TrueColor)
+	return r
+}

@@ -142,7 +142,9 @@ func (p *livePane) batch(b Batch) []Entry {
 	}
 	k := 0
 	for _, r := range b.Readings {
-		for k < len(evs) && evs[k].TimeS <= r.TimeS {
+		// An event at the same time as a reading comes before it, except
+		// the end of a sample, whose last reading it follows.
+		for k < len(evs) && (evs[k].TimeS < r.TimeS || evs[k].TimeS == r.TimeS && evs[k].Kind != EventSampleDone) {
 			apply(evs[k])
 			k++
 		}

@@ -36,6 +36,7 @@ type Styles struct {
 	Verdict                 map[string]lipgloss.Style // by assess verdict value
 	verdictBorder           map[string]lipgloss.Border
 	renderer                *lipgloss.Renderer
+	runs                    map[runKey][2]string // chart runs' escape sequences
 }
 
 // NewStyles builds the styles for one renderer.

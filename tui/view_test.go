@@ -14,7 +14,12 @@ import (
 	"github.com/undercool-foundry/undercool/internal/limits"
 )
 
-var update = flag.Bool("update", false, "rewrite the golden files")
+// updating reports -update (the flag is registered by x/exp/golden, which
+// teatest uses; `go test ./tui -update` rewrites our golden files too).
+func updating() bool {
+	f := flag.Lookup("update")
+	return f != nil && f.Value.String() == "true"
+}
 
 // fixedClock is a clock that always says 09:41 on the test day: views must
 // not depend on the real time.
@@ -108,7 +113,7 @@ func checkGolden(t *testing.T, name, got string) {
 	t.Helper()
 	got = stripANSI(got)
 	path := filepath.Join("testdata", name+".golden")
-	if *update {
+	if updating() {
 		if err := os.WriteFile(path, []byte(got), 0o644); err != nil {
 			t.Fatal(err)
 		}
