@@ -27,7 +27,7 @@ func packNumbers(rec *assess.Record) []byte {
 	b = binary.LittleEndian.AppendUint64(b, uint64(int64(rec.Despiked)))
 	b = binary.LittleEndian.AppendUint64(b, math.Float64bits(rec.RateHz))
 	for i, p := range pointDests(rec) {
-		if *p != nil {
+		if p != nil && *p != nil {
 			mask |= 1 << i
 			b = binary.LittleEndian.AppendUint64(b, math.Float64bits(**p))
 		}
@@ -58,7 +58,9 @@ func unpackNumbers(b []byte, rec *assess.Record) error {
 			return errPacked
 		}
 		vals = append(vals, math.Float64frombits(u()))
-		*p = &vals[len(vals)-1]
+		if p != nil {
+			*p = &vals[len(vals)-1]
+		}
 	}
 	if len(b) != 0 {
 		return errPacked

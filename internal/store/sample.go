@@ -15,6 +15,7 @@ import (
 	"slices"
 	"strings"
 	"time"
+	"unsafe"
 
 	"github.com/undercool-foundry/undercool/internal/assess"
 )
@@ -86,25 +87,52 @@ func Metrics() []string {
 // metricField is one *float64 field of assess.Record.
 type metricField struct {
 	key    string // JSON key
+	index  int    // field index in assess.Record
 	column bool   // results has a column of this name
 }
 
-// pointColumns are the results columns of migration 0001 that copy Record
-// keys, in the order of pointDests; keys without a column are read from
-// the record JSON.
+// pointColumns are the results columns (migration 0001) that copy Record
+// numbers, one per *float64 key; keys without a column (added to the
+// Record later) are read from the record JSON.
 var pointColumns = []string{
 	"pour_peak_c", "pour_peak_s", "liquidus_min_c", "liquidus_min_s", "liquidus_c", "liquidus_s",
 	"eutectic_min_c", "eutectic_min_s", "eutectic_max_c", "eutectic_max_s", "recalescence_c",
 	"solidus_c", "solidus_s", "plateau_s", "cooling_rate_c_per_s", "freezing_time_s",
+	"stable_eutectic_c", "metastable_eutectic_c", "undercooling_c", "chill_margin_c",
+	"ce", "ce_classic", "cel_koriyama2020", "cel_heine", "cel_shop", "white_eutectic_c", "c_pct", "si_pct",
+	"liquidus_ref_c", "alpha_undercooling_c", "alpha_recalescence_c", "eutectic_ref_c", "eutectic_depression_c",
+	"plateau_c", "fixed_point_c", "fixed_point_error_c",
 }
 
-// pointDests gives the Record's fields for pointColumns, in that order.
-func pointDests(r *assess.Record) []**float64 {
-	return []**float64{
-		&r.PourPeakC, &r.PourPeakS, &r.LiquidusMinC, &r.LiquidusMinS, &r.LiquidusC, &r.LiquidusS,
-		&r.EutecticMinC, &r.EutecticMinS, &r.EutecticMaxC, &r.EutecticMaxS, &r.RecalescenceC,
-		&r.SolidusC, &r.SolidusS, &r.PlateauS, &r.CoolingRateCps, &r.FreezingTimeS,
+// pointOffsets are the offsets in assess.Record of the *float64 fields of
+// pointColumns, found by JSON key; a column whose key the Record no longer
+// has gets ^0 and stays null.
+var pointOffsets = func() []uintptr {
+	offs := make([]uintptr, len(pointColumns))
+	rt := reflect.TypeFor[assess.Record]()
+	for i, col := range pointColumns {
+		offs[i] = ^uintptr(0)
+		for j := range rt.NumField() {
+			f := rt.Field(j)
+			if key, _, _ := strings.Cut(f.Tag.Get("json"), ","); key == col && f.Type == reflect.TypeFor[*float64]() {
+				offs[i] = f.Offset
+			}
+		}
 	}
+	return offs
+}()
+
+// pointDests gives the Record's fields for pointColumns, in that order
+// (nil for a column without a field). The fields are reached by offset:
+// reflection per row would cost more than the query (see BenchmarkHistoryMonth).
+func pointDests(r *assess.Record) []**float64 {
+	ds := make([]**float64, len(pointOffsets))
+	for i, off := range pointOffsets {
+		if off != ^uintptr(0) {
+			ds[i] = (**float64)(unsafe.Add(unsafe.Pointer(r), off))
+		}
+	}
+	return ds
 }
 
 var metricFields = func() []metricField {
@@ -117,10 +145,24 @@ var metricFields = func() []metricField {
 		if f.Type != ptr || key == "" || key == "-" {
 			continue
 		}
-		fs = append(fs, metricField{key: key, column: slices.Contains(pointColumns, key)})
+		fs = append(fs, metricField{key: key, index: i, column: slices.Contains(pointColumns, key)})
 	}
 	return fs
 }()
+
+// Value returns a record's value of a metric from Metrics; false when it
+// is null or not a metric.
+func Value(rec assess.Record, metric string) (float64, bool) {
+	f, ok := metricByKey(metric)
+	if !ok {
+		return 0, false
+	}
+	p := reflect.ValueOf(rec).Field(f.index).Interface().(*float64)
+	if p == nil {
+		return 0, false
+	}
+	return *p, true
+}
 
 func metricByKey(key string) (metricField, bool) {
 	for _, f := range metricFields {
@@ -277,6 +319,9 @@ func (in *inserter) addSample(ctx context.Context, s *Sample, now time.Time) (in
 
 // addResult inserts a result and makes it its sample's latest.
 func (in *inserter) addResult(ctx context.Context, sampleID int64, rec assess.Record, limitsVersion string, now time.Time) (int64, error) {
+	if limitsVersion == "" {
+		limitsVersion = rec.LimitsVersion
+	}
 	js, err := recordJSON(rec)
 	if err != nil {
 		return 0, err
@@ -285,7 +330,7 @@ func (in *inserter) addResult(ctx context.Context, sampleID int64, rec assess.Re
 	args = append(args, sampleID, formatTime(now), limitsVersion, rec.Verdict, joinLines(reasonsFromJSON(js)),
 		joinLines(rec.Problems), rec.File, rec.Samples, rec.SkippedLines, rec.Despiked, rec.RateHz, packNumbers(&rec), string(js))
 	for _, p := range pointDests(&rec) {
-		if *p == nil {
+		if p == nil || *p == nil {
 			args = append(args, nil)
 		} else {
 			args = append(args, **p)
@@ -429,7 +474,11 @@ func (db *DB) Put(ctx context.Context, s Sample) (int64, PutOutcome, error) {
 		if err != nil {
 			return err
 		}
-		if lastVersion == s.LimitsVersion && lastRecord == string(js) {
+		lv := s.LimitsVersion
+		if lv == "" {
+			lv = s.Record.LimitsVersion
+		}
+		if lastVersion == lv && lastRecord == string(js) {
 			out = PutUnchanged
 			return nil
 		}

@@ -391,6 +391,7 @@ func TestHistoryColumnsMatchRecord(t *testing.T) {
 	full.LiquidusMinC, full.LiquidusMinS, full.LiquidusC, full.LiquidusS = f64(1178.5), f64(40.5), f64(1180.125), f64(44)
 	full.PlateauS, full.CoolingRateCps, full.FreezingTimeS = f64(61.5), f64(-1.75), f64(135.25)
 	full.SkippedLines, full.Despiked, full.File = 2, 1, "/deck/L-2417.csv"
+	full.UndercoolingC, full.CE, full.FixedPointErrorC = f64(12.5), f64(4.31), f64(-0.25)
 	full.Problems = []string{"too noisy", "recording ended early"}
 	sparse := constructedRecord("al-si7mg", 570, "invalid")
 	sparse.EutecticMaxC, sparse.SolidusS, sparse.RateHz = nil, nil, 0
@@ -598,6 +599,12 @@ func TestMetrics(t *testing.T) {
 			t.Errorf("Metrics() lacks %s: %v", k, m)
 		}
 	}
+	if v, ok := Value(constructedRecord("grey-iron", 1143.5, "pass"), "eutectic_min_c"); !ok || v != 1143.5 {
+		t.Errorf("Value(eutectic_min_c) = %v, %v", v, ok)
+	}
+	if _, ok := Value(assess.Record{}, "eutectic_min_c"); ok {
+		t.Error("Value of a null point is not false")
+	}
 	if slices.Contains(m, "verdict") || slices.Contains(m, "samples") {
 		t.Errorf("Metrics() holds non-metric keys: %v", m)
 	}
@@ -610,7 +617,14 @@ func TestMetrics(t *testing.T) {
 	b, _ := json.Marshal(rec)
 	var keys map[string]any
 	json.Unmarshal(b, &keys)
+	if len(pointColumns) > 64 {
+		t.Fatalf("%d point columns: the packed bitmap holds 64", len(pointColumns))
+	}
 	for i, col := range pointColumns {
+		if pointOffsets[i] == ^uintptr(0) {
+			t.Errorf("point column %s has no *float64 field in assess.Record", col)
+			continue
+		}
 		if keys[col] != float64(i) {
 			t.Errorf("pointDests[%d] is not the field of key %s (json %s)", i, col, b)
 		}

@@ -1,0 +1,200 @@
+package main
+
+import (
+	"bufio"
+	"context"
+	"encoding/csv"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/undercool-foundry/undercool/internal/store"
+)
+
+func init() {
+	register(command{
+		name:    "export",
+		summary: "write the stored samples as CSV (for a spreadsheet) or JSON lines",
+		run:     runExport,
+	})
+}
+
+const exportUsage = `usage: undercool export [--csv|--json] [--decimal-comma] [--bom] [--out FILE]
+                        [--alloy A] [--ladle L] [--since D] [--until D] [--verdict V]
+                        [--all-results] [--db PATH]
+
+Writes the stored samples, oldest first, with every result figure: CSV with
+a header row and ISO 8601 UTC times (default), or one JSON object a line.
+--decimal-comma writes semicolon-separated CSV with decimal commas, as
+spreadsheets set to most European locales expect. Text that a spreadsheet
+would take for a formula (starting with = + - @) gets a leading '.
+`
+
+func runExport(ctx context.Context, env *environ, args []string) error {
+	fs := flag.NewFlagSet("export", flag.ContinueOnError)
+	fs.SetOutput(env.stderr)
+	fs.Usage = func() { fmt.Fprint(env.stderr, exportUsage); fs.PrintDefaults() }
+	var (
+		f   recordsFlags
+		opt csvOptions
+		out string
+	)
+	f.register(fs)
+	fs.BoolVar(&opt.decimalComma, "decimal-comma", false, "CSV with ';' separators and decimal commas")
+	fs.BoolVar(&opt.bom, "bom", false, "start the CSV with a UTF-8 byte-order mark (for spreadsheets that need one)")
+	fs.StringVar(&out, "out", "", "write to `FILE` (default standard output)")
+	if err := fs.Parse(args); err != nil {
+		if err == flag.ErrHelp {
+			return nil
+		}
+		return errUsage
+	}
+	if fs.NArg() > 0 {
+		fmt.Fprintf(env.stderr, "undercool export: unexpected argument %q\n", fs.Arg(0))
+		return errUsage
+	}
+	if f.json && (f.csv || opt.decimalComma || opt.bom) {
+		fmt.Fprintln(env.stderr, "undercool export: --json does not go with --csv, --decimal-comma or --bom")
+		return errUsage
+	}
+	flt, err := f.filter(time.Now())
+	if err != nil {
+		fmt.Fprintf(env.stderr, "undercool export: %v\n", err)
+		return errUsage
+	}
+	flt.Full, flt.Oldest = true, true
+	db, err := openRecords(ctx, env, f.db)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	entries, err := db.History(ctx, flt)
+	if err != nil {
+		return err
+	}
+	write := func(w io.Writer) error {
+		if f.json {
+			return writeJSONLines(w, entries)
+		}
+		return writeRecordsCSV(w, entries, opt)
+	}
+	if out == "" {
+		return write(env.stdout)
+	}
+	if err := writeExportFile(out, write); err != nil {
+		return err
+	}
+	fmt.Fprintf(env.stderr, "wrote %d samples to %s\n", len(entries), out)
+	return nil
+}
+
+// writeExportFile writes through a temporary file renamed into place, so
+// an existing export is never left half-written.
+func writeExportFile(path string, write func(io.Writer) error) error {
+	tmp, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*")
+	if err != nil {
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
+	defer os.Remove(tmp.Name())
+	bw := bufio.NewWriter(tmp)
+	err = write(bw)
+	if err == nil {
+		err = bw.Flush()
+	}
+	if err == nil {
+		err = tmp.Sync()
+	}
+	if cerr := tmp.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil {
+		err = os.Rename(tmp.Name(), path)
+	}
+	if err != nil {
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
+	return nil
+}
+
+type csvOptions struct {
+	decimalComma bool // ';' separators, ',' decimal marks
+	bom          bool // UTF-8 byte-order mark first
+}
+
+// csvTextColumns are the text columns of the CSV, before the figures.
+var csvTextColumns = []string{"sample_id", "result_id", "recorded_at", "analysed_at", "sample", "ladle", "alloy", "furnace",
+	"operator", "channel", "thermocouple", "verdict", "limits_version"}
+
+// csvTailColumns follow the figures.
+var csvTailColumns = []string{"samples", "rate_hz", "reasons", "advice", "curve_path", "curve_sha256", "interrupted", "simulated", "note"}
+
+// writeRecordsCSV writes a header row and one row per entry: the sample's
+// fields, every metric of store.Metrics() (empty where null), then the
+// rest. Times are ISO 8601 UTC; lists are joined with " | ".
+func writeRecordsCSV(w io.Writer, entries []store.Entry, opt csvOptions) error {
+	if opt.bom {
+		if _, err := io.WriteString(w, "\uFEFF"); err != nil {
+			return err
+		}
+	}
+	cw := csv.NewWriter(w)
+	cw.UseCRLF = true // RFC 4180
+	if opt.decimalComma {
+		cw.Comma = ';'
+	}
+	metrics := store.Metrics()
+	head := append(append(append([]string{}, csvTextColumns...), metrics...), csvTailColumns...)
+	if err := cw.Write(head); err != nil {
+		return err
+	}
+	num := func(v float64) string {
+		s := strconv.FormatFloat(v, 'f', -1, 64)
+		if opt.decimalComma {
+			s = strings.Replace(s, ".", ",", 1)
+		}
+		return s
+	}
+	yes := func(b bool) string {
+		if b {
+			return "yes"
+		}
+		return "no"
+	}
+	row := make([]string, 0, len(head))
+	for _, e := range entries {
+		s, r := e.Sample, e.Result
+		row = append(row[:0], strconv.FormatInt(s.ID, 10), strconv.FormatInt(r.ID, 10),
+			s.Recorded.UTC().Format(time.RFC3339), r.Analysed.UTC().Format(time.RFC3339),
+			csvText(s.Sample), csvText(s.Ladle), csvText(s.Alloy), csvText(s.Furnace), csvText(s.Operator), csvText(s.Channel),
+			csvText(s.Thermocouple), r.Verdict, csvText(r.LimitsVersion))
+		for _, m := range metrics {
+			if v, ok := store.Value(r.Record, m); ok {
+				row = append(row, num(v))
+			} else {
+				row = append(row, "")
+			}
+		}
+		row = append(row, strconv.Itoa(r.Record.Samples), num(r.Record.RateHz),
+			csvText(strings.Join(r.Reasons, " | ")), csvText(strings.Join(r.Record.Advice, " | ")),
+			csvText(s.CurvePath), s.CurveSHA256, yes(s.Interrupted), yes(s.Simulated), csvText(s.Note))
+		if err := cw.Write(row); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// csvText keeps a spreadsheet from taking text for a formula (OWASP, "CSV
+// injection"): text starting with = + - @ (or a tab or CR) gets a leading '.
+func csvText(s string) string {
+	if s != "" && strings.ContainsRune("=+-@\t\r", rune(s[0])) {
+		return "'" + s
+	}
+	return s
+}
