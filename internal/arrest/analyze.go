@@ -137,7 +137,7 @@ type Analyzer struct {
 	reserve int
 	ready   bool
 
-	nIn          int // input readings consumed
+	nIn          int     // input readings consumed
 	first, mid   float64 // t[0] and temp[nIn/2] of the readings seen
 	lastT, lastV float64
 	goodT        int     // readings whose time was in order
@@ -146,8 +146,8 @@ type Analyzer struct {
 	limit        int   // once done: the last reading the result depends on
 	probAt       []int // reading index (accepted) of each problem
 	spikes       []int // indices of the despiked readings
-	stopped      bool // a fault or noise ended the usable data
-	end          int  // raw readings usable (when stopped)
+	stopped      bool  // a fault or noise ended the usable data
+	end          int   // raw readings usable (when stopped)
 
 	ts, raw []float64 // accepted readings
 	x       []float64 // despiked readings
@@ -252,7 +252,7 @@ func (a *Analyzer) reset(opt Options, n int) {
 		ts: a.ts[:0], raw: a.raw[:0], dl: a.dl[:0], x: a.x[:0], s: a.s[:0], d: a.d[:0],
 		blockSig: a.blockSig[:0], sigByCount: append(a.sigByCount[:0], 0), sorted: a.sorted[:0], scratch: a.scratch,
 		validByCount: append(a.validByCount[:0], 0),
-		ready: true, probs: nil, probAt: a.probAt[:0], spikes: a.spikes[:0], end: math.MaxInt, limit: math.MaxInt, xmax: math.Inf(-1), pourConf: -1, // probs never reused: earlier Results share it
+		ready:        true, probs: nil, probAt: a.probAt[:0], spikes: a.spikes[:0], end: math.MaxInt, limit: math.MaxInt, xmax: math.Inf(-1), pourConf: -1, // probs never reused: earlier Results share it
 	}
 	if opt.EutecticTopC != 0 {
 		a.h.EutecticTopC = opt.EutecticTopC

@@ -25,7 +25,7 @@ func TestLiveSettledPointsNeverChange(t *testing.T) {
 	sh := shapes()
 	for c := range 2 * len(sh) {
 		s := sh[c%len(sh)]
-		rate := []float64{4, 10, 25}[c%3]
+		rate := []float64{4, 10, 25}[(c+c/len(sh))%3]
 		tt, v := s.sample(sampling{rate: rate, phase: 0.3, noise: 0.25, spikeP: 1.0 / 500, spikeLo: 10, spikeHi: 40, quant: 0.25, seed: uint64(77 + c), tailS: 0})
 		label := fmt.Sprintf("%s at %g Hz", s.name, rate)
 		offline := Analyze(tt, v, Options{Family: s.family})
