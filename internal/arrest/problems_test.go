@@ -143,7 +143,11 @@ func TestProblems(t *testing.T) {
 			t.Fatalf("problems %v, despiked %d", r.Problems, r.Despiked)
 		}
 		for name, p := range livePoints(&r) {
-			if q := livePoints(&want)[name]; p.OK != q.OK || math.Abs(p.TempC-q.TempC) > 0.05 {
+			tol := 0.05 // a replaced reading is a neighbour's, not the clean value: a little moves
+			if name == "solidus" {
+				tol = 0.3 // T' is −3.5 °C/s there
+			}
+			if q := livePoints(&want)[name]; p.OK != q.OK || math.Abs(p.TempC-q.TempC) > tol {
 				t.Errorf("%s moved by spikes: %+v vs %+v", name, p, q)
 			}
 		}
