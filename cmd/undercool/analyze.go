@@ -1,0 +1,266 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"runtime"
+	"strings"
+	"sync"
+
+	"github.com/mattn/go-isatty"
+
+	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/limits"
+)
+
+func init() {
+	register(command{
+		name:    "analyze",
+		summary: "analyse curve files: characteristic points, problems and verdict (table or --json)",
+		run:     runAnalyze,
+	})
+}
+
+const analyzeUsage = `usage: undercool analyze [--json] [--alloy NAME] [--limits FILE] FILE...
+
+Reads each curve file, finds the characteristic points of its cooling curve
+and judges them against the alloy's limits. The alloy comes from --alloy,
+else from the file's '# alloy:' line. Without --limits the shipped example
+limits are used, whose numbers the shop's metallurgist must set.
+
+--json writes one JSON object per file, one a line, as each file finishes.
+Exit status 1 when some file could not be read (the others are still
+analysed); the reasons go to stderr, naming file and line.
+
+The verdict and advice assist the shop's own written procedures and its
+metallurgist; they do not replace them.`
+
+// analyzed is one file's outcome.
+type analyzed struct {
+	index int
+	rec   assess.Record
+	err   error // the file could not be read
+}
+
+func runAnalyze(ctx context.Context, env *environ, args []string) error {
+	fs := flag.NewFlagSet("analyze", flag.ContinueOnError)
+	fs.SetOutput(env.stderr)
+	fs.Usage = func() { fmt.Fprintln(env.stderr, analyzeUsage) }
+	asJSON := fs.Bool("json", false, "one JSON object per file per line")
+	alloy := fs.String("alloy", "", "alloy name for every file (overrides '# alloy:')")
+	limitsPath := fs.String("limits", "", "limits file (default: the shipped examples)")
+	files, err := parseLimitsArgs(fs, args)
+	if err != nil {
+		return errUsage
+	}
+	if len(files) == 0 {
+		fmt.Fprintln(env.stderr, analyzeUsage)
+		return errUsage
+	}
+	var book *limits.Book // nil: assess uses the shipped examples
+	if *limitsPath != "" {
+		if book, err = limits.Load(*limitsPath); err != nil {
+			return err
+		}
+	}
+
+	out := &analyzeOutput{env: env, json: *asJSON, files: files, progress: stderrIsTerminal(env)}
+	out.start()
+	failed := false
+	for a := range analyzeFiles(ctx, files, *alloy, book) {
+		if a.err != nil {
+			failed = true
+		}
+		if err := out.result(a); err != nil {
+			return err
+		}
+	}
+	if err := out.finish(); err != nil {
+		return err
+	}
+	if ctx.Err() != nil {
+		return ctx.Err()
+	}
+	if failed {
+		return exitError{1}
+	}
+	return nil
+}
+
+// analyzeFiles reads and assesses the files on GOMAXPROCS workers and sends
+// each outcome as soon as it is ready (in finishing order). The channel is
+// closed when every file is done or ctx is cancelled.
+func analyzeFiles(ctx context.Context, files []string, alloy string, book *limits.Book) <-chan analyzed {
+	jobs := make(chan int)
+	results := make(chan analyzed)
+	workers := min(runtime.GOMAXPROCS(0), len(files))
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Go(func() {
+			for i := range jobs {
+				results <- analyzeOne(i, files[i], alloy, book)
+			}
+		})
+	}
+	go func() {
+		defer close(jobs)
+		for i := range files {
+			select {
+			case jobs <- i:
+			case <-ctx.Done():
+				return
+			}
+		}
+	}()
+	go func() {
+		wg.Wait()
+		close(results)
+	}()
+	return results
+}
+
+func analyzeOne(i int, path, alloy string, book *limits.Book) analyzed {
+	c, err := curvefile.ReadFile(path)
+	if err != nil {
+		return analyzed{index: i, err: err}
+	}
+	if alloy == "" {
+		alloy = c.Get("alloy")
+	}
+	rec := assess.Assess(assess.Input{
+		File: path, Alloy: alloy, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped,
+		Limits: book, Meta: c.Meta,
+	})
+	return analyzed{index: i, rec: rec}
+}
+
+func stderrIsTerminal(env *environ) bool {
+	f, ok := env.stderr.(*os.File)
+	return ok && isatty.IsTerminal(f.Fd())
+}
+
+// analyzeOutput prints outcomes as they arrive: JSON lines, or table rows
+// followed by each file's problems, reasons and advice.
+type analyzeOutput struct {
+	env      *environ
+	json     bool
+	files    []string
+	progress bool // stderr is a terminal: keep a progress line there
+
+	fileW, alloyW int
+	done, failed  int
+	details       []*assess.Record // by input index, for the notes after the table
+}
+
+func (o *analyzeOutput) start() {
+	if o.json {
+		return
+	}
+	o.details = make([]*assess.Record, len(o.files))
+	o.fileW, o.alloyW = len("file"), len("alloy")
+	for _, f := range o.files {
+		o.fileW = max(o.fileW, len([]rune(f)))
+	}
+	o.alloyW = max(o.alloyW, len("ductile-iron"))
+	fmt.Fprintf(o.env.stdout, "%-*s  %-*s  %7s  %8s  %8s  %8s  %6s  %8s  %s\n",
+		o.fileW, "file", o.alloyW, "alloy", "samples", "liquidus", "eut.min", "eut.max", "recal.", "solidus", "verdict")
+	fmt.Fprintf(o.env.stdout, "%-*s  %-*s  %7s  %8s  %8s  %8s  %6s  %8s\n",
+		o.fileW, "", o.alloyW, "", "", "°C", "°C", "°C", "°C", "°C")
+}
+
+func (o *analyzeOutput) result(a analyzed) error {
+	o.done++
+	o.clearProgress()
+	var err error
+	switch {
+	case a.err != nil:
+		o.failed++
+		fmt.Fprintf(o.env.stderr, "undercool analyze: %v\n", a.err)
+		if !o.json {
+			_, err = fmt.Fprintf(o.env.stdout, "%-*s  %-*s  %s\n", o.fileW, o.files[a.index], o.alloyW, "", "unreadable (see the error above)")
+		}
+	case o.json:
+		var b []byte
+		if b, err = json.Marshal(a.rec); err == nil {
+			b = append(b, '\n')
+			_, err = o.env.stdout.Write(b)
+		}
+	default:
+		r := &a.rec
+		o.details[a.index] = r
+		_, err = fmt.Fprintf(o.env.stdout, "%-*s  %-*s  %7d  %8s  %8s  %8s  %6s  %8s  %s\n",
+			o.fileW, r.File, o.alloyW, orDash(r.Alloy), r.Samples,
+			cell(r.LiquidusC, 1), cell(r.EutecticMinC, 1), cell(r.EutecticMaxC, 1), cell(r.RecalescenceC, 1),
+			cell(r.SolidusC, 1), r.Verdict)
+	}
+	if err != nil {
+		return fmt.Errorf("writing results: %w", err)
+	}
+	o.showProgress()
+	return nil
+}
+
+func (o *analyzeOutput) finish() error {
+	o.clearProgress()
+	if o.json {
+		return nil
+	}
+	w := o.env.stdout
+	advised := false
+	for _, r := range o.details {
+		if r == nil || len(r.Problems)+len(r.Reasons)+len(r.Advice)+len(r.Warnings) == 0 {
+			continue
+		}
+		fmt.Fprintf(w, "\n%s (%s): %s\n", r.File, orDash(r.Alloy), r.Verdict)
+		notes(w, "problem", r.Problems)
+		notes(w, "reason", r.Reasons)
+		notes(w, "warning", r.Warnings)
+		notes(w, "advice", r.Advice)
+		advised = advised || len(r.Advice) > 0
+	}
+	if advised {
+		fmt.Fprintln(w, "\nAdvice only: follow the shop's written procedures and its metallurgist.")
+	}
+	_, err := fmt.Fprintf(w, "\n%d files, %d unreadable\n", len(o.files), o.failed)
+	if err != nil {
+		return fmt.Errorf("writing results: %w", err)
+	}
+	return nil
+}
+
+func notes(w io.Writer, label string, lines []string) {
+	for _, l := range lines {
+		fmt.Fprintf(w, "  %-8s %s\n", label+":", l)
+	}
+}
+
+func (o *analyzeOutput) showProgress() {
+	if o.progress {
+		fmt.Fprintf(o.env.stderr, "analysed %d of %d files", o.done, len(o.files))
+	}
+}
+
+func (o *analyzeOutput) clearProgress() {
+	if o.progress {
+		fmt.Fprint(o.env.stderr, "\r\x1b[K")
+	}
+}
+
+func cell(v *float64, prec int) string {
+	if v == nil {
+		return "-"
+	}
+	return fmt.Sprintf("%.*f", prec, *v)
+}
+
+func orDash(s string) string {
+	if strings.TrimSpace(s) == "" {
+		return "-"
+	}
+	return s
+}
