@@ -559,6 +559,15 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 			}
 			e.sub, e.lastAbove, e.cand = subPos, j, -1
 			e.dmax, e.dmaxI = d, j
+			// The minimum is settled now, and so is the arrest's kind, which
+			// depends on it alone: report it before the maximum.
+			r := &e.res
+			switch {
+			case e.minPt.TempC <= a.h.EutecticTopC:
+				r.EutecticMin = e.minPt
+			case !r.Liquidus.OK:
+				r.LiquidusMin = e.minPt
+			}
 			return
 		}
 		if e.sub == subValley && d > e.dmin+p {

@@ -2,7 +2,6 @@ package arrest
 
 import (
 	"fmt"
-	"math"
 	"reflect"
 	"testing"
 )
@@ -97,5 +96,4 @@ func TestAnalyzerRestartsOnNewCurve(t *testing.T) {
 	if want := Analyze(t2, v3, Options{Family: sh[4].family}); !reflect.DeepEqual(got, want) {
 		t.Fatalf("changed reading not picked up")
 	}
-	_ = math.Pi
 }

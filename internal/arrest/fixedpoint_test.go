@@ -1,0 +1,116 @@
+package arrest
+
+import (
+	"fmt"
+	"math"
+	"testing"
+
+	"github.com/undercool-foundry/undercool/internal/curve"
+)
+
+// ITS-90 freezing points, °C: Preston-Thomas, "The International
+// Temperature Scale of 1990 (ITS-90)", Metrologia 27 (1990) 3, Table 1
+// (source; also restated in the project's field notes).
+const (
+	its90AlC = 660.323 // aluminium freezing point
+	its90ZnC = 419.527 // zinc freezing point
+)
+
+// pureCup is a constructed (not measured) pure-metal check cup: liquid
+// cooling onto a plateau at fixC, optionally with undercooling and
+// recalescence onto it, then the fall to free cooling.
+func pureCup(name string, fixC, liquidRate float64, undercool bool) *shape {
+	k := []knot{{0, 0}, {3, -1.2 * liquidRate}, {40, -liquidRate}}
+	anchor := 48.0
+	if undercool {
+		k = append(k, knot{46, 0.5}, knot{50, 0})
+		anchor = 50
+	} else {
+		k = append(k, knot{48, 0})
+	}
+	last := k[len(k)-1].t
+	k = append(k, knot{last + 100, 0}, knot{last + 110, -2.5}, knot{last + 110 + matched(10, 2.5, 0.7), -1.8}, knot{last + 220, -1.4})
+	return &shape{name: name, family: FamilyPure, anchorT: anchor, anchorC: fixC, pre: 5, knots: k}
+}
+
+// Pure aluminium and zinc cups (constructed) whose plateaus sit at the ITS-90
+// freezing points read back at the plateau within 0.1 °C, with and without
+// undercooling, noise-free and with 0.05 °C noise at 0.01 °C resolution.
+func TestFixedPointCups(t *testing.T) {
+	cups := []struct {
+		shape *shape
+		fix   float64
+	}{
+		{pureCup("pure Al cup, ITS-90 660.323 °C (constructed)", its90AlC, 1.5, false), its90AlC},
+		{pureCup("pure Al cup with undercooling (constructed)", its90AlC, 1.5, true), its90AlC},
+		{pureCup("pure Zn cup, ITS-90 419.527 °C (constructed)", its90ZnC, 1.0, false), its90ZnC},
+		{pureCup("pure Zn cup with undercooling (constructed)", its90ZnC, 1.0, true), its90ZnC},
+	}
+	for _, c := range cups {
+		for _, smp := range []sampling{
+			{rate: 10},
+			{rate: 4, phase: 0.5},
+			{rate: 10, noise: 0.05, quant: 0.01, seed: 5},
+			{rate: 100, noise: 0.05, quant: 0.01, seed: 6},
+		} {
+			tt, v := c.shape.sample(smp)
+			r := Analyze(tt, v, Options{Family: FamilyPure})
+			label := fmt.Sprintf("%s, %g Hz, noise %g", c.shape.name, smp.rate, smp.noise)
+			if !r.EutecticMax.OK || !r.Complete || r.Invalid() || r.Liquidus.OK {
+				t.Errorf("%s: plateau not found cleanly: %+v", label, r)
+				continue
+			}
+			e := r.EutecticMax.TempC - c.fix
+			if math.Abs(e) > 0.1 {
+				t.Errorf("%s: plateau read %.3f °C, ITS-90 %.3f °C", label, r.EutecticMax.TempC, c.fix)
+			}
+			min := r.EutecticMin.TempC - c.fix
+			if want := c.shape.truth().EutecticMin.TempC - c.fix; math.Abs(min-want) > 0.1 {
+				t.Errorf("%s: eutectic min %.3f °C from the fixed point, want %.3f", label, min, want)
+			}
+			t.Logf("%s: plateau %+.3f °C from ITS-90, minimum %+.3f °C", label, e, min)
+		}
+	}
+}
+
+// A flat noisy plateau: T' of the readings crosses zero hundreds of times,
+// the detector reports the plateau of the underlying curve. Constructed
+// zinc cup (exact plateau for 100 s) and grey-iron curve with recalescence,
+// white noise 0.3 °C at 10 Hz.
+func TestNoisyPlateauCrossings(t *testing.T) {
+	cases := []struct {
+		sh     *shape
+		lo, hi float64 // plateau span, s
+	}{
+		{pureCup("pure Zn cup (constructed)", its90ZnC, 1.0, false), 50, 145},
+		{shapes()[0], 97, 155},
+	}
+	for _, c := range cases {
+		want := c.sh.truth()
+		tt, v := c.sh.sample(sampling{rate: 10, noise: 0.3, seed: 21})
+		// zero crossings of the raw first difference and of a 1 s SG derivative on the plateau
+		d1 := curve.SavGol(11, 2, 1).Apply(nil, v, 0.1)
+		raw, sg := 0, 0
+		for i := 1; i < len(v)-1; i++ {
+			if tt[i] < c.lo || tt[i] > c.hi {
+				continue
+			}
+			if (v[i+1]-v[i])*(v[i]-v[i-1]) < 0 {
+				raw++
+			}
+			if d1[i]*d1[i-1] < 0 {
+				sg++
+			}
+		}
+		r := Analyze(tt, v, Options{Family: c.sh.family})
+		eMin, eMax := r.EutecticMin.TempC-want.EutecticMin.TempC, r.EutecticMax.TempC-want.EutecticMax.TempC
+		t.Logf("%s: %d sign changes of the raw slope and %d of a 1 s derivative on the plateau; eutectic min %+.3f °C, max %+.3f °C off",
+			c.sh.name, raw, sg, eMin, eMax)
+		if raw < 100 || sg < 10 {
+			t.Errorf("%s: the test plateau is not noisy enough (%d, %d crossings)", c.sh.name, raw, sg)
+		}
+		if math.Abs(eMin) > 0.5 || math.Abs(eMax) > 0.5 {
+			t.Errorf("%s: eutectic min/max off by %.3f / %.3f °C", c.sh.name, eMin, eMax)
+		}
+	}
+}
