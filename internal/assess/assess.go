@@ -74,6 +74,10 @@ type Record struct {
 	EutecticRefC        *float64 `json:"eutectic_ref_c"`        // unmodified Al-Si eutectic from chemistry
 	EutecticDepressionC *float64 `json:"eutectic_depression_c"` // eutectic_ref_c − eutectic growth temperature
 
+	// PourSuperheatC is the pour peak above the first arrest (the liquidus,
+	// else the eutectic maximum or minimum): a cup filled too cold reads low.
+	PourSuperheatC *float64 `json:"pour_superheat_c"`
+
 	PlateauC         *float64 `json:"plateau_c"`           // pure-metal check cup: freezing plateau
 	FixedPointC      *float64 `json:"fixed_point_c"`       // its ITS-90 value
 	FixedPointErrorC *float64 `json:"fixed_point_error_c"` // plateau − fixed point

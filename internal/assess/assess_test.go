@@ -51,6 +51,7 @@ func TestGreyIronPass(t *testing.T) {
 	near(t, "metastable eutectic", rec.MetastableEutecticC, 1116.5, 1e-9)
 	near(t, "undercooling", rec.UndercoolingC, 7.4298, 1e-9)
 	near(t, "chill margin", rec.ChillMarginC, 39.5, 1e-9)
+	near(t, "pour superheat", rec.PourSuperheatC, 1320-1175, 1e-9)
 	// Koriyama et al. (2020): CEL = (1625 − 1175)/110; Heine: (1669 − 1175)/124.
 	near(t, "ce", rec.CE, 450.0/110, 1e-12)
 	near(t, "cel koriyama", rec.CELKoriyama2020, 450.0/110, 1e-12)
@@ -76,8 +77,8 @@ func TestGreyIronPass(t *testing.T) {
 	if rec.LimitsVersion != "example-1" || rec.LimitsSource != "built-in" {
 		t.Errorf("limits %q from %q", rec.LimitsVersion, rec.LimitsSource)
 	}
-	if len(rec.Checks) != 6 {
-		t.Errorf("%d checks, want the 6 metrics of the shipped grey-iron spec", len(rec.Checks))
+	if len(rec.Checks) != 7 {
+		t.Errorf("%d checks, want the 7 metrics of the shipped grey-iron spec", len(rec.Checks))
 	}
 }
 
@@ -91,6 +92,9 @@ func TestGreyIronVerdicts(t *testing.T) {
 
 	noEut := greyResult()
 	noEut.EutecticMin, noEut.EutecticMax, noEut.RecalescenceOK = arrest.Point{}, arrest.Point{}, false
+
+	cold := greyResult()
+	cold.PourPeak = pt(1225, 2)
 
 	fatal := greyResult()
 	fatal.Problems = []arrest.Problem{{Code: "tc-fault", Message: "thermocouple open circuit at 84 s", Fatal: true}}
@@ -117,6 +121,8 @@ func TestGreyIronVerdicts(t *testing.T) {
 			[]string{"late (stream or ladle) inoculant", "more or later inoculation"}},
 		{"hypereutectic: no liquidus is listed, not a fail", "grey-iron", hyper, VerdictPass,
 			[]string{"carbon equivalent not computed: no liquidus arrest"}, nil},
+		{"filled cold", "grey-iron", cold, VerdictMarginal,
+			[]string{"pour superheat in the cup 50 °C is below the 60 °C pass limit (marginal down to 40 °C)"}, []string{"hotter metal"}},
 		{"required eutectic missing", "grey-iron", noEut, VerdictInvalid,
 			[]string{"eutectic minimum not found; it is required for grey-iron"},
 			[]string{"re-sampling with a fresh, full cup"}},

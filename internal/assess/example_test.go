@@ -11,6 +11,7 @@ import (
 // judged against the shipped example limits.
 func ExampleFromResult() {
 	res := arrest.Result{Samples: 1800, RateHz: 10, Complete: true,
+		PourPeak:     arrest.Point{TempC: 1318, TimeS: 2, OK: true},
 		Liquidus:     arrest.Point{TempC: 1175, TimeS: 40, OK: true},
 		EutecticMin:  arrest.Point{TempC: 1139.2, TimeS: 95, OK: true},
 		EutecticMax:  arrest.Point{TempC: 1143.2, TimeS: 120, OK: true},

@@ -135,6 +135,20 @@ func (m *metallurgy) points() {
 			m.missing(p.metric, label(p.metric)+" not found")
 		}
 	}
+	first := m.r.LiquidusC
+	for _, p := range []*float64{m.r.EutecticMaxC, m.r.EutecticMinC} {
+		if first == nil {
+			first = p
+		}
+	}
+	switch {
+	case m.r.PourPeakC == nil:
+		m.missing("pour_superheat_c", "pour superheat not computed: no pour peak found")
+	case first == nil:
+		m.missing("pour_superheat_c", "pour superheat not computed: no arrest found")
+	default:
+		m.set(&m.r.PourSuperheatC, "pour_superheat_c", *m.r.PourPeakC-*first)
+	}
 }
 
 // iron: normal cup of grey, ductile or compacted iron.
