@@ -154,8 +154,9 @@ func showAlloy(w io.Writer, book *limits.Book, a *limits.Alloy) error {
 	case "iron", "white":
 		e := a.Eutectic()
 		st, mst := a.Offsets()
-		fmt.Fprintf(w, "stable eutectic Tst = %g %+g·Si %+g·P − %g; metastable Tmst = %g %+g·Si %+g·P − %g (°C)\n",
-			e.StableBase, e.StableSi, e.StableP, st, e.MetaBase, e.MetaSi, e.MetaP, mst)
+		fmt.Fprintf(w, "stable eutectic Tst = %s; metastable Tmst = %s (°C)\n",
+			linear(e.StableBase, e.StableSi, "Si", e.StableP, "P", -st, "offset"),
+			linear(e.MetaBase, e.MetaSi, "Si", e.MetaP, "P", -mst, "offset"))
 		r, _ := book.LiquidusCE(a.CELRegressionName())
 		fmt.Fprintf(w, "carbon equivalent from the liquidus: %s, TL = %g − %g·CEL (%s)\n", a.CELRegressionName(), r.A, r.B, r.Source)
 		if a.Family == "white" {
@@ -231,4 +232,25 @@ func limitsInit(env *environ, args []string) error {
 	}
 	fmt.Fprintf(env.stdout, "wrote %s: EXAMPLE numbers only; the shop's metallurgist must set every limit, then run 'undercool limits check %s'\n", path, path)
 	return nil
+}
+
+// linear writes base ± k·name ... leaving out zero terms: "1153 + 5.25·Si − 14.88·P".
+func linear(base float64, terms ...any) string {
+	var b strings.Builder
+	fmt.Fprintf(&b, "%g", base)
+	for i := 0; i+1 < len(terms); i += 2 {
+		k, name := terms[i].(float64), terms[i+1].(string)
+		switch {
+		case k == 0:
+		case name == "offset" && k < 0:
+			fmt.Fprintf(&b, " − %g (offset)", -k)
+		case name == "offset":
+			fmt.Fprintf(&b, " + %g (offset)", k)
+		case k < 0:
+			fmt.Fprintf(&b, " − %g·%s", -k, name)
+		default:
+			fmt.Fprintf(&b, " + %g·%s", k, name)
+		}
+	}
+	return b.String()
 }
