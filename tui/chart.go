@@ -118,7 +118,7 @@ func (p plot) render(st *Styles) string {
 	var lc *linechart.Model
 	if p.lc != nil && p.lc.Width() == p.w && p.lc.Height() == p.h {
 		lc = p.lc
-		lc.Clear()
+		lc.Canvas.Fill(canvas.Cell{}) // Clear would allocate a new canvas
 		lc.XLabelFormatter, lc.YLabelFormatter = xf, yf
 		lc.SetYStep(ySteps)
 		lc.SetXYRange(p.x0, p.x1, p.y0, p.y1)

@@ -29,9 +29,35 @@ func fixedClock() time.Time { return time.Date(2026, 3, 2, 9, 41, 0, 0, time.UTC
 // fixed clock, fed nothing yet.
 func testModel(t testing.TB, w, h int) Model {
 	t.Helper()
-	m := New(Options{Title: "test deck", Styles: asciiStyles(), Analyzer: constructedAnalyzer, Judge: constructedJudge, Clock: fixedClock})
+	book, err := limits.Parse([]byte(constructedLimits), "constructed.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := New(Options{Title: "test deck", Styles: asciiStyles(), Limits: book, Analyzer: constructedAnalyzer, Judge: constructedJudge, Clock: fixedClock})
 	return m.resize(w, h)
 }
+
+// constructedLimits is a CONSTRUCTED limits book for screen tests (not
+// advice for any shop), so the screens do not follow the shipped examples.
+const constructedLimits = `
+version = "constructed-1"
+
+[alloy.grey-iron]
+family = "iron"
+
+[alloy.grey-iron.metric.recalescence_c]
+pass_max = 6.0
+marginal_max = 8.0
+high = "constructed advice: consider more inoculant"
+
+[alloy.grey-iron.metric.undercooling_c]
+pass_min = 2.0
+pass_max = 14.0
+marginal_min = 1.0
+marginal_max = 18.0
+low = "constructed advice: consider checking chill"
+high = "constructed advice: consider later inoculation"
+`
 
 // feed runs batches through Update, running the commands that store
 // finished samples, as the program would.
