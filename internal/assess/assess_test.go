@@ -343,3 +343,25 @@ func TestAssessEmptyCurveNeverPasses(t *testing.T) {
 		t.Errorf("family %q", rec.Family)
 	}
 }
+
+func TestNoUndercoolingNoPotency(t *testing.T) {
+	// A constructed cup whose eutectic minimum lies above the calculated Tst
+	// (1163.43 °C at the nominal Si 2.1): no potency figure, and a warning.
+	res := greyResult()
+	res.EutecticMin, res.EutecticMax = pt(1165, 95), pt(1166, 120)
+	rec := FromResult(Input{Alloy: "grey-iron"}, res)
+	if rec.Potency != nil || !has(rec.Warnings, "no undercooling") {
+		t.Errorf("potency %+v, warnings %q", rec.Potency, rec.Warnings)
+	}
+	near(t, "undercooling", rec.UndercoolingC, 1163.4298-1165, 1e-9)
+}
+
+func TestAluminiumCurveSilicon(t *testing.T) {
+	// The curve's own Si (7.4) moves the liquidus reference: 660.45 − 6.6·7.4 = 611.61 °C.
+	rec := FromResult(Input{Alloy: "al-si7mg", Meta: []curvefile.Meta{{Key: "Si_pct", Value: "7.4"}}}, alResult(610.5, 610.6, 567.5))
+	near(t, "liquidus ref", rec.LiquidusRefC, 611.61, 1e-9)
+	near(t, "α undercooling", rec.AlphaUndercoolingC, 1.11, 1e-9)
+	if rec.ChemistrySource["si"] != SourceCurve {
+		t.Errorf("si source %q", rec.ChemistrySource["si"])
+	}
+}

@@ -264,3 +264,42 @@ func TestSaveRoundTripBackupAndLog(t *testing.T) {
 		t.Error("a refused save changed the file")
 	}
 }
+
+func TestKeyLines(t *testing.T) {
+	text := `version = "x"  # comment
+note = """several
+lines = not a key
+"""
+[alloy."grey-iron".reference]
+liquidus_slopes = { si = -6.6, mg = -1.0 }
+"quoted.key" = 1
+`
+	got := keyLines([]byte(text))
+	for k, want := range map[string]int{
+		"version": 1, "note": 2, "alloy.grey-iron.reference": 5,
+		"alloy.grey-iron.reference.liquidus_slopes.mg": 6, "alloy.grey-iron.reference.quoted.key": 7,
+	} {
+		if got[k] != want {
+			t.Errorf("%s: line %d, want %d", k, got[k], want)
+		}
+	}
+	if _, ok := got["lines"]; ok {
+		t.Error("a line inside a multi-line string was read as a key")
+	}
+	if lineIn(got, "alloy.grey-iron.reference.eutectic_base_c") != 5 {
+		t.Error("an absent key should fall back to its table's line")
+	}
+}
+
+func TestCalibrationValidation(t *testing.T) {
+	b := Builtin()
+	b.Calibration = &Calibration{Liquidus: &Regression{A: 1600, B: -3}}
+	if err := b.Validate(); err == nil || !strings.Contains(err.Error(), "calibration.liquidus.b") {
+		t.Errorf("a rising liquidus was accepted: %v", err)
+	}
+	b = Builtin()
+	b.Alloys["white-iron"].Reference.WhiteCup = WhiteShop
+	if err := b.Validate(); err == nil || !strings.Contains(err.Error(), "alloy.white-iron.reference.white_cup") {
+		t.Errorf("shop white cup without calibration accepted: %v", err)
+	}
+}
