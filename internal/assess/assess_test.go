@@ -365,3 +365,25 @@ func TestAluminiumCurveSilicon(t *testing.T) {
 		t.Errorf("si source %q", rec.ChemistrySource["si"])
 	}
 }
+
+func TestConcurrentSharedBook(t *testing.T) {
+	// analyze judges files in parallel against one book: records must not
+	// share state (run with -race).
+	book := limits.Builtin()
+	done := make(chan Record)
+	for i := range 8 {
+		go func() {
+			in := Input{Alloy: []string{"grey-iron", "al-si7mg"}[i%2], Limits: book}
+			if i%2 == 0 {
+				done <- FromResult(in, greyResult())
+			} else {
+				done <- FromResult(in, alResult(613.0, 613.2, 567.5))
+			}
+		}()
+	}
+	for range 8 {
+		if rec := <-done; rec.Verdict != VerdictPass {
+			t.Errorf("%s: %s %q", rec.Alloy, rec.Verdict, rec.Reasons)
+		}
+	}
+}
