@@ -1,0 +1,591 @@
+// Package report draws the page that goes into a ladle's quality record:
+// a title with the sample, ladle, alloy and time; the cooling curve with
+// its characteristic points marked and labelled; the curve's derivative
+// dT/dt in a second panel on the same time axis; a block with the results,
+// the verdict, its reasons and advice; and the caution that the advice
+// defers to the shop's written procedures. PNG or SVG, by the file's
+// extension (gonum/plot's vgimg and vgsvg back ends).
+package report
+
+import (
+	"bufio"
+	"fmt"
+	"image/color"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"slices"
+	"sort"
+	"strings"
+	"time"
+
+	xfont "golang.org/x/image/font"
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/text"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+	"gonum.org/v1/plot/vg/vgsvg"
+
+	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/curve"
+	"github.com/undercool-foundry/undercool/internal/curvefile"
+)
+
+// Caution is the line every page carries.
+const Caution = "Advice only — follow the shop's written procedures and its metallurgist."
+
+// Info is what the page says about the sample beyond its curve and record.
+type Info struct {
+	Sample   string // sample id, e.g. "L-2417 cup 1"
+	Ladle    string
+	Alloy    string // overrides the record's alloy when set
+	Furnace  string
+	Operator string
+	Time     time.Time // when the sample was taken; zero: not shown
+
+	StoreID       int64  // records database id; 0: not stored
+	CurvePath     string // the curve file
+	CurveSHA256   string
+	LimitsVersion string
+	// Notes are extra lines for the text block, e.g. that the curve file
+	// changed since the sample was stored.
+	Notes []string
+}
+
+// Page size: A4 portrait; PNG at DPI dots per inch (A4 at 150 dpi is
+// 1240 × 1754 pixels: 210 mm and 297 mm over 25.4 mm per inch).
+const (
+	PageWidth  = 210 * vg.Millimeter
+	PageHeight = 297 * vg.Millimeter
+	DPI        = 150
+)
+
+// Write draws the page for one sample into path: PNG for ".png", SVG for
+// ".svg" (case-insensitive). The file is written whole or not at all.
+func Write(path string, c *curvefile.Curve, rec assess.Record, info Info) error {
+	ext := strings.ToLower(filepath.Ext(path))
+	if ext != ".png" && ext != ".svg" {
+		return fmt.Errorf("report %s: the file name must end in .png or .svg", path)
+	}
+	if c == nil || len(c.Time) < 2 || len(c.Time) != len(c.Temp) {
+		return fmt.Errorf("report %s: the curve has no readings to draw", path)
+	}
+	var (
+		vc     vg.CanvasWriterTo
+		canvas vg.Canvas
+	)
+	if ext == ".png" {
+		img := vgimg.NewWith(vgimg.UseWH(PageWidth, PageHeight), vgimg.UseDPI(DPI), vgimg.UseBackgroundColor(color.White))
+		vc, canvas = vgimg.PngCanvas{Canvas: img}, img
+	} else {
+		svg := vgsvg.New(PageWidth, PageHeight)
+		vc, canvas = svg, svg
+	}
+	if err := drawPage(draw.New(canvas.(vg.CanvasSizer)), c, rec, info); err != nil {
+		return fmt.Errorf("report %s: %w", path, err)
+	}
+	return writeAtomic(path, vc.WriteTo)
+}
+
+func writeAtomic(path string, write func(io.Writer) (int64, error)) error {
+	tmp, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*")
+	if err != nil {
+		return fmt.Errorf("report %s: %w", path, err)
+	}
+	defer os.Remove(tmp.Name())
+	bw := bufio.NewWriter(tmp)
+	_, err = write(bw)
+	if err == nil {
+		err = bw.Flush()
+	}
+	if cerr := tmp.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil {
+		err = os.Rename(tmp.Name(), path)
+	}
+	if err != nil {
+		return fmt.Errorf("report %s: %w", path, err)
+	}
+	return nil
+}
+
+// page layout, from the top
+const (
+	margin      = 14 * vg.Millimeter
+	titleHeight = 30 * vg.Millimeter
+	plotsHeight = 150 * vg.Millimeter
+)
+
+var ink = color.Gray{Y: 0x20}
+
+func style(size vg.Length, bold bool) draw.TextStyle {
+	f := font.Font{Typeface: "Liberation", Variant: "Sans", Size: size}
+	if bold {
+		f.Weight = xfont.WeightBold
+	}
+	return text.Style{Color: ink, Font: f, Handler: plot.DefaultTextHandler}
+}
+
+func drawPage(dc draw.Canvas, c *curvefile.Curve, rec assess.Record, info Info) error {
+	top := dc.Max.Y - margin
+	left, right := dc.Min.X+margin, dc.Max.X-margin
+
+	// title block
+	title := "Thermal analysis record"
+	if info.Sample != "" {
+		title += " — sample " + info.Sample
+	}
+	big := style(15, true)
+	dc.FillText(big, vg.Point{X: left, Y: top - big.Font.Size}, title)
+	alloy := info.Alloy
+	if alloy == "" {
+		alloy = rec.Alloy
+	}
+	var facts []string
+	for _, f := range [][2]string{{"ladle", info.Ladle}, {"alloy", alloy}, {"furnace", info.Furnace}, {"operator", info.Operator}} {
+		if f[1] != "" {
+			facts = append(facts, f[0]+" "+f[1])
+		}
+	}
+	if !info.Time.IsZero() {
+		facts = append(facts, "taken "+info.Time.UTC().Format("2006-01-02 15:04 UTC"))
+	}
+	mid := style(10.5, false)
+	y := top - big.Font.Size - 7*vg.Millimeter
+	dc.FillText(mid, vg.Point{X: left, Y: y}, strings.Join(facts, "  ·  "))
+	small := style(8, false)
+	y -= 5.5 * vg.Millimeter
+	var src []string
+	if info.StoreID != 0 {
+		src = append(src, fmt.Sprintf("record #%d", info.StoreID))
+	}
+	if info.CurvePath != "" {
+		src = append(src, "curve "+info.CurvePath)
+	}
+	if info.CurveSHA256 != "" {
+		src = append(src, "sha256 "+info.CurveSHA256[:min(16, len(info.CurveSHA256))]+"…")
+	}
+	if len(src) > 0 {
+		dc.FillText(small, vg.Point{X: left, Y: y}, strings.Join(src, "  ·  "))
+	}
+
+	// the two panels
+	temp, deriv, err := curvePlots(c, rec)
+	if err != nil {
+		return err
+	}
+	plots := dc
+	plots.Max.Y = top - titleHeight
+	plots.Min.Y = plots.Max.Y - plotsHeight
+	plots.Min.X, plots.Max.X = left-4*vg.Millimeter, right
+	cells := plot.Align([][]*plot.Plot{{temp}, {deriv}}, draw.Tiles{Rows: 2, Cols: 1, PadY: 9 * vg.Millimeter}, plots)
+	temp.Draw(cells[0][0])
+	deriv.Draw(cells[1][0])
+
+	// the text block
+	drawResults(dc, left, right, plots.Min.Y-8*vg.Millimeter, rec, info)
+	dc.FillText(style(9.5, true), vg.Point{X: left, Y: dc.Min.Y + margin}, Caution)
+	return nil
+}
+
+// mark is one characteristic point to draw.
+type mark struct {
+	name  string
+	t, c  *float64
+	above bool // label above the point (a maximum) or below (a minimum)
+}
+
+func marks(rec assess.Record) []mark {
+	ms := []mark{
+		{"pour peak", rec.PourPeakS, rec.PourPeakC, true},
+		{"liquidus min", rec.LiquidusMinS, rec.LiquidusMinC, false},
+		{"liquidus", rec.LiquidusS, rec.LiquidusC, true},
+		{"eutectic min", rec.EutecticMinS, rec.EutecticMinC, false},
+		{"eutectic max", rec.EutecticMaxS, rec.EutecticMaxC, true},
+		{"end of freezing", rec.SolidusS, rec.SolidusC, false},
+	}
+	return slices.DeleteFunc(ms, func(m mark) bool { return m.t == nil || m.c == nil })
+}
+
+var (
+	curveColour = color.RGBA{R: 0x1f, G: 0x4e, B: 0x9a, A: 0xff}
+	derivColour = color.RGBA{R: 0x8a, G: 0x3b, B: 0x12, A: 0xff}
+	markColour  = color.RGBA{R: 0xb0, G: 0x10, B: 0x30, A: 0xff}
+	gridColour  = color.Gray{Y: 0xc8}
+)
+
+func curvePlots(c *curvefile.Curve, rec assess.Record) (*plot.Plot, *plot.Plot, error) {
+	tp := plot.New()
+	tp.Title.Text = "Cooling curve"
+	tp.Y.Label.Text = "temperature, °C"
+	tp.Add(plotter.NewGrid())
+	pts := make(plotter.XYs, len(c.Time))
+	for i := range c.Time {
+		pts[i] = plotter.XY{X: c.Time[i], Y: c.Temp[i]}
+	}
+	line, err := plotter.NewLine(pts)
+	if err != nil {
+		return nil, nil, fmt.Errorf("drawing the curve: %w", err)
+	}
+	line.Color, line.Width = curveColour, vg.Points(1.1)
+	tp.Add(line)
+	tp.Y.Min, tp.Y.Max = tempRange(c, rec)
+
+	dp := plot.New()
+	dp.Title.Text = "Cooling rate dT/dt"
+	dp.X.Label.Text = "time, s"
+	dp.Y.Label.Text = "dT/dt, °C/s (" + derivMethod(c) + ")"
+	dp.Add(plotter.NewGrid())
+	d := Derivative(c.Time, c.Temp)
+	dpts := make(plotter.XYs, 0, len(d))
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for i, v := range d {
+		if !math.IsNaN(v) {
+			dpts = append(dpts, plotter.XY{X: c.Time[i], Y: v})
+			lo, hi = min(lo, v), max(hi, v)
+		}
+	}
+	if len(dpts) > 1 {
+		dl, err := plotter.NewLine(dpts)
+		if err != nil {
+			return nil, nil, fmt.Errorf("drawing the derivative: %w", err)
+		}
+		dl.Color, dl.Width = derivColour, vg.Points(1)
+		dp.Add(dl)
+		// the pour transient dwarfs the arrests: show the range after it,
+		// clipping the pour's spike
+		dp.Y.Min, dp.Y.Max = derivRange(c.Time, d, rec.PourPeakS, lo, hi)
+	}
+	zero, _ := plotter.NewLine(plotter.XYs{{X: c.Time[0], Y: 0}, {X: c.Time[len(c.Time)-1], Y: 0}})
+	zero.Color, zero.Dashes = gridColour, []vg.Length{vg.Points(3), vg.Points(2)}
+	dp.Add(zero)
+
+	ms := marks(rec)
+	if len(ms) > 0 {
+		xy := make(plotter.XYs, len(ms))
+		labels := make([]string, len(ms))
+		for i, m := range ms {
+			xy[i] = plotter.XY{X: *m.t, Y: *m.c}
+			labels[i] = fmt.Sprintf("%s %.1f °C", m.name, *m.c)
+		}
+		sc, err := plotter.NewScatter(xy)
+		if err != nil {
+			return nil, nil, fmt.Errorf("drawing the points: %w", err)
+		}
+		sc.GlyphStyle = draw.GlyphStyle{Color: markColour, Radius: vg.Points(3.2), Shape: draw.CircleGlyph{}}
+		tp.Add(sc)
+		// maxima are labelled above their point, minima below, so that
+		// neighbouring points (eutectic min and max) do not overprint
+		for _, above := range []bool{true, false} {
+			var lxy plotter.XYs
+			var ltext []string
+			for i, m := range ms {
+				if m.above == above {
+					lxy, ltext = append(lxy, xy[i]), append(ltext, labels[i])
+				}
+			}
+			if len(lxy) == 0 {
+				continue
+			}
+			lb, err := plotter.NewLabels(plotter.XYLabels{XYs: lxy, Labels: ltext})
+			if err != nil {
+				return nil, nil, fmt.Errorf("labelling the points: %w", err)
+			}
+			for i := range lb.TextStyle {
+				lb.TextStyle[i] = style(8, false)
+				lb.TextStyle[i].Color = markColour
+			}
+			lb.Offset = vg.Point{X: vg.Points(5), Y: vg.Points(5)}
+			if !above {
+				lb.Offset.Y = -vg.Points(13)
+			}
+			tp.Add(lb)
+		}
+		// the same instants on the derivative, as thin vertical lines
+		for _, m := range ms {
+			v, _ := plotter.NewLine(plotter.XYs{{X: *m.t, Y: dp.Y.Min}, {X: *m.t, Y: dp.Y.Max}})
+			if v != nil {
+				v.Color, v.Width = markColour, vg.Points(0.5)
+				v.Dashes = []vg.Length{vg.Points(2), vg.Points(2)}
+				dp.Add(v)
+			}
+		}
+	}
+	// one time axis for both panels, the same fonts and ticks throughout
+	t0, t1 := c.Time[0], c.Time[len(c.Time)-1]
+	for _, p := range []*plot.Plot{tp, dp} {
+		p.X.Min, p.X.Max = t0, t1
+		p.Title.TextStyle = style(11, true)
+		for _, ax := range []*plot.Axis{&p.X, &p.Y} {
+			ax.Label.TextStyle.Font = style(9.5, false).Font
+			ax.Tick.Label.Font = style(8.5, false).Font
+			ax.Tick.Marker = niceTicks{}
+		}
+	}
+	return tp, dp, nil
+}
+
+// niceTicks marks an axis every 1, 2, 2.5 or 5 × 10ⁿ units, about eight
+// labelled ticks a panel, labelled without trailing zeros.
+type niceTicks struct{}
+
+func (niceTicks) Ticks(lo, hi float64) []plot.Tick {
+	if !(hi > lo) {
+		return []plot.Tick{{Value: lo, Label: fmt.Sprintf("%g", lo)}}
+	}
+	raw := (hi - lo) / 8
+	mag := math.Pow(10, math.Floor(math.Log10(raw)))
+	step := 10 * mag
+	for _, m := range []float64{1, 2, 2.5, 5} {
+		if m*mag >= raw {
+			step = m * mag
+			break
+		}
+	}
+	var ts []plot.Tick
+	for v := math.Ceil(lo/step) * step; v <= hi+step*1e-9; v += step {
+		if math.Abs(v) < step*1e-9 {
+			v = 0
+		}
+		ts = append(ts, plot.Tick{Value: v, Label: strconvG(v)})
+		if minor := v + step/2; minor < hi {
+			ts = append(ts, plot.Tick{Value: minor})
+		}
+	}
+	return ts
+}
+
+func strconvG(v float64) string { return fmt.Sprintf("%.6g", v) }
+
+// tempRange gives the y range of the curve panel: from a little below the
+// lowest reading after the pour peak (or the lowest point found) to a
+// little above the pour peak, so that the arrests fill the panel rather
+// than the climb from room temperature.
+func tempRange(c *curvefile.Curve, rec assess.Record) (float64, float64) {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for i, tc := range c.Temp {
+		if rec.PourPeakS == nil || c.Time[i] >= *rec.PourPeakS {
+			lo, hi = min(lo, tc), max(hi, tc)
+		}
+	}
+	for _, m := range marks(rec) {
+		lo, hi = min(lo, *m.c), max(hi, *m.c)
+	}
+	pad := max((hi-lo)*0.06, 2)
+	return lo - pad, hi + pad
+}
+
+// derivRange gives the y range of the derivative panel: the range of
+// dT/dt from 3 s after the pour peak (the whole curve when there is none,
+// its 2nd to 98th percentile) widened by a tenth, within the data's range,
+// so that the arrests stay readable beside the pour transient.
+func derivRange(t, d []float64, pourS *float64, lo, hi float64) (float64, float64) {
+	v := make([]float64, 0, len(d))
+	for i, x := range d {
+		if !math.IsNaN(x) && (pourS == nil || t[i] > *pourS+3) {
+			v = append(v, x)
+		}
+	}
+	if len(v) < 10 {
+		return lo, hi
+	}
+	sort.Float64s(v)
+	a, b := v[0], v[len(v)-1]
+	if pourS == nil {
+		a, b = v[len(v)/50], v[len(v)-1-len(v)/50]
+	}
+	pad := max((b-a)*0.1, 0.05)
+	return max(lo, min(a-pad, 0)), min(hi, max(b+pad, 0))
+}
+
+// derivativeWindowS is the span of the Savitzky–Golay window for the
+// plotted derivative, s.
+const derivativeWindowS = 1.5
+
+func derivMethod(c *curvefile.Curve) string {
+	if _, ok := evenStep(c.Time); ok {
+		return fmt.Sprintf("Savitzky–Golay, %.1f s", derivativeWindowS)
+	}
+	return "central difference"
+}
+
+// evenStep returns the median time step and whether the samples are evenly
+// spaced (every step within 1 % of the median), as Savitzky–Golay needs.
+func evenStep(t []float64) (float64, bool) {
+	if len(t) < 3 {
+		return 0, false
+	}
+	steps := make([]float64, len(t)-1)
+	for i := range steps {
+		steps[i] = t[i+1] - t[i]
+	}
+	sorted := slices.Clone(steps)
+	sort.Float64s(sorted)
+	dt := sorted[len(sorted)/2]
+	if dt <= 0 {
+		return 0, false
+	}
+	for _, s := range steps {
+		if math.Abs(s-dt) > 0.01*dt {
+			return dt, false
+		}
+	}
+	return dt, true
+}
+
+// Derivative returns dT/dt (°C/s) at each sample of an evenly spaced curve
+// by the quadratic Savitzky–Golay derivative filter over
+// derivativeWindowS (internal/curve); for an unevenly spaced or very short
+// curve it falls back to the central difference
+// (T[i+1] − T[i−1])/(t[i+1] − t[i−1]), one-sided at the ends.
+func Derivative(t, temp []float64) []float64 {
+	if dt, ok := evenStep(t); ok {
+		w := curve.WindowSamples(derivativeWindowS, 1/dt, 2, 5)
+		if w <= len(temp) {
+			return curve.SavGol(w, 2, 1).Apply(nil, temp, dt)
+		}
+	}
+	d := make([]float64, len(temp))
+	n := len(temp)
+	for i := range d {
+		a, b := max(i-1, 0), min(i+1, n-1)
+		if a == b || t[b] == t[a] {
+			d[i] = math.NaN()
+			continue
+		}
+		d[i] = (temp[b] - temp[a]) / (t[b] - t[a])
+	}
+	return d
+}
+
+// result is one line of the results block.
+type result struct {
+	name string
+	v    *float64
+	unit string
+}
+
+func resultLines(rec assess.Record) []result {
+	rs := []result{
+		{"pour peak", rec.PourPeakC, "°C"},
+		{"liquidus", rec.LiquidusC, "°C"},
+		{"liquidus minimum", rec.LiquidusMinC, "°C"},
+		{"eutectic minimum", rec.EutecticMinC, "°C"},
+		{"eutectic maximum", rec.EutecticMaxC, "°C"},
+		{"recalescence", rec.RecalescenceC, "°C"},
+		{"end of freezing", rec.SolidusC, "°C"},
+		{"undercooling (Tst − eut. min)", rec.UndercoolingC, "°C"},
+		{"chill margin (eut. min − Tmst)", rec.ChillMarginC, "°C"},
+		{"carbon equivalent (liquidus)", rec.CE, ""},
+		{"C estimate", rec.CPct, "%"},
+		{"Si estimate", rec.SiPct, "%"},
+		{"α-Al undercooling", rec.AlphaUndercoolingC, "°C"},
+		{"eutectic depression", rec.EutecticDepressionC, "°C"},
+		{"plateau", rec.PlateauC, "°C"},
+		{"plateau − fixed point", rec.FixedPointErrorC, "°C"},
+		{"plateau duration", rec.PlateauS, "s"},
+		{"freezing time", rec.FreezingTimeS, "s"},
+		{"cooling rate (liquid)", rec.CoolingRateCps, "°C/s"},
+	}
+	return slices.DeleteFunc(rs, func(r result) bool { return r.v == nil })
+}
+
+func drawResults(dc draw.Canvas, left, right, y vg.Length, rec assess.Record, info Info) {
+	head := style(13, true)
+	verdict := strings.ToUpper(rec.Verdict)
+	if verdict == "" {
+		verdict = "NONE"
+	}
+	if rec.Provisional {
+		verdict += " (provisional)"
+	}
+	dc.FillText(head, vg.Point{X: left, Y: y}, "Verdict: "+verdict)
+	lim := info.LimitsVersion
+	if lim == "" {
+		lim = rec.LimitsVersion
+	}
+	body := style(9, false)
+	line := 4.6 * vg.Millimeter
+	if lim != "" || rec.LimitsSource != "" {
+		dc.FillText(body, vg.Point{X: left + 75*vg.Millimeter, Y: y + 1*vg.Millimeter},
+			strings.TrimSpace("limits "+lim+" "+paren(rec.LimitsSource)))
+	}
+	y -= 8 * vg.Millimeter
+
+	// results in two columns
+	rs := resultLines(rec)
+	half := (len(rs) + 1) / 2
+	colW := (right - left) / 2
+	for i, r := range rs {
+		x, row := left, i
+		if i >= half {
+			x, row = left+colW, i-half
+		}
+		val := fmt.Sprintf("%.1f %s", *r.v, r.unit)
+		if r.unit == "%" || r.unit == "" || r.unit == "°C/s" {
+			val = strings.TrimSpace(fmt.Sprintf("%.2f %s", *r.v, r.unit))
+		}
+		yy := y - vg.Length(row)*line
+		dc.FillText(body, vg.Point{X: x, Y: yy}, r.name)
+		dc.FillText(body, vg.Point{X: x + colW - 24*vg.Millimeter, Y: yy}, val)
+	}
+	y -= vg.Length(half)*line + 3*vg.Millimeter
+
+	// reasons, advice, problems, warnings, notes: as many lines as fit
+	bottom := dc.Min.Y + margin + 8*vg.Millimeter
+	label := style(9, true)
+	for _, sec := range []struct {
+		name  string
+		lines []string
+	}{
+		{"Problems", rec.Problems}, {"Reasons", rec.Reasons}, {"Advice", rec.Advice},
+		{"Warnings", rec.Warnings}, {"Notes", info.Notes},
+	} {
+		for i, l := range sec.lines {
+			if y < bottom {
+				dc.FillText(body, vg.Point{X: left, Y: y}, "… (more in the record's JSON: undercool history --json)")
+				return
+			}
+			if i == 0 {
+				dc.FillText(label, vg.Point{X: left, Y: y}, sec.name)
+			}
+			for _, wl := range wrap(body, l, right-left-24*vg.Millimeter) {
+				dc.FillText(body, vg.Point{X: left + 24*vg.Millimeter, Y: y}, wl)
+				y -= line
+			}
+		}
+	}
+}
+
+func paren(s string) string {
+	if s == "" {
+		return ""
+	}
+	return "(" + s + ")"
+}
+
+// wrap breaks a line at spaces into lines no wider than w in style sty.
+func wrap(sty draw.TextStyle, s string, w vg.Length) []string {
+	var out []string
+	cur := ""
+	for _, word := range strings.Fields(s) {
+		next := word
+		if cur != "" {
+			next = cur + " " + word
+		}
+		if cur != "" && sty.Width(next) > w {
+			out = append(out, cur)
+			next = word
+		}
+		cur = next
+	}
+	if cur != "" || len(out) == 0 {
+		out = append(out, cur)
+	}
+	return out
+}

@@ -1,0 +1,183 @@
+package report
+
+import (
+	"bytes"
+	"encoding/xml"
+	"image/png"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/sim"
+)
+
+// simulatedCup is a simulated (not measured) grey-iron cup from
+// internal/sim, assessed with the shipped example limits.
+func simulatedCup(t *testing.T) (*curvefile.Curve, assess.Record) {
+	t.Helper()
+	p, err := sim.Preset("grey-iron", 0.3, 2417)
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := sim.Simulate(p)
+	c := &curvefile.Curve{Name: "simulated L-2417", Meta: out.Meta, Time: out.Time, Temp: out.Temp}
+	rec := assess.Assess(assess.Input{File: "L-2417.csv", Alloy: "grey-iron", Time: c.Time, Temp: c.Temp, Meta: c.Meta})
+	if rec.EutecticMinC == nil {
+		t.Fatalf("the simulated cup gave no eutectic minimum: %+v", rec)
+	}
+	return c, rec
+}
+
+var demoInfo = Info{
+	Sample: "L-2417 cup 1", Ladle: "L-2417", Furnace: "IF-2", Operator: "Priya Natarajan",
+	Time: time.Date(2026, 12, 1, 6, 15, 0, 0, time.UTC), StoreID: 42, CurvePath: "/deck/curves/L-2417.csv",
+	CurveSHA256: "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad",
+	Notes:       []string{"simulated cup for the report test"},
+}
+
+func TestWritePNG(t *testing.T) {
+	c, rec := simulatedCup(t)
+	path := filepath.Join(t.TempDir(), "L-2417.png")
+	if err := Write(path, c, rec, demoInfo); err != nil {
+		t.Fatal(err)
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	img, err := png.Decode(f) // the standard library's PNG decoder
+	if err != nil {
+		t.Fatalf("not a PNG: %v", err)
+	}
+	// A4 at 150 dpi: 210/25.4·150 = 1240.2 and 297/25.4·150 = 1753.9 pixels
+	if b := img.Bounds(); b.Dx() != 1240 || b.Dy() != 1754 {
+		t.Fatalf("PNG is %d × %d, want 1240 × 1754", b.Dx(), b.Dy())
+	}
+	// the page is not blank: some dark pixels (text, curve) on white
+	dark := 0
+	b := img.Bounds()
+	for y := b.Min.Y; y < b.Max.Y; y += 3 {
+		for x := b.Min.X; x < b.Max.X; x += 3 {
+			if r, g, bl, _ := img.At(x, y).RGBA(); r+g+bl < 3*0x8000 {
+				dark++
+			}
+		}
+	}
+	if dark < 2000 {
+		t.Errorf("only %d dark sample pixels: the page looks empty", dark)
+	}
+	if os.Getenv("UNDERCOOL_KEEP_REPORT") != "" { // to look at the page: UNDERCOOL_KEEP_REPORT=/tmp/page.png
+		data, _ := os.ReadFile(path)
+		os.WriteFile(os.Getenv("UNDERCOOL_KEEP_REPORT"), data, 0o644)
+	}
+}
+
+func TestWriteSVG(t *testing.T) {
+	c, rec := simulatedCup(t)
+	path := filepath.Join(t.TempDir(), "L-2417.SVG")
+	if err := Write(path, c, rec, demoInfo); err != nil {
+		t.Fatal(err)
+	}
+	data, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// well-formed XML (encoding/xml reads every token) with an svg root
+	dec := xml.NewDecoder(bytes.NewReader(data))
+	var texts strings.Builder
+	root := ""
+	for {
+		tok, err := dec.Token()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			t.Fatalf("SVG is not well-formed XML: %v", err)
+		}
+		switch tk := tok.(type) {
+		case xml.StartElement:
+			if root == "" {
+				root = tk.Name.Local
+			}
+		case xml.CharData:
+			texts.Write(tk)
+			texts.WriteByte('\n')
+		}
+	}
+	if root != "svg" {
+		t.Fatalf("root element %q, want svg", root)
+	}
+	all := texts.String()
+	for _, want := range []string{
+		"Thermal analysis record — sample L-2417 cup 1", "ladle L-2417", "furnace IF-2", "operator Priya Natarajan",
+		"2026-12-01 06:15 UTC", "Cooling curve", "dT/dt", "eutectic min", "end of freezing",
+		"Verdict: " + strings.ToUpper(rec.Verdict), Caution, "simulated cup for the report test", "record #42",
+	} {
+		if !strings.Contains(all, want) {
+			t.Errorf("SVG text lacks %q", want)
+		}
+	}
+}
+
+func TestWriteErrors(t *testing.T) {
+	c, rec := simulatedCup(t)
+	dir := t.TempDir()
+	for _, tc := range []struct {
+		path string
+		c    *curvefile.Curve
+		want string
+	}{
+		{filepath.Join(dir, "page.pdf"), c, ".png or .svg"},
+		{filepath.Join(dir, "empty.png"), &curvefile.Curve{}, "no readings"},
+		{filepath.Join(dir, "no-such-dir", "page.png"), c, "no-such-dir"},
+	} {
+		err := Write(tc.path, tc.c, rec, Info{})
+		if err == nil || !strings.Contains(err.Error(), tc.want) || !strings.Contains(err.Error(), tc.path) {
+			t.Errorf("Write(%s): %v; want an error naming the file and saying %q", tc.path, err, tc.want)
+		}
+	}
+	left, _ := filepath.Glob(filepath.Join(dir, ".*"))
+	if len(left) > 0 {
+		t.Errorf("temporary files left: %v", left)
+	}
+}
+
+// TestDerivative checks both derivative paths against calculus: the
+// quadratic Savitzky–Golay filter is exact for a quadratic (Savitzky &
+// Golay 1964), and so is the central difference on even steps; on uneven
+// steps the central difference is exact for a straight line.
+func TestDerivative(t *testing.T) {
+	n := 600
+	tt := make([]float64, n)
+	q := make([]float64, n)
+	for i := range tt {
+		tt[i] = float64(i) * 0.1 // 10 Hz
+		q[i] = 1300 - 2.5*tt[i] + 0.004*tt[i]*tt[i]
+	}
+	d := Derivative(tt, q)
+	for i, v := range d {
+		if want := -2.5 + 0.008*tt[i]; math.Abs(v-want) > 1e-9 {
+			t.Fatalf("SG d/dt at %g s = %.12g, want %.12g ± 1e-9", tt[i], v, want)
+		}
+	}
+	uneven := []float64{0, 0.1, 0.25, 0.3, 0.5, 0.55, 0.9}
+	lin := make([]float64, len(uneven))
+	for i, x := range uneven {
+		lin[i] = 1250 - 1.75*x
+	}
+	if _, ok := evenStep(uneven); ok {
+		t.Fatal("uneven steps taken for even")
+	}
+	for i, v := range Derivative(uneven, lin) {
+		if math.Abs(v+1.75) > 1e-9 {
+			t.Errorf("central difference at %g s = %g, want -1.75", uneven[i], v)
+		}
+	}
+}
