@@ -303,3 +303,29 @@ func TestCalibrationValidation(t *testing.T) {
 		t.Errorf("shop white cup without calibration accepted: %v", err)
 	}
 }
+
+func TestClone(t *testing.T) {
+	b := Builtin()
+	c := b.Clone()
+	if !reflect.DeepEqual(b, c) {
+		t.Fatal("clone differs")
+	}
+	v := 1.0
+	c.Alloys["grey-iron"].Metrics["eutectic_min_c"].PassMin = &v
+	c.Alloys["al-si7mg"].Chemistry["si"] = 9
+	if *b.Alloys["grey-iron"].Metrics["eutectic_min_c"].PassMin != 1142 || b.Alloys["al-si7mg"].Chemistry["si"] != 7 {
+		t.Error("editing the clone changed the original")
+	}
+}
+
+func TestCloneInvalid(t *testing.T) {
+	// An editor's book mid-edit may be invalid; its clone is still deep.
+	b := Builtin()
+	bad := 2000.0
+	b.Alloys["grey-iron"].Metrics["eutectic_min_c"].MarginalMin = &bad
+	c := b.Clone()
+	*c.Alloys["grey-iron"].Metrics["eutectic_min_c"].PassMin = 1.0
+	if *b.Alloys["grey-iron"].Metrics["eutectic_min_c"].PassMin != 1142 || *c.Alloys["grey-iron"].Metrics["eutectic_min_c"].MarginalMin != 2000 {
+		t.Error("the clone of an invalid book is not deep")
+	}
+}

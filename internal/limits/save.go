@@ -359,3 +359,43 @@ func appendLog(path, entry string) error {
 	}
 	return nil
 }
+
+// Clone returns a deep copy of the book (for an editor that may cancel).
+func (b *Book) Clone() *Book {
+	c := &Book{}
+	if parsed, err := Parse(Encode(b), b.Source); err == nil {
+		c = parsed
+	} else {
+		// An invalid book cannot go through the text form: copy by hand.
+		*c = *b
+		c.Alloys = make(map[string]*Alloy, len(b.Alloys))
+		for n, a := range b.Alloys {
+			ac := *a
+			ac.Chemistry = maps.Clone(a.Chemistry)
+			ac.Reference.LiquidusSlopes = maps.Clone(a.Reference.LiquidusSlopes)
+			ac.Reference.EutecticDepressors = maps.Clone(a.Reference.EutecticDepressors)
+			ac.Metrics = make(map[string]*Limit, len(a.Metrics))
+			for m, l := range a.Metrics {
+				lc := *l
+				lc.PassMin, lc.PassMax = copyPtr(l.PassMin), copyPtr(l.PassMax)
+				lc.MarginalMin, lc.MarginalMax = copyPtr(l.MarginalMin), copyPtr(l.MarginalMax)
+				ac.Metrics[m] = &lc
+			}
+			c.Alloys[n] = &ac
+		}
+	}
+	c.Source = b.Source
+	if b.Calibration != nil && b.CalibrationFile != "" {
+		cal := *b.Calibration
+		c.Calibration = &cal
+	}
+	return c
+}
+
+func copyPtr(p *float64) *float64 {
+	if p == nil {
+		return nil
+	}
+	v := *p
+	return &v
+}
