@@ -71,12 +71,16 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 
 	out := &analyzeOutput{env: env, json: *asJSON, files: files, progress: stderrIsTerminal(env)}
 	out.start()
-	failed := false
-	for a := range analyzeFiles(ctx, files, *alloy, book) {
-		if a.err != nil {
-			failed = true
-		}
+	wctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	results := analyzeFiles(wctx, files, *alloy, book)
+	for a := range results {
 		if err := out.result(a); err != nil {
+			cancel()
+			go func() {
+				for range results { // let the workers finish
+				}
+			}()
 			return err
 		}
 	}
@@ -86,7 +90,7 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 	if ctx.Err() != nil {
 		return ctx.Err()
 	}
-	if failed {
+	if out.failed > 0 {
 		return exitError{1}
 	}
 	return nil
@@ -136,6 +140,9 @@ func analyzeOne(i int, path, alloy string, book *limits.Book) analyzed {
 		File: path, Alloy: alloy, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped,
 		Limits: book, Meta: c.Meta,
 	})
+	if alloy == "" {
+		rec.Warnings = append(rec.Warnings, "no alloy named (give --alloy or a '# alloy:' line): analysed as "+rec.Family+" without limits")
+	}
 	return analyzed{index: i, rec: rec}
 }
 
@@ -185,11 +192,13 @@ func (o *analyzeOutput) result(a analyzed) error {
 			_, err = fmt.Fprintf(o.env.stdout, "%-*s  %-*s  %s\n", o.fileW, o.files[a.index], o.alloyW, "", "unreadable (see the error above)")
 		}
 	case o.json:
-		var b []byte
-		if b, err = json.Marshal(a.rec); err == nil {
-			b = append(b, '\n')
-			_, err = o.env.stdout.Write(b)
+		b, jerr := json.Marshal(a.rec)
+		if jerr != nil {
+			o.failed++
+			fmt.Fprintf(o.env.stderr, "undercool analyze: %s: cannot encode the result: %v\n", a.rec.File, jerr)
+			break
 		}
+		_, err = o.env.stdout.Write(append(b, '\n'))
 	default:
 		r := &a.rec
 		o.details[a.index] = r

@@ -12,6 +12,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/creack/pty"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/sim"
 )
@@ -327,5 +328,37 @@ func TestAnalyzeExampleDialects(t *testing.T) {
 	recs := jsonLines(t, out)
 	if code != 0 || len(recs) != 2 || recs[0]["alloy"] != "al-si7mg" || fmt.Sprint(recs[0]["eutectic_min_c"]) != fmt.Sprint(recs[1]["eutectic_min_c"]) {
 		t.Errorf("Al-Si dialects: exit %d %s\n%s", code, errs, out)
+	}
+}
+
+// TestAnalyzeProgressOnTerminal gives analyze a pseudo-terminal as stderr:
+// a progress line is drawn there and cleared, and stdout has only results.
+func TestAnalyzeProgressOnTerminal(t *testing.T) {
+	ptm, pts, err := pty.Open()
+	if err != nil {
+		t.Skipf("no pseudo-terminal here: %v", err)
+	}
+	defer ptm.Close()
+	dir := t.TempDir()
+	a := writeText(t, dir, "a.csv", flatCup())
+	b := writeText(t, dir, "b.csv", flatCup())
+	got := make(chan string)
+	go func() {
+		all, _ := io.ReadAll(ptm) // ends with EIO once pts is closed
+		got <- string(all)
+	}()
+	var out bytes.Buffer
+	env := &environ{stdin: strings.NewReader(""), stdout: &out, stderr: pts, getenv: func(string) string { return "" }}
+	code := runMain(t.Context(), env, []string{"analyze", "--json", a, b})
+	pts.Close()
+	tty := <-got
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, tty)
+	}
+	if !strings.Contains(tty, "analysed 2 of 2 files") || !strings.HasSuffix(tty, "\r\x1b[K") {
+		t.Errorf("terminal got %q", tty)
+	}
+	if len(jsonLines(t, out.String())) != 2 {
+		t.Errorf("stdout %q", out.String())
 	}
 }

@@ -16,8 +16,9 @@ type Curve struct {
 	Time  []float64 // s
 	Temp  []float64 // °C (converted from EMF on reading where the file holds EMF)
 	Extra []Column  // further columns, kept, not lost
-	// Skipped counts lines that were passed over as noise (blank lines);
-	// they are never silently lost.
+	// Skipped counts lines that were passed over as noise (blank lines and
+	// '#' comment lines that are not "# key: value" metadata); they are
+	// never silently lost.
 	Skipped int
 }
 
