@@ -149,7 +149,10 @@ type Analyzer struct {
 	stopped      bool  // a fault or noise ended the usable data
 	end          int   // raw readings usable (when stopped)
 
-	ts, raw []float64 // accepted readings
+	ts, raw       []float64 // accepted readings: views of the caller's slices until one is dropped
+	own           bool      // ts and raw are copies in tsBuf, rawBuf
+	tsBuf, rawBuf []float64
+	curF, curD    sigCursor // noise look-ups of the filter and the detector
 	x       []float64 // despiked readings
 	s, d    []float64 // smoothed T (°C) and T' (°C/s)
 
@@ -238,18 +241,21 @@ func (a *Analyzer) Reset() { a.ready = false }
 func same(a, b float64) bool { return a == b || math.IsNaN(a) && math.IsNaN(b) }
 
 func (a *Analyzer) reset(opt Options, n int) {
-	r := max(n, a.reserve, 4096)
-	if cap(a.ts) < r {
-		a.ts, a.raw, a.x = make([]float64, 0, r), make([]float64, 0, r), make([]float64, 0, r)
-		a.s, a.d = make([]float64, 0, r), make([]float64, 0, r)
+	r := a.reserve
+	if r == 0 {
+		r = max(n, 4096)
+	}
+	if cap(a.x) < r {
+		a.x, a.s, a.d = make([]float64, 0, r), make([]float64, 0, r), make([]float64, 0, r)
 	}
 	if cap(a.blockSig) < 64 {
-		a.blockSig, a.sigByCount, a.sorted = make([]float64, 0, 256), make([]float64, 0, 257), make([]float64, 0, 256)
+		slab := make([]float64, 3*256+1)
+		a.blockSig, a.sigByCount, a.sorted = slab[:0:256], slab[256:256:513], slab[513:513]
 		a.validByCount = make([]int, 0, 257)
 	}
 	*a = Analyzer{
 		opt: opt, h: FamilyHints(opt.Family), reserve: a.reserve,
-		ts: a.ts[:0], raw: a.raw[:0], dl: a.dl[:0], x: a.x[:0], s: a.s[:0], d: a.d[:0],
+		tsBuf: a.tsBuf[:0], rawBuf: a.rawBuf[:0], dl: a.dl[:0], x: a.x[:0], s: a.s[:0], d: a.d[:0],
 		blockSig: a.blockSig[:0], sigByCount: append(a.sigByCount[:0], 0), sorted: a.sorted[:0], scratch: a.scratch,
 		validByCount: append(a.validByCount[:0], 0),
 		ready:        true, probs: nil, probAt: a.probAt[:0], spikes: a.spikes[:0], end: math.MaxInt, limit: math.MaxInt, xmax: math.Inf(-1), pourConf: -1, // probs never reused: earlier Results share it
@@ -277,12 +283,16 @@ func (a *Analyzer) problem(at int, code, msg string, fatal bool) {
 // last reading whose time was in order, so that it depends on the input
 // alone.
 func (a *Analyzer) ingest(t, temp []float64) {
+	ts, raw := a.ts, a.raw // locals: no write barrier per reading
+	if !a.own {
+		ts, raw = t[:len(ts)], temp[:len(raw)] // the same readings, perhaps moved
+	}
 	for i := a.nIn; i < len(t); i++ {
 		ti, v := t[i], temp[i]
 		a.nIn = i + 1
 		if math.IsNaN(ti) || a.goodT > 0 && !(ti > a.lastGoodT) {
 			a.badTime++
-			a.problem(len(a.ts), CodeTimeOrder, fmt.Sprintf("time goes backwards or repeats at reading %d (t = %g s); such readings were left out", i+1, ti), true)
+			a.problem(len(ts), CodeTimeOrder, fmt.Sprintf("time goes backwards or repeats at reading %d (t = %g s); such readings were left out", i+1, ti), true)
 			continue
 		}
 		a.goodT++
@@ -291,17 +301,32 @@ func (a *Analyzer) ingest(t, temp []float64) {
 			continue
 		}
 		if math.IsNaN(v) || v > MaxValidC || v < MinValidC {
-			a.stop(len(a.raw), len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: reading %g °C at %.1f s (open circuit or out of range); the curve after it was not analysed", v, ti))
+			a.stop(len(raw), len(raw), CodeFault, fmt.Sprintf("thermocouple fault: reading %g °C at %.1f s (open circuit or out of range); the curve after it was not analysed", v, ti))
 			continue
 		}
-		a.ts = append(a.ts, ti)
-		a.raw = append(a.raw, v)
-		if a.rate > 0 {
-			a.noiseBlocks()
+		switch {
+		case !a.own && len(ts) == i:
+			ts, raw = t[:i+1], temp[:i+1] // no reading dropped yet: a view, no copy
+		case !a.own:
+			a.tsBuf = append(a.tsBuf[:0], ts...)
+			a.rawBuf = append(a.rawBuf[:0], raw...)
+			ts, raw = a.tsBuf, a.rawBuf
+			a.own = true
+			fallthrough
+		default:
+			ts = append(ts, ti)
+			raw = append(raw, v)
 		}
+	}
+	a.ts, a.raw = ts, raw
+	if a.own {
+		a.tsBuf, a.rawBuf = ts, raw
 	}
 	if n := len(t); n > 0 {
 		a.first, a.mid, a.lastT, a.lastV = t[0], temp[n/2], t[n-1], temp[n-1]
+	}
+	if a.rate > 0 {
+		a.noiseBlocks()
 	}
 }
 
@@ -344,29 +369,49 @@ func (a *Analyzer) noiseBlocks() {
 		}
 		blk := a.raw[b*a.block : hi]
 		sig := math.NaN() // a block spanning the pour says nothing about noise
-		if lo, top := slices.Min(blk), slices.Max(blk); top-lo <= blockRangeC {
+		lo, top := blk[0], blk[0]
+		for _, v := range blk {
+			lo, top = min(lo, v), max(top, v)
+		}
+		if top-lo <= blockRangeC {
 			sig, a.scratch = curve.Noise(a.scratch, blk)
+			pos, _ := slices.BinarySearch(a.sorted, sig)
+			a.sorted = slices.Insert(a.sorted, pos, sig)
 		}
 		a.blockSig = append(a.blockSig, sig)
-		// median of the valid estimates among the first b+1 blocks
-		tmp := a.sorted[:0]
-		for _, v := range a.blockSig {
-			if !math.IsNaN(v) {
-				tmp = append(tmp, v)
-			}
-		}
+		// median of the valid estimates among the first b+1 blocks (kept sorted)
+		tmp := a.sorted
 		m := 0.0
 		if len(tmp) > 0 {
-			slices.Sort(tmp)
 			m = tmp[len(tmp)/2]
 			if len(tmp)%2 == 0 {
 				m = (tmp[len(tmp)/2-1] + m) / 2
 			}
 		}
-		a.sorted = tmp[:0]
 		a.sigByCount = append(a.sigByCount, m)
 		a.validByCount = append(a.validByCount, len(tmp))
 	}
+}
+
+// sigCursor caches the noise estimate over one block of indices.
+type sigCursor struct {
+	lo, hi int
+	v      float64
+}
+
+// sigmaAt is sigma(i) through a cursor: a division only once per block.
+func (a *Analyzer) sigmaAt(c *sigCursor, i int) float64 {
+	if i >= c.lo && i < c.hi {
+		return c.v
+	}
+	k := i / a.block
+	c.lo, c.hi = k*a.block, (k+1)*a.block
+	if k >= len(a.sigByCount) {
+		k = len(a.sigByCount) - 1
+		c.hi = c.lo // not final yet: do not cache
+	}
+	c.v = a.sigByCount[k]
+	return c.v
 }
 
 // sigma is the noise estimate usable at raw index i: from blocks that end at
@@ -392,8 +437,11 @@ func (a *Analyzer) validBlocks(i int) int {
 func (a *Analyzer) filter() {
 	n := min(len(a.raw), a.end)
 	raw := a.raw[:n]
-	for i := len(a.x); i+2 < n && n >= 5; i++ {
-		v, spike := curve.SpikeAt(raw, i, SpikeMinC, a.sigma(i))
+	x := a.x // locals in the hot loops: no write barrier per reading
+	pourRun := max(3, int(math.Round(0.5*a.rate)))
+	for i := len(x); i+2 < n && n >= 5; i++ {
+		sig := a.sigmaAt(&a.curF, i)
+		v, spike := curve.SpikeAt(raw, i, SpikeMinC, sig)
 		if spike {
 			a.spikes = append(a.spikes, i)
 		}
@@ -402,26 +450,32 @@ func (a *Analyzer) filter() {
 			if v > a.xmax {
 				a.xmax, a.xmaxI = v, i
 			}
-			if a.xmax >= a.h.MinPourC && v <= a.xmax-math.Max(pourDropC, 10*a.sigma(i)) {
+			if a.xmax >= a.h.MinPourC && v <= a.xmax-max(pourDropC, 10*sig) {
 				a.pourBelow++
 			} else {
 				a.pourBelow = 0
 			}
 			// the fall must last half a second (at least 3 readings): a
 			// spike on the steep rise is no peak
-			if a.pourBelow >= max(3, int(math.Round(0.5*a.rate))) {
+			if a.pourBelow >= pourRun {
 				a.pourConf = i
 			}
-		} else if i > 0 && math.Abs(v-a.x[i-1]) > StepFaultC {
-			a.stop(i, len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: the reading jumped from %.1f to %.1f °C at %.1f s and stayed; the curve after it was not analysed", a.x[i-1], v, a.ts[i]))
+		} else if i > 0 && math.Abs(v-x[i-1]) > StepFaultC {
+			a.stop(i, len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: the reading jumped from %.1f to %.1f °C at %.1f s and stayed; the curve after it was not analysed", x[i-1], v, a.ts[i]))
 			a.end = i
 			break
 		}
-		a.x = append(a.x, v)
+		x = append(x, v)
 	}
-	x := a.x
+	a.x = x
 	hs, hd := a.ws/2, a.wd/2
-	for j := len(a.s); j+max(hs, hd) < len(x) && len(x) >= max(a.ws, a.wd); j++ {
+	hm := max(hs, hd)
+	if len(x) < max(a.ws, a.wd) {
+		return
+	}
+	s, d := a.s, a.d
+	inv := 1 / a.dt
+	for j := len(s); j+hm < len(x); j++ {
 		var sj, dj float64
 		if j < hs {
 			sj = a.ks.At(x[:a.ws], j, 1)
@@ -432,11 +486,12 @@ func (a *Analyzer) filter() {
 			dj = a.kd.At(x[:a.wd], j, a.dt)
 		} else {
 			_, dj = a.sld.At(x, j)
-			dj /= a.dt
+			dj *= inv
 		}
-		a.s = append(a.s, sj)
-		a.d = append(a.d, dj)
+		s = append(s, sj)
+		d = append(d, dj)
 	}
+	a.s, a.d = s, d
 }
 
 // crossing interpolates the zero crossing of T' between indices k and k+1.
@@ -492,7 +547,7 @@ func (a *Analyzer) detect() {
 	for ; e.j < len(a.d) && e.stage != stageDone; e.j++ {
 		j := e.j
 		d := a.d[j]
-		sig := a.sigma(j)
+		sig := a.sigmaAt(&a.curD, j)
 		if e.stage != stagePour && sig > NoisyC && a.validBlocks(j) >= 5 {
 			// Too noisy: nothing from here on is used.
 			a.stop(j, len(a.raw), CodeNoisy, fmt.Sprintf("too noisy to trust: the reading scatters by about %.1f °C (more than %.1f °C) from %.0f s on; check the thermocouple, its wiring and earthing", sig, float64(NoisyC), a.ts[j]))
@@ -501,11 +556,11 @@ func (a *Analyzer) detect() {
 			break
 		}
 		sd := sig * a.gainD
-		h := math.Max(slopeFloor, 4*sd)
-		p := math.Max(promFloor, 8*sd)
+		h := max(slopeFloor, 4*sd)
+		p := max(promFloor, 8*sd)
 		if e.stage == stageArrest {
 			// an arrest must also stand out against the liquid's cooling rate
-			p = math.Max(p, promShare*math.Abs(e.dmin))
+			p = max(p, promShare*math.Abs(e.dmin))
 		}
 		switch e.stage {
 		case stagePour:

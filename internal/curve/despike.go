@@ -29,13 +29,20 @@ func SpikeAt(x []float64, i int, minC, noise float64) (float64, bool) {
 		lo = n - 5
 	}
 	w := x[lo : lo+5 : lo+5]
+	slope := min(math.Abs(w[3]-w[1])/2, math.Abs(w[4]-w[0])/4)
+	thr := max(minC, SpikeSigmas*noise) + 2*slope
+	v := x[i]
+	// Fast exact path: when every reading of the window is within thr of
+	// x[i], so is their median.
+	if math.Abs(w[0]-v) <= thr && math.Abs(w[1]-v) <= thr && math.Abs(w[2]-v) <= thr &&
+		math.Abs(w[3]-v) <= thr && math.Abs(w[4]-v) <= thr {
+		return v, false
+	}
 	med := median5(w[0], w[1], w[2], w[3], w[4])
-	slope := math.Min(math.Abs(w[3]-w[1])/2, math.Abs(w[4]-w[0])/4)
-	thr := math.Max(minC, SpikeSigmas*noise) + 2*slope
-	if math.Abs(x[i]-med) > thr {
+	if math.Abs(v-med) > thr {
 		return med, true
 	}
-	return x[i], false
+	return v, false
 }
 
 // Despike writes x with single-sample spikes replaced (see SpikeAt) into dst

@@ -1,0 +1,62 @@
+package arrest
+
+import (
+	"fmt"
+	"testing"
+)
+
+// benchCurve is a constructed grey-iron curve (shape 0) of n readings at
+// rate Hz, noise 0.2 °C, 0.25 °C steps and spikes.
+func benchCurve(rate float64, n int) ([]float64, []float64) {
+	sh := shapes()[0]
+	tail := float64(n)/rate - (sh.end() + 3 + sh.pre)
+	tt, v := sh.sample(sampling{rate: rate, noise: 0.2, quant: 0.25, spikeP: 1.0 / 500, spikeLo: 10, spikeHi: 40, seed: 1, tailS: max(tail, 0)})
+	return tt[:min(n, len(tt))], v[:min(n, len(v))]
+}
+
+// One 300 s, 10 Hz curve analysed offline (target ≤ 50 µs, a handful of
+// allocations).
+func BenchmarkAnalyze300s10Hz(b *testing.B) {
+	tt, v := benchCurve(10, 3000)
+	b.ReportAllocs()
+	for b.Loop() {
+		Analyze(tt, v, Options{})
+	}
+}
+
+// The live call: a 3000-reading curve fed one reading at a time through one
+// Analyzer; reported per reading (target ≤ 5 µs amortised).
+func BenchmarkLivePerReading(b *testing.B) {
+	tt, v := benchCurve(10, 3000)
+	b.ReportAllocs()
+	var a Analyzer
+	readings := 0
+	for b.Loop() {
+		a.Reset()
+		for k := 1; k <= len(tt); k++ {
+			a.Analyze(tt[:k], v[:k], Options{Live: true})
+		}
+		readings += len(tt)
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(readings), "ns/reading")
+}
+
+// Size ladder: the whole curve analysed offline, 300 to 300 000 readings
+// (10 Hz; beyond the end of freezing the analysis stops early, so the
+// longer rungs measure the recording being taken in).
+func BenchmarkAnalyzeSizes(b *testing.B) {
+	for _, n := range []int{300, 3000, 30000, 300000} {
+		rate := 10.0
+		if n > 3000 {
+			rate = float64(n) / 300 // keep 300 s of curve, faster logging
+		}
+		tt, v := benchCurve(rate, n)
+		b.Run(fmt.Sprintf("n=%d", n), func(b *testing.B) {
+			b.ReportAllocs()
+			b.SetBytes(int64(16 * len(tt)))
+			for b.Loop() {
+				Analyze(tt, v, Options{})
+			}
+		})
+	}
+}
