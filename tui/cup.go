@@ -409,7 +409,9 @@ func (c *cup) ratePlot(st *Styles, w, h int, x1 float64) plot {
 }
 
 func (c *cup) charts(st *Styles, w, h int) string {
-	if h < 9 {
+	// The curve comes first: the rate chart is drawn only when both get
+	// a readable height.
+	if h < 12 {
 		tp := c.tempPlot(st, w, h-1)
 		return st.Label.Render("°C against s") + "\n" + tp.render(st)
 	}

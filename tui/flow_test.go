@@ -72,9 +72,10 @@ func TestFlowPourToVerdictOnSimulatedDeck(t *testing.T) {
 		}
 		return false
 	})
-	// Quitting right after a verdict: no sample is recording, so q quits
-	// at once.
+	// Quit: at once, or, when the deck has already poured the next cup,
+	// after saying yes to the question.
 	tm.Send(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune("q")})
+	tm.Send(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune("y")})
 	fm := tm.FinalModel(t, teatest.WithFinalTimeout(20*time.Second)).(Model)
 	es, _ := mem.List(context.Background(), "", 10)
 	if len(es) < 1 {
