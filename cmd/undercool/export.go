@@ -1,14 +1,11 @@
 package main
 
 import (
-	"bufio"
 	"context"
 	"encoding/csv"
 	"flag"
 	"fmt"
 	"io"
-	"os"
-	"path/filepath"
 	"strconv"
 	"strings"
 	"time"
@@ -48,15 +45,8 @@ func runExport(ctx context.Context, env *environ, args []string) error {
 	fs.BoolVar(&opt.decimalComma, "decimal-comma", false, "CSV with ';' separators and decimal commas")
 	fs.BoolVar(&opt.bom, "bom", false, "start the CSV with a UTF-8 byte-order mark (for spreadsheets that need one)")
 	fs.StringVar(&out, "out", "", "write to `FILE` (default standard output)")
-	if err := fs.Parse(args); err != nil {
-		if err == flag.ErrHelp {
-			return nil
-		}
-		return errUsage
-	}
-	if fs.NArg() > 0 {
-		fmt.Fprintf(env.stderr, "undercool export: unexpected argument %q\n", fs.Arg(0))
-		return errUsage
+	if help, err := parseNoArgs(fs, env, args); help || err != nil {
+		return err
 	}
 	if f.json && (f.csv || opt.decimalComma || opt.bom) {
 		fmt.Fprintln(env.stderr, "undercool export: --json does not go with --csv, --decimal-comma or --bom")
@@ -86,38 +76,10 @@ func runExport(ctx context.Context, env *environ, args []string) error {
 	if out == "" {
 		return write(env.stdout)
 	}
-	if err := writeExportFile(out, write); err != nil {
+	if err := writeFileAtomic(out, write); err != nil {
 		return err
 	}
 	fmt.Fprintf(env.stderr, "wrote %d samples to %s\n", len(entries), out)
-	return nil
-}
-
-// writeExportFile writes through a temporary file renamed into place, so
-// an existing export is never left half-written.
-func writeExportFile(path string, write func(io.Writer) error) error {
-	tmp, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*")
-	if err != nil {
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	defer os.Remove(tmp.Name())
-	bw := bufio.NewWriter(tmp)
-	err = write(bw)
-	if err == nil {
-		err = bw.Flush()
-	}
-	if err == nil {
-		err = tmp.Sync()
-	}
-	if cerr := tmp.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(tmp.Name(), path)
-	}
-	if err != nil {
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
 	return nil
 }
 

@@ -100,7 +100,7 @@ func TestExportDecimalCommaBOMFile(t *testing.T) {
 			t.Errorf("row %d does not read back: %v %v", i, v, err)
 		}
 	}
-	left, _ := filepath.Glob(filepath.Join(filepath.Dir(path), ".shift.csv.*"))
+	left, _ := filepath.Glob(filepath.Join(filepath.Dir(path), ".*"))
 	if len(left) > 0 {
 		t.Errorf("temporary files left: %v", left)
 	}

@@ -125,6 +125,22 @@ func parseSpan(s string) (time.Duration, error) {
 	return d, nil
 }
 
+// parseNoArgs parses a records command's flags, which take no positional
+// arguments; help is true when -h was asked for (and answered).
+func parseNoArgs(fs *flag.FlagSet, env *environ, args []string) (help bool, err error) {
+	if err := fs.Parse(args); err != nil {
+		if err == flag.ErrHelp {
+			return true, nil
+		}
+		return false, errUsage
+	}
+	if fs.NArg() > 0 {
+		fmt.Fprintf(env.stderr, "undercool %s: unexpected argument %q\n", fs.Name(), fs.Arg(0))
+		return false, errUsage
+	}
+	return false, nil
+}
+
 // openRecords opens the records database named by --db, else the default.
 func openRecords(ctx context.Context, env *environ, dbFlag string) (*store.DB, error) {
 	path := dbFlag
@@ -144,15 +160,8 @@ func runHistory(ctx context.Context, env *environ, args []string) error {
 	var f recordsFlags
 	f.register(fs)
 	fs.IntVar(&f.limit, "limit", 0, "at most `N` rows (0: all)")
-	if err := fs.Parse(args); err != nil {
-		if err == flag.ErrHelp {
-			return nil
-		}
-		return errUsage
-	}
-	if fs.NArg() > 0 {
-		fmt.Fprintf(env.stderr, "undercool history: unexpected argument %q\n", fs.Arg(0))
-		return errUsage
+	if help, err := parseNoArgs(fs, env, args); help || err != nil {
+		return err
 	}
 	if f.json && f.csv {
 		fmt.Fprintln(env.stderr, "undercool history: give --json or --csv, not both")

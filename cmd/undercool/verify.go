@@ -30,15 +30,8 @@ func runVerify(ctx context.Context, env *environ, args []string) error {
 	fs.Usage = func() { fmt.Fprint(env.stderr, verifyUsage); fs.PrintDefaults() }
 	dbPath := fs.String("db", "", "records database `PATH` (default $UNDERCOOL_DB or the user's data directory)")
 	quiet := fs.Bool("quiet", false, "print only the problems, not the summary")
-	if err := fs.Parse(args); err != nil {
-		if err == flag.ErrHelp {
-			return nil
-		}
-		return errUsage
-	}
-	if fs.NArg() > 0 {
-		fmt.Fprintf(env.stderr, "undercool verify: unexpected argument %q\n", fs.Arg(0))
-		return errUsage
+	if help, err := parseNoArgs(fs, env, args); help || err != nil {
+		return err
 	}
 	db, err := openRecords(ctx, env, *dbPath)
 	if err != nil {

@@ -1,0 +1,166 @@
+package main
+
+import (
+	"context"
+	"flag"
+	"fmt"
+	"os"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/report"
+	"github.com/undercool-foundry/undercool/internal/store"
+)
+
+func init() {
+	register(command{
+		name:    "report",
+		summary: "draw a sample's quality-record page (curve, dT/dt, points, verdict) as PNG or SVG",
+		run:     runReport,
+	})
+}
+
+const reportUsage = `usage: undercool report SAMPLE --out FILE.png|FILE.svg [--db PATH] [--alloy A] [--limits FILE]
+
+Draws the page for a ladle's quality record: the cooling curve with its
+characteristic points, its derivative dT/dt, the results, the verdict with
+its reasons and advice, and the caution that the advice defers to the
+shop's written procedures. A4, PNG (150 dpi) or SVG by the file's extension.
+
+SAMPLE is a stored sample's id (digits, as 'undercool history' lists them:
+the stored results are drawn, over the curve file as it is now; a changed
+curve file is noted on the page), or a curve file's path (analysed now,
+with --alloy and --limits as for 'undercool analyze'; write ./42 for a
+file named 42).
+`
+
+func runReport(ctx context.Context, env *environ, args []string) error {
+	fs := flag.NewFlagSet("report", flag.ContinueOnError)
+	fs.SetOutput(env.stderr)
+	fs.Usage = func() { fmt.Fprint(env.stderr, reportUsage); fs.PrintDefaults() }
+	out := fs.String("out", "", "the page to write, `FILE`.png or FILE.svg")
+	dbPath := fs.String("db", "", "records database `PATH` (default $UNDERCOOL_DB or the user's data directory)")
+	alloy := fs.String("alloy", "", "alloy of a curve file (overrides its '# alloy:')")
+	limitsPath := fs.String("limits", "", "limits `FILE` for a curve file (default: the shipped examples)")
+	pos, err := parseLimitsArgs(fs, args) // flags before or after SAMPLE
+	if err != nil {
+		if err == flag.ErrHelp {
+			return nil
+		}
+		return errUsage
+	}
+	if len(pos) != 1 || *out == "" {
+		fmt.Fprint(env.stderr, reportUsage)
+		return errUsage
+	}
+	var (
+		c    *curvefile.Curve
+		rec  assess.Record
+		info report.Info
+	)
+	if id, err := strconv.ParseInt(pos[0], 10, 64); err == nil && id > 0 {
+		c, rec, info, err = reportStored(ctx, env, *dbPath, id)
+		if err != nil {
+			return err
+		}
+	} else {
+		var book *limits.Book
+		if *limitsPath != "" {
+			if book, err = limits.Load(*limitsPath); err != nil {
+				return err
+			}
+		}
+		if c, err = curvefile.ReadFile(pos[0]); err != nil {
+			return err
+		}
+		a := *alloy
+		if a == "" {
+			a = c.Get("alloy")
+		}
+		rec = assess.Assess(assess.Input{File: pos[0], Alloy: a, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped, Limits: book, Meta: c.Meta})
+		s := sampleFromCurve(pos[0], c, rec)
+		if s.CurveSHA256, err = store.HashFile(pos[0]); err != nil {
+			return err
+		}
+		info = report.Info{Sample: s.Sample, Ladle: s.Ladle, Alloy: rec.Alloy, Furnace: s.Furnace, Operator: s.Operator,
+			Time: s.Recorded, CurvePath: pos[0], CurveSHA256: s.CurveSHA256}
+		if s.Simulated {
+			info.Notes = append(info.Notes, "simulated cup, not a measurement")
+		}
+	}
+	if err := report.Write(*out, c, rec, info); err != nil {
+		return err
+	}
+	fmt.Fprintf(env.stderr, "wrote %s (%s, verdict %s)\n", *out, dash(info.Sample), rec.Verdict)
+	return nil
+}
+
+// reportStored loads a stored sample and its curve file; a curve file that
+// changed since it was stored is drawn as it is now, with a note.
+func reportStored(ctx context.Context, env *environ, dbPath string, id int64) (*curvefile.Curve, assess.Record, report.Info, error) {
+	db, err := openRecords(ctx, env, dbPath)
+	if err != nil {
+		return nil, assess.Record{}, report.Info{}, err
+	}
+	defer db.Close()
+	s, results, err := db.Get(ctx, id)
+	if err != nil {
+		return nil, assess.Record{}, report.Info{}, err
+	}
+	info := report.Info{Sample: s.Sample, Ladle: s.Ladle, Alloy: s.Alloy, Furnace: s.Furnace, Operator: s.Operator,
+		Time: s.Recorded, StoreID: s.ID, CurvePath: s.CurvePath, CurveSHA256: s.CurveSHA256, LimitsVersion: s.LimitsVersion}
+	if s.CurvePath == "" {
+		return nil, s.Record, info, fmt.Errorf("sample %d has no curve file to draw", id)
+	}
+	c, err := curvefile.ReadFile(s.CurvePath)
+	if err != nil {
+		return nil, s.Record, info, fmt.Errorf("sample %d: %w", id, err)
+	}
+	if sum, err := store.HashFile(s.CurvePath); err == nil && s.CurveSHA256 != "" && sum != s.CurveSHA256 {
+		note := fmt.Sprintf("The curve file has CHANGED since it was stored (sha256 now %.16s…): the curve is drawn as it is now, the results are those stored.", sum)
+		info.Notes = append(info.Notes, note)
+		fmt.Fprintf(env.stderr, "undercool report: warning: sample %d: %s\n", id, note)
+	}
+	if len(results) > 1 {
+		info.Notes = append(info.Notes, fmt.Sprintf("Latest of %d analyses of this sample (first %s).", len(results),
+			results[0].Analysed.UTC().Format("2006-01-02 15:04 UTC")))
+	}
+	if s.Simulated {
+		info.Notes = append(info.Notes, "simulated cup, not a measurement")
+	}
+	return c, s.Record, info, nil
+}
+
+// sampleFromCurve fills a store.Sample from a curve file's metadata (keys
+// sample, ladle, furnace, operator, channel, thermocouple, note, started,
+// simulated, interrupted) and its record; the hash is left to the caller.
+func sampleFromCurve(path string, c *curvefile.Curve, rec assess.Record) store.Sample {
+	s := store.Sample{
+		Sample: c.Get("sample"), Ladle: c.Get("ladle"), Alloy: rec.Alloy, Furnace: c.Get("furnace"),
+		Operator: c.Get("operator"), Channel: c.Get("channel"), Thermocouple: c.Get("thermocouple"),
+		Note: c.Get("note"), CurvePath: path, Record: rec, LimitsVersion: rec.LimitsVersion,
+		Simulated:   metaTrue(c.Get("simulated")),
+		Interrupted: metaTrue(c.Get("interrupted")),
+	}
+	if s.Alloy == "" {
+		s.Alloy = c.Get("alloy")
+	}
+	if t, err := time.Parse(time.RFC3339Nano, c.Get("started")); err == nil {
+		s.Recorded = t
+	} else if st, err := os.Stat(path); err == nil {
+		s.Recorded = st.ModTime() // no start time in the file: when it was last written
+	}
+	return s
+}
+
+func metaTrue(v string) bool {
+	switch strings.ToLower(strings.TrimSpace(v)) {
+	case "true", "yes", "1":
+		return true
+	}
+	return false
+}

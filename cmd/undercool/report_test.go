@@ -1,0 +1,128 @@
+package main
+
+import (
+	"context"
+	"image/png"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+
+	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/sim"
+	"github.com/undercool-foundry/undercool/internal/store"
+)
+
+// reportCurveFile writes a simulated (not measured) grey-iron cup from
+// internal/sim as a curve file, with the Harrowgate demo's form data.
+func reportCurveFile(t *testing.T, dir string) string {
+	t.Helper()
+	p, err := sim.Preset("grey-iron", 0.6, 2418)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.Sample, p.Ladle, p.Operator = "L-2418 cup 1", "L-2418", "Ade Okafor"
+	out := sim.Simulate(p)
+	c := &curvefile.Curve{Meta: append(out.Meta, curvefile.Meta{Key: "started", Value: "2026-12-01T07:40:00.000Z"},
+		curvefile.Meta{Key: "furnace", Value: "holder H3"}), Time: out.Time, Temp: out.Temp}
+	path := filepath.Join(dir, "L-2418.csv")
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := curvefile.WriteCurve(f, c); err != nil {
+		t.Fatal(err)
+	}
+	f.Close()
+	return path
+}
+
+func TestReportFromCurveFile(t *testing.T) {
+	dir := t.TempDir()
+	curve := reportCurveFile(t, dir)
+	page := filepath.Join(dir, "page.png")
+	code, _, errs := recordsRun(t, "", "report", curve, "--out", page)
+	if code != 0 || !strings.Contains(errs, "wrote "+page) || !strings.Contains(errs, "L-2418 cup 1") {
+		t.Fatalf("status %d: %s", code, errs)
+	}
+	f, err := os.Open(page)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	img, err := png.Decode(f)
+	if err != nil {
+		t.Fatalf("not a PNG: %v", err)
+	}
+	if b := img.Bounds(); b.Dx() != 1240 || b.Dy() != 1754 { // A4 at 150 dpi
+		t.Fatalf("page %v", b)
+	}
+}
+
+func TestReportFromStoreNotesChangedCurve(t *testing.T) {
+	dir := t.TempDir()
+	curve := reportCurveFile(t, dir)
+	c, err := curvefile.ReadFile(curve)
+	if err != nil {
+		t.Fatal(err)
+	}
+	dbPath := filepath.Join(dir, "records.db")
+	db, err := store.Open(context.Background(), dbPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec := assess.Assess(assess.Input{File: curve, Alloy: c.Get("alloy"), Time: c.Time, Temp: c.Temp, Meta: c.Meta})
+	s := sampleFromCurve(curve, c, rec)
+	if s.Recorded.Format("15:04") != "07:40" || s.Furnace != "holder H3" || !s.Simulated || s.Operator != "Ade Okafor" {
+		t.Fatalf("sample from the curve's metadata: %+v", s)
+	}
+	s.CurveSHA256, _ = store.HashFile(curve)
+	id, err := db.AddSample(context.Background(), s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	db.Close()
+
+	page := filepath.Join(dir, "page.svg")
+	code, _, errs := recordsRun(t, dbPath, "report", strconv.FormatInt(id, 10), "--out", page)
+	if code != 0 || strings.Contains(errs, "CHANGED") {
+		t.Fatalf("status %d: %s", code, errs)
+	}
+	svg, _ := os.ReadFile(page)
+	if !strings.Contains(string(svg), "record #"+strconv.FormatInt(id, 10)) || !strings.Contains(string(svg), "holder H3") {
+		t.Errorf("page lacks the record id or furnace")
+	}
+
+	// one reading changed in the file: the page says so
+	data, _ := os.ReadFile(curve)
+	os.WriteFile(curve, []byte(strings.Replace(string(data), "\n10,", "\n10.0,", 1)), 0o644)
+	code, _, errs = recordsRun(t, dbPath, "report", "--out", page, strconv.FormatInt(id, 10))
+	if code != 0 || !strings.Contains(errs, "CHANGED") {
+		t.Fatalf("tampered: status %d: %s", code, errs)
+	}
+	svg, _ = os.ReadFile(page)
+	if !strings.Contains(string(svg), "CHANGED since it was stored") {
+		t.Error("page does not note the changed curve file")
+	}
+}
+
+func TestReportErrors(t *testing.T) {
+	dir := t.TempDir()
+	for _, tc := range []struct {
+		args []string
+		code int
+		want string
+	}{
+		{[]string{"report"}, 2, "usage"},
+		{[]string{"report", "x.csv"}, 2, "usage"},
+		{[]string{"report", filepath.Join(dir, "none.csv"), "--out", filepath.Join(dir, "p.png")}, 1, "none.csv"},
+		{[]string{"report", "99", "--out", filepath.Join(dir, "p.png"), "--db", filepath.Join(dir, "r.db")}, 1, "sample 99"},
+	} {
+		code, _, errs := recordsRun(t, "", tc.args...)
+		if code != tc.code || !strings.Contains(errs, tc.want) {
+			t.Errorf("%v: status %d, stderr %q; want %d and %q", tc.args, code, errs, tc.code, tc.want)
+		}
+	}
+}
