@@ -68,6 +68,7 @@ const (
 	dropFloor    = 0.3  // smallest temperature drop that settles a recalescence maximum, °C
 	promShare    = 0.15 // an arrest's prominence is at least this share of the preceding minimum of |T'|
 	longFactor   = 2    // refinement window of a flat eutectic arrest, in SlopeS
+	noiseStride  = 3    // the noise is estimated on every third 2 s block
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
 )
 
@@ -94,7 +95,8 @@ const (
 //   - the sample rate is the median interval of the first 21 readings;
 //     single-sample spikes are replaced by a neighbour's reading
 //     (curve.SpikeAt, threshold max(SpikeMinC, 6σ) plus the local slope);
-//   - σ, the noise, is the median over 2 s blocks of curve.Noise, using only
+//   - σ, the noise, is the median of curve.Noise over 2 s blocks (not those
+//     spanning the pour), using only
 //     blocks already complete at each reading, so every decision depends on
 //     the data up to a fixed distance after it and never on later data;
 //   - T is the quadratic Savitzky–Golay smoothing over Hints.SmoothS and T'
@@ -153,13 +155,13 @@ type Analyzer struct {
 	own           bool      // ts and raw are copies in tsBuf, rawBuf
 	tsBuf, rawBuf []float64
 	curF, curD    sigCursor // noise look-ups of the filter and the detector
-	x       []float64 // despiked readings
-	s, d    []float64 // smoothed T (°C) and T' (°C/s)
+	x             []float64 // despiked readings
+	s, d          []float64 // smoothed T (°C) and T' (°C/s)
 
 	rate, dt        float64
 	ws, wd          int
 	ks, kd          *curve.Kernel
-	sls, sld, sll   curve.Sliding
+	sld, sll        curve.Sliding
 	dl              []float64 // work space: T' over a longer window
 	gainS, gainD    float64   // noise gains of T and T' (per °C of σ)
 	block           int       // noise block length, readings
@@ -246,7 +248,7 @@ func (a *Analyzer) reset(opt Options, n int) {
 		r = max(n, 4096)
 	}
 	if cap(a.x) < r {
-		a.x, a.s, a.d = make([]float64, 0, r), make([]float64, 0, r), make([]float64, 0, r)
+		a.x, a.d = make([]float64, 0, r), make([]float64, 0, r)
 	}
 	if cap(a.blockSig) < 64 {
 		slab := make([]float64, 3*256+1)
@@ -255,7 +257,7 @@ func (a *Analyzer) reset(opt Options, n int) {
 	}
 	*a = Analyzer{
 		opt: opt, h: FamilyHints(opt.Family), reserve: a.reserve,
-		tsBuf: a.tsBuf[:0], rawBuf: a.rawBuf[:0], dl: a.dl[:0], x: a.x[:0], s: a.s[:0], d: a.d[:0],
+		tsBuf: a.tsBuf[:0], rawBuf: a.rawBuf[:0], dl: a.dl[:0], x: a.x[:0], d: a.d[:0],
 		blockSig: a.blockSig[:0], sigByCount: append(a.sigByCount[:0], 0), sorted: a.sorted[:0], scratch: a.scratch,
 		validByCount: append(a.validByCount[:0], 0),
 		ready:        true, probs: nil, probAt: a.probAt[:0], spikes: a.spikes[:0], end: math.MaxInt, limit: math.MaxInt, xmax: math.Inf(-1), pourConf: -1, // probs never reused: earlier Results share it
@@ -351,7 +353,6 @@ func (a *Analyzer) setRate() {
 	a.ws = curve.WindowSamples(h.SmoothS, a.rate, 2, 5)
 	a.wd = curve.WindowSamples(h.SlopeS, a.rate, 2, 5)
 	a.ks, a.kd = curve.SavGol(a.ws, 2, 0), curve.SavGol(a.wd, 2, 1)
-	a.sls.Reset(a.ws / 2)
 	a.sld.Reset(a.wd / 2)
 	a.gainS = a.ks.NoiseGain()
 	a.gainD = a.kd.NoiseGain() / a.dt
@@ -473,25 +474,19 @@ func (a *Analyzer) filter() {
 	if len(x) < max(a.ws, a.wd) {
 		return
 	}
-	s, d := a.s, a.d
+	d := a.d
 	inv := 1 / a.dt
-	for j := len(s); j+hm < len(x); j++ {
-		var sj, dj float64
-		if j < hs {
-			sj = a.ks.At(x[:a.ws], j, 1)
-		} else {
-			sj, _ = a.sls.At(x, j)
-		}
+	for j := len(d); j+hm < len(x); j++ {
+		var dj float64
 		if j < hd {
 			dj = a.kd.At(x[:a.wd], j, a.dt)
 		} else {
 			_, dj = a.sld.At(x, j)
 			dj *= inv
 		}
-		s = append(s, sj)
 		d = append(d, dj)
 	}
-	a.s, a.d = s, d
+	a.d = d
 }
 
 // crossing interpolates the zero crossing of T' between indices k and k+1.
@@ -503,13 +498,18 @@ func (a *Analyzer) crossing(k int) Point {
 	}
 	f = math.Max(0, math.Min(1, f))
 	return Point{
-		TempC: a.s[k] + f*(a.s[k+1]-a.s[k]),
+		TempC: a.sm(k) + f*(a.sm(k+1)-a.sm(k)),
 		TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]),
 		OK:    true,
 	}
 }
 
-func (a *Analyzer) at(i int) Point { return Point{TempC: a.s[i], TimeS: a.ts[i], OK: true} }
+// sm is the smoothed T at sample i (quadratic Savitzky–Golay over
+// Hints.SmoothS), computed where a point needs it rather than for every
+// reading.
+func (a *Analyzer) sm(i int) float64 { return a.ks.AtGrowing(a.x, i, 1) }
+
+func (a *Analyzer) at(i int) Point { return Point{TempC: a.sm(i), TimeS: a.ts[i], OK: true} }
 
 // extremum refines a local extremum of T' at sample i to a fraction of a
 // sample: the vertex of the parabola through T' at i−1, i, i+1, and T there
@@ -530,7 +530,7 @@ func (a *Analyzer) vertex(i int, d0, d1, d2 float64) Point {
 	if den != 0 {
 		f = math.Max(-0.5, math.Min(0.5, 0.5*(d0-d2)/den))
 	}
-	s0, s1, s2 := a.s[i-1], a.s[i], a.s[i+1]
+	s0, s1, s2 := a.sm(i-1), a.sm(i), a.sm(i+1)
 	temp := s1 + f*(s2-s0)/2 + f*f*(s0-2*s1+s2)/2
 	var ts float64
 	if f >= 0 {
@@ -646,7 +646,7 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 			e.maxPt = a.crossing(j - 1)
 		}
 		sdT := a.sigma(j) * a.gainS
-		if e.cand >= 0 && (d < -h || a.s[j] < e.maxPt.TempC-math.Max(dropFloor, 6*sdT)) {
+		if e.cand >= 0 && (d < -h || a.sm(j) < e.maxPt.TempC-math.Max(dropFloor, 6*sdT)) {
 			a.arrest(j, e.minPt, e.maxPt, true)
 		}
 	}
@@ -710,7 +710,7 @@ func (a *Analyzer) coolingRate(e *detector) float64 {
 	if lo == k {
 		return a.d[k]
 	}
-	return (a.s[k] - a.s[lo]) / (a.ts[k] - a.ts[lo])
+	return (a.sm(k) - a.sm(lo)) / (a.ts[k] - a.ts[lo])
 }
 
 // xAvail is the last despiked reading that is final when index j is
@@ -789,7 +789,7 @@ func (a *Analyzer) levelPoint(k int, v0, v1, level float64) Point {
 	if v1 != v0 {
 		f = math.Max(0, math.Min(1, (level-v0)/(v1-v0)))
 	}
-	return Point{TempC: a.s[k] + f*(a.s[k+1]-a.s[k]), TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]), OK: true}
+	return Point{TempC: a.sm(k) + f*(a.sm(k+1)-a.sm(k)), TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]), OK: true}
 }
 
 // solidusPoint places the end of freezing at the most negative T' (sample
@@ -820,7 +820,7 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 	mid := (fl + fr) / 2
 	k := int(math.Floor(mid))
 	f := mid - float64(k)
-	return Point{TempC: a.s[k] + f*(a.s[k+1]-a.s[k]), TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]), OK: true}
+	return Point{TempC: a.sm(k) + f*(a.sm(k+1)-a.sm(k)), TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]), OK: true}
 }
 
 // refineMin locates the most negative T' near sample i again with a

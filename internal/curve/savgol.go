@@ -219,6 +219,23 @@ func (k *Kernel) At(x []float64, i int, dt float64) float64 {
 	return dot(row, win) / math.Pow(dt, float64(k.Deriv))
 }
 
+// AtGrowing is At for a curve that is still growing: for i < Window/2 the
+// start-edge fit of the first Window samples, otherwise the centre kernel
+// over x[i−Window/2 … i+Window/2], so the value never depends on samples
+// beyond i+Window/2 (x must reach that far).
+func (k *Kernel) AtGrowing(x []float64, i int, dt float64) float64 {
+	var v float64
+	if i < k.half {
+		v = dot(k.rows[i], x[:k.Window])
+	} else {
+		v = dot(k.rows[k.half], x[i-k.half:i+k.half+1])
+	}
+	if k.Deriv == 0 {
+		return v
+	}
+	return v / math.Pow(dt, float64(k.Deriv))
+}
+
 // Apply filters x, sampled every dt seconds, into dst and returns it (nil
 // allocates; dst may not alias x). Outputs are in the units of x per
 // s^Deriv. It panics if x is shorter than the window or dst is too short.
