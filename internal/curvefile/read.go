@@ -81,6 +81,11 @@ func ReadFile(path string) (*Curve, error) {
 // core's job.
 func Read(r io.Reader, name string) (*Curve, error) {
 	p := parser{c: &Curve{Name: name}}
+	if n := sizeHint(r); n > 0 {
+		// Lines of a cup log are rarely shorter than 12 bytes.
+		p.time = make([]float64, 0, min(n/12+1, 1<<22))
+		p.temp = make([]float64, 0, cap(p.time))
+	}
 	sc := bufio.NewScanner(r)
 	sc.Buffer(make([]byte, 0, 16*1024), MaxLine+2)
 	sc.Split(splitLines)
@@ -105,10 +110,25 @@ func Read(r io.Reader, name string) (*Curve, error) {
 		return nil, &ParseError{File: name, Line: 1, Err: errors.New("empty file")}
 	case p.cols == nil:
 		return nil, &ParseError{File: name, Line: p.line, Err: errors.New("no header and no readings")}
-	case len(p.c.Time) == 0:
+	case len(p.time) == 0:
 		return nil, &ParseError{File: name, Line: p.headerLine, Err: errors.New("a header but no readings after it")}
 	}
+	p.c.Time, p.c.Temp = p.time, p.temp
 	return p.c, nil
+}
+
+// sizeHint is the number of bytes r will give, where r can tell (a file,
+// or an in-memory reader), else 0.
+func sizeHint(r io.Reader) int {
+	switch v := r.(type) {
+	case interface{ Len() int }:
+		return v.Len()
+	case *os.File:
+		if fi, err := v.Stat(); err == nil && fi.Mode().IsRegular() {
+			return int(min(fi.Size(), math.MaxInt32))
+		}
+	}
+	return 0
 }
 
 // splitLines is a bufio.SplitFunc for LF, CR LF and lone CR line ends.
@@ -155,6 +175,7 @@ type field struct {
 
 type parser struct {
 	c          *Curve
+	time, temp []float64 // readings so far (moved into c at the end)
 	line       int
 	headerLine int
 	sep        byte // '\t', ';', ',' or ' ' (runs of blanks)
@@ -386,9 +407,9 @@ func (p *parser) reading(line []byte) error {
 			if c.scale != 1 {
 				v /= c.scale
 			}
-			p.c.Time = append(p.c.Time, v)
+			p.time = append(p.time, v)
 		case roleTemp:
-			p.c.Temp = append(p.c.Temp, v)
+			p.temp = append(p.temp, v)
 		case roleEMF:
 			emf = v
 			p.c.Extra[c.extra].Values = append(p.c.Extra[c.extra].Values, strconv.FormatFloat(v, 'f', -1, 64))
@@ -408,7 +429,7 @@ func (p *parser) reading(line []byte) error {
 		if err != nil {
 			return err
 		}
-		p.c.Temp = append(p.c.Temp, t)
+		p.temp = append(p.temp, t)
 	}
 	return nil
 }
@@ -648,10 +669,10 @@ func isUnit(u string) bool {
 	return false
 }
 
-func cleanUnit(u string) string {
-	u = strings.NewReplacer("°", "", "º", "", "℃", "c", "deg", "", " ", "", ".", "").Replace(u)
-	return u
-}
+// unitCleaner drops degree signs, "deg", blanks and dots from a unit.
+var unitCleaner = strings.NewReplacer("°", "", "º", "", "℃", "c", "deg", "", " ", "", ".", "")
+
+func cleanUnit(u string) string { return unitCleaner.Replace(u) }
 
 func cleanBase(b string) string {
 	b = strings.Trim(b, " _-.")
@@ -672,46 +693,49 @@ var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 // fast path, correctly rounded); others go to strconv.ParseFloat, so every
 // result is the nearest float64 to the text.
 func parseNum(b []byte, comma bool) (float64, bool) {
-	i := 0
+	i, n := 0, len(b)
 	neg := false
-	if i < len(b) && (b[i] == '+' || b[i] == '-') {
+	if i < n && (b[i] == '+' || b[i] == '-') {
 		neg = b[i] == '-'
 		i++
 	}
 	var mant uint64
-	nd, digits, exp := 0, 0, 0
-	dot, trunc, hasComma := false, false, false
-mantissa:
-	for ; i < len(b); i++ {
-		c := b[i]
-		switch {
-		case c >= '0' && c <= '9':
-			digits++
-			switch {
-			case nd == 0 && c == '0':
-				if dot {
-					exp--
-				}
-			case nd < 19:
-				mant = mant*10 + uint64(c-'0')
+	nd, digits, exp := 0, 0, 0 // significant digits kept in mant, all digits, decimal exponent
+	trunc := false
+	for ; i < n; i++ {
+		c := b[i] - '0'
+		if c > 9 {
+			break
+		}
+		digits++
+		if nd < 19 {
+			mant = mant*10 + uint64(c)
+			if mant != 0 {
 				nd++
-				if dot {
-					exp--
+			}
+		} else {
+			trunc = true
+			exp++
+		}
+	}
+	hasComma := false
+	if i < n && (b[i] == '.' || (b[i] == ',' && comma)) {
+		hasComma = b[i] == ','
+		for i++; i < n; i++ {
+			c := b[i] - '0'
+			if c > 9 {
+				break
+			}
+			digits++
+			if nd < 19 {
+				mant = mant*10 + uint64(c)
+				if mant != 0 {
+					nd++
 				}
-			default:
+				exp--
+			} else {
 				trunc = true
-				if !dot {
-					exp++
-				}
 			}
-		case c == '.' || (c == ',' && comma):
-			if dot {
-				return 0, false
-			}
-			dot = true
-			hasComma = c == ','
-		default:
-			break mantissa
 		}
 	}
 	if digits == 0 {
