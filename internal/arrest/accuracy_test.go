@@ -3,6 +3,8 @@ package arrest
 import (
 	"fmt"
 	"math"
+	"os"
+	"strconv"
 	"slices"
 	"strings"
 	"testing"
@@ -125,6 +127,9 @@ func TestAccuracyNoisy(t *testing.T) {
 	cases := 300
 	if testing.Short() {
 		cases = 60
+	}
+	if n, err := strconv.Atoi(os.Getenv("UNDERCOOL_ACCURACY_CASES")); err == nil && n > 0 {
+		cases = n // a longer run, for exploring
 	}
 	despiked := 0
 	for c := range cases {

@@ -564,7 +564,10 @@ func (a *Analyzer) detect() {
 		}
 		switch e.stage {
 		case stagePour:
-			if a.pourConf >= 0 && j >= a.pourConf {
+			// the arrest search starts once T' no longer reaches back over
+			// the peak into the pour, where the spike test must let steep
+			// readings through
+			if a.pourConf >= 0 && j >= max(a.pourConf, a.xmaxI+a.wd/2+2) {
 				e.res.PourPeak = Point{TempC: a.x[a.xmaxI], TimeS: a.ts[a.xmaxI], OK: true}
 				e.stage = stageArrest
 				e.startArrest(j, d)
