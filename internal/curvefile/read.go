@@ -679,6 +679,30 @@ func cleanBase(b string) string {
 	return strings.Join(strings.Fields(b), "_")
 }
 
+// scanDigits reads the run of decimal digits of b from i into mant,
+// keeping at most 19 significant digits (nd counts them; leading zeros do
+// not count). It returns the index after the run, the new mant and nd, the
+// digits seen and how many of them were dropped.
+func scanDigits(b []byte, i int, mant uint64, nd int) (int, uint64, int, int, int) {
+	seen, dropped := 0, 0
+	for ; i < len(b); i++ {
+		c := b[i] - '0'
+		if c > 9 {
+			break
+		}
+		seen++
+		if nd < 19 {
+			mant = mant*10 + uint64(c)
+			if mant != 0 {
+				nd++
+			}
+		} else {
+			dropped++
+		}
+	}
+	return i, mant, nd, seen, dropped
+}
+
 // pow10 holds the exactly representable powers of ten used by parseNum's
 // fast path.
 var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
@@ -700,43 +724,19 @@ func parseNum(b []byte, comma bool) (float64, bool) {
 		i++
 	}
 	var mant uint64
-	nd, digits, exp := 0, 0, 0 // significant digits kept in mant, all digits, decimal exponent
-	trunc := false
-	for ; i < n; i++ {
-		c := b[i] - '0'
-		if c > 9 {
-			break
-		}
-		digits++
-		if nd < 19 {
-			mant = mant*10 + uint64(c)
-			if mant != 0 {
-				nd++
-			}
-		} else {
-			trunc = true
-			exp++
-		}
-	}
+	nd := 0 // significant digits kept in mant
+	i, mant, nd, intDigits, dropped := scanDigits(b, i, mant, nd)
+	exp := dropped // decimal exponent
+	trunc := dropped > 0
+	digits := intDigits
 	hasComma := false
 	if i < n && (b[i] == '.' || (b[i] == ',' && comma)) {
 		hasComma = b[i] == ','
-		for i++; i < n; i++ {
-			c := b[i] - '0'
-			if c > 9 {
-				break
-			}
-			digits++
-			if nd < 19 {
-				mant = mant*10 + uint64(c)
-				if mant != 0 {
-					nd++
-				}
-				exp--
-			} else {
-				trunc = true
-			}
-		}
+		var frac int
+		i, mant, nd, frac, dropped = scanDigits(b, i+1, mant, nd)
+		exp -= frac - dropped
+		trunc = trunc || dropped > 0
+		digits += frac
 	}
 	if digits == 0 {
 		return 0, false
