@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
-	"math"
 	"os"
 	"path/filepath"
 	"sort"
@@ -24,10 +23,13 @@ import (
 // A kill -9 leaves NAME.partial.csv behind; Recover completes it, marked
 // "# interrupted: true".
 //
-// Columns: time_s, temp_c (NaN for a fault reading), flags (see
-// Flag.String), and emf_mv, cj_c when the channel sends raw EMF. In the
-// partial file a gap shows as gap_before on the first reading after it;
-// the completed file also marks gap_after on the last reading before it.
+// Columns: time_s, temp_c, flags (see Flag.String), and emf_mv, cj_c when
+// the channel sends raw EMF. A fault reading (open circuit, short, out of
+// range) has no temperature: it is kept as a comment line in its place,
+// "#fault TIME FLAGS [emf_mv=MV cj_c=C]", which curve readers pass over
+// (and count); the completed file says "# faults: N". In the partial file a
+// gap shows as gap_before on the first reading after it; the completed file
+// also marks gap_after on the last reading before it.
 
 const partialSuffix = ".partial.csv"
 
@@ -45,7 +47,7 @@ type rawLog struct {
 	f              *os.File
 	w              *curvefile.Writer
 	emf            bool
-	rows           int
+	rows, faults   int
 	extra          []curvefile.Meta // metadata added at the end
 	gapAtEnd       bool             // the port was lost after the last row so far
 	unlock         func()
@@ -133,26 +135,36 @@ func (l *rawLog) syncLoop(every time.Duration) {
 
 // write appends one reading at time rel (s in the file).
 func (l *rawLog) write(r Reading, rel float64) error {
-	temp := r.TempC
-	if !valid(r) {
-		temp = math.NaN()
-	}
 	flags := (r.Flags &^ FlagEMF).String()
 	var err error
-	if l.emf {
+	switch {
+	case !valid(r):
+		b := strconv.AppendFloat([]byte("#fault "), rel, 'f', -1, 64)
+		b = append(b, ' ')
+		b = append(b, flags...)
+		if r.Flags&FlagEMF != 0 {
+			b = append(b, " emf_mv="...)
+			b = strconv.AppendFloat(b, r.EMFmV, 'f', -1, 64)
+			b = append(b, " cj_c="...)
+			b = strconv.AppendFloat(b, r.ColdJctC, 'f', -1, 64)
+		}
+		_, err = l.f.Write(append(b, '\n'))
+		l.faults++
+	case l.emf:
 		mv, cj := "", ""
 		if r.Flags&FlagEMF != 0 {
 			mv = strconv.FormatFloat(r.EMFmV, 'f', -1, 64)
 			cj = strconv.FormatFloat(r.ColdJctC, 'f', -1, 64)
 		}
-		err = l.w.Write(rel, temp, flags, mv, cj)
-	} else {
-		err = l.w.Write(rel, temp, flags)
+		err = l.w.Write(rel, r.TempC, flags, mv, cj)
+		l.rows++
+	default:
+		err = l.w.Write(rel, r.TempC, flags)
+		l.rows++
 	}
 	if err != nil {
 		return fmt.Errorf("acquire: raw log %s: %w", l.partial, err)
 	}
-	l.rows++
 	l.gapAtEnd = false
 	return nil
 }
@@ -188,8 +200,9 @@ func (l *rawLog) finish() (string, error) {
 
 // completed is what complete made of a partial file.
 type completed struct {
-	Rows int  // readings kept
-	Torn bool // a torn last line was dropped
+	Rows   int  // readings kept
+	Faults int  // fault readings kept (#fault lines)
+	Torn   bool // a torn last line was dropped
 }
 
 // complete writes the completed form of the raw log src to dst (through
@@ -221,6 +234,43 @@ func complete(src, dst string, extra []curvefile.Meta, gapAtEnd bool) (completed
 		meta = append(meta, curvefile.Meta{Key: strings.TrimSpace(k), Value: strings.TrimSpace(v)})
 	}
 	meta = mergeMeta(meta, cleanMeta(extra))
+	flagCol := -1
+	header := "time_s,temp_c,flags\n"
+	if i < len(lines) {
+		header = lines[i]
+		for j, name := range strings.Split(strings.TrimSpace(header), ",") {
+			if name == "flags" {
+				flagCol = j
+			}
+		}
+		i++
+	}
+	rows := lines[i:]
+	var body strings.Builder
+	body.Grow(len(data))
+	for j, row := range rows {
+		if strings.HasPrefix(row, "#") {
+			c.Faults++
+			body.WriteString(row)
+			continue
+		}
+		c.Rows++
+		var gapNext bool
+		if j+1 < len(rows) {
+			next := rows[j+1]
+			gapNext = strings.HasPrefix(next, "#") && strings.Contains(next, "gap_before") ||
+				flagCol >= 0 && hasFlag(next, flagCol, "gap_before")
+		} else {
+			gapNext = gapAtEnd
+		}
+		if gapNext && flagCol >= 0 {
+			row = addFlag(row, flagCol, "gap_after")
+		}
+		body.WriteString(row)
+	}
+	if c.Faults > 0 {
+		meta = mergeMeta(meta, []curvefile.Meta{{Key: "faults", Value: strconv.Itoa(c.Faults) + " fault readings, kept as #fault lines"}})
+	}
 	var b strings.Builder
 	b.Grow(len(data) + 256)
 	for _, m := range meta {
@@ -229,28 +279,8 @@ func complete(src, dst string, extra []curvefile.Meta, gapAtEnd bool) (completed
 	for _, o := range other {
 		b.WriteString(o)
 	}
-	flagCol := -1
-	if i < len(lines) {
-		header := lines[i]
-		b.WriteString(header)
-		for j, name := range strings.Split(strings.TrimSpace(header), ",") {
-			if name == "flags" {
-				flagCol = j
-			}
-		}
-		i++
-	} else {
-		b.WriteString("time_s,temp_c,flags\n")
-	}
-	rows := lines[i:]
-	for j, row := range rows {
-		last := j == len(rows)-1
-		if flagCol >= 0 && (last && gapAtEnd || !last && hasFlag(rows[j+1], flagCol, "gap_before")) {
-			row = addFlag(row, flagCol, "gap_after")
-		}
-		b.WriteString(row)
-	}
-	c.Rows = len(rows)
+	b.WriteString(header)
+	b.WriteString(body.String())
 	if err := writeAtomic(dst, []byte(b.String())); err != nil {
 		return c, err
 	}

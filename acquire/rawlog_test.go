@@ -2,11 +2,14 @@ package acquire
 
 import (
 	"errors"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 	"time"
+
+	"github.com/undercool-foundry/undercool/internal/curvefile"
 )
 
 const tornPartial = `# sample: L-2417 cup 3
@@ -43,6 +46,9 @@ func TestRecover(t *testing.T) {
 	}
 	if _, err := os.Stat(p); !errors.Is(err, os.ErrNotExist) {
 		t.Fatalf("partial file still there: %v", err)
+	}
+	if cv, err := curvefile.ReadFile(r.Path); err != nil || len(cv.Time) != 5 || cv.Get("interrupted") != "true" {
+		t.Fatalf("curve reader: %v %+v", err, cv)
 	}
 	// A second run finds nothing more.
 	if recs, err := Recover(dir); err != nil || len(recs) != 0 {
@@ -116,5 +122,34 @@ func TestOutPathNotOverwritten(t *testing.T) {
 	}
 	if b, _ := os.ReadFile(out); string(b) != "keep me\n" {
 		t.Fatalf("overwritten: %q", b)
+	}
+}
+
+// TestFaultsInFile: fault readings are kept as #fault lines in place, and
+// the completed file reads back with the project's curve reader (which
+// passes over them and counts them).
+func TestFaultsInFile(t *testing.T) {
+	dir := t.TempDir()
+	port := newPipePort()
+	a, col, _ := startAcq(t, port.open, Config{Dir: dir, Trigger: Trigger{Manual: true}})
+	w := port.plug()
+	w.Write([]byte("ms=0 mv=40.276 cj=25\n"))
+	col.until("first", 5*time.Second, func() bool { return len(col.readings) == 1 })
+	a.Start("1")
+	w.Write([]byte("ms=100 f=open\nms=200 mv=99 cj=25\nms=300 c=990.5\n"))
+	col.until("four", 5*time.Second, func() bool { return len(col.readings) == 4 })
+	a.Stop("1")
+	col.until("done", 5*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
+	path := col.has(EventSampleDone, "1").Path
+	b, _ := os.ReadFile(path)
+	if !strings.Contains(string(b), "\n#fault 0.1 open\n#fault 0.2 fault emf_mv=99 cj_c=25\n0.3,990.5,,,\n") {
+		t.Fatalf("file:\n%s", b)
+	}
+	cv, err := curvefile.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(cv.Time) != 2 || cv.Skipped != 2 || cv.Temp[1] != 990.5 || math.Abs(cv.Temp[0]-1000) > 0.05 || !strings.HasPrefix(cv.Get("faults"), "2 ") {
+		t.Fatalf("read back: %+v", cv)
 	}
 }
