@@ -34,6 +34,9 @@ else from the file's '# alloy:' line. Without --limits the shipped example
 limits are used, whose numbers the shop's metallurgist must set.
 
 --json writes one JSON object per file, one a line, as each file finishes.
+--store also keeps each analysis in the records database (--db PATH, else
+$UNDERCOOL_DB, else the user's data directory): a new sample, or for a
+curve file already stored a new result beside the earlier ones.
 Exit status 1 when some file could not be read (the others are still
 analysed); the reasons go to stderr, naming file and line.
 
@@ -54,6 +57,8 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 	asJSON := fs.Bool("json", false, "one JSON object per file per line")
 	alloy := fs.String("alloy", "", "alloy name for every file (overrides '# alloy:')")
 	limitsPath := fs.String("limits", "", "limits file (default: the shipped examples)")
+	storeIt := fs.Bool("store", false, "also store each analysis in the records database (earlier results are kept)")
+	dbPath := fs.String("db", "", "records database for --store (default $UNDERCOOL_DB or the user's data directory)")
 	files, err := parseLimitsArgs(fs, args)
 	if err != nil {
 		return errUsage
@@ -69,6 +74,14 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 		}
 	}
 
+	var records *analyzeStore // --store: see report.go
+	if *storeIt {
+		if records, err = openAnalyzeStore(ctx, env, *dbPath); err != nil {
+			return err
+		}
+	}
+	defer records.finish(env)
+
 	out := &analyzeOutput{env: env, json: *asJSON, files: files, progress: stderrIsTerminal(env)}
 	out.start()
 	wctx, cancel := context.WithCancel(ctx)
@@ -83,6 +96,9 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 			}()
 			return err
 		}
+		if records != nil && a.err == nil {
+			records.add(ctx, env, files[a.index], a.rec)
+		}
 	}
 	if err := out.finish(); err != nil {
 		return err
@@ -90,7 +106,7 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 	if ctx.Err() != nil {
 		return ctx.Err()
 	}
-	if out.failed > 0 {
+	if out.failed > 0 || records.anyFailed() {
 		return exitError{1}
 	}
 	return nil

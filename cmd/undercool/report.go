@@ -135,6 +135,63 @@ func reportStored(ctx context.Context, env *environ, dbPath string, id int64) (*
 	return c, s.Record, info, nil
 }
 
+// analyzeStore keeps 'undercool analyze --store' results: each analysed
+// curve file becomes a new sample, or (same file contents already stored)
+// a further result that keeps the earlier ones, or nothing when the latest
+// stored result is the same.
+type analyzeStore struct {
+	db     *store.DB
+	counts map[store.PutOutcome]int
+	failed int
+}
+
+func openAnalyzeStore(ctx context.Context, env *environ, dbPath string) (*analyzeStore, error) {
+	db, err := openRecords(ctx, env, dbPath)
+	if err != nil {
+		return nil, err
+	}
+	return &analyzeStore{db: db, counts: map[store.PutOutcome]int{}}, nil
+}
+
+// add stores one analysed file; a failure is reported and counted, and
+// the other files are still stored.
+func (a *analyzeStore) add(ctx context.Context, env *environ, path string, rec assess.Record) {
+	if err := a.put(ctx, path, rec); err != nil {
+		a.failed++
+		fmt.Fprintf(env.stderr, "undercool analyze: not stored: %v\n", err)
+	}
+}
+
+func (a *analyzeStore) put(ctx context.Context, path string, rec assess.Record) error {
+	c, err := curvefile.ReadFile(path) // for the metadata; the analysis is rec
+	if err != nil {
+		return err
+	}
+	s := sampleFromCurve(path, c, rec)
+	if s.CurveSHA256, err = store.HashFile(path); err != nil {
+		return err
+	}
+	_, outcome, err := a.db.Put(ctx, s)
+	if err != nil {
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	a.counts[outcome]++
+	return nil
+}
+
+// finish closes the database and says what was stored.
+func (a *analyzeStore) finish(env *environ) {
+	if a == nil {
+		return
+	}
+	fmt.Fprintf(env.stderr, "stored in %s: %d new samples, %d new results (earlier results kept), %d unchanged, %d not stored\n",
+		a.db.Path(), a.counts[store.PutNewSample], a.counts[store.PutNewResult], a.counts[store.PutUnchanged], a.failed)
+	a.db.Close()
+}
+
+// anyFailed reports whether some file could not be stored.
+func (a *analyzeStore) anyFailed() bool { return a != nil && a.failed > 0 }
+
 // sampleFromCurve fills a store.Sample from a curve file's metadata (keys
 // sample, ladle, furnace, operator, channel, thermocouple, note, started,
 // simulated, interrupted) and its record; the hash is left to the caller.

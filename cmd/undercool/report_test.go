@@ -11,6 +11,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sim"
 	"github.com/undercool-foundry/undercool/internal/store"
 )
@@ -124,5 +125,43 @@ func TestReportErrors(t *testing.T) {
 		if code != tc.code || !strings.Contains(errs, tc.want) {
 			t.Errorf("%v: status %d, stderr %q; want %d and %q", tc.args, code, errs, tc.code, tc.want)
 		}
+	}
+}
+
+// TestAnalyzeStore: analyze --store adds a sample once, nothing for the
+// same analysis again, and a new result (keeping the old) when the limits
+// change.
+func TestAnalyzeStore(t *testing.T) {
+	dir := t.TempDir()
+	curve := reportCurveFile(t, dir)
+	dbPath := filepath.Join(dir, "records.db")
+	book := limits.Builtin()
+	book.Version = "2026-12-01.2"
+	lim := filepath.Join(dir, "limits.toml")
+	if err := limits.Save(lim, book); err != nil {
+		t.Fatal(err)
+	}
+	for i, tc := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"analyze", "--store", "--db", dbPath, curve}, "1 new samples, 0 new results"},
+		{[]string{"analyze", "--json", curve, "--store", "--db", dbPath}, "0 new samples, 0 new results (earlier results kept), 1 unchanged"},
+		{[]string{"analyze", "--store", "--db", dbPath, "--limits", lim, curve}, "0 new samples, 1 new results"},
+	} {
+		code, _, errs := recordsRun(t, "", tc.args...)
+		if code != 0 || !strings.Contains(errs, tc.want) {
+			t.Fatalf("run %d %v: status %d, stderr %q; want %q", i+1, tc.args, code, errs, tc.want)
+		}
+	}
+	db, err := store.Open(context.Background(), dbPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	all, _ := db.History(context.Background(), store.Filter{AllResults: true, Oldest: true})
+	if len(all) != 2 || all[0].Sample.ID != all[1].Sample.ID || all[1].Result.LimitsVersion != "2026-12-01.2" ||
+		all[0].Sample.Ladle != "L-2418" || !all[0].Sample.Simulated {
+		t.Fatalf("stored: %+v", all)
 	}
 }
