@@ -8,22 +8,25 @@ import (
 type material struct {
 	rho, c, latent float64 // kg/m³, J/(kg K), J/kg
 	h, eps         float64 // W/(m² K) (effective, fitted), emissivity of the open top
+	k              float64 // thermal conductivity of the solid near the solidus, W/(m K)
 }
 
 var (
 	// Cast iron: ρ ≈ 6900–7100 kg/m³, c ≈ 0.80–0.85 kJ/(kg K), L ≈ 200–250
 	// kJ/kg (field notes §6, memory); h ≈ 50–100 W/(m² K) for a 0.35 kg
 	// sand cup (derived, fitted); ε ≈ 0.35 of an oxidised iron surface (memory).
-	ironMat = material{rho: 7000, c: 830, latent: 230e3, h: 55, eps: 0.35}
+	ironMat = material{rho: 7000, c: 830, latent: 230e3, h: 55, eps: 0.35, k: 30}
 	// Al-Si7Mg: ρ ≈ 2400 kg/m³, c ≈ 1.18 kJ/(kg K), L ≈ 430–500 kJ/kg
 	// (field notes §6, memory); ε ≈ 0.1 of an aluminium melt (memory).
-	alSiMat = material{rho: 2400, c: 1180, latent: 450e3, h: 50, eps: 0.1}
+	alSiMat = material{rho: 2400, c: 1180, latent: 450e3, h: 50, eps: 0.1, k: 150}
 	// Pure Al: ρ 2375 kg/m³ (liquid), c 1.18 kJ/(kg K), L 397 kJ/kg
 	// (field notes §4) (memory).
-	pureAlMat = material{rho: 2375, c: 1180, latent: 397e3, h: 45, eps: 0.1}
+	pureAlMat = material{rho: 2375, c: 1180, latent: 397e3, h: 45, eps: 0.1, k: 210}
+	// Solid conductivities near the solidus (memory): grey iron ≈30,
+	// Al-Si7Mg ≈150, Al ≈210, Zn ≈100 W/(m K).
 	// Pure Zn: ρ 6570 kg/m³ (liquid), c 0.48 kJ/(kg K), L 7.32 kJ/mol /
 	// 65.38 g/mol = 112 kJ/kg (memory; derived).
-	pureZnMat = material{rho: 6570, c: 480, latent: 112e3, h: 50, eps: 0.1}
+	pureZnMat = material{rho: 6570, c: 480, latent: 112e3, h: 50, eps: 0.1, k: 100}
 )
 
 // Nucleation and growth constants at the poor (level 0) and good (level 1)
@@ -46,7 +49,7 @@ var (
 	// nucleates readily, so the arrest is flat (practice; fitted).
 	whiteLaw = law{A: 1e10, N: 2, DT0: 0.5, Mu: 3e-4}
 	// Primary austenite dendrites (fitted).
-	austeniteLaw = law{A: 1e9, N: 2, DT0: 0.3, Mu: 3e-6}
+	austeniteLaw = law{A: 1e10, N: 2, DT0: 0.3, Mu: 3e-6}
 	// Primary α-Al: dendrite tip u ≈ 2.9×10⁻⁶·ΔT² m/s for Al-7Si (Rappaz
 	// & Gandin, Acta Metall. Mater. 41 (1993) 345) (memory); unrefined melts
 	// nucleate at 1–3 K, TiB₂ refiner at ≈0.2–0.6 K (free growth, Greer et
@@ -193,5 +196,10 @@ func (p Params) model() cup {
 	// A cylinder as high as wide: V = πD³/4, A = 1.5πD², A_top = πD²/4.
 	d := math.Cbrt(4 * p.CupMassKg / mat.rho / math.Pi)
 	m.area, m.areaTop = 1.5*math.Pi*d*d, math.Pi*d*d/4
+	// Core–shell conductance of a cylinder of height d between radii
+	// 0.28·d and 0.39·d: K = 2π·k·d/ln 2 (derived); liquid convection
+	// makes it ten times larger (fitted).
+	m.kSolid = 2 * math.Pi * mat.k * d / math.Ln2
+	m.kLiquid = 10 * m.kSolid
 	return m
 }

@@ -10,6 +10,10 @@ import (
 // ≈1.5 °C/s) need a step below ≈6 ms (derived).
 const stepS = 0.005
 
+// coreFrac is the share of the cup's metal in the core lump around the
+// thermocouple (a central cylinder of ≈55 % of the cup's radius) (derived).
+const coreFrac = 0.3
+
 // law is one nucleation-and-growth law: Oldfield nucleation
 // N = A·(ΔT − ΔT₀)^n above the onset undercooling ΔT₀, growth u = μ·ΔT².
 type law struct {
@@ -45,6 +49,8 @@ type cup struct {
 
 	tst, tmst float64 // iron eutectics, °C (0 for other alloys)
 
+	kSolid, kLiquid float64 // core–shell conductance through solid and liquid, W/K
+
 	last state // the state at the end of the run
 }
 
@@ -62,112 +68,187 @@ func (m *cup) fraction(t float64) float64 {
 	return 1 - math.Pow(cl/m.c0, 1/(m.partition-1))
 }
 
-// heatLoss is h(t)·A·(T − T∞) + ε·σ·A_top·(T⁴ − T∞⁴), W, with t the time
-// since the pour.
-func (m *cup) heatLoss(t, temp float64) float64 {
-	h := m.h * (1 + math.Exp(-t/25))
+// wallS is the time constant of the cold cup wall's extra heat uptake after
+// the pour, s (derived; treat as fitted).
+const wallS = 25
+
+// heatLoss is h·(1 + w)·A·(T − T∞) + ε·σ·A_top·(T⁴ − T∞⁴), W, with
+// w = exp(−t/wallS) the wall-soaking term at time t since the pour.
+func (m *cup) heatLoss(w, temp float64) float64 {
 	tk, ak := temp+kelvin, m.ambient+kelvin
-	return h*m.area*(temp-m.ambient) + m.eps*sigmaSB*m.areaTop*(tk*tk*tk*tk-ak*ak*ak*ak)
+	return m.h*(1+w)*m.area*(temp-m.ambient) + m.eps*sigmaSB*m.areaTop*(tk*tk*tk*tk-ak*ak*ak*ak)
 }
 
 // grains integrates one population of grains with the moment equations.
 type grains struct {
 	m0, m1, m2, m3 float64 // moments Σ N_i R_i^k, m^(k−3)
-	maxDT          float64 // largest undercooling reached, K
 	frac           float64 // JMAK fraction 1 − exp(−(4π/3)·M3)
 }
 
-// step advances the population by dt at undercooling dT.
-func (g *grains) step(l *law, dT, dt float64) {
-	if dT <= 0 {
-		return
+// births is the number density of nuclei (m⁻³) born when the largest
+// undercooling reached rises from *maxDT to dT: Oldfield,
+// N(ΔT) = A·(ΔT − ΔT₀)^n, so the count is fixed by the largest undercooling.
+func births(l *law, dT float64, maxDT *float64) float64 {
+	if dT <= *maxDT {
+		return 0
 	}
-	if dT > g.maxDT {
-		if dT > l.DT0 {
-			lo := math.Max(g.maxDT-l.DT0, 0)
-			// Oldfield: N(ΔT) = A·(ΔT−ΔT₀)^n; nuclei appear only in the
-			// untransformed liquid.
-			g.m0 += l.A * (math.Pow(dT-l.DT0, l.N) - math.Pow(lo, l.N)) * (1 - g.frac)
-		}
-		g.maxDT = dT
+	var n float64
+	if dT > l.DT0 {
+		lo := math.Max(*maxDT-l.DT0, 0)
+		n = l.A * (powN(dT-l.DT0, l.N) - powN(lo, l.N))
 	}
-	if g.m0 == 0 {
+	*maxDT = dT
+	return n
+}
+
+func powN(x, n float64) float64 {
+	if n == 2 {
+		return x * x
+	}
+	return math.Pow(x, n)
+}
+
+// step adds the births dN (per m³ of the whole; they appear only in the
+// untransformed liquid) and grows the population by dt at undercooling dT.
+func (g *grains) step(l *law, dN, dT, dt float64) {
+	g.m0 += dN * (1 - g.frac)
+	if dT <= 0 || g.m0 == 0 || g.frac == 1 {
 		return
 	}
 	u := l.Mu * dT * dT * dt
 	g.m3 += 3 * u * g.m2
 	g.m2 += 2 * u * g.m1
 	g.m1 += u * g.m0
-	g.frac = -math.Expm1(-4 * math.Pi / 3 * g.m3)
+	if x := 4 * math.Pi / 3 * g.m3; x < 40 {
+		g.frac = -math.Expm1(-x)
+	} else {
+		g.frac = 1 // 1 − e⁻⁴⁰ rounds to 1
+	}
+}
+
+// lump is one part of the cup with its own temperature and grains.
+type lump struct {
+	temp float64 // °C
+	fp   float64 // primary solid fraction of the lump
+	fs   float64 // solid fraction of the lump
+	prim grains
+	eut  grains
+}
+
+// freeze advances the lump's kinetics by dt at its temperature, with the
+// births bp (primary) and be (eutectic) of this step, and returns the
+// increase of its solid fraction.
+func (m *cup) freeze(l *lump, bp, be, dt float64) float64 {
+	if m.primary {
+		l.prim.step(&m.primaryLaw, bp, m.liquidus-l.temp, dt)
+		if l.prim.frac > 0 {
+			if fp := l.prim.frac * m.fraction(l.temp); fp > l.fp {
+				l.fp = fp
+			}
+		}
+	}
+	l.eut.step(&m.eutecticLaw, be, m.eutUnder(l), dt)
+	fs := l.fp + (1-l.fp)*l.eut.frac
+	if fs <= l.fs { // never remelt
+		return 0
+	}
+	d := fs - l.fs
+	l.fs = fs
+	return d
+}
+
+// eutUnder is the lump's eutectic undercooling, K.
+func (m *cup) eutUnder(l *lump) float64 {
+	return m.eutectic - m.eutRange*l.eut.frac - l.temp
 }
 
 // state is the model's state at one step.
 type state struct {
 	t        float64 // s since the pour
-	temp     float64 // metal, °C
+	core     lump    // the centre of the cup, where the thermocouple sits
+	shell    lump    // the rest, next to the cup wall
 	tc       float64 // thermocouple junction, °C
-	fp       float64 // primary solid fraction (of the whole)
-	fs       float64 // total solid fraction
-	prim     grains
-	eut      grains
+	fs       float64 // solid fraction of the whole cup
 	released float64 // latent heat released, J
-	lost     float64 // heat lost, J
-	primOn   float64 // time the first primary nucleus appeared, s (−1 before)
-	eutOn    float64 // time the first eutectic nucleus appeared, s (−1 before)
-	endT     float64 // time fs reached 0.9999, s (−1 before)
+	lost     float64 // heat lost through the cup wall, J
+	primMax  float64 // largest primary undercooling reached, K
+	eutMax   float64 // largest eutectic undercooling reached, K
+	wall     float64 // exp(−t/25 s), the cup wall's soaking term
+	primOn   float64 // time the first primary nucleus appeared in either lump, s (−1 before)
+	eutOn    float64 // time the first eutectic nucleus appeared in either lump, s (−1 before)
+	endT     float64 // time fs of the whole cup reached 0.9999, s (−1 before)
+}
+
+// conductance between core and shell, W/K: K_s + (K_l − K_s)·(1 − f̄)⁸,
+// liquid convection giving way to conduction through the solid as the mean
+// solid fraction f̄ grows (a smooth form, fitted: it halves the convective
+// part by f̄ ≈ 0.08).
+func (m *cup) conductance(s *state) float64 {
+	x := 1 - s.fs
+	x *= x
+	x *= x
+	return m.kSolid + (m.kLiquid-m.kSolid)*x*x
 }
 
 // integrate runs the cup from the pour for durS seconds (or, when durS is
 // 0, until 40 s after the end of freezing, at most 1800 s) and calls emit
 // after each step with the state. fillS is the filling time and lagS the
 // thermocouple time constant.
+//
+// The cup is two lumps: the core (mass fraction coreFrac, holding the
+// thermocouple) exchanges heat only with the shell, the shell loses it to
+// the cup wall:
+//
+//	m_c·c·dT_c/dt = −K·(T_c − T_s) + m_c·L·dfs_c/dt
+//	m_s·c·dT_s/dt = −Q(t, T_s) + K·(T_c − T_s) + m_s·L·dfs_s/dt
+//
+// so the centre freezes last and, once it has, its temperature falls fast
+// toward the shell's: the end-of-freezing dip of dT/dt.
 func (m *cup) integrate(durS, fillS, lagS float64, emit func(*state)) {
-	s := state{temp: m.pour, tc: m.ambient, primOn: -1, eutOn: -1, endT: -1}
+	s := state{core: lump{temp: m.pour}, shell: lump{temp: m.pour}, tc: m.ambient, wall: 1, primOn: -1, eutOn: -1, endT: -1}
+	wallStep := math.Exp(-stepS / wallS)
 	maxS := durS
 	if maxS == 0 {
 		maxS = 1800
 	}
 	full := -math.Expm1(-stepS / lagS)
-	mc := m.mass * m.c
+	mCore, mShell := m.mass*coreFrac, m.mass*(1-coreFrac)
 	emit(&s)
 	for s.t < maxS-stepS/2 {
 		dt := stepS
-		// Kinetics at the current temperature.
+		// Nuclei are born from the largest undercooling anywhere in the
+		// cup (convection carries them through the liquid).
+		var bp float64
 		if m.primary {
-			s.prim.step(&m.primaryLaw, m.liquidus-s.temp, dt)
-			if s.primOn < 0 && s.prim.m0 > 0 {
-				s.primOn = s.t
-			}
-			if fp := s.prim.frac * m.fraction(s.temp); fp > s.fp {
-				s.fp = fp
-			}
+			bp = births(&m.primaryLaw, m.liquidus-math.Min(s.core.temp, s.shell.temp), &s.primMax)
 		}
-		s.eut.step(&m.eutecticLaw, m.eutectic-m.eutRange*s.eut.frac-s.temp, dt)
-		if s.eutOn < 0 && s.eut.m0 > 0 {
+		be := births(&m.eutecticLaw, math.Max(m.eutUnder(&s.core), m.eutUnder(&s.shell)), &s.eutMax)
+		dc, ds := m.freeze(&s.core, bp, be, dt), m.freeze(&s.shell, bp, be, dt)
+		if s.primOn < 0 && s.core.prim.m0+s.shell.prim.m0 > 0 {
+			s.primOn = s.t
+		}
+		if s.eutOn < 0 && s.core.eut.m0+s.shell.eut.m0 > 0 {
 			s.eutOn = s.t
 		}
-		fs := s.fp + (1-s.fp)*s.eut.frac
-		if fs < s.fs { // never remelt
-			fs = s.fs
-		}
-		q := m.heatLoss(s.t, s.temp) * dt
-		l := m.mass * m.latent * (fs - s.fs)
-		s.temp += (l - q) / mc
-		s.fs = fs
-		s.released += l
+		q := m.heatLoss(s.wall, s.shell.temp) * dt
+		s.wall *= wallStep
+		x := m.conductance(&s) * (s.core.temp - s.shell.temp) * dt
+		lc, ls := mCore*m.latent*dc, mShell*m.latent*ds
+		s.core.temp += (lc - x) / (mCore * m.c)
+		s.shell.temp += (ls + x - q) / (mShell * m.c)
+		s.fs = coreFrac*s.core.fs + (1-coreFrac)*s.shell.fs
+		s.released += lc + ls
 		s.lost += q
 		s.t += dt
 		if s.endT < 0 && s.fs >= 0.9999 {
 			s.endT = s.t
 		}
 		// Thermocouple: wetting rises linearly while the cup fills.
-		w := 1.0
 		a := full
 		if s.t < fillS {
-			w = s.t / fillS
-			a = -math.Expm1(-w * dt / lagS)
+			a = -math.Expm1(-s.t / fillS * dt / lagS)
 		}
-		s.tc += (s.temp - s.tc) * a
+		s.tc += (s.core.temp - s.tc) * a
 		emit(&s)
 		if durS == 0 && s.endT >= 0 && s.t > s.endT+40 {
 			break

@@ -87,7 +87,7 @@ type Params struct {
 	Logger Logger
 
 	Fault    Fault
-	FaultAtS float64 // when an open thermocouple or an early pull happens (0: mid-plateau)
+	FaultAtS float64 // when an open thermocouple or an early pull happens, logger clock, s (0: three quarters of the way from the eutectic maximum to the end of freezing)
 
 	Seed uint64
 

@@ -37,7 +37,7 @@ func Simulate(p Params) Output {
 	if p.Fault == FaultOpen || pulled {
 		at := p.FaultAtS
 		if at == 0 {
-			at = p.PourAtS + midPlateau(f)
+			at = midPlateau(m.truth(f, len(f.tc)), p.PourAtS+float64(len(f.tc))*stepS/2)
 		}
 		if pulled {
 			stopS = math.Min(at, total)
@@ -98,16 +98,14 @@ func Simulate(p Params) Output {
 	return out
 }
 
-// midPlateau is the model time halfway through the eutectic, s.
-func midPlateau(f fine) float64 {
-	if f.eutOn < 0 {
-		return float64(len(f.tc)) * stepS / 2
+// midPlateau is three quarters of the way from the eutectic maximum to the
+// end of freezing on the curve (late on the plateau, so the maximum has
+// settled), or else.
+func midPlateau(tr Truth, or float64) float64 {
+	if tr.EutecticMax.OK && tr.Solidus.OK {
+		return tr.EutecticMax.TimeS + 0.75*(tr.Solidus.TimeS-tr.EutecticMax.TimeS)
 	}
-	end := f.endT
-	if end < 0 {
-		end = float64(len(f.tc)) * stepS
-	}
-	return (f.eutOn + end) / 2
+	return or
 }
 
 // run integrates the cup model with its defaults filled in.
@@ -128,11 +126,12 @@ func (p Params) run() (fine, cup) {
 	if dur == 0 {
 		est = int(400 / stepS)
 	}
-	f := fine{offset: p.PourAtS, tc: make([]float64, 0, est), temp: make([]float64, 0, est), fs: make([]float64, 0, est)}
+	f := fine{offset: p.PourAtS, tc: make([]float64, 0, est), temp: make([]float64, 0, est), fs: make([]float64, 0, est), shell: make([]float64, 0, est)}
 	var last state
 	m.integrate(dur, p.FillS, p.Logger.LagS, func(s *state) {
 		f.tc = append(f.tc, s.tc)
-		f.temp = append(f.temp, s.temp)
+		f.temp = append(f.temp, s.core.temp)
+		f.shell = append(f.shell, s.shell.temp)
 		f.fs = append(f.fs, s.fs)
 		last = *s
 	})
@@ -149,7 +148,7 @@ func (m *cup) truth(f fine, n int) Truth {
 	}
 	tr.FinalFractionSolid = m.last.fs
 	tr.LatentJPerKg = m.last.released / m.mass
-	tr.EutecticCellsPerM3 = m.last.eut.m0
+	tr.EutecticCellsPerM3 = m.last.core.eut.m0
 	if m.last.endT >= 0 {
 		tr.FreezingEndS = f.offset + m.last.endT
 	}

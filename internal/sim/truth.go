@@ -99,7 +99,8 @@ func (t Truth) MarshalJSON() ([]byte, error) {
 // fine is the model's record at the integration step.
 type fine struct {
 	tc     []float64 // thermocouple junction (noiseless logger view), °C
-	temp   []float64 // metal, °C
+	temp   []float64 // metal at the core, °C
+	shell  []float64 // metal in the shell, °C
 	fs     []float64 // solid fraction
 	offset float64   // logger time of index 0 (the pour), s
 	primOn float64   // model time of the first primary nucleus, s (−1: none)
@@ -201,7 +202,8 @@ func (f *fine) points(n int, tr *Truth) {
 		tr.EutecticMax = tr.EutecticMin
 		plateauEnd = j
 	}
-	if plateauEnd < 0 || f.endT < 0 {
+	// The end of freezing must lie inside the recording.
+	if plateauEnd < 0 || f.endT < 0 || idx(f.endT) >= n-1 {
 		return
 	}
 	lo := plateauEnd
