@@ -332,6 +332,11 @@ func (p *parser) header(fields []field) error {
 			cols[j-1].name = "cj_c"
 		}
 	default:
+		for _, c := range cols {
+			if base, unit := splitUnit(strings.ToLower(c.name)); tempNames[base] || (base == "t" && unit != "") {
+				return fmt.Errorf("column %q: temperatures must be in °C (unit %q not accepted)", c.name, unit)
+			}
+		}
 		return fmt.Errorf("no temperature column (temp_c, or emf_mv with '# thermocouple:') in the header")
 	}
 	for i := range cols {

@@ -178,6 +178,7 @@ func TestReadErrors(t *testing.T) {
 		{"huge line", long, 3, "longer than"},
 		{"no time column", "seconds_since_boot,temp_c\n0,1\n", 1, "no time column"},
 		{"no temperature column", "time_s,pressure\n0,1\n", 1, "no temperature column"},
+		{"fahrenheit", "time_s,Temp [°F]\n0,1\n", 1, `temperatures must be in °C (unit "f" not accepted)`},
 		{"two time columns", "time_s,Time [s],temp_c\n0,0,1\n", 1, "two time columns"},
 		{"unclosed quote", "time_s,temp_c\n0,\"1\n", 2, "quote is not closed"},
 		{"text after quote", "time_s,temp_c\n0,\"1\"x\n", 2, "after a closing quote"},
@@ -338,6 +339,31 @@ func TestParseNumExact(t *testing.T) {
 		want, err := strconv.ParseFloat(string(b), 64)
 		if !ok || err != nil || math.Float64bits(got) != math.Float64bits(want) {
 			t.Fatalf("%s: got %v %v, strconv %v %v", b, got, ok, want, err)
+		}
+	}
+}
+
+// TestClassify checks the header decorations the reader promises to accept.
+func TestClassify(t *testing.T) {
+	tests := []struct {
+		name  string
+		role  role
+		scale float64
+	}{
+		{"time_s", roleTime, 1}, {"Time", roleTime, 1}, {"TIME [s]", roleTime, 1}, {"t (s)", roleTime, 1},
+		{"t[s]", roleTime, 1}, {"Time/s", roleTime, 1}, {"time_ms", roleTime, 1000}, {"Time [ms]", roleTime, 1000},
+		{"elapsed (min)", roleTime, 1.0 / 60}, {"Elapsed time [sec]", roleTime, 1},
+		{"temp_c", roleTemp, 0}, {"Temperature (°C)", roleTemp, 0}, {"T degC", roleTemp, 0}, {"Temp(C)", roleTemp, 0},
+		{"T[°C]", roleTemp, 0}, {"temperature/°C", roleTemp, 0}, {"Temp °C", roleTemp, 0}, {"temp_degc", roleTemp, 0},
+		{"surface℃", roleExtra, 0}, {"temperature℃", roleTemp, 0},
+		{"emf_mv", roleEMF, 0}, {"EMF [mV]", roleEMF, 0}, {"mV", roleEMF, 0}, {"voltage (mV)", roleEMF, 0},
+		{"cj_c", roleCJ, 0}, {"CJ [°C]", roleCJ, 0}, {"cold junction (°C)", roleCJ, 0},
+		{"ch", roleExtra, 0}, {"flags", roleExtra, 0}, {"T [K]", roleExtra, 0}, {"pressure [bar]", roleExtra, 0},
+	}
+	for _, tt := range tests {
+		r, scale := classify(tt.name)
+		if r != tt.role || (r == roleTime && scale != tt.scale) {
+			t.Errorf("classify(%q) = %v, %v; want %v, %v", tt.name, r, scale, tt.role, tt.scale)
 		}
 	}
 }
