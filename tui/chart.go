@@ -184,7 +184,9 @@ func (p plot) render(st *Styles) string {
 		if m.x < p.x0 || m.x > p.x1 || m.y < p.y0 || m.y > p.y1 {
 			continue
 		}
-		lc.DrawRuneWithStyle(canvas.Float64Point{X: m.x, Y: m.y}, m.r, st.Mark)
+		// Place the mark in the cell of its braille dot, so it sits on the line.
+		q := g.GridPoint(canvas.Float64Point{X: m.x, Y: m.y})
+		lc.Canvas.SetCell(canvas.Point{X: lc.Origin().X + 1 + q.X/2, Y: q.Y / 4}, canvas.NewCellWithStyle(m.r, st.Mark))
 	}
 	return renderCanvas(st, &lc.Canvas)
 }
