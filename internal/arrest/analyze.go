@@ -69,6 +69,7 @@ const (
 	promShare    = 0.15 // an arrest's prominence is at least this share of the preceding minimum of |T'|
 	longFactor   = 2    // refinement window of a flat eutectic arrest, in SlopeS
 	noiseStride  = 3    // the noise is estimated on every third 2 s block
+	shortShare   = 0.03 // see solidusPoint
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
 )
 
@@ -795,62 +796,62 @@ func (a *Analyzer) levelPoint(k int, v0, v1, level float64) Point {
 	return Point{TempC: a.sm(k) + f*(a.sm(k+1)-a.sm(k)), TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]), OK: true}
 }
 
-// solidusPoint places the end of freezing at the most negative T' (sample
-// i, settled at j). On a noisy curve the bottom of the dip is a run of
+// solidusPoint places the end of freezing at the most negative T' (found
+// at sample i, settled at j), located again on a derivative window half as
+// long (Hints.SlopeS/2) unless the noise of that derivative exceeds
+// shortShare of the depth of the dip: the drop into the end of freezing is sharp and the
+// relaxation after it slow, and a long window would move the minimum toward
+// the slow side. On a noisy curve the bottom of the dip is the run of
 // samples within 2σ of the minimum, and the point is the middle of that run
-// (by interpolated level crossings): steadier than the lowest sample, which
-// noise moves along the bottom. Without noise it is refined by refineMin.
+// (between interpolated level crossings), steadier than the lowest sample,
+// which noise moves along the bottom; without noise the run is one sample
+// and the point its parabolic vertex.
 func (a *Analyzer) solidusPoint(i, j int) Point {
-	sd := a.sigma(j) * a.gainD
-	if 2*sd < 0.01 {
-		return a.refineMin(i, j)
+	w := min(curve.WindowSamples(a.h.SlopeS/2, a.rate, 2, 5), a.wd)
+	if a.sigma(j)*curve.SavGol(w, 2, 1).NoiseGain()/a.dt > shortShare*math.Abs(a.d[i]) {
+		w = a.wd // too noisy for the short window: keep the long one
 	}
-	level := a.d[i] + 2*sd
-	l := i
-	for l > a.det.eutI && a.d[l-1] <= level {
-		l--
-	}
-	r := i
-	for r < j && a.d[r+1] <= level {
-		r++
-	}
-	if l == a.det.eutI || r == j || l == 0 {
+	h := w / 2
+	lo, hi := max(i-a.wd/2, h, a.det.eutI), min(j, a.xAvail(j)-h)
+	if lo+2 > hi {
 		return a.extremum(i)
 	}
+	a.sll.Reset(h)
+	ds := a.dl[:0]
+	m := lo
+	for c := lo; c <= hi; c++ {
+		_, v := a.sll.At(a.x, c)
+		ds = append(ds, v/a.dt)
+		if ds[c-lo] < ds[m-lo] {
+			m = c
+		}
+	}
+	a.dl = ds[:0]
+	at := func(c int) float64 { return ds[c-lo] }
+	if m == lo || m == hi {
+		return a.at(m)
+	}
+	level := at(m) + 2*a.sigma(j)*curve.SavGol(w, 2, 1).NoiseGain()/a.dt
+	l, r := m, m
+	for l > lo && at(l-1) <= level {
+		l--
+	}
+	for r < hi && at(r+1) <= level {
+		r++
+	}
+	switch {
+	case l == lo || r == hi:
+		return a.at(m)
+	case l == r:
+		return a.vertex(m, at(m-1), at(m), at(m+1))
+	}
 	// fractional indices of the two level crossings
-	fl := float64(l-1) + (level-a.d[l-1])/(a.d[l]-a.d[l-1])
-	fr := float64(r) + (level-a.d[r])/(a.d[r+1]-a.d[r])
+	fl := float64(l-1) + (level-at(l-1))/(at(l)-at(l-1))
+	fr := float64(r) + (level-at(r))/(at(r+1)-at(r))
 	mid := (fl + fr) / 2
 	k := int(math.Floor(mid))
 	f := mid - float64(k)
 	return Point{TempC: a.sm(k) + f*(a.sm(k+1)-a.sm(k)), TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]), OK: true}
-}
-
-// refineMin locates the most negative T' near sample i again with a
-// derivative window half as long, which halves the shift a long window gives
-// an asymmetric dip; the search stays within the long window around i.
-func (a *Analyzer) refineMin(i, j int) Point {
-	w := curve.WindowSamples(a.h.SlopeS/2, a.rate, 2, 5)
-	if w >= a.wd {
-		return a.extremum(i)
-	}
-	k := curve.SavGol(w, 2, 1)
-	hd, h := a.wd/2, w/2
-	lo, hi := max(i-hd, h), min(i+hd, a.xAvail(j)-h)
-	if lo+2 > hi {
-		return a.extremum(i)
-	}
-	best, bi := math.Inf(1), lo
-	for c := lo; c <= hi; c++ {
-		if v := k.At(a.x, c, a.dt); v < best {
-			best, bi = v, c
-		}
-	}
-	if bi == lo || bi == hi {
-		return a.extremum(i)
-	}
-	d0, d1, d2 := k.At(a.x, bi-1, a.dt), best, k.At(a.x, bi+1, a.dt)
-	return a.vertex(bi, d0, d1, d2)
 }
 
 // solidus settles the end of freezing at the most negative T' and derives

@@ -145,7 +145,7 @@ func TestProblems(t *testing.T) {
 		for name, p := range livePoints(&r) {
 			tol := 0.05 // a replaced reading is a neighbour's, not the clean value: a little moves
 			if name == "solidus" {
-				tol = 0.3 // T' is −3.5 °C/s there
+				tol = 0.5 // T' is −3.5 °C/s there: 0.15 s
 			}
 			if q := livePoints(&want)[name]; p.OK != q.OK || math.Abs(p.TempC-q.TempC) > tol {
 				t.Errorf("%s moved by spikes: %+v vs %+v", name, p, q)
