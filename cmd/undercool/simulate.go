@@ -3,7 +3,6 @@ package main
 import (
 	"bufio"
 	"context"
-	"encoding/json"
 	"errors"
 	"flag"
 	"fmt"
@@ -173,25 +172,16 @@ func (f *simFlags) params(set map[string]bool) (sim.Params, error) {
 // writeSimulated writes the curve file and FILE.truth.json beside it.
 func writeSimulated(p sim.Params, path string) error {
 	out := sim.Simulate(p)
-	c := &curvefile.Curve{Name: path, Meta: out.Meta, Time: out.Time, Temp: out.Temp}
-	if out.Open != nil {
-		col := curvefile.Column{Name: "fault", Values: make([]string, len(out.Time))}
-		for i, o := range out.Open {
-			if o {
-				col.Values[i] = "open"
-			}
-		}
-		c.Extra = append(c.Extra, col)
+	c := out.Curve(path)
+	js, err := out.TruthJSON()
+	if err != nil {
+		return fmt.Errorf("truth of %s: %w", path, err)
 	}
 	if err := writeFileAtomic(path, func(w io.Writer) error { return curvefile.WriteCurve(w, c) }); err != nil {
 		return err
 	}
-	js, err := json.MarshalIndent(out.Truth, "", "  ")
-	if err != nil {
-		return fmt.Errorf("truth of %s: %w", path, err)
-	}
 	return writeFileAtomic(path+".truth.json", func(w io.Writer) error {
-		_, err := w.Write(append(js, '\n'))
+		_, err := w.Write(js)
 		return err
 	})
 }

@@ -1,6 +1,8 @@
 package sim
 
 import (
+	"encoding/json"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"strconv"
@@ -196,4 +198,31 @@ func (p Params) meta() []curvefile.Meta {
 	add("sim_mains_c", g(p.Logger.MainsC))
 	add("sim_fault", string(p.Fault))
 	return md
+}
+
+// Curve is the output as a curve file's content: metadata, time and
+// temperature, and a "fault" column ("open" where the thermocouple was
+// open) when the thermocouple opened.
+func (o Output) Curve(name string) *curvefile.Curve {
+	c := &curvefile.Curve{Name: name, Meta: o.Meta, Time: o.Time, Temp: o.Temp}
+	if o.Open != nil {
+		col := curvefile.Column{Name: "fault", Values: make([]string, len(o.Time))}
+		for i, open := range o.Open {
+			if open {
+				col.Values[i] = "open"
+			}
+		}
+		c.Extra = append(c.Extra, col)
+	}
+	return c
+}
+
+// TruthJSON is the truth as indented JSON with a final newline (the
+// FILE.truth.json beside a simulated curve file).
+func (o Output) TruthJSON() ([]byte, error) {
+	b, err := json.MarshalIndent(o.Truth, "", "  ")
+	if err != nil {
+		return nil, fmt.Errorf("sim: truth: %w", err)
+	}
+	return append(b, '\n'), nil
 }
