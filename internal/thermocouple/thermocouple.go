@@ -17,7 +17,7 @@
 // to within a few hundredths of a degree (up to 0.06 °C). Temp uses them
 // only as the starting point of safeguarded Newton steps on the direct
 // function, so that t(E(t)) returns t within 0.001 °C (in practice to about
-// 1e-9 °C). Below the published inverse ranges (types E, K, N, T below
+// 1e-7 °C). Below the published inverse ranges (types E, K, N, T below
 // −200 °C) the same bracketed solve works from a bisection start.
 //
 // Cold-junction compensation (the usual practice, and field-notes §7): a
@@ -356,6 +356,13 @@ func horner(c []float64, x float64) float64 {
 	return v
 }
 
+// newtonDoneC ends the Newton steps: after a step s the error left is
+// about K·s² with K = |d²E/dt² / (2·dE/dt)|, at most 0.2 /°C inside the ranges (2.2
+// /°C across type N's joint at 0 °C; measured every 0.01 °C), so a step
+// under 1e-4 °C leaves less than 3e-8 °C. From the published inverse (error
+// ≤ 0.06 °C) this takes two evaluations of E.
+const newtonDoneC = 1e-4
+
 // solve finds t in [invMin, tMax] with ref(t) = e, for e in
 // [eInvMin, eMax], by Newton steps from the published inverse polynomial,
 // kept inside a shrinking bracket (bisection where a step would leave it).
@@ -385,10 +392,13 @@ func (s *spec) solve(e float64) float64 {
 			lo = t
 		}
 		next := t - f/slope
-		if !(next >= lo && next <= hi) {
-			next = lo + (hi-lo)/2
+		switch {
+		case !(next >= lo && next <= hi):
+			next = lo + (hi-lo)/2 // bisection
+		case math.Abs(next-t) < newtonDoneC:
+			return next
 		}
-		if math.Abs(next-t) < 1e-10 || hi-lo < 1e-10 {
+		if hi-lo < 1e-10 {
 			return next
 		}
 		t = next
