@@ -18,7 +18,7 @@
 // only as the starting point of safeguarded Newton steps on the direct
 // function, so that t(E(t)) returns t within 0.001 °C (in practice to about
 // 1e-7 °C). Below the published inverse ranges (types E, K, N, T below
-// −200 °C) the same bracketed solve works from a bisection start.
+// −200 °C) the same bracketed solve starts from a straight-line guess.
 //
 // Cold-junction compensation (the usual practice, and field-notes §7): a
 // thermocouple whose measuring junction is at t and whose cold junction is at
