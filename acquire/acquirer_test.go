@@ -14,7 +14,9 @@ import (
 	"testing/iotest"
 	"time"
 
+	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/sim"
 )
 
 // TestLifecycle: a constructed cup curve (sent as fast as the pipe takes
@@ -381,5 +383,51 @@ func TestTimebase(t *testing.T) {
 		if got := tb.at(&l, at(s.hostS)); math.Abs(got-s.want) > 1e-9 {
 			t.Fatalf("step %d: %v, want %v", i, got, s.want)
 		}
+	}
+}
+
+// TestSimulatedCupDefaultFinished: a simulated grey-iron cup (internal/sim,
+// a physics model, not measured data) sent at 10 Hz device time is
+// triggered by its pour and stopped by the default end-of-freezing rule
+// (arrest.Analyze(...).Complete) after the model's own end of freezing,
+// plus the margin; the file holds every reading sent from the start of the
+// pre-trigger buffer.
+func TestSimulatedCupDefaultFinished(t *testing.T) {
+	p, err := sim.Preset("grey-iron", 0.5, 7)
+	if err != nil {
+		t.Fatal(err)
+	}
+	o := sim.Simulate(p)
+	sent := make([]cupReading, len(o.Time))
+	for i := range o.Time {
+		sent[i] = cupReading{ms: uint64(math.Round(o.Time[i] * 1000)), temp: o.Temp[i]}
+	}
+	port := newPipePort()
+	_, col, _ := startAcq(t, port.open, Config{Dir: t.TempDir(), Family: arrest.FamilyIron})
+	w := port.plug()
+	go func() {
+		for _, r := range sent {
+			w.Write([]byte(r.line("1")))
+		}
+	}()
+	col.until("done", 20*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
+	st, fr := col.has(EventSampleStarted, "1"), col.has(EventSampleFrozen, "1")
+	if fr == nil {
+		t.Fatalf("never frozen: %v", col.eventTexts())
+	}
+	if solidus := o.Truth.Solidus.TimeS; fr.TimeS < solidus {
+		t.Fatalf("frozen at %v s, before the model's end of freezing at %v s", fr.TimeS, solidus)
+	}
+	c := readRows(t, col.has(EventSampleDone, "1").Path)
+	if c.meta["ended"] != "freezing done" {
+		t.Fatalf("ended %q", c.meta["ended"])
+	}
+	first := 0
+	for sent[first].ms < uint64(math.Round((st.TimeS+o.Time[0])*1000)) {
+		first++
+	}
+	checkRowsMatch(t, c, sent, first)
+	if got := c.float(t, len(c.rows)-1, "time_s") + st.TimeS - (fr.TimeS - o.Time[0]); got < 15 || got > 15.2 {
+		t.Fatalf("recorded %v s after freezing ended, want the 15 s margin", got)
 	}
 }
