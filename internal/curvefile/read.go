@@ -211,6 +211,9 @@ func (p *parser) feed(line []byte) error {
 		return nil
 	}
 	if p.cols == nil {
+		if bytes.IndexByte(line, 0) >= 0 {
+			return errors.New("NUL bytes in the header: UTF-16 or binary data? save the file as UTF-8 text")
+		}
 		return p.first(line)
 	}
 	return p.reading(line)

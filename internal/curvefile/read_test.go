@@ -175,6 +175,7 @@ func TestReadErrors(t *testing.T) {
 		{"empty value", "time_s,temp_c\n0,\n", 2, `column "temp_c" is empty`},
 		{"invalid UTF-8", "time_s,temp_c\n0,1\n\xff\xfe,2\n", 3, "invalid UTF-8"},
 		{"UTF-16", "\xff\xfet\x00i\x00", 1, "UTF-16"},
+		{"UTF-16 without BOM", "t\x00i\x00m\x00e\x00", 1, "UTF-16"},
 		{"huge line", long, 3, "longer than"},
 		{"no time column", "seconds_since_boot,temp_c\n0,1\n", 1, "no time column"},
 		{"no temperature column", "time_s,pressure\n0,1\n", 1, "no temperature column"},
