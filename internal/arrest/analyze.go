@@ -70,6 +70,7 @@ const (
 	longFactor   = 2    // refinement window of a flat eutectic arrest, in SlopeS
 	noiseStride  = 3    // the noise is estimated on every third 2 s block
 	shortShare   = 0.03 // see solidusPoint
+	fallShare    = 0.04 // an arrest's fall is at least this share of |T'|min before it
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
 )
 
@@ -107,8 +108,9 @@ const (
 //     only be reported once no further reading can change it;
 //   - the pour peak is the highest despiked reading once the curve has
 //     stayed pourDropC below it for 0.5 s (and it reached Hints.MinPourC);
-//   - an arrest is a local maximum of T' of prominence P = max(0.05 °C/s,
-//     8σ_T', 0.15·|T'| at the minimum before it). Sign changes of T' count only past a hysteresis
+//   - an arrest is a local maximum of T' that rises max(P, 0.15·|T'|min)
+//     above the minimum of T' before it and falls max(P, 0.04·|T'|min)
+//     after it, P = max(0.05 °C/s, 8σ_T'). Sign changes of T' count only past a hysteresis
 //     h = max(0.02 °C/s, 4σ_T'): T' > +h confirms recalescence, and the
 //     minimum is T at the last − → + crossing of T' before it; the maximum is
 //     T at the first + → − crossing after T' was last above +h, settled when
@@ -559,10 +561,6 @@ func (a *Analyzer) detect() {
 		sd := sig * a.gainD
 		h := max(slopeFloor, 4*sd)
 		p := max(promFloor, 8*sd)
-		if e.stage == stageArrest {
-			// an arrest must also stand out against the liquid's cooling rate
-			p = max(p, promShare*math.Abs(e.dmin))
-		}
 		switch e.stage {
 		case stagePour:
 			// the arrest search starts once T' no longer reaches back over
@@ -629,11 +627,13 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 			}
 			return
 		}
-		if e.sub == subValley && d > e.dmin+p {
+		// the rise into an arrest must also stand out against the cooling
+		// rate before it; the fall after it only against the noise
+		if e.sub == subValley && d > e.dmin+max(p, promShare*math.Abs(e.dmin)) {
 			e.sub, e.dmax, e.dmaxI = subRise, d, j
 			return
 		}
-		if e.sub == subRise && d < e.dmax-p {
+		if e.sub == subRise && d < e.dmax-max(p, fallShare*math.Abs(e.dmin)) {
 			pt := a.extremum(e.dmaxI)
 			a.arrest(j, pt, pt, false)
 		}

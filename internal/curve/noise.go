@@ -11,9 +11,9 @@ import "math"
 // √6·√(2/π)·(1 − exp(−q²/2))/0.5 with q = 0.67449 the median of |N(0,1)|.
 // Quantisation adds noise of q/√12 for a step q (the uniform distribution),
 // which the trimmed mean under-reads; it is added in quadrature, with q the
-// smallest non-zero change between consecutive readings, when at least a
-// tenth of those changes are exactly zero (repeated readings are the mark of
-// quantisation; a smooth unquantised curve has none).
+// smallest non-zero change between consecutive readings, when every change
+// is a whole multiple of it (to 1e-6 of q: the mark of quantisation; the
+// changes of an unquantised curve are not).
 
 const noiseTrim = 0.5
 
@@ -33,15 +33,16 @@ func Noise(scratch, x []float64) (float64, []float64) {
 	}
 	e := scratch[:m]
 	q := math.Inf(1)
-	zeros := 0
 	for i := 1; i < n-1; i++ {
 		e[i-1] = math.Abs(x[i+1] - 2*x[i] + x[i-1])
-		switch st := math.Abs(x[i] - x[i-1]); {
-		case st == 0:
-			zeros++
-		case st < q:
+		if st := math.Abs(x[i] - x[i-1]); st > 0 && st < q {
 			q = st
 		}
+	}
+	quantised := !math.IsInf(q, 1)
+	for i := 1; i < n && quantised; i++ {
+		r := math.Abs(x[i]-x[i-1]) / q
+		quantised = math.Abs(r-math.Round(r)) < 1e-6*max(1, r)
 	}
 	k := int(float64(m) * noiseTrim)
 	if k < 1 {
@@ -53,7 +54,7 @@ func Noise(scratch, x []float64) (float64, []float64) {
 		s += v
 	}
 	sig := s / float64(k) / noiseUnit
-	if !math.IsInf(q, 1) && zeros*10 >= n-2 {
+	if quantised {
 		sig = math.Hypot(sig, q/math.Sqrt(12))
 	}
 	return sig, scratch
