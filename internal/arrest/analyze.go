@@ -668,6 +668,10 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal bool) {
 	}
 	if lo.TempC > a.h.EutecticTopC {
 		if !r.Liquidus.OK {
+			if !recal {
+				// a slight primary recalescence shows on the longer window
+				lo, hi, recal = a.refineMax(e.dminI, j, e.dmaxI, false)
+			}
 			r.Liquidus = hi
 			if recal {
 				r.LiquidusMin = lo
@@ -678,7 +682,7 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal bool) {
 		return
 	}
 	if !recal {
-		lo, hi, recal = a.refineMax(e.dminI, j, e.dmaxI)
+		lo, hi, recal = a.refineMax(e.dminI, j, e.dmaxI, true)
 	}
 	r.EutecticMin, r.EutecticMax = lo, hi
 	r.Recalescence, r.RecalescenceOK = hi.TempC-lo.TempC, true
@@ -722,18 +726,20 @@ func (a *Analyzer) coolingRate(e *detector) float64 {
 // on how much of the curve has arrived.
 func (a *Analyzer) xAvail(j int) int { return j + max(a.ws, a.wd)/2 }
 
-// refineMax settles an eutectic arrest that did not pass the recalescence
+// refineMax settles an arrest that did not pass the recalescence
 // hysteresis, from T' over samples lo … j computed again with a window
 // longFactor times as long (√8 times less noise; where T' is near zero, as
 // here, the longer window moves a point by a negligible T'·Δt):
 //   - if that T' turns positive the arrest recalesces after all, and the
 //     minimum and maximum are T at its − → + and + → − crossings;
-//   - otherwise the point is the first sample where T' comes within 2σ of
+//   - otherwise, for the liquidus (firstReach false), the point stays at the
+//     local maximum of T' (fallback), where the T'·Δt error of a long window
+//     would count; for the eutectic the point is the first sample where T' comes within 2σ of
 //     its maximum: on a flat, noisy plateau the maximum itself could be
 //     anywhere along it, while the rise into the arrest is well defined.
 //     Without noise this is the maximum itself, refined to a fraction of a
 //     sample.
-func (a *Analyzer) refineMax(lo, j, fallback int) (Point, Point, bool) {
+func (a *Analyzer) refineMax(lo, j, fallback int, firstReach bool) (Point, Point, bool) {
 	w := curve.WindowSamples(longFactor*a.h.SlopeS, a.rate, 2, 5)
 	h := w / 2
 	lo, hi := max(lo, h), min(j, a.xAvail(j)-h)
@@ -770,6 +776,10 @@ func (a *Analyzer) refineMax(lo, j, fallback int) (Point, Point, bool) {
 		if at(k) <= 0 && at(m) <= 0 {
 			return a.levelPoint(k, at(k), at(k+1), 0), a.levelPoint(m-1, at(m-1), at(m), 0), true
 		}
+	}
+	if !firstReach {
+		p := a.extremum(fallback)
+		return p, p, false
 	}
 	sdl := a.sigma(j) * curve.SavGol(w, 2, 1).NoiseGain() / a.dt
 	level := best - 2*sdl
