@@ -4,6 +4,8 @@ import (
 	"encoding/binary"
 	"errors"
 	"math"
+	"math/bits"
+	"unsafe"
 
 	"github.com/undercool-foundry/undercool/internal/assess"
 )
@@ -38,7 +40,7 @@ func packNumbers(rec *assess.Record) []byte {
 
 var errPacked = errors.New("packed numbers are damaged")
 
-// unpackNumbers fills rec's numbers from b; vals backs the points.
+// unpackNumbers fills rec's numbers from b.
 func unpackNumbers(b []byte, rec *assess.Record) error {
 	if len(b) < 9+32 || b[0] != packedFormat {
 		return errPacked
@@ -48,22 +50,21 @@ func unpackNumbers(b []byte, rec *assess.Record) error {
 	u := func() uint64 { v := binary.LittleEndian.Uint64(b); b = b[8:]; return v }
 	rec.Samples, rec.SkippedLines, rec.Despiked = int(int64(u())), int(int64(u())), int(int64(u()))
 	rec.RateHz = math.Float64frombits(u())
-	dests := pointDests(rec)
-	vals := make([]float64, 0, len(dests)) // one allocation for all of a row's points
-	for i, p := range dests {
+	n := bits.OnesCount64(mask)
+	if len(b) != 8*n || n > len(pointOffsets) || mask>>len(pointOffsets) != 0 {
+		return errPacked
+	}
+	vals := make([]float64, n) // one allocation for all of a row's points
+	k := 0
+	for i, off := range pointOffsets {
 		if mask&(1<<i) == 0 {
 			continue
 		}
-		if len(b) < 8 {
-			return errPacked
+		vals[k] = math.Float64frombits(u())
+		if off != ^uintptr(0) {
+			*(**float64)(unsafe.Add(unsafe.Pointer(rec), off)) = &vals[k]
 		}
-		vals = append(vals, math.Float64frombits(u()))
-		if p != nil {
-			*p = &vals[len(vals)-1]
-		}
-	}
-	if len(b) != 0 {
-		return errPacked
+		k++
 	}
 	return nil
 }

@@ -52,10 +52,12 @@ const (
 // f.Oldest, each with its latest result (every result with f.AllResults).
 // Without f.Full, a row holds the sample's id, times, names and flags
 // (not its channel, thermocouple, note or curve file) and a Result.Record
-// built from the result's columns: every key of the Record of schema
-// version 1 (points and times, samples, rate, problems, verdict); a key the
-// Record gained later is left zero. f.Full gives everything.
+// holding every number that has a column (the characteristic points and
+// times, the metallurgy figures, samples, rate), problems and verdict; keys
+// the Record gained after schema version 1 are left zero. f.Full gives
+// everything, decoding each stored record.
 func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
+	fast := !f.Full && !f.AllResults // one narrow row per sample: id, time, summary
 	var (
 		where []string
 		args  []any
@@ -73,10 +75,17 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 		where, args = append(where, "s.recorded_at < ?"), append(args, formatTime(f.Until))
 	}
 	if f.Verdict != "" {
-		where, args = append(where, "r.verdict = ?"), append(args, f.Verdict)
+		col := "r.verdict"
+		if fast {
+			col = "s.latest_verdict"
+		}
+		where, args = append(where, col+" = ?"), append(args, f.Verdict)
 	}
 	from := " FROM samples s JOIN results r ON r.id = s.latest_result_id"
-	if f.AllResults {
+	switch {
+	case fast:
+		from = " FROM samples s"
+	case f.AllResults:
 		from = " FROM samples s JOIN results r ON r.sample_id = s.id"
 	}
 	if len(where) > 0 {
@@ -90,14 +99,24 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 	if f.Limit > 0 && f.Limit < n {
 		n = f.Limit
 	}
-	q := "SELECT " + summaryColumns
-	if f.Full {
+	var q string
+	switch {
+	case fast:
+		q = "SELECT s.id, s.recorded_at, s.summary"
+	case f.Full:
 		q = "SELECT " + fullColumns
+	default:
+		q = "SELECT " + summaryColumns
 	}
 	q += from
-	if f.Oldest {
+	switch {
+	case fast && f.Oldest:
+		q += " ORDER BY s.recorded_at, s.id"
+	case fast:
+		q += " ORDER BY s.recorded_at DESC, s.id DESC"
+	case f.Oldest:
 		q += " ORDER BY s.recorded_at, s.id, r.id"
-	} else {
+	default:
 		q += " ORDER BY s.recorded_at DESC, s.id DESC, r.id DESC"
 	}
 	if f.Limit > 0 {
@@ -110,17 +129,101 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 	}
 	defer rows.Close()
 	out := make([]Entry, 0, n)
+	var missing []int // rows without a summary (written before it existed)
 	sc := newScanner(f.Full)
+	var (
+		recorded string
+		summary  sql.RawBytes // decoded before the next row
+	)
 	for rows.Next() {
 		out = append(out, Entry{})
-		if err := sc.scan(rows, &out[len(out)-1]); err != nil {
+		e := &out[len(out)-1]
+		if !fast {
+			err = sc.scan(rows, e)
+		} else if err = rows.Scan(&e.Sample.ID, &recorded, &summary); err == nil {
+			if e.Sample.Recorded, err = parseTime(recorded); err == nil {
+				if summary == nil {
+					missing = append(missing, len(out)-1)
+				} else if err = unpackSummary(summary, e); err != nil {
+					err = fmt.Errorf("sample %d: %w", e.Sample.ID, err)
+				}
+			}
+		}
+		if err != nil {
 			return nil, db.fail("reading history from", err)
 		}
 	}
 	if err := rows.Err(); err != nil {
 		return nil, db.fail("reading history from", err)
 	}
+	rows.Close()
+	for _, i := range missing {
+		e, err := db.latestEntry(ctx, out[i].Sample.ID)
+		if err != nil {
+			return nil, err
+		}
+		out[i] = e
+	}
 	return out, nil
+}
+
+// latestEntry reads one sample's history row the slow way, by a join.
+func (db *DB) latestEntry(ctx context.Context, id int64) (Entry, error) {
+	rows, err := db.sql.QueryContext(ctx, "SELECT "+summaryColumns+
+		" FROM samples s JOIN results r ON r.id = s.latest_result_id WHERE s.id = ?", id)
+	if err != nil {
+		return Entry{}, db.fail("reading history from", err)
+	}
+	defer rows.Close()
+	var e Entry
+	if !rows.Next() {
+		if err := rows.Err(); err != nil {
+			return e, db.fail("reading history from", err)
+		}
+		return e, fmt.Errorf("store: database %s: sample %d has no result: %w", db.path, id, ErrNoSample)
+	}
+	if err := newScanner(false).scan(rows, &e); err != nil {
+		return e, db.fail("reading history from", err)
+	}
+	return e, nil
+}
+
+// fillSummaries writes the summary of samples stored before the summary
+// column existed (migration 0004), so history reads them the fast way.
+func (db *DB) fillSummaries(ctx context.Context) error {
+	rows, err := db.sql.QueryContext(ctx, `SELECT id FROM samples WHERE summary IS NULL AND latest_result_id IS NOT NULL`)
+	if err != nil {
+		return db.fail("migrating", err)
+	}
+	var ids []int64
+	for rows.Next() {
+		var id int64
+		if err := rows.Scan(&id); err != nil {
+			rows.Close()
+			return db.fail("migrating", err)
+		}
+		ids = append(ids, id)
+	}
+	rows.Close()
+	if len(ids) == 0 {
+		return nil
+	}
+	sums := make([][]byte, len(ids))
+	for i, id := range ids {
+		e, err := db.latestEntry(ctx, id)
+		if err != nil {
+			return err
+		}
+		sums[i] = packSummary(&e.Sample, &e.Result, packNumbers(&e.Result.Record))
+	}
+	return db.write(ctx, "migrating", func(tx *sql.Tx) error {
+		for i, id := range ids { // a result added meanwhile has written its own summary
+			if _, err := tx.ExecContext(ctx, `UPDATE samples SET summary = ? WHERE id = ? AND summary IS NULL`, sums[i], id); err != nil {
+				return err
+			}
+		}
+		return nil
+	})
 }
 
 // scanner reads entry rows straight into the caller's Entry.

@@ -185,7 +185,10 @@ const insertSampleSQL = `INSERT INTO samples(created_at, recorded_at, sample, la
 	channel, thermocouple, note, curve_path, curve_sha256, interrupted, simulated)
 	VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`
 
-const setLatestSQL = `UPDATE samples SET latest_result_id = ? WHERE id = ?`
+const setLatestSQL = `UPDATE samples SET latest_result_id = ?, latest_verdict = ?, summary = ? WHERE id = ?`
+
+// sampleMetaSQL reads what a result's summary needs of its sample.
+const sampleMetaSQL = `SELECT id, sample, ladle, alloy, furnace, operator, interrupted, simulated FROM samples WHERE id = ?`
 
 // inserter holds one write transaction's prepared statements.
 type inserter struct {
@@ -215,41 +218,12 @@ func (in *inserter) Close() {
 }
 
 // Reasons gives the plain-language lines behind a record's verdict: its
-// problems and, where the Record carries them, its "reasons" (strings, or
-// objects with a "message" or "text"), without repeats.
+// problems, then its reasons, without repeats.
 func Reasons(rec assess.Record) []string {
-	b, err := json.Marshal(rec)
-	if err != nil {
-		return append([]string(nil), rec.Problems...)
-	}
-	return reasonsFromJSON(b)
-}
-
-func reasonsFromJSON(b []byte) []string {
-	var doc struct {
-		Problems []json.RawMessage `json:"problems"`
-		Reasons  []json.RawMessage `json:"reasons"`
-	}
-	out := []string{}
-	if json.Unmarshal(b, &doc) != nil {
-		return out
-	}
-	seen := map[string]bool{}
-	for _, raw := range append(doc.Problems, doc.Reasons...) {
-		var s string
-		if json.Unmarshal(raw, &s) != nil {
-			var obj struct{ Message, Text string }
-			if json.Unmarshal(raw, &obj) != nil {
-				continue
-			}
-			s = obj.Message
-			if s == "" {
-				s = obj.Text
-			}
-		}
-		if s != "" && !seen[s] {
-			seen[s] = true
-			out = append(out, s)
+	out := make([]string, 0, len(rec.Problems)+len(rec.Reasons))
+	for _, l := range slices.Concat(rec.Problems, rec.Reasons) {
+		if l != "" && !slices.Contains(out, l) {
+			out = append(out, l)
 		}
 	}
 	return out
@@ -311,14 +285,17 @@ func (in *inserter) addSample(ctx context.Context, s *Sample, now time.Time) (in
 	if err != nil {
 		return 0, err
 	}
-	if _, err := in.addResult(ctx, id, s.Record, s.LimitsVersion, now); err != nil {
+	meta := *s
+	meta.ID = id
+	if _, err := in.addResult(ctx, &meta, s.Record, s.LimitsVersion, now); err != nil {
 		return 0, err
 	}
 	return id, nil
 }
 
-// addResult inserts a result and makes it its sample's latest.
-func (in *inserter) addResult(ctx context.Context, sampleID int64, rec assess.Record, limitsVersion string, now time.Time) (int64, error) {
+// addResult inserts a result of sample s (its id and the metadata its
+// summary shows) and makes it the sample's latest.
+func (in *inserter) addResult(ctx context.Context, s *Sample, rec assess.Record, limitsVersion string, now time.Time) (int64, error) {
 	if limitsVersion == "" {
 		limitsVersion = rec.LimitsVersion
 	}
@@ -326,9 +303,14 @@ func (in *inserter) addResult(ctx context.Context, sampleID int64, rec assess.Re
 	if err != nil {
 		return 0, err
 	}
+	if rec.Problems == nil {
+		rec.Problems = []string{}
+	}
+	r := Result{SampleID: s.ID, Analysed: now, LimitsVersion: limitsVersion, Verdict: rec.Verdict, Reasons: Reasons(rec), Record: rec}
+	numbers := packNumbers(&rec)
 	args := make([]any, 0, len(resultColumns))
-	args = append(args, sampleID, formatTime(now), limitsVersion, rec.Verdict, joinLines(reasonsFromJSON(js)),
-		joinLines(rec.Problems), rec.File, rec.Samples, rec.SkippedLines, rec.Despiked, rec.RateHz, packNumbers(&rec), string(js))
+	args = append(args, s.ID, formatTime(now), limitsVersion, rec.Verdict, joinLines(r.Reasons),
+		joinLines(rec.Problems), rec.File, rec.Samples, rec.SkippedLines, rec.Despiked, rec.RateHz, numbers, string(js))
 	for _, p := range pointDests(&rec) {
 		if p == nil || *p == nil {
 			args = append(args, nil)
@@ -340,14 +322,23 @@ func (in *inserter) addResult(ctx context.Context, sampleID int64, rec assess.Re
 	if err != nil {
 		return 0, err
 	}
-	id, err := res.LastInsertId()
-	if err != nil {
+	if r.ID, err = res.LastInsertId(); err != nil {
 		return 0, err
 	}
-	if _, err := in.latest.ExecContext(ctx, id, sampleID); err != nil {
+	if _, err := in.latest.ExecContext(ctx, r.ID, r.Verdict, packSummary(s, &r, numbers), s.ID); err != nil {
 		return 0, err
 	}
-	return id, nil
+	return r.ID, nil
+}
+
+// sampleMeta reads sample id's metadata for a new result's summary.
+func sampleMeta(ctx context.Context, tx *sql.Tx, id int64) (*Sample, error) {
+	var s Sample
+	err := tx.QueryRowContext(ctx, sampleMetaSQL, id).Scan(&s.ID, &s.Sample, &s.Ladle, &s.Alloy, &s.Furnace, &s.Operator, &s.Interrupted, &s.Simulated)
+	if errors.Is(err, sql.ErrNoRows) {
+		return nil, fmt.Errorf("sample %d: %w", id, ErrNoSample)
+	}
+	return &s, err
 }
 
 // recordJSON is the stored form of a record (problems [] rather than null).
@@ -396,19 +387,16 @@ var ErrNoSample = errors.New("no such sample")
 func (db *DB) AddResult(ctx context.Context, sampleID int64, rec assess.Record, limitsVersion string) (int64, error) {
 	var id int64
 	err := db.write(ctx, "adding a result to", func(tx *sql.Tx) error {
-		var n int
-		if err := tx.QueryRowContext(ctx, `SELECT count(*) FROM samples WHERE id = ?`, sampleID).Scan(&n); err != nil {
+		meta, err := sampleMeta(ctx, tx, sampleID)
+		if err != nil {
 			return err
-		}
-		if n == 0 {
-			return fmt.Errorf("sample %d: %w", sampleID, ErrNoSample)
 		}
 		in, err := prepare(ctx, tx)
 		if err != nil {
 			return err
 		}
 		defer in.Close()
-		id, err = in.addResult(ctx, sampleID, rec, limitsVersion, time.Now())
+		id, err = in.addResult(ctx, meta, rec, limitsVersion, time.Now())
 		return err
 	})
 	return id, err
@@ -482,8 +470,12 @@ func (db *DB) Put(ctx context.Context, s Sample) (int64, PutOutcome, error) {
 			out = PutUnchanged
 			return nil
 		}
+		meta, err := sampleMeta(ctx, tx, id)
+		if err != nil {
+			return err
+		}
 		out = PutNewResult
-		_, err = in.addResult(ctx, id, s.Record, s.LimitsVersion, now)
+		_, err = in.addResult(ctx, meta, s.Record, s.LimitsVersion, now)
 		return err
 	})
 	return id, out, err

@@ -80,6 +80,12 @@ func open(ctx context.Context, path string, upto int) (*DB, error) {
 		sdb.Close()
 		return nil, err
 	}
+	if upto < 0 {
+		if err := db.fillSummaries(ctx); err != nil {
+			sdb.Close()
+			return nil, err
+		}
+	}
 	return db, nil
 }
 

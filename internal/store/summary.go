@@ -1,0 +1,102 @@
+package store
+
+import (
+	"encoding/binary"
+	"errors"
+	"strings"
+)
+
+// The summary column of samples holds everything a history row shows of
+// the sample and its latest result in one blob, so that a month of history
+// is one narrow row per sample without a join (each column costs the
+// driver about a quarter of a microsecond a row; see BenchmarkHistoryMonth).
+// It is a copy, rewritten in the transaction that adds each result; the
+// columns and the record JSON stay the truth.
+//
+// Layout: byte 0 the format (1); the result id as a uvarint; then, each as
+// a uvarint length and UTF-8 bytes: analysed_at, limits_version, verdict,
+// reasons, problems (one a line), file, sample, ladle, alloy, furnace,
+// operator; a flags byte (1 interrupted, 2 simulated); then the packed
+// numbers (packed.go) to the end.
+const summaryFormat = 1
+
+var errSummary = errors.New("summary is damaged")
+
+func packSummary(s *Sample, r *Result, numbers []byte) []byte {
+	strs := []string{formatTime(r.Analysed), r.LimitsVersion, r.Verdict, joinLines(r.Reasons), joinLines(r.Record.Problems),
+		r.Record.File, s.Sample, s.Ladle, s.Alloy, s.Furnace, s.Operator}
+	n := 12 + len(numbers)
+	for _, x := range strs {
+		n += len(x) + 2
+	}
+	b := make([]byte, 0, n)
+	b = append(b, summaryFormat)
+	b = binary.AppendUvarint(b, uint64(r.ID))
+	for _, x := range strs {
+		b = binary.AppendUvarint(b, uint64(len(x)))
+		b = append(b, x...)
+	}
+	var flags byte
+	if s.Interrupted {
+		flags |= 1
+	}
+	if s.Simulated {
+		flags |= 2
+	}
+	b = append(b, flags)
+	return append(b, numbers...)
+}
+
+// unpackSummary fills e (whose Sample.ID and Recorded the caller sets).
+func unpackSummary(b []byte, e *Entry) error {
+	if len(b) < 2 || b[0] != summaryFormat {
+		return errSummary
+	}
+	b = b[1:]
+	id, k := binary.Uvarint(b)
+	if k <= 0 {
+		return errSummary
+	}
+	b = b[k:]
+	// one string for all the text of the row
+	var strs [11]string
+	var lens [11]int
+	total := 0
+	rest := b
+	for i := range lens {
+		l, k := binary.Uvarint(rest)
+		if k <= 0 || uint64(len(rest)-k) < l {
+			return errSummary
+		}
+		lens[i] = int(l)
+		total += int(l)
+		rest = rest[k+int(l):]
+	}
+	var sb strings.Builder
+	sb.Grow(total)
+	for i := range lens {
+		_, k := binary.Uvarint(b)
+		sb.Write(b[k : k+lens[i]])
+		b = b[k+lens[i]:]
+	}
+	all, off := sb.String(), 0
+	for i, l := range lens {
+		strs[i] = all[off : off+l]
+		off += l
+	}
+	if len(b) < 1 {
+		return errSummary
+	}
+	s, r := &e.Sample, &e.Result
+	r.ID, r.SampleID = int64(id), s.ID
+	analysed, err := parseTime(strs[0])
+	if err != nil {
+		return err
+	}
+	r.Analysed, r.LimitsVersion, r.Verdict = analysed, strs[1], strs[2]
+	r.Reasons, r.Record.Problems, r.Record.File = splitLines(strs[3]), splitLines(strs[4]), strs[5]
+	s.Sample, s.Ladle, s.Alloy, s.Furnace, s.Operator = strs[6], strs[7], strs[8], strs[9], strs[10]
+	s.Interrupted, s.Simulated = b[0]&1 != 0, b[0]&2 != 0
+	r.Record.Alloy, r.Record.Verdict = s.Alloy, r.Verdict
+	return unpackNumbers(b[1:], &r.Record)
+}
