@@ -196,7 +196,7 @@ func (p livePane) View() string {
 		return lipgloss.Place(p.w, p.h, lipgloss.Center, lipgloss.Center, msg)
 	}
 	if len(cs) == 1 {
-		return box(cs[0].view(p.st, p.w, p.h), p.w, p.h)
+		return cs[0].view(p.st, p.w, p.h) // already exactly w×h
 	}
 	lw := (p.w - 1) / 2
 	rw := p.w - 1 - lw

@@ -379,7 +379,9 @@ func (m Model) View() string {
 			body = m.live.View()
 		}
 	}
-	body = box(body, m.w, bh)
+	if m.tab != tabLive || m.asking || m.formOpen || m.showHelp {
+		body = box(body, m.w, bh) // the live pane is drawn to size already
+	}
 	foot := m.st.Muted.Render(clip(m.flash, m.w))
 	if m.flash == "" {
 		foot = m.help.ShortHelpView(m.shortHelp())
