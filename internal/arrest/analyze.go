@@ -268,6 +268,9 @@ func (a *Analyzer) reset(opt Options, n int) {
 	if opt.EutecticTopC != 0 {
 		a.h.EutecticTopC = opt.EutecticTopC
 	}
+	if a.spikes == nil {
+		a.spikes = make([]int, 0, 64)
+	}
 	a.det = detector{stage: stagePour, cand: -1}
 }
 
@@ -748,6 +751,9 @@ func (a *Analyzer) refineMax(lo, j, fallback int, firstReach bool) (Point, Point
 		return p, p, false
 	}
 	a.sll.Reset(h)
+	if need := hi - lo + 1; cap(a.dl) < need {
+		a.dl = make([]float64, 0, max(need, 2*cap(a.dl)))
+	}
 	dl := a.dl[:0]
 	best, bi := math.Inf(-1), lo
 	for c := lo; c <= hi; c++ {
@@ -827,6 +833,9 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 		return a.extremum(i)
 	}
 	a.sll.Reset(h)
+	if need := hi - lo + 1; cap(a.dl) < need {
+		a.dl = make([]float64, 0, max(need, 2*cap(a.dl)))
+	}
 	ds := a.dl[:0]
 	m := lo
 	for c := lo; c <= hi; c++ {
