@@ -341,7 +341,9 @@ func (c *cup) verdictLines(st *Styles, w int, boxed bool) []string {
 	v := c.rec.Verdict
 	lines := []string{st.verdictStyle(v).Render("VERDICT  " + verdictWord(v))}
 	if boxed {
-		lines = strings.Split(st.verdictBox(v).Render(st.verdictStyle(v).Render(verdictWord(v))), "\n")
+		// A solid bar of the verdict's colour inside its own border shape:
+		// readable across the deck; the word and the border stay without colour.
+		lines = strings.Split(st.verdictBox(v).Render(st.verdictStyle(v).Reverse(true).Padding(0, 1).Render(verdictWord(v))), "\n")
 	}
 	for _, r := range recordReasons(c.rec) {
 		lines = append(lines, wrapText(st.Value, "• "+r, w)...)

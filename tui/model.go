@@ -12,6 +12,7 @@ import (
 	"github.com/charmbracelet/bubbles/key"
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/lipgloss"
+	"github.com/charmbracelet/x/ansi"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
@@ -414,6 +415,9 @@ func (m Model) titleBar() string {
 	if sp, ok := m.opt.Source.(speeder); ok {
 		right = m.st.Muted.Render(fmt.Sprintf("%s · %g×", m.opt.Title, sp.Speed()))
 	}
+	if room := m.w - lipgloss.Width(left) - 1; lipgloss.Width(right) > room {
+		right = m.st.Muted.Render("…" + tail(stripStyle(right), room-1))
+	}
 	gap := m.w - lipgloss.Width(left) - lipgloss.Width(right)
 	if gap < 1 {
 		return clip(left, m.w)
@@ -442,13 +446,19 @@ func (m Model) statusLine() string {
 	if s.Faults > 0 {
 		faults = m.st.StatusBad.Render(fmt.Sprintf("faults %d", s.Faults))
 	}
-	line := strings.Join([]string{
+	parts := []string{
 		m.st.Status.Render(port), conn,
 		m.st.Status.Render(fmt.Sprintf("%.0f readings/s", s.ReadingsPerS)),
 		faults,
 		m.st.Status.Render(fmt.Sprintf("garbage %d", s.Garbage)),
 		m.st.Status.Render(fmt.Sprintf("reconnects %d", s.Reconnects)),
-	}, m.st.Muted.Render(" · "))
+	}
+	line := strings.Join(parts, m.st.Muted.Render(" · "))
+	if lipgloss.Width(line) > m.w {
+		parts[2] = m.st.Status.Render(fmt.Sprintf("%.0f/s", s.ReadingsPerS))
+		parts[5] = m.st.Status.Render(fmt.Sprintf("reconn. %d", s.Reconnects))
+		line = strings.Join(parts, m.st.Muted.Render(" · "))
+	}
 	return clip(line, m.w)
 }
 
@@ -492,3 +502,18 @@ func (m Model) fullHelp() [][]key.Binding {
 	}
 	return append(groups, m.global())
 }
+
+// tail is the last n cells of plain text s.
+func tail(s string, n int) string {
+	r := []rune(s)
+	if n <= 0 {
+		return ""
+	}
+	if len(r) > n {
+		return string(r[len(r)-n:])
+	}
+	return s
+}
+
+// stripStyle removes escape sequences.
+func stripStyle(s string) string { return ansi.Strip(s) }
