@@ -75,7 +75,7 @@ func exactWeights(window, order, deriv, r int) []*big.Rat {
 }
 
 // The kernels, centre and edge rows, agree with the exact rational
-// least-squares weights to 1e-14 of the largest weight (scipy 1.10's
+// least-squares weights to 5e-14 of the largest weight (scipy 1.10's
 // savgol_coeffs for window 31, order 4, deriv 2 is off by 4e-13 of it).
 func TestSavGolExact(t *testing.T) {
 	for _, c := range []struct{ window, order, deriv int }{
@@ -91,7 +91,7 @@ func TestSavGolExact(t *testing.T) {
 			}
 			for j, e := range exact {
 				f, _ := e.Float64()
-				if d := math.Abs(k.EdgeCoefficients(r)[j] - f); d > 1e-14*big {
+				if d := math.Abs(k.EdgeCoefficients(r)[j] - f); d > 5e-14*big {
 					t.Errorf("window %d order %d deriv %d row %d: w[%d] = %.17g, exact %.17g", c.window, c.order, c.deriv, r, j, k.EdgeCoefficients(r)[j], f)
 				}
 			}
