@@ -42,6 +42,7 @@ type historyPane struct {
 	book    *limits.Book
 	read    CurveReader
 	all     []Entry // newest first
+	vals    map[int64]map[string]float64 // each entry's metrics, computed once
 	alloys  []string
 	alloy   int // 0 = all alloys, else index+1 into alloys
 	metric  int
@@ -90,7 +91,7 @@ func (p historyPane) shown() []Entry {
 func (p historyPane) metrics() []string {
 	seen := map[string]bool{}
 	for _, e := range p.shown() {
-		for k := range metricValues(e.Record) {
+		for k := range p.vals[e.ID] {
 			seen[k] = true
 		}
 	}
@@ -121,6 +122,10 @@ func (p historyPane) metricName() string {
 
 func (p *historyPane) setEntries(es []Entry) {
 	p.all = es
+	p.vals = make(map[int64]map[string]float64, len(es))
+	for _, e := range es {
+		p.vals[e.ID] = metricValues(e.Record) // once a load, not once a frame
+	}
 	set := map[string]bool{}
 	for _, e := range es {
 		if e.Meta.Alloy != "" {
@@ -293,7 +298,7 @@ func (p historyPane) trend(es []Entry, h int) string {
 	name := p.metricName()
 	var xs, ys []float64
 	for i := len(es) - 1; i >= 0; i-- {
-		if v, ok := metricValues(es[i].Record)[name]; ok {
+		if v, ok := p.vals[es[i].ID][name]; ok {
 			xs = append(xs, float64(len(xs)+1))
 			ys = append(ys, v)
 		}
