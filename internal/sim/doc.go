@@ -5,16 +5,22 @@
 //
 // # The cup
 //
-// The cup is a lumped body (one temperature T for the whole sample,
-// field notes §6, standard):
+// The cup is two lumped bodies (field notes §6, standard, extended): a core
+// around the thermocouple (30 % of the metal) and a shell next to the cup
+// wall. The shell loses heat to the wall,
 //
-//	m·c·dT/dt = −h(t)·A·(T − T∞) − ε·σ·A_top·(T⁴ − T∞⁴) + m·L·dfs/dt
+//	m_s·c·dT_s/dt = −h(t)·A·(T_s − T∞) − ε·σ·A_top·(T_s⁴ − T∞⁴) + K·(T_c − T_s) + m_s·L·dfs_s/dt
+//	m_c·c·dT_c/dt = −K·(T_c − T_s) + m_c·L·dfs_c/dt
 //
-// with m the cup's metal mass, c the specific heat, A the cup's surface, A_top
-// its open top (the only surface that radiates freely), T in kelvin inside
-// the T⁴ term and σ = 5.670374419×10⁻⁸ W m⁻² K⁻⁴ (CODATA 2018). The cup is a
-// cylinder as high as it is wide. h(t) = h·(1 + 1.0·exp(−t/25 s)) after the
-// pour: the cold sand wall soaks up heat at first (derived; treat as fitted).
+// with A the cup's surface, A_top its open top (the only surface that
+// radiates freely), T in kelvin inside the T⁴ term and
+// σ = 5.670374419×10⁻⁸ W m⁻² K⁻⁴ (CODATA 2018). The cup is a cylinder as
+// high as it is wide. h(t) = h·(1 + exp(−t/25 s)) after the pour: the cold
+// sand wall soaks up heat at first (derived; treat as fitted). K is the
+// core–shell conductance, convective while liquid and conductive through
+// the solid, so the centre freezes last and then falls toward the shell:
+// the end-of-freezing dip of dT/dt a real cup shows. Nuclei are shared by
+// both lumps (convection carries them through the liquid).
 //
 // The solid fraction fs has two parts. The primary phase (austenite in
 // hypoeutectic iron, α-Al in Al-Si) forms on the liquidus: grain envelopes
@@ -30,9 +36,9 @@
 // M₀ jumping with each birth (field notes §6). Recalescence then comes out of
 // the latent heat by itself; nothing in the model places it.
 //
-//	fs = fp + (1 − fp)·fe
+//	fs = fp + (1 − fp)·fe   (in each lump)
 //
-// The thermocouple sees the metal through a first-order lag
+// The thermocouple sees the core metal through a first-order lag
 // dTc/dt = w(t)·(T − Tc)/τ, with the wetting w(t) rising from 0 to 1 while the
 // cup fills (the junction starts at room temperature).
 //
