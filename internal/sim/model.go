@@ -179,14 +179,11 @@ type state struct {
 	endT     float64 // time fs of the whole cup reached 0.9999, s (−1 before)
 }
 
-// conductance between core and shell, W/K: K_s + (K_l − K_s)·(1 − f̄)⁸,
+// conductance between core and shell, W/K: K_s + (K_l − K_s)·(1 − f̄)²,
 // liquid convection giving way to conduction through the solid as the mean
-// solid fraction f̄ grows (a smooth form, fitted: it halves the convective
-// part by f̄ ≈ 0.08).
+// solid fraction f̄ grows (a smooth form, fitted).
 func (m *cup) conductance(s *state) float64 {
 	x := 1 - s.fs
-	x *= x
-	x *= x
 	return m.kSolid + (m.kLiquid-m.kSolid)*x*x
 }
 
