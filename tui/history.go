@@ -312,7 +312,11 @@ func (p historyPane) trend(es []Entry, h int) string {
 		lo, hi = math.Min(lo, y), math.Max(hi, y)
 	}
 	var levels []level
-	if al, ok := p.book.Alloy(p.filterName()); ok && al.Metrics != nil {
+	alloy := p.filterName()
+	if alloy == "" && len(p.alloys) == 1 {
+		alloy = p.alloys[0] // one alloy this shift: its bands apply to all
+	}
+	if al, ok := p.book.Alloy(alloy); ok && al.Metrics != nil {
 		if lm := al.Metrics[name]; lm != nil {
 			for _, b := range []struct {
 				v *float64
