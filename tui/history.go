@@ -41,7 +41,7 @@ type historyPane struct {
 	keys    *KeyMap
 	book    *limits.Book
 	read    CurveReader
-	all     []Entry // newest first
+	all     []Entry                      // newest first
 	vals    map[int64]map[string]float64 // each entry's metrics, computed once
 	alloys  []string
 	alloy   int // 0 = all alloys, else index+1 into alloys
