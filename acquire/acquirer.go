@@ -265,16 +265,13 @@ func (a *Acquirer) Run(ctx context.Context) (err error) {
 	if err := a.setup(); err != nil {
 		return err
 	}
-	dirs := []string{a.outDir()}
-	for _, d := range dirs {
-		recs, err := recoverDir(d, a.cfg.Now())
-		for _, r := range recs {
-			a.event(Event{Kind: EventRecovered, Path: r.Path, Channel: r.Channel,
-				Text: fmt.Sprintf("recovered interrupted sample %s (%d readings)", r.Path, r.Rows)})
-		}
-		if err != nil {
-			a.warn("recover", err.Error())
-		}
+	recs, rerr := recoverDir(a.outDir(), a.cfg.Now())
+	for _, r := range recs {
+		a.event(Event{Kind: EventRecovered, Path: r.Path, Channel: r.Channel,
+			Text: fmt.Sprintf("recovered interrupted sample %s (%d readings)", r.Path, r.Rows)})
+	}
+	if rerr != nil {
+		a.warn("recover", rerr.Error())
 	}
 
 	readCtx, stopRead := context.WithCancel(ctx)
@@ -283,6 +280,12 @@ func (a *Acquirer) Run(ctx context.Context) (err error) {
 	defer func() {
 		stopRead()
 		wg.Wait()
+		// What the reader handed over before it stopped still counts.
+		for _, it := range a.in.swap(nil) {
+			if herr := a.handle(&it); herr != nil && err == nil {
+				err = herr
+			}
+		}
 		if ferr := a.finishAll("acquisition stopped"); ferr != nil && err == nil {
 			err = ferr
 		}

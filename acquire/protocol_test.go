@@ -334,3 +334,29 @@ func BenchmarkFrameAndParse(b *testing.B) {
 	}
 	b.ReportMetric(float64(lines)/b.Elapsed().Seconds(), "lines/s")
 }
+
+// FuzzFramer: whatever the bytes, framing them whole and one byte at a
+// time gives the same lines, none longer than MaxLineLen or holding a line
+// break.
+func FuzzFramer(f *testing.F) {
+	f.Add([]byte("c=1\r\nc=2\rc=3\n\n"), uint8(3))
+	f.Add([]byte(strings.Repeat("x", MaxLineLen+3)+"\r\nc=4"), uint8(1))
+	f.Fuzz(func(t *testing.T, b []byte, chunk uint8) {
+		whole, fw, err := frameAll(bytes.NewReader(b))
+		if err != nil {
+			t.Fatal(err)
+		}
+		pieces, fp, err := frameAll(&fixedChunks{b: b, n: int(chunk%16) + 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !reflect.DeepEqual(whole, pieces) || fw.Partial.Load() != fp.Partial.Load() || fw.Overlong.Load() != fp.Overlong.Load() {
+			t.Fatalf("framing depends on read sizes: %q vs %q", whole, pieces)
+		}
+		for _, l := range whole {
+			if len(l) > MaxLineLen || strings.ContainsAny(l, "\r\n") {
+				t.Fatalf("bad line %q", l)
+			}
+		}
+	})
+}
