@@ -295,21 +295,23 @@ func (a *Analyzer) ingest(t, temp []float64) {
 	if !a.own {
 		ts, raw = t[:len(ts)], temp[:len(raw)] // the same readings, perhaps moved
 	}
+	goodT, lastGoodT := a.goodT, a.lastGoodT
+	taking := !a.stopped && a.det.stage != stageDone
 	for i := a.nIn; i < len(t); i++ {
 		ti, v := t[i], temp[i]
-		a.nIn = i + 1
-		if math.IsNaN(ti) || a.goodT > 0 && !(ti > a.lastGoodT) {
+		if math.IsNaN(ti) || goodT > 0 && !(ti > lastGoodT) {
 			a.badTime++
 			a.problem(len(ts), CodeTimeOrder, fmt.Sprintf("time goes backwards or repeats at reading %d (t = %g s); such readings were left out", i+1, ti), true)
 			continue
 		}
-		a.goodT++
-		a.lastGoodT = ti
-		if a.stopped || a.det.stage == stageDone {
+		goodT++
+		lastGoodT = ti
+		if !taking {
 			continue
 		}
 		if math.IsNaN(v) || v > MaxValidC || v < MinValidC {
 			a.stop(len(raw), len(raw), CodeFault, fmt.Sprintf("thermocouple fault: reading %g °C at %.1f s (open circuit or out of range); the curve after it was not analysed", v, ti))
+			taking = false
 			continue
 		}
 		switch {
@@ -326,6 +328,8 @@ func (a *Analyzer) ingest(t, temp []float64) {
 			raw = append(raw, v)
 		}
 	}
+	a.nIn = max(a.nIn, len(t))
+	a.goodT, a.lastGoodT = goodT, lastGoodT
 	a.ts, a.raw = ts, raw
 	if a.own {
 		a.tsBuf, a.rawBuf = ts, raw
