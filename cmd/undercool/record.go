@@ -37,7 +37,7 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	dir := fs.String("dir", ".", "directory for the curve file when --out is not given")
 	channel := fs.String("channel", "", "record this channel id only (default: the first channel poured)")
 	maxS := fs.Float64("max-s", 600, "time limit of the sample in s: recording stops then even if freezing has not ended")
-	waitS := fs.Float64("wait-s", 0, "give up when no sample has started within this many s (0: wait until interrupted)")
+	waitS := fs.Float64("wait-s", -1, "give up when no sample has started within this many s (default: the --max-s time limit; 0: wait until interrupted)")
 	start := fs.Bool("start", false, "start recording at once instead of waiting for the pour")
 	rise := fs.Float64("trigger-rise", 100, "pour trigger: a rise of more than this many °C ...")
 	within := fs.Float64("trigger-within", 3, "... within this many s ...")
@@ -65,8 +65,11 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	if err := mode.Check(); err != nil {
 		return fmt.Errorf("--baud/--frame: %w", err)
 	}
-	if *maxS <= 0 || *waitS < 0 || *rise <= 0 || *within <= 0 {
-		return fmt.Errorf("--max-s, --trigger-rise and --trigger-within must be positive, --wait-s not negative")
+	if *maxS <= 0 || *rise <= 0 || *within <= 0 {
+		return fmt.Errorf("--max-s, --trigger-rise and --trigger-within must be positive")
+	}
+	if *waitS < 0 {
+		*waitS = *maxS
 	}
 	cfg := acquire.Config{
 		Port: *port, Thermocouple: *tc, OutPath: *out, Dir: *dir, MaxSamples: 1, MaxS: *maxS,

@@ -123,12 +123,22 @@ func TestRecordPTY(t *testing.T) {
 }
 
 // TestRecordSilentDevice: a device that never sends makes record give up
-// after --wait-s, saying what to check.
+// at its time limit (--max-s, or --wait-s for the wait alone), saying what
+// to check; with --start the sample ends at the time limit, empty, and
+// record says so.
 func TestRecordSilentDevice(t *testing.T) {
+	for _, limit := range [][]string{{"--wait-s", "0.5"}, {"--max-s", "0.5"}} {
+		_, name := acqPTY(t)
+		args := append([]string{"record", "--port", name, "--dir", t.TempDir()}, limit...)
+		code, _, stderr := acqRun(t, context.Background(), args...)
+		if code != 1 || !strings.Contains(stderr, "no data from "+name+" in 0.5 s") || !strings.Contains(stderr, "--baud") {
+			t.Fatalf("%v: exit %d, stderr:\n%s", limit, code, stderr)
+		}
+	}
 	_, name := acqPTY(t)
-	code, _, stderr := acqRun(t, context.Background(), "record", "--port", name, "--dir", t.TempDir(), "--wait-s", "0.5")
-	if code != 1 || !strings.Contains(stderr, "no data from "+name+" in 0.5 s") || !strings.Contains(stderr, "--baud") {
-		t.Fatalf("exit %d, stderr:\n%s", code, stderr)
+	code, _, stderr := acqRun(t, context.Background(), "record", "--port", name, "--dir", t.TempDir(), "--start", "--max-s", "0.2", "--wait-s", "0")
+	if code != 1 || !strings.Contains(stderr, "no readings from "+name) {
+		t.Fatalf("--start: exit %d, stderr:\n%s", code, stderr)
 	}
 }
 
