@@ -68,7 +68,6 @@ const (
 	dropFloor    = 0.3  // smallest temperature drop that settles a recalescence maximum, °C
 	promShare    = 0.15 // an arrest's prominence is at least this share of the preceding minimum of |T'|
 	longFactor   = 2    // refinement window of a flat eutectic arrest, in SlopeS
-	noiseStride  = 3    // the noise is estimated on every third 2 s block
 	shortShare   = 0.03 // see solidusPoint
 	fallShare    = 0.04 // an arrest's fall is at least this share of |T'|min before it
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
@@ -491,7 +490,7 @@ func (a *Analyzer) filter() {
 		if j < hd {
 			dj = a.kd.At(x[:a.wd], j, a.dt)
 		} else {
-			_, dj = a.sld.At(x, j)
+			dj = a.sld.SlopeAt(x, j)
 			dj *= inv
 		}
 		d = append(d, dj)
@@ -761,7 +760,7 @@ func (a *Analyzer) refineMax(lo, j, fallback int, firstReach bool) (Point, Point
 	dl := a.dl[:0]
 	best, bi := math.Inf(-1), lo
 	for c := lo; c <= hi; c++ {
-		_, v := a.sll.At(a.x, c)
+		v := a.sll.SlopeAt(a.x, c)
 		v /= a.dt
 		dl = append(dl, v)
 		if v > best {
@@ -843,7 +842,7 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 	ds := a.dl[:0]
 	m := lo
 	for c := lo; c <= hi; c++ {
-		_, v := a.sll.At(a.x, c)
+		v := a.sll.SlopeAt(a.x, c)
 		ds = append(ds, v/a.dt)
 		if ds[c-lo] < ds[m-lo] {
 			m = c

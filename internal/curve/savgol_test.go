@@ -112,8 +112,9 @@ func TestSlidingMatchesKernel(t *testing.T) {
 	for _, half := range []int{2, 5, 20, 100} {
 		w := 2*half + 1
 		ks, kd := SavGol(w, 2, 0), SavGol(w, 2, 1)
-		var s Sliding
+		var s, d Sliding
 		s.Reset(half)
+		d.Reset(half)
 		for c := half; c < len(x)-half; c++ {
 			sm, sl := s.At(x, c)
 			if e := math.Abs(sm - ks.At(x, c, 1)); e > 1e-9 {
@@ -121,6 +122,9 @@ func TestSlidingMatchesKernel(t *testing.T) {
 			}
 			if e := math.Abs(sl - kd.At(x, c, 1)); e > 1e-9 {
 				t.Fatalf("half %d c %d: slope off by %g", half, c, e)
+			}
+			if e := math.Abs(d.SlopeAt(x, c) - kd.At(x, c, 1)); e > 1e-9 {
+				t.Fatalf("half %d c %d: SlopeAt off by %g", half, c, e)
 			}
 		}
 	}

@@ -73,3 +73,29 @@ func (s *Sliding) At(x []float64, c int) (smooth, slope float64) {
 	s.c = c
 	return s.ref + s.wSmooth0*s.s0 - s.wSmooth2*s.s2, s.s1 * s.invSumK2
 }
+
+// SlopeAt is At for the first derivative alone (per sample), a little
+// cheaper. A Sliding used through SlopeAt must not be used through At
+// without a Reset.
+func (s *Sliding) SlopeAt(x []float64, c int) float64 {
+	m := s.half
+	if c == s.c+1 && c%slidingAnchor != 0 {
+		out := x[c-1-m] - s.ref
+		in := x[c+m] - s.ref
+		fm := float64(m)
+		a0 := s.s0 - out + in
+		s.s1 += fm*out + (fm+1)*in - a0
+		s.s0 = a0
+	} else {
+		s.ref = x[c]
+		var s0, s1 float64
+		for k := -m; k <= m; k++ {
+			y := x[c+k] - s.ref
+			s0 += y
+			s1 += float64(k) * y
+		}
+		s.s0, s.s1 = s0, s1
+	}
+	s.c = c
+	return s.s1 * s.invSumK2
+}
