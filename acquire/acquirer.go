@@ -177,11 +177,12 @@ func New(open Opener, cfg Config) *Acquirer {
 // Batches is the stream of batches. It is closed when Run returns.
 func (a *Acquirer) Batches() <-chan Batch { return a.out }
 
-// Start starts recording channel ch now (with the pre-trigger readings),
-// unless it is already recording.
+// Start starts recording channel ch ("" = "1") now, with the pre-trigger
+// readings, unless it is already recording.
 func (a *Acquirer) Start(ch string) { a.ctl.push(control{op: opStart, ch: ch}) }
 
-// Stop ends the sample recording on channel ch and completes its file.
+// Stop ends the sample recording on channel ch ("" = "1") and completes
+// its file.
 func (a *Acquirer) Stop(ch string) { a.ctl.push(control{op: opStop, ch: ch}) }
 
 // SetMeta sets sample form data (e.g. sample, alloy, operator) for channel
@@ -705,6 +706,9 @@ func (a *Acquirer) channel(id string) *channel {
 }
 
 func (a *Acquirer) control(c control) error {
+	if c.ch == "" && c.op != opMeta {
+		c.ch = "1" // the channel of lines that name none
+	}
 	switch c.op {
 	case opMeta:
 		a.applyForm(c.ch, c.meta)
