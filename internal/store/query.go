@@ -102,7 +102,7 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 	var q string
 	switch {
 	case fast:
-		q = "SELECT s.id, s.recorded_at, s.summary"
+		q = "SELECT s.id, s.summary"
 	case f.Full:
 		q = "SELECT " + fullColumns
 	default:
@@ -131,22 +131,17 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 	out := make([]Entry, 0, n)
 	var missing []int // rows without a summary (written before it existed)
 	sc := newScanner(f.Full)
-	var (
-		recorded string
-		summary  sql.RawBytes // decoded before the next row
-	)
+	var summary sql.RawBytes // decoded before the next row
 	for rows.Next() {
 		out = append(out, Entry{})
 		e := &out[len(out)-1]
 		if !fast {
 			err = sc.scan(rows, e)
-		} else if err = rows.Scan(&e.Sample.ID, &recorded, &summary); err == nil {
-			if e.Sample.Recorded, err = parseTime(recorded); err == nil {
-				if summary == nil {
-					missing = append(missing, len(out)-1)
-				} else if err = unpackSummary(summary, e); err != nil {
-					err = fmt.Errorf("sample %d: %w", e.Sample.ID, err)
-				}
+		} else if err = rows.Scan(&e.Sample.ID, &summary); err == nil {
+			if summary == nil {
+				missing = append(missing, len(out)-1)
+			} else if err = unpackSummary(summary, e); err != nil {
+				err = fmt.Errorf("sample %d: %w", e.Sample.ID, err)
 			}
 		}
 		if err != nil {

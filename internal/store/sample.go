@@ -91,9 +91,10 @@ type metricField struct {
 	column bool   // results has a column of this name
 }
 
-// pointColumns are the results columns (migration 0001) that copy Record
-// numbers, one per *float64 key; keys without a column (added to the
-// Record later) are read from the record JSON.
+// pointColumns are the results columns that copy Record numbers, one per
+// *float64 key (migration 0001, then one migration per key the Record
+// gained: see 0005); keys without a column yet are read from the record
+// JSON. New columns go at the end: the packed bitmap counts in this order.
 var pointColumns = []string{
 	"pour_peak_c", "pour_peak_s", "liquidus_min_c", "liquidus_min_s", "liquidus_c", "liquidus_s",
 	"eutectic_min_c", "eutectic_min_s", "eutectic_max_c", "eutectic_max_s", "recalescence_c",
@@ -102,6 +103,7 @@ var pointColumns = []string{
 	"ce", "ce_classic", "cel_koriyama2020", "cel_heine", "cel_shop", "white_eutectic_c", "c_pct", "si_pct",
 	"liquidus_ref_c", "alpha_undercooling_c", "alpha_recalescence_c", "eutectic_ref_c", "eutectic_depression_c",
 	"plateau_c", "fixed_point_c", "fixed_point_error_c",
+	"pour_superheat_c", // migration 0005
 }
 
 // pointOffsets are the offsets in assess.Record of the *float64 fields of
@@ -188,7 +190,7 @@ const insertSampleSQL = `INSERT INTO samples(created_at, recorded_at, sample, la
 const setLatestSQL = `UPDATE samples SET latest_result_id = ?, latest_verdict = ?, summary = ? WHERE id = ?`
 
 // sampleMetaSQL reads what a result's summary needs of its sample.
-const sampleMetaSQL = `SELECT id, sample, ladle, alloy, furnace, operator, interrupted, simulated FROM samples WHERE id = ?`
+const sampleMetaSQL = `SELECT id, recorded_at, sample, ladle, alloy, furnace, operator, interrupted, simulated FROM samples WHERE id = ?`
 
 // inserter holds one write transaction's prepared statements.
 type inserter struct {
@@ -286,7 +288,7 @@ func (in *inserter) addSample(ctx context.Context, s *Sample, now time.Time) (in
 		return 0, err
 	}
 	meta := *s
-	meta.ID = id
+	meta.ID, meta.Recorded = id, rec
 	if _, err := in.addResult(ctx, &meta, s.Record, s.LimitsVersion, now); err != nil {
 		return 0, err
 	}
@@ -333,11 +335,18 @@ func (in *inserter) addResult(ctx context.Context, s *Sample, rec assess.Record,
 
 // sampleMeta reads sample id's metadata for a new result's summary.
 func sampleMeta(ctx context.Context, tx *sql.Tx, id int64) (*Sample, error) {
-	var s Sample
-	err := tx.QueryRowContext(ctx, sampleMetaSQL, id).Scan(&s.ID, &s.Sample, &s.Ladle, &s.Alloy, &s.Furnace, &s.Operator, &s.Interrupted, &s.Simulated)
+	var (
+		s        Sample
+		recorded string
+	)
+	err := tx.QueryRowContext(ctx, sampleMetaSQL, id).Scan(&s.ID, &recorded, &s.Sample, &s.Ladle, &s.Alloy, &s.Furnace, &s.Operator, &s.Interrupted, &s.Simulated)
 	if errors.Is(err, sql.ErrNoRows) {
 		return nil, fmt.Errorf("sample %d: %w", id, ErrNoSample)
 	}
+	if err != nil {
+		return nil, err
+	}
+	s.Recorded, err = parseTime(recorded)
 	return &s, err
 }
 

@@ -133,7 +133,10 @@ func TestMigrateFromEveryVersion(t *testing.T) {
 					VALUES (7, '2026-11-30T06:00:00.000Z', '2026-11-30T06:00:00.000Z', 'L-2301 cup 1', 'L-2301', 'grey-iron')`)
 				if err == nil {
 					_, err = old.sql.Exec(`INSERT INTO results(sample_id, analysed_at, verdict, record, eutectic_min_c)
-						VALUES (7, '2026-11-30T06:04:00.000Z', 'pass', '{"alloy":"grey-iron","verdict":"pass","eutectic_min_c":1146.5,"problems":[]}', 1146.5)`)
+						VALUES (7, '2026-11-30T06:04:00.000Z', 'pass', '{"alloy":"grey-iron","verdict":"pass","eutectic_min_c":1146.5,"pour_superheat_c":141.5,"problems":[]}', 1146.5)`)
+				}
+				if err == nil && from >= 4 { // as the program has done since 0004
+					_, err = old.sql.Exec(`UPDATE samples SET latest_result_id = (SELECT max(id) FROM results WHERE sample_id = 7), latest_verdict = 'pass' WHERE id = 7`)
 				}
 				if err != nil {
 					t.Fatal(err)
@@ -175,7 +178,10 @@ func TestMigrateFromEveryVersion(t *testing.T) {
 			wantN := 1
 			if from >= 1 {
 				wantN = 2
-				if h[0].Sample.ID != 7 || *h[0].Result.Record.EutecticMinC != 1146.5 || h[0].Sample.Furnace != "" {
+				var sh float64
+				db.sql.QueryRow("SELECT pour_superheat_c FROM results WHERE sample_id = 7").Scan(&sh)
+				if r := h[0].Result.Record; h[0].Sample.ID != 7 || *r.EutecticMinC != 1146.5 || r.PourSuperheatC == nil ||
+					*r.PourSuperheatC != 141.5 || sh != 141.5 || h[0].Sample.Furnace != "" || h[0].Sample.Ladle != "L-2301" {
 					t.Fatalf("old row after migration: %+v", h[0])
 				}
 			}
@@ -342,6 +348,10 @@ func TestAddSampleGetAndReanalysis(t *testing.T) {
 	}
 	h, _ := db.History(ctx, Filter{})
 	all, _ := db.History(ctx, Filter{AllResults: true})
+	if len(h) != 1 || !h[0].Sample.Recorded.Equal(poured) || h[0].Sample.Operator != in.Operator || !h[0].Sample.Simulated ||
+		h[0].Result.LimitsVersion != "2026-12" || !h[0].Result.Analysed.Equal(results[1].Analysed) {
+		t.Errorf("history row after re-analysis: %+v", h[0].Sample)
+	}
 	if len(h) != 1 || h[0].Result.Verdict != "pass" || len(all) != 2 {
 		t.Fatalf("history latest %d rows (%v), all %d rows", len(h), h, len(all))
 	}

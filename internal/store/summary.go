@@ -4,6 +4,7 @@ import (
 	"encoding/binary"
 	"errors"
 	"strings"
+	"time"
 )
 
 // The summary column of samples holds everything a history row shows of
@@ -13,8 +14,9 @@ import (
 // It is a copy, rewritten in the transaction that adds each result; the
 // columns and the record JSON stay the truth.
 //
-// Layout: byte 0 the format (1); the result id as a uvarint; then, each as
-// a uvarint length and UTF-8 bytes: analysed_at, limits_version, verdict,
+// Layout: byte 0 the format (1); the result id as a uvarint; the sample's
+// recorded and the result's analysed times as varint Unix milliseconds;
+// then, each as a uvarint length and UTF-8 bytes: limits_version, verdict,
 // reasons, problems (one a line), file, sample, ladle, alloy, furnace,
 // operator; a flags byte (1 interrupted, 2 simulated); then the packed
 // numbers (packed.go) to the end.
@@ -23,7 +25,7 @@ const summaryFormat = 1
 var errSummary = errors.New("summary is damaged")
 
 func packSummary(s *Sample, r *Result, numbers []byte) []byte {
-	strs := []string{formatTime(r.Analysed), r.LimitsVersion, r.Verdict, joinLines(r.Reasons), joinLines(r.Record.Problems),
+	strs := []string{r.LimitsVersion, r.Verdict, joinLines(r.Reasons), joinLines(r.Record.Problems),
 		r.Record.File, s.Sample, s.Ladle, s.Alloy, s.Furnace, s.Operator}
 	n := 12 + len(numbers)
 	for _, x := range strs {
@@ -32,6 +34,8 @@ func packSummary(s *Sample, r *Result, numbers []byte) []byte {
 	b := make([]byte, 0, n)
 	b = append(b, summaryFormat)
 	b = binary.AppendUvarint(b, uint64(r.ID))
+	b = binary.AppendVarint(b, s.Recorded.UnixMilli())
+	b = binary.AppendVarint(b, r.Analysed.UnixMilli())
 	for _, x := range strs {
 		b = binary.AppendUvarint(b, uint64(len(x)))
 		b = append(b, x...)
@@ -47,7 +51,7 @@ func packSummary(s *Sample, r *Result, numbers []byte) []byte {
 	return append(b, numbers...)
 }
 
-// unpackSummary fills e (whose Sample.ID and Recorded the caller sets).
+// unpackSummary fills e (whose Sample.ID the caller sets).
 func unpackSummary(b []byte, e *Entry) error {
 	if len(b) < 2 || b[0] != summaryFormat {
 		return errSummary
@@ -58,9 +62,16 @@ func unpackSummary(b []byte, e *Entry) error {
 		return errSummary
 	}
 	b = b[k:]
+	var ms [2]int64
+	for i := range ms {
+		if ms[i], k = binary.Varint(b); k <= 0 {
+			return errSummary
+		}
+		b = b[k:]
+	}
 	// one string for all the text of the row
-	var strs [11]string
-	var lens [11]int
+	var strs [10]string
+	var lens [10]int
 	total := 0
 	rest := b
 	for i := range lens {
@@ -89,13 +100,10 @@ func unpackSummary(b []byte, e *Entry) error {
 	}
 	s, r := &e.Sample, &e.Result
 	r.ID, r.SampleID = int64(id), s.ID
-	analysed, err := parseTime(strs[0])
-	if err != nil {
-		return err
-	}
-	r.Analysed, r.LimitsVersion, r.Verdict = analysed, strs[1], strs[2]
-	r.Reasons, r.Record.Problems, r.Record.File = splitLines(strs[3]), splitLines(strs[4]), strs[5]
-	s.Sample, s.Ladle, s.Alloy, s.Furnace, s.Operator = strs[6], strs[7], strs[8], strs[9], strs[10]
+	s.Recorded, r.Analysed = time.UnixMilli(ms[0]).UTC(), time.UnixMilli(ms[1]).UTC()
+	r.LimitsVersion, r.Verdict = strs[0], strs[1]
+	r.Reasons, r.Record.Problems, r.Record.File = splitLines(strs[2]), splitLines(strs[3]), strs[4]
+	s.Sample, s.Ladle, s.Alloy, s.Furnace, s.Operator = strs[5], strs[6], strs[7], strs[8], strs[9]
 	s.Interrupted, s.Simulated = b[0]&1 != 0, b[0]&2 != 0
 	r.Record.Alloy, r.Record.Verdict = s.Alloy, r.Verdict
 	return unpackNumbers(b[1:], &r.Record)
