@@ -88,41 +88,56 @@ const (
 // sample it reports only the points already settled by then; fed the whole
 // curve it gives the offline answer.
 //
-// The method (definitions in DEVELOPERS.md and design.md):
+// The method (point definitions in design.md and DEVELOPERS.md):
 //   - readings whose time does not increase are dropped ("time-order");
 //     a reading that is NaN, infinite, above MaxValidC or below MinValidC, or
 //     a jump of more than StepFaultC that outlasts the spike test after the
 //     pour, ends the usable data ("tc-fault"); points settled before stay;
-//   - the sample rate is the median interval of the first 21 readings;
+//   - the sample rate is the median interval of the first 21 readings, and
+//     every window is set in seconds from it (2 Hz to 200 Hz);
 //     single-sample spikes are replaced by a neighbour's reading
 //     (curve.SpikeAt, threshold max(SpikeMinC, 6σ) plus the local slope);
 //   - σ, the noise, is the median of curve.Noise over 2 s blocks (not those
-//     spanning the pour), using only
-//     blocks already complete at each reading, so every decision depends on
-//     the data up to a fixed distance after it and never on later data;
+//     spanning the pour), using only blocks already complete at each
+//     reading, so every decision depends on the data up to a fixed distance
+//     after it and never on later data;
 //   - T is the quadratic Savitzky–Golay smoothing over Hints.SmoothS and T'
 //     the quadratic Savitzky–Golay derivative over Hints.SlopeS; at the start
 //     the polynomial of the first window is used (scipy's "interp"); the
-//     last half-window of a curve is never used for a point, so a point can
-//     only be reported once no further reading can change it;
+//     last half-window of a curve is never used for a point, so a point is
+//     only reported once no further reading can change it;
 //   - the pour peak is the highest despiked reading once the curve has
 //     stayed pourDropC below it for 0.5 s (and it reached Hints.MinPourC);
-//   - an arrest is a local maximum of T' that rises max(P, 0.15·|T'|min)
-//     above the minimum of T' before it and falls max(P, 0.04·|T'|min)
-//     after it, P = max(0.05 °C/s, 8σ_T'). Sign changes of T' count only past a hysteresis
-//     h = max(0.02 °C/s, 4σ_T'): T' > +h confirms recalescence, and the
-//     minimum is T at the last − → + crossing of T' before it; the maximum is
-//     T at the first + → − crossing after T' was last above +h, settled when
-//     T' < −h or T has fallen max(0.3 °C, 6σ_T) below it. Noise crossings on
-//     a flat plateau are thus never taken for the underlying one. Without
-//     recalescence the point is T at the local maximum of T';
+//     the arrest search begins once T' no longer reaches back over the peak;
+//   - an arrest is a local maximum of T' that rises max(P, 0.15·|T'min|)
+//     above the minimum T'min before it and falls max(P, 0.04·|T'min|) after
+//     it, P = max(0.05 °C/s, 8σ_T');
+//   - recalescence: sign changes of T' count only past a hysteresis
+//     h = max(0.02 °C/s, 4σ_T'). T' > +h confirms it; the minimum is T at
+//     the last − → + crossing of T' before that, the maximum T at the first
+//     + → − crossing after T' was last above +h, settled when T' < −h or T
+//     has fallen max(0.3 °C, 6σ_T) below it. Noise crossings on a flat
+//     plateau are thus never taken for the underlying one. An arrest that
+//     stays below +h is looked at again on a T' window twice as long
+//     (refineMax): if that T' turns positive the arrest recalesces after
+//     all (crossings as above);
+//   - without recalescence the liquidus is T at the local maximum of T'
+//     (refined to a fraction of a sample) and the eutectic point is T where
+//     the longer-window T' first comes within 2σ of its maximum;
 //   - the first arrest above Hints.EutecticTopC is the liquidus arrest; the
 //     first arrest at or below it is the eutectic (the single plateau of a
 //     pure metal); liquidus is null when no arrest precedes the eutectic;
 //   - the end of freezing is T at the most negative T' after the eutectic,
-//     settled when no lower T' has followed for Hints.ConfirmS seconds and the
-//     drop below the plateau's T' is at least P and a third of the liquid's
-//     cooling rate.
+//     settled when no lower T' has followed for Hints.ConfirmS seconds and
+//     the drop below the plateau's T' is at least P and a third of the
+//     liquid's cooling rate; it is placed on a half-length T' window when
+//     the noise allows (solidusPoint);
+//   - the plateau lasts from the eutectic minimum until T' has fallen
+//     halfway from its eutectic value to its value at the end of freezing;
+//     the freezing time runs from the first arrest point (liquidus minimum,
+//     liquidus or eutectic minimum) to the end of freezing; the cooling rate
+//     is the mean slope of T over the 10 s before T' has risen halfway into
+//     the first arrest.
 func Analyze(t, temp []float64, opt Options) Result {
 	var a Analyzer
 	a.reserve = len(t)
