@@ -114,8 +114,8 @@ const (
 //     it, P = max(0.05 °C/s, 8σ_T');
 //   - recalescence: sign changes of T' count only past a hysteresis
 //     h = max(0.02 °C/s, 4σ_T'). T' > +h confirms it; the minimum is T at
-//     the last − → + crossing of T' before that, the maximum T at the first
-//   - → − crossing after T' was last above +h, settled when T' < −h or T
+//     the last − → + crossing of T' before that, the maximum T at the
+//     first crossing + → − after T' was last above +h, settled when T' < −h or T
 //     has fallen max(0.3 °C, 6σ_T) below it. Noise crossings on a flat
 //     plateau are thus never taken for the underlying one. An arrest that
 //     stays below +h is looked at again on a T' window twice as long
