@@ -568,6 +568,7 @@ func (a *Analyzer) vertex(i int, d0, d1, d2 float64) Point {
 // detect runs the point finder over the indices settled since the last call.
 func (a *Analyzer) detect() {
 	e := &a.det
+	lastSig, h, p := math.NaN(), 0.0, 0.0
 	for ; e.j < len(a.d) && e.stage != stageDone; e.j++ {
 		j := e.j
 		d := a.d[j]
@@ -579,9 +580,12 @@ func (a *Analyzer) detect() {
 			a.limit = a.xAvail(j) + 2
 			break
 		}
-		sd := sig * a.gainD
-		h := max(slopeFloor, 4*sd)
-		p := max(promFloor, 8*sd)
+		if sig != lastSig { // the thresholds change only with the noise estimate
+			lastSig = sig
+			sd := sig * a.gainD
+			h = max(slopeFloor, 4*sd)
+			p = max(promFloor, 8*sd)
+		}
 		switch e.stage {
 		case stagePour:
 			// the arrest search starts once T' no longer reaches back over

@@ -39,11 +39,6 @@ func Noise(scratch, x []float64) (float64, []float64) {
 			q = st
 		}
 	}
-	quantised := !math.IsInf(q, 1)
-	for i := 1; i < n && quantised; i++ {
-		r := math.Abs(x[i]-x[i-1]) / q
-		quantised = math.Abs(r-math.Round(r)) < 1e-6*max(1, r)
-	}
 	k := int(float64(m) * noiseTrim)
 	if k < 1 {
 		k = 1
@@ -54,6 +49,13 @@ func Noise(scratch, x []float64) (float64, []float64) {
 		s += v
 	}
 	sig := s / float64(k) / noiseUnit
+	// the check for whole-multiple steps is skipped where q/√12 could not
+	// add more than 3 % in quadrature
+	quantised := !math.IsInf(q, 1) && q/math.Sqrt(12) >= sig/4
+	for i := 1; i < n && quantised; i++ {
+		r := math.Abs(x[i]-x[i-1]) / q
+		quantised = math.Abs(r-math.Round(r)) < 1e-6*max(1, r)
+	}
 	if quantised {
 		sig = math.Hypot(sig, q/math.Sqrt(12))
 	}
