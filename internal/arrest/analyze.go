@@ -97,7 +97,7 @@ const (
 //     every window is set in seconds from it (2 Hz to 200 Hz);
 //     single-sample spikes are replaced by a neighbour's reading
 //     (curve.SpikeAt, threshold max(SpikeMinC, 6σ) plus the local slope);
-//   - σ, the noise, is the median of curve.Noise over 2 s blocks (not those
+//   - σ, the noise, is the median of curve.NoiseFast over 2 s blocks (not those
 //     spanning the pour), using only blocks already complete at each
 //     reading, so every decision depends on the data up to a fixed distance
 //     after it and never on later data;
@@ -186,7 +186,6 @@ type Analyzer struct {
 	sigByCount      []float64 // median σ of the first k blocks
 	validByCount    []int     // valid block estimates among the first k blocks
 	sorted          []float64 // work space for the median
-	scratch         []float64
 	xmax            float64
 	xmaxI, pourConf int
 	pourBelow       int // consecutive readings below the peak by the pour drop
@@ -275,7 +274,7 @@ func (a *Analyzer) reset(opt Options, n int) {
 	*a = Analyzer{
 		opt: opt, h: FamilyHints(opt.Family), reserve: a.reserve,
 		tsBuf: a.tsBuf[:0], rawBuf: a.rawBuf[:0], dl: a.dl[:0], x: a.x[:0], d: a.d[:0],
-		blockSig: a.blockSig[:0], sigByCount: append(a.sigByCount[:0], 0), sorted: a.sorted[:0], scratch: a.scratch,
+		blockSig: a.blockSig[:0], sigByCount: append(a.sigByCount[:0], 0), sorted: a.sorted[:0],
 		validByCount: append(a.validByCount[:0], 0),
 		ready:        true, probs: nil, probAt: a.probAt[:0], spikes: a.spikes[:0], end: math.MaxInt, limit: math.MaxInt, xmax: math.Inf(-1), pourConf: -1, // probs never reused: earlier Results share it
 	}
@@ -399,7 +398,7 @@ func (a *Analyzer) noiseBlocks() {
 			lo, top = min(lo, v), max(top, v)
 		}
 		if top-lo <= blockRangeC {
-			sig, a.scratch = curve.Noise(a.scratch, blk)
+			sig = curve.NoiseFast(blk)
 			pos, _ := slices.BinarySearch(a.sorted, sig)
 			a.sorted = slices.Insert(a.sorted, pos, sig)
 		}

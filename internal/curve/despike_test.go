@@ -63,3 +63,32 @@ func TestNoiseEstimate(t *testing.T) {
 		t.Errorf("flat line: noise %g", got)
 	}
 }
+
+// NoiseFast recovers white noise on a smooth constructed curve within 5 % as
+// the median of 50-reading blocks and within 15 % over 200 readings holding
+// a 30 °C spike; quantisation noise, q/√12 (uniform distribution), within
+// 30 % (it may count part of it twice, which errs on the safe side).
+func TestNoiseFast(t *testing.T) {
+	for _, sd := range []float64{0.05, 0.3, 1} {
+		x := constructedCurve(3000, 10, sd, 12)
+		x[1234] += 30
+		var est []float64
+		for b := 0; b+50 <= len(x); b += 50 {
+			est = append(est, NoiseFast(x[b:b+50]))
+		}
+		slices.Sort(est)
+		if got := est[len(est)/2]; math.Abs(got-sd) > 0.05*sd {
+			t.Errorf("noise %g: median block estimate %g", sd, got)
+		}
+		if got := NoiseFast(x[1150:1350]); math.Abs(got-sd) > 0.15*sd {
+			t.Errorf("noise %g: block with the spike %g", sd, got)
+		}
+	}
+	x := constructedCurve(3000, 10, 0.01, 13)
+	for i := range x {
+		x[i] = math.Round(x[i]*4) / 4 // 0.25 °C steps
+	}
+	if got, want := NoiseFast(x), 0.25/math.Sqrt(12); math.Abs(got-want) > 0.3*want {
+		t.Errorf("quantised to 0.25: %g, want about %g", got, want)
+	}
+}
