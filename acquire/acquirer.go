@@ -14,6 +14,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/thermocouple"
 )
 
@@ -69,9 +70,10 @@ type Config struct {
 	// Finished decides that freezing has ended, from the valid readings of
 	// the sample so far (t in s from the start of the file, temp in °C). It
 	// is asked about once every FinishCheckS of sample time. The default
-	// is arrest.Analyze(t, temp, {Family}).Complete.
+	// is arrest.Analyze(t, temp, {Family}).Complete, with the family of the
+	// sample's alloy (form data "alloy", limits.Family) where it has one.
 	Finished      func(t, temp []float64) bool
-	Family        arrest.Family // for the default Finished
+	Family        arrest.Family // for the default Finished when the sample names no alloy
 	FinishCheckS  float64       // s, default 1
 	FreezeMarginS float64       // s recorded after Finished, default 15
 	MaxS          float64       // s, time limit of a sample, default 600
@@ -115,14 +117,23 @@ func (c Config) withDefaults() Config {
 	if c.Now == nil {
 		c.Now = time.Now
 	}
-	if c.Finished == nil {
-		var an arrest.Analyzer
-		fam := c.Family
-		c.Finished = func(t, temp []float64) bool {
-			return an.Analyze(t, temp, arrest.Options{Family: fam}).Complete
-		}
-	}
 	return c
+}
+
+// finishedFor is the end-of-freezing rule of a sample of the alloy named
+// ("" = unknown).
+func (c *Config) finishedFor(alloy string) func(t, temp []float64) bool {
+	if c.Finished != nil {
+		return c.Finished
+	}
+	fam := c.Family
+	if alloy != "" {
+		fam = limits.Family(alloy)
+	}
+	var an arrest.Analyzer
+	return func(t, temp []float64) bool {
+		return an.Analyze(t, temp, arrest.Options{Family: fam}).Complete
+	}
 }
 
 // Acquirer reads one port, parses the line protocol, runs the sample
@@ -546,7 +557,7 @@ func (a *Acquirer) line(it *item) error {
 	}
 	a.st.Lines++
 	r := a.reading(&l, it.at)
-	return a.accept(r)
+	return a.accept(r, it.at)
 }
 
 // garbage counts a bad line and tells the operator about the first one and
@@ -671,7 +682,7 @@ func (a *Acquirer) reading(l *Line, at time.Time) Reading {
 }
 
 // accept passes a reading on and through its channel's lifecycle.
-func (a *Acquirer) accept(r Reading) error {
+func (a *Acquirer) accept(r Reading, at time.Time) error {
 	if r.Flags&(FlagOpen|FlagFault) != 0 {
 		a.st.Faults++
 	}
@@ -686,7 +697,7 @@ func (a *Acquirer) accept(r Reading) error {
 	if c == nil {
 		return nil
 	}
-	return c.add(a, r)
+	return c.add(a, r, at)
 }
 
 // channel returns the lifecycle of channel id, creating it on first use;
@@ -720,7 +731,7 @@ func (a *Acquirer) control(c control) error {
 			return nil
 		}
 		if ch.state == StateWaiting || ch.state == StateDone {
-			return ch.start(a, "started by hand", a.tb.last)
+			return ch.start(a, "started by hand", a.tb.last, a.cfg.Now())
 		}
 	case opStop:
 		if ch, ok := a.chans[c.ch]; ok && (ch.state == StateRecording || ch.state == StateFrozen) {

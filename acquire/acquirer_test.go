@@ -333,7 +333,7 @@ func TestTimeLimits(t *testing.T) {
 		if w := col.has(EventWarning, ""); w == nil || !strings.Contains(w.Text, "no data") {
 			t.Fatalf("no silence warning: %v", col.eventTexts())
 		}
-		if c := readRows(t, e.Path); c.meta["started"] != "2026-03-02T06:29:59.500Z" || len(c.rows) != 2 {
+		if c := readRows(t, e.Path); c.meta["started"] != "2026-03-02T06:30:00.000Z" || len(c.rows) != 2 {
 			t.Fatalf("file %+v", c)
 		}
 	})
@@ -429,5 +429,40 @@ func TestSimulatedCupDefaultFinished(t *testing.T) {
 	checkRowsMatch(t, c, sent, first)
 	if got := c.float(t, len(c.rows)-1, "time_s") + st.TimeS - (fr.TimeS - o.Time[0]); got < 15 || got > 15.2 {
 		t.Fatalf("recorded %v s after freezing ended, want the 15 s margin", got)
+	}
+}
+
+// TestSimulatedDeck: the simulated melt deck (internal/sim, a physics model
+// behind the line protocol, with checksums, two stands) run 400 times
+// faster than real time: every line it writes parses (no garbage), and each
+// cup becomes its own sample file carrying the deck's form data.
+func TestSimulatedDeck(t *testing.T) {
+	dir := t.TempDir()
+	port := newPipePort()
+	_, col, _ := startAcq(t, port.open, Config{Dir: dir})
+	w := port.plug()
+	deck := sim.NewDeck(sim.DeckOptions{Seed: 11, Speed: 400, Channels: []string{"1", "tell"}, Checksum: true})
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	go deck.Run(ctx, w)
+	col.until("four samples", 30*time.Second, func() bool { return col.count(EventSampleDone) >= 4 })
+	cancel()
+	if s := col.last; s.Garbage != 0 || s.Lines == 0 {
+		t.Fatalf("status %+v", s)
+	}
+	for _, e := range col.events {
+		if e.Kind != EventSampleDone {
+			continue
+		}
+		c := readRows(t, e.Path)
+		if !strings.HasPrefix(c.meta["sample"], "L-") || c.meta["operator"] == "" || c.meta["alloy"] == "" || c.meta["channel"] != e.Channel {
+			t.Errorf("%s: metadata %v", e.Path, c.meta)
+		}
+		if len(c.rows) < 300 { // 30 s at 10 Hz: the pour and more
+			t.Errorf("%s: only %d rows", e.Path, len(c.rows))
+		}
+		if first := c.float(t, 0, "temp_c"); first > 60 {
+			t.Errorf("%s: starts at %v °C, not near ambient (the tail of the cup before)", e.Path, first)
+		}
 	}
 }

@@ -21,12 +21,14 @@ type channel struct {
 	id    string
 	state State
 	pre   []Reading        // the last PreS seconds while not recording
+	preAt []time.Time      // host arrival times of pre
 	form  []curvefile.Meta // form data for the next sample
 
 	log       *rawLog
 	startT    float64   // acquisition time of the file's first reading
 	startHost time.Time // host time of the same
 	t, temp   []float64 // valid readings of the sample, t from startT
+	finished  func(t, temp []float64) bool
 	nextCheck float64
 	frozenAt  float64
 	gapBefore bool // the port was lost since this channel's last reading
@@ -57,16 +59,17 @@ func (c *channel) rel(t float64) float64 {
 	return math.Round((t-c.startT)*1e6) / 1e6
 }
 
-func (c *channel) add(a *Acquirer, r Reading) error {
+func (c *channel) add(a *Acquirer, r Reading, at time.Time) error {
 	c.gapBefore = false
 	switch c.state {
 	case StateWaiting, StateDone:
-		c.buffer(r, a.cfg.Trigger.PreS)
+		c.buffer(r, at, a.cfg.Trigger.PreS)
 		if a.cfg.Trigger.Manual || (a.cfg.MaxSamples > 0 && a.started >= a.cfg.MaxSamples) {
 			return nil
 		}
 		if why, ok := c.triggered(r, a.cfg.Trigger); ok {
-			return c.start(a, why, r.TimeS)
+			c.trimPre(r.TimeS - a.cfg.Trigger.WithinS)
+			return c.start(a, why, r.TimeS, at)
 		}
 		return nil
 	}
@@ -81,7 +84,7 @@ func (c *channel) add(a *Acquirer, r Reading) error {
 	case StateRecording:
 		if rel >= c.nextCheck && len(c.t) > 0 {
 			c.nextCheck = rel + a.cfg.FinishCheckS
-			if a.cfg.Finished(c.t, c.temp) {
+			if c.finished(c.t, c.temp) {
 				c.state, c.frozenAt = StateFrozen, rel
 				a.event(Event{Kind: EventSampleFrozen, Channel: c.id, TimeS: r.TimeS, Path: c.log.partial,
 					Text: fmt.Sprintf("channel %s: freezing has ended at %.1f s; recording %g s more", c.id, rel, a.cfg.FreezeMarginS)})
@@ -106,14 +109,42 @@ func (c *channel) record(r Reading, rel float64) error {
 	return nil
 }
 
-// buffer keeps r and drops readings older than preS seconds.
-func (c *channel) buffer(r Reading, preS float64) {
+// buffer keeps r (which arrived at host time at) and drops readings older
+// than preS seconds.
+func (c *channel) buffer(r Reading, at time.Time, preS float64) {
 	c.pre = append(c.pre, r)
+	c.preAt = append(c.preAt, at)
 	i := 0
 	for i < len(c.pre) && c.pre[i].TimeS < r.TimeS-preS {
 		i++
 	}
-	c.pre = c.pre[i:]
+	c.pre, c.preAt = c.pre[i:], c.preAt[i:]
+}
+
+// preTrimC: the pre-trigger readings kept are those within this many °C
+// of the coolest reading before the pour, so that the tail of a previous
+// cup (a thermocouple still hot from it) does not start the file.
+const preTrimC = 20
+
+// trimPre drops the pre-trigger readings before the run of readings near
+// the coolest one before riseFrom (the start of the rise window).
+func (c *channel) trimPre(riseFrom float64) {
+	lo, k := math.Inf(1), -1
+	for i, p := range c.pre {
+		if p.TimeS > riseFrom {
+			break
+		}
+		if valid(p) && p.TempC <= lo {
+			lo, k = p.TempC, i
+		}
+	}
+	if k < 0 {
+		return
+	}
+	for k > 0 && (!valid(c.pre[k-1]) || c.pre[k-1].TempC <= lo+preTrimC) {
+		k--
+	}
+	c.pre, c.preAt = c.pre[k:], c.preAt[k:]
 }
 
 // triggered reports whether r completes a pour transient: at least MinC
@@ -134,17 +165,17 @@ func (c *channel) triggered(r Reading, tr Trigger) (string, bool) {
 	return fmt.Sprintf("pour detected: %.0f °C, up %.0f °C in %.1f s", r.TempC, r.TempC-lo, r.TimeS-loT), true
 }
 
-// start opens the sample's raw log with the buffered readings.
-func (c *channel) start(a *Acquirer, why string, at float64) error {
+// start opens the sample's raw log with the buffered readings; at and
+// atHost are the acquisition and host times of the start.
+func (c *channel) start(a *Acquirer, why string, at float64, atHost time.Time) error {
 	if c.state == StateRecording || c.state == StateFrozen {
 		return nil
 	}
-	c.startT = at
+	c.startT, c.startHost = at, atHost
 	if len(c.pre) > 0 {
-		c.startT = c.pre[0].TimeS
+		c.startT, c.startHost = c.pre[0].TimeS, c.preAt[0]
 	}
 	now := a.cfg.Now()
-	c.startHost = now.Add(-time.Duration((at - c.startT) * float64(time.Second)))
 	emf := slices.ContainsFunc(c.pre, func(r Reading) bool { return r.Flags&FlagEMF != 0 })
 	form := c.form
 	c.form = nil
@@ -152,10 +183,12 @@ func (c *channel) start(a *Acquirer, why string, at float64) error {
 	if err != nil {
 		return err
 	}
-	log, err := createLog(path, a.sampleMeta(c, form, why), emf, a.cfg.SyncEvery)
+	meta := a.sampleMeta(c, form, why)
+	log, err := createLog(path, meta, emf, a.cfg.SyncEvery)
 	if err != nil {
 		return err
 	}
+	c.finished = a.cfg.finishedFor(metaValue(meta, "alloy"))
 	c.log, c.state = log, StateRecording
 	c.t, c.temp, c.nextCheck = c.t[:0], c.temp[:0], 0
 	a.started++
@@ -166,7 +199,7 @@ func (c *channel) start(a *Acquirer, why string, at float64) error {
 			return err
 		}
 	}
-	c.pre = c.pre[:0]
+	c.pre, c.preAt = c.pre[:0], c.preAt[:0]
 	return nil
 }
 
