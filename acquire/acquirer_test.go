@@ -3,6 +3,7 @@ package acquire
 import (
 	"context"
 	"errors"
+	"fmt"
 	"io"
 	"math"
 	"os"
@@ -465,4 +466,36 @@ func TestSimulatedDeck(t *testing.T) {
 			t.Errorf("%s: starts at %v °C, not near ambient (the tail of the cup before)", e.Path, first)
 		}
 	}
+}
+
+// BenchmarkAcquirerRecording: lines through the whole acquirer (framing,
+// parsing, lifecycle, one raw-log write per reading, batches) into a
+// recording sample, as fast as a pipe delivers them.
+func BenchmarkAcquirerRecording(b *testing.B) {
+	port := newPipePort()
+	a := New(port.open, Config{Dir: b.TempDir(), Trigger: Trigger{Manual: true}, MaxS: 1e9,
+		Finished: func(_, _ []float64) bool { return false }})
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	go a.Run(ctx)
+	w := port.plug()
+	a.Start("1")
+	var got atomic.Int64
+	go func() {
+		for bt := range a.Batches() {
+			got.Add(int64(len(bt.Readings)))
+		}
+	}()
+	line := []byte("ms=0000000 c=1234.56\n")
+	sent := 0
+	t0 := time.Now()
+	for b.Loop() {
+		copy(line[3:10], fmt.Sprintf("%07d", sent%10000000))
+		w.Write(line)
+		sent++
+	}
+	for got.Load() < int64(sent) { // until every line has left in a batch
+		time.Sleep(time.Millisecond)
+	}
+	b.ReportMetric(float64(sent)/time.Since(t0).Seconds(), "lines/s")
 }
