@@ -5,8 +5,6 @@ import (
 	"errors"
 	"flag"
 	"fmt"
-	"math"
-	"strconv"
 	"time"
 
 	"github.com/undercool-foundry/undercool/acquire"
@@ -31,8 +29,8 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	port := fs.String("port", "", "serial port of the amplifier (required): "+portNameHelp())
 	mode := acquire.DefaultPortMode
 	mode.AddFlags(fs)
-	tc := fs.String("tc", "", "thermocouple type for raw EMF readings, B E J K N R S T (default: what the device announces, else K)")
-	cj := fs.String("cj", "", "cold-junction temperature in °C for EMF readings that carry no cj=")
+	var cfg acquire.Config
+	cfg.AddEMFFlags(fs)
 	out := fs.String("out", "", "curve file to write, NAME.csv; it must not exist (default: a new name in --dir)")
 	dir := fs.String("dir", ".", "directory for the curve file when --out is not given")
 	channel := fs.String("channel", "", "record this channel id only (default: the first channel poured)")
@@ -71,17 +69,8 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	if *waitS < 0 {
 		*waitS = *maxS
 	}
-	cfg := acquire.Config{
-		Port: *port, Thermocouple: *tc, OutPath: *out, Dir: *dir, MaxSamples: 1, MaxS: *maxS,
-		Trigger: acquire.Trigger{RiseC: *rise, WithinS: *within, MinC: *minC, Manual: *start},
-	}
-	if *cj != "" {
-		v, err := strconv.ParseFloat(*cj, 64)
-		if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
-			return fmt.Errorf("--cj %q: not a temperature in °C", *cj)
-		}
-		cfg.ColdJunctionC, cfg.ColdJunctionSet = v, true
-	}
+	cfg.Port, cfg.OutPath, cfg.Dir, cfg.MaxSamples, cfg.MaxS = *port, *out, *dir, 1, *maxS
+	cfg.Trigger = acquire.Trigger{RiseC: *rise, WithinS: *within, MinC: *minC, Manual: *start}
 	if *channel != "" {
 		cfg.Channels = []string{*channel}
 	}

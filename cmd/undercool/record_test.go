@@ -173,7 +173,7 @@ func TestRecordUsage(t *testing.T) {
 		{[]string{"record", "--port", "/dev/null", "--baud", "7"}, 1, "baud rate 7"},
 		{[]string{"record", "--port", "/dev/null", "--out", filepath.Join(dir, "cup.txt")}, 1, "must end in .csv"},
 		{[]string{"record", "--port", "/dev/null", "--tc", "Q"}, 1, "unknown type"},
-		{[]string{"record", "--port", "/dev/null", "--cj", "warm"}, 1, "--cj"},
+		{[]string{"record", "--port", "/dev/null", "--cj", "warm"}, 2, "cold-junction temperature"},
 		{[]string{"record", "--port", filepath.Join(dir, "ttyNONE"), "--dir", dir, "--wait-s", "0.3"}, 1, "no such port"},
 	} {
 		code, _, stderr := acqRun(t, context.Background(), tt.args...)
