@@ -11,9 +11,10 @@ import "math"
 // √6·√(2/π)·(1 − exp(−q²/2))/0.5 with q = 0.67449 the median of |N(0,1)|.
 // Quantisation adds noise of q/√12 for a step q (the uniform distribution),
 // which the trimmed mean under-reads; it is added in quadrature, with q the
-// smallest non-zero change between consecutive readings, when every change
-// is a whole multiple of it (to 1e-6 of q: the mark of quantisation; the
-// changes of an unquantised curve are not).
+// smallest non-zero change between consecutive readings, when the first 16
+// changes are whole multiples of it (to 1e-6 of q: the mark of
+// quantisation; the changes of an unquantised curve are not), and only where
+// q/√12 could add more than 3 %.
 
 const noiseTrim = 0.5
 
@@ -52,16 +53,17 @@ func Noise(scratch, x []float64) (float64, []float64) {
 	return withQuantisation(sig, q, x), scratch
 }
 
-// withQuantisation adds q/√12 in quadrature to the estimate sig when every
-// change between consecutive readings of x is a whole multiple of q (the
-// smallest non-zero change). The check is skipped where q/√12 could not add
+// withQuantisation adds q/√12 in quadrature to the estimate sig when the
+// changes between consecutive readings of x (the first 16) are whole
+// multiples of q, the smallest non-zero change. The check is skipped where q/√12 could not add
 // more than 3 %.
 func withQuantisation(sig, q float64, x []float64) float64 {
 	if math.IsInf(q, 1) || q/math.Sqrt(12) < sig/4 {
 		return sig
 	}
-	for i := 1; i < len(x); i++ {
-		r := math.Abs(x[i]-x[i-1]) / q
+	inv := 1 / q
+	for i := 1; i < min(len(x), 17); i++ { // 16 steps tell a quantised logger
+		r := math.Abs(x[i]-x[i-1]) * inv
 		if math.Abs(r-math.Round(r)) >= 1e-6*max(1, r) {
 			return sig
 		}
