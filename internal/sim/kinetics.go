@@ -2,6 +2,8 @@ package sim
 
 import (
 	"math"
+
+	"github.com/undercool-foundry/undercool/internal/metal"
 )
 
 // Material properties (field notes §6 and §4, memory unless marked).
@@ -117,8 +119,16 @@ func (p Params) withDefaults() Params {
 			p.C = d.C
 		}
 	}
-	if p.Alloy == AlSi7Mg && p.Si == 0 {
-		p.Si = d.Si
+	if p.Alloy == AlSi7Mg {
+		if p.Si == 0 {
+			p.Si = d.Si
+		}
+		if p.Mg == 0 {
+			p.Mg = alSi7MgMg
+		}
+		if p.Fe == 0 {
+			p.Fe = alSi7MgFe
+		}
 	}
 	if isIron(p.Alloy) && p.Si == 0 {
 		p.Si = d.Si
@@ -176,7 +186,7 @@ func (p Params) model() cup {
 		m.lineTm, m.lineSlope = alSiLiquidusIntercept, alSiLiquidusSlope
 		m.c0, m.partition = p.Si, alSiPartition
 		m.primaryLaw = mix(alphaPoor, alphaGood, inoc)
-		m.eutectic = AlSiEutecticC - ModificationMaxC*p.Modification
+		m.eutectic = AlSiUnmodifiedEutecticC(p.Si, p.Mg, p.Fe) - ModificationMaxC*p.Modification
 		m.eutecticLaw = mix(alSiUnmod, alSiMod, p.Modification)
 	case PureAl:
 		mat = pureAlMat
@@ -202,4 +212,19 @@ func (p Params) model() cup {
 	m.kSolid = 2 * math.Pi * mat.k * d / math.Ln2
 	m.kLiquid = 10 * m.kSolid
 	return m
+}
+
+// Nominal Mg and Fe of an Al-Si7Mg (A356-type) melt, wt % (practice).
+const (
+	alSi7MgMg = 0.35
+	alSi7MgFe = 0.12
+)
+
+// AlSiUnmodifiedEutecticC is the unmodified Al-Si eutectic growth reference of
+// an alloy with the given Si, Mg and Fe (wt %): the binary 577 °C (Murray &
+// McAlister 1984) lowered by the other elements, with the same
+// composition correction the analysis uses (metal.DefaultAlSi, memory), so
+// a simulated cup and its assessment share one reference temperature.
+func AlSiUnmodifiedEutecticC(si, mg, fe float64) float64 {
+	return metal.DefaultAlSi().Eutectic(map[string]float64{"si": si, "mg": mg, "fe": fe})
 }

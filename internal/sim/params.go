@@ -58,8 +58,9 @@ type Params struct {
 
 	// Chemistry, wt %. Iron: C, Si, P; when C is 0 and CE is set, C is
 	// derived from CE = C + (Si + P)/3 (Stefanescu 2021, field notes §2).
-	// Al-Si7Mg: Si (7 by default).
+	// Al-Si7Mg: Si (7 by default), Mg (0.35) and Fe (0.12).
 	C, Si, P float64
+	Mg, Fe   float64
 	CE       float64
 
 	PourC     float64 // melt temperature in the full cup, °C

@@ -182,6 +182,8 @@ func (p Params) meta() []curvefile.Meta {
 	}
 	if p.Alloy == AlSi7Mg {
 		add("sim_si_pct", g(p.Si))
+		add("sim_mg_pct", g(p.Mg))
+		add("sim_fe_pct", g(p.Fe))
 		add("sim_modification", g(p.Modification))
 	}
 	add("sim_inoculation", g(p.Inoculation))
