@@ -186,6 +186,7 @@ type Analyzer struct {
 	sigByCount      []float64 // median σ of the first k blocks
 	validByCount    []int     // valid block estimates among the first k blocks
 	sorted          []float64 // work space for the median
+	scratch         []float64 // work space for the noise estimate
 	xmax            float64
 	xmaxI, pourConf int
 	pourBelow       int // consecutive readings below the peak by the pour drop
@@ -274,7 +275,7 @@ func (a *Analyzer) reset(opt Options, n int) {
 	*a = Analyzer{
 		opt: opt, h: FamilyHints(opt.Family), reserve: a.reserve,
 		tsBuf: a.tsBuf[:0], rawBuf: a.rawBuf[:0], dl: a.dl[:0], x: a.x[:0], d: a.d[:0],
-		blockSig: a.blockSig[:0], sigByCount: append(a.sigByCount[:0], 0), sorted: a.sorted[:0],
+		blockSig: a.blockSig[:0], sigByCount: append(a.sigByCount[:0], 0), sorted: a.sorted[:0], scratch: a.scratch,
 		validByCount: append(a.validByCount[:0], 0),
 		ready:        true, probs: nil, probAt: a.probAt[:0], spikes: a.spikes[:0], end: math.MaxInt, limit: math.MaxInt, xmax: math.Inf(-1), pourConf: -1, // probs never reused: earlier Results share it
 	}
@@ -398,7 +399,7 @@ func (a *Analyzer) noiseBlocks() {
 			lo, top = min(lo, v), max(top, v)
 		}
 		if top-lo <= blockRangeC {
-			sig = curve.NoiseFast(blk)
+			sig, a.scratch = curve.NoiseFast(a.scratch, blk)
 			pos, _ := slices.BinarySearch(a.sorted, sig)
 			a.sorted = slices.Insert(a.sorted, pos, sig)
 		}

@@ -77,16 +77,23 @@ func withQuantisation(sig, q float64, x []float64) float64 {
 // times √(π/2)/√6, the ratio of σ to the mean absolute value of N(0, 6σ²);
 // quantisation as for Noise. The clipping removes a spike's few values but
 // not a broad disturbance (the pour, a sharp bend): combine block estimates
-// by a median. 0 for fewer than 3 samples.
-func NoiseFast(x []float64) float64 {
+// by a median. 0 for fewer than 3 samples. scratch is work space (nil
+// allocates); the possibly grown scratch is returned for reuse.
+func NoiseFast(scratch, x []float64) (float64, []float64) {
 	n := len(x) - 2
 	if n < 1 {
-		return 0
+		return 0, scratch
 	}
+	if cap(scratch) < n {
+		scratch = make([]float64, n)
+	}
+	e := scratch[:n]
 	s := 0.0
 	q := math.Inf(1)
 	for i := 1; i <= n; i++ {
-		s += math.Abs(x[i+1] - 2*x[i] + x[i-1])
+		v := math.Abs(x[i+1] - 2*x[i] + x[i-1])
+		e[i-1] = v
+		s += v
 		if st := math.Abs(x[i] - x[i-1]); st > 0 && st < q {
 			q = st
 		}
@@ -96,9 +103,9 @@ func NoiseFast(x []float64) float64 {
 	}
 	cut := 4 * s / float64(n)
 	s2, k := 0.0, 0
-	for i := 1; i <= n; i++ {
-		if e := math.Abs(x[i+1] - 2*x[i] + x[i-1]); e <= cut {
-			s2 += e
+	for _, v := range e {
+		if v <= cut {
+			s2 += v
 			k++
 		}
 	}
@@ -106,7 +113,7 @@ func NoiseFast(x []float64) float64 {
 	if k > 0 {
 		sig = s2 / float64(k) * math.Sqrt(math.Pi/2) / math.Sqrt(6)
 	}
-	return withQuantisation(sig, q, x)
+	return withQuantisation(sig, q, x), scratch
 }
 
 // selectSmallest reorders v so that its k smallest values come first
