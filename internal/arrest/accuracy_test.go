@@ -148,3 +148,24 @@ func TestAccuracyNoisy(t *testing.T) {
 	}
 	acc.log(t, fmt.Sprintf("%d constructed noisy curves (noise ≤ 0.3 °C, spikes 1/500 of 10–40 °C, 0.25 °C steps, 4–50 Hz); %d spikes removed", cases, despiked))
 }
+
+// The same logging faults at the ends of the supported rate range, 2, 100
+// and 200 Hz (noise 0.2 °C, spikes, 0.25 °C steps), 90 seeded constructed
+// cases, the same tolerances.
+func TestAccuracyNoisyRateExtremes(t *testing.T) {
+	acc := newAccuracy("liquidus_min", 1.5, "liquidus", 1.5, "eutectic_min", 0.5, "eutectic_max", 0.5, "recalescence", 0.5, "solidus", 4.0)
+	sh := shapes()
+	for _, rate := range []float64{2, 100, 200} {
+		for c := range 30 {
+			s := sh[c%len(sh)]
+			tt, v := s.sample(sampling{rate: rate, phase: 0.3, noise: 0.2, spikeP: 1.0 / 500, spikeLo: 10, spikeHi: 40, quant: 0.25, seed: uint64(500 + c)})
+			got := Analyze(tt, v, Options{Family: s.family})
+			label := fmt.Sprintf("%s at %g Hz, seed %d", s.name, rate, 500+c)
+			if !got.Complete || got.Invalid() {
+				t.Errorf("%s: complete %v, problems %v", label, got.Complete, got.Problems)
+			}
+			acc.check(t, label, got, s.truth())
+		}
+	}
+	acc.log(t, "90 constructed noisy curves at 2, 100 and 200 Hz")
+}
