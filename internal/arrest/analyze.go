@@ -464,33 +464,45 @@ func (a *Analyzer) filter() {
 	raw := a.raw[:n]
 	x := a.x // locals in the hot loops: no write barrier per reading
 	pourRun := max(3, int(math.Round(0.5*a.rate)))
-	for i := len(x); i+2 < n && n >= 5; i++ {
+	for i := len(x); i+2 < n && n >= 5; {
+		// a run of readings that share one noise estimate
 		sig := a.sigmaAt(&a.curF, i)
-		v, spike := curve.SpikeAt(raw, i, SpikeMinC, sig)
-		if spike {
-			a.spikes = append(a.spikes, i)
+		end := min(n-2, (i/a.block+1)*a.block)
+		if a.curF.hi == a.curF.lo { // estimate not final beyond i: one reading
+			end = i + 1
 		}
-		// pour confirmation and the sustained-step fault, both on the despiked reading
-		if a.pourConf < 0 {
-			if v > a.xmax {
-				a.xmax, a.xmaxI = v, i
+		x, a.spikes = curve.DespikeRun(x, a.spikes, raw, i, end, SpikeMinC, sig)
+		// pour confirmation and the sustained-step fault, both on the despiked readings
+		for k := i; k < end; k++ {
+			v := x[k]
+			if a.pourConf < 0 {
+				if v > a.xmax {
+					a.xmax, a.xmaxI = v, k
+				}
+				if a.xmax >= a.h.MinPourC && v <= a.xmax-max(pourDropC, 10*sig) {
+					a.pourBelow++
+				} else {
+					a.pourBelow = 0
+				}
+				// the fall must last half a second (at least 3 readings): a
+				// spike on the steep rise is no peak
+				if a.pourBelow >= pourRun {
+					a.pourConf = k
+				}
+			} else if k > 0 && math.Abs(v-x[k-1]) > StepFaultC {
+				a.stop(k, len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: the reading jumped from %.1f to %.1f °C at %.1f s and stayed; the curve after it was not analysed", x[k-1], v, a.ts[k]))
+				a.end = k
+				x = x[:k]
+				for len(a.spikes) > 0 && a.spikes[len(a.spikes)-1] >= k {
+					a.spikes = a.spikes[:len(a.spikes)-1]
+				}
+				break
 			}
-			if a.xmax >= a.h.MinPourC && v <= a.xmax-max(pourDropC, 10*sig) {
-				a.pourBelow++
-			} else {
-				a.pourBelow = 0
-			}
-			// the fall must last half a second (at least 3 readings): a
-			// spike on the steep rise is no peak
-			if a.pourBelow >= pourRun {
-				a.pourConf = i
-			}
-		} else if i > 0 && math.Abs(v-x[i-1]) > StepFaultC {
-			a.stop(i, len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: the reading jumped from %.1f to %.1f °C at %.1f s and stayed; the curve after it was not analysed", x[i-1], v, a.ts[i]))
-			a.end = i
+		}
+		if a.stopped && a.end <= end {
 			break
 		}
-		x = append(x, v)
+		i = end
 	}
 	a.x = x
 	hs, hd := a.ws/2, a.wd/2

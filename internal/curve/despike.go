@@ -45,6 +45,21 @@ func SpikeAt(x []float64, i int, minC, noise float64) (float64, bool) {
 	return v, false
 }
 
+// DespikeRun applies the spike test to samples from … to−1 of x, all with
+// the same noise estimate, appending the values to dst and the indices of
+// the spikes to spikes; it returns both. It is SpikeAt in a loop, for
+// callers that despike a growing curve piece by piece.
+func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, noise float64) ([]float64, []int) {
+	for i := from; i < to; i++ {
+		v, spike := SpikeAt(x, i, minC, noise)
+		if spike {
+			spikes = append(spikes, i)
+		}
+		dst = append(dst, v)
+	}
+	return dst, spikes
+}
+
 // Despike writes x with single-sample spikes replaced (see SpikeAt) into dst
 // and returns it with the number of samples replaced. A nil dst allocates;
 // dst may not alias x. Fewer than five samples are copied unchanged.
