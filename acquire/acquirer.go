@@ -78,7 +78,7 @@ type Config struct {
 	FreezeMarginS float64       // s recorded after Finished, default 15
 	MaxS          float64       // s, time limit of a sample, default 600
 
-	BatchEvery   time.Duration // default 33 ms
+	BatchEvery   time.Duration // shortest time between batches, default 2 ms (the dashboard merges batches into at most 30 redraws a second)
 	ReconnectMin time.Duration // first reconnection delay, default 100 ms, doubling
 	ReconnectMax time.Duration // longest reconnection delay, default 2 s
 	SyncEvery    time.Duration // fsync of the curve files, default 500 ms (at most 1 s)
@@ -108,7 +108,7 @@ func (c Config) withDefaults() Config {
 	def(&c.FinishCheckS, 1)
 	def(&c.FreezeMarginS, 15)
 	def(&c.MaxS, 600)
-	defDur(&c.BatchEvery, 33*time.Millisecond)
+	defDur(&c.BatchEvery, 2*time.Millisecond)
 	defDur(&c.ReconnectMin, 100*time.Millisecond)
 	defDur(&c.ReconnectMax, 2*time.Second)
 	defDur(&c.SyncEvery, 500*time.Millisecond)

@@ -10,6 +10,8 @@
 package tui
 
 import (
+	"time"
+
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 
 	tea "github.com/charmbracelet/bubbletea"
@@ -42,8 +44,17 @@ type batchMsg struct{ b Batch }
 // feedClosedMsg says the source's channel was closed.
 type feedClosedMsg struct{}
 
+// frameEvery is the shortest time between two deliveries of readings to
+// the model, so the screen is redrawn at most 30 times a second however
+// fast the acquirer hands readings over (it delivers within a few
+// milliseconds of a line's arrival).
+const frameEvery = 33 * time.Millisecond
+
 // waitBatch returns the command that waits for the next batch. The model
-// re-arms it after every batchMsg.
+// re-arms it after every batchMsg. Batches that arrive within frameEvery of
+// the first are merged into one message (readings and events in order, the
+// latest status), so nothing is dropped and the view redraws once per
+// merged batch.
 func waitBatch(ch <-chan Batch) tea.Cmd {
 	if ch == nil {
 		return nil
@@ -53,6 +64,28 @@ func waitBatch(ch <-chan Batch) tea.Cmd {
 		if !ok {
 			return feedClosedMsg{}
 		}
-		return batchMsg{b}
+		deadline := time.NewTimer(frameEvery)
+		defer deadline.Stop()
+		for {
+			select {
+			case more, ok := <-ch:
+				if !ok {
+					// Deliver what came; the next wait reports the close.
+					return batchMsg{b}
+				}
+				b = mergeBatch(b, more)
+			case <-deadline.C:
+				return batchMsg{b}
+			}
+		}
 	}
+}
+
+// mergeBatch appends next to b: readings and events in order, the newer
+// status.
+func mergeBatch(b, next Batch) Batch {
+	b.Readings = append(b.Readings, next.Readings...)
+	b.Events = append(b.Events, next.Events...)
+	b.Status = next.Status
+	return b
 }
