@@ -311,7 +311,22 @@ func (a *Analyzer) ingest(t, temp []float64) {
 	}
 	goodT, lastGoodT := a.goodT, a.lastGoodT
 	taking := !a.stopped && a.det.stage != stageDone
-	for i := a.nIn; i < len(t); i++ {
+	i0 := a.nIn
+	if taking && !a.own && len(ts) == i0 {
+		// Fast path while nothing is dropped: check, and take a view once.
+		k := i0
+		for ; k < len(t); k++ {
+			ti, v := t[k], temp[k]
+			if !(ti > lastGoodT || goodT == 0 && ti == ti) || !(v <= MaxValidC && v >= MinValidC) { // NaN fails both
+				break
+			}
+			goodT++
+			lastGoodT = ti
+		}
+		ts, raw = t[:k], temp[:k]
+		i0 = k
+	}
+	for i := i0; i < len(t); i++ {
 		ti, v := t[i], temp[i]
 		if math.IsNaN(ti) || goodT > 0 && !(ti > lastGoodT) {
 			a.badTime++

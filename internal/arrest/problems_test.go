@@ -153,3 +153,13 @@ func TestProblems(t *testing.T) {
 		}
 	})
 }
+
+// A NaN time on the very first reading is dropped like any other.
+func TestFirstTimeNaN(t *testing.T) {
+	tt, v := shapes()[0].sample(sampling{rate: 10, noise: 0.1, seed: 4})
+	tt[0] = math.NaN()
+	r := Analyze(tt, v, Options{})
+	if !slices.Equal(codes(r), []string{CodeTimeOrder}) || r.Samples != len(tt)-1 || !r.Solidus.OK {
+		t.Fatalf("problems %v, samples %d", r.Problems, r.Samples)
+	}
+}
