@@ -408,13 +408,11 @@ func (a *Analyzer) noiseBlocks() {
 			return
 		}
 		blk := a.raw[b*a.block : hi]
+		est, span, scratch := curve.NoiseFastSpan(a.scratch, blk)
+		a.scratch = scratch
 		sig := math.NaN() // a block spanning the pour says nothing about noise
-		lo, top := blk[0], blk[0]
-		for _, v := range blk {
-			lo, top = min(lo, v), max(top, v)
-		}
-		if top-lo <= blockRangeC {
-			sig, a.scratch = curve.NoiseFast(a.scratch, blk)
+		if span <= blockRangeC {
+			sig = est
 			pos, _ := slices.BinarySearch(a.sorted, sig)
 			a.sorted = slices.Insert(a.sorted, pos, sig)
 		}

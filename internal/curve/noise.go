@@ -11,7 +11,7 @@ import "math"
 // √6·√(2/π)·(1 − exp(−q²/2))/0.5 with q = 0.67449 the median of |N(0,1)|.
 // Quantisation adds noise of q/√12 for a step q (the uniform distribution),
 // which the trimmed mean under-reads; it is added in quadrature, with q the
-// smallest non-zero change between consecutive readings, when the first 16
+// smallest non-zero change between consecutive readings, when the first 8
 // changes are whole multiples of it (to 1e-6 of q: the mark of
 // quantisation; the changes of an unquantised curve are not), and only where
 // q/√12 could add more than 3 %.
@@ -54,7 +54,7 @@ func Noise(scratch, x []float64) (float64, []float64) {
 }
 
 // withQuantisation adds q/√12 in quadrature to the estimate sig when the
-// changes between consecutive readings of x (the first 16) are whole
+// changes between consecutive readings of x (the first 8) are whole
 // multiples of q, the smallest non-zero change. The check is skipped where q/√12 could not add
 // more than 3 %.
 func withQuantisation(sig, q float64, x []float64) float64 {
@@ -62,7 +62,7 @@ func withQuantisation(sig, q float64, x []float64) float64 {
 		return sig
 	}
 	inv := 1 / q
-	for i := 1; i < min(len(x), 17); i++ { // 16 steps tell a quantised logger
+	for i := 1; i < min(len(x), 9); i++ { // 8 steps tell a quantised logger
 		r := math.Abs(x[i]-x[i-1]) * inv
 		if math.Abs(r-math.Round(r)) >= 1e-6*max(1, r) {
 			return sig
@@ -80,10 +80,18 @@ func withQuantisation(sig, q float64, x []float64) float64 {
 // by a median. 0 for fewer than 3 samples. scratch is work space (nil
 // allocates); the possibly grown scratch is returned for reuse.
 func NoiseFast(scratch, x []float64) (float64, []float64) {
+	sig, _, scratch := NoiseFastSpan(scratch, x)
+	return sig, scratch
+}
+
+// NoiseFastSpan is NoiseFast that also returns the span max(x) − min(x),
+// from the same pass.
+func NoiseFastSpan(scratch, x []float64) (sigma, span float64, _ []float64) {
 	n := len(x) - 2
 	if n < 1 {
-		return 0, scratch
+		return 0, 0, scratch
 	}
+	lo, hi := min(x[0], x[n+1]), max(x[0], x[n+1])
 	if cap(scratch) < n {
 		scratch = make([]float64, n)
 	}
@@ -91,6 +99,7 @@ func NoiseFast(scratch, x []float64) (float64, []float64) {
 	s := 0.0
 	q := math.Inf(1)
 	for i := 1; i <= n; i++ {
+		lo, hi = min(lo, x[i]), max(hi, x[i])
 		v := math.Abs(x[i+1] - 2*x[i] + x[i-1])
 		e[i-1] = v
 		s += v
@@ -113,7 +122,7 @@ func NoiseFast(scratch, x []float64) (float64, []float64) {
 	if k > 0 {
 		sig = s2 / float64(k) * math.Sqrt(math.Pi/2) / math.Sqrt(6)
 	}
-	return withQuantisation(sig, q, x), scratch
+	return withQuantisation(sig, q, x), hi - lo, scratch
 }
 
 // selectSmallest reorders v so that its k smallest values come first
