@@ -59,6 +59,8 @@ const (
 	MaxValidC    = 1800 // above: thermocouple fault (open circuit pegs high, no cup gets this hot)
 	MinValidC    = -50  // below: thermocouple fault (reversed or open)
 	SpikeMinC    = 3    // smallest spike removed, °C
+	MinRateHz    = 0.5  // slower logging is taken for a wrong time column
+	MaxRateHz    = 2000 // so is faster
 	StepFaultC   = 30   // a sustained jump of more than this between readings after the pour is a fault, °C
 	NoisyC       = 1.0  // noise above this, °C (robust σ), makes the curve untrustworthy
 	pourDropC    = 3    // the pour peak is settled once the reading is this far below it, °C
@@ -81,6 +83,7 @@ const (
 	CodeTooFew     = "too-few"
 	CodeTimeOrder  = "time-order"
 	CodeNoisy      = "too-noisy"
+	CodeRate       = "odd-rate"
 )
 
 // Analyze finds the characteristic points of the curve temp(t), t in s and
@@ -94,7 +97,8 @@ const (
 //     a jump of more than StepFaultC that outlasts the spike test after the
 //     pour, ends the usable data ("tc-fault"); points settled before stay;
 //   - the sample rate is the median interval of the first 21 readings, and
-//     every window is set in seconds from it (2 Hz to 200 Hz);
+//     every window is set in seconds from it (2 Hz to 200 Hz); a rate outside
+//     MinRateHz … MaxRateHz stops the analysis ("odd-rate");
 //     single-sample spikes are replaced by a neighbour's reading
 //     (curve.SpikeAt, threshold max(SpikeMinC, 6σ) plus the local slope);
 //   - σ, the noise, is the median of curve.NoiseFast over 2 s blocks (not those
@@ -388,6 +392,9 @@ func (a *Analyzer) setRate() {
 	slices.Sort(iv[:])
 	a.dt = iv[len(iv)/2]
 	a.rate = 1 / a.dt
+	if a.rate < MinRateHz || a.rate > MaxRateHz {
+		a.stop(0, 0, CodeRate, fmt.Sprintf("the readings are %.4g s apart (%.4g per second); cup curves are logged at %g to %g readings per second: is the time column in seconds?", a.dt, a.rate, float64(MinRateHz), float64(MaxRateHz)))
+	}
 	h := a.h
 	a.ws = curve.WindowSamples(h.SmoothS, a.rate, 2, 5)
 	a.wd = curve.WindowSamples(h.SlopeS, a.rate, 2, 5)
@@ -984,11 +991,13 @@ func (a *Analyzer) result(live bool) Result {
 	}
 	var end []Problem
 	switch {
+	case a.stopped:
+		// the fault, noise or rate problem already says why
 	case a.rate == 0 || len(a.d) == 0:
 		end = append(end, Problem{Code: CodeTooFew, Message: fmt.Sprintf("too few readings to analyse (%d)", r.Samples), Fatal: true})
 	case !r.PourPeak.OK:
 		end = append(end, Problem{Code: CodeNoPour, Message: fmt.Sprintf("no pour found: the reading never rose to %.0f °C and fell back", a.h.MinPourC), Fatal: true})
-	case !a.stopped:
+	default:
 		end = append(end, Problem{Code: CodeEndedEarly, Message: "the recording ended before the end of freezing", Fatal: true})
 	}
 	if len(end) > 0 {

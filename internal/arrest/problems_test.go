@@ -163,3 +163,16 @@ func TestFirstTimeNaN(t *testing.T) {
 		t.Fatalf("problems %v, samples %d", r.Problems, r.Samples)
 	}
 }
+
+// A time column in milliseconds (readings 100 "s" apart) is an odd rate,
+// named as such, not analysed as a 0.01 Hz curve.
+func TestOddRate(t *testing.T) {
+	tt, v := shapes()[0].sample(sampling{rate: 10, noise: 0.1, seed: 4})
+	for i := range tt {
+		tt[i] *= 1000
+	}
+	r := Analyze(tt, v, Options{})
+	if !slices.Equal(codes(r), []string{CodeRate}) || !r.Invalid() || r.EutecticMin.OK || !r.Complete {
+		t.Fatalf("problems %v, complete %v", r.Problems, r.Complete)
+	}
+}
