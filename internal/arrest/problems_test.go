@@ -176,3 +176,17 @@ func TestOddRate(t *testing.T) {
 		t.Fatalf("problems %v, complete %v", r.Problems, r.Complete)
 	}
 }
+
+// A recording that begins after the pour (already hot, falling) still gives
+// every point; the pour peak is among its first readings.
+func TestStartsHot(t *testing.T) {
+	sh := shapes()[0]
+	tt, v := sh.sample(sampling{rate: 10, noise: 0.1, seed: 8})
+	k, _ := slices.BinarySearch(tt, 2.0) // from 2 s after the peak
+	r := Analyze(tt[k:], v[k:], Options{})
+	want := sh.truth()
+	if len(r.Problems) != 0 || !r.Complete || math.Abs(r.EutecticMin.TempC-want.EutecticMin.TempC) > 0.5 ||
+		math.Abs(r.Liquidus.TempC-want.Liquidus.TempC) > 1.5 || r.PourPeak.TimeS > tt[k]+1 {
+		t.Fatalf("%+v", r)
+	}
+}
