@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"os"
 	"path/filepath"
 	"slices"
 	"sync"
@@ -379,6 +380,22 @@ func (a *Acquirer) setup() error {
 	if a.cfg.OutPath != "" && exists(a.cfg.OutPath) {
 		return fmt.Errorf("acquire: output file %s already exists; not overwritten", a.cfg.OutPath)
 	}
+	return checkDirWritable(a.outDir())
+}
+
+// checkDirWritable makes the curve directory and checks that a file can be
+// created in it, so that a read-only or missing place fails at the start
+// rather than at the pour, when the sample would be lost.
+func checkDirWritable(dir string) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return fmt.Errorf("acquire: curve file directory %s: %w", dir, err)
+	}
+	probe, err := os.CreateTemp(dir, ".undercool-probe-*")
+	if err != nil {
+		return fmt.Errorf("acquire: curve file directory %s cannot be written: %w", dir, err)
+	}
+	probe.Close()
+	os.Remove(probe.Name())
 	return nil
 }
 
