@@ -152,7 +152,9 @@ func Analyze(t, temp []float64, opt Options) Result {
 // that repeated live calls do not allocate and do not redo settled work:
 // each call processes only the readings added since the previous one. It
 // starts afresh when the curve is not the previous one extended (a shorter
-// slice, a changed earlier reading) or the options other than Live change.
+// slice, or a different first, middle or last reading of those it has seen:
+// call Reset for a new curve that might agree in those) or when the options
+// other than Live change. The readings passed must not change afterwards.
 // The zero value is ready to use; it is not safe for concurrent use.
 type Analyzer struct {
 	opt     Options
@@ -177,7 +179,7 @@ type Analyzer struct {
 	tsBuf, rawBuf []float64
 	curF, curD    sigCursor // noise look-ups of the filter and the detector
 	x             []float64 // despiked readings
-	s, d          []float64 // smoothed T (°C) and T' (°C/s)
+	d             []float64 // T' (°C/s); the smoothed T is computed where needed (sm)
 
 	rate, dt        float64
 	ws, wd          int
@@ -212,10 +214,9 @@ type detector struct {
 	cand         int // index after the + → − crossing, −1 none
 	minPt, maxPt Point
 
-	firstI, firstArrestT float64 // first arrest point time
-	haveFirst            bool
-	eutRefD              float64 // T' at the eutectic point
-	eutI                 int
+	haveFirst bool    // the first arrest has been seen (cooling rate set)
+	eutRefD   float64 // T' at the eutectic point
+	eutI      int
 
 	res Result
 }
@@ -720,7 +721,6 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal bool) {
 	r := &e.res
 	if !e.haveFirst {
 		e.haveFirst = true
-		e.firstArrestT = lo.TimeS
 		r.CoolingRateCps = a.coolingRate(e)
 	}
 	if lo.TempC > a.h.EutecticTopC {
