@@ -23,6 +23,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -63,6 +64,9 @@ func open(ctx context.Context, path string, upto int) (*DB, error) {
 		return nil, fmt.Errorf("store: database path %q: '?' and '#' are not allowed in the path", path)
 	}
 	if err := checkWritable(path); err != nil {
+		return nil, err
+	}
+	if err := checkOurs(ctx, path); err != nil {
 		return nil, err
 	}
 	dsn := path + "?_pragma=busy_timeout(" + strconv.Itoa(busyTimeoutMS) + ")" +
@@ -130,6 +134,48 @@ func checkWritable(path string) error {
 	case errors.Is(err, fs.ErrNotExist):
 	default:
 		return fmt.Errorf("store: database %s cannot be opened for writing: %w", path, err)
+	}
+	return nil
+}
+
+// checkOurs refuses an existing SQLite file that holds tables but no
+// schema_version table: another program's database, which migrating would
+// change. It looks through a query-only connection, before the WAL pragma
+// of the real one touches the file. A file another process holds busy is
+// left to the real connection.
+func checkOurs(ctx context.Context, path string) error {
+	if st, err := os.Stat(path); err != nil || st.Size() == 0 {
+		return nil
+	}
+	sdb, err := sql.Open("sqlite", path+"?_pragma=busy_timeout("+strconv.Itoa(busyTimeoutMS)+")&_pragma=query_only(1)")
+	if err != nil {
+		return fmt.Errorf("store: opening database %s: %w", path, err)
+	}
+	defer sdb.Close()
+	var tables []string
+	rows, err := sdb.QueryContext(ctx, `SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite\_%' ESCAPE '\' ORDER BY name`)
+	if err == nil {
+		for rows.Next() {
+			var n string
+			if err = rows.Scan(&n); err != nil {
+				break
+			}
+			tables = append(tables, n)
+		}
+		rows.Close()
+		if err == nil {
+			err = rows.Err()
+		}
+	}
+	var se *sqlite.Error
+	switch {
+	case errors.As(err, &se) && se.Code()&0xff == sqlite3.SQLITE_BUSY:
+		return nil
+	case err != nil:
+		return (&DB{path: path}).fail("opening", err)
+	case len(tables) > 0 && !slices.Contains(tables, "schema_version"):
+		return fmt.Errorf("store: database %s is not an undercool database: it is another program's SQLite file (tables %s); nothing was changed; choose another file with --db or UNDERCOOL_DB",
+			path, strings.Join(tables, ", "))
 	}
 	return nil
 }
