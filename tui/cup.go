@@ -19,9 +19,11 @@ type SampleMeta struct {
 	Sample, Alloy, Operator, Note string
 }
 
-// Analyzer is the analysis of a (growing) curve; arrest.Analyzer's method
-// fits. Tests may give a constructed one.
-type Analyzer func(t, temp []float64, family arrest.Family) arrest.Result
+// Analyzer is the analysis of a (growing) curve; live is true while more
+// readings may follow. Nil uses each cup's own arrest.Analyzer (work space
+// kept per cup, so live calls only process new readings). Tests may give a
+// constructed one.
+type Analyzer func(t, temp []float64, family arrest.Family, live bool) arrest.Result
 
 // Judge turns a finished analysis into its record (assess.FromResult with
 // the alloy's limits).
@@ -52,6 +54,7 @@ type cup struct {
 	hasLast bool
 	recent  []Reading // readings before the start, for the pre-trigger
 
+	ws      arrest.Analyzer // the cup's own analysis work space
 	res     arrest.Result
 	rec     *assess.Record
 	path    string
@@ -91,7 +94,8 @@ func (c *cup) begin(t0 float64) {
 		c.meta, c.next = *c.next, nil
 	}
 	c.t0 = t0
-	c.t, c.v = c.t[:0], c.v[:0]
+	c.t, c.v = c.t[:0], c.v[:0] // the backing arrays are reused: the work space starts afresh
+	c.ws.Reset()
 	c.temp.reset()
 	c.rate.reset()
 	c.sl = slope{w: c.sl.w}
@@ -145,17 +149,23 @@ func (c *cup) append(r Reading) {
 	c.elapsed = ts
 }
 
-// analyse reruns the live analysis on the growing curve.
-func (c *cup) analyse(an Analyzer) {
-	if len(c.t) == 0 || an == nil {
+// analyse reruns the analysis on the curve: live while it may still grow,
+// the offline answer once it has ended.
+func (c *cup) analyse(an Analyzer, live bool) {
+	if len(c.t) == 0 {
 		return
 	}
-	c.res = an(c.t, c.v, familyOf(c.meta.Alloy))
+	fam := familyOf(c.meta.Alloy)
+	if an != nil {
+		c.res = an(c.t, c.v, fam, live)
+		return
+	}
+	c.res = c.ws.Analyze(c.t, c.v, arrest.Options{Family: fam, Live: live})
 }
 
 // finish gives the sample its record.
 func (c *cup) finish(an Analyzer, judge Judge, path string) assess.Record {
-	c.analyse(an)
+	c.analyse(an, false)
 	in := assess.Input{File: path, Alloy: c.meta.Alloy, Family: familyOf(c.meta.Alloy), Time: c.t, Temp: c.v}
 	rec := judge(in, c.res)
 	c.rec, c.path, c.state = &rec, path, StateDone

@@ -84,7 +84,7 @@ func constructedBatchesAt(ch string, t0, seconds, rate float64, per int) []Batch
 // constructedAnalyzer reports the constructed curve's designed points once
 // the curve has grown past them: a screen-test stand-in with known answers
 // (the real detector is tested in internal/arrest).
-func constructedAnalyzer(t, v []float64, _ arrest.Family) arrest.Result {
+func constructedAnalyzer(t, v []float64, _ arrest.Family, _ bool) arrest.Result {
 	end := t[len(t)-1]
 	at := func(s float64) arrest.Point {
 		if end < s+5 {

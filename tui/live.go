@@ -167,7 +167,7 @@ func (p *livePane) batch(b Batch) []Entry {
 		}
 	}
 	for c := range grew {
-		c.analyse(p.an)
+		c.analyse(p.an, true)
 	}
 	return done
 }

@@ -37,7 +37,7 @@ type Options struct {
 	ReadCurve  CurveReader // opens a stored sample's curve file
 	Prefill    SampleMeta  // the form's first values (e.g. the last sample)
 	Styles     *Styles     // nil builds them for lipgloss's default renderer
-	Analyzer   Analyzer    // nil uses arrest.Analyzer
+	Analyzer   Analyzer    // nil: each cup's own arrest.Analyzer
 	Judge      Judge       // nil uses assess.FromResult with Limits
 	Clock      func() time.Time
 	Log        io.Writer // the log file; nil discards
@@ -90,12 +90,6 @@ func New(opt Options) Model {
 	}
 	if opt.Log == nil {
 		opt.Log = io.Discard
-	}
-	if opt.Analyzer == nil {
-		var a arrest.Analyzer
-		opt.Analyzer = func(t, v []float64, f arrest.Family) arrest.Result {
-			return a.Analyze(t, v, arrest.Options{Family: f})
-		}
 	}
 	if opt.Judge == nil {
 		book := opt.Limits

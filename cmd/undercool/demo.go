@@ -1,7 +1,6 @@
 package main
 
 import (
-	"bytes"
 	"context"
 	"errors"
 	"flag"
@@ -9,11 +8,9 @@ import (
 	"io"
 	"os"
 	"path/filepath"
-	"strings"
 	"sync"
 
 	"github.com/undercool-foundry/undercool/acquire"
-	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sim"
 )
@@ -84,7 +81,6 @@ func runDemo(ctx context.Context, env *environ, args []string) error {
 	}
 	deck := sim.NewDeck(opts)
 	pr, pw := io.Pipe()
-	watch := &alloyWatch{r: pr, fam: map[string]arrest.Family{}}
 	var once sync.Once
 	open := func(ctx context.Context) (io.ReadCloser, error) {
 		var rc io.ReadCloser
@@ -92,7 +88,7 @@ func runDemo(ctx context.Context, env *environ, args []string) error {
 			rc = struct {
 				io.Reader
 				io.Closer
-			}{watch, pr}
+			}{pr, pr}
 		})
 		if rc == nil {
 			return nil, errors.New("the simulated deck has stopped")
@@ -102,7 +98,7 @@ func runDemo(ctx context.Context, env *environ, args []string) error {
 	title := fmt.Sprintf("demo · SIMULATED deck · seed %d · %g×", *seed, *speed)
 	return runDashboard(ctx, env, dashboard{
 		dir: dir, limitsPath: limitsPath, title: title,
-		open: acquire.Opener(open), cfg: acquire.Config{Port: "simulated deck", Finished: watch.finished},
+		open: acquire.Opener(open), cfg: acquire.Config{Port: "simulated deck"}, // the end of freezing is judged by each sample's alloy (from the deck's info lines)
 		simulated: true, maxSamples: *samples,
 		feed: func(ctx context.Context) error {
 			err := deck.Run(ctx, pw)
@@ -110,80 +106,4 @@ func runDemo(ctx context.Context, env *environ, args []string) error {
 			return err
 		},
 	})
-}
-
-// alloyWatch reads the simulated deck's line stream on its way to the
-// acquirer and notes each channel's alloy from its device-info lines, so
-// the end of freezing is judged with the right detector family (the deck
-// pours iron, aluminium and pure-metal cups in turn).
-type alloyWatch struct {
-	r    io.Reader
-	mu   sync.Mutex
-	fam  map[string]arrest.Family
-	part []byte
-}
-
-func (w *alloyWatch) Read(p []byte) (int, error) {
-	n, err := w.r.Read(p)
-	w.part = append(w.part, p[:n]...)
-	for {
-		i := bytes.IndexByte(w.part, '\n')
-		if i < 0 {
-			break
-		}
-		w.line(w.part[:i])
-		w.part = w.part[i+1:]
-	}
-	if len(w.part) > 4096 {
-		w.part = w.part[:0]
-	}
-	return n, err
-}
-
-// line takes `! ... alloy=NAME ch=ID ...` (values may be quoted).
-func (w *alloyWatch) line(l []byte) {
-	if len(l) == 0 || l[0] != '!' {
-		return
-	}
-	alloy, ch := "", "1"
-	for _, f := range strings.Fields(string(l[1:])) {
-		k, v, ok := strings.Cut(f, "=")
-		if !ok {
-			continue
-		}
-		v = strings.Trim(v, `"`)
-		switch k {
-		case "alloy":
-			alloy = v
-		case "ch":
-			ch = v
-		}
-	}
-	if alloy == "" {
-		return
-	}
-	w.mu.Lock()
-	w.fam[ch] = limits.Family(alloy)
-	w.mu.Unlock()
-}
-
-// finished is the acquirer's end-of-freezing test: the analysis under the
-// family of the channels' current alloys (with one cup, exactly its own;
-// with two of different families, either).
-func (w *alloyWatch) finished(t, temp []float64) bool {
-	w.mu.Lock()
-	fams := map[arrest.Family]bool{}
-	for _, f := range w.fam {
-		fams[f] = true
-	}
-	w.mu.Unlock()
-	if len(fams) == 0 {
-		fams[arrest.FamilyIron] = true
-	}
-	for f := range fams {
-		if arrest.Analyze(t, temp, arrest.Options{Family: f}).Complete {
-			return true
-		}
-	}
-	return false
 }
