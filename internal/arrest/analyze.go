@@ -71,6 +71,7 @@ const (
 	promShare    = 0.15 // an arrest's prominence is at least this share of the preceding minimum of |T'|
 	longFactor   = 2    // refinement window of a flat eutectic arrest, in SlopeS
 	shortShare   = 0.03 // see solidusPoint
+	negShare     = 0.05 // see longArrest
 	fallShare    = 0.04 // an arrest's fall is at least this share of |T'|min before it
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
 )
@@ -128,9 +129,17 @@ const (
 //   - without recalescence the liquidus is T at the local maximum of T'
 //     (refined to a fraction of a sample) and the eutectic point is T where
 //     the longer-window T' first comes within 2σ of its maximum;
-//   - the first arrest above Hints.EutecticTopC is the liquidus arrest; the
-//     first arrest at or below it is the eutectic (the single plateau of a
-//     pure metal); liquidus is null when no arrest precedes the eutectic;
+//   - the eutectic is the first long arrest at or below Hints.EutecticTopC
+//     (the single plateau of a pure metal); the first arrest before it, above
+//     EutecticTopC or short, is the liquidus arrest, and once a liquidus is
+//     found the next long arrest is the eutectic whatever its temperature.
+//     An arrest is long when T' came within max(P, 0.05·|T'min|) of zero and
+//     stayed above halfway from T'min to min(T'max, 0) for 3·Hints.SlopeS (a
+//     eutectic's large latent heat holds T' near zero for tens of seconds; a
+//     grey-iron liquidus 10–40 °C above the eutectic, inside the hint
+//     window, lasts a few seconds or keeps T' clearly negative). The minimum
+//     of a recalescing arrest is reported as soon as its kind is settled.
+//     Liquidus is null when no arrest precedes the eutectic;
 //   - the end of freezing is T at the most negative T' after the eutectic,
 //     settled when no lower T' has followed for Hints.ConfirmS seconds and
 //     the drop below the plateau's T' is at least P and a third of the
@@ -214,6 +223,8 @@ type detector struct {
 	cand         int // index after the + → − crossing, −1 none
 	minPt, maxPt Point
 
+	riseI     int     // where T' rose halfway into the current recalescing arrest
+	minShown  bool    // the current arrest's minimum has been reported
 	haveFirst bool    // the first arrest has been seen (cooling rate set)
 	eutRefD   float64 // T' at the eutectic point
 	eutI      int
@@ -674,15 +685,9 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 			}
 			e.sub, e.lastAbove, e.cand = subPos, j, -1
 			e.dmax, e.dmaxI = d, j
-			// The minimum is settled now, and so is the arrest's kind, which
-			// depends on it alone: report it before the maximum.
-			r := &e.res
-			switch {
-			case e.minPt.TempC <= a.h.EutecticTopC:
-				r.EutecticMin = e.minPt
-			case !r.Liquidus.OK:
-				r.LiquidusMin = e.minPt
-			}
+			e.riseI = a.riseStart(e.dmin/2, j)
+			e.minShown = false
+			a.showMin(j)
 			return
 		}
 		// the rise into an arrest must also stand out against the cooling
@@ -693,11 +698,14 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 		}
 		if e.sub == subRise && d < e.dmax-max(p, fallShare*math.Abs(e.dmin)) {
 			pt := a.extremum(e.dmaxI)
-			a.arrest(j, pt, pt, false)
+			a.arrest(j, pt, pt, false, p)
 		}
 	case subPos:
 		if d > e.dmax {
 			e.dmax, e.dmaxI = d, j
+		}
+		if !e.minShown {
+			a.showMin(j)
 		}
 		if d > h {
 			e.lastAbove, e.cand = j, -1
@@ -709,21 +717,97 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 		}
 		sdT := a.sigma(j) * a.gainS
 		if e.cand >= 0 && (d < -h || a.sm(j) < e.maxPt.TempC-math.Max(dropFloor, 6*sdT)) {
-			a.arrest(j, e.minPt, e.maxPt, true)
+			a.arrest(j, e.minPt, e.maxPt, true, p)
 		}
 	}
 }
 
+// riseStart is the last index before i where T' was at or below level,
+// going back no further than the minimum before the arrest.
+func (a *Analyzer) riseStart(level float64, i int) int {
+	e := &a.det
+	k := i
+	for k > e.dminI && a.d[k] > level {
+		k--
+	}
+	return k
+}
+
+// primary tells whether an arrest whose minimum is at loC °C is the primary
+// (liquidus) arrest rather than the eutectic; long says it is a long arrest
+// (see longArrest). The family's EutecticTopC is a hint: before a liquidus
+// is found, an arrest at or below it is the eutectic only if it is long, and
+// once a liquidus is known a long arrest is the eutectic at any temperature.
+// A pure metal (EutecticTopC +Inf) has one plateau.
+func (a *Analyzer) primary(loC float64, long bool) bool {
+	above := loC > a.h.EutecticTopC
+	switch {
+	case math.IsInf(a.h.EutecticTopC, 1):
+		return false
+	case a.det.res.Liquidus.OK:
+		return above && !long
+	}
+	return above || !long
+}
+
+// kindKnown tells whether the kind of an arrest with its minimum at loC is
+// settled before its length is known (primary does not depend on long).
+func (a *Analyzer) kindKnown(loC float64) bool {
+	return a.primary(loC, false) == a.primary(loC, true)
+}
+
+// showMin reports the minimum of a recalescing arrest (index j in its
+// positive phase) as soon as its kind is settled: at once when the
+// temperature alone decides, else once T' has been up for shortArrest.
+func (a *Analyzer) showMin(j int) {
+	e := &a.det
+	lo := e.minPt.TempC
+	if !a.kindKnown(lo) && a.ts[j]-a.ts[e.riseI] < a.shortArrest() {
+		return
+	}
+	e.minShown = true
+	r := &e.res
+	switch {
+	case !a.primary(lo, true):
+		r.EutecticMin = e.minPt
+	case !r.Liquidus.OK:
+		r.LiquidusMin = e.minPt
+	}
+}
+
+// shortArrest is the length, s, below which an arrest counts as short:
+// three T' windows. The eutectic's large latent heat holds T' near or above
+// zero for tens of seconds; a primary arrest a few seconds.
+func (a *Analyzer) shortArrest() float64 { return 3 * a.h.SlopeS }
+
+// longArrest tells whether the arrest settled at j is long: from where T'
+// rose halfway into it to j it lasted at least shortArrest, and its T' came
+// within max(p, negShare·|T'min|) of zero (a liquidus arrest whose T' stays
+// clearly negative is short however slowly it passes).
+func (a *Analyzer) longArrest(j int, recal bool, p float64) bool {
+	e := &a.det
+	if recal && e.sub == subPos {
+		return a.ts[j]-a.ts[e.riseI] >= a.shortArrest()
+	}
+	peak := a.d[e.dmaxI]
+	if peak < -max(p, negShare*math.Abs(e.dmin)) {
+		return false
+	}
+	k := a.riseStart((e.dmin+min(peak, 0))/2, e.dmaxI)
+	return a.ts[j]-a.ts[k] >= a.shortArrest()
+}
+
 // arrest classifies a settled arrest (lo, hi: the minimum and maximum points,
-// equal without recalescence) found at index j.
-func (a *Analyzer) arrest(j int, lo, hi Point, recal bool) {
+// equal without recalescence) found at index j; p is the prominence
+// threshold there.
+func (a *Analyzer) arrest(j int, lo, hi Point, recal bool, p float64) {
 	e := &a.det
 	r := &e.res
 	if !e.haveFirst {
 		e.haveFirst = true
 		r.CoolingRateCps = a.coolingRate(e)
 	}
-	if lo.TempC > a.h.EutecticTopC {
+	if a.primary(lo.TempC, a.longArrest(j, recal, p)) {
 		if !r.Liquidus.OK {
 			if !recal {
 				// a slight primary recalescence shows on the longer window
