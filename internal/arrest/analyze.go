@@ -15,8 +15,11 @@ type Options struct {
 
 	// Live says more readings may follow. Problems that only the end of a
 	// recording can establish ("ended-early", "no-pour", "too-few") are then
-	// left out; everything else, the points included, is identical. Call
-	// with Live false once the sample has ended to get the offline answer.
+	// left out; everything else, the points included, is identical, with
+	// one exception the end alone can establish: a eutectic plateau that the
+	// recording's end interrupts is settled only with Live false (see
+	// cutPlateau; after a fault it is settled either way). Call with Live
+	// false once the sample has ended to get the offline answer.
 	Live bool
 
 	// EutecticTopC overrides the family's hint: an arrest above this
@@ -145,6 +148,12 @@ const (
 //     the drop below the plateau's T' is at least P and a third of the
 //     liquid's cooling rate; it is placed on a half-length T' window when
 //     the noise allows (solidusPoint);
+//   - where the usable data end (the recording stops, or a fault) on a long
+//     eutectic plateau before T' has fallen, the eutectic is settled from
+//     the data seen, as if T' fell at the last reading examined; its
+//     maximum needs the + → − crossing where it recalesced, and the end of
+//     freezing stays null ("ended-early" or the fault says why). Points
+//     settled before a fault are kept; a point the fault cuts off is null;
 //   - the plateau lasts from the eutectic minimum until T' has fallen
 //     halfway from its eutectic value to its value at the end of freezing;
 //     the freezing time runs from the first arrest point (liquidus minimum,
@@ -1041,11 +1050,49 @@ func (a *Analyzer) solidus() {
 	a.limit = a.xAvail(e.j) + 2
 }
 
+// cutPlateau settles the eutectic of a plateau that the end of the usable
+// data (the recording's end, or a fault) interrupts before T' fell, and
+// returns the result with it; ok is false when there is none. The plateau
+// must have been seen whole up to its maximum: a long arrest (longArrest)
+// classed as the eutectic, and where it recalesced, T' must have crossed
+// + → − after it was last above +h (the maximum, as in arrestStep). The
+// points are those arrest gives at the last examined index; the end of
+// freezing stays null. The detector's state is left unchanged, so that a
+// live sample that goes on is analysed as before.
+func (a *Analyzer) cutPlateau() (Result, bool) {
+	e := &a.det
+	if e.stage != stageArrest || len(a.d) == 0 || e.j < len(a.d) || !(e.sub == subRise || e.sub == subPos && e.cand >= 0) {
+		return Result{}, false
+	}
+	j := len(a.d) - 1
+	p := max(promFloor, 8*a.sigma(j)*a.gainD)
+	if !a.longArrest(j, e.sub == subPos, p) {
+		return Result{}, false
+	}
+	saved := *e
+	defer func() { a.det = saved }()
+	if e.sub == subRise {
+		pt := a.extremum(e.dmaxI)
+		a.arrest(j, pt, pt, false, p)
+	} else {
+		a.arrest(j, e.minPt, e.maxPt, true, p)
+	}
+	if e.stage != stageSolidus {
+		return Result{}, false
+	}
+	return e.res, true
+}
+
 // result assembles the Result of the current state. Once the analysis is
 // done, findings after the last reading it depended on (a.limit) are left
 // out, so that the answer does not depend on how much more was fed.
 func (a *Analyzer) result(live bool) Result {
 	r := a.det.res
+	if !live || a.stopped {
+		if cut, ok := a.cutPlateau(); ok {
+			r = cut
+		}
+	}
 	r.Samples = a.nIn - a.badTime
 	r.RateHz = a.rate
 	n := len(a.spikes)
