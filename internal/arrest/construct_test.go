@@ -25,6 +25,10 @@ type shape struct {
 	anchorC float64
 	knots   []knot
 	pre     float64 // seconds at room temperature before the pour rise
+	// topC, when set, replaces the family's EutecticTopC in truth: a curve
+	// constructed with its liquidus inside the family's hint window says
+	// by construction which arrest is which.
+	topC float64
 }
 
 func smooth(u float64) float64 { return u * u * (3 - 2*u) }
@@ -100,6 +104,9 @@ func (sh *shape) truth() Result {
 	pt := func(t float64) Point { return Point{TempC: sh.temp(t), TimeS: t, OK: true} }
 	r.PourPeak = pt(0)
 	top := FamilyHints(sh.family).EutecticTopC
+	if sh.topC != 0 {
+		top = sh.topC
+	}
 	k := sh.knots
 	i := 1
 	for ; i < len(k)-1; i++ {
