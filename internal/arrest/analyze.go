@@ -967,8 +967,11 @@ func (a *Analyzer) levelPoint(k int, v0, v1, level float64) Point {
 // the slow side. On a noisy curve the bottom of the dip is the run of
 // samples within 2σ of the minimum, and the point is the middle of that run
 // (between interpolated level crossings), steadier than the lowest sample,
-// which noise moves along the bottom; without noise the run is one sample
-// and the point its parabolic vertex.
+// which noise moves along the bottom; the run counts at most half a window
+// past its first level crossing, since after a sharp end of freezing the
+// slow relaxation can keep T' within 2σ of its minimum for seconds and
+// would pull the point late (and low: by T'·Δt). Without noise the run is
+// one sample and the point its parabolic vertex.
 func (a *Analyzer) solidusPoint(i, j int) Point {
 	w := min(curve.WindowSamples(a.h.SlopeS/2, a.rate, 2, 5), a.wd)
 	if a.sigma(j)*curve.SavGol(w, 2, 1).NoiseGain()/a.dt > shortShare*math.Abs(a.d[i]) {
@@ -1014,6 +1017,9 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 	// fractional indices of the two level crossings
 	fl := float64(l-1) + (level-at(l-1))/(at(l)-at(l-1))
 	fr := float64(r) + (level-at(r))/(at(r+1)-at(r))
+	// the bottom is resolved to half a window after T' first reaches it:
+	// beyond that a long flat run is the slow relaxation, not the dip
+	fr = math.Min(fr, fl+float64(h))
 	mid := (fl + fr) / 2
 	k := int(math.Floor(mid))
 	f := mid - float64(k)
