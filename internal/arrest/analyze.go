@@ -965,13 +965,14 @@ func (a *Analyzer) levelPoint(k int, v0, v1, level float64) Point {
 // shortShare of the depth of the dip: the drop into the end of freezing is sharp and the
 // relaxation after it slow, and a long window would move the minimum toward
 // the slow side. On a noisy curve the bottom of the dip is the run of
-// samples within 2σ of the minimum, and the point is the middle of that run
-// (between interpolated level crossings), steadier than the lowest sample,
-// which noise moves along the bottom; the run counts at most half a window
-// past its first level crossing, since after a sharp end of freezing the
-// slow relaxation can keep T' within 2σ of its minimum for seconds and
-// would pull the point late (and low: by T'·Δt). Without noise the run is
-// one sample and the point its parabolic vertex.
+// samples within 2σ of the minimum, from the first sample that reaches that
+// level to the last of the unbroken run after the minimum, and the point is
+// the middle of that run (between interpolated level crossings), steadier
+// than the lowest sample, which noise moves along the bottom; the run counts
+// at most half a window past its first level crossing, since after a sharp
+// end of freezing the slow relaxation can keep T' within 2σ of its minimum
+// for seconds and would pull the point late (and low: by T'·Δt). Without
+// noise the run is one sample and the point its parabolic vertex.
 func (a *Analyzer) solidusPoint(i, j int) Point {
 	w := min(curve.WindowSamples(a.h.SlopeS/2, a.rate, 2, 5), a.wd)
 	if a.sigma(j)*curve.SavGol(w, 2, 1).NoiseGain()/a.dt > shortShare*math.Abs(a.d[i]) {
@@ -1001,9 +1002,12 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 		return a.at(m)
 	}
 	level := at(m) + 2*a.sigma(j)*curve.SavGol(w, 2, 1).NoiseGain()/a.dt
-	l, r := m, m
-	for l > lo && at(l-1) <= level {
-		l--
+	// the run starts where T' first reaches the level (the drop into the
+	// dip is steep, so noise moves that little) and ends where it last
+	// stays below it after the minimum
+	l, r := lo, m
+	for at(l) > level {
+		l++
 	}
 	for r < hi && at(r+1) <= level {
 		r++
