@@ -5,7 +5,6 @@ import (
 	"errors"
 	"math"
 	"math/bits"
-	"unsafe"
 
 	"github.com/undercool-foundry/undercool/internal/assess"
 )
@@ -51,19 +50,17 @@ func unpackNumbers(b []byte, rec *assess.Record) error {
 	rec.Samples, rec.SkippedLines, rec.Despiked = int(int64(u())), int(int64(u())), int(int64(u()))
 	rec.RateHz = math.Float64frombits(u())
 	n := bits.OnesCount64(mask)
-	if len(b) != 8*n || n > len(pointOffsets) || mask>>len(pointOffsets) != 0 {
+	if len(b) != 8*n || n > len(points) || mask>>len(points) != 0 {
 		return errPacked
 	}
 	vals := make([]float64, n) // one allocation for all of a row's points
 	k := 0
-	for i, off := range pointOffsets {
+	for i, p := range points {
 		if mask&(1<<i) == 0 {
 			continue
 		}
 		vals[k] = math.Float64frombits(u())
-		if off != ^uintptr(0) {
-			*(**float64)(unsafe.Add(unsafe.Pointer(rec), off)) = &vals[k]
-		}
+		*p.field(rec) = &vals[k]
 		k++
 	}
 	return nil

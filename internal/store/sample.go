@@ -15,7 +15,6 @@ import (
 	"slices"
 	"strings"
 	"time"
-	"unsafe"
 
 	"github.com/undercool-foundry/undercool/internal/assess"
 )
@@ -91,48 +90,68 @@ type metricField struct {
 	column bool   // results has a column of this name
 }
 
-// pointColumns are the results columns that copy Record numbers, one per
+// points are the results columns that copy Record numbers, one per
 // *float64 key (migration 0001, then one migration per key the Record
-// gained: see 0005); keys without a column yet are read from the record
-// JSON. New columns go at the end: the packed bitmap counts in this order.
-var pointColumns = []string{
-	"pour_peak_c", "pour_peak_s", "liquidus_min_c", "liquidus_min_s", "liquidus_c", "liquidus_s",
-	"eutectic_min_c", "eutectic_min_s", "eutectic_max_c", "eutectic_max_s", "recalescence_c",
-	"solidus_c", "solidus_s", "plateau_s", "cooling_rate_c_per_s", "freezing_time_s",
-	"stable_eutectic_c", "metastable_eutectic_c", "undercooling_c", "chill_margin_c",
-	"ce", "ce_classic", "cel_koriyama2020", "cel_heine", "cel_shop", "white_eutectic_c", "c_pct", "si_pct",
-	"liquidus_ref_c", "alpha_undercooling_c", "alpha_recalescence_c", "eutectic_ref_c", "eutectic_depression_c",
-	"plateau_c", "fixed_point_c", "fixed_point_error_c",
-	"pour_superheat_c", // migration 0005
+// gained: see 0005), each with its Record field; keys without a column yet
+// are read from the record JSON. New columns go at the end: the packed
+// bitmap counts in this order.
+var points = []struct {
+	column string
+	field  func(*assess.Record) **float64
+}{
+	{"pour_peak_c", func(r *assess.Record) **float64 { return &r.PourPeakC }},
+	{"pour_peak_s", func(r *assess.Record) **float64 { return &r.PourPeakS }},
+	{"liquidus_min_c", func(r *assess.Record) **float64 { return &r.LiquidusMinC }},
+	{"liquidus_min_s", func(r *assess.Record) **float64 { return &r.LiquidusMinS }},
+	{"liquidus_c", func(r *assess.Record) **float64 { return &r.LiquidusC }},
+	{"liquidus_s", func(r *assess.Record) **float64 { return &r.LiquidusS }},
+	{"eutectic_min_c", func(r *assess.Record) **float64 { return &r.EutecticMinC }},
+	{"eutectic_min_s", func(r *assess.Record) **float64 { return &r.EutecticMinS }},
+	{"eutectic_max_c", func(r *assess.Record) **float64 { return &r.EutecticMaxC }},
+	{"eutectic_max_s", func(r *assess.Record) **float64 { return &r.EutecticMaxS }},
+	{"recalescence_c", func(r *assess.Record) **float64 { return &r.RecalescenceC }},
+	{"solidus_c", func(r *assess.Record) **float64 { return &r.SolidusC }},
+	{"solidus_s", func(r *assess.Record) **float64 { return &r.SolidusS }},
+	{"plateau_s", func(r *assess.Record) **float64 { return &r.PlateauS }},
+	{"cooling_rate_c_per_s", func(r *assess.Record) **float64 { return &r.CoolingRateCps }},
+	{"freezing_time_s", func(r *assess.Record) **float64 { return &r.FreezingTimeS }},
+	{"stable_eutectic_c", func(r *assess.Record) **float64 { return &r.StableEutecticC }},
+	{"metastable_eutectic_c", func(r *assess.Record) **float64 { return &r.MetastableEutecticC }},
+	{"undercooling_c", func(r *assess.Record) **float64 { return &r.UndercoolingC }},
+	{"chill_margin_c", func(r *assess.Record) **float64 { return &r.ChillMarginC }},
+	{"ce", func(r *assess.Record) **float64 { return &r.CE }},
+	{"ce_classic", func(r *assess.Record) **float64 { return &r.CEClassic }},
+	{"cel_koriyama2020", func(r *assess.Record) **float64 { return &r.CELKoriyama2020 }},
+	{"cel_heine", func(r *assess.Record) **float64 { return &r.CELHeine }},
+	{"cel_shop", func(r *assess.Record) **float64 { return &r.CELShop }},
+	{"white_eutectic_c", func(r *assess.Record) **float64 { return &r.WhiteEutecticC }},
+	{"c_pct", func(r *assess.Record) **float64 { return &r.CPct }},
+	{"si_pct", func(r *assess.Record) **float64 { return &r.SiPct }},
+	{"liquidus_ref_c", func(r *assess.Record) **float64 { return &r.LiquidusRefC }},
+	{"alpha_undercooling_c", func(r *assess.Record) **float64 { return &r.AlphaUndercoolingC }},
+	{"alpha_recalescence_c", func(r *assess.Record) **float64 { return &r.AlphaRecalescenceC }},
+	{"eutectic_ref_c", func(r *assess.Record) **float64 { return &r.EutecticRefC }},
+	{"eutectic_depression_c", func(r *assess.Record) **float64 { return &r.EutecticDepressionC }},
+	{"plateau_c", func(r *assess.Record) **float64 { return &r.PlateauC }},
+	{"fixed_point_c", func(r *assess.Record) **float64 { return &r.FixedPointC }},
+	{"fixed_point_error_c", func(r *assess.Record) **float64 { return &r.FixedPointErrorC }},
+	{"pour_superheat_c", func(r *assess.Record) **float64 { return &r.PourSuperheatC }}, // pour_superheat_c: migration 0005
 }
 
-// pointOffsets are the offsets in assess.Record of the *float64 fields of
-// pointColumns, found by JSON key; a column whose key the Record no longer
-// has gets ^0 and stays null.
-var pointOffsets = func() []uintptr {
-	offs := make([]uintptr, len(pointColumns))
-	rt := reflect.TypeFor[assess.Record]()
-	for i, col := range pointColumns {
-		offs[i] = ^uintptr(0)
-		for j := range rt.NumField() {
-			f := rt.Field(j)
-			if key, _, _ := strings.Cut(f.Tag.Get("json"), ","); key == col && f.Type == reflect.TypeFor[*float64]() {
-				offs[i] = f.Offset
-			}
-		}
+// pointColumns are the column names of points, in order.
+var pointColumns = func() []string {
+	cols := make([]string, len(points))
+	for i, p := range points {
+		cols[i] = p.column
 	}
-	return offs
+	return cols
 }()
 
-// pointDests gives the Record's fields for pointColumns, in that order
-// (nil for a column without a field). The fields are reached by offset:
-// reflection per row would cost more than the query (see BenchmarkHistoryMonth).
+// pointDests gives the Record's fields for pointColumns, in that order.
 func pointDests(r *assess.Record) []**float64 {
-	ds := make([]**float64, len(pointOffsets))
-	for i, off := range pointOffsets {
-		if off != ^uintptr(0) {
-			ds[i] = (**float64)(unsafe.Add(unsafe.Pointer(r), off))
-		}
+	ds := make([]**float64, len(points))
+	for i, p := range points {
+		ds[i] = p.field(r)
 	}
 	return ds
 }
