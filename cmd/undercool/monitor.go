@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
-	"strconv"
 	"sync"
 	"time"
 
@@ -34,8 +33,8 @@ func runMonitor(ctx context.Context, env *environ, args []string) error {
 	port := fs.String("port", "", "serial port of the amplifier, e.g. /dev/ttyUSB0 (required)")
 	mode := acquire.DefaultPortMode
 	mode.AddFlags(fs)
-	tc := fs.String("tc", "", "thermocouple type for raw EMF readings (default: what the device says, else K)")
-	cj := fs.String("cj", "", "cold-junction temperature in °C for EMF readings without cj=")
+	var cfg acquire.Config
+	cfg.AddEMFFlags(fs)
 	data := fs.String("data", "", "data directory for curve files, records and the log (default: the records database's directory)")
 	limitsPath := fs.String("limits", "", "limits file (default: the built-in examples)")
 	fs.Usage = func() {
@@ -55,14 +54,7 @@ func runMonitor(ctx context.Context, env *environ, args []string) error {
 	if err := mode.Check(); err != nil {
 		return fmt.Errorf("--baud/--frame: %w", err)
 	}
-	cfg := acquire.Config{Port: *port, Thermocouple: *tc}
-	if *cj != "" {
-		v, err := strconv.ParseFloat(*cj, 64)
-		if err != nil {
-			return fmt.Errorf("--cj %q: not a temperature in °C", *cj)
-		}
-		cfg.ColdJunctionC, cfg.ColdJunctionSet = v, true
-	}
+	cfg.Port = *port
 	dir := *data
 	if dir == "" {
 		p, err := store.DefaultPath(env.getenv)
