@@ -28,7 +28,7 @@ func TestDemoLines(t *testing.T) {
 			t.Errorf("output lacks %q:\n%s", want, s)
 		}
 	}
-	for _, f := range []string{"records.db", "undercool.log", "limits.toml"} {
+	for _, f := range []string{"undercool.db", "undercool.log", "limits.toml"} {
 		if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
 			t.Errorf("--data has no %s: %v", f, err)
 		}

@@ -35,10 +35,11 @@ func runMonitor(ctx context.Context, env *environ, args []string) error {
 	mode.AddFlags(fs)
 	var cfg acquire.Config
 	cfg.AddEMFFlags(fs)
-	data := fs.String("data", "", "data directory for curve files, records and the log (default: the records database's directory)")
+	data := fs.String("data", "", "data directory for curve files and the log (default: the records database's directory)")
+	dbPath := fs.String("db", "", "records database (default: $UNDERCOOL_DB, else the user's data directory; with --data, DIR/undercool.db)")
 	limitsPath := fs.String("limits", "", "limits file (default: the built-in examples)")
 	fs.Usage = func() {
-		fmt.Fprintln(env.stderr, "usage: undercool monitor --port PATH [--baud N] [--frame 8N1] [--tc K] [--cj C] [--data DIR] [--limits FILE]")
+		fmt.Fprintln(env.stderr, "usage: undercool monitor --port PATH [--baud N] [--frame 8N1] [--tc K] [--cj C] [--data DIR] [--db PATH] [--limits FILE]")
 		fs.PrintDefaults()
 	}
 	if err := fs.Parse(args); err != nil {
@@ -55,16 +56,19 @@ func runMonitor(ctx context.Context, env *environ, args []string) error {
 		return fmt.Errorf("--baud/--frame: %w", err)
 	}
 	cfg.Port = *port
-	dir := *data
-	if dir == "" {
+	dir, db := *data, *dbPath
+	if db == "" && dir == "" {
 		p, err := store.DefaultPath(env.getenv)
 		if err != nil {
 			return err
 		}
-		dir = filepath.Dir(p)
+		db = p
+	}
+	if dir == "" {
+		dir = filepath.Dir(db)
 	}
 	return runDashboard(ctx, env, dashboard{
-		dir: dir, limitsPath: *limitsPath, title: "monitor · " + *port,
+		dir: dir, db: db, limitsPath: *limitsPath, title: "monitor · " + *port,
 		open: acquire.SerialOpener(*port, mode), cfg: cfg,
 	})
 }
@@ -73,6 +77,7 @@ func runMonitor(ctx context.Context, env *environ, args []string) error {
 // the records and the screen (or lines when there is no terminal).
 type dashboard struct {
 	dir        string
+	db         string // records database; "" is DIR/undercool.db
 	limitsPath string
 	title      string
 	open       acquire.Opener
@@ -105,7 +110,11 @@ func runDashboard(ctx context.Context, env *environ, d dashboard) error {
 	if err != nil {
 		return err
 	}
-	db, err := store.Open(ctx, filepath.Join(d.dir, "records.db"))
+	dbPath := d.db
+	if dbPath == "" {
+		dbPath = filepath.Join(d.dir, "undercool.db")
+	}
+	db, err := store.Open(ctx, dbPath)
 	if err != nil {
 		return err
 	}
