@@ -5,7 +5,9 @@ import (
 	"context"
 	"encoding/json"
 	"errors"
+	"path/filepath"
 	"strings"
+	"sync"
 	"testing"
 
 	"github.com/undercool-foundry/undercool/acquire"
@@ -15,10 +17,36 @@ import (
 func acqRun(t testing.TB, ctx context.Context, args ...string) (int, string, string) {
 	t.Helper()
 	var out, errb bytes.Buffer
-	env := &environ{stdin: strings.NewReader(""), stdout: &out, stderr: &errb, getenv: func(string) string { return "" }}
+	db := acqDB(t)
+	env := &environ{stdin: strings.NewReader(""), stdout: &out, stderr: &errb, getenv: func(k string) string {
+		if k == "UNDERCOOL_DB" {
+			return db
+		}
+		return ""
+	}}
 	code := runMain(ctx, env, args)
 	return code, out.String(), errb.String()
 }
+
+// acqDB is the records database of a test's acqRun calls: one per test, in
+// its temp dir, so `record` stores its samples there.
+func acqDB(t testing.TB) string {
+	t.Helper()
+	dbs.mu.Lock()
+	defer dbs.mu.Unlock()
+	if p, ok := dbs.m[t]; ok {
+		return p
+	}
+	p := filepath.Join(t.TempDir(), "undercool.db")
+	dbs.m[t] = p
+	t.Cleanup(func() { dbs.mu.Lock(); delete(dbs.m, t); dbs.mu.Unlock() })
+	return p
+}
+
+var dbs = struct {
+	mu sync.Mutex
+	m  map[testing.TB]string
+}{m: map[testing.TB]string{}}
 
 func acqFakePorts(t *testing.T, ports []acquire.PortInfo, err error) {
 	old := listPorts

@@ -43,6 +43,9 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	alloy := fs.String("alloy", "", "alloy of the sample, e.g. grey-iron, ductile-iron, al-si7mg (metadata; tells the end-of-freezing detector the family)")
 	sample := fs.String("sample", "", `sample label for the file, e.g. "L-2417 cup 1"`)
 	operator := fs.String("operator", "", "who took the sample")
+	dbPath := fs.String("db", "", "records database the finished sample is stored in (default $UNDERCOOL_DB or the user's data directory)")
+	noStore := fs.Bool("no-store", false, "do not store the finished sample in the records database")
+	limitsPath := fs.String("limits", "", "limits file the finished sample is judged by (default: the built-in examples)")
 	fs.Usage = func() {
 		fmt.Fprintln(env.stderr, "usage: undercool record --port PATH [--baud N] [--frame 8N1] [--tc TYPE] [--cj C] [--out FILE] [--channel ID] [--max-s N]")
 		fmt.Fprintln(env.stderr, "Waits for the pour, records one sample and prints the curve file's path when it is done.")
@@ -82,8 +85,49 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 			cfg.Meta = append(cfg.Meta, m)
 		}
 	}
+	book, _, err := loadLimits(*limitsPath)
+	if err != nil {
+		return err
+	}
+	var records *analyzeStore
+	if !*noStore {
+		// Opened before the pour, so a database that cannot be written is
+		// an error now, not after the cup.
+		if records, err = openAnalyzeStore(ctx, env, *dbPath); err != nil {
+			return err
+		}
+	}
 	rec := &recording{env: env, port: *port, channel: *channel, waitS: *waitS}
-	return rec.run(ctx, acquire.New(recordOpener(*port, mode), cfg), *start)
+	runErr := rec.run(ctx, acquire.New(recordOpener(*port, mode), cfg), *start)
+	if rec.path != "" {
+		rec.judge(context.WithoutCancel(ctx), *alloy, book, records)
+	}
+	if records != nil {
+		records.finish(env)
+		if runErr == nil && records.anyFailed() {
+			return exitError{1}
+		}
+	}
+	return runErr
+}
+
+// judge analyses the finished curve file, prints its verdict and stores it
+// (the curve file is complete and safe before this runs: a failure here
+// loses nothing already recorded).
+func (r *recording) judge(ctx context.Context, alloy string, book *limits.Book, records *analyzeStore) {
+	res := analyzeOne(0, r.path, alloy, book)
+	if res.err != nil {
+		fmt.Fprintf(r.env.stderr, "undercool record: the finished file could not be analysed: %v\n", res.err)
+		return
+	}
+	fmt.Fprintf(r.env.stderr, "undercool record: verdict %s", res.rec.Verdict)
+	for _, why := range res.rec.Reasons {
+		fmt.Fprintf(r.env.stderr, "; %s", why)
+	}
+	fmt.Fprintln(r.env.stderr, " (advice only: follow the shop's written procedures)")
+	if records != nil {
+		records.add(ctx, r.env, r.path, res.rec)
+	}
 }
 
 // recording follows one record run: it prints events and progress to

@@ -16,6 +16,8 @@ import (
 
 	"github.com/creack/pty"
 	"golang.org/x/sys/unix"
+
+	"github.com/undercool-foundry/undercool/internal/store"
 )
 
 // acqPTY is a fake amplifier on a raw pseudo-terminal: the test writes to
@@ -115,10 +117,23 @@ func TestRecordPTY(t *testing.T) {
 		!strings.Contains(meta["ended"], "time limit") || meta["port"] != name {
 		t.Fatalf("metadata %v", meta)
 	}
-	for _, want := range []string{"connected to " + name, "pour detected", "sample done"} {
+	for _, want := range []string{"connected to " + name, "pour detected", "sample done", "verdict ", "stored in "} {
 		if !strings.Contains(stderr, want) {
 			t.Errorf("stderr lacks %q:\n%s", want, stderr)
 		}
+	}
+	// The finished sample is in the records database, with its curve file.
+	db, err := store.Open(context.Background(), acqDB(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	hist, err := db.History(context.Background(), store.Filter{Full: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(hist) != 1 || hist[0].Sample.CurvePath != out || hist[0].Sample.Operator != "Ade Okafor" {
+		t.Fatalf("stored samples %+v, want the one recorded in %s", hist, out)
 	}
 }
 
@@ -202,7 +217,8 @@ func TestRecordKill9(t *testing.T) {
 	dir := t.TempDir()
 	out := filepath.Join(dir, "cup.csv")
 	child := exec.Command(os.Args[0], "-test.run=^TestRecordHelperProcess$")
-	child.Env = append(os.Environ(), "UNDERCOOL_RECORD_ARGS="+strings.Join([]string{"record", "--port", name, "--out", out}, "\x1f"))
+	child.Env = append(os.Environ(), "UNDERCOOL_DB="+filepath.Join(dir, "undercool.db"),
+		"UNDERCOOL_RECORD_ARGS="+strings.Join([]string{"record", "--port", name, "--out", out}, "\x1f"))
 	var childErr strings.Builder
 	child.Stderr = &childErr
 	if err := child.Start(); err != nil {
