@@ -26,8 +26,12 @@ type livePane struct {
 	prefill SampleMeta
 }
 
-// sampleDoneMsg says a sample finished; the model stores it.
-type sampleDoneMsg struct{ e Entry }
+// sampleDoneMsg says a sample finished (or was recovered after a crash);
+// the model stores it.
+type sampleDoneMsg struct {
+	e         Entry
+	recovered bool
+}
 
 func newLivePane(st *Styles, keys *KeyMap, an Analyzer, judge Judge, prefill SampleMeta) livePane {
 	return livePane{st: st, keys: keys, cups: map[string]*cup{}, an: an, judge: judge, prefill: prefill}
@@ -177,7 +181,7 @@ func (p livePane) Update(msg tea.Msg) (livePane, tea.Cmd) {
 	case batchMsg:
 		var cmds []tea.Cmd
 		for _, e := range p.batch(msg.b) {
-			cmds = append(cmds, func() tea.Msg { return sampleDoneMsg{e} })
+			cmds = append(cmds, func() tea.Msg { return sampleDoneMsg{e: e} })
 		}
 		return p, tea.Batch(cmds...)
 	case tea.KeyMsg:

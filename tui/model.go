@@ -140,15 +140,19 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 		return m.resize(msg.Width, msg.Height), nil
 	case batchMsg:
 		m.status = msg.b.Status
+		var recovered []tea.Cmd
 		for _, ev := range msg.b.Events {
 			m.logEvent(ev)
 			if ev.Kind == EventWarning || ev.Kind == EventRecovered {
 				m.flash = ev.Text
 			}
+			if ev.Kind == EventRecovered && ev.Path != "" && m.opt.ReadCurve != nil {
+				recovered = append(recovered, recoveredCmd(m.opt.ReadCurve, m.opt.Judge, ev))
+			}
 		}
 		var cmd tea.Cmd
 		m.live, cmd = m.live.Update(msg)
-		return m, tea.Batch(cmd, waitBatch(m.feed))
+		return m, tea.Batch(append(recovered, cmd, waitBatch(m.feed))...)
 	case feedClosedMsg:
 		m.ended = true
 		m.feed = nil
@@ -158,7 +162,9 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 		e := msg.e
 		e.At = m.opt.Clock()
 		m.log.Printf("sample done: cup %s sample %q alloy %q verdict %s file %s", e.Channel, e.Meta.Sample, e.Meta.Alloy, e.Record.Verdict, e.Path)
-		m.live.prefill = e.Meta
+		if !msg.recovered {
+			m.live.prefill = e.Meta
+		}
 		rs := m.opt.Records
 		return m, func() tea.Msg {
 			if _, err := rs.Add(context.Background(), e); err != nil {

@@ -3,10 +3,14 @@ package tui
 import (
 	"context"
 	"encoding/json"
+	"fmt"
 	"sync"
 	"time"
 
+	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
+
+	tea "github.com/charmbracelet/bubbletea"
 )
 
 // Entry is one finished sample in the history.
@@ -89,4 +93,30 @@ func metricValues(r assess.Record) map[string]float64 {
 	delete(out, "skipped_lines")
 	delete(out, "despiked")
 	return out
+}
+
+// recoveredCmd reads a sample that the acquirer recovered after a crash
+// (its file marked "# interrupted: true"), analyses it as a finished curve
+// and hands it to the model to keep, like any finished sample.
+func recoveredCmd(read CurveReader, judge Judge, ev Event) tea.Cmd {
+	return func() tea.Msg {
+		e, err := recoveredEntry(read, judge, ev)
+		if err != nil {
+			return historyLoadedMsg{err: err}
+		}
+		return sampleDoneMsg{e: e, recovered: true}
+	}
+}
+
+// recoveredEntry is the history entry of a recovered curve file.
+func recoveredEntry(read CurveReader, judge Judge, ev Event) (Entry, error) {
+	c, err := read(ev.Path)
+	if err != nil {
+		return Entry{}, fmt.Errorf("recovered sample %s: %w", ev.Path, err)
+	}
+	meta := SampleMeta{Sample: c.Get("sample"), Alloy: c.Get("alloy"), Operator: c.Get("operator"), Note: c.Get("note")}
+	fam := familyOf(meta.Alloy)
+	in := assess.Input{File: ev.Path, Alloy: meta.Alloy, Family: fam, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped, Meta: c.Meta}
+	rec := judge(in, arrest.Analyze(c.Time, c.Temp, arrest.Options{Family: fam}))
+	return Entry{Channel: ev.Channel, Meta: meta, Record: rec, Path: ev.Path, Time: c.Time, Temp: c.Temp}, nil
 }

@@ -49,6 +49,16 @@ func Lines(ctx context.Context, opt Options, w io.Writer, maxSamples int) error 
 			if line := eventLine(ev); line != "" {
 				fmt.Fprintln(w, line)
 			}
+			if ev.Kind == EventRecovered && ev.Path != "" && m.opt.ReadCurve != nil {
+				e, err := recoveredEntry(m.opt.ReadCurve, m.opt.Judge, ev)
+				if err == nil {
+					e.At = m.opt.Clock()
+					_, err = m.opt.Records.Add(ctx, e)
+				}
+				if err != nil {
+					fmt.Fprintf(w, "! could not keep the recovered sample %s: %v\n", ev.Path, err)
+				}
+			}
 		}
 		done := m.live.batch(b)
 		for _, r := range b.Readings {
