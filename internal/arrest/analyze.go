@@ -271,10 +271,33 @@ func (a *Analyzer) Analyze(t, temp []float64, opt Options) Result {
 		a.setRate()
 	}
 	if a.rate > 0 {
-		a.filter()
-		a.detect()
+		a.run()
 	}
 	return a.result(live)
+}
+
+// runStep is how many readings the filter takes ahead of the point finder
+// at a time, so that the analysis of a whole curve stops filtering soon
+// after its end of freezing has settled.
+const runStep = 64
+
+// run filters and examines the readings taken, runStep at a time, until the
+// analysis is done or the readings are used up. Once done, the filter still
+// covers every reading up to a.limit, so that the spikes and faults that
+// count are those a filter of the whole curve finds there.
+func (a *Analyzer) run() {
+	for a.det.stage != stageDone {
+		before := len(a.x)
+		a.filter(before + runStep)
+		a.detect()
+		if a.det.stage == stageDone {
+			a.filter(a.limit + 1)
+			return
+		}
+		if len(a.x) == before {
+			return
+		}
+	}
 }
 
 // Reset makes the next call start afresh. Analyze notices a different
@@ -391,9 +414,6 @@ func (a *Analyzer) ingest(t, temp []float64) {
 	if n := len(t); n > 0 {
 		a.first, a.mid, a.lastT, a.lastV = t[0], temp[n/2], t[n-1], temp[n-1]
 	}
-	if a.rate > 0 {
-		a.noiseBlocks()
-	}
 }
 
 func (a *Analyzer) stop(at, end int, code, msg string) {
@@ -424,12 +444,12 @@ func (a *Analyzer) setRate() {
 	a.gainS = a.ks.NoiseGain()
 	a.gainD = a.kd.NoiseGain() / a.dt
 	a.block = max(16, int(math.Round(2*a.rate)))
-	a.noiseBlocks()
 }
 
-// noiseBlocks estimates σ for every block whose readings have all arrived.
-func (a *Analyzer) noiseBlocks() {
-	for {
+// noiseBlocks estimates σ for the blocks up to block need−1 (those behind
+// sigma at the indices of block need) whose readings have all arrived.
+func (a *Analyzer) noiseBlocks(need int) {
+	for len(a.blockSig) < need {
 		b := len(a.blockSig)
 		hi := (b+1)*a.block + 1
 		if hi > len(a.raw) || hi > a.end {
@@ -498,17 +518,18 @@ func (a *Analyzer) validBlocks(i int) int {
 	return a.validByCount[min(i/a.block, len(a.validByCount)-1)]
 }
 
-// filter despikes, then smooths and differentiates, every reading whose
-// windows are complete.
-func (a *Analyzer) filter() {
+// filter despikes and differentiates every reading before upto whose
+// windows are complete (the noise blocks it needs are estimated first).
+func (a *Analyzer) filter(upto int) {
 	n := min(len(a.raw), a.end)
 	raw := a.raw[:n]
 	x := a.x // locals in the hot loops: no write barrier per reading
 	pourRun := max(3, int(math.Round(0.5*a.rate)))
-	for i := len(x); i+2 < n && n >= 5; {
+	for i := len(x); i < upto && i+2 < n && n >= 5; {
 		// a run of readings that share one noise estimate
+		a.noiseBlocks(i / a.block)
 		sig := a.sigmaAt(&a.curF, i)
-		end := min(n-2, (i/a.block+1)*a.block)
+		end := min(n-2, (i/a.block+1)*a.block, upto)
 		if a.curF.hi == a.curF.lo { // estimate not final beyond i: one reading
 			end = i + 1
 		}
