@@ -5,6 +5,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"path/filepath"
 	"time"
 
 	"github.com/undercool-foundry/undercool/acquire"
@@ -99,8 +100,11 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	}
 	rec := &recording{env: env, port: *port, channel: *channel, waitS: *waitS}
 	runErr := rec.run(ctx, acquire.New(recordOpener(*port, mode), cfg), *start)
+	for _, p := range rec.recovered {
+		rec.judge(context.WithoutCancel(ctx), p, "", book, records)
+	}
 	if rec.path != "" {
-		rec.judge(context.WithoutCancel(ctx), *alloy, book, records)
+		rec.judge(context.WithoutCancel(ctx), rec.path, *alloy, book, records)
 	}
 	if records != nil {
 		records.finish(env)
@@ -111,22 +115,22 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	return runErr
 }
 
-// judge analyses the finished curve file, prints its verdict and stores it
-// (the curve file is complete and safe before this runs: a failure here
-// loses nothing already recorded).
-func (r *recording) judge(ctx context.Context, alloy string, book *limits.Book, records *analyzeStore) {
-	res := analyzeOne(0, r.path, alloy, book)
+// judge analyses a finished (or recovered) curve file, prints its verdict
+// and stores it (the curve file is complete and safe before this runs: a
+// failure here loses nothing already recorded).
+func (r *recording) judge(ctx context.Context, path, alloy string, book *limits.Book, records *analyzeStore) {
+	res := analyzeOne(0, path, alloy, book)
 	if res.err != nil {
-		fmt.Fprintf(r.env.stderr, "undercool record: the finished file could not be analysed: %v\n", res.err)
+		fmt.Fprintf(r.env.stderr, "undercool record: %s could not be analysed: %v\n", path, res.err)
 		return
 	}
-	fmt.Fprintf(r.env.stderr, "undercool record: verdict %s", res.rec.Verdict)
+	fmt.Fprintf(r.env.stderr, "undercool record: %s: verdict %s", filepath.Base(path), res.rec.Verdict)
 	for _, why := range res.rec.Reasons {
 		fmt.Fprintf(r.env.stderr, "; %s", why)
 	}
 	fmt.Fprintln(r.env.stderr, " (advice only: follow the shop's written procedures)")
 	if records != nil {
-		records.add(ctx, r.env, r.path, res.rec)
+		records.add(ctx, r.env, path, res.rec)
 	}
 }
 
@@ -138,11 +142,12 @@ type recording struct {
 	channel string // the sample's channel ("" until one starts)
 	waitS   float64
 
-	started  bool
-	readings int     // of the sample's channel since it started
-	lastC    float64 // its last valid reading, °C
-	path     string  // the finished curve file
-	status   acquire.Status
+	started   bool
+	readings  int      // of the sample's channel since it started
+	lastC     float64  // its last valid reading, °C
+	path      string   // the finished curve file
+	recovered []string // samples an earlier run left interrupted, recovered at the start
+	status    acquire.Status
 }
 
 func (r *recording) run(ctx context.Context, a *acquire.Acquirer, startNow bool) error {
@@ -216,6 +221,9 @@ func (r *recording) batch(b acquire.Batch) {
 		fmt.Fprintf(r.env.stderr, "undercool record: %s\n", e.Text)
 		if e.Kind == acquire.EventSampleDone && e.Channel == r.channel {
 			r.path = e.Path
+		}
+		if e.Kind == acquire.EventRecovered && e.Path != "" {
+			r.recovered = append(r.recovered, e.Path)
 		}
 	}
 	for _, rd := range b.Readings {

@@ -262,4 +262,17 @@ func TestRecordKill9(t *testing.T) {
 	if meta["interrupted"] != "true" || meta["recovered"] == "" {
 		t.Fatalf("metadata %v", meta)
 	}
+	// The recovered sample is analysed and stored like a finished one.
+	db, err := store.Open(context.Background(), acqDB(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	hist, err := db.History(context.Background(), store.Filter{Full: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(hist) != 1 || hist[0].Sample.CurvePath != out || !hist[0].Sample.Interrupted {
+		t.Fatalf("stored samples %+v, want the recovered %s marked interrupted", hist, out)
+	}
 }
