@@ -47,17 +47,49 @@ func SpikeAt(x []float64, i int, minC, noise float64) (float64, bool) {
 
 // DespikeRun applies the spike test to samples from … to−1 of x, all with
 // the same noise estimate, appending the values to dst and the indices of
-// the spikes to spikes; it returns both. It is SpikeAt in a loop, for
-// callers that despike a growing curve piece by piece.
+// the spikes to spikes; it returns both. It gives what SpikeAt in a loop
+// gives, for callers that despike a growing curve piece by piece; away from
+// the ends of x it keeps the five-sample window in registers and tests the
+// usual case, no spike, inline.
 func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, noise float64) ([]float64, []int) {
-	for i := from; i < to; i++ {
-		v, spike := SpikeAt(x, i, minC, noise)
-		if spike {
-			spikes = append(spikes, i)
+	n := len(x)
+	i := from
+	for ; i < to && i < 2; i++ {
+		dst, spikes = spikeStep(dst, spikes, x, i, minC, noise)
+	}
+	if stop := min(to, n-2); i < stop {
+		base := max(minC, SpikeSigmas*noise)
+		x := x[:stop+2]
+		w0, w1, w2, w3 := x[i-2], x[i-1], x[i], x[i+1]
+		for ; i < stop; i++ {
+			w4 := x[i+2]
+			// the same arithmetic as SpikeAt (w2 is the reading itself)
+			slope := min(math.Abs(w3-w1)/2, math.Abs(w4-w0)/4)
+			thr := base + 2*slope
+			v := w2
+			if !(math.Abs(w0-v) <= thr && math.Abs(w1-v) <= thr && math.Abs(w3-v) <= thr && math.Abs(w4-v) <= thr) {
+				if med := median5(w0, w1, w2, w3, w4); math.Abs(v-med) > thr {
+					v = med
+					spikes = append(spikes, i)
+				}
+			}
+			dst = append(dst, v)
+			w0, w1, w2, w3 = w1, w2, w3, w4
 		}
-		dst = append(dst, v)
+	}
+	for ; i < to; i++ {
+		dst, spikes = spikeStep(dst, spikes, x, i, minC, noise)
 	}
 	return dst, spikes
+}
+
+// spikeStep is one SpikeAt appended to dst (and to spikes if a spike).
+func spikeStep(dst []float64, spikes []int, x []float64, i int, minC, noise float64) ([]float64, []int) {
+	v, spike := SpikeAt(x, i, minC, noise)
+	if spike {
+		spikes = append(spikes, i)
+	}
+	return append(dst, v), spikes
 }
 
 // Despike writes x with single-sample spikes replaced (see SpikeAt) into dst

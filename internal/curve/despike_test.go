@@ -95,3 +95,52 @@ func TestNoiseFast(t *testing.T) {
 }
 
 func first(v float64, _ []float64) float64 { return v }
+
+// DespikeRun gives exactly what SpikeAt gives sample by sample, at the ends
+// of x and inside, in pieces of any length, on a constructed curve with
+// spikes of both signs, adjacent pairs and a flat stretch.
+func TestDespikeRunIsSpikeAt(t *testing.T) {
+	r := rand.New(rand.NewPCG(11, 12))
+	for _, n := range []int{5, 6, 9, 40, 3000} {
+		x := constructedCurve(n, 10, 0.2, uint64(n))
+		for i := range x {
+			switch p := r.Float64(); {
+			case p < 0.02:
+				x[i] += 25
+			case p < 0.04:
+				x[i] -= 40
+			case p < 0.06 && i+1 < n:
+				x[i], x[i+1] = x[i]+30, x[i+1]+30
+			}
+		}
+		if n > 100 {
+			for i := 50; i < 70; i++ {
+				x[i] = x[49]
+			}
+		}
+		for _, noise := range []float64{0, 0.2, math.NaN()} {
+			var want []float64
+			var wantSpikes []int
+			for i := range x {
+				v, spike := SpikeAt(x, i, 3, noise)
+				want = append(want, v)
+				if spike {
+					wantSpikes = append(wantSpikes, i)
+				}
+			}
+			var got []float64
+			var gotSpikes []int
+			for i := 0; i < n; {
+				to := min(n, i+1+r.IntN(70))
+				got, gotSpikes = DespikeRun(got, gotSpikes, x, i, to, 3, noise)
+				i = to
+			}
+			if !slices.Equal(got, want) || !slices.Equal(gotSpikes, wantSpikes) {
+				t.Fatalf("n %d noise %g: DespikeRun differs from SpikeAt (spikes %v, want %v)", n, noise, gotSpikes, wantSpikes)
+			}
+			if len(wantSpikes) == 0 && n > 100 && !math.IsNaN(noise) {
+				t.Fatalf("n %d: the constructed spikes were not found", n)
+			}
+		}
+	}
+}
