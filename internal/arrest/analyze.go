@@ -535,23 +535,25 @@ func (a *Analyzer) filter(upto int) {
 		}
 		x, a.spikes = curve.DespikeRun(x, a.spikes, raw, i, end, SpikeMinC, sig)
 		// pour confirmation and the sustained-step fault, both on the despiked readings
-		for k := i; k < end; k++ {
+		k := i
+		for ; k < end && a.pourConf < 0; k++ {
 			v := x[k]
-			if a.pourConf < 0 {
-				if v > a.xmax {
-					a.xmax, a.xmaxI = v, k
-				}
-				if a.xmax >= a.h.MinPourC && v <= a.xmax-max(pourDropC, 10*sig) {
-					a.pourBelow++
-				} else {
-					a.pourBelow = 0
-				}
-				// the fall must last half a second (at least 3 readings): a
-				// spike on the steep rise is no peak
-				if a.pourBelow >= pourRun {
-					a.pourConf = k
-				}
-			} else if k > 0 && math.Abs(v-x[k-1]) > StepFaultC {
+			if v > a.xmax {
+				a.xmax, a.xmaxI = v, k
+			}
+			if a.xmax >= a.h.MinPourC && v <= a.xmax-max(pourDropC, 10*sig) {
+				a.pourBelow++
+			} else {
+				a.pourBelow = 0
+			}
+			// the fall must last half a second (at least 3 readings): a
+			// spike on the steep rise is no peak
+			if a.pourBelow >= pourRun {
+				a.pourConf = k
+			}
+		}
+		for k = max(k, 1); k < end; k++ {
+			if v := x[k]; math.Abs(v-x[k-1]) > StepFaultC {
 				a.stop(k, len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: the reading jumped from %.1f to %.1f °C at %.1f s and stayed; the curve after it was not analysed", x[k-1], v, a.ts[k]))
 				a.end = k
 				x = x[:k]
@@ -573,16 +575,11 @@ func (a *Analyzer) filter(upto int) {
 		return
 	}
 	d := a.d
-	inv := 1 / a.dt
-	for j := len(d); j+hm < len(x); j++ {
-		var dj float64
-		if j < hd {
-			dj = a.kd.At(x[:a.wd], j, a.dt)
-		} else {
-			dj = a.sld.SlopeAt(x, j)
-			dj *= inv
-		}
-		d = append(d, dj)
+	for j := len(d); j < hd && j+hm < len(x); j++ {
+		d = append(d, a.kd.At(x[:a.wd], j, a.dt))
+	}
+	if j := len(d); j+hm < len(x) {
+		d = a.sld.AppendSlopes(d, x, j, len(x)-hm, 1/a.dt)
 	}
 	a.d = d
 }

@@ -99,3 +99,35 @@ func (s *Sliding) SlopeAt(x []float64, c int) float64 {
 	s.c = c
 	return s.s1 * s.invSumK2
 }
+
+// AppendSlopes appends SlopeAt(x, c)·scale for the centres c = from … to−1
+// to dst and returns it: the values of SlopeAt in a loop, bit for bit, with
+// the sums kept in registers. The same rules apply as for SlopeAt.
+func (s *Sliding) AppendSlopes(dst, x []float64, from, to int, scale float64) []float64 {
+	m := s.half
+	fm := float64(m)
+	ref, s0, s1, prev := s.ref, s.s0, s.s1, s.c
+	for c := from; c < to; c++ {
+		if c == prev+1 && c%slidingAnchor != 0 {
+			out := x[c-1-m] - ref
+			in := x[c+m] - ref
+			a0 := s0 - out + in
+			s1 += fm*out + (fm+1)*in - a0
+			s0 = a0
+		} else {
+			ref = x[c]
+			var t0, t1 float64
+			for k := -m; k <= m; k++ {
+				y := x[c+k] - ref
+				t0 += y
+				t1 += float64(k) * y
+			}
+			s0, s1 = t0, t1
+		}
+		prev = c
+		v := s1 * s.invSumK2
+		dst = append(dst, v*scale)
+	}
+	s.ref, s.s0, s.s1, s.c = ref, s0, s1, prev
+	return dst
+}
