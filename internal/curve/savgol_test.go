@@ -3,6 +3,7 @@ package curve
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 )
 
@@ -154,6 +155,34 @@ func TestWindowSamples(t *testing.T) {
 	for _, c := range cases {
 		if got := WindowSamples(c.s, c.hz, c.order, c.min); got != c.out {
 			t.Errorf("WindowSamples(%g s, %g Hz) = %d, want %d", c.s, c.hz, got, c.out)
+		}
+	}
+}
+
+// AppendSlopes gives SlopeAt in a loop times the scale, bit for bit, in
+// pieces of any length (across the re-anchoring every 128 centres) and
+// after a jump of the centre.
+func TestAppendSlopesIsSlopeAt(t *testing.T) {
+	x := constructedCurve(2000, 10, 0.3, 21)
+	r := rand.New(rand.NewPCG(3, 4))
+	for _, half := range []int{2, 10, 20} {
+		var one, run Sliding
+		one.Reset(half)
+		run.Reset(half)
+		var want, got []float64
+		for c := half; c < len(x)-half; {
+			to := min(len(x)-half, c+1+r.IntN(300))
+			for k := c; k < to; k++ {
+				want = append(want, one.SlopeAt(x, k)*0.1)
+			}
+			got = run.AppendSlopes(got, x, c, to, 0.1)
+			c = to
+			if r.IntN(5) == 0 {
+				c = min(len(x)-half, c+r.IntN(40)) // skip some centres
+			}
+		}
+		if !slices.Equal(got, want) {
+			t.Fatalf("half %d: AppendSlopes differs from SlopeAt", half)
 		}
 	}
 }
