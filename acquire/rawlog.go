@@ -12,6 +12,7 @@ import (
 	"sync"
 	"time"
 
+	"github.com/undercool-foundry/undercool/internal/atomicfile"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 )
 
@@ -19,7 +20,7 @@ import (
 // NAME.partial.csv, one write per reading, the file fsynced at least every
 // SyncEvery by its own goroutine. When the sample is done the file is
 // completed (metadata added at the end of recording go in with the rest) into
-// NAME.csv.tmp, fsynced, renamed to NAME.csv and the partial file removed.
+// a temporary file beside NAME.csv, fsynced, renamed to NAME.csv and the partial file removed.
 // A kill -9 leaves NAME.partial.csv behind; Recover completes it, marked
 // "# interrupted: true".
 //
@@ -206,7 +207,7 @@ type completed struct {
 }
 
 // complete writes the completed form of the raw log src to dst (through
-// dst.tmp, fsynced, renamed) and removes src: extra metadata after the
+// a temporary file, fsynced, renamed) and removes src: extra metadata after the
 // file's own, gap_after marks, a torn last line dropped.
 func complete(src, dst string, extra []curvefile.Meta, gapAtEnd bool) (completed, error) {
 	var c completed
@@ -330,30 +331,14 @@ func addFlag(row string, col int, flag string) string {
 	return row[:s] + flag + row[e:]
 }
 
-// writeAtomic writes data to dst through dst.tmp: fsynced, then renamed,
-// so that dst is either absent or complete. It refuses to replace dst.
+// writeAtomic writes data to dst through a temporary file beside it:
+// fsynced, then renamed, so that dst is either absent or complete. It
+// refuses to replace dst.
 func writeAtomic(dst string, data []byte) error {
 	if exists(dst) {
 		return fmt.Errorf("acquire: curve file %s already exists; not overwritten", dst)
 	}
-	tmp := dst + ".tmp"
-	os.Remove(tmp) // left by an earlier crash while completing
-	f, err := os.OpenFile(tmp, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
-	if err != nil {
-		return fmt.Errorf("acquire: %w", err)
-	}
-	_, err = f.Write(data)
-	if err == nil {
-		err = f.Sync()
-	}
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(tmp, dst)
-	}
-	if err != nil {
-		os.Remove(tmp)
+	if err := atomicfile.WriteBytes(dst, data, 0o644); err != nil {
 		return fmt.Errorf("acquire: completing %s: %w", dst, err)
 	}
 	return nil

@@ -10,6 +10,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/undercool-foundry/undercool/internal/atomicfile"
 	"github.com/undercool-foundry/undercool/internal/store"
 )
 
@@ -76,7 +77,7 @@ func runExport(ctx context.Context, env *environ, args []string) error {
 	if out == "" {
 		return write(env.stdout)
 	}
-	if err := writeFileAtomic(out, write); err != nil {
+	if err := atomicfile.Write(out, 0o644, write); err != nil {
 		return err
 	}
 	fmt.Fprintf(env.stderr, "wrote %d samples to %s\n", len(entries), out)

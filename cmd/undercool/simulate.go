@@ -1,17 +1,15 @@
 package main
 
 import (
-	"bufio"
 	"context"
 	"errors"
 	"flag"
 	"fmt"
 	"io"
-	"os"
-	"path/filepath"
 	"strconv"
 	"strings"
 
+	"github.com/undercool-foundry/undercool/internal/atomicfile"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/sim"
 )
@@ -177,41 +175,13 @@ func writeSimulated(p sim.Params, path string) error {
 	if err != nil {
 		return fmt.Errorf("truth of %s: %w", path, err)
 	}
-	if err := writeFileAtomic(path, func(w io.Writer) error { return curvefile.WriteCurve(w, c) }); err != nil {
+	if err := atomicfile.Write(path, 0o644, func(w io.Writer) error { return curvefile.WriteCurve(w, c) }); err != nil {
 		return err
 	}
-	return writeFileAtomic(path+".truth.json", func(w io.Writer) error {
+	return atomicfile.Write(path+".truth.json", 0o644, func(w io.Writer) error {
 		_, err := w.Write(js)
 		return err
 	})
-}
-
-// writeFileAtomic writes a file through a temporary beside it, so a failed
-// write never leaves half a file in place of a good one.
-func writeFileAtomic(path string, write func(io.Writer) error) error {
-	tmp, err := os.CreateTemp(filepath.Dir(path), ".undercool-sim-*")
-	if err != nil {
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	bw := bufio.NewWriter(tmp)
-	err = write(bw)
-	if err == nil {
-		err = bw.Flush()
-	}
-	if cerr := tmp.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Chmod(tmp.Name(), 0o644)
-	}
-	if err == nil {
-		err = os.Rename(tmp.Name(), path)
-	}
-	if err != nil {
-		os.Remove(tmp.Name())
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	return nil
 }
 
 // deckSummary says in one line what the virtual device serves.

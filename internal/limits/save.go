@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"maps"
 	"os"
-	"path/filepath"
 	"reflect"
 	"slices"
 	"strconv"
@@ -13,6 +12,8 @@ import (
 	"time"
 
 	"github.com/BurntSushi/toml"
+
+	"github.com/undercool-foundry/undercool/internal/atomicfile"
 )
 
 // now is the clock of Save (replaced in tests).
@@ -72,25 +73,7 @@ func exists(p string) bool { _, err := os.Stat(p); return err == nil }
 // writeFile writes data to a temporary file beside path, syncs it and
 // renames it over path, so a crash leaves either the old or the new file.
 func writeFile(path string, data []byte) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	_, err = f.Write(data)
-	if err == nil {
-		err = f.Sync()
-	}
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(tmp, path)
-	}
-	if err != nil {
-		os.Remove(tmp)
-	}
-	return err
+	return atomicfile.WriteBytes(path, data, 0o644)
 }
 
 // changes lists the keys whose values differ between two limits texts:
