@@ -657,29 +657,98 @@ func (a *Analyzer) detect() {
 			h = max(slopeFloor, 4*sd)
 			p = max(promFloor, 8*sd)
 		}
+		// indices j … end−1 share this noise estimate (and so h and p)
+		end := j + 1
+		if a.curD.hi > a.curD.lo {
+			end = min(len(a.d), a.curD.hi)
+		}
 		switch e.stage {
 		case stagePour:
 			// the arrest search starts once T' no longer reaches back over
 			// the peak into the pour, where the spike test must let steep
 			// readings through
-			if a.pourConf >= 0 && j >= max(a.pourConf, a.xmaxI+a.wd/2+2) {
-				e.res.PourPeak = Point{TempC: a.x[a.xmaxI], TimeS: a.ts[a.xmaxI], OK: true}
-				e.stage = stageArrest
-				e.startArrest(j, d)
+			if a.pourConf < 0 {
+				e.j = len(a.d) - 1 // not confirmed in the readings filtered so far
+				continue
 			}
+			if start := max(a.pourConf, a.xmaxI+a.wd/2+2); j < start {
+				e.j = min(start, len(a.d)) - 1
+				continue
+			}
+			e.res.PourPeak = Point{TempC: a.x[a.xmaxI], TimeS: a.ts[a.xmaxI], OK: true}
+			e.stage = stageArrest
+			e.startArrest(j, d)
 		case stageArrest:
-			a.arrestStep(j, d, h, p)
+			if e.j = a.quietRun(j, end, h, p); e.j == end {
+				e.j--
+				continue
+			}
+			a.arrestStep(e.j, a.d[e.j], h, p)
 		case stageSolidus:
-			if d < e.dmin {
-				e.dmin, e.dminI = d, j
-			}
-			drop := e.eutRefD - e.dmin
+			// the end of freezing settles once the drop below the
+			// plateau's T' is large enough and no lower T' has followed
+			// for ConfirmS
 			need := math.Max(p, math.Abs(e.res.CoolingRateCps)/3)
-			if drop >= need && a.ts[j]-a.ts[e.dminI] >= a.h.ConfirmS {
-				a.solidus()
+			dmin, dminI := e.dmin, e.dminI
+			dd, ts, confirm := a.d[:end], a.ts, a.h.ConfirmS
+			for ; j < end; j++ {
+				if v := dd[j]; v < dmin {
+					dmin, dminI = v, j
+				}
+				if e.eutRefD-dmin >= need && ts[j]-ts[dminI] >= confirm {
+					break
+				}
 			}
+			e.dmin, e.dminI = dmin, dminI
+			if j == end {
+				e.j = end - 1
+				continue
+			}
+			e.j = j
+			a.solidus()
 		}
 	}
+}
+
+// quietRun advances the arrest search over the indices from j before end
+// at which only the running minimum (before the rise into an arrest) or
+// maximum (on the rise) of T' changes, and returns the first index at which
+// arrestStep has more to do, or end: arrestStep at every index in a loop,
+// without the calls.
+func (a *Analyzer) quietRun(j, end int, h, p float64) int {
+	e := &a.det
+	d := a.d[:end]
+	switch e.sub {
+	case subValley:
+		dmin, dminI := e.dmin, e.dminI
+		rise := dmin + max(p, promShare*math.Abs(dmin))
+		for ; j < end; j++ {
+			v := d[j]
+			if v < dmin {
+				dmin, dminI = v, j
+				rise = dmin + max(p, promShare*math.Abs(dmin))
+			}
+			if v > h || v > rise {
+				break
+			}
+		}
+		e.dmin, e.dminI = dmin, dminI
+	case subRise:
+		dmax, dmaxI := e.dmax, e.dmaxI
+		fall := dmax - max(p, fallShare*math.Abs(e.dmin))
+		for ; j < end; j++ {
+			v := d[j]
+			if v > dmax {
+				dmax, dmaxI = v, j
+				fall = dmax - max(p, fallShare*math.Abs(e.dmin))
+			}
+			if v > h || v < fall {
+				break
+			}
+		}
+		e.dmax, e.dmaxI = dmax, dmaxI
+	}
+	return j
 }
 
 func (e *detector) startArrest(j int, d float64) {
