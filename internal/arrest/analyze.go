@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync"
 
 	"github.com/undercool-foundry/undercool/internal/curve"
 )
@@ -160,11 +161,22 @@ const (
 //     liquidus or eutectic minimum) to the end of freezing; the cooling rate
 //     is the mean slope of T over the 10 s before T' has risen halfway into
 //     the first arrest.
+//
+// Analyze takes its work space from a pool of Analyzers (safe for
+// concurrent use); no later call touches a Result it returned (an
+// Analyzer starts its problem list afresh on every new curve).
 func Analyze(t, temp []float64, opt Options) Result {
-	var a Analyzer
+	a := analyzers.Get().(*Analyzer)
+	a.Reset()
 	a.reserve = len(t)
-	return a.Analyze(t, temp, opt)
+	r := a.Analyze(t, temp, opt)
+	a.ts, a.raw = nil, nil // keep no reference to the caller's readings
+	analyzers.Put(a)
+	return r
 }
+
+// analyzers is the work space of Analyze.
+var analyzers = sync.Pool{New: func() any { return new(Analyzer) }}
 
 // Analyzer holds reusable work space and the state of a growing curve, so
 // that repeated live calls do not allocate and do not redo settled work:

@@ -368,3 +368,32 @@ func TestGoldenResults(t *testing.T) {
 		}
 	}
 }
+
+// Analyze shares its pooled work space safely: constructed curves analysed
+// from several goroutines at once give the results analysed one by one, and
+// an earlier Result's problems stay as they were.
+func TestAnalyzeConcurrent(t *testing.T) {
+	cs := constructedCases()
+	want := make([]Result, len(cs))
+	for i, c := range cs {
+		want[i] = Analyze(c.t, c.v, c.opt)
+	}
+	kept := slices.Clone(want[len(want)-1].Problems)
+	done := make(chan int)
+	for g := range 4 {
+		go func() {
+			for i := g; i < len(cs); i += 4 {
+				if got := Analyze(cs[i].t, cs[i].v, cs[i].opt); !reflect.DeepEqual(got, want[i]) {
+					t.Errorf("%s: concurrent result differs", cs[i].name)
+				}
+			}
+			done <- g
+		}()
+	}
+	for range 4 {
+		<-done
+	}
+	if !slices.Equal(kept, want[len(want)-1].Problems) || len(kept) == 0 {
+		t.Errorf("an earlier result's problems changed: %v, were %v", want[len(want)-1].Problems, kept)
+	}
+}
