@@ -144,3 +144,19 @@ func TestDespikeRunIsSpikeAt(t *testing.T) {
 		}
 	}
 }
+
+// round is math.Round (halves away from zero, integers, large, tiny, NaN
+// and infinite values, negative ones) on seeded random values.
+func TestRound(t *testing.T) {
+	vals := []float64{0, 0.5, 1.5, 2.5, 0.49999999999999994, 4503599627370495.5, 1 << 52, 1<<53 + 2, 1e300, 5e-324,
+		math.Inf(1), math.Inf(-1), math.NaN(), -0.5, -2.5, math.Nextafter(0.5, 0), math.Nextafter(1.5, 2)}
+	r := rand.New(rand.NewPCG(1, 2))
+	for range 20000 {
+		vals = append(vals, r.Float64()*math.Pow(10, float64(r.IntN(20))), float64(r.IntN(1000))/4, float64(r.IntN(1000))+0.5)
+	}
+	for _, v := range vals {
+		if got, want := round(v), math.Round(v); got != want && !(math.IsNaN(got) && math.IsNaN(want)) {
+			t.Fatalf("round(%v) = %v, math.Round %v", v, got, want)
+		}
+	}
+}

@@ -64,11 +64,24 @@ func withQuantisation(sig, q float64, x []float64) float64 {
 	inv := 1 / q
 	for i := 1; i < min(len(x), 9); i++ { // 8 steps tell a quantised logger
 		r := math.Abs(x[i]-x[i-1]) * inv
-		if math.Abs(r-math.Round(r)) >= 1e-6*max(1, r) {
+		if math.Abs(r-round(r)) >= 1e-6*max(1, r) {
 			return sig
 		}
 	}
 	return math.Hypot(sig, q/math.Sqrt(12))
+}
+
+// round is math.Round: for 0 < r < 2⁵² by the integer part and the (exact)
+// fraction r − ⌊r⌋ (halves away from zero), else math.Round itself.
+func round(r float64) float64 {
+	if r > 0 && r < 1<<52 {
+		t := float64(int64(r))
+		if r-t >= 0.5 {
+			t++
+		}
+		return t
+	}
+	return math.Round(r)
 }
 
 // NoiseFast is a cheaper estimate for short blocks of a curve, without
@@ -96,20 +109,22 @@ func NoiseFastSpan(scratch, x []float64) (sigma, span float64, _ []float64) {
 		scratch = make([]float64, n)
 	}
 	e := scratch[:n]
+	x = x[:n+2]
 	s := 0.0
-	q := math.Inf(1)
+	// q, the smallest non-zero |step|, without a branch: for values ≥ 0 the
+	// order of the bit patterns is that of the numbers, and bits − 1 turns
+	// a zero step into the largest pattern (a NaN step stays above +Inf, as
+	// it fails the comparison)
+	qb := math.Float64bits(math.Inf(1)) - 1
 	for i := 1; i <= n; i++ {
 		lo, hi = min(lo, x[i]), max(hi, x[i])
 		v := math.Abs(x[i+1] - 2*x[i] + x[i-1])
 		e[i-1] = v
 		s += v
-		if st := math.Abs(x[i] - x[i-1]); st > 0 && st < q {
-			q = st
-		}
+		qb = min(qb, math.Float64bits(math.Abs(x[i]-x[i-1]))-1)
 	}
-	if st := math.Abs(x[n+1] - x[n]); st > 0 && st < q {
-		q = st
-	}
+	qb = min(qb, math.Float64bits(math.Abs(x[n+1]-x[n]))-1)
+	q := math.Float64frombits(qb + 1)
 	cut := 4 * s / float64(n)
 	s2, k := 0.0, 0
 	for _, v := range e {
