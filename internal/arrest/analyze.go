@@ -306,8 +306,8 @@ func (a *Analyzer) run() {
 			a.filter(a.limit + 1)
 			return
 		}
-		if len(a.x) == before {
-			return
+		if len(a.x) < before+runStep {
+			return // the filter reached the end of the usable readings
 		}
 	}
 }
