@@ -46,6 +46,7 @@ type cup struct {
 	temp, rate trace
 	tempLC     *linechart.Model // charts kept between draws
 	rateLC     *linechart.Model
+	drawn      chartCache // the charts as last drawn
 	sl         slope
 	peakT      float64 // time of the highest reading so far (end of the pour transient)
 	peakV      float64
@@ -420,7 +421,46 @@ func (c *cup) ratePlot(st *Styles, w, h int, x1 float64) plot {
 		levels: []level{{y: 0, r: '·', style: st.Axis}}, niceX: true, lc: c.rateLC}
 }
 
+// chartEveryS is how far, in the sample's own seconds, the curve must have
+// grown before the charts are drawn again. A cup curve spans minutes, so a
+// chart column holds a second or more: a finer step changes no visible dot,
+// while drawing the charts is most of a redraw's cost.
+const chartEveryS = 0.5
+
+// chartCache is the charts' text as last drawn, with what it was drawn for.
+type chartCache struct {
+	key  chartKey
+	atS  float64 // c.elapsed when drawn
+	text string
+}
+
+// chartKey is what redraws the charts at once when it changes.
+type chartKey struct {
+	w, h  int
+	st    *Styles
+	state State
+	t0    float64 // a new sample
+	marks int     // a point settled
+	n     int     // readings, while there are too few for a trend to show
+	lastC int     // the reading in 10 °C steps, while no curve is drawn (it sets the scale)
+}
+
+// charts draws the curve and its rate, reusing the last drawing while the
+// sample has grown by less than chartEveryS and nothing else changed.
 func (c *cup) charts(st *Styles, w, h int) string {
+	key := chartKey{w: w, h: h, st: st, state: c.state, t0: c.t0, marks: len(c.marks()), n: min(len(c.t), 50)}
+	if len(c.t) == 0 && c.hasLast {
+		key.lastC = int(math.Floor(c.last.TempC / 10))
+	}
+	if d := c.drawn; d.text != "" && d.key == key && c.elapsed >= d.atS && c.elapsed-d.atS < chartEveryS {
+		return d.text
+	}
+	text := c.drawCharts(st, w, h)
+	c.drawn = chartCache{key: key, atS: c.elapsed, text: text}
+	return text
+}
+
+func (c *cup) drawCharts(st *Styles, w, h int) string {
 	// The curve comes first: the rate chart is drawn only when both get
 	// a readable height.
 	if h < 12 {

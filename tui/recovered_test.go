@@ -69,3 +69,40 @@ func flattenCmds(cmd tea.Cmd) []tea.Msg {
 	}
 	return []tea.Msg{msg}
 }
+
+// The charts are drawn again once the sample has grown by chartEveryS of
+// its own time, or at once when a point settles or the size changes; in
+// between the last drawing is reused.
+func TestChartsRedrawnBySampleTime(t *testing.T) {
+	m := New(Options{Title: "t", Styles: asciiStyles(), Analyzer: constructedAnalyzer, Judge: constructedJudge, Clock: fixedClock}).resize(120, 40)
+	bs := constructedBatches("1", 120, 10, 1) // one reading a batch, 0.1 s apart
+	for _, b := range bs[:300] {
+		tm, _ := m.Update(batchMsg{b})
+		m = tm.(Model)
+	}
+	m.View()
+	c := m.live.cup("1")
+	at := c.drawn.atS
+	for _, b := range bs[300:303] { // 0.3 s later: the same drawing
+		tm, _ := m.Update(batchMsg{b})
+		m = tm.(Model)
+		m.View()
+	}
+	if c.drawn.atS != at {
+		t.Fatalf("charts redrawn after %.1f s of sample time, want reuse below %.1f s", c.drawn.atS-at, chartEveryS)
+	}
+	for _, b := range bs[303:306] { // 0.6 s in all: drawn again
+		tm, _ := m.Update(batchMsg{b})
+		m = tm.(Model)
+		m.View()
+	}
+	if c.drawn.atS <= at {
+		t.Fatalf("charts not redrawn after %.1f s of sample time", c.elapsed-at)
+	}
+	old := c.drawn.key
+	m = m.resize(100, 30)
+	m.View()
+	if c.drawn.key == old {
+		t.Errorf("charts not redrawn for the new size (key %+v)", c.drawn.key)
+	}
+}
