@@ -375,13 +375,21 @@ func (a *Analyzer) ingest(t, temp []float64) {
 	if taking && !a.own && len(ts) == i0 {
 		// Fast path while nothing is dropped: check, and take a view once.
 		k := i0
-		for ; k < len(t); k++ {
-			ti, v := t[k], temp[k]
-			if !(ti > lastGoodT || goodT == 0 && ti == ti) || !(v <= MaxValidC && v >= MinValidC) { // NaN fails both
-				break
+		if k < len(t) && goodT == 0 { // the first time in order: any but NaN
+			if ti, v := t[k], temp[k]; ti == ti && v <= MaxValidC && v >= MinValidC {
+				goodT, lastGoodT, k = 1, ti, k+1
 			}
-			goodT++
-			lastGoodT = ti
+		}
+		if goodT > 0 {
+			from, temp := k, temp[:len(t)]
+			for ; k < len(t); k++ {
+				ti, v := t[k], temp[k]
+				if !(ti > lastGoodT) || !(v <= MaxValidC && v >= MinValidC) { // NaN fails both
+					break
+				}
+				lastGoodT = ti
+			}
+			goodT += k - from
 		}
 		ts, raw = t[:k], temp[:k]
 		i0 = k
