@@ -1008,14 +1008,12 @@ func (a *Analyzer) refineMax(lo, j, fallback int, firstReach bool) (Point, Point
 	if need := hi - lo + 1; cap(a.dl) < need {
 		a.dl = make([]float64, 0, max(need, 2*cap(a.dl)))
 	}
-	dl := a.dl[:0]
+	dl := a.sll.AppendSlopes(a.dl[:0], a.x, lo, hi+1, 1)
 	best, bi := math.Inf(-1), lo
-	for c := lo; c <= hi; c++ {
-		v := a.sll.SlopeAt(a.x, c)
-		v /= a.dt
-		dl = append(dl, v)
-		if v > best {
-			best, bi = v, c
+	for k := range dl {
+		dl[k] /= a.dt
+		if dl[k] > best {
+			best, bi = dl[k], lo+k
 		}
 	}
 	a.dl = dl[:0]
@@ -1094,13 +1092,12 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 	if need := hi - lo + 1; cap(a.dl) < need {
 		a.dl = make([]float64, 0, max(need, 2*cap(a.dl)))
 	}
-	ds := a.dl[:0]
+	ds := a.sll.AppendSlopes(a.dl[:0], a.x, lo, hi+1, 1)
 	m := lo
-	for c := lo; c <= hi; c++ {
-		v := a.sll.SlopeAt(a.x, c)
-		ds = append(ds, v/a.dt)
-		if ds[c-lo] < ds[m-lo] {
-			m = c
+	for k := range ds {
+		ds[k] /= a.dt
+		if ds[k] < ds[m-lo] {
+			m = lo + k
 		}
 	}
 	a.dl = ds[:0]
