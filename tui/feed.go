@@ -50,12 +50,20 @@ type feedClosedMsg struct{}
 // milliseconds of a line's arrival).
 const frameEvery = 33 * time.Millisecond
 
+// pacer remembers when readings were last handed to the model, so that
+// deliveries are at least frameEvery apart. One waitBatch runs at a time,
+// and the model handles its message before the next starts, so the field
+// needs no lock.
+type pacer struct{ last time.Time }
+
 // waitBatch returns the command that waits for the next batch. The model
-// re-arms it after every batchMsg. Batches that arrive within frameEvery of
-// the first are merged into one message (readings and events in order, the
-// latest status), so nothing is dropped and the view redraws once per
-// merged batch.
-func waitBatch(ch <-chan Batch) tea.Cmd {
+// re-arms it after every batchMsg. A batch that comes frameEvery or more
+// after the last delivery is handed over at once (with whatever else is
+// already waiting); one that comes sooner waits out the rest of the frame,
+// and what arrives meanwhile is merged into it (readings and events in
+// order, the latest status). Nothing is dropped, and the view redraws at
+// most 30 times a second.
+func waitBatch(ch <-chan Batch, p *pacer) tea.Cmd {
 	if ch == nil {
 		return nil
 	}
@@ -64,20 +72,36 @@ func waitBatch(ch <-chan Batch) tea.Cmd {
 		if !ok {
 			return feedClosedMsg{}
 		}
-		deadline := time.NewTimer(frameEvery)
-		defer deadline.Stop()
-		for {
+		if wait := frameEvery - time.Since(p.last); wait > 0 {
+			deadline := time.NewTimer(wait)
+			defer deadline.Stop()
+		collect:
+			for {
+				select {
+				case more, ok := <-ch:
+					if !ok {
+						break collect // deliver what came; the next wait reports the close
+					}
+					b = mergeBatch(b, more)
+				case <-deadline.C:
+					break collect
+				}
+			}
+		}
+		for drained := false; !drained; {
 			select {
 			case more, ok := <-ch:
 				if !ok {
-					// Deliver what came; the next wait reports the close.
-					return batchMsg{b}
+					drained = true
+					break
 				}
 				b = mergeBatch(b, more)
-			case <-deadline.C:
-				return batchMsg{b}
+			default:
+				drained = true
 			}
 		}
+		p.last = time.Now()
+		return batchMsg{b}
 	}
 }
 

@@ -58,6 +58,7 @@ type Model struct {
 	help help.Model
 	opt  Options
 	feed <-chan Batch
+	pace *pacer // spaces the deliveries of batches (feed.go)
 	log  *log.Logger
 
 	tab      tab
@@ -100,7 +101,7 @@ func New(opt Options) Model {
 	}
 	m := Model{st: opt.Styles, keys: DefaultKeys(), help: help.New(), opt: opt, log: log.New(opt.Log, "", log.LstdFlags)}
 	if opt.Source != nil {
-		m.feed = opt.Source.Batches()
+		m.feed, m.pace = opt.Source.Batches(), &pacer{}
 	}
 	m.help.Styles.ShortKey = m.st.Mark
 	m.help.Styles.ShortDesc = m.st.Muted
@@ -117,7 +118,7 @@ func New(opt Options) Model {
 
 // Init starts waiting for the first batch and loads the history.
 func (m Model) Init() tea.Cmd {
-	return tea.Batch(waitBatch(m.feed), loadHistory(m.opt.Records))
+	return tea.Batch(waitBatch(m.feed, m.pace), loadHistory(m.opt.Records))
 }
 
 // chrome is the rows taken by the title, status, help and safety lines.
@@ -152,7 +153,7 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 		}
 		var cmd tea.Cmd
 		m.live, cmd = m.live.Update(msg)
-		return m, tea.Batch(append(recovered, cmd, waitBatch(m.feed))...)
+		return m, tea.Batch(append(recovered, cmd, waitBatch(m.feed, m.pace))...)
 	case feedClosedMsg:
 		m.ended = true
 		m.feed = nil
