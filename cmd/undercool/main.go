@@ -11,6 +11,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"runtime/pprof"
 	"sort"
 	"syscall"
 )
@@ -52,7 +53,9 @@ var errUsage = errors.New("usage")
 func main() {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	env := &environ{stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, getenv: os.Getenv}
+	stopProfile := startProfile(env)
 	code := runMain(ctx, env, os.Args[1:])
+	stopProfile()
 	stop()
 	os.Exit(code)
 }
@@ -99,4 +102,26 @@ func usage(w io.Writer) {
 		fmt.Fprintf(w, "  %-10s %s\n", n, commands[n].summary)
 	}
 	fmt.Fprintln(w, "\nRun 'undercool COMMAND -h' for a command's options.")
+}
+
+// startProfile writes a CPU profile of the whole run to the file named by
+// $UNDERCOOL_CPUPROFILE, for developers measuring a live session (see
+// DEVELOPERS.md); it returns the function that ends the profile.
+func startProfile(env *environ) func() {
+	path := env.getenv("UNDERCOOL_CPUPROFILE")
+	if path == "" {
+		return func() {}
+	}
+	f, err := os.Create(path)
+	if err == nil {
+		err = pprof.StartCPUProfile(f)
+	}
+	if err != nil {
+		fmt.Fprintf(env.stderr, "undercool: UNDERCOOL_CPUPROFILE %s: %v\n", path, err)
+		return func() {}
+	}
+	return func() {
+		pprof.StopCPUProfile()
+		f.Close()
+	}
 }
