@@ -63,14 +63,18 @@ func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, no
 		w0, w1, w2, w3 := x[i-2], x[i-1], x[i], x[i+1]
 		for ; i < stop; i++ {
 			w4 := x[i+2]
-			// the same arithmetic as SpikeAt (w2 is the reading itself)
-			slope := min(math.Abs(w3-w1)/2, math.Abs(w4-w0)/4)
-			thr := base + 2*slope
+			// the same arithmetic as SpikeAt (w2 is the reading itself),
+			// after a cheaper test against base alone: thr ≥ base whenever
+			// the four differences are finite, so passing it passes SpikeAt's
 			v := w2
-			if !(math.Abs(w0-v) <= thr && math.Abs(w1-v) <= thr && math.Abs(w3-v) <= thr && math.Abs(w4-v) <= thr) {
-				if med := median5(w0, w1, w2, w3, w4); math.Abs(v-med) > thr {
-					v = med
-					spikes = append(spikes, i)
+			if !(math.Abs(w0-v) <= base && math.Abs(w1-v) <= base && math.Abs(w3-v) <= base && math.Abs(w4-v) <= base) {
+				slope := min(math.Abs(w3-w1)/2, math.Abs(w4-w0)/4)
+				thr := base + 2*slope
+				if !(math.Abs(w0-v) <= thr && math.Abs(w1-v) <= thr && math.Abs(w3-v) <= thr && math.Abs(w4-v) <= thr) {
+					if med := median5(w0, w1, w2, w3, w4); math.Abs(v-med) > thr {
+						v = med
+						spikes = append(spikes, i)
+					}
 				}
 			}
 			dst = append(dst, v)
