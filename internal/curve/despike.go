@@ -61,13 +61,21 @@ func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, no
 		base := max(minC, SpikeSigmas*noise)
 		x := x[:stop+2]
 		w0, w1, w2, w3 := x[i-2], x[i-1], x[i], x[i+1]
+		// the cheaper test of each reading, its four differences against
+		// base alone, from the differences of neighbours one and two apart
+		// (each computed once: |a−b| = |b−a| exactly): near1[k] tells
+		// |x[k+1]−x[k]| ≤ base, near2[k] |x[k+2]−x[k]| ≤ base
+		near2m2 := math.Abs(w2-w0) <= base // k = i−2
+		near1m1 := math.Abs(w2-w1) <= base // k = i−1
+		near2m1 := math.Abs(w3-w1) <= base
 		for ; i < stop; i++ {
 			w4 := x[i+2]
+			near1, near2 := math.Abs(w3-w2) <= base, math.Abs(w4-w2) <= base
 			// the same arithmetic as SpikeAt (w2 is the reading itself),
-			// after a cheaper test against base alone: thr ≥ base whenever
-			// the four differences are finite, so passing it passes SpikeAt's
+			// after the cheaper test: thr ≥ base whenever the four
+			// differences are finite, so passing it passes SpikeAt's
 			v := w2
-			if !(math.Abs(w0-v) <= base && math.Abs(w1-v) <= base && math.Abs(w3-v) <= base && math.Abs(w4-v) <= base) {
+			if !(near2m2 && near1m1 && near1 && near2) {
 				slope := min(math.Abs(w3-w1)/2, math.Abs(w4-w0)/4)
 				thr := base + 2*slope
 				if !(math.Abs(w0-v) <= thr && math.Abs(w1-v) <= thr && math.Abs(w3-v) <= thr && math.Abs(w4-v) <= thr) {
@@ -79,6 +87,7 @@ func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, no
 			}
 			dst = append(dst, v)
 			w0, w1, w2, w3 = w1, w2, w3, w4
+			near2m2, near2m1, near1m1 = near2m1, near2, near1
 		}
 	}
 	for ; i < to; i++ {

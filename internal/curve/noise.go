@@ -64,7 +64,14 @@ func withQuantisation(sig, q float64, x []float64) float64 {
 	inv := 1 / q
 	for i := 1; i < min(len(x), 9); i++ { // 8 steps tell a quantised logger
 		r := math.Abs(x[i]-x[i-1]) * inv
-		if math.Abs(r-round(r)) >= 1e-6*max(1, r) {
+		if r == float64(int64(r)) {
+			continue // a whole number (below 2⁶³): round(r) = r
+		}
+		tol := 1e-6 // 1e-6·max(1, r); a NaN r fails the test either way
+		if r > 1 {
+			tol *= r
+		}
+		if math.Abs(r-round(r)) >= tol {
 			return sig
 		}
 	}
@@ -117,7 +124,14 @@ func NoiseFastSpan(scratch, x []float64) (sigma, span float64, _ []float64) {
 	// it fails the comparison)
 	qb := math.Float64bits(math.Inf(1)) - 1
 	for i := 1; i <= n; i++ {
-		lo, hi = min(lo, x[i]), max(hi, x[i])
+		// lo and hi by comparison, not min and max (no NaN and signed-zero
+		// handling per reading); a NaN reading makes s NaN, and the span is
+		// then taken again by min and max below
+		if xi := x[i]; xi < lo {
+			lo = xi
+		} else if xi > hi {
+			hi = xi
+		}
 		v := math.Abs(x[i+1] - 2*x[i] + x[i-1])
 		e[i-1] = v
 		s += v
@@ -125,6 +139,12 @@ func NoiseFastSpan(scratch, x []float64) (sigma, span float64, _ []float64) {
 	}
 	qb = min(qb, math.Float64bits(math.Abs(x[n+1]-x[n]))-1)
 	q := math.Float64frombits(qb + 1)
+	span = hi - lo
+	if s != s {
+		span = spanOf(x)
+	} else if span == 0 {
+		span = 0 // +0, as max − min gives, whatever the zeros' signs
+	}
 	cut := 4 * s / float64(n)
 	s2, k := 0.0, 0
 	for _, v := range e {
@@ -137,7 +157,16 @@ func NoiseFastSpan(scratch, x []float64) (sigma, span float64, _ []float64) {
 	if k > 0 {
 		sig = s2 / float64(k) * math.Sqrt(math.Pi/2) / math.Sqrt(6)
 	}
-	return withQuantisation(sig, q, x), hi - lo, scratch
+	return withQuantisation(sig, q, x), span, scratch
+}
+
+// spanOf is max(x) − min(x) by the built-in min and max (NaN if any x is).
+func spanOf(x []float64) float64 {
+	lo, hi := x[0], x[0]
+	for _, v := range x {
+		lo, hi = min(lo, v), max(hi, v)
+	}
+	return hi - lo
 }
 
 // selectSmallest reorders v so that its k smallest values come first
