@@ -481,8 +481,17 @@ func (a *Analyzer) noiseBlocks(need int) {
 		sig := math.NaN() // a block spanning the pour says nothing about noise
 		if span <= blockRangeC {
 			sig = est
-			pos, _ := slices.BinarySearch(a.sorted, sig)
-			a.sorted = slices.Insert(a.sorted, pos, sig)
+			// insert in order, searching from the end (neighbouring blocks
+			// agree): the order slices.BinarySearch and slices.Insert give
+			// (equal values are alike; a NaN, which readings in range
+			// cannot give, goes first as there)
+			srt := append(a.sorted, sig)
+			p := len(srt) - 1
+			for ; p > 0 && (srt[p-1] > sig || sig != sig); p-- {
+				srt[p] = srt[p-1]
+			}
+			srt[p] = sig
+			a.sorted = srt
 		}
 		a.blockSig = append(a.blockSig, sig)
 		// median of the valid estimates among the first b+1 blocks (kept sorted)
@@ -572,8 +581,9 @@ func (a *Analyzer) filter(upto int) {
 				a.pourConf = k
 			}
 		}
-		for k = max(k, 1); k < end; k++ {
-			if v := x[k]; math.Abs(v-x[k-1]) > StepFaultC {
+		k = max(k, 1)
+		for xe := x[:end]; k < end; k++ { // (the slice hint drops the bounds checks)
+			if v := xe[k]; math.Abs(v-xe[k-1]) > StepFaultC {
 				a.stop(k, len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: the reading jumped from %.1f to %.1f °C at %.1f s and stayed; the curve after it was not analysed", x[k-1], v, a.ts[k]))
 				a.end = k
 				x = x[:k]
