@@ -97,8 +97,8 @@ func round(r float64) float64 {
 // times √(π/2)/√6, the ratio of σ to the mean absolute value of N(0, 6σ²);
 // quantisation as for Noise. The clipping removes a spike's few values but
 // not a broad disturbance (the pour, a sharp bend): combine block estimates
-// by a median. 0 for fewer than 3 samples. scratch is work space (nil
-// allocates); the possibly grown scratch is returned for reuse.
+// by a median. 0 for fewer than 3 samples. scratch is returned as given:
+// the estimate needs no work space (the parameter is kept for callers).
 func NoiseFast(scratch, x []float64) (float64, []float64) {
 	sig, _, scratch := NoiseFastSpan(scratch, x)
 	return sig, scratch
@@ -112,12 +112,9 @@ func NoiseFastSpan(scratch, x []float64) (sigma, span float64, _ []float64) {
 		return 0, 0, scratch
 	}
 	lo, hi := min(x[0], x[n+1]), max(x[0], x[n+1])
-	if cap(scratch) < n {
-		scratch = make([]float64, n)
-	}
-	e := scratch[:n]
 	x = x[:n+2]
 	s := 0.0
+	eb := uint64(0) // the largest e_i, as its bit pattern (e_i ≥ 0 or NaN)
 	// q, the smallest non-zero |step|, without a branch: for values ≥ 0 the
 	// order of the bit patterns is that of the numbers, and bits − 1 turns
 	// a zero step into the largest pattern (a NaN step stays above +Inf, as
@@ -133,8 +130,8 @@ func NoiseFastSpan(scratch, x []float64) (sigma, span float64, _ []float64) {
 			hi = xi
 		}
 		v := math.Abs(x[i+1] - 2*x[i] + x[i-1])
-		e[i-1] = v
 		s += v
+		eb = max(eb, math.Float64bits(v))
 		qb = min(qb, math.Float64bits(math.Abs(x[i]-x[i-1]))-1)
 	}
 	qb = min(qb, math.Float64bits(math.Abs(x[n+1]-x[n]))-1)
@@ -146,11 +143,17 @@ func NoiseFastSpan(scratch, x []float64) (sigma, span float64, _ []float64) {
 		span = 0 // +0, as max − min gives, whatever the zeros' signs
 	}
 	cut := 4 * s / float64(n)
-	s2, k := 0.0, 0
-	for _, v := range e {
-		if v <= cut {
-			s2 += v
-			k++
+	// the clipped sum: when no e_i exceeds the cut (the usual case) it is s
+	// itself, the same values added in the same order; else a second pass
+	// recomputes the e_i
+	s2, k := s, n
+	if !(math.Float64frombits(eb) <= cut) {
+		s2, k = 0, 0
+		for i := 1; i <= n; i++ {
+			if v := math.Abs(x[i+1] - 2*x[i] + x[i-1]); v <= cut {
+				s2 += v
+				k++
+			}
 		}
 	}
 	sig := 0.0
