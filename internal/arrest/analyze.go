@@ -841,8 +841,7 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 			e.cand = j
 			e.maxPt = a.crossing(j - 1)
 		}
-		sdT := a.sigma(j) * a.gainS
-		if e.cand >= 0 && (d < -h || a.sm(j) < e.maxPt.TempC-math.Max(dropFloor, 6*sdT)) {
+		if e.cand >= 0 && (d < -h || a.sm(j) < e.maxPt.TempC-math.Max(dropFloor, 6*(a.sigma(j)*a.gainS))) { // 6·σ_T
 			a.arrest(j, e.minPt, e.maxPt, true, p)
 		}
 	}
