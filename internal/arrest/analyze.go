@@ -222,7 +222,6 @@ type Analyzer struct {
 	sigByCount      []float64 // median σ of the first k blocks
 	validByCount    []int     // valid block estimates among the first k blocks
 	sorted          []float64 // work space for the median
-	scratch         []float64 // work space for the noise estimate
 	xmax            float64
 	xmaxI, pourConf int
 	pourBelow       int // consecutive readings below the peak by the pour drop
@@ -335,7 +334,7 @@ func (a *Analyzer) reset(opt Options, n int) {
 	*a = Analyzer{
 		opt: opt, h: FamilyHints(opt.Family), reserve: a.reserve,
 		tsBuf: a.tsBuf[:0], rawBuf: a.rawBuf[:0], dl: a.dl[:0], x: a.x[:0], d: a.d[:0],
-		blockSig: a.blockSig[:0], sigByCount: append(a.sigByCount[:0], 0), sorted: a.sorted[:0], scratch: a.scratch,
+		blockSig: a.blockSig[:0], sigByCount: append(a.sigByCount[:0], 0), sorted: a.sorted[:0],
 		validByCount: append(a.validByCount[:0], 0),
 		ready:        true, probs: nil, probAt: a.probAt[:0], spikes: a.spikes[:0], end: math.MaxInt, limit: math.MaxInt, xmax: math.Inf(-1), pourConf: -1, // probs never reused: earlier Results share it
 	}
@@ -476,9 +475,8 @@ func (a *Analyzer) noiseBlocks(need int) {
 			return
 		}
 		blk := a.raw[b*a.block : hi]
-		est, span, scratch := curve.NoiseFastSpan(a.scratch, blk)
-		a.scratch = scratch
-		sig := math.NaN() // a block spanning the pour says nothing about noise
+		est, span, _ := curve.NoiseFastSpan(nil, blk) // needs no work space
+		sig := math.NaN()                             // a block spanning the pour says nothing about noise
 		if span <= blockRangeC {
 			sig = est
 			// insert in order, searching from the end (neighbouring blocks
