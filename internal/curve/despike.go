@@ -1,6 +1,9 @@
 package curve
 
-import "math"
+import (
+	"math"
+	"slices"
+)
 
 // Spike test (a Hampel-type median test on five samples). Sample i is a spike
 // when it lies further from the median of its five-sample window than
@@ -68,7 +71,11 @@ func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, no
 		near2m2 := math.Abs(w2-w0) <= base // k = i−2
 		near1m1 := math.Abs(w2-w1) <= base // k = i−1
 		near2m1 := math.Abs(w3-w1) <= base
-		for ; i < stop; i++ {
+		// the values are stored into dst grown once, not appended one by one
+		nd := len(dst)
+		dst = slices.Grow(dst, stop-i)
+		out := dst[nd : nd+stop-i]
+		for o := range out {
 			w4 := x[i+2]
 			near1, near2 := math.Abs(w3-w2) <= base, math.Abs(w4-w2) <= base
 			// the same arithmetic as SpikeAt (w2 is the reading itself),
@@ -85,10 +92,12 @@ func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, no
 					}
 				}
 			}
-			dst = append(dst, v)
+			out[o] = v
 			w0, w1, w2, w3 = w1, w2, w3, w4
 			near2m2, near2m1, near1m1 = near2m1, near2, near1
+			i++
 		}
+		dst = dst[:nd+len(out)]
 	}
 	for ; i < to; i++ {
 		dst, spikes = spikeStep(dst, spikes, x, i, minC, noise)
