@@ -1,9 +1,11 @@
 package acquire
 
 import (
+	"bytes"
 	"errors"
 	"fmt"
 	"strconv"
+	"strings"
 	"sync/atomic"
 )
 
@@ -191,7 +193,10 @@ func ParseLine(b []byte) (Line, error) {
 	if len(b) == 0 {
 		return l, nil
 	}
-	if n := len(b); n >= 3 && b[n-3] == '*' {
+	// A checksum ends the line: '*' and two hex digits, outside a quoted
+	// value (values cannot hold '"', so an odd count of quotes before the
+	// '*' means it is inside one).
+	if n := len(b); n >= 3 && b[n-3] == '*' && bytes.Count(b[:n-3], []byte{'"'})%2 == 0 {
 		want, ok := unhex(b[n-2], b[n-1])
 		if !ok {
 			return l, fmt.Errorf("checksum %q is not two hex digits", b[n-3:])
@@ -527,7 +532,9 @@ func AppendLine(b []byte, l Line) []byte {
 			b = append(b, ' ')
 			b = append(b, kv.Key...)
 			b = append(b, '=')
-			if kv.Value == "" || indexByte([]byte(kv.Value), ' ') >= 0 || indexByte([]byte(kv.Value), '\t') >= 0 {
+			// Quoted when empty, when it holds a blank, or a '*' that would
+			// otherwise read as the start of a checksum.
+			if kv.Value == "" || strings.ContainsAny(kv.Value, " \t*") {
 				b = append(b, '"')
 				b = append(b, kv.Value...)
 				b = append(b, '"')
