@@ -9,9 +9,11 @@ import (
 
 	"github.com/charmbracelet/bubbles/key"
 	tea "github.com/charmbracelet/bubbletea"
+	"github.com/charmbracelet/lipgloss"
 
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/store"
 )
 
 // preferredMetrics come first in the trend's metric cycle; any other
@@ -293,7 +295,8 @@ func fmtOpt(v *float64, f string) string {
 }
 
 // trend draws the metric across the samples shown, oldest on the left, with
-// the alloy's pass band (solid) and marginal band (dotted) where set.
+// the alloy's pass band (solid) and marginal band (dotted) where set, and
+// for a single alloy its SPC centre line and control limits.
 func (p historyPane) trend(es []Entry, h int) string {
 	name := p.metricName()
 	var xs, ys []float64
@@ -326,6 +329,20 @@ func (p historyPane) trend(es []Entry, h int) string {
 					levels = append(levels, level{y: *b.v, r: b.r, style: p.st.Limit})
 					lo, hi = math.Min(lo, *b.v), math.Max(hi, *b.v)
 				}
+			}
+		}
+	}
+	// Simple SPC for one alloy: an individuals chart, centre line at the
+	// mean and control limits at ±3σ with σ = MR̄/1.128 (store.ComputeSPC).
+	// Mixed alloys get none: their values do not come from one process.
+	// Drawn only where the chart has rows enough to place the lines.
+	if alloy != "" && len(ys) >= 3 && h-1 >= 10 {
+		if spc := store.ComputeSPC(ys); !math.IsNaN(spc.UCL) {
+			levels = append(levels, level{y: spc.Mean, r: '╌', style: p.st.Muted},
+				level{y: spc.UCL, r: '┄', style: p.st.Muted}, level{y: spc.LCL, r: '┄', style: p.st.Muted})
+			lo, hi = math.Min(lo, spc.LCL), math.Max(hi, spc.UCL)
+			if note := p.st.Muted.Render(fmt.Sprintf("  SPC mean %.1f ╌, limits %.1f…%.1f ┄", spc.Mean, spc.LCL, spc.UCL)); lipgloss.Width(title+note) <= p.w {
+				title += note
 			}
 		}
 	}
