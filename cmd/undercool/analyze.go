@@ -3,11 +3,13 @@ package main
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"flag"
 	"fmt"
 	"io"
 	"os"
 	"runtime"
+	"slices"
 	"strings"
 	"sync"
 
@@ -31,7 +33,8 @@ const analyzeUsage = `usage: undercool analyze [--json] [--alloy NAME] [--limits
 Reads each curve file, finds the characteristic points of its cooling curve
 and judges them against the alloy's limits. The alloy comes from --alloy,
 else from the file's '# alloy:' line. Without --limits the shipped example
-limits are used, whose numbers the shop's metallurgist must set.
+limits are used, whose numbers the shop's metallurgist must set. A FILE of
+"-" is a curve read from standard input.
 
 --json writes one JSON object per file, one a line, as each file finishes.
 --store also keeps each analysis in the records database (--db PATH, else
@@ -67,6 +70,20 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 		fmt.Fprintln(env.stderr, analyzeUsage)
 		return errUsage
 	}
+	// "-" is a curve read from standard input (once, before the workers).
+	read := curvefile.ReadFile
+	if slices.Contains(files, "-") {
+		if *storeIt {
+			return errors.New("--store needs curve files: standard input (-) has no file to keep and verify")
+		}
+		c, err := curvefile.Read(env.stdin, "-")
+		read = func(path string) (*curvefile.Curve, error) {
+			if path == "-" {
+				return c, err
+			}
+			return curvefile.ReadFile(path)
+		}
+	}
 	var book *limits.Book // nil: assess uses the shipped examples
 	if *limitsPath != "" {
 		if book, err = limits.Load(*limitsPath); err != nil {
@@ -86,7 +103,7 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 	out.start()
 	wctx, cancel := context.WithCancel(ctx)
 	defer cancel()
-	results := analyzeFiles(wctx, files, *alloy, book)
+	results := analyzeFiles(wctx, files, *alloy, book, read)
 	for a := range results {
 		if err := out.result(a); err != nil {
 			cancel()
@@ -115,7 +132,7 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 // analyzeFiles reads and assesses the files on GOMAXPROCS workers and sends
 // each outcome as soon as it is ready (in finishing order). The channel is
 // closed when every file is done or ctx is cancelled.
-func analyzeFiles(ctx context.Context, files []string, alloy string, book *limits.Book) <-chan analyzed {
+func analyzeFiles(ctx context.Context, files []string, alloy string, book *limits.Book, read func(string) (*curvefile.Curve, error)) <-chan analyzed {
 	jobs := make(chan int)
 	results := make(chan analyzed)
 	workers := min(runtime.GOMAXPROCS(0), len(files))
@@ -123,7 +140,7 @@ func analyzeFiles(ctx context.Context, files []string, alloy string, book *limit
 	for range workers {
 		wg.Go(func() {
 			for i := range jobs {
-				results <- analyzeOne(i, files[i], alloy, book)
+				results <- analyzeOne(i, files[i], alloy, book, read)
 			}
 		})
 	}
@@ -144,8 +161,13 @@ func analyzeFiles(ctx context.Context, files []string, alloy string, book *limit
 	return results
 }
 
-func analyzeOne(i int, path, alloy string, book *limits.Book) analyzed {
-	c, err := curvefile.ReadFile(path)
+// analyzeOne reads one curve with read (nil: curvefile.ReadFile) and
+// assesses it.
+func analyzeOne(i int, path, alloy string, book *limits.Book, read func(string) (*curvefile.Curve, error)) analyzed {
+	if read == nil {
+		read = curvefile.ReadFile
+	}
+	c, err := read(path)
 	if err != nil {
 		return analyzed{index: i, err: err}
 	}

@@ -3,6 +3,7 @@ package main
 import (
 	"bufio"
 	"bytes"
+	"context"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -360,5 +361,37 @@ func TestAnalyzeProgressOnTerminal(t *testing.T) {
 	}
 	if len(jsonLines(t, out.String())) != 2 {
 		t.Errorf("stdout %q", out.String())
+	}
+}
+
+// "-" reads the curve from standard input, named "-" in the result and in
+// its errors; --store refuses it (there is no file to keep and verify).
+func TestAnalyzeStdin(t *testing.T) {
+	curve, err := os.ReadFile(filepath.Join("..", "..", "testdata", "files", "grey-iron-own-format.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var out, errb bytes.Buffer
+	env := &environ{stdin: bytes.NewReader(curve), stdout: &out, stderr: &errb, getenv: func(string) string { return "" }}
+	if code := runMain(context.Background(), env, []string{"analyze", "--json", "-"}); code != 0 {
+		t.Fatalf("exit %d, stderr:\n%s", code, errb.String())
+	}
+	var rec map[string]any
+	if err := json.Unmarshal(out.Bytes(), &rec); err != nil {
+		t.Fatalf("%v in %q", err, out.String())
+	}
+	if rec["file"] != "-" || rec["alloy"] != "grey-iron" || rec["eutectic_min_c"] == nil {
+		t.Errorf("record from stdin: file %v alloy %v eutectic_min_c %v", rec["file"], rec["alloy"], rec["eutectic_min_c"])
+	}
+
+	out.Reset()
+	errb.Reset()
+	env.stdin = strings.NewReader("time_s,temp_c\n0,25\n0.1,hot\n")
+	if code := runMain(context.Background(), env, []string{"analyze", "-"}); code != 1 || !strings.Contains(errb.String(), "-:3:") {
+		t.Errorf("bad stdin: exit %d, stderr %q (want exit 1 naming -:3)", code, errb.String())
+	}
+	errb.Reset()
+	if code := runMain(context.Background(), env, []string{"analyze", "--store", "-"}); code != 1 || !strings.Contains(errb.String(), "standard input") {
+		t.Errorf("--store with stdin: exit %d, stderr %q", code, errb.String())
 	}
 }
