@@ -579,9 +579,11 @@ func (a *Analyzer) filter(upto int) {
 				a.pourConf = k
 			}
 		}
-		k = max(k, 1)
-		for xe := x[:end]; k < end; k++ { // (the slice hint drops the bounds checks)
-			if v := xe[k]; math.Abs(v-xe[k-1]) > StepFaultC {
+		k = max(k, 1)  // ≤ end, as end > i
+		prev := x[k-1] // the previous reading, carried: no bounds checks in the loop
+		for o, v := range x[k:end] {
+			if math.Abs(v-prev) > StepFaultC {
+				k += o
 				a.stop(k, len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: the reading jumped from %.1f to %.1f °C at %.1f s and stayed; the curve after it was not analysed", x[k-1], v, a.ts[k]))
 				a.end = k
 				x = x[:k]
@@ -590,6 +592,7 @@ func (a *Analyzer) filter(upto int) {
 				}
 				break
 			}
+			prev = v
 		}
 		if a.stopped && a.end <= end {
 			break
