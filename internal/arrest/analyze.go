@@ -475,9 +475,9 @@ func (a *Analyzer) noiseBlocks(need int) {
 			return
 		}
 		blk := a.raw[b*a.block : hi]
-		est, span, _ := curve.NoiseFastSpan(nil, blk) // needs no work space
-		sig := math.NaN()                             // a block spanning the pour says nothing about noise
-		if span <= blockRangeC {
+		est, within := curve.NoiseFastWithin(blk, blockRangeC)
+		sig := math.NaN() // a block spanning the pour says nothing about noise
+		if within {
 			sig = est
 			// insert in order, searching from the end (neighbouring blocks
 			// agree): the order slices.BinarySearch and slices.Insert give

@@ -142,6 +142,42 @@ func NoiseFastSpan(scratch, x []float64) (sigma, span float64, _ []float64) {
 	} else if span == 0 {
 		span = 0 // +0, as max − min gives, whatever the zeros' signs
 	}
+	return clippedNoise(x, s, eb, q), span, scratch
+}
+
+// NoiseFastWithin is NoiseFast together with whether the span
+// max(x) − min(x) is at most maxSpan (NoiseFastSpan's span ≤ maxSpan, the
+// same answer), for callers that only compare the span. The span is
+// bounded by the sum of |x[i] − x[i−1]| (taken with 1e-9 of it to spare for
+// rounding) and taken by min and max only when that bound exceeds maxSpan:
+// no minimum and maximum per reading. A NaN reading gives a NaN estimate
+// and false, as NoiseFastSpan's NaN span does.
+func NoiseFastWithin(x []float64, maxSpan float64) (sigma float64, within bool) {
+	n := len(x) - 2
+	if n < 1 {
+		return 0, 0 <= maxSpan
+	}
+	x = x[:n+2]
+	s, tv := 0.0, math.Abs(x[n+1]-x[n])
+	eb := uint64(0)                // as in NoiseFastSpan
+	qb := math.Float64bits(tv) - 1 // the last step's pattern, as there
+	for i := 1; i <= n; i++ {
+		v := math.Abs(x[i+1] - 2*x[i] + x[i-1])
+		s += v
+		eb = max(eb, math.Float64bits(v))
+		st := math.Abs(x[i] - x[i-1])
+		tv += st
+		qb = min(qb, math.Float64bits(st)-1)
+	}
+	q := math.Float64frombits(min(qb, math.Float64bits(math.Inf(1))-1) + 1)
+	within = tv*(1+1e-9) <= maxSpan || spanOf(x) <= maxSpan
+	return clippedNoise(x, s, eb, q), within
+}
+
+// clippedNoise finishes NoiseFast from the sum s of the n = len(x)−2 values
+// |e_i|, the bit pattern eb of the largest and the smallest non-zero step q.
+func clippedNoise(x []float64, s float64, eb uint64, q float64) float64 {
+	n := len(x) - 2
 	cut := 4 * s / float64(n)
 	// the clipped sum: when no e_i exceeds the cut (the usual case) it is s
 	// itself, the same values added in the same order; else a second pass
@@ -160,7 +196,7 @@ func NoiseFastSpan(scratch, x []float64) (sigma, span float64, _ []float64) {
 	if k > 0 {
 		sig = s2 / float64(k) * math.Sqrt(math.Pi/2) / math.Sqrt(6)
 	}
-	return withQuantisation(sig, q, x), span, scratch
+	return withQuantisation(sig, q, x)
 }
 
 // spanOf is max(x) − min(x) by the built-in min and max (NaN if any x is).
