@@ -37,11 +37,8 @@ func runDemo(ctx context.Context, env *environ, args []string) error {
 		fmt.Fprintln(env.stderr, "Without a terminal it prints the readings and results as lines.")
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return nil
-		}
-		return errUsage
+	if help, err := parseFlags(fs, args); help || err != nil {
+		return err
 	}
 	if fs.NArg() > 0 {
 		fmt.Fprintf(env.stderr, "undercool demo: unexpected argument %q\n", fs.Arg(0))

@@ -53,18 +53,7 @@ func runExport(ctx context.Context, env *environ, args []string) error {
 		fmt.Fprintln(env.stderr, "undercool export: --json does not go with --csv, --decimal-comma or --bom")
 		return errUsage
 	}
-	flt, err := f.filter(time.Now())
-	if err != nil {
-		fmt.Fprintf(env.stderr, "undercool export: %v\n", err)
-		return errUsage
-	}
-	flt.Full, flt.Oldest = true, true
-	db, err := openRecords(ctx, env, f.db)
-	if err != nil {
-		return err
-	}
-	defer db.Close()
-	entries, err := db.History(ctx, flt)
+	entries, _, err := f.entries(ctx, env, "export", func(flt *store.Filter) { flt.Full, flt.Oldest = true, true })
 	if err != nil {
 		return err
 	}

@@ -54,6 +54,26 @@ func (f *recordsFlags) register(fs *flag.FlagSet) {
 }
 
 // filter turns the flags into a store filter.
+// entries reads the stored samples the flags select, after adjust has set
+// what the command needs of the filter, and says which database they came
+// from. A bad filter flag is a usage error (named on stderr under the
+// command's name).
+func (f *recordsFlags) entries(ctx context.Context, env *environ, cmd string, adjust func(*store.Filter)) ([]store.Entry, string, error) {
+	flt, err := f.filter(time.Now())
+	if err != nil {
+		fmt.Fprintf(env.stderr, "undercool %s: %v\n", cmd, err)
+		return nil, "", errUsage
+	}
+	adjust(&flt)
+	db, err := openRecords(ctx, env, f.db)
+	if err != nil {
+		return nil, "", err
+	}
+	defer db.Close()
+	es, err := db.History(ctx, flt)
+	return es, db.Path(), err
+}
+
 func (f *recordsFlags) filter(now time.Time) (store.Filter, error) {
 	flt := store.Filter{Alloy: f.alloy, Ladle: f.ladle, Verdict: f.verdict, Limit: f.limit, AllResults: f.allResults}
 	switch f.verdict {
@@ -167,18 +187,7 @@ func runHistory(ctx context.Context, env *environ, args []string) error {
 		fmt.Fprintln(env.stderr, "undercool history: give --json or --csv, not both")
 		return errUsage
 	}
-	flt, err := f.filter(time.Now())
-	if err != nil {
-		fmt.Fprintf(env.stderr, "undercool history: %v\n", err)
-		return errUsage
-	}
-	flt.Full = f.json || f.csv
-	db, err := openRecords(ctx, env, f.db)
-	if err != nil {
-		return err
-	}
-	defer db.Close()
-	entries, err := db.History(ctx, flt)
+	entries, dbPath, err := f.entries(ctx, env, "history", func(flt *store.Filter) { flt.Full = f.json || f.csv })
 	if err != nil {
 		return err
 	}
@@ -188,7 +197,7 @@ func runHistory(ctx context.Context, env *environ, args []string) error {
 	case f.csv:
 		return writeRecordsCSV(env.stdout, entries, csvOptions{})
 	}
-	return writeHistoryTable(env.stdout, entries, db.Path())
+	return writeHistoryTable(env.stdout, entries, dbPath)
 }
 
 // historyColumns are the figures the history table shows, with headings.

@@ -7,6 +7,7 @@ package main
 import (
 	"context"
 	"errors"
+	"flag"
 	"fmt"
 	"io"
 	"os"
@@ -124,4 +125,17 @@ func startProfile(env *environ) func() {
 		pprof.StopCPUProfile()
 		f.Close()
 	}
+}
+
+// parseFlags parses a subcommand's args. help is true when -h or -help was
+// asked (the flag set has printed its usage; the command then returns nil);
+// a bad flag gives errUsage (the flag set has said what was wrong).
+func parseFlags(fs *flag.FlagSet, args []string) (help bool, err error) {
+	if err := fs.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return true, nil
+		}
+		return false, errUsage
+	}
+	return false, nil
 }

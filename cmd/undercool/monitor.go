@@ -42,11 +42,8 @@ func runMonitor(ctx context.Context, env *environ, args []string) error {
 		fmt.Fprintln(env.stderr, "usage: undercool monitor --port PATH [--baud N] [--frame 8N1] [--tc K] [--cj C] [--data DIR] [--db PATH] [--limits FILE]")
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return nil
-		}
-		return errUsage
+	if help, err := parseFlags(fs, args); help || err != nil {
+		return err
 	}
 	if *port == "" || fs.NArg() > 0 {
 		fmt.Fprintln(env.stderr, "undercool monitor: --port is required (and no other arguments)")

@@ -3,7 +3,6 @@ package main
 import (
 	"context"
 	"encoding/json"
-	"errors"
 	"flag"
 	"fmt"
 	"runtime"
@@ -45,11 +44,8 @@ func runPorts(ctx context.Context, env *environ, args []string) error {
 		fmt.Fprintln(env.stderr, "Lists the serial ports this computer has; "+portNameHelp()+".")
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return nil
-		}
-		return errUsage
+	if help, err := parseFlags(fs, args); help || err != nil {
+		return err
 	}
 	if fs.NArg() > 0 {
 		return errUsage

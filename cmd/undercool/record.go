@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"errors"
 	"flag"
 	"fmt"
 	"path/filepath"
@@ -54,11 +53,8 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 		fmt.Fprintln(env.stderr, "Molten metal: follow your shop's procedures; this tool only records.")
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return nil
-		}
-		return errUsage
+	if help, err := parseFlags(fs, args); help || err != nil {
+		return err
 	}
 	if *port == "" || fs.NArg() > 0 {
 		fmt.Fprintln(env.stderr, "undercool record: --port is required (and no other arguments)")

@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"errors"
 	"flag"
 	"fmt"
 	"path/filepath"
@@ -34,11 +33,8 @@ func runReplay(ctx context.Context, env *environ, args []string) error {
 	var files []string
 	rest := args
 	for {
-		if err := fs.Parse(rest); err != nil {
-			if errors.Is(err, flag.ErrHelp) {
-				return nil
-			}
-			return errUsage
+		if help, err := parseFlags(fs, rest); help || err != nil {
+			return err
 		}
 		if fs.NArg() == 0 {
 			break

@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -63,11 +62,8 @@ func runSimulate(ctx context.Context, env *environ, args []string) error {
 		fmt.Fprintln(env.stderr, "Writes a SIMULATED cup from the undercool cup model (not a measurement).")
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return nil
-		}
-		return errUsage
+	if help, err := parseFlags(fs, args); help || err != nil {
+		return err
 	}
 	if fs.NArg() > 0 {
 		fmt.Fprintf(env.stderr, "undercool simulate: unexpected argument %q\n", fs.Arg(0))
