@@ -380,15 +380,20 @@ func (a *Analyzer) ingest(t, temp []float64) {
 			}
 		}
 		if goodT > 0 {
-			from, temp := k, temp[:len(t)]
-			for ; k < len(t); k++ {
-				ti, v := t[k], temp[k]
-				if !(ti > lastGoodT) || !(v <= MaxValidC && v >= MinValidC) { // NaN fails both
+			from := k
+			tk := t[k:]
+			vk := temp[k:len(t)]
+			vk = vk[:len(tk)] // the same length: no bounds checks in the loop
+			ok := len(tk)
+			for o, ti := range tk {
+				if v := vk[o]; !(ti > lastGoodT) || !(v <= MaxValidC && v >= MinValidC) { // NaN fails both
+					ok = o
 					break
 				}
 				lastGoodT = ti
 			}
-			goodT += k - from
+			k = from + ok
+			goodT += ok
 		}
 		ts, raw = t[:k], temp[:k]
 		i0 = k
@@ -479,15 +484,21 @@ func (a *Analyzer) noiseBlocks(need int) {
 		sig := math.NaN() // a block spanning the pour says nothing about noise
 		if within {
 			sig = est
-			// insert in order, searching from the end (neighbouring blocks
-			// agree): the order slices.BinarySearch and slices.Insert give
+			// insert in order, after the estimates not above it (a binary
+			// search: "above" holds for a suffix of the sorted list), so
+			// in the order slices.BinarySearch and slices.Insert give
 			// (equal values are alike; a NaN, which readings in range
 			// cannot give, goes first as there)
 			srt := append(a.sorted, sig)
-			p := len(srt) - 1
-			for ; p > 0 && (srt[p-1] > sig || sig != sig); p-- {
-				srt[p] = srt[p-1]
+			p, top := 0, len(srt)-1
+			for p < top && sig == sig {
+				if m := int(uint(p+top) >> 1); srt[m] > sig {
+					top = m
+				} else {
+					p = m + 1
+				}
 			}
+			copy(srt[p+1:], srt[p:len(srt)-1])
 			srt[p] = sig
 			a.sorted = srt
 		}
@@ -743,9 +754,11 @@ func (a *Analyzer) detect() {
 
 // quietRun advances the arrest search over the indices from j before end
 // at which only the running minimum (before the rise into an arrest) or
-// maximum (on the rise) of T' changes, and returns the first index at which
-// arrestStep has more to do, or end: arrestStep at every index in a loop,
-// without the calls.
+// maximum (on the rise, and while T' stays positive in a recalescence whose
+// minimum is shown and no + → − crossing is pending, with the last index
+// above +h) of T' changes, and returns the first index at which arrestStep
+// has more to do, or end: arrestStep at every index in a loop, without the
+// calls.
 func (a *Analyzer) quietRun(j, end int, h, p float64) int {
 	e := &a.det
 	d := a.d[:end]
@@ -778,6 +791,24 @@ func (a *Analyzer) quietRun(j, end int, h, p float64) int {
 			}
 		}
 		e.dmax, e.dmaxI = dmax, dmaxI
+	case subPos:
+		if !e.minShown || e.cand >= 0 {
+			return j
+		}
+		dmax, dmaxI, last := e.dmax, e.dmaxI, e.lastAbove
+		for ; j < end; j++ {
+			v := d[j]
+			if !(v > 0) { // a crossing to come (cand stays −1 while T' > 0)
+				break
+			}
+			if v > dmax {
+				dmax, dmaxI = v, j
+			}
+			if v > h {
+				last = j
+			}
+		}
+		e.dmax, e.dmaxI, e.lastAbove = dmax, dmaxI, last
 	}
 	return j
 }

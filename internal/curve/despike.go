@@ -51,58 +51,101 @@ func SpikeAt(x []float64, i int, minC, noise float64) (float64, bool) {
 // DespikeRun applies the spike test to samples from … to−1 of x, all with
 // the same noise estimate, appending the values to dst and the indices of
 // the spikes to spikes; it returns both. It gives what SpikeAt in a loop
-// gives, for callers that despike a growing curve piece by piece; away from
-// the ends of x it keeps the five-sample window in registers and tests the
-// usual case, no spike, inline.
+// gives, for callers that despike a growing curve piece by piece. Away from
+// the ends of x it finds runs of readings that are no spike by the four
+// differences against the base threshold max(minC, 6·noise) alone
+// (quietCopy) and copies them; the rest go through spikeSlow, SpikeAt's
+// own arithmetic.
 func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, noise float64) ([]float64, []int) {
 	n := len(x)
 	i := from
 	for ; i < to && i < 2; i++ {
 		dst, spikes = spikeStep(dst, spikes, x, i, minC, noise)
 	}
-	if stop := min(to, n-2); i < stop {
-		base := max(minC, SpikeSigmas*noise)
-		x := x[:stop+2]
-		w0, w1, w2, w3 := x[i-2], x[i-1], x[i], x[i+1]
-		// the cheaper test of each reading, its four differences against
-		// base alone, from the differences of neighbours one and two apart
-		// (each computed once: |a−b| = |b−a| exactly): near1[k] tells
-		// |x[k+1]−x[k]| ≤ base, near2[k] |x[k+2]−x[k]| ≤ base
-		near2m2 := math.Abs(w2-w0) <= base // k = i−2
-		near1m1 := math.Abs(w2-w1) <= base // k = i−1
-		near2m1 := math.Abs(w3-w1) <= base
+	base := max(minC, SpikeSigmas*noise)
+	if stop := min(to, n-2); i < stop && base >= 0 { // not NaN, not negative: bit patterns order as the numbers
+		bb := math.Float64bits(base)
+		xs := x[i-2 : stop+2] // the window of out[o] is xs[o : o+5]
 		// the values are stored into dst grown once, not appended one by one
 		nd := len(dst)
 		dst = slices.Grow(dst, stop-i)
 		out := dst[nd : nd+stop-i]
-		for o := range out {
-			w4 := x[i+2]
-			near1, near2 := math.Abs(w3-w2) <= base, math.Abs(w4-w2) <= base
-			// the same arithmetic as SpikeAt (w2 is the reading itself),
-			// after the cheaper test: thr ≥ base whenever the four
-			// differences are finite, so passing it passes SpikeAt's
-			v := w2
-			if !(near2m2 && near1m1 && near1 && near2) {
-				slope := min(math.Abs(w3-w1)/2, math.Abs(w4-w0)/4)
-				thr := base + 2*slope
-				if !(math.Abs(w0-v) <= thr && math.Abs(w1-v) <= thr && math.Abs(w3-v) <= thr && math.Abs(w4-v) <= thr) {
-					if med := median5(w0, w1, w2, w3, w4); math.Abs(v-med) > thr {
-						v = med
-						spikes = append(spikes, i)
-					}
-				}
+		for o := 0; o < len(out); o++ {
+			if o += quietCopy(out[o:], xs[o:], bb); o == len(out) {
+				break
+			}
+			w := xs[o : o+5]
+			v := w[2]
+			if med, spike := spikeSlow(w[0], w[1], w[2], w[3], w[4], base); spike {
+				v = med
+				spikes = append(spikes, i+o)
 			}
 			out[o] = v
-			w0, w1, w2, w3 = w1, w2, w3, w4
-			near2m2, near2m1, near1m1 = near2m1, near2, near1
-			i++
 		}
 		dst = dst[:nd+len(out)]
+		i = stop
 	}
 	for ; i < to; i++ {
 		dst, spikes = spikeStep(dst, spikes, x, i, minC, noise)
 	}
 	return dst, spikes
+}
+
+// quietCopy copies to out[o] the middle reading of each leading
+// five-sample window xs[o : o+5] that is within base of each of its four
+// neighbours and returns how many it copied (len(out) ≥ len(xs) − 4), with
+// base given as its bit pattern bb (base ≥ 0): such a reading is no spike,
+// as thr ≥ base whenever the four differences are finite. The differences
+// are compared as the patterns of their magnitudes, which order as the
+// numbers do; a NaN's pattern lies above every finite one, so a NaN
+// difference fails here as it does in SpikeAt. Scanning in order, the
+// differences behind the middle reading k (to k−2 and k−1) are those ahead
+// of the readings before it, already passed (|a−b| = |b−a| exactly): the
+// first window tests all four, the second also the one two readings back
+// that the first did not, and from then on each window tests only its two
+// differences ahead, |x[k+1]−x[k]| and |x[k+2]−x[k]|.
+func quietCopy(out, xs []float64, bb uint64) int {
+	if len(xs) < 5 {
+		return 0
+	}
+	const sign = 1 << 63
+	w2 := xs[2]
+	if max(math.Float64bits(w2-xs[0])&^sign, math.Float64bits(w2-xs[1])&^sign,
+		math.Float64bits(xs[3]-w2)&^sign, math.Float64bits(xs[4]-w2)&^sign) > bb {
+		return 0
+	}
+	out[0] = w2
+	if math.Float64bits(xs[3]-xs[1])&^sign > bb { // behind the second window's middle
+		return 1
+	}
+	mid := xs[3 : len(xs)-2] // the middle readings from the second window on
+	next, next2 := xs[4:len(xs)-1], xs[5:]
+	next, next2, dst := next[:len(mid)], next2[:len(mid)], out[1:len(mid)+1]
+	for o, v := range mid {
+		if max(math.Float64bits(next[o]-v)&^sign, math.Float64bits(next2[o]-v)&^sign) > bb {
+			return 1 + o
+		}
+		dst[o] = v
+	}
+	return 1 + len(mid)
+}
+
+// spikeSlow is SpikeAt's test of the middle reading w2 of the window w0 … w4
+// beyond the base threshold max(minC, 6·noise): the median and whether w2
+// is a spike.
+//
+//go:noinline
+func spikeSlow(w0, w1, w2, w3, w4, base float64) (float64, bool) {
+	slope := min(math.Abs(w3-w1)/2, math.Abs(w4-w0)/4)
+	thr := base + 2*slope
+	v := w2
+	if math.Abs(w0-v) <= thr && math.Abs(w1-v) <= thr && math.Abs(w3-v) <= thr && math.Abs(w4-v) <= thr {
+		return v, false
+	}
+	if med := median5(w0, w1, w2, w3, w4); math.Abs(v-med) > thr {
+		return med, true
+	}
+	return v, false
 }
 
 // spikeStep is one SpikeAt appended to dst (and to spikes if a spike).

@@ -160,3 +160,42 @@ func TestRound(t *testing.T) {
 		}
 	}
 }
+
+// quietCopy copies exactly the middle readings of the leading windows
+// that are within base of all four neighbours (the four differences tested directly,
+// as floats), on seeded random readings with steps near the base, NaN,
+// infinities and signed zeros, from every start.
+func TestQuietWindowsIsTheFourDifferences(t *testing.T) {
+	r := rand.New(rand.NewPCG(5, 6))
+	specials := []float64{math.NaN(), math.Inf(1), math.Inf(-1), 0, math.Copysign(0, -1)}
+	for trial := range 400 {
+		base := []float64{0, 0.5, 1, 3}[trial%4]
+		n := 5 + r.IntN(60)
+		x := make([]float64, n)
+		v := 0.0
+		for i := range x {
+			v += (r.Float64()*2 - 1) * base * 0.9 // mostly quiet, some differences two apart exceed base
+			if r.IntN(40) == 0 {
+				v += base * (1 + r.Float64())
+			}
+			x[i] = v
+			if r.IntN(80) == 0 {
+				x[i] = specials[r.IntN(len(specials))]
+			}
+		}
+		for from := 0; from+5 <= n; from++ {
+			xs := x[from:]
+			want := 0
+			for ; want+5 <= len(xs); want++ {
+				w := xs[want : want+5]
+				if !(math.Abs(w[0]-w[2]) <= base && math.Abs(w[1]-w[2]) <= base && math.Abs(w[3]-w[2]) <= base && math.Abs(w[4]-w[2]) <= base) {
+					break
+				}
+			}
+			out := make([]float64, len(xs)-4)
+			if got := quietCopy(out, xs, math.Float64bits(base)); got != want || !slices.Equal(out[:want], xs[2:2+want]) {
+				t.Fatalf("trial %d from %d base %g: quietCopy %d (%v), want %d (x %v)", trial, from, base, got, out[:got], want, xs)
+			}
+		}
+	}
+}

@@ -1,5 +1,7 @@
 package curve
 
+import "slices"
+
 // Sliding gives the quadratic Savitzky–Golay smoothing and first derivative of
 // a window of 2·Half+1 samples from running moment sums, O(1) per sample
 // instead of O(window). For a centred window the quadratic (and cubic)
@@ -102,31 +104,54 @@ func (s *Sliding) SlopeAt(x []float64, c int) float64 {
 
 // AppendSlopes appends SlopeAt(x, c)·scale for the centres c = from … to−1
 // to dst and returns it: the values of SlopeAt in a loop, bit for bit, with
-// the sums kept in registers. The same rules apply as for SlopeAt.
+// the sums kept in registers, the readings leaving and entering the window
+// taken from two slices that move along x, and the re-anchoring done
+// between runs rather than tested at every centre. The same rules apply as
+// for SlopeAt.
 func (s *Sliding) AppendSlopes(dst, x []float64, from, to int, scale float64) []float64 {
+	if to <= from {
+		return dst
+	}
 	m := s.half
-	fm := float64(m)
+	fm, fm1 := float64(m), float64(m+1) // m+1 exactly, as SlopeAt's fm+1
+	inv := s.invSumK2
 	ref, s0, s1, prev := s.ref, s.s0, s.s1, s.c
-	for c := from; c < to; c++ {
-		if c == prev+1 && c%slidingAnchor != 0 {
-			out := x[c-1-m] - ref
-			in := x[c+m] - ref
-			a0 := s0 - out + in
-			s1 += fm*out + (fm+1)*in - a0
-			s0 = a0
-		} else {
+	nd := len(dst)
+	dst = slices.Grow(dst, to-from)[:nd+to-from]
+	out := dst[nd:]
+	for c := from; c < to; {
+		if c != prev+1 || c%slidingAnchor == 0 {
+			// the sums at c directly, as SlopeAt does
 			ref = x[c]
 			var t0, t1 float64
-			for k := -m; k <= m; k++ {
-				y := x[c+k] - ref
+			for k, v := range x[c-m : c+m+1] {
+				y := v - ref
 				t0 += y
-				t1 += float64(k) * y
+				t1 += float64(k-m) * y
 			}
 			s0, s1 = t0, t1
+			out[c-from] = s1 * inv * scale
+			prev = c
+			c++
+			continue
 		}
-		prev = c
-		v := s1 * s.invSumK2
-		dst = append(dst, v*scale)
+		// the binomial shift for every centre up to the next anchor
+		stop := min(to, (c/slidingAnchor+1)*slidingAnchor)
+		olds := x[c-1-m : stop-1-m]
+		news := x[c+m : stop+m]
+		news = news[:len(olds)]
+		o := out[c-from : stop-from]
+		o = o[:len(olds)]
+		for k, xo := range olds {
+			ov := xo - ref
+			in := news[k] - ref
+			a0 := s0 - ov + in
+			s1 += fm*ov + fm1*in - a0
+			s0 = a0
+			o[k] = s1 * inv * scale
+		}
+		prev = stop - 1
+		c = stop
 	}
 	s.ref, s.s0, s.s1, s.c = ref, s0, s1, prev
 	return dst
