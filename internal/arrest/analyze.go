@@ -112,7 +112,9 @@ const (
 //     after it and never on later data;
 //   - T is the quadratic Savitzky–Golay smoothing over Hints.SmoothS and T'
 //     the quadratic Savitzky–Golay derivative over Hints.SlopeS; at the start
-//     the polynomial of the first window is used (scipy's "interp"); the
+//     T is the polynomial of the first window (scipy's "interp"), and T' is
+//     not computed over the first half-window, which the arrest search
+//     never reaches (it begins half a T' window after the pour peak); the
 //     last half-window of a curve is never used for a point, so a point is
 //     only reported once no further reading can change it;
 //   - the pour peak is the highest despiked reading once the curve has
@@ -209,7 +211,7 @@ type Analyzer struct {
 	tsBuf, rawBuf []float64
 	curF, curD    sigCursor // noise look-ups of the filter and the detector
 	x             []float64 // despiked readings
-	d             []float64 // T' (°C/s); the smoothed T is computed where needed (sm)
+	d             []float64 // T' (°C/s; NaN over the first half-window); the smoothed T is computed where needed (sm)
 
 	rate, dt        float64
 	ws, wd          int
@@ -571,7 +573,8 @@ func (a *Analyzer) filter(upto int) {
 		if a.curF.hi == a.curF.lo { // estimate not final beyond i: one reading
 			end = i + 1
 		}
-		x, a.spikes = curve.DespikeRun(x, a.spikes, raw, i, end, SpikeMinC, sig)
+		var maxStep float64
+		x, a.spikes, maxStep = curve.DespikeRun(x, a.spikes, raw, i, end, SpikeMinC, sig)
 		// pour confirmation and the sustained-step fault, both on the despiked readings
 		k := i
 		for ; k < end && a.pourConf < 0; k++ {
@@ -590,9 +593,14 @@ func (a *Analyzer) filter(upto int) {
 				a.pourConf = k
 			}
 		}
-		k = max(k, 1)  // ≤ end, as end > i
+		k = max(k, 1) // ≤ end, as end > i
+		last := end
+		if maxStep <= StepFaultC {
+			// no step within the run can be a fault: only the one into it
+			last = min(end, max(k, i+1))
+		}
 		prev := x[k-1] // the previous reading, carried: no bounds checks in the loop
-		for o, v := range x[k:end] {
+		for o, v := range x[k:last] {
 			if math.Abs(v-prev) > StepFaultC {
 				k += o
 				a.stop(k, len(a.raw), CodeFault, fmt.Sprintf("thermocouple fault: the reading jumped from %.1f to %.1f °C at %.1f s and stayed; the curve after it was not analysed", x[k-1], v, a.ts[k]))
@@ -617,8 +625,10 @@ func (a *Analyzer) filter(upto int) {
 		return
 	}
 	d := a.d
+	// T' of the first half-window is never looked at (the arrest search
+	// begins half a window and more after the pour peak): NaN, not computed
 	for j := len(d); j < hd && j+hm < len(x); j++ {
-		d = append(d, a.kd.At(x[:a.wd], j, a.dt))
+		d = append(d, math.NaN())
 	}
 	if j := len(d); j+hm < len(x) {
 		d = a.sld.AppendSlopes(d, x, j, len(x)-hm, 1/a.dt)

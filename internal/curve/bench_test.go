@@ -10,7 +10,7 @@ func BenchmarkDespikeRun3000(b *testing.B) {
 	dst := make([]float64, 0, len(x))
 	var spikes []int
 	for b.Loop() {
-		dst, spikes = DespikeRun(dst[:0], spikes[:0], x, 0, len(x), 3, 0.2)
+		dst, spikes, _ = DespikeRun(dst[:0], spikes[:0], x, 0, len(x), 3, 0.2)
 	}
 }
 

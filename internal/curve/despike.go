@@ -56,9 +56,15 @@ func SpikeAt(x []float64, i int, minC, noise float64) (float64, bool) {
 // differences against the base threshold max(minC, 6·noise) alone
 // (quietCopy) and copies them; the rest go through spikeSlow, SpikeAt's
 // own arithmetic.
-func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, noise float64) ([]float64, []int) {
+//
+// maxStep bounds the steps within the run, |v[k] − v[k−1]| for the values
+// v of samples from < k < to: the base threshold when every sample of the
+// run passed that quick test (each is then its own reading, within base of
+// its neighbours), else +Inf (no bound known).
+func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, noise float64) (_ []float64, _ []int, maxStep float64) {
 	n := len(x)
 	i := from
+	maxStep = math.Inf(1)
 	for ; i < to && i < 2; i++ {
 		dst, spikes = spikeStep(dst, spikes, x, i, minC, noise)
 	}
@@ -70,10 +76,11 @@ func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, no
 		nd := len(dst)
 		dst = slices.Grow(dst, stop-i)
 		out := dst[nd : nd+stop-i]
-		for o := 0; o < len(out); o++ {
-			if o += quietCopy(out[o:], xs[o:], bb); o == len(out) {
-				break
-			}
+		o := quietCopy(out, xs, bb)
+		if o == len(out) && i == from && stop == to {
+			return dst[:nd+len(out)], spikes, base
+		}
+		for o < len(out) {
 			w := xs[o : o+5]
 			v := w[2]
 			if med, spike := spikeSlow(w[0], w[1], w[2], w[3], w[4], base); spike {
@@ -81,6 +88,8 @@ func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, no
 				spikes = append(spikes, i+o)
 			}
 			out[o] = v
+			o++
+			o += quietCopy(out[o:], xs[o:], bb)
 		}
 		dst = dst[:nd+len(out)]
 		i = stop
@@ -88,7 +97,7 @@ func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, no
 	for ; i < to; i++ {
 		dst, spikes = spikeStep(dst, spikes, x, i, minC, noise)
 	}
-	return dst, spikes
+	return dst, spikes, maxStep
 }
 
 // quietCopy copies to out[o] the middle reading of each leading

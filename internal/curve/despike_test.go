@@ -101,6 +101,7 @@ func first(v float64, _ []float64) float64 { return v }
 // spikes of both signs, adjacent pairs and a flat stretch.
 func TestDespikeRunIsSpikeAt(t *testing.T) {
 	r := rand.New(rand.NewPCG(11, 12))
+	bounded := 0
 	for _, n := range []int{5, 6, 9, 40, 3000} {
 		x := constructedCurve(n, 10, 0.2, uint64(n))
 		for i := range x {
@@ -132,7 +133,21 @@ func TestDespikeRunIsSpikeAt(t *testing.T) {
 			var gotSpikes []int
 			for i := 0; i < n; {
 				to := min(n, i+1+r.IntN(70))
-				got, gotSpikes = DespikeRun(got, gotSpikes, x, i, to, 3, noise)
+				var maxStep float64
+				got, gotSpikes, maxStep = DespikeRun(got, gotSpikes, x, i, to, 3, noise)
+				// a finite bound holds for the steps within the piece, whose
+				// values are then the readings themselves
+				if !math.IsInf(maxStep, 1) {
+					bounded++
+					if maxStep != max(3, SpikeSigmas*noise) || !slices.Equal(got[i:to], x[i:to]) {
+						t.Fatalf("n %d noise %g piece %d…%d: bound %g with despiked values", n, noise, i, to, maxStep)
+					}
+					for k := i + 1; k < to; k++ {
+						if math.Abs(got[k]-got[k-1]) > maxStep {
+							t.Fatalf("n %d noise %g: step %g at %d exceeds the bound %g", n, noise, got[k]-got[k-1], k, maxStep)
+						}
+					}
+				}
 				i = to
 			}
 			if !slices.Equal(got, want) || !slices.Equal(gotSpikes, wantSpikes) {
@@ -143,6 +158,10 @@ func TestDespikeRunIsSpikeAt(t *testing.T) {
 			}
 		}
 	}
+	if bounded == 0 {
+		t.Fatal("no piece came back with a step bound")
+	}
+	t.Logf("%d pieces came back with a step bound", bounded)
 }
 
 // round is math.Round (halves away from zero, integers, large, tiny, NaN
