@@ -279,15 +279,32 @@ func (a *Analyzer) Analyze(t, temp []float64, opt Options) Result {
 	if !a.ready || opt != a.opt || len(t) < a.nIn || a.nIn > 0 && (t[0] != a.first || !same(temp[a.nIn/2], a.mid) || t[a.nIn-1] != a.lastT || !same(temp[a.nIn-1], a.lastV)) {
 		a.reset(opt, len(t))
 	}
-	a.ingest(t, temp)
-	if a.rate == 0 && len(a.ts) >= rateReadings {
-		a.setRate()
-	}
-	if a.rate > 0 {
-		a.run()
+	// The readings are taken ingestStep at a time and analysed as they
+	// come, as in live use, so that a whole curve handed over at once is
+	// range-checked and filtered only as far as its analysis needs; once it
+	// is done (or stopped), the rest is checked for time order alone.
+	for k := a.nIn; ; {
+		k = min(len(t), k+ingestStep)
+		a.ingest(t[:k], temp[:k])
+		if a.rate == 0 && len(a.ts) >= rateReadings {
+			a.setRate()
+		}
+		if a.rate > 0 {
+			a.run()
+		}
+		if k == len(t) {
+			break
+		}
+		if a.stopped || a.det.stage == stageDone {
+			a.ingest(t, temp)
+			break
+		}
 	}
 	return a.result(live)
 }
+
+// ingestStep is how many readings Analyze takes in at a time.
+const ingestStep = 256
 
 // runStep is how many readings the filter takes ahead of the point finder
 // at a time, so that the analysis of a whole curve stops filtering soon
@@ -400,6 +417,17 @@ func (a *Analyzer) ingest(t, temp []float64) {
 		ts, raw = t[:k], temp[:k]
 		i0 = k
 	}
+	if !taking && goodT > 0 {
+		// only the time order counts now: the readings in order are
+		// counted here, the general loop takes over at the first that is
+		// not (or is NaN)
+		ok := inOrder(t[i0:], lastGoodT)
+		if ok > 0 {
+			lastGoodT = t[i0+ok-1]
+		}
+		goodT += ok
+		i0 += ok
+	}
 	for i := i0; i < len(t); i++ {
 		ti, v := t[i], temp[i]
 		if math.IsNaN(ti) || goodT > 0 && !(ti > lastGoodT) {
@@ -440,6 +468,21 @@ func (a *Analyzer) ingest(t, temp []float64) {
 	if n := len(t); n > 0 {
 		a.first, a.mid, a.lastT, a.lastV = t[0], temp[n/2], t[n-1], temp[n-1]
 	}
+}
+
+// inOrder is the number of leading times of t that increase strictly from
+// last (a NaN stops the count). Not inlined: on its own the loop keeps its
+// counter in a register.
+//
+//go:noinline
+func inOrder(t []float64, last float64) int {
+	for o, ti := range t {
+		if !(ti > last) {
+			return o
+		}
+		last = ti
+	}
+	return len(t)
 }
 
 func (a *Analyzer) stop(at, end int, code, msg string) {

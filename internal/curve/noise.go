@@ -62,8 +62,9 @@ func withQuantisation(sig, q float64, x []float64) float64 {
 		return sig
 	}
 	inv := 1 / q
-	for i := 1; i < min(len(x), 9); i++ { // 8 steps tell a quantised logger
-		r := math.Abs(x[i]-x[i-1]) * inv
+	w := x[:min(len(x), 9)]
+	for i := 1; i < len(w); i++ { // 8 steps tell a quantised logger
+		r := math.Abs(w[i]-w[i-1]) * inv
 		if r == float64(int64(r)) {
 			continue // a whole number (below 2⁶³): round(r) = r
 		}
