@@ -269,10 +269,11 @@ func dot(a, b []float64) float64 {
 	var s0, s1, s2, s3 float64
 	i := 0
 	for ; i+4 <= len(a); i += 4 {
-		s0 += a[i] * b[i]
-		s1 += a[i+1] * b[i+1]
-		s2 += a[i+2] * b[i+2]
-		s3 += a[i+3] * b[i+3]
+		p, q := a[i:i+4:i+4], b[i:i+4:i+4] // one bounds check for the four
+		s0 += p[0] * q[0]
+		s1 += p[1] * q[1]
+		s2 += p[2] * q[2]
+		s3 += p[3] * q[3]
 	}
 	for ; i < len(a); i++ {
 		s0 += a[i] * b[i]
