@@ -307,8 +307,9 @@ func (a *Analyzer) Analyze(t, temp []float64, opt Options) Result {
 const ingestStep = 256
 
 // runStep is how many readings the filter takes ahead of the point finder
-// at a time, so that the analysis of a whole curve stops filtering soon
-// after its end of freezing has settled.
+// at a time (at least; run rounds up to a noise block), so that the
+// analysis of a whole curve stops filtering soon after its end of freezing
+// has settled.
 const runStep = 64
 
 // run filters and examines the readings taken, runStep at a time, until the
@@ -317,14 +318,16 @@ const runStep = 64
 // count are those a filter of the whole curve finds there.
 func (a *Analyzer) run() {
 	for a.det.stage != stageDone {
-		before := len(a.x)
-		a.filter(before + runStep)
+		// at least runStep readings more, up to the end of a noise block,
+		// so that the filter's runs (one per block) are not split
+		upto := (len(a.x) + runStep + a.block - 1) / a.block * a.block
+		a.filter(upto)
 		a.detect()
 		if a.det.stage == stageDone {
 			a.filter(a.limit + 1)
 			return
 		}
-		if len(a.x) < before+runStep {
+		if len(a.x) < upto {
 			return // the filter reached the end of the usable readings
 		}
 	}
@@ -686,7 +689,7 @@ func (a *Analyzer) crossing(k int) Point {
 	if d1 != d0 {
 		f = d0 / (d0 - d1)
 	}
-	f = math.Max(0, math.Min(1, f))
+	f = max(0, min(1, f))
 	return Point{
 		TempC: a.sm(k) + f*(a.sm(k+1)-a.sm(k)),
 		TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]),
@@ -718,7 +721,7 @@ func (a *Analyzer) vertex(i int, d0, d1, d2 float64) Point {
 	den := d0 - 2*d1 + d2
 	f := 0.0
 	if den != 0 {
-		f = math.Max(-0.5, math.Min(0.5, 0.5*(d0-d2)/den))
+		f = max(-0.5, min(0.5, 0.5*(d0-d2)/den))
 	}
 	s0, s1, s2 := a.sm(i-1), a.sm(i), a.sm(i+1)
 	temp := s1 + f*(s2-s0)/2 + f*f*(s0-2*s1+s2)/2
@@ -783,7 +786,7 @@ func (a *Analyzer) detect() {
 			// the end of freezing settles once the drop below the
 			// plateau's T' is large enough and no lower T' has followed
 			// for ConfirmS
-			need := math.Max(p, math.Abs(e.res.CoolingRateCps)/3)
+			need := max(p, math.Abs(e.res.CoolingRateCps)/3)
 			dmin, dminI := e.dmin, e.dminI
 			dd, ts, confirm := a.d[:end], a.ts, a.h.ConfirmS
 			for ; j < end; j++ {
@@ -926,7 +929,7 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 			e.cand = j
 			e.maxPt = a.crossing(j - 1)
 		}
-		if e.cand >= 0 && (d < -h || a.sm(j) < e.maxPt.TempC-math.Max(dropFloor, 6*(a.sigma(j)*a.gainS))) { // 6·σ_T
+		if e.cand >= 0 && (d < -h || a.sm(j) < e.maxPt.TempC-max(dropFloor, 6*(a.sigma(j)*a.gainS))) { // 6·σ_T
 			a.arrest(j, e.minPt, e.maxPt, true, p)
 		}
 	}
@@ -1153,7 +1156,7 @@ func (a *Analyzer) refineMax(lo, j, fallback int, firstReach bool) (Point, Point
 func (a *Analyzer) levelPoint(k int, v0, v1, level float64) Point {
 	f := 0.0
 	if v1 != v0 {
-		f = math.Max(0, math.Min(1, (level-v0)/(v1-v0)))
+		f = max(0, min(1, (level-v0)/(v1-v0)))
 	}
 	return Point{TempC: a.sm(k) + f*(a.sm(k+1)-a.sm(k)), TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]), OK: true}
 }
@@ -1221,7 +1224,7 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 	fr := float64(r) + (level-at(r))/(at(r+1)-at(r))
 	// the bottom is resolved to half a window after T' first reaches it:
 	// beyond that a long flat run is the slow relaxation, not the dip
-	fr = math.Min(fr, fl+float64(h))
+	fr = min(fr, fl+float64(h))
 	mid := (fl + fr) / 2
 	k := int(math.Floor(mid))
 	f := mid - float64(k)
