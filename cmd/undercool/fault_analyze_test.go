@@ -83,7 +83,7 @@ func TestFaultAnalyzeBadFiles(t *testing.T) {
 		"fields.csv":     {"time_s;temp_c;ch\n0;1300;1\n0,1;1299\n", ":3: 2 fields where the header has 3 columns"},
 		"comma.csv":      {"time_s,temp_c\n0,1300\n0,1,1299,5\n", ":3: 4 fields where the header has 2 columns (a decimal comma"},
 		"noheader.csv":   {"seconds,pressure\n0,1\n", ":1: no temperature column"},
-		"units.csv":      {"time_s,Temp [°F]\n0,2372\n", `:1: column "Temp [°F]": temperatures must be in °C`},
+		"units.csv":      {"time_s,Temp [°R]\n0,2832\n", `:1: column "Temp [°R]": temperatures must be in °C, °F or K`},
 		"empty.csv":      {"", ":1: empty file"},
 		"binary.csv":     {"\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR\x00\x00", ":1: invalid UTF-8"},
 		"utf16.csv":      {"\xff\xfet\x00i\x00m\x00e\x00", ":1: UTF-16"},

@@ -41,8 +41,8 @@ func TestFaultReadBadInput(t *testing.T) {
 		{"missing time column", "temp_c\n1300\n", 1, "no time column"},
 		{"headerless single column", "1300\n1299\n", 1, "must have two columns"},
 		{"time in hours", "time_h,temp_c\n0,1300\n", 1, "no time column"},
-		{"kelvin", "time_s,T [K]\n0,1573\n", 1, `unit "k" not accepted`},
-		{"fahrenheit", "Time [min],Temp [°F]\n0,2372\n", 1, `unit "f" not accepted`},
+		{"rankine", "time_s,T [R]\n0,2832\n", 1, `unit "r" not accepted`},
+		{"reaumur", "Time [min],Temp [°Ré]\n0,1040\n", 1, `unit "ré" not accepted`},
 		{"2 MiB without a line end", strings.Repeat("7", 2*MaxLine), 1, "longer than"},
 	}
 	for _, tt := range tests {

@@ -64,7 +64,9 @@ func ReadFile(path string) (*Curve, error) {
 //     converted to s) name the time; "temp_c", "Temperature (°C)", "T degC"
 //     the temperature; "emf_mv", "EMF [mV]" a raw thermocouple EMF; "cj_c",
 //     "cold junction (°C)" its cold-junction temperature. Other columns are
-//     kept as text in Curve.Extra.
+//     kept as text in Curve.Extra. Temperatures in °F or K ("Temp [°F]",
+//     "temp_f", "T [K]", "CJ (°F)") are converted to °C on reading, and the
+//     metadata gain "converted_from: °F" (or K).
 //   - Without a header, the first reading line holds two numbers, read as
 //     seconds and °C.
 //   - An EMF column is converted to °C on reading (thermocouple package,
@@ -164,8 +166,44 @@ const (
 type column struct {
 	role  role
 	name  string
-	scale float64 // time unit to s
-	extra int     // index into Curve.Extra for roleExtra (and kept EMF/CJ)
+	scale float64  // time unit to s
+	unit  tempUnit // temperature unit (temperature and cold-junction columns)
+	extra int      // index into Curve.Extra for roleExtra (and kept EMF/CJ)
+}
+
+// tempUnit is the unit of a temperature column; its readings are converted
+// to °C as they are read.
+type tempUnit byte
+
+const (
+	unitC tempUnit = iota
+	unitF
+	unitK
+)
+
+// toC converts a reading in the unit to °C: t/°C = (t/°F − 32)/1.8 (NIST
+// SP 811, 2008 edition, appendix B.8; computed as ·5/9, exact for whole
+// °F steps of 9), t90/°C = T90/K − 273.15 (ITS-90, Preston-Thomas,
+// Metrologia 27 (1990) 3).
+func (u tempUnit) toC(v float64) float64 {
+	switch u {
+	case unitF:
+		return (v - 32) * 5 / 9
+	case unitK:
+		return v - 273.15
+	}
+	return v
+}
+
+// String is the unit's symbol.
+func (u tempUnit) String() string {
+	switch u {
+	case unitF:
+		return "°F"
+	case unitK:
+		return "K"
+	}
+	return "°C"
 }
 
 type field struct {
@@ -293,8 +331,8 @@ func (p *parser) header(fields []field) error {
 		if name == "" {
 			return fmt.Errorf("column %d of the header has no name", i+1)
 		}
-		r, scale := classify(name)
-		cols[i] = column{role: r, name: name, scale: scale}
+		r, scale, unit := classify(name)
+		cols[i] = column{role: r, name: name, scale: scale, unit: unit}
 		switch {
 		case r == roleExtra:
 		case first[r] == 0:
@@ -317,6 +355,9 @@ func (p *parser) header(fields []field) error {
 	}
 	switch {
 	case first[roleTemp] != 0:
+		if u := cols[first[roleTemp]-1].unit; u != unitC {
+			p.c.Set("converted_from", u.String())
+		}
 		// A temperature column wins: EMF and cold-junction columns are kept as text.
 		for i := range cols {
 			if cols[i].role == roleEMF || cols[i].role == roleCJ {
@@ -330,6 +371,9 @@ func (p *parser) header(fields []field) error {
 		if err := p.setupEMF(first[roleCJ] != 0); err != nil {
 			return err
 		}
+		if j := first[roleCJ]; j != 0 && cols[j-1].unit != unitC {
+			p.c.Set("converted_from", cols[j-1].unit.String())
+		}
 		cols[first[roleEMF]-1].name = "emf_mv"
 		if j := first[roleCJ]; j != 0 {
 			cols[j-1].name = "cj_c"
@@ -337,7 +381,7 @@ func (p *parser) header(fields []field) error {
 	default:
 		for _, c := range cols {
 			if base, unit := splitUnit(strings.ToLower(c.name)); tempNames[base] || (base == "t" && unit != "") {
-				return fmt.Errorf("column %q: temperatures must be in °C (unit %q not accepted)", c.name, unit)
+				return fmt.Errorf("column %q: temperatures must be in °C, °F or K (unit %q not accepted)", c.name, unit)
 			}
 		}
 		return fmt.Errorf("no temperature column (temp_c, or emf_mv with '# thermocouple:') in the header")
@@ -417,12 +461,13 @@ func (p *parser) reading(line []byte) error {
 			}
 			p.time = append(p.time, v)
 		case roleTemp:
-			p.temp = append(p.temp, v)
+			p.temp = append(p.temp, c.unit.toC(v))
 		case roleEMF:
 			emf = v
 			p.c.Extra[c.extra].Values = append(p.c.Extra[c.extra].Values, strconv.FormatFloat(v, 'f', -1, 64))
 		case roleCJ:
-			cj = v
+			cj = c.unit.toC(v)
+			v = cj // kept as cj_c, °C
 			p.c.Extra[c.extra].Values = append(p.c.Extra[c.extra].Values, strconv.FormatFloat(v, 'f', -1, 64))
 		}
 	}
@@ -594,40 +639,48 @@ func trimLeftBlanks(b []byte) []byte {
 	return b
 }
 
-// classify gives a header name's role, and for the time its unit in s.
-func classify(name string) (role, float64) {
+// classify gives a header name's role, for the time its unit in s, and for
+// a temperature (or cold junction) its unit.
+func classify(name string) (role, float64, tempUnit) {
 	base, unit := splitUnit(strings.ToLower(strings.TrimSpace(name)))
 	switch unit {
 	case "", "s", "sec", "secs", "second", "seconds":
 		if timeNames[base] {
-			return roleTime, 1
+			return roleTime, 1, unitC
 		}
 	case "ms":
 		if timeNames[base] {
-			return roleTime, 1000
+			return roleTime, 1000, unitC
 		}
 	case "min":
 		if timeNames[base] {
-			return roleTime, 1.0 / 60
+			return roleTime, 1.0 / 60, unitC
 		}
 	}
+	tu := unitC
 	switch unit {
-	case "", "c", "celsius":
+	case "f", "fahrenheit":
+		tu = unitF
+	case "k", "kelvin":
+		tu = unitK
+	}
+	switch unit {
+	case "", "c", "celsius", "f", "fahrenheit", "k", "kelvin":
 		switch {
 		case tempNames[base] || (base == "t" && unit != ""):
-			return roleTemp, 0
+			return roleTemp, 0, tu
 		case cjNames[base]:
-			return roleCJ, 0
+			return roleCJ, 0, tu
 		}
 	case "mv":
 		if emfNames[base] || base == "" {
-			return roleEMF, 0
+			return roleEMF, 0, unitC
 		}
 	}
 	if unit == "" && base == "mv" {
-		return roleEMF, 0
+		return roleEMF, 0, unitC
 	}
-	return roleExtra, 0
+	return roleExtra, 0, unitC
 }
 
 var (
@@ -658,7 +711,7 @@ func splitUnit(n string) (base, unit string) {
 		if i := strings.LastIndexAny(n, "_ "); i >= 0 && isUnit(n[i+1:]) {
 			base, unit = n[:i], n[i+1:]
 		} else {
-			for _, u := range []string{"°c", "℃", "degc"} {
+			for _, u := range []string{"°c", "℃", "degc", "°f", "℉", "degf"} {
 				if strings.HasSuffix(n, u) && len(n) > len(u) {
 					base, unit = n[:len(n)-len(u)], u
 					break
@@ -671,14 +724,14 @@ func splitUnit(n string) (base, unit string) {
 
 func isUnit(u string) bool {
 	switch cleanUnit(u) {
-	case "s", "ms", "min", "c", "mv", "sec", "celsius":
+	case "s", "ms", "min", "c", "mv", "sec", "celsius", "f", "fahrenheit", "k", "kelvin":
 		return true
 	}
 	return false
 }
 
 // unitCleaner drops degree signs, "deg", blanks and dots from a unit.
-var unitCleaner = strings.NewReplacer("°", "", "º", "", "℃", "c", "deg", "", " ", "", ".", "")
+var unitCleaner = strings.NewReplacer("°", "", "º", "", "℃", "c", "℉", "f", "deg", "", " ", "", ".", "")
 
 func cleanUnit(u string) string { return unitCleaner.Replace(u) }
 

@@ -8,6 +8,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -179,7 +180,7 @@ func TestReadErrors(t *testing.T) {
 		{"huge line", long, 3, "longer than"},
 		{"no time column", "seconds_since_boot,temp_c\n0,1\n", 1, "no time column"},
 		{"no temperature column", "time_s,pressure\n0,1\n", 1, "no temperature column"},
-		{"fahrenheit", "time_s,Temp [°F]\n0,1\n", 1, `temperatures must be in °C (unit "f" not accepted)`},
+		{"rankine", "time_s,Temp [°R]\n0,1\n", 1, `temperatures must be in °C, °F or K (unit "r" not accepted)`},
 		{"two time columns", "time_s,Time [s],temp_c\n0,0,1\n", 1, "two time columns"},
 		{"unclosed quote", "time_s,temp_c\n0,\"1\n", 2, "quote is not closed"},
 		{"text after quote", "time_s,temp_c\n0,\"1\"x\n", 2, "after a closing quote"},
@@ -350,21 +351,87 @@ func TestClassify(t *testing.T) {
 		name  string
 		role  role
 		scale float64
+		unit  tempUnit
 	}{
-		{"time_s", roleTime, 1}, {"Time", roleTime, 1}, {"TIME [s]", roleTime, 1}, {"t (s)", roleTime, 1},
-		{"t[s]", roleTime, 1}, {"Time/s", roleTime, 1}, {"time_ms", roleTime, 1000}, {"Time [ms]", roleTime, 1000},
-		{"elapsed (min)", roleTime, 1.0 / 60}, {"Elapsed time [sec]", roleTime, 1},
-		{"temp_c", roleTemp, 0}, {"Temperature (°C)", roleTemp, 0}, {"T degC", roleTemp, 0}, {"Temp(C)", roleTemp, 0},
-		{"T[°C]", roleTemp, 0}, {"temperature/°C", roleTemp, 0}, {"Temp °C", roleTemp, 0}, {"temp_degc", roleTemp, 0},
-		{"surface℃", roleExtra, 0}, {"temperature℃", roleTemp, 0},
-		{"emf_mv", roleEMF, 0}, {"EMF [mV]", roleEMF, 0}, {"mV", roleEMF, 0}, {"voltage (mV)", roleEMF, 0},
-		{"cj_c", roleCJ, 0}, {"CJ [°C]", roleCJ, 0}, {"cold junction (°C)", roleCJ, 0},
-		{"ch", roleExtra, 0}, {"flags", roleExtra, 0}, {"T [K]", roleExtra, 0}, {"pressure [bar]", roleExtra, 0},
+		{"time_s", roleTime, 1, unitC}, {"Time", roleTime, 1, unitC}, {"TIME [s]", roleTime, 1, unitC}, {"t (s)", roleTime, 1, unitC},
+		{"t[s]", roleTime, 1, unitC}, {"Time/s", roleTime, 1, unitC}, {"time_ms", roleTime, 1000, unitC}, {"Time [ms]", roleTime, 1000, unitC},
+		{"elapsed (min)", roleTime, 1.0 / 60, unitC}, {"Elapsed time [sec]", roleTime, 1, unitC},
+		{"temp_c", roleTemp, 0, unitC}, {"Temperature (°C)", roleTemp, 0, unitC}, {"T degC", roleTemp, 0, unitC}, {"Temp(C)", roleTemp, 0, unitC},
+		{"T[°C]", roleTemp, 0, unitC}, {"temperature/°C", roleTemp, 0, unitC}, {"Temp °C", roleTemp, 0, unitC}, {"temp_degc", roleTemp, 0, unitC},
+		{"surface℃", roleExtra, 0, unitC}, {"temperature℃", roleTemp, 0, unitC},
+		{"Temp [°F]", roleTemp, 0, unitF}, {"temp_f", roleTemp, 0, unitF}, {"Temperature (degF)", roleTemp, 0, unitF},
+		{"temperature℉", roleTemp, 0, unitF}, {"Temp °F", roleTemp, 0, unitF}, {"surface℉", roleExtra, 0, unitC},
+		{"T [K]", roleTemp, 0, unitK}, {"temp_k", roleTemp, 0, unitK}, {"Temperature (kelvin)", roleTemp, 0, unitK},
+		{"emf_mv", roleEMF, 0, unitC}, {"EMF [mV]", roleEMF, 0, unitC}, {"mV", roleEMF, 0, unitC}, {"voltage (mV)", roleEMF, 0, unitC},
+		{"cj_c", roleCJ, 0, unitC}, {"CJ [°C]", roleCJ, 0, unitC}, {"cold junction (°C)", roleCJ, 0, unitC}, {"CJ (°F)", roleCJ, 0, unitF},
+		{"ch", roleExtra, 0, unitC}, {"flags", roleExtra, 0, unitC}, {"Temp [°R]", roleExtra, 0, unitC}, {"pressure [bar]", roleExtra, 0, unitC},
 	}
 	for _, tt := range tests {
-		r, scale := classify(tt.name)
-		if r != tt.role || (r == roleTime && scale != tt.scale) {
-			t.Errorf("classify(%q) = %v, %v; want %v, %v", tt.name, r, scale, tt.role, tt.scale)
+		r, scale, unit := classify(tt.name)
+		if r != tt.role || (r == roleTime && scale != tt.scale) || unit != tt.unit {
+			t.Errorf("classify(%q) = %v, %v, %v; want %v, %v, %v", tt.name, r, scale, unit, tt.role, tt.scale, tt.unit)
 		}
+	}
+}
+
+// Temperatures in °F and K are converted to °C on reading, and the
+// metadata say so. References, tolerance 1e-9 °C: the ITS-90 fixed points,
+// listed in both T90/K and t90/°C (Preston-Thomas, Metrologia 27 (1990) 3,
+// Table 1: zinc 692.677 K = 419.527 °C, aluminium 933.473 K = 660.323 °C,
+// silver 1234.93 K = 961.78 °C, copper 1357.77 K = 1084.62 °C); for °F the
+// conversion of NIST SP 811 (2008), B.8, t/°C = (t/°F − 32)/1.8, at its
+// worked points 32 °F = 0 °C, 212 °F = 100 °C and −40 °F = −40 °C (practice),
+// 2372 °F = 1300 °C, and aluminium's 660.323 °C = 1220.5814 °F (the same
+// formula, computed here).
+func TestReadConvertsFahrenheitAndKelvin(t *testing.T) {
+	tests := []struct {
+		name, in, unit string
+		want           []float64
+	}{
+		{"kelvin", "time_s,T [K]\n0,692.677\n1,933.473\n2,1234.93\n3,1357.77\n", "K", []float64{419.527, 660.323, 961.78, 1084.62}},
+		{"kelvin, own-style name", "time_s;temp_k\n0;933,473\n", "K", []float64{660.323}},
+		{"fahrenheit", "Time [s],Temp [°F]\n0,32\n1,212\n2,-40\n3,2372\n4,1220.5814\n", "°F", []float64{0, 100, -40, 1300, 660.323}},
+		{"fahrenheit, degF", "time_s\tTemperature (degF)\n0\t2372\n", "°F", []float64{1300}},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			c, err := Read(strings.NewReader(tt.in), "deck/L-2431.csv")
+			if err != nil {
+				t.Fatal(err)
+			}
+			if len(c.Temp) != len(tt.want) {
+				t.Fatalf("%d readings, want %d", len(c.Temp), len(tt.want))
+			}
+			for i, w := range tt.want {
+				if math.Abs(c.Temp[i]-w) > 1e-9 {
+					t.Errorf("reading %d: %.12g °C, want %g", i, c.Temp[i], w)
+				}
+			}
+			if got := c.Get("converted_from"); got != tt.unit {
+				t.Errorf("converted_from %q, want %q", got, tt.unit)
+			}
+		})
+	}
+	// a cold junction in °F: 77 °F is 25 °C exactly, so the EMF file reads
+	// as the same file with cj_c 25
+	emf := func(cj string, v string) *Curve {
+		c, err := Read(strings.NewReader("# thermocouple: K\ntime_s,emf_mv,"+cj+"\n0,40.276,"+v+"\n1,20.0,"+v+"\n"), "raw.csv")
+		if err != nil {
+			t.Fatal(err)
+		}
+		return c
+	}
+	f, c := emf("CJ (°F)", "77"), emf("cj_c", "25")
+	if !slices.Equal(f.Temp, c.Temp) || f.Get("converted_from") != "°F" || c.Get("converted_from") != "" {
+		t.Errorf("cold junction in °F read %v (%q), in °C %v", f.Temp, f.Get("converted_from"), c.Temp)
+	}
+	// NIST SRD 60, type K: E(1000 °C) = 41.276 mV and E(25 °C) = 1.000 mV, so
+	// 40.276 mV over a 25 °C junction is 1000 °C within the tables' 0.001 mV
+	// (about 0.025 °C here)
+	if math.Abs(f.Temp[0]-1000) > 0.03 {
+		t.Errorf("40.276 mV over 77 °F: %.3f °C, want 1000", f.Temp[0])
+	}
+	if vals := f.Extra[len(f.Extra)-1]; vals.Name != "cj_c" || vals.Values[0] != "25" {
+		t.Errorf("the cold junction is kept as %q %v, want cj_c in °C", vals.Name, vals.Values)
 	}
 }
