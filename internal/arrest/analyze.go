@@ -611,6 +611,11 @@ func (a *Analyzer) filter(upto int) {
 	raw := a.raw[:n]
 	x := a.x // locals in the hot loops: no write barrier per reading
 	pourRun := max(3, int(math.Round(0.5*a.rate)))
+	// The noise of every block the chunk needs first: the estimates depend
+	// on the raw readings alone, and taken together they no longer wait,
+	// block by block, on the despiking in between (the calls in the loop
+	// then find them done).
+	a.noiseBlocks(min(upto, n) / a.block)
 	for i := len(x); i < upto && i+2 < n && n >= 5; {
 		// a run of readings that share one noise estimate
 		a.noiseBlocks(i / a.block)
