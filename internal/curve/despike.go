@@ -52,15 +52,15 @@ func SpikeAt(x []float64, i int, minC, noise float64) (float64, bool) {
 // the same noise estimate, appending the values to dst and the indices of
 // the spikes to spikes; it returns both. It gives what SpikeAt in a loop
 // gives, for callers that despike a growing curve piece by piece. Away from
-// the ends of x it finds runs of readings that are no spike by the four
-// differences against the base threshold max(minC, 6·noise) alone
+// the ends of x it finds runs of readings that are no spike because their
+// steps are small against the base threshold max(minC, 6·noise)
 // (quietCopy) and copies them; the rest go through spikeSlow, SpikeAt's
 // own arithmetic.
 //
 // maxStep bounds the steps within the run, |v[k] − v[k−1]| for the values
 // v of samples from < k < to: the base threshold when every sample of the
-// run passed that quick test (each is then its own reading, within base of
-// its neighbours), else +Inf (no bound known).
+// run passed that quick test (each is then its own reading, its steps at
+// most half the base), else +Inf (no bound known).
 func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, noise float64) (_ []float64, _ []int, maxStep float64) {
 	n := len(x)
 	i := from
@@ -70,7 +70,7 @@ func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, no
 	}
 	base := max(minC, SpikeSigmas*noise)
 	if stop := min(to, n-2); i < stop && base >= 0 { // not NaN, not negative: bit patterns order as the numbers
-		bb := math.Float64bits(base)
+		bb := math.Float64bits(quietStep(base))
 		xs := x[i-2 : stop+2] // the window of out[o] is xs[o : o+5]
 		// the values are stored into dst grown once, not appended one by one
 		nd := len(dst)
@@ -101,43 +101,47 @@ func DespikeRun(dst []float64, spikes []int, x []float64, from, to int, minC, no
 }
 
 // quietCopy copies to out[o] the middle reading of each leading
-// five-sample window xs[o : o+5] that is within base of each of its four
-// neighbours and returns how many it copied (len(out) ≥ len(xs) − 4), with
-// base given as its bit pattern bb (base ≥ 0): such a reading is no spike,
-// as thr ≥ base whenever the four differences are finite. The differences
-// are compared as the patterns of their magnitudes, which order as the
-// numbers do; a NaN's pattern lies above every finite one, so a NaN
-// difference fails here as it does in SpikeAt. Scanning in order, the
-// differences behind the middle reading k (to k−2 and k−1) are those ahead
-// of the readings before it, already passed (|a−b| = |b−a| exactly): the
-// first window tests all four, the second also the one two readings back
-// that the first did not, and from then on each window tests only its two
-// differences ahead, |x[k+1]−x[k]| and |x[k+2]−x[k]|.
-func quietCopy(out, xs []float64, bb uint64) int {
+// five-sample window xs[o : o+5] whose four steps, |xs[o+j+1] − xs[o+j]|
+// for j = 0 … 3, are all at most h, and returns how many it copied
+// (len(out) ≥ len(xs) − 4); h is given as its bit pattern hb (h ≥ 0), and
+// the steps are compared as the patterns of their magnitudes, which order
+// as the numbers do (a NaN's lies above every finite one, so a NaN step
+// fails). Each window adds one step to the one before, so the scan takes
+// one subtraction a reading.
+//
+// With h = quietStep(base) such a middle reading passes SpikeAt's quick
+// test, all four differences to its neighbours within base, and so is no
+// spike: the steps next to it are such differences themselves, and each
+// difference two readings apart is at most the sum of two steps, below
+// base with room for the rounding of all three subtractions.
+func quietCopy(out, xs []float64, hb uint64) int {
 	if len(xs) < 5 {
 		return 0
 	}
 	const sign = 1 << 63
-	w2 := xs[2]
-	if max(math.Float64bits(w2-xs[0])&^sign, math.Float64bits(w2-xs[1])&^sign,
-		math.Float64bits(xs[3]-w2)&^sign, math.Float64bits(xs[4]-w2)&^sign) > bb {
+	if max(math.Float64bits(xs[1]-xs[0])&^sign, math.Float64bits(xs[2]-xs[1])&^sign,
+		math.Float64bits(xs[3]-xs[2])&^sign, math.Float64bits(xs[4]-xs[3])&^sign) > hb {
 		return 0
 	}
-	out[0] = w2
-	if math.Float64bits(xs[3]-xs[1])&^sign > bb { // behind the second window's middle
-		return 1
-	}
-	mid := xs[3 : len(xs)-2] // the middle readings from the second window on
-	next, next2 := xs[4:len(xs)-1], xs[5:]
-	next, next2, dst := next[:len(mid)], next2[:len(mid)], out[1:len(mid)+1]
+	out[0] = xs[2]
+	// window o (from 1) adds the step from xs[o+3] to xs[o+4]
+	mid, from, to := xs[3:len(xs)-2], xs[4:len(xs)-1], xs[5:]
+	from, to, dst := from[:len(mid)], to[:len(mid)], out[1:len(mid)+1]
 	for o, v := range mid {
-		if max(math.Float64bits(next[o]-v)&^sign, math.Float64bits(next2[o]-v)&^sign) > bb {
+		if math.Float64bits(to[o]-from[o])&^sign > hb {
 			return 1 + o
 		}
 		dst[o] = v
 	}
 	return 1 + len(mid)
 }
+
+// quietStep is the largest step quietCopy lets through for the base
+// threshold: half of it, less 1e-12 of it. Two steps of at most that, each
+// rounded by its subtraction (relative error ≤ 2⁻⁵³), bound the exact
+// difference two readings apart by base·(1 − 2·10⁻¹²)/(1 − 2⁻⁵³), and its
+// rounded value stays below base.
+func quietStep(base float64) float64 { return base * (0.5 - 1e-12) }
 
 // spikeSlow is SpikeAt's test of the middle reading w2 of the window w0 … w4
 // beyond the base threshold max(minC, 6·noise): the median and whether w2

@@ -181,19 +181,28 @@ func TestRound(t *testing.T) {
 }
 
 // quietCopy copies exactly the middle readings of the leading windows
-// that are within base of all four neighbours (the four differences tested directly,
-// as floats), on seeded random readings with steps near the base, NaN,
-// infinities and signed zeros, from every start.
-func TestQuietWindowsIsTheFourDifferences(t *testing.T) {
+// whose four steps are within h (the steps tested directly, as floats),
+// and with h = quietStep(base) every reading it copies is within base of
+// all four neighbours, SpikeAt's quick test, so no spike: on seeded random
+// readings with steps near the limit, NaN, infinities and signed zeros,
+// from every start.
+func TestQuietCopyIsTheFourSteps(t *testing.T) {
 	r := rand.New(rand.NewPCG(5, 6))
 	specials := []float64{math.NaN(), math.Inf(1), math.Inf(-1), 0, math.Copysign(0, -1)}
-	for trial := range 400 {
-		base := []float64{0, 0.5, 1, 3}[trial%4]
+	copied := 0
+	for trial := range 2000 {
+		base := []float64{0, 0.5, 1, 3, 1e-300, 7.3}[trial%6]
+		h := quietStep(base)
 		n := 5 + r.IntN(60)
 		x := make([]float64, n)
-		v := 0.0
+		v := (r.Float64()*2 - 1) * 2000
 		for i := range x {
-			v += (r.Float64()*2 - 1) * base * 0.9 // mostly quiet, some differences two apart exceed base
+			switch r.IntN(3) {
+			case 0: // just within or just beyond the limit, either way
+				v += h * math.Copysign(1+(r.Float64()*2-1)*1e-15, r.Float64()-0.5)
+			default:
+				v += (r.Float64()*2 - 1) * h
+			}
 			if r.IntN(40) == 0 {
 				v += base * (1 + r.Float64())
 			}
@@ -207,14 +216,28 @@ func TestQuietWindowsIsTheFourDifferences(t *testing.T) {
 			want := 0
 			for ; want+5 <= len(xs); want++ {
 				w := xs[want : want+5]
-				if !(math.Abs(w[0]-w[2]) <= base && math.Abs(w[1]-w[2]) <= base && math.Abs(w[3]-w[2]) <= base && math.Abs(w[4]-w[2]) <= base) {
+				if !(math.Abs(w[1]-w[0]) <= h && math.Abs(w[2]-w[1]) <= h && math.Abs(w[3]-w[2]) <= h && math.Abs(w[4]-w[3]) <= h) {
 					break
 				}
 			}
 			out := make([]float64, len(xs)-4)
-			if got := quietCopy(out, xs, math.Float64bits(base)); got != want || !slices.Equal(out[:want], xs[2:2+want]) {
+			got := quietCopy(out, xs, math.Float64bits(h))
+			if got != want || !slices.Equal(out[:want], xs[2:2+want]) {
 				t.Fatalf("trial %d from %d base %g: quietCopy %d (%v), want %d (x %v)", trial, from, base, got, out[:got], want, xs)
 			}
+			for o := range got {
+				w := xs[o : o+5]
+				if !(math.Abs(w[0]-w[2]) <= base && math.Abs(w[1]-w[2]) <= base && math.Abs(w[3]-w[2]) <= base && math.Abs(w[4]-w[2]) <= base) {
+					t.Fatalf("trial %d: copied %v, beyond base %g of a neighbour", trial, w, base)
+				}
+				if _, spike := SpikeAt(w, 2, base, 0); spike {
+					t.Fatalf("trial %d: copied a spike %v", trial, w)
+				}
+			}
+			copied += got
 		}
+	}
+	if copied < 10000 {
+		t.Fatalf("only %d readings copied: the cases do not exercise the scan", copied)
 	}
 }
