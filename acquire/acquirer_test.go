@@ -65,7 +65,7 @@ func TestLifecycle(t *testing.T) {
 			t.Errorf("metadata %q missing: %v", k, c.meta)
 		}
 	}
-	if c.meta["sample"] != "L-2417 cup 1" || c.meta["operator"] != "Priya Natarajan" || c.meta["ended"] != "freezing done" {
+	if c.meta["sample"] != "L-2417 cup 1" || c.meta["operator"] != "Priya Natarajan" || c.meta["ended"] != "freezing done" || c.meta["simulated"] != "" {
 		t.Errorf("metadata %v", c.meta)
 	}
 	if !strings.Contains(filepath.Base(done.Path), "L-2417-cup-1") {
@@ -498,4 +498,28 @@ func BenchmarkAcquirerRecording(b *testing.B) {
 		time.Sleep(time.Millisecond)
 	}
 	b.ReportMetric(float64(sent)/time.Since(t0).Seconds(), "lines/s")
+}
+
+// A device that announces simulated=true (as the virtual melt deck does)
+// makes its samples '# simulated: true', as the simulator's own curve files
+// are, so that no record or report passes one off as a measurement.
+func TestSimulatedDeviceMarksItsSamples(t *testing.T) {
+	dir := t.TempDir()
+	port := newPipePort()
+	_, col, _ := startAcq(t, port.open, Config{Port: "fake0", Dir: dir,
+		Finished: finishedAfter(30), FreezeMarginS: 5})
+	sent := cupCurve(20, 12, 50)
+	w := port.plug()
+	go func() {
+		w.Write([]byte(`! dev=undercool-sim fw=1.0 tc=K simulated=true` + "\n"))
+		w.Write([]byte(`! sample="L-2451 cup 1" alloy=grey-iron simulated=true` + "\n"))
+		for _, r := range sent {
+			w.Write([]byte(r.line("1")))
+		}
+	}()
+	col.until("sample done", 10*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
+	c := readRows(t, col.has(EventSampleDone, "1").Path)
+	if c.meta["simulated"] != "true" || c.meta["sample"] != "L-2451 cup 1" || !strings.Contains(c.meta["device"], "simulated=true") {
+		t.Errorf("metadata %v, want simulated: true", c.meta)
+	}
 }

@@ -252,6 +252,14 @@ func (a *Acquirer) sampleMeta(c *channel, form []curvefile.Meta, why string) []c
 		}
 		add("device", b.String())
 	}
+	// a device that says it is simulated (the virtual melt deck) makes a
+	// simulated sample, marked as the simulator's own curve files are, so
+	// that records and report pages never pass it off as a measurement
+	for _, m := range a.devInfo {
+		if m.Key == "simulated" && strings.EqualFold(m.Value, "true") {
+			add("simulated", "true")
+		}
+	}
 	add("recorder", "undercool acquire, line protocol 1")
 	return meta
 }
