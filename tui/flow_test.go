@@ -17,6 +17,7 @@ import (
 	"github.com/muesli/termenv"
 
 	"github.com/undercool-foundry/undercool/acquire"
+	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sim"
 )
@@ -87,6 +88,8 @@ func TestFlowPourToVerdictOnSimulatedDeck(t *testing.T) {
 	}
 	if e.Path == "" || !strings.HasSuffix(e.Path, ".csv") {
 		t.Errorf("the sample's curve file is %q", e.Path)
+	} else if c, err := curvefile.ReadFile(e.Path); err != nil || c.Get("simulated") != "true" {
+		t.Errorf("the simulated deck's sample is not marked simulated: %v %v", err, c)
 	}
 	if e.Record.Verdict == "" || len(e.Time) < 100 {
 		t.Errorf("record %q with %d readings", e.Record.Verdict, len(e.Time))
