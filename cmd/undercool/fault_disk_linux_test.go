@@ -62,12 +62,14 @@ func TestFaultRecordOutReadOnly(t *testing.T) {
 
 // TestFaultAnalyzeStoreReadOnly: `undercool analyze --store` with the
 // records database in a read-only directory stops with exit 1 and an error
-// naming the database, before analysing; the database is unchanged.
+// naming the database, before analysing; the database is unchanged, and
+// history, export, verify and report still read it (read-only, with a
+// note).
 func TestFaultAnalyzeStoreReadOnly(t *testing.T) {
 	src := t.TempDir()
 	cup := simulatedCup(t, src, "L-2417-cup1.csv", "grey-iron", 17)
 	var db string
-	dir := faultReadOnlyTmpfs(t, func(dir string) {
+	faultReadOnlyTmpfs(t, func(dir string) {
 		db = filepath.Join(dir, "undercool.db")
 		if code, _, errs := recordsRun(t, "", "analyze", "--store", "--db", db, cup); code != 0 {
 			t.Fatalf("storing the first analysis: %s", errs)
@@ -81,9 +83,22 @@ func TestFaultAnalyzeStoreReadOnly(t *testing.T) {
 	if after, _ := os.ReadFile(db); string(after) != string(before) {
 		t.Error("the database changed")
 	}
-	// Reading the records from the read-only place is refused the same way
-	// (SQLite's WAL needs the directory), naming it.
-	if code, _, errs := recordsRun(t, "", "history", "--db", db); code != 1 || !strings.Contains(errs, dir) {
-		t.Errorf("history: exit %d, stderr %q", code, errs)
+	// The records can still be read there: history, export and verify
+	// open the database read-only and say so; nothing changes.
+	page := filepath.Join(src, "L-2417-cup1.svg")
+	for _, args := range [][]string{{"history", "--db", db}, {"export", "--db", db}, {"verify", "--db", db}, {"report", "1", "--db", db, "--out", page}} {
+		code, out, errs := recordsRun(t, "", args...)
+		if code != 0 || !strings.Contains(errs, "read read-only") || !strings.Contains(errs, db) {
+			t.Errorf("%v: exit %d, stderr %q", args, code, errs)
+		}
+		if (args[0] == "history" || args[0] == "export") && !strings.Contains(out, "grey-iron") {
+			t.Errorf("%v: the stored sample is not listed:\n%s", args, out)
+		}
+	}
+	if st, err := os.Stat(page); err != nil || st.Size() == 0 {
+		t.Errorf("no report page from the read-only records: %v", err)
+	}
+	if after, _ := os.ReadFile(db); string(after) != string(before) {
+		t.Error("the database changed while read")
 	}
 }

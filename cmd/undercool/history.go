@@ -3,9 +3,11 @@ package main
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"flag"
 	"fmt"
 	"io"
+	"os"
 	"strconv"
 	"strings"
 	"text/tabwriter"
@@ -65,7 +67,7 @@ func (f *recordsFlags) entries(ctx context.Context, env *environ, cmd string, ad
 		return nil, "", errUsage
 	}
 	adjust(&flt)
-	db, err := openRecords(ctx, env, f.db)
+	db, err := readRecords(ctx, env, f.db)
 	if err != nil {
 		return nil, "", err
 	}
@@ -163,14 +165,41 @@ func parseNoArgs(fs *flag.FlagSet, env *environ, args []string) (help bool, err 
 
 // openRecords opens the records database named by --db, else the default.
 func openRecords(ctx context.Context, env *environ, dbFlag string) (*store.DB, error) {
-	path := dbFlag
-	if path == "" {
-		var err error
-		if path, err = store.DefaultPath(env.getenv); err != nil {
-			return nil, err
-		}
+	path, err := recordsPath(env, dbFlag)
+	if err != nil {
+		return nil, err
 	}
 	return store.Open(ctx, path)
+}
+
+// readRecords is openRecords for the commands that only read (history,
+// export, report, verify): a database that cannot be written where it is
+// (an archive on read-only media) is opened read-only, with a note.
+func readRecords(ctx context.Context, env *environ, dbFlag string) (*store.DB, error) {
+	path, err := recordsPath(env, dbFlag)
+	if err != nil {
+		return nil, err
+	}
+	db, err := store.Open(ctx, path)
+	if err == nil || !errors.Is(err, store.ErrNotWritable) {
+		return db, err
+	}
+	if _, serr := os.Stat(path); serr != nil {
+		return nil, err // nothing there to read
+	}
+	db, rerr := store.OpenReadOnly(ctx, path)
+	if rerr != nil {
+		return nil, fmt.Errorf("%w; and read-only: %w", err, rerr)
+	}
+	fmt.Fprintf(env.stderr, "note: %s cannot be written here; its records are read read-only\n", path)
+	return db, nil
+}
+
+func recordsPath(env *environ, dbFlag string) (string, error) {
+	if dbFlag != "" {
+		return dbFlag, nil
+	}
+	return store.DefaultPath(env.getenv)
 }
 
 func runHistory(ctx context.Context, env *environ, args []string) error {

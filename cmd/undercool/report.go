@@ -102,7 +102,7 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 // reportStored loads a stored sample and its curve file; a curve file that
 // changed since it was stored is drawn as it is now, with a note.
 func reportStored(ctx context.Context, env *environ, dbPath string, id int64) (*curvefile.Curve, assess.Record, report.Info, error) {
-	db, err := openRecords(ctx, env, dbPath)
+	db, err := readRecords(ctx, env, dbPath)
 	if err != nil {
 		return nil, assess.Record{}, report.Info{}, err
 	}

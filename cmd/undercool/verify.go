@@ -33,7 +33,7 @@ func runVerify(ctx context.Context, env *environ, args []string) error {
 	if help, err := parseNoArgs(fs, env, args); help || err != nil {
 		return err
 	}
-	db, err := openRecords(ctx, env, *dbPath)
+	db, err := readRecords(ctx, env, *dbPath)
 	if err != nil {
 		return err
 	}

@@ -4,6 +4,7 @@ package store
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -121,13 +122,23 @@ func TestFaultStoreReadOnlyDir(t *testing.T) {
 			t.Errorf("%s opened on a read-only filesystem", p)
 			continue
 		}
-		if !strings.Contains(err.Error(), p) || !strings.Contains(err.Error(), "read-only file system") {
+		if !strings.Contains(err.Error(), p) || !strings.Contains(err.Error(), "read-only file system") || !errors.Is(err, ErrNotWritable) {
 			t.Errorf("Open(%s): %v; want a read-only error naming it", p, err)
 		}
 		t.Logf("read-only: %v", err)
 	}
+	// the records can still be read there
+	ro, err := OpenReadOnly(ctx, path)
+	if err != nil {
+		t.Fatalf("OpenReadOnly on the read-only filesystem: %v", err)
+	}
+	es, err := ro.History(ctx, Filter{})
+	if err != nil || len(es) != 1 {
+		t.Errorf("history read-only: %d entries, %v", len(es), err)
+	}
+	ro.Close()
 	remount(0)
-	db, err := Open(ctx, path)
+	db, err = Open(ctx, path)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -20,6 +20,7 @@ import (
 	"errors"
 	"fmt"
 	"io/fs"
+	"net/url"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -93,6 +94,78 @@ func open(ctx context.Context, path string, upto int) (*DB, error) {
 	return db, nil
 }
 
+// ErrNotWritable marks an Open that failed because the database or its
+// directory cannot be written (read-only media, permissions); such a
+// database may still be read with OpenReadOnly.
+var ErrNotWritable = errors.New("cannot be written")
+
+// OpenReadOnly opens an existing database for reading only, for where Open
+// cannot write (an archive on read-only media or a read-only share): to
+// look through the records, export or verify them. It reads through
+// SQLite's immutable mode, which takes no locks and reads no journal, so a
+// database with a write-ahead log beside it that is not empty (its last
+// samples may be there, not yet in the file) is refused, and so is one
+// whose schema is older or newer than this undercool's (it cannot be
+// brought up to date). Errors name the path; nothing is ever written.
+func OpenReadOnly(ctx context.Context, path string) (*DB, error) {
+	if path == "" {
+		return nil, errors.New("store: no database path given")
+	}
+	if strings.ContainsAny(path, "?#%") {
+		return nil, fmt.Errorf("store: database path %q: '?', '#' and '%%' are not allowed in the path", path)
+	}
+	st, err := os.Stat(path)
+	switch {
+	case err != nil:
+		return nil, fmt.Errorf("store: database %s: %w", path, err)
+	case st.Size() == 0:
+		return nil, fmt.Errorf("store: database %s is empty: there are no records to read", path)
+	}
+	if wal, err := os.Stat(path + "-wal"); err == nil && wal.Size() > 0 {
+		return nil, fmt.Errorf("store: database %s has a write-ahead log beside it (%s) that holds samples not yet in the file, and neither can be written: copy both to a writable place and open the copy", path, path+"-wal")
+	}
+	u := url.URL{Scheme: "file", Path: filepath.ToSlash(path), RawQuery: "mode=ro&immutable=1"}
+	if !filepath.IsAbs(path) {
+		u = url.URL{Scheme: "file", Opaque: filepath.ToSlash(path), RawQuery: "mode=ro&immutable=1"}
+	}
+	sdb, err := sql.Open("sqlite", u.String()+"&_pragma=query_only(1)")
+	if err != nil {
+		return nil, fmt.Errorf("store: opening database %s: %w", path, err)
+	}
+	db := &DB{sql: sdb, path: path}
+	if err := checkOursRO(ctx, db); err != nil {
+		sdb.Close()
+		return nil, err
+	}
+	return db, nil
+}
+
+// checkOursRO checks, for OpenReadOnly, that the database is ours and of
+// this undercool's schema version.
+func checkOursRO(ctx context.Context, db *DB) error {
+	var n int
+	if err := db.sql.QueryRowContext(ctx, `SELECT count(*) FROM sqlite_master WHERE type = 'table' AND name = 'schema_version'`).Scan(&n); err != nil {
+		return db.fail("opening", err)
+	}
+	if n == 0 {
+		return fmt.Errorf("store: %s is not an undercool records database (no schema_version table); nothing was read", db.path)
+	}
+	ms, err := migrations()
+	if err != nil {
+		return err
+	}
+	have, err := db.version(ctx)
+	switch {
+	case err != nil:
+		return err
+	case have > len(ms):
+		return fmt.Errorf("store: database %s has schema version %d, newer than this undercool knows (%d): use a newer undercool", db.path, have, len(ms))
+	case have < len(ms):
+		return fmt.Errorf("store: database %s has schema version %d and this undercool reads %d; it cannot be brought up to date where it is read-only: copy it to a writable place and open the copy", db.path, have, len(ms))
+	}
+	return nil
+}
+
 // ping opens the first connection. Switching a new file to WAL needs a
 // moment alone with it, and SQLite answers SQLITE_BUSY at once (without
 // waiting the busy timeout) when another process is doing the same, so
@@ -119,11 +192,11 @@ func (db *DB) ping(ctx context.Context) error {
 func checkWritable(path string) error {
 	dir := filepath.Dir(path)
 	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return fmt.Errorf("store: database %s: cannot create its directory (choose another place with --db or UNDERCOOL_DB): %w", path, err)
+		return fmt.Errorf("store: database %s: cannot create its directory (it %w; choose another place with --db or UNDERCOOL_DB): %w", path, ErrNotWritable, err)
 	}
 	probe, err := os.CreateTemp(dir, ".undercool-probe-*")
 	if err != nil {
-		return fmt.Errorf("store: database %s: its directory %s cannot be written (SQLite needs it for the journal; choose another place with --db or UNDERCOOL_DB): %w", path, dir, err)
+		return fmt.Errorf("store: database %s: its directory %s %w (SQLite needs it for the journal; choose another place with --db or UNDERCOOL_DB): %w", path, dir, ErrNotWritable, err)
 	}
 	probe.Close()
 	os.Remove(probe.Name())
@@ -133,7 +206,7 @@ func checkWritable(path string) error {
 		f.Close()
 	case errors.Is(err, fs.ErrNotExist):
 	default:
-		return fmt.Errorf("store: database %s cannot be opened for writing: %w", path, err)
+		return fmt.Errorf("store: database %s %w: %w", path, ErrNotWritable, err)
 	}
 	return nil
 }
