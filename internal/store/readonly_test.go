@@ -4,6 +4,7 @@ import (
 	"context"
 	"database/sql"
 	"errors"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -20,7 +21,17 @@ func TestOpenReadOnlyReads(t *testing.T) {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		t.Fatal(err)
 	}
-	db, path := faultStoreWith(t, dir, 3)
+	path := filepath.Join(dir, "undercool.db")
+	db, err := Open(ctx, path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range 3 {
+		if _, err := db.AddSample(ctx, Sample{Sample: fmt.Sprintf("L-2417 cup %d", i+1), Alloy: "grey-iron",
+			Record: constructedRecord("grey-iron", 1146, "pass")}); err != nil {
+			t.Fatal(err)
+		}
+	}
 	if err := db.Close(); err != nil {
 		t.Fatal(err)
 	}

@@ -124,8 +124,12 @@ func OpenReadOnly(ctx context.Context, path string) (*DB, error) {
 	if wal, err := os.Stat(path + "-wal"); err == nil && wal.Size() > 0 {
 		return nil, fmt.Errorf("store: database %s has a write-ahead log beside it (%s) that holds samples not yet in the file, and neither can be written: copy both to a writable place and open the copy", path, path+"-wal")
 	}
+	// a URI (SQLite's form: file:///C:/dir/x.db for a Windows drive)
 	u := url.URL{Scheme: "file", Path: filepath.ToSlash(path), RawQuery: "mode=ro&immutable=1"}
-	if !filepath.IsAbs(path) {
+	switch {
+	case filepath.VolumeName(path) != "":
+		u.Path = "/" + u.Path
+	case !filepath.IsAbs(path):
 		u = url.URL{Scheme: "file", Opaque: filepath.ToSlash(path), RawQuery: "mode=ro&immutable=1"}
 	}
 	sdb, err := sql.Open("sqlite", u.String()+"&_pragma=query_only(1)")
