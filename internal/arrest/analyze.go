@@ -611,18 +611,18 @@ func (a *Analyzer) filter(upto int) {
 	raw := a.raw[:n]
 	x := a.x // locals in the hot loops: no write barrier per reading
 	pourRun := max(3, int(math.Round(0.5*a.rate)))
-	// The noise of every block the chunk needs first: the estimates depend
+	// The noise of every block the chunk needs first (the runs below, at
+	// i < min(upto, n), use blocks before i / block): the estimates depend
 	// on the raw readings alone, and taken together they no longer wait,
-	// block by block, on the despiking in between (the calls in the loop
-	// then find them done).
+	// block by block, on the despiking in between.
 	a.noiseBlocks(min(upto, n) / a.block)
 	for i := len(x); i < upto && i+2 < n && n >= 5; {
-		// a run of readings that share one noise estimate
-		a.noiseBlocks(i / a.block)
+		// a run of readings that share one noise estimate: the rest of
+		// i's block, or one reading while the estimate is not final
 		sig := a.sigmaAt(&a.curF, i)
-		end := min(n-2, (i/a.block+1)*a.block, upto)
-		if a.curF.hi == a.curF.lo { // estimate not final beyond i: one reading
-			end = i + 1
+		end := i + 1
+		if a.curF.hi > a.curF.lo {
+			end = min(n-2, a.curF.hi, upto)
 		}
 		var maxStep float64
 		x, a.spikes, maxStep = curve.DespikeRun(x, a.spikes, raw, i, end, SpikeMinC, sig)
