@@ -657,25 +657,16 @@ func classify(name string) (role, float64, tempUnit) {
 			return roleTime, 1.0 / 60, unitC
 		}
 	}
-	tu := unitC
-	switch unit {
-	case "f", "fahrenheit":
-		tu = unitF
-	case "k", "kelvin":
-		tu = unitK
-	}
-	switch unit {
-	case "", "c", "celsius", "f", "fahrenheit", "k", "kelvin":
+	if tu, ok := tempUnits[unit]; ok || unit == "" {
 		switch {
 		case tempNames[base] || (base == "t" && unit != ""):
 			return roleTemp, 0, tu
 		case cjNames[base]:
 			return roleCJ, 0, tu
 		}
-	case "mv":
-		if emfNames[base] || base == "" {
-			return roleEMF, 0, unitC
-		}
+	}
+	if unit == "mv" && (emfNames[base] || base == "") {
+		return roleEMF, 0, unitC
 	}
 	if unit == "" && base == "mv" {
 		return roleEMF, 0, unitC
@@ -688,6 +679,8 @@ var (
 	tempNames = map[string]bool{"temp": true, "temperature": true}
 	emfNames  = map[string]bool{"emf": true, "e": true, "voltage": true, "u": true, "thermocouple": true}
 	cjNames   = map[string]bool{"cj": true, "cjc": true, "cold_junction": true, "reference_junction": true, "ref_junction": true}
+	// tempUnits are the temperature units read (cleaned, see cleanUnit)
+	tempUnits = map[string]tempUnit{"c": unitC, "celsius": unitC, "f": unitF, "fahrenheit": unitF, "k": unitK, "kelvin": unitK}
 )
 
 // splitUnit separates a lower-cased header name into a base name and a
@@ -723,11 +716,12 @@ func splitUnit(n string) (base, unit string) {
 }
 
 func isUnit(u string) bool {
-	switch cleanUnit(u) {
-	case "s", "ms", "min", "c", "mv", "sec", "celsius", "f", "fahrenheit", "k", "kelvin":
+	switch u = cleanUnit(u); u {
+	case "s", "ms", "min", "mv", "sec":
 		return true
 	}
-	return false
+	_, temp := tempUnits[u]
+	return temp
 }
 
 // unitCleaner drops degree signs, "deg", blanks and dots from a unit.
