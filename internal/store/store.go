@@ -58,11 +58,8 @@ func Open(ctx context.Context, path string) (*DB, error) {
 // open is Open with the schema brought only up to version upto (-1: all);
 // tests use it to build databases of every earlier version.
 func open(ctx context.Context, path string, upto int) (*DB, error) {
-	if path == "" {
-		return nil, errors.New("store: no database path given")
-	}
-	if strings.ContainsAny(path, "?#") {
-		return nil, fmt.Errorf("store: database path %q: '?' and '#' are not allowed in the path", path)
+	if err := checkPath(path, "?#"); err != nil {
+		return nil, err
 	}
 	if err := checkWritable(path); err != nil {
 		return nil, err
@@ -108,11 +105,8 @@ var ErrNotWritable = errors.New("cannot be written")
 // whose schema is older or newer than this undercool's (it cannot be
 // brought up to date). Errors name the path; nothing is ever written.
 func OpenReadOnly(ctx context.Context, path string) (*DB, error) {
-	if path == "" {
-		return nil, errors.New("store: no database path given")
-	}
-	if strings.ContainsAny(path, "?#%") {
-		return nil, fmt.Errorf("store: database path %q: '?', '#' and '%%' are not allowed in the path", path)
+	if err := checkPath(path, "?#%"); err != nil { // '%' too: the path goes into a URI
+		return nil, err
 	}
 	st, err := os.Stat(path)
 	switch {
@@ -163,7 +157,7 @@ func checkOursRO(ctx context.Context, db *DB) error {
 	case err != nil:
 		return err
 	case have > len(ms):
-		return fmt.Errorf("store: database %s has schema version %d, newer than this undercool knows (%d): use a newer undercool", db.path, have, len(ms))
+		return db.newerSchema(have, len(ms))
 	case have < len(ms):
 		return fmt.Errorf("store: database %s has schema version %d and this undercool reads %d; it cannot be brought up to date where it is read-only: copy it to a writable place and open the copy", db.path, have, len(ms))
 	}
@@ -353,12 +347,30 @@ func (db *DB) migrate(ctx context.Context, upto int) error {
 		return err
 	}
 	if have > len(ms) {
-		return fmt.Errorf("store: database %s has schema version %d, newer than this undercool knows (%d): use a newer undercool", db.path, have, len(ms))
+		return db.newerSchema(have, len(ms))
 	}
 	for _, m := range ms[:upto] {
 		if err := db.apply(ctx, m); err != nil {
 			return err
 		}
+	}
+	return nil
+}
+
+// newerSchema is the error for a database of a schema version this
+// undercool does not know.
+func (db *DB) newerSchema(have, known int) error {
+	return fmt.Errorf("store: database %s has schema version %d, newer than this undercool knows (%d): use a newer undercool", db.path, have, known)
+}
+
+// checkPath refuses an empty database path and one holding any of bad,
+// characters SQLite would read as part of a URI.
+func checkPath(path, bad string) error {
+	if path == "" {
+		return errors.New("store: no database path given")
+	}
+	if i := strings.IndexAny(path, bad); i >= 0 {
+		return fmt.Errorf("store: database path %q: %q is not allowed in the path", path, path[i])
 	}
 	return nil
 }
