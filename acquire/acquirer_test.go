@@ -25,19 +25,7 @@ import (
 // pre-trigger readings, frozen by the injected rule and completed after
 // the margin; the file holds the sent readings exactly.
 func TestLifecycle(t *testing.T) {
-	dir := t.TempDir()
-	port := newPipePort()
-	_, col, _ := startAcq(t, port.open, Config{Port: "fake0", Dir: dir,
-		Finished: finishedAfter(30), FreezeMarginS: 5})
-	sent := cupCurve(20, 12, 50)
-	w := port.plug()
-	go func() {
-		w.Write([]byte(`! dev=test-amp fw=2.1 sample="L-2417 cup 1" operator="Priya Natarajan"` + "\n"))
-		for _, r := range sent {
-			w.Write([]byte(r.line("1")))
-		}
-	}()
-	col.until("sample done", 10*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
+	sent, col := recordCup(t, `! dev=test-amp fw=2.1 sample="L-2417 cup 1" operator="Priya Natarajan"`)
 
 	st := col.has(EventSampleStarted, "1")
 	fr := col.has(EventSampleFrozen, "1")
@@ -504,22 +492,32 @@ func BenchmarkAcquirerRecording(b *testing.B) {
 // makes its samples '# simulated: true', as the simulator's own curve files
 // are, so that no record or report passes one off as a measurement.
 func TestSimulatedDeviceMarksItsSamples(t *testing.T) {
-	dir := t.TempDir()
+	_, col := recordCup(t, `! dev=undercool-sim fw=1.0 tc=K simulated=true`, `! sample="L-2451 cup 1" alloy=grey-iron simulated=true`)
+	c := readRows(t, col.has(EventSampleDone, "1").Path)
+	if c.meta["simulated"] != "true" || c.meta["sample"] != "L-2451 cup 1" || !strings.Contains(c.meta["device"], "simulated=true") {
+		t.Errorf("metadata %v, want simulated: true", c.meta)
+	}
+}
+
+// recordCup sends the device-info lines and then a constructed cup curve
+// (cupCurve(20, 12, 50), channel 1) to an acquirer on a pipe port that
+// judges the cup frozen at 30 s and completes it 5 s later, and waits
+// until the sample is done; it returns the readings sent and the events.
+func recordCup(t *testing.T, info ...string) ([]cupReading, *collector) {
+	t.Helper()
 	port := newPipePort()
-	_, col, _ := startAcq(t, port.open, Config{Port: "fake0", Dir: dir,
+	_, col, _ := startAcq(t, port.open, Config{Port: "fake0", Dir: t.TempDir(),
 		Finished: finishedAfter(30), FreezeMarginS: 5})
 	sent := cupCurve(20, 12, 50)
 	w := port.plug()
 	go func() {
-		w.Write([]byte(`! dev=undercool-sim fw=1.0 tc=K simulated=true` + "\n"))
-		w.Write([]byte(`! sample="L-2451 cup 1" alloy=grey-iron simulated=true` + "\n"))
+		for _, l := range info {
+			w.Write([]byte(l + "\n"))
+		}
 		for _, r := range sent {
 			w.Write([]byte(r.line("1")))
 		}
 	}()
 	col.until("sample done", 10*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
-	c := readRows(t, col.has(EventSampleDone, "1").Path)
-	if c.meta["simulated"] != "true" || c.meta["sample"] != "L-2451 cup 1" || !strings.Contains(c.meta["device"], "simulated=true") {
-		t.Errorf("metadata %v, want simulated: true", c.meta)
-	}
+	return sent, col
 }
