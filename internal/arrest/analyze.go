@@ -27,7 +27,21 @@ type Options struct {
 	// temperature, °C, is the primary (liquidus) arrest; the first one at or
 	// below it is the eutectic. 0 keeps the family default (see Hints).
 	EutecticTopC float64
+
+	// Hints replaces the family's hints when it is not the zero value
+	// (an alloy entry of a limits file that carries its own detection
+	// windows; see limits.Book.Resolve). EutecticTopC above still
+	// overrides its EutecticTopC.
+	Hints Hints
 }
+
+// Range is a temperature window, °C; the zero value is open.
+type Range struct {
+	LoC, HiC float64
+}
+
+// Open reports whether the window sets no bounds.
+func (r Range) Open() bool { return r == Range{} }
 
 // Hints are the family's expectations the detector uses. They steer, they
 // never make a point: every point still comes from the curve's own T'.
@@ -37,6 +51,14 @@ type Hints struct {
 	SmoothS      float64 // Savitzky–Golay window for T, s
 	SlopeS       float64 // Savitzky–Golay window for T', s
 	ConfirmS     float64 // T' must stay above its minimum this long to settle the end of freezing, s
+
+	// Plausible windows of the arrests, °C (zero: open): a point outside
+	// its window is not that point.
+	Liquidus Range
+	Eutectic Range
+	// FixedPointC is the freezing point of a pure-metal check cup, °C
+	// (0: not a check cup).
+	FixedPointC float64
 }
 
 // FamilyHints returns the hints for a family (the zero Family is iron).
@@ -56,6 +78,14 @@ func FamilyHints(f Family) Hints {
 	default:
 		return Hints{MinPourC: 1000, EutecticTopC: 1170, SmoothS: 2, SlopeS: 4, ConfirmS: 8}
 	}
+}
+
+// hints are the options' own hints, or the family's.
+func (o Options) hints() Hints {
+	if o.Hints != (Hints{}) {
+		return o.Hints
+	}
+	return FamilyHints(o.Family)
 }
 
 // Limits of the raw reading and the detector's fixed thresholds.
@@ -354,7 +384,7 @@ func (a *Analyzer) reset(opt Options, n int) {
 		a.validByCount = make([]int, 0, 257)
 	}
 	*a = Analyzer{
-		opt: opt, h: FamilyHints(opt.Family), reserve: a.reserve,
+		opt: opt, h: opt.hints(), reserve: a.reserve,
 		tsBuf: a.tsBuf[:0], rawBuf: a.rawBuf[:0], dl: a.dl[:0], x: a.x[:0], d: a.d[:0],
 		blockSig: a.blockSig[:0], sigByCount: append(a.sigByCount[:0], 0), sorted: a.sorted[:0],
 		validByCount: append(a.validByCount[:0], 0),

@@ -145,24 +145,18 @@ func FromResult(in Input, res arrest.Result) Record {
 	return fromResult(in, res, book, alloy)
 }
 
-// resolve picks the book, the alloy spec and the family.
+// resolve picks the book, the alloy spec and the family (Book.Resolve, the
+// one rule every command uses).
 func resolve(in *Input) (*limits.Book, *limits.Alloy) {
 	book := in.Limits
 	if book == nil {
 		book = builtin
 	}
-	alloy, ok := book.Alloy(in.Alloy)
-	if !ok {
-		alloy = nil
-	}
+	res := book.Resolve(in.Alloy)
 	if in.Family == "" {
-		if alloy != nil && alloy.Family != "" {
-			in.Family = alloy.Family
-		} else {
-			in.Family = limits.Family(in.Alloy)
-		}
+		in.Family = res.Family()
 	}
-	return book, alloy
+	return book, res.Entry
 }
 
 // builtin is parsed once; Assess only reads it.
