@@ -25,7 +25,7 @@ import (
 // pre-trigger readings, frozen by the injected rule and completed after
 // the margin; the file holds the sent readings exactly.
 func TestLifecycle(t *testing.T) {
-	sent, col := recordCup(t, `! dev=test-amp fw=2.1 sample="L-2417 cup 1" operator="Priya Natarajan"`)
+	sent, col := recordCup(t, `! dev=test-amp fw=2.1 sample="L-2417 cup 1" operator="Pell Brasswick"`)
 
 	st := col.has(EventSampleStarted, "1")
 	fr := col.has(EventSampleFrozen, "1")
@@ -53,7 +53,7 @@ func TestLifecycle(t *testing.T) {
 			t.Errorf("metadata %q missing: %v", k, c.meta)
 		}
 	}
-	if c.meta["sample"] != "L-2417 cup 1" || c.meta["operator"] != "Priya Natarajan" || c.meta["ended"] != "freezing done" || c.meta["simulated"] != "" {
+	if c.meta["sample"] != "L-2417 cup 1" || c.meta["operator"] != "Pell Brasswick" || c.meta["ended"] != "freezing done" || c.meta["simulated"] != "" {
 		t.Errorf("metadata %v", c.meta)
 	}
 	if !strings.Contains(filepath.Base(done.Path), "L-2417-cup-1") {
@@ -267,19 +267,19 @@ func TestManualStartStopMeta(t *testing.T) {
 	dir := t.TempDir()
 	port := newPipePort()
 	a, col, _ := startAcq(t, port.open, Config{Dir: dir, Trigger: Trigger{Manual: true},
-		Meta: []curvefile.Meta{{Key: "shop", Value: "Harrowgate Iron & Light Alloy works"}}})
+		Meta: []curvefile.Meta{{Key: "shop", Value: "Cindermoth Iron & Light Alloy works"}}})
 	w := port.plug()
 	io.WriteString(w, "ms=0 c=700\nms=100 c=701\n")
 	col.until("two readings", 5*time.Second, func() bool { return len(col.readings) == 2 })
 	a.Start("1")
 	col.until("started", 5*time.Second, func() bool { return col.has(EventSampleStarted, "1") != nil })
-	a.SetMeta("1", []curvefile.Meta{{Key: "sample", Value: "L-2417 cup 2"}, {Key: "operator", Value: "Tomasz Wiśniewski"}, {Key: "note", Value: "two\nlines"}})
+	a.SetMeta("1", []curvefile.Meta{{Key: "sample", Value: "L-2417 cup 2"}, {Key: "operator", Value: "Tobin Quenchmoor"}, {Key: "note", Value: "two\nlines"}})
 	io.WriteString(w, "ms=200 c=690\nms=300 c=680\n")
 	col.until("four readings", 5*time.Second, func() bool { return len(col.readings) == 4 })
 	a.Stop("1")
 	col.until("done", 5*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
 	c := readRows(t, col.has(EventSampleDone, "1").Path)
-	if len(c.rows) != 4 || c.meta["sample"] != "L-2417 cup 2" || c.meta["operator"] != "Tomasz Wiśniewski" ||
+	if len(c.rows) != 4 || c.meta["sample"] != "L-2417 cup 2" || c.meta["operator"] != "Tobin Quenchmoor" ||
 		c.meta["note"] != "two lines" || c.meta["ended"] != "stopped by hand" || c.meta["shop"] == "" {
 		t.Fatalf("file %+v", c)
 	}

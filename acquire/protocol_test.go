@@ -36,8 +36,8 @@ func TestParseLine(t *testing.T) {
 		{"", Line{}},
 		{"   ", Line{}},
 		{"! dev=deck-amp fw=1.0 tc=K", Line{Kind: LineInfo, Info: []KV{{"dev", "deck-amp"}, {"fw", "1.0"}, {"tc", "K"}}}},
-		{`! sample="L-2417 cup 1" alloy=grey-iron operator="Priya Natarajan"`, Line{Kind: LineInfo,
-			Info: []KV{{"sample", "L-2417 cup 1"}, {"alloy", "grey-iron"}, {"operator", "Priya Natarajan"}}}},
+		{`! sample="L-2417 cup 1" alloy=grey-iron operator="Pell Brasswick"`, Line{Kind: LineInfo,
+			Info: []KV{{"sample", "L-2417 cup 1"}, {"alloy", "grey-iron"}, {"operator", "Pell Brasswick"}}}},
 		{`!note=""`, Line{Kind: LineInfo, Info: []KV{{"note", ""}}}},
 		{"!", Line{Kind: LineInfo}},
 	}
@@ -239,7 +239,7 @@ func TestAppendLineRoundTrip(t *testing.T) {
 		{Kind: LineReading, Channel: "tell", HasEMF: true, EMFmV: 47.123, HasCJ: true, ColdJctC: 24.5},
 		{Kind: LineReading, Channel: "2", Fault: FaultOpen},
 		{Kind: LineReading, Channel: "1", HasTemp: true, TempC: 0.1, Plain: true},
-		{Kind: LineInfo, Info: []KV{{"operator", "Ade Okafor"}, {"ladle", "L-2417"}, {"note", ""}}},
+		{Kind: LineInfo, Info: []KV{{"operator", "Odile Flintcaster"}, {"ladle", "L-2417"}, {"note", ""}}},
 	}
 	for _, l := range lines {
 		b := AppendLine(nil, l)

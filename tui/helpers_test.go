@@ -65,7 +65,7 @@ func constructedBatchesAt(ch string, t0, seconds, rate float64, per int) []Batch
 	for i := 0; i < len(t); i += per {
 		var b Batch
 		if i == 0 {
-			b.Events = append(b.Events, Event{Kind: EventDeviceInfo, Channel: ch, Info: map[string]string{"sample": "L-2417 cup 1", "alloy": "grey-iron", "operator": "Priya Natarajan"}},
+			b.Events = append(b.Events, Event{Kind: EventDeviceInfo, Channel: ch, Info: map[string]string{"sample": "L-2417 cup 1", "alloy": "grey-iron", "operator": "Pell Brasswick"}},
 				Event{Kind: EventSampleStarted, Channel: ch, TimeS: t0})
 		}
 		for k := i; k < min(i+per, len(t)); k++ {

@@ -40,17 +40,17 @@ func TestFormPrefilledAndSentToAcquirer(t *testing.T) {
 	if !m.formOpen {
 		t.Fatal("s did not open the form")
 	}
-	if got := m.form.meta(); got.Sample != "L-2417 cup 1" || got.Alloy != "grey-iron" || got.Operator != "Priya Natarajan" {
+	if got := m.form.meta(); got.Sample != "L-2417 cup 1" || got.Alloy != "grey-iron" || got.Operator != "Pell Brasswick" {
 		t.Fatalf("form not prefilled from the device: %+v", got)
 	}
 	m.form.inputs[0].SetValue("L-2418 cup 1")
 	m = press(m, "enter", "enter")
-	m.form.inputs[2].SetValue("Ade Okafor")
+	m.form.inputs[2].SetValue("Odile Flintcaster")
 	m = press(m, "enter", "enter") // the last field saves
 	if m.formOpen {
 		t.Fatal("the form is still open after enter on the last field")
 	}
-	want := "sample=L-2418 cup 1 alloy=grey-iron operator=Ade Okafor"
+	want := "sample=L-2418 cup 1 alloy=grey-iron operator=Odile Flintcaster"
 	var got []string
 	for _, kv := range src.meta["1"] {
 		got = append(got, kv.Key+"="+kv.Value)

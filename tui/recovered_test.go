@@ -21,7 +21,7 @@ func TestRecoveredSampleIsKept(t *testing.T) {
 		t.Fatal(err)
 	}
 	c := &curvefile.Curve{Meta: []curvefile.Meta{{Key: "alloy", Value: "grey-iron"}, {Key: "sample", Value: "L-2417 cup 1"},
-		{Key: "operator", Value: "Tomasz Wiśniewski"}, {Key: "interrupted", Value: "true"}}, Time: tm, Temp: v}
+		{Key: "operator", Value: "Tobin Quenchmoor"}, {Key: "interrupted", Value: "true"}}, Time: tm, Temp: v}
 	if err := curvefile.WriteCurve(f, c); err != nil {
 		t.Fatal(err)
 	}
@@ -36,7 +36,7 @@ func TestRecoveredSampleIsKept(t *testing.T) {
 			done = &d
 		}
 	}
-	if done == nil || !done.recovered || done.e.Path != path || done.e.Meta.Operator != "Tomasz Wiśniewski" {
+	if done == nil || !done.recovered || done.e.Path != path || done.e.Meta.Operator != "Tobin Quenchmoor" {
 		t.Fatalf("recovered sample message %+v", done)
 	}
 	if len(done.e.Time) != len(tm) {
@@ -48,7 +48,7 @@ func TestRecoveredSampleIsKept(t *testing.T) {
 	if len(es) != 1 || es[0].Path != path {
 		t.Fatalf("history after recovery: %+v", es)
 	}
-	if m2.(Model).live.prefill.Operator == "Tomasz Wiśniewski" {
+	if m2.(Model).live.prefill.Operator == "Tobin Quenchmoor" {
 		t.Error("a recovered sample must not become the form's prefill")
 	}
 }

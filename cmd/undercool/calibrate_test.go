@@ -37,14 +37,14 @@ func decisionTemp(t *testing.T, name, text string) string {
 // throughout, so C = 1660/120 − 0.02 − TL/120 − Si/4 exactly.
 func decisionPairs(sep string, decimalComma bool) string {
 	var b strings.Builder
-	fmt.Fprintf(&b, "# constructed calibration pairs (Harrowgate demo)\n")
+	fmt.Fprintf(&b, "# constructed calibration pairs (Cindermoth demo)\n")
 	fmt.Fprintln(&b, strings.Join([]string{"sample", "liquidus_c", "metastable_c", "c_pct", "si_pct", "p_pct", "operator"}, sep))
 	for i := range 12 {
 		c := 3.20 + 0.04*float64(i)
 		si := 1.80 + 0.05*float64((i*5)%12)
 		tl := 1660 - 120*(c+si/4+0.02)
 		tw := 1139.7 - 15*si
-		row := []string{fmt.Sprintf("L-24%02d", 10+i), fmt.Sprintf("%.6f", tl), fmt.Sprintf("%.6f", tw), fmt.Sprintf("%.4f", c), fmt.Sprintf("%.4f", si), "0.04", "Ade Okafor"}
+		row := []string{fmt.Sprintf("L-24%02d", 10+i), fmt.Sprintf("%.6f", tl), fmt.Sprintf("%.6f", tw), fmt.Sprintf("%.4f", c), fmt.Sprintf("%.4f", si), "0.04", "Odile Flintcaster"}
 		if decimalComma {
 			for j := range row {
 				row[j] = strings.Replace(row[j], ".", ",", 1)
@@ -184,19 +184,19 @@ func TestCalibrateErrors(t *testing.T) {
 func TestCalibrateOutIntoLimits(t *testing.T) {
 	dir := t.TempDir()
 	pairs := decisionTemp(t, "pairs.csv", decisionPairs(",", false))
-	cal := filepath.Join(dir, "harrowgate-cal.toml")
+	cal := filepath.Join(dir, "cindermoth-cal.toml")
 	code, out, errs := decisionRun(t, "calibrate", "--out", cal, pairs)
 	if code != 0 || !strings.Contains(out, "wrote "+cal) {
 		t.Fatalf("exit %d: %s %s", code, out, errs)
 	}
 	lim := filepath.Join(dir, "shop.toml")
-	text := strings.Replace(string(limits.Example()), `version = "example-1"`, "version = \"harrowgate-1\"\ncalibration_file = \"harrowgate-cal.toml\"", 1)
+	text := strings.Replace(string(limits.Example()), `version = "example-1"`, "version = \"cindermoth-1\"\ncalibration_file = \"cindermoth-cal.toml\"", 1)
 	text = strings.Replace(text, `white_cup = "formula"`, `white_cup = "shop"`, 1)
 	if err := os.WriteFile(lim, []byte(text), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	code, out, errs = decisionRun(t, "limits", "check", lim)
-	if code != 0 || !strings.Contains(out, "ok: version harrowgate-1") {
+	if code != 0 || !strings.Contains(out, "ok: version cindermoth-1") {
 		t.Fatalf("limits check: exit %d: %s %s", code, out, errs)
 	}
 	b, err := limits.Load(lim)

@@ -63,7 +63,7 @@ func TestExportCSV(t *testing.T) {
 		if v, err := strconv.ParseFloat(r["eutectic_min_c"], 64); err != nil || v != 1140.5+float64(i) {
 			t.Errorf("row %d eutectic_min_c %q", i, r["eutectic_min_c"])
 		}
-		if r["liquidus_c"] != "" || r["operator"] != "Priya Natarajan" || r["note"] != "'=not a formula" ||
+		if r["liquidus_c"] != "" || r["operator"] != "Pell Brasswick" || r["note"] != "'=not a formula" ||
 			r["advice"] != "consider inoculating and re-sampling" || r["simulated"] != "no" {
 			t.Errorf("row %d: %v", i, r)
 		}

@@ -87,7 +87,7 @@ func TestFaultAnalyzeBadFiles(t *testing.T) {
 		"empty.csv":      {"", ":1: empty file"},
 		"binary.csv":     {"\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR\x00\x00", ":1: invalid UTF-8"},
 		"utf16.csv":      {"\xff\xfet\x00i\x00m\x00e\x00", ":1: UTF-16"},
-		"latin1.csv":     {"time_s,temp_c\n0,1300\n# operator: Tomasz Wi\x9cniewski\n", ":3: invalid UTF-8"},
+		"latin1.csv":     {"time_s,temp_c\n0,1300\n# operator: Tobin Quenchm\xf6or\n", ":3: invalid UTF-8"},
 		"hugeline.csv":   {"time_s,temp_c\n0,1300\n" + strings.Repeat("1", 2<<20) + "\n", ":3: line longer than"},
 		"headeronly.csv": {"# alloy: grey-iron\ntime_s,temp_c\n", ":2: a header but no readings"},
 	}

@@ -33,7 +33,7 @@ func recordsRun(t *testing.T, db string, args ...string) (int, string, string) {
 func recordsF(v float64) *float64 { return &v }
 
 // recordsSeed stores constructed (not measured) samples from the
-// Harrowgate demo scenario: per hour from start, grey iron and one
+// Cindermoth demo scenario: per hour from start, grey iron and one
 // aluminium sample; returns the database path and the ids.
 func recordsSeed(t *testing.T, start time.Time, n int) (string, []int64) {
 	t.Helper()
@@ -56,7 +56,7 @@ func recordsSeed(t *testing.T, start time.Time, n int) (string, []int64) {
 			Advice: []string{"consider inoculating and re-sampling"}, LimitsVersion: "2026-11.2"}
 		ss = append(ss, store.Sample{
 			Recorded: start.Add(time.Duration(i) * time.Hour), Sample: fmt.Sprintf("L-%d cup 1", 2417+i), Ladle: fmt.Sprintf("L-%d", 2417+i),
-			Alloy: alloy, Furnace: "IF-2", Operator: "Priya Natarajan", Channel: "1", Thermocouple: "K",
+			Alloy: alloy, Furnace: "IF-2", Operator: "Pell Brasswick", Channel: "1", Thermocouple: "K",
 			Note: "=not a formula", Record: rec,
 		})
 	}
@@ -119,7 +119,7 @@ func TestHistoryJSONLines(t *testing.T) {
 			t.Fatalf("line %d is not JSON: %v\n%s", n+1, err, sc.Text())
 		}
 		rec, _ := line["record"].(map[string]any)
-		if line["sample_id"] != float64(ids[2-n]) || line["operator"] != "Priya Natarajan" || rec["undercooling_c"] != 9.5 ||
+		if line["sample_id"] != float64(ids[2-n]) || line["operator"] != "Pell Brasswick" || rec["undercooling_c"] != 9.5 ||
 			line["limits_version"] != "2026-11.2" || line["recorded_at"] != start.Add(time.Duration(2-n)*time.Hour).Format(time.RFC3339) {
 			t.Errorf("line %d: %s", n+1, sc.Text())
 		}

@@ -106,14 +106,14 @@ func TestRecordPTY(t *testing.T) {
 	var wg sync.WaitGroup
 	wg.Go(func() { acqSend(m, 0, stop) })
 	code, stdout, stderr := acqRun(t, context.Background(), "record", "--port", name, "--out", out, "--max-s", "2",
-		"--sample", "L-2417 cup 1", "--operator", "Ade Okafor", "--alloy", "grey-iron")
+		"--sample", "L-2417 cup 1", "--operator", "Odile Flintcaster", "--alloy", "grey-iron")
 	close(stop)
 	wg.Wait()
 	if code != 0 || strings.TrimSpace(stdout) != out {
 		t.Fatalf("exit %d, stdout %q, stderr:\n%s", code, stdout, stderr)
 	}
 	meta := acqCheckRows(t, out, 201)
-	if meta["sample"] != "L-2417 cup 1" || meta["operator"] != "Ade Okafor" || meta["alloy"] != "grey-iron" ||
+	if meta["sample"] != "L-2417 cup 1" || meta["operator"] != "Odile Flintcaster" || meta["alloy"] != "grey-iron" ||
 		!strings.Contains(meta["ended"], "time limit") || meta["port"] != name {
 		t.Fatalf("metadata %v", meta)
 	}
@@ -132,7 +132,7 @@ func TestRecordPTY(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(hist) != 1 || hist[0].Sample.CurvePath != out || hist[0].Sample.Operator != "Ade Okafor" {
+	if len(hist) != 1 || hist[0].Sample.CurvePath != out || hist[0].Sample.Operator != "Odile Flintcaster" {
 		t.Fatalf("stored samples %+v, want the one recorded in %s", hist, out)
 	}
 }

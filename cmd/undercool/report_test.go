@@ -17,14 +17,14 @@ import (
 )
 
 // reportCurveFile writes a simulated (not measured) grey-iron cup from
-// internal/sim as a curve file, with the Harrowgate demo's form data.
+// internal/sim as a curve file, with the Cindermoth demo's form data.
 func reportCurveFile(t *testing.T, dir string) string {
 	t.Helper()
 	p, err := sim.Preset("grey-iron", 0.6, 2418)
 	if err != nil {
 		t.Fatal(err)
 	}
-	p.Sample, p.Ladle, p.Operator = "L-2418 cup 1", "L-2418", "Ade Okafor"
+	p.Sample, p.Ladle, p.Operator = "L-2418 cup 1", "L-2418", "Odile Flintcaster"
 	out := sim.Simulate(p)
 	c := &curvefile.Curve{Meta: append(out.Meta, curvefile.Meta{Key: "started", Value: "2026-12-01T07:40:00.000Z"},
 		curvefile.Meta{Key: "furnace", Value: "holder H3"}), Time: out.Time, Temp: out.Temp}
@@ -76,7 +76,7 @@ func TestReportFromStoreNotesChangedCurve(t *testing.T) {
 	}
 	rec := assess.Assess(assess.Input{File: curve, Alloy: c.Get("alloy"), Time: c.Time, Temp: c.Temp, Meta: c.Meta})
 	s := sampleFromCurve(curve, c, rec)
-	if s.Recorded.Format("15:04") != "07:40" || s.Furnace != "holder H3" || !s.Simulated || s.Operator != "Ade Okafor" {
+	if s.Recorded.Format("15:04") != "07:40" || s.Furnace != "holder H3" || !s.Simulated || s.Operator != "Odile Flintcaster" {
 		t.Fatalf("sample from the curve's metadata: %+v", s)
 	}
 	s.CurveSHA256, _ = store.HashFile(curve)

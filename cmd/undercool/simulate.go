@@ -153,7 +153,7 @@ func (f *simFlags) params(set map[string]bool) (sim.Params, error) {
 	default:
 		return sim.Params{}, fmt.Errorf("--fault %q: want open-thermocouple, short-pour or pulled-early", f.fault)
 	}
-	p.Ladle, p.Sample, p.Operator = "L-2417", "L-2417 cup 1", "Priya Natarajan"
+	p.Ladle, p.Sample, p.Operator = "L-2417", "L-2417 cup 1", "Pell Brasswick"
 	if err := p.Validate(); err != nil {
 		return sim.Params{}, err
 	}

@@ -26,7 +26,7 @@ func TestFaultSaveReadOnlyDir(t *testing.T) {
 			t.Errorf("unmounting %s: %v", dir, err)
 		}
 	})
-	path := filepath.Join(dir, "harrowgate.toml")
+	path := filepath.Join(dir, "cindermoth.toml")
 	if err := os.WriteFile(path, Example(), 0o644); err != nil {
 		t.Fatal(err)
 	}
@@ -34,7 +34,7 @@ func TestFaultSaveReadOnlyDir(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	b.EditedBy, b.Version = "Tomasz Wiśniewski", "harrowgate-3"
+	b.EditedBy, b.Version = "Tobin Quenchmoor", "cindermoth-3"
 	listing := func() []string {
 		ents, _ := os.ReadDir(dir)
 		var names []string
@@ -75,7 +75,7 @@ func TestFaultSaveReadOnlyDir(t *testing.T) {
 	if got, _ := os.ReadFile(path); !bytes.Equal(got, Example()) {
 		t.Error("the old limits file changed on the full disk")
 	}
-	if names := listing(); strings.Join(names, " ") != "filler harrowgate.toml" {
+	if names := listing(); strings.Join(names, " ") != "cindermoth.toml filler" {
 		t.Errorf("left in the directory: %q", names)
 	}
 	if _, err := Load(path); err != nil {

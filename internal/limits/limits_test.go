@@ -213,8 +213,8 @@ func TestSaveRoundTripBackupAndLog(t *testing.T) {
 	defer func() { now = time.Now }()
 	v := 1143.0
 	b.Alloys["grey-iron"].Metrics["eutectic_min_c"].PassMin = &v
-	b.EditedBy = "Priya Natarajan"
-	b.Version = "harrowgate-2"
+	b.EditedBy = "Pell Brasswick"
+	b.Version = "cindermoth-2"
 	if err := Save(path, b); err != nil {
 		t.Fatal(err)
 	}
@@ -222,7 +222,7 @@ func TestSaveRoundTripBackupAndLog(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if back.Edited != "2026-12-01T21:05:00Z" || back.EditedBy != "Priya Natarajan" || *back.Alloys["grey-iron"].Metrics["eutectic_min_c"].PassMin != 1143 {
+	if back.Edited != "2026-12-01T21:05:00Z" || back.EditedBy != "Pell Brasswick" || *back.Alloys["grey-iron"].Metrics["eutectic_min_c"].PassMin != 1143 {
 		t.Errorf("round trip: edited %q by %q, pass_min %v", back.Edited, back.EditedBy, *back.Alloys["grey-iron"].Metrics["eutectic_min_c"].PassMin)
 	}
 	// Everything else survives the round trip unchanged.
@@ -240,7 +240,7 @@ func TestSaveRoundTripBackupAndLog(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, want := range []string{"2026-12-01T21:05:00Z", "Priya Natarajan", "alloy.grey-iron.metric.eutectic_min_c.pass_min 1142 → 1143", "version example-1 → harrowgate-2"} {
+	for _, want := range []string{"2026-12-01T21:05:00Z", "Pell Brasswick", "alloy.grey-iron.metric.eutectic_min_c.pass_min 1142 → 1143", "version example-1 → cindermoth-2"} {
 		if !strings.Contains(string(log), want) {
 			t.Errorf("log %q lacks %q", log, want)
 		}

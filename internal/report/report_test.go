@@ -35,7 +35,7 @@ func simulatedCup(t *testing.T) (*curvefile.Curve, assess.Record) {
 }
 
 var demoInfo = Info{
-	Sample: "L-2417 cup 1", Ladle: "L-2417", Furnace: "IF-2", Operator: "Priya Natarajan",
+	Sample: "L-2417 cup 1", Ladle: "L-2417", Furnace: "IF-2", Operator: "Pell Brasswick",
 	Time: time.Date(2026, 12, 1, 6, 15, 0, 0, time.UTC), StoreID: 42, CurvePath: "/deck/curves/L-2417.csv",
 	CurveSHA256: "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad",
 	Notes:       []string{"simulated cup for the report test"},
@@ -116,7 +116,7 @@ func TestWriteSVG(t *testing.T) {
 	}
 	all := texts.String()
 	for _, want := range []string{
-		"Thermal analysis record — sample L-2417 cup 1", "ladle L-2417", "furnace IF-2", "operator Priya Natarajan",
+		"Thermal analysis record — sample L-2417 cup 1", "ladle L-2417", "furnace IF-2", "operator Pell Brasswick",
 		"2026-12-01 06:15 UTC", "Cooling curve", "dT/dt", "eutectic min", "end of freezing",
 		"Verdict: " + strings.ToUpper(rec.Verdict), Caution, "simulated cup for the report test", "record #42",
 	} {

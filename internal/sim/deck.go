@@ -49,8 +49,8 @@ type Ladle struct {
 	AfterS   float64 // idle seconds after the curve before the next ladle
 }
 
-// Our invented scenario: Harrowgate Iron & Light Alloy works.
-var deckOperators = []string{"Priya Natarajan", "Tomasz Wiśniewski", "Ade Okafor"}
+// Our invented scenario: Cindermoth Iron & Light Alloy works.
+var deckOperators = []string{"Pell Brasswick", "Tobin Quenchmoor", "Odile Flintcaster"}
 
 // scenario is one kind of cup and how often the deck pours it.
 type scenario struct {
@@ -242,7 +242,7 @@ func (d *Deck) Run(ctx context.Context, w io.Writer) error {
 	for i, id := range ids {
 		chans[i] = &channelRun{id: id}
 	}
-	d.line(bw, "! dev=undercool-sim fw=1.0 tc=K simulated=true site=\"Harrowgate Iron & Light Alloy works\"")
+	d.line(bw, "! dev=undercool-sim fw=1.0 tc=K simulated=true site=\"Cindermoth Iron & Light Alloy works\"")
 	start := d.opt.Clock.Now()
 	dt := 1 / d.opt.RateHz
 	for tick := 0; ; tick++ {

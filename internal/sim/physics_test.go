@@ -381,7 +381,7 @@ func TestValidateNamesTheField(t *testing.T) {
 
 func TestMetaSaysSimulated(t *testing.T) {
 	p := preset(t, AlSi7Mg, 0.5)
-	p.Sample, p.Operator = "L-2417 cup 1", "Ade Okafor"
+	p.Sample, p.Operator = "L-2417 cup 1", "Odile Flintcaster"
 	out := Simulate(p)
 	got := map[string]string{}
 	for _, m := range out.Meta {

@@ -39,20 +39,20 @@ func committedCurves() []committedCurve {
 		}
 	}
 	return []committedCurve{
-		{"L-2401-grey-well-inoculated.csv", cup(GreyIron, 0.9, 2401, 10, 0.05, "L-2401 cup 1", "Priya Natarajan", nil)},
-		{"L-2402-grey-poorly-inoculated.csv", cup(GreyIron, 0.1, 2402, 5, 0.2, "L-2402 cup 1", "Tomasz Wiśniewski", func(p *Params) {
+		{"L-2401-grey-well-inoculated.csv", cup(GreyIron, 0.9, 2401, 10, 0.05, "L-2401 cup 1", "Pell Brasswick", nil)},
+		{"L-2402-grey-poorly-inoculated.csv", cup(GreyIron, 0.1, 2402, 5, 0.2, "L-2402 cup 1", "Tobin Quenchmoor", func(p *Params) {
 			p.Logger.SpikeRate, p.Logger.SpikeMinC, p.Logger.SpikeMaxC = 1.0/500, 10, 40
 		})},
-		{"L-2403-grey-hypereutectic.csv", cup(GreyIron, 0.7, 2403, 10, 0.1, "L-2403 cup 1", "Ade Okafor", func(p *Params) { p.C, p.CE = 0, 4.5 })},
-		{"L-2404-ductile.csv", cup(DuctileIron, 0.8, 2404, 10, 0.05, "L-2404 cup 1", "Priya Natarajan", nil)},
-		{"L-2405-ductile-faded.csv", cup(DuctileIron, 0.8, 2405, 4, 0.1, "L-2405 cup 2", "Ade Okafor", func(p *Params) { p.HoldMin = 25 })},
-		{"L-2406-tellurium-cup.csv", cup(WhiteIron, 0, 2406, 10, 0.05, "L-2406 tellurium cup", "Tomasz Wiśniewski", nil)},
-		{"L-2407-alsi7mg-refined-modified.csv", cup(AlSi7Mg, 0.9, 2407, 8, 0.05, "L-2407 cup 1", "Ade Okafor", func(p *Params) { p.Modification = 0.9 })},
-		{"L-2408-alsi7mg-unrefined-unmodified.csv", cup(AlSi7Mg, 0, 2408, 20, 0.1, "L-2408 cup 1", "Priya Natarajan", nil)},
-		{"L-2409-pure-al-check-cup.csv", cup(PureAl, 0, 2409, 5, 0.05, "L-2409 check cup", "Tomasz Wiśniewski", nil)},
-		{"L-2410-bad-open-thermocouple.csv", cup(GreyIron, 0.8, 2410, 10, 0.05, "L-2410 cup 1", "Ade Okafor", func(p *Params) { p.Fault = FaultOpen })},
-		{"L-2411-bad-short-pour.csv", cup(DuctileIron, 0.8, 2411, 10, 0.05, "L-2411 cup 1", "Priya Natarajan", func(p *Params) { p.Fault = FaultShortPour })},
-		{"L-2412-bad-pulled-early.csv", cup(AlSi7Mg, 0.8, 2412, 5, 0.05, "L-2412 cup 1", "Tomasz Wiśniewski", func(p *Params) {
+		{"L-2403-grey-hypereutectic.csv", cup(GreyIron, 0.7, 2403, 10, 0.1, "L-2403 cup 1", "Odile Flintcaster", func(p *Params) { p.C, p.CE = 0, 4.5 })},
+		{"L-2404-ductile.csv", cup(DuctileIron, 0.8, 2404, 10, 0.05, "L-2404 cup 1", "Pell Brasswick", nil)},
+		{"L-2405-ductile-faded.csv", cup(DuctileIron, 0.8, 2405, 4, 0.1, "L-2405 cup 2", "Odile Flintcaster", func(p *Params) { p.HoldMin = 25 })},
+		{"L-2406-tellurium-cup.csv", cup(WhiteIron, 0, 2406, 10, 0.05, "L-2406 tellurium cup", "Tobin Quenchmoor", nil)},
+		{"L-2407-alsi7mg-refined-modified.csv", cup(AlSi7Mg, 0.9, 2407, 8, 0.05, "L-2407 cup 1", "Odile Flintcaster", func(p *Params) { p.Modification = 0.9 })},
+		{"L-2408-alsi7mg-unrefined-unmodified.csv", cup(AlSi7Mg, 0, 2408, 20, 0.1, "L-2408 cup 1", "Pell Brasswick", nil)},
+		{"L-2409-pure-al-check-cup.csv", cup(PureAl, 0, 2409, 5, 0.05, "L-2409 check cup", "Tobin Quenchmoor", nil)},
+		{"L-2410-bad-open-thermocouple.csv", cup(GreyIron, 0.8, 2410, 10, 0.05, "L-2410 cup 1", "Odile Flintcaster", func(p *Params) { p.Fault = FaultOpen })},
+		{"L-2411-bad-short-pour.csv", cup(DuctileIron, 0.8, 2411, 10, 0.05, "L-2411 cup 1", "Pell Brasswick", func(p *Params) { p.Fault = FaultShortPour })},
+		{"L-2412-bad-pulled-early.csv", cup(AlSi7Mg, 0.8, 2412, 5, 0.05, "L-2412 cup 1", "Tobin Quenchmoor", func(p *Params) {
 			p.Modification = 0.8
 			p.Fault = FaultPulledEarly
 		})},

@@ -20,7 +20,7 @@ func constructedSamples(n, days int, end time.Time) []Sample {
 		ss[i] = Sample{
 			Recorded: end.Add(-time.Duration(n-i) * step),
 			Sample:   fmt.Sprintf("L-%d cup 1", 2000+i), Ladle: fmt.Sprintf("L-%d", 2000+i),
-			Alloy: a, Furnace: "IF-1", Operator: "Ade Okafor", Channel: "1", Thermocouple: "K",
+			Alloy: a, Furnace: "IF-1", Operator: "Odile Flintcaster", Channel: "1", Thermocouple: "K",
 			CurvePath: fmt.Sprintf("/var/lib/undercool/curves/L-%d.csv", 2000+i), CurveSHA256: fmt.Sprintf("%064x", i),
 			Record: constructedRecord(a, 1140+float64(i%13), verdicts[i%len(verdicts)]), LimitsVersion: "2026-11",
 		}

@@ -280,7 +280,7 @@ func TestDefaultPath(t *testing.T) {
 		{"linux", env("HOME", "/home/priya", "XDG_DATA_HOME", "relative/ignored"), "/home/priya/.local/share/undercool/undercool.db"},
 		{"linux", env("HOME", "/home/priya", "UNDERCOOL_DB", "/mnt/deck/records.db"), "/mnt/deck/records.db"},
 		{"darwin", env("HOME", "/Users/ade"), "/Users/ade/Library/Application Support/undercool/undercool.db"},
-		{"windows", env("LocalAppData", "/c/Users/tomasz/AppData/Local"), filepath.Join("/c/Users/tomasz/AppData/Local", "undercool", "undercool.db")},
+		{"windows", env("LocalAppData", "/c/Users/tobin/AppData/Local"), filepath.Join("/c/Users/tobin/AppData/Local", "undercool", "undercool.db")},
 		{"linux", env(), ""},
 	} {
 		got, err := defaultPath(tc.goos, tc.env)
@@ -304,7 +304,7 @@ func TestAddSampleGetAndReanalysis(t *testing.T) {
 	rec.LiquidusC = nil // not found: stays null
 	rec.Problems = []string{"recording ended early"}
 	in := Sample{Recorded: poured, Sample: "L-2417 cup 1", Ladle: "L-2417", Alloy: "grey-iron", Furnace: "IF-1",
-		Operator: "Tomasz Wiśniewski", Channel: "1", Thermocouple: "K", Note: "after 8 min in holder H3",
+		Operator: "Tobin Quenchmoor", Channel: "1", Thermocouple: "K", Note: "after 8 min in holder H3",
 		CurvePath: "relative/cup.csv", CurveSHA256: "ab12", Simulated: true, Record: rec, LimitsVersion: "2026-11"}
 	id, err := db.AddSample(ctx, in)
 	if err != nil {
