@@ -16,6 +16,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/protocol"
 	"github.com/undercool-foundry/undercool/internal/thermocouple"
 )
 
@@ -147,7 +148,7 @@ type Acquirer struct {
 	out  chan Batch
 	in   *queue[item]
 	ctl  *queue[control]
-	fr   Framer
+	fr   protocol.Framer
 	ran  atomic.Bool
 
 	// Owned by the Run goroutine.
@@ -557,17 +558,17 @@ func (a *Acquirer) portName() string {
 func (a *Acquirer) line(it *item) error {
 	a.lastLine = it.at
 	a.silentSaid = false
-	l, err := ParseLine(it.line)
+	l, err := protocol.ParseLine(it.line)
 	if err != nil {
 		a.st.Lines++
 		a.garbage(it.line, err)
 		return nil
 	}
 	switch l.Kind {
-	case LineBlank:
+	case protocol.LineBlank:
 		a.st.Blank++
 		return nil
-	case LineInfo:
+	case protocol.LineInfo:
 		a.st.Lines++
 		a.info(&l)
 		return nil
@@ -597,19 +598,14 @@ func (a *Acquirer) garbage(b []byte, err error) {
 	a.garbageN = 0
 }
 
-// formKeys are device-info keys that describe the sample rather than the
-// device; they go into the curve file as their own metadata lines.
-var formKeys = map[string]bool{"sample": true, "alloy": true, "operator": true, "ladle": true,
-	"furnace": true, "cup": true, "note": true, "melt": true, "heat": true}
-
-func (a *Acquirer) info(l *Line) {
+func (a *Acquirer) info(l *protocol.Line) {
 	ch := l.InfoValue("ch")
 	info := make(map[string]string, len(l.Info))
 	var form []curvefile.Meta
 	for _, kv := range l.Info {
 		info[kv.Key] = kv.Value
 		switch {
-		case formKeys[kv.Key]:
+		case protocol.IsSampleKey(kv.Key):
 			form = append(form, curvefile.Meta{Key: kv.Key, Value: kv.Value})
 		case kv.Key == "ch":
 		default:
@@ -623,7 +619,7 @@ func (a *Acquirer) info(l *Line) {
 		a.applyForm(ch, form)
 	}
 	a.event(Event{Kind: EventDeviceInfo, Channel: ch, TimeS: a.tb.last, Info: info,
-		Text: "device:" + string(AppendLine(nil, *l)[1:])})
+		Text: "device:" + string(protocol.AppendLine(nil, *l)[1:])})
 }
 
 func (a *Acquirer) deviceTC(name string) {
@@ -656,12 +652,12 @@ func (a *Acquirer) applyForm(ch string, form []curvefile.Meta) {
 }
 
 // reading turns a parsed reading line into a Reading.
-func (a *Acquirer) reading(l *Line, at time.Time) Reading {
+func (a *Acquirer) reading(l *protocol.Line, at time.Time) Reading {
 	r := Reading{TimeS: a.tb.at(l, at), Channel: l.Channel}
 	switch {
-	case l.Fault == FaultOpen:
+	case l.Fault == protocol.FaultOpen:
 		r.Flags, r.TempC = FlagOpen, math.NaN()
-	case l.Fault != FaultNone:
+	case l.Fault != protocol.FaultNone:
 		r.Flags, r.TempC = FlagFault, math.NaN()
 	case l.HasEMF:
 		r.Flags |= FlagEMF
@@ -815,7 +811,7 @@ type timebase struct {
 	last    float64 // the latest time given
 }
 
-func (tb *timebase) at(l *Line, at time.Time) float64 {
+func (tb *timebase) at(l *protocol.Line, at time.Time) float64 {
 	if !tb.started {
 		tb.started, tb.host0 = true, at
 	}

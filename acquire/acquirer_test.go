@@ -17,6 +17,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/protocol"
 	"github.com/undercool-foundry/undercool/internal/sim"
 )
 
@@ -142,7 +143,7 @@ func TestReconnect(t *testing.T) {
 func TestIotestPorts(t *testing.T) {
 	parts := []string{"c=1\r\nc=2\r\n", "c=3\rc=4\r", "c=5\nc=6\n", "c=7\nc=8\n", "c=9\n"}
 	wraps := []func(io.Reader) io.Reader{iotest.OneByteReader, iotest.HalfReader, iotest.DataErrReader,
-		func(r io.Reader) io.Reader { return iotest.TimeoutReader(&fixedChunks{b: []byte("c=7\nc=8\n"), n: 8}) },
+		iotest.TimeoutReader, // the first read takes the whole part, the second times out
 		func(r io.Reader) io.Reader { return zeroReads(r, 500) }}
 	var n atomic.Int32
 	open := func(ctx context.Context) (io.ReadCloser, error) {
@@ -368,7 +369,7 @@ func TestTimebase(t *testing.T) {
 		{4000100, 11, 11.1}, //
 	}
 	for i, s := range steps {
-		l := Line{HasMS: s.ms >= 0, MS: uint64(max(s.ms, 0))}
+		l := protocol.Line{HasMS: s.ms >= 0, MS: uint64(max(s.ms, 0))}
 		if got := tb.at(&l, at(s.hostS)); math.Abs(got-s.want) > 1e-9 {
 			t.Fatalf("step %d: %v, want %v", i, got, s.want)
 		}

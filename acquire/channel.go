@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/protocol"
 )
 
 // channel is the sample lifecycle of one channel id: waiting for the pour
@@ -299,7 +300,7 @@ func exists(p string) bool {
 func slug(s string) string {
 	b := []byte(s)
 	for i, c := range b {
-		if !isIDByte(c) {
+		if !protocol.IsIDByte(c) {
 			b[i] = '-'
 		}
 	}

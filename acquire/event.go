@@ -84,7 +84,7 @@ type Status struct {
 	Channels     map[string]State
 
 	Partial       int     // lines cut off by a disconnection, dropped
-	Overlong      int     // lines longer than MaxLineLen, dropped (also in Garbage)
+	Overlong      int     // lines longer than protocol.MaxLineLen, dropped (also in Garbage)
 	Blank         int     // empty lines, ignored
 	LF, CRLF, CR  int     // lines by terminator
 	SilentS       float64 // s since the last line arrived (0 before the first)
