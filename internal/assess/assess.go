@@ -132,22 +132,25 @@ type Input struct {
 	Meta []curvefile.Meta
 }
 
-// Assess analyses one sample and fills its record.
+// Assess analyses one sample and fills its record. The detector options
+// are the alloy's (limits.Book.Resolve, Resolution.Detect), as the live
+// tracker's are, with Input.Family in place of its family where set.
 func Assess(in Input) Record {
-	book, alloy := resolve(&in)
-	res := arrest.Analyze(in.Time, in.Temp, arrest.Options{Family: in.Family})
-	return fromResult(in, res, book, alloy)
+	book, res := resolve(&in)
+	opt := res.Detect
+	opt.Family = in.Family
+	return fromResult(in, arrest.Analyze(in.Time, in.Temp, opt), book, res.Entry)
 }
 
 // FromResult builds the record from an already computed Result.
 func FromResult(in Input, res arrest.Result) Record {
-	book, alloy := resolve(&in)
-	return fromResult(in, res, book, alloy)
+	book, r := resolve(&in)
+	return fromResult(in, res, book, r.Entry)
 }
 
 // resolve picks the book, the alloy spec and the family (Book.Resolve, the
 // one rule every command uses).
-func resolve(in *Input) (*limits.Book, *limits.Alloy) {
+func resolve(in *Input) (*limits.Book, limits.Resolution) {
 	book := in.Limits
 	if book == nil {
 		book = builtin
@@ -156,7 +159,7 @@ func resolve(in *Input) (*limits.Book, *limits.Alloy) {
 	if in.Family == "" {
 		in.Family = res.Family()
 	}
-	return book, res.Entry
+	return book, res
 }
 
 // builtin is parsed once; Assess only reads it.
