@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/feed"
 )
 
 const tornPartial = `# sample: L-2417 cup 3
@@ -67,7 +68,7 @@ func TestRecoverLeavesLiveLog(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if err := l.write(Reading{TimeS: 1, TempC: 1300}, 0); err != nil {
+	if err := l.write(feed.Reading{TimeS: 1, TempC: 1300}, 0); err != nil {
 		t.Fatal(err)
 	}
 	recs, err := Recover(dir)
@@ -107,8 +108,8 @@ func TestRunRecovers(t *testing.T) {
 	os.WriteFile(filepath.Join(dir, "x.partial.csv"), []byte(tornPartial), 0o644)
 	port := newPipePort()
 	_, col, _ := startAcq(t, port.open, Config{Dir: dir})
-	col.until("recovered", 5*time.Second, func() bool { return col.has(EventRecovered, "") != nil })
-	if e := col.has(EventRecovered, ""); e.Path != filepath.Join(dir, "x.csv") || e.Channel != "1" {
+	col.until("recovered", 5*time.Second, func() bool { return col.has(feed.KindRecovered, "") != nil })
+	if e := col.has(feed.KindRecovered, ""); e.Path != filepath.Join(dir, "x.csv") || e.Channel != "1" {
 		t.Fatalf("event %+v", e)
 	}
 }
@@ -141,9 +142,9 @@ func TestFaultsInFile(t *testing.T) {
 	a.Start("1")
 	w.Write([]byte("ms=100 f=open\nms=200 mv=99 cj=25\nms=300 c=990.5\n"))
 	col.until("four", 5*time.Second, func() bool { return len(col.readings) == 4 })
-	a.Stop("1")
-	col.until("done", 5*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
-	path := col.has(EventSampleDone, "1").Path
+	a.Stop("1", 0, "")
+	col.until("done", 5*time.Second, func() bool { return col.has(feed.KindEnded, "1") != nil })
+	path := col.has(feed.KindEnded, "1").Path
 	b, _ := os.ReadFile(path)
 	if !strings.Contains(string(b), "\n#fault 0.1 open\n#fault 0.2 fault emf_mv=99 cj_c=25\n0.3,990.5,,,\n") {
 		t.Fatalf("file:\n%s", b)

@@ -1,7 +1,7 @@
 package tui
 
 import (
-	"context"
+	"encoding/json"
 	"fmt"
 	"math"
 	"sort"
@@ -11,8 +11,12 @@ import (
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/lipgloss"
 
+	"github.com/undercool-foundry/undercool/internal/arrest"
+	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/store"
 )
 
@@ -23,17 +27,13 @@ var preferredMetrics = []string{
 	"solidus_c", "cooling_rate_c_per_s", "plateau_s", "freezing_time_s", "pour_peak_c",
 }
 
-// historyLoadedMsg carries a history query's answer.
-type historyLoadedMsg struct {
-	entries []Entry
-	err     error
-}
-
-// curveLoadedMsg carries an opened sample's curve read from its file.
+// curveLoadedMsg carries an opened sample's curve (read from its file
+// where the history has none) and the T′ the analysis finds its points on.
 type curveLoadedMsg struct {
-	id   int64
-	t, v []float64
-	err  error
+	id     int64
+	t, v   []float64
+	st, sd []float64
+	err    error
 }
 
 // historyPane lists the shift's samples, newest first, with a trend of one
@@ -50,7 +50,7 @@ type historyPane struct {
 	metric  int
 	sel     int
 	open    *Entry
-	opened  cup // the opened sample drawn as a finished cup
+	opened  cup // the opened sample drawn as a finished cup, once its curve is in
 	w, h    int
 	errText string
 }
@@ -59,14 +59,22 @@ func newHistoryPane(st *Styles, keys *KeyMap, book *limits.Book, read CurveReade
 	return historyPane{st: st, keys: keys, book: book, read: read}
 }
 
-func (p historyPane) SetSize(w, h int) historyPane { p.w, p.h = w, h; return p }
+func (p historyPane) SetSize(w, h int) historyPane {
+	p.w, p.h = w, h
+	return p.redraw()
+}
 
-// load is the command that reads the history.
-func loadHistory(rs Records) tea.Cmd {
-	return func() tea.Msg {
-		es, err := rs.List(context.Background(), "", 500)
-		return historyLoadedMsg{es, err}
+// setBook takes a saved limits book (the trend's bands).
+func (p historyPane) setBook(b *limits.Book) historyPane { p.book = b; return p }
+
+// redraw draws the opened cup's charts for View.
+func (p historyPane) redraw() historyPane {
+	if p.open != nil && len(p.opened.snap.T) > 0 {
+		if cw, ch, ok := p.opened.layout(p.st, p.w, p.h); ok {
+			p.opened.redraw(p.st, cw, ch)
+		}
 	}
+	return p
 }
 
 func (p historyPane) filterName() string {
@@ -83,7 +91,7 @@ func (p historyPane) shown() []Entry {
 	}
 	var out []Entry
 	for _, e := range p.all {
-		if e.Meta.Alloy == f {
+		if e.Meta.Get("alloy") == f {
 			out = append(out, e)
 		}
 	}
@@ -130,8 +138,8 @@ func (p *historyPane) setEntries(es []Entry) {
 	}
 	set := map[string]bool{}
 	for _, e := range es {
-		if e.Meta.Alloy != "" {
-			set[e.Meta.Alloy] = true
+		if a := e.Meta.Get("alloy"); a != "" {
+			set[a] = true
 		}
 	}
 	p.alloys = p.alloys[:0]
@@ -159,8 +167,11 @@ func (p historyPane) Update(msg tea.Msg) (historyPane, tea.Cmd) {
 				p.errText = msg.err.Error()
 				return p, nil
 			}
-			p.open.Time, p.open.Temp = msg.t, msg.v
-			p.opened = openedCup(*p.open)
+			e := *p.open
+			e.Time, e.Temp = msg.t, msg.v
+			p.open = &e
+			p.opened = openedCup(e, msg.st, msg.sd)
+			return p.redraw(), nil
 		}
 	case tea.KeyMsg:
 		if p.open != nil {
@@ -183,11 +194,8 @@ func (p historyPane) Update(msg tea.Msg) (historyPane, tea.Cmd) {
 			p.metric++
 		case key.Matches(msg, p.keys.Open) && n > 0:
 			e := p.shown()[p.sel]
-			p.open = &e
-			if len(e.Time) == 0 && e.Path != "" {
-				return p, readCurve(p.read, e.ID, e.Path)
-			}
-			p.opened = openedCup(e)
+			p.open, p.opened = &e, cup{}
+			return p, openCurve(p.read, p.book, e)
 		}
 	}
 	return p, nil
@@ -196,41 +204,48 @@ func (p historyPane) Update(msg tea.Msg) (historyPane, tea.Cmd) {
 // CurveReader reads a stored sample's curve file (curvefile.ReadFile).
 type CurveReader func(path string) (*curvefile.Curve, error)
 
-// readCurve is the command that reads a stored sample's curve file.
-func readCurve(read CurveReader, id int64, path string) tea.Cmd {
+// openCurve is the command that gives an opened sample's curve, read from
+// its file where the history has none, and its T′ as the analysis finds it
+// (the alloy's detector options, limits.Book.Resolve).
+func openCurve(read CurveReader, book *limits.Book, e Entry) tea.Cmd {
 	return func() tea.Msg {
-		if read == nil {
-			return curveLoadedMsg{id: id, err: fmt.Errorf("no curve reader to open %s", path)}
+		t, v := e.Time, e.Temp
+		if len(t) == 0 {
+			if read == nil {
+				return curveLoadedMsg{id: e.ID, err: fmt.Errorf("no curve reader to open %s", e.Path)}
+			}
+			c, err := read(e.Path)
+			if err != nil {
+				return curveLoadedMsg{id: e.ID, err: err}
+			}
+			t, v = c.Time, c.Temp
 		}
-		c, err := read(path)
-		if err != nil {
-			return curveLoadedMsg{id: id, err: err}
+		opt := book.Resolve(e.Record.Alloy).Detect
+		if e.Record.Family != "" {
+			opt.Family = arrest.Family(e.Record.Family)
 		}
-		return curveLoadedMsg{id: id, t: c.Time, v: c.Temp}
+		st, sd := sample.Slope(t, v, opt)
+		return curveLoadedMsg{id: e.ID, t: t, v: v, st: st, sd: sd}
 	}
 }
 
 // openedCup draws a stored sample the way the live view draws a finished
 // one, from its record's points.
-func openedCup(e Entry) cup {
-	c := newCup(e.Channel)
-	c.meta = e.Meta
-	for i := range e.Time {
-		c.append(Reading{TimeS: e.Time[i], TempC: e.Temp[i], Channel: e.Channel})
-	}
-	if n := len(e.Temp); n > 0 {
-		c.last, c.hasLast = Reading{TimeS: e.Time[n-1], TempC: e.Temp[n-1]}, true
-	}
-	c.res = resultFromRecord(e.Record)
+func openedCup(e Entry, st, sd []float64) cup {
+	s := sample.Snapshot{Channel: e.Channel, State: sample.Done, Meta: e.Meta, T: e.Time, V: e.Temp, SlopeT: st, SlopeD: sd,
+		Result: resultFromRecord(e.Record), Path: e.Path}
 	rec := e.Record
-	c.rec, c.state, c.path = &rec, StateDone, e.Path
-	return *c
+	s.Record = &rec
+	if n := len(e.Temp); n > 0 {
+		s.Last, s.HasLast, s.ElapsedS = feed.Reading{TimeS: e.Time[n-1], TempC: e.Temp[n-1], Channel: e.Channel}, true, e.Time[n-1]
+	}
+	return newCup(s)
 }
 
 func (p historyPane) View() string {
 	if p.open != nil {
 		c := p.opened
-		if len(c.t) == 0 {
+		if len(c.snap.T) == 0 {
 			return box(p.st.Muted.Render("Reading "+p.open.Path+" …")+"\n"+p.st.Error.Render(p.errText), p.w, p.h)
 		}
 		return c.view(p.st, p.w, p.h)
@@ -262,7 +277,7 @@ func (p historyPane) View() string {
 	for i := start; i < len(es) && len(lines) < listH+1; i++ {
 		e := es[i]
 		row := fmt.Sprintf("%-5d %-5s %-3s %-18s %-13s %-9s %8s %7s", e.ID, e.At.Format("15:04"), e.Channel,
-			cut(e.Meta.Sample, 18), cut(e.Meta.Alloy, 13), e.Record.Verdict,
+			cut(sampleName(e.Meta), 18), cut(e.Meta.Get("alloy"), 13), e.Record.Verdict,
 			fmtOpt(e.Record.EutecticMinC, "%.1f"), fmtOpt(e.Record.RecalescenceC, "%.1f"))
 		row = clip(row, p.w)
 		if i == p.sel {
@@ -366,4 +381,36 @@ func (p historyPane) ShortHelp() []key.Binding {
 
 func (p historyPane) FullHelp() [][]key.Binding {
 	return [][]key.Binding{{p.keys.Up, p.keys.Down, p.keys.Open, p.keys.Back}, {p.keys.Alloy, p.keys.Metric}}
+}
+
+// metricValues gives the numeric keys of a record's JSON form: every
+// metric the trend can show, whatever keys assess adds later.
+func metricValues(r assess.Record) map[string]float64 {
+	b, err := json.Marshal(r)
+	if err != nil {
+		return nil
+	}
+	var raw map[string]any
+	if json.Unmarshal(b, &raw) != nil {
+		return nil
+	}
+	out := map[string]float64{}
+	var walk func(prefix string, v any)
+	walk = func(prefix string, v any) {
+		switch v := v.(type) {
+		case float64:
+			out[prefix] = v
+		case map[string]any:
+			for k, x := range v {
+				walk(k, x)
+			}
+		}
+	}
+	for k, v := range raw {
+		walk(k, v)
+	}
+	delete(out, "samples")
+	delete(out, "skipped_lines")
+	delete(out, "despiked")
+	return out
 }

@@ -50,26 +50,28 @@ func (c *channel) setNext(t *Tracker, m Meta) {
 	t.command(Command{Kind: CommandMeta, Channel: c.id, Meta: m})
 }
 
-func (c *channel) reading(r feed.Reading) {
+func (c *channel) reading(t *Tracker, r feed.Reading) {
 	c.last, c.hasLast = r, true
 	c.readings++
 	if !r.Valid() {
 		c.faults++
 	}
-	if c.state.Busy() {
-		c.add(r)
+	if c.state.Busy() && c.add(r) {
+		c.watch(t)
 	}
 }
 
-// add takes a reading of the sample into its curve, as its file holds it.
-func (c *channel) add(r feed.Reading) {
+// add takes a reading of the sample into its curve, as its file holds it;
+// false for a fault reading (kept in the file as a #fault line only).
+func (c *channel) add(r feed.Reading) bool {
 	if !r.Valid() {
-		c.faultsIn++ // kept in the file as a #fault line
-		return
+		c.faultsIn++
+		return false
 	}
 	c.t = append(c.t, feed.FileTime(r.TimeS, c.startS))
 	c.v = append(c.v, r.TempC)
 	c.grew = true
+	return true
 }
 
 // start begins a sample: the source opened its file.
@@ -102,24 +104,34 @@ func (c *channel) start(t *Tracker, it *feed.Item) {
 	c.setNext(t, c.meta.carried())
 }
 
-// settle analyses a sample that grew, and decides when freezing is done
-// and when the source is to stop.
-func (c *channel) settle(t *Tracker) {
+// watch decides, reading by reading (however the source batches them),
+// when freezing is done and when the source is to stop: the analysis of
+// the curve so far says Complete, and the margin after it has been
+// recorded.
+func (c *channel) watch(t *Tracker) {
+	end := c.elapsed()
+	if c.state == Recording {
+		c.analyse(true)
+		if !c.result.Complete {
+			return
+		}
+		c.state, c.frozenAt = Frozen, end
+		t.event(Event{Kind: EventFrozen, Channel: c.id, Sample: c.n, TimeS: c.startS + end,
+			Text: fmt.Sprintf("channel %s: freezing has ended at %.1f s; recording %g s more", c.id, end, t.cfg.FreezeMarginS)})
+	}
+	if !c.stopped && end-c.frozenAt >= t.cfg.FreezeMarginS {
+		c.stopped = true
+		t.command(Command{Kind: CommandStop, Channel: c.id, Sample: c.n, Reason: "freezing done"})
+	}
+}
+
+// settle brings the analysis shown up to date with a sample that grew.
+func (c *channel) settle() {
 	if !c.grew || !c.state.Busy() {
 		return
 	}
 	c.grew = false
 	c.analyse(true)
-	end := c.elapsed()
-	if c.state == Recording && c.result.Complete {
-		c.state, c.frozenAt = Frozen, end
-		t.event(Event{Kind: EventFrozen, Channel: c.id, Sample: c.n, TimeS: c.startS + end,
-			Text: fmt.Sprintf("channel %s: freezing has ended at %.1f s; recording %g s more", c.id, end, t.cfg.FreezeMarginS)})
-	}
-	if c.state == Frozen && !c.stopped && end-c.frozenAt >= t.cfg.FreezeMarginS {
-		c.stopped = true
-		t.command(Command{Kind: CommandStop, Channel: c.id, Sample: c.n, Reason: "freezing done"})
-	}
 }
 
 // analyse runs the channel's analyser over the curve (live while it may

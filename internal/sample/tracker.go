@@ -241,17 +241,26 @@ func (t *Tracker) Apply(b feed.Batch) Update {
 		t.item(&b.Items[i])
 	}
 	for _, id := range t.order {
-		t.chans[id].settle(t)
+		t.chans[id].settle()
 	}
 	return t.flush()
 }
 
+// FormKeys are the sample keys the operator's form sets: sample, alloy,
+// operator, note.
+func FormKeys() []string { return []string{"sample", "alloy", "operator", "note"} }
+
 // SetForm takes the operator's sample form for channel ch: it is always for
-// the channel's next sample (a sample recording or finished keeps its own),
-// merged over what the next sample had.
+// the channel's next sample (a sample recording or finished keeps its own).
+// The form's keys (FormKeys) are set as m says, emptied where it has none;
+// the next sample's other keys stay.
 func (t *Tracker) SetForm(ch string, m Meta) Update {
 	c := t.channel(ch)
-	c.setNext(t, c.next.Merge(m))
+	next := c.next
+	for _, k := range FormKeys() {
+		next = next.With(k, m.Get(k))
+	}
+	c.setNext(t, next)
 	return t.flush()
 }
 
@@ -310,7 +319,7 @@ func (t *Tracker) flush() Update {
 func (t *Tracker) item(it *feed.Item) {
 	switch it.Kind {
 	case feed.KindReading:
-		t.channel(it.Reading.Channel).reading(it.Reading)
+		t.channel(it.Reading.Channel).reading(t, it.Reading)
 	case feed.KindStarted:
 		t.channel(it.Channel).start(t, it)
 	case feed.KindEnded:
@@ -364,4 +373,14 @@ func (t *Tracker) recovered(it *feed.Item) {
 		Skipped: c.Skipped, Limits: t.book, Meta: c.Meta}, result)
 	t.out.Finished = append(t.out.Finished, Finished{Channel: it.Channel, Meta: meta, Path: it.Path, Record: rec,
 		T: c.Time, V: c.Temp, Recovered: true})
+}
+
+// Slope is the T′ of a whole curve as the tracker shows a sample's: the
+// analyser's (arrest.Analyzer.Slope) with the detector options opt, for a
+// stored sample's curve on the dashboard and on the report page.
+func Slope(t, temp []float64, opt arrest.Options) (st, sd []float64) {
+	var an arrest.Analyzer
+	an.Analyze(t, temp, opt)
+	ts, d := an.Slope()
+	return append([]float64(nil), ts...), append([]float64(nil), d...)
 }

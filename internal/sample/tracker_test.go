@@ -267,7 +267,8 @@ func sameNaN(a, b []float64) bool {
 
 // The form saved while a sample records, or once it is DONE, is for the
 // next sample: the sample shown keeps its metadata and its record, and the
-// source is told only about the next file.
+// source is told only about the next file. The form sets its own keys
+// (a field left empty is emptied) and leaves the device's others.
 func TestFormIsForTheNextSample(t *testing.T) {
 	s := newSource(t, Config{})
 	s.obey(s.tr.SetForm("1", meta("sample", "L-1 cup 1", "alloy", "grey-iron")))
@@ -283,7 +284,7 @@ func TestFormIsForTheNextSample(t *testing.T) {
 	}
 	s.end("1", "stopped by hand")
 	done := s.snap("1")
-	s.obey(s.tr.SetForm("1", meta("sample", "L-3 cup 1")))
+	s.obey(s.tr.SetForm("1", meta("sample", "L-3 cup 1", "alloy", "grey-iron")))
 	s.apply(feed.Item{Kind: feed.KindDeviceInfo, Channel: "1", Meta: []curvefile.Meta{{Key: "operator", Value: "Tobin Quenchmoor"}}})
 	sn := s.snap("1")
 	if sn.State != Done || sn.Meta.Get("sample") != "L-1 cup 1" || sn.Record != done.Record || sn.Record.Alloy != "grey-iron" {
