@@ -1,7 +1,6 @@
 package tui
 
 import (
-	"encoding/json"
 	"fmt"
 	"math"
 	"sort"
@@ -20,12 +19,9 @@ import (
 	"github.com/undercool-foundry/undercool/internal/store"
 )
 
-// preferredMetrics come first in the trend's metric cycle; any other
-// numeric key of the record follows in name order.
-var preferredMetrics = []string{
-	"undercooling_c", "recalescence_c", "eutectic_min_c", "eutectic_max_c", "liquidus_c",
-	"solidus_c", "cooling_rate_c_per_s", "plateau_s", "freezing_time_s", "pour_peak_c",
-}
+// firstMetric is the trend's metric when it opens (the others follow in
+// the registry's order, assess.Metrics).
+const firstMetric = "undercooling_c"
 
 // curveLoadedMsg carries an opened sample's curve (read from its file
 // where the history has none) and the T′ the analysis finds its points on.
@@ -98,6 +94,8 @@ func (p historyPane) shown() []Entry {
 	return out
 }
 
+// metrics are the registry's metrics (assess.Metrics) that some sample
+// shown has a value of, from firstMetric on in the registry's order.
 func (p historyPane) metrics() []string {
 	seen := map[string]bool{}
 	for _, e := range p.shown() {
@@ -106,20 +104,16 @@ func (p historyPane) metrics() []string {
 		}
 	}
 	var out []string
-	for _, k := range preferredMetrics {
-		if seen[k] {
-			out = append(out, k)
-			delete(seen, k)
+	start := 0
+	for _, m := range assess.Metrics() {
+		if seen[m.Name] {
+			if m.Name == firstMetric {
+				start = len(out)
+			}
+			out = append(out, m.Name)
 		}
 	}
-	var rest []string
-	for k := range seen {
-		if !strings.HasSuffix(k, "_s") || k == "plateau_s" || k == "freezing_time_s" {
-			rest = append(rest, k)
-		}
-	}
-	sort.Strings(rest)
-	return append(out, rest...)
+	return append(out[start:], out[:start]...)
 }
 
 func (p historyPane) metricName() string {
@@ -383,34 +377,14 @@ func (p historyPane) FullHelp() [][]key.Binding {
 	return [][]key.Binding{{p.keys.Up, p.keys.Down, p.keys.Open, p.keys.Back}, {p.keys.Alloy, p.keys.Metric}}
 }
 
-// metricValues gives the numeric keys of a record's JSON form: every
-// metric the trend can show, whatever keys assess adds later.
+// metricValues gives a record's value of every metric of the registry
+// that it has.
 func metricValues(r assess.Record) map[string]float64 {
-	b, err := json.Marshal(r)
-	if err != nil {
-		return nil
-	}
-	var raw map[string]any
-	if json.Unmarshal(b, &raw) != nil {
-		return nil
-	}
 	out := map[string]float64{}
-	var walk func(prefix string, v any)
-	walk = func(prefix string, v any) {
-		switch v := v.(type) {
-		case float64:
-			out[prefix] = v
-		case map[string]any:
-			for k, x := range v {
-				walk(k, x)
-			}
+	for _, m := range assess.Metrics() {
+		if v, ok := m.Value(&r); ok {
+			out[m.Name] = v
 		}
 	}
-	for k, v := range raw {
-		walk(k, v)
-	}
-	delete(out, "samples")
-	delete(out, "skipped_lines")
-	delete(out, "despiked")
 	return out
 }

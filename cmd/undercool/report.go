@@ -65,7 +65,7 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 			return err
 		}
 	} else {
-		var book *limits.Book
+		book := limits.Builtin() // the shipped examples, as assess takes them
 		if *limitsPath != "" {
 			if book, err = limits.Load(*limitsPath); err != nil {
 				return err
@@ -84,7 +84,7 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 			return err
 		}
 		info = report.Info{Sample: s.Sample, Ladle: s.Ladle, Alloy: rec.Alloy, Furnace: s.Furnace, Operator: s.Operator,
-			Time: s.Recorded, CurvePath: pos[0], CurveSHA256: s.CurveSHA256}
+			Time: s.Recorded, CurvePath: pos[0], CurveSHA256: s.CurveSHA256, Detect: book.Resolve(a).Detect}
 		if s.Simulated {
 			info.Notes = append(info.Notes, "simulated cup, not a measurement")
 		}
