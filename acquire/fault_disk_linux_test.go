@@ -102,7 +102,7 @@ wait:
 	if err := os.Remove(filler); err != nil {
 		t.Fatal(err)
 	}
-	recs, err := Recover(dir)
+	recs, err := recoverDir(dir, time.Now())
 	if err != nil || len(recs) != 1 {
 		t.Fatalf("Recover: %v %v", recs, err)
 	}

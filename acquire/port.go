@@ -34,8 +34,6 @@ func (m PortMode) Frame() string {
 	return strconv.Itoa(m.DataBits) + string(m.Parity) + strconv.FormatFloat(m.StopBits, 'f', -1, 64)
 }
 
-func (m PortMode) String() string { return strconv.Itoa(m.Baud) + " " + m.Frame() }
-
 // ParseFrame parses a frame like "8N1", "7E1", "8N2" or "8N1.5" (data
 // bits, parity N/E/O/M/S, stop bits) into m, keeping m's baud rate.
 func (m *PortMode) ParseFrame(s string) error {

@@ -319,16 +319,15 @@ type Recovered struct {
 	Torn    bool   // a torn last line was dropped
 }
 
-// Recover completes the samples in dir whose recording was interrupted (a
-// NAME.partial.csv left by a crash, a kill or a power cut): every completely
-// written line is kept, a torn last line is dropped, the metadata gain
-// "# interrupted: true" and "# recovered: TIME", and the file is renamed to
-// NAME.csv. A partial file still locked by a running recorder is left
-// alone. Where NAME.csv already exists (the crash came after completing)
-// the partial file is removed. Recover returns what it completed, in name
-// order, and the first error; it goes on past errors.
-func Recover(dir string) ([]Recovered, error) { return recoverDir(dir, time.Now()) }
-
+// recoverDir completes the samples in dir whose recording was interrupted
+// (a NAME.partial.csv left by a crash, a kill or a power cut): every
+// completely written line is kept, a torn last line is dropped, the
+// metadata gain "# interrupted: true" and "# recovered: TIME" (now), and
+// the file is renamed to NAME.csv. A partial file still locked by a
+// running recorder is left alone. Where NAME.csv already exists (the crash
+// came after completing) the partial file is removed. It returns what it
+// completed, in name order, and the first error; it goes on past errors.
+// Run calls it at its start.
 func recoverDir(dir string, now time.Time) ([]Recovered, error) {
 	names, err := filepath.Glob(filepath.Join(globEscape(dir), "*"+partialSuffix))
 	if err != nil {

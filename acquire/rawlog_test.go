@@ -29,7 +29,7 @@ func TestRecover(t *testing.T) {
 	if err := os.WriteFile(p, []byte(tornPartial), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	recs, err := Recover(dir)
+	recs, err := recoverDir(dir, time.Now())
 	if err != nil || len(recs) != 1 {
 		t.Fatalf("Recover: %v %v", recs, err)
 	}
@@ -52,7 +52,7 @@ func TestRecover(t *testing.T) {
 		t.Fatalf("curve reader: %v %+v", err, cv)
 	}
 	// A second run finds nothing more.
-	if recs, err := Recover(dir); err != nil || len(recs) != 0 {
+	if recs, err := recoverDir(dir, time.Now()); err != nil || len(recs) != 0 {
 		t.Fatalf("second Recover: %v %v", recs, err)
 	}
 }
@@ -71,7 +71,7 @@ func TestRecoverLeavesLiveLog(t *testing.T) {
 	if err := l.write(feed.Reading{TimeS: 1, TempC: 1300}, 0); err != nil {
 		t.Fatal(err)
 	}
-	recs, err := Recover(dir)
+	recs, err := recoverDir(dir, time.Now())
 	if err != nil || len(recs) != 0 {
 		t.Fatalf("Recover took a live log: %v %v", recs, err)
 	}
@@ -92,7 +92,7 @@ func TestRecoverAfterCompleting(t *testing.T) {
 	final := filepath.Join(dir, "s.csv")
 	os.WriteFile(final, []byte("# ended: freezing done\ntime_s,temp_c,flags\n0,1,\n"), 0o644)
 	os.WriteFile(partialName(final), []byte(tornPartial), 0o644)
-	if recs, err := Recover(dir); err != nil || len(recs) != 0 {
+	if recs, err := recoverDir(dir, time.Now()); err != nil || len(recs) != 0 {
 		t.Fatalf("Recover: %v %v", recs, err)
 	}
 	b, _ := os.ReadFile(final)

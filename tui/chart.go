@@ -70,20 +70,6 @@ func (p plot) roundX() plot {
 	return p
 }
 
-// niceSpan rounds a positive span up to 1, 2 or 5 times a power of ten.
-func niceSpan(v float64) float64 {
-	if v <= 0 || math.IsNaN(v) {
-		return 1
-	}
-	p := math.Pow(10, math.Floor(math.Log10(v)))
-	for _, m := range []float64{1, 2, 5, 10} {
-		if m*p >= v {
-			return m * p
-		}
-	}
-	return 10 * p
-}
-
 // padRange widens [lo, hi] by a fraction and to at least minSpan.
 func padRange(lo, hi, frac, minSpan float64) (float64, float64) {
 	if hi-lo < minSpan {

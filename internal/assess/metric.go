@@ -57,16 +57,10 @@ func Value(r *Record, key string) (float64, bool) {
 	return 0, false
 }
 
-// Keys lists the keys of the record's own numbers that may be null (its
-// *float64 fields: the points, their times and the figures), in field
-// order: the columns of an export.
-func Keys() []string { return append([]string(nil), recordKeys...) }
-
 // numberPaths is every number Value finds, by JSON key: the field index
 // path from Record.
-var numberPaths, recordKeys = func() (map[string][]int, []string) {
+var numberPaths = func() map[string][]int {
 	paths := map[string][]int{}
-	var keys []string
 	ptr := reflect.TypeFor[*float64]()
 	rt := reflect.TypeFor[Record]()
 	for i := range rt.NumField() {
@@ -76,7 +70,6 @@ var numberPaths, recordKeys = func() (map[string][]int, []string) {
 		case key == "":
 		case f.Type == ptr:
 			paths[key] = []int{i}
-			keys = append(keys, key)
 		case f.Type == reflect.TypeFor[*Potency]():
 			pt := f.Type.Elem()
 			for j := range pt.NumField() {
@@ -87,7 +80,7 @@ var numberPaths, recordKeys = func() (map[string][]int, []string) {
 			}
 		}
 	}
-	return paths, keys
+	return paths
 }()
 
 func jsonKey(f reflect.StructField) string {
