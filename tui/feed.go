@@ -19,10 +19,9 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sample"
-	"github.com/undercool-foundry/undercool/internal/session"
 )
 
-// Feed is what the dashboard needs of a live session (*session.Session):
+// Feed is what the dashboard needs of a live session (internal/session):
 // the sample tracker's updates, and the operator's requests.
 type Feed interface {
 	// Updates delivers the tracker's updates; it is closed when the
@@ -88,7 +87,7 @@ func waitUpdate(ch <-chan sample.Update, p *pacer) tea.Cmd {
 					if !ok {
 						break collect // deliver what came; the next wait reports the close
 					}
-					u = session.Merge(u, more)
+					u = sample.Merge(u, more)
 				case <-deadline.C:
 					break collect
 				}
@@ -101,7 +100,7 @@ func waitUpdate(ch <-chan sample.Update, p *pacer) tea.Cmd {
 					drained = true
 					break
 				}
-				u = session.Merge(u, more)
+				u = sample.Merge(u, more)
 			default:
 				drained = true
 			}

@@ -136,7 +136,7 @@ func (p *historyPane) setEntries(es []Entry) {
 			set[a] = true
 		}
 	}
-	p.alloys = p.alloys[:0]
+	p.alloys = nil // a new slice: the pane is a value
 	for a := range set {
 		p.alloys = append(p.alloys, a)
 	}

@@ -119,6 +119,18 @@ type Update struct {
 	Commands []Command   // for the source, in order
 }
 
+// Merge is u followed by next, for a reader that takes updates less often
+// than they come: the events, finished samples and commands of both in
+// order, the status and channels of next (the channels are every channel,
+// so the later snapshot of each is what counts).
+func Merge(u, next Update) Update {
+	u.Status, u.Channels = next.Status, next.Channels
+	u.Events = append(u.Events, next.Events...)
+	u.Finished = append(u.Finished, next.Finished...)
+	u.Commands = append(u.Commands, next.Commands...)
+	return u
+}
+
 // Snapshot is one channel as the tracker sees it. Its slices are never
 // changed afterwards: a later snapshot of a growing sample shares them and
 // sees more.

@@ -104,7 +104,7 @@ func (s *Session) Run() {
 		for _, f := range u.Finished {
 			s.opt.Finished(f)
 		}
-		pending, have = Merge(pending, u), true
+		pending, have = sample.Merge(pending, u), true
 	}
 	take(s.tr.Initial())
 	batches := s.src.Batches()
@@ -142,14 +142,4 @@ func (s *Session) Run() {
 			pending, have = sample.Update{}, false
 		}
 	}
-}
-
-// Merge is u followed by next: the events and finished samples of both in
-// order, the status and channels of next.
-func Merge(u, next sample.Update) sample.Update {
-	u.Status, u.Channels = next.Status, next.Channels
-	u.Events = append(u.Events, next.Events...)
-	u.Finished = append(u.Finished, next.Finished...)
-	u.Commands = append(u.Commands, next.Commands...)
-	return u
 }
