@@ -370,16 +370,22 @@ func (c *cup) chartKey(st *Styles, w, h int) chartKey {
 // while the sample has grown by less than chartEveryS and nothing else
 // changed, else afresh (nothing is kept: View writes nothing).
 func (c *cup) charts(st *Styles, w, h int) string {
-	if d := c.drawn; d.text != "" && d.key == c.chartKey(st, w, h) && c.elapsed() >= d.atS && c.elapsed()-d.atS < chartEveryS {
-		return d.text
+	if c.fresh(st, w, h) {
+		return c.drawn.text
 	}
 	return c.drawCharts(st, w, h)
 }
 
+// fresh reports whether the charts as last drawn serve for size w×h.
+func (c *cup) fresh(st *Styles, w, h int) bool {
+	d := c.drawn
+	return d.text != "" && d.key == c.chartKey(st, w, h) && c.elapsed() >= d.atS && c.elapsed()-d.atS < chartEveryS
+}
+
 // redraw keeps the charts for size w×h drawn for View, when they are due.
 func (c *cup) redraw(st *Styles, w, h int) {
-	if text := c.charts(st, w, h); text != c.drawn.text {
-		c.drawn = chartCache{key: c.chartKey(st, w, h), atS: c.elapsed(), text: text}
+	if !c.fresh(st, w, h) {
+		c.drawn = chartCache{key: c.chartKey(st, w, h), atS: c.elapsed(), text: c.drawCharts(st, w, h)}
 	}
 }
 

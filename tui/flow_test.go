@@ -6,6 +6,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"sync"
 	"testing"
@@ -240,10 +241,12 @@ func TestLimitsSavedTwiceWithoutRace(t *testing.T) {
 	}
 	var mu sync.Mutex
 	saves := 0
+	gate := make(chan struct{}) // the first save waits for the test's edits
 	save := func(_ context.Context, b *limits.Book) (string, error) {
 		for range 200 { // a slow save: the book read over and over
 			_ = b.Validate()
 		}
+		<-gate
 		mu.Lock()
 		saves++
 		mu.Unlock()
@@ -267,14 +270,15 @@ func TestLimitsSavedTwiceWithoutRace(t *testing.T) {
 	key("w")     // pressed twice: refused while the save runs
 	key("j")     // the next row
 	edit("0.07") // edited during the save
+	teatest.WaitFor(t, tm.Output(), func(b []byte) bool { return strings.Contains(stripANSI(string(b)), "0.07 *") },
+		teatest.WithDuration(20*time.Second))
+	close(gate)
 	teatest.WaitFor(t, tm.Output(), func(b []byte) bool { return strings.Contains(stripANSI(string(b)), "saved to") },
 		teatest.WithDuration(20*time.Second))
-	key("w") // the second edit, saved now
-	teatest.WaitFor(t, tm.Output(), func(b []byte) bool {
-		s := stripANSI(string(b))
-		i := strings.LastIndex(s, "saving")
-		return i >= 0 && strings.Contains(s[i:], "saved to")
-	}, teatest.WithDuration(20*time.Second))
+	key("w") // the second edit, saved now: its row loses the '*' of an unsaved edit
+	saved := regexp.MustCompile(rows[1].metric + ` +` + boundNames[rows[1].b] + ` +0\.07  \S`)
+	teatest.WaitFor(t, tm.Output(), func(b []byte) bool { return saved.MatchString(stripANSI(string(b))) },
+		teatest.WithDuration(20*time.Second))
 	key("q")
 	fm := tm.FinalModel(t, teatest.WithFinalTimeout(10*time.Second)).(Model)
 	again, err := limits.Load(path)

@@ -112,6 +112,7 @@ func (c *channel) watch(t *Tracker) {
 	end := c.elapsed()
 	if c.state == Recording {
 		c.analyse(true)
+		c.grew = false // analysed as it stands
 		if !c.result.Complete {
 			return
 		}
