@@ -44,8 +44,12 @@ type DB struct {
 }
 
 // busyTimeoutMS is how long a statement waits for another writer's lock
-// before it gives up with "database is locked".
-const busyTimeoutMS = 15000
+// before it gives up with "database is locked" (a variable for the tests).
+var busyTimeoutMS = 15000
+
+// testHookChecked, when set (by tests), runs after the ownership check of
+// an existing file and before anything is written to it.
+var testHookChecked func()
 
 // Open opens (creating it and its directory where needed) the database at
 // path and brings its schema up to date. Errors name the path; a directory
@@ -66,6 +70,9 @@ func open(ctx context.Context, path string, upto int) (*DB, error) {
 	}
 	if err := checkOurs(ctx, path); err != nil {
 		return nil, err
+	}
+	if testHookChecked != nil {
+		testHookChecked()
 	}
 	dsn := path + "?_pragma=busy_timeout(" + strconv.Itoa(busyTimeoutMS) + ")" +
 		"&_pragma=foreign_keys(1)&_pragma=journal_mode(WAL)&_pragma=synchronous(FULL)&_pragma=cache_size(-32768)&_pragma=mmap_size(268435456)&_txlock=immediate"
@@ -138,15 +145,20 @@ func OpenReadOnly(ctx context.Context, path string) (*DB, error) {
 	return db, nil
 }
 
-// checkOursRO checks, for OpenReadOnly, that the database is ours and of
-// this undercool's schema version.
+// checkOursRO checks, for OpenReadOnly, that the database is ours (by its
+// application_id; an earlier undercool's database without one is of an
+// older schema, which cannot be read here) and of this undercool's schema
+// version.
 func checkOursRO(ctx context.Context, db *DB) error {
-	var n int
+	var id, n int
+	if err := db.sql.QueryRowContext(ctx, "PRAGMA application_id").Scan(&id); err != nil {
+		return db.fail("opening", err)
+	}
 	if err := db.sql.QueryRowContext(ctx, `SELECT count(*) FROM sqlite_master WHERE type = 'table' AND name = 'schema_version'`).Scan(&n); err != nil {
 		return db.fail("opening", err)
 	}
-	if n == 0 {
-		return fmt.Errorf("store: %s is not an undercool records database (no schema_version table); nothing was read", db.path)
+	if n == 0 || id != applicationID && id != 0 {
+		return fmt.Errorf("store: %s is not an undercool records database; nothing was read", db.path)
 	}
 	ms, err := migrations()
 	if err != nil {
@@ -158,7 +170,7 @@ func checkOursRO(ctx context.Context, db *DB) error {
 		return err
 	case have > len(ms):
 		return db.newerSchema(have, len(ms))
-	case have < len(ms):
+	case have < len(ms) || id != applicationID:
 		return fmt.Errorf("store: database %s has schema version %d and this undercool reads %d; it cannot be brought up to date where it is read-only: copy it to a writable place and open the copy", db.path, have, len(ms))
 	}
 	return nil
@@ -169,7 +181,7 @@ func checkOursRO(ctx context.Context, db *DB) error {
 // waiting the busy timeout) when another process is doing the same, so
 // that is retried for as long as the busy timeout.
 func (db *DB) ping(ctx context.Context) error {
-	deadline := time.Now().Add(busyTimeoutMS * time.Millisecond)
+	deadline := time.Now().Add(time.Duration(busyTimeoutMS) * time.Millisecond)
 	for {
 		err := db.sql.PingContext(ctx)
 		var se *sqlite.Error
@@ -209,11 +221,35 @@ func checkWritable(path string) error {
 	return nil
 }
 
-// checkOurs refuses an existing SQLite file that holds tables but no
-// schema_version table: another program's database, which migrating would
-// change. It looks through a query-only connection, before the WAL pragma
-// of the real one touches the file. A file another process holds busy is
-// left to the real connection.
+// applicationID marks a SQLite file as an undercool records database: the
+// 32-bit application_id of the SQLite file header (offset 68), set by
+// PRAGMA application_id. It is ASCII "UCRD" (undercool records),
+// 0x55435244 = 1430475332. Databases made by undercool before it was set
+// have none (0); see checkOurs for how they are recognised.
+const applicationID = 0x55435244
+
+// schemaVersionDDL creates the table that counts the migrations applied.
+const schemaVersionDDL = `CREATE TABLE IF NOT EXISTS schema_version (
+		version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)`
+
+// checkOurs refuses an existing SQLite file that is not undercool's
+// before anything is written to it, so that migrating never changes
+// another program's database. A file is undercool's when
+//   - its application_id is applicationID, or
+//   - it is empty: a zero-length file, or a SQLite file holding no tables,
+//     views, indexes or triggers and no application_id, or
+//   - it was made by an undercool from before the application_id (schema
+//     versions 0 to 5): no application_id, a schema_version table whose rows
+//     are exactly migrations 1…v of this program, by number and file name,
+//     and a schema that is exactly what those migrations build (every
+//     table, index, view and trigger, compared by its SQL text with
+//     whitespace runs made one space). Anything more or less is someone
+//     else's.
+//
+// Everything else is refused, naming the path, with the file unchanged.
+// It looks through a query-only connection, before the WAL pragma of the
+// real one touches the file. A file another program holds locked is waited
+// for as long as the busy timeout, then refused as busy.
 func checkOurs(ctx context.Context, path string) error {
 	if st, err := os.Stat(path); err != nil || st.Size() == 0 {
 		return nil
@@ -223,32 +259,167 @@ func checkOurs(ctx context.Context, path string) error {
 		return fmt.Errorf("store: opening database %s: %w", path, err)
 	}
 	defer sdb.Close()
-	var tables []string
-	rows, err := sdb.QueryContext(ctx, `SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite\_%' ESCAPE '\' ORDER BY name`)
-	if err == nil {
-		for rows.Next() {
-			var n string
-			if err = rows.Scan(&n); err != nil {
-				break
-			}
-			tables = append(tables, n)
+	deadline := time.Now().Add(time.Duration(busyTimeoutMS) * time.Millisecond)
+	var o ownership
+	for {
+		o, err = readOwnership(ctx, sdb)
+		var se *sqlite.Error
+		if err == nil || !errors.As(err, &se) || se.Code()&0xff != sqlite3.SQLITE_BUSY {
+			break
 		}
-		rows.Close()
-		if err == nil {
-			err = rows.Err()
+		if time.Now().After(deadline) {
+			return fmt.Errorf("store: database %s is busy: another program has held it locked for %.0f s, so it cannot be checked to be undercool's; nothing was changed; close that program, or choose another file with --db or UNDERCOOL_DB",
+				path, float64(busyTimeoutMS)/1000)
+		}
+		select {
+		case <-ctx.Done():
+			return ctx.Err()
+		case <-time.After(20 * time.Millisecond):
 		}
 	}
-	var se *sqlite.Error
-	switch {
-	case errors.As(err, &se) && se.Code()&0xff == sqlite3.SQLITE_BUSY:
-		return nil
-	case err != nil:
+	if err != nil {
 		return (&DB{path: path}).fail("opening", err)
-	case len(tables) > 0 && !slices.Contains(tables, "schema_version"):
-		return fmt.Errorf("store: database %s is not an undercool database: it is another program's SQLite file (tables %s); nothing was changed; choose another file with --db or UNDERCOOL_DB",
-			path, strings.Join(tables, ", "))
+	}
+	switch {
+	case o.appID == applicationID, o.appID == 0 && len(o.objects) == 0:
+		return nil
+	case o.appID != 0:
+		return fmt.Errorf("store: database %s is not an undercool database: it is another program's SQLite file (application_id %#x); nothing was changed; choose another file with --db or UNDERCOOL_DB", path, o.appID)
+	}
+	ok, err := o.earlierUndercool(ctx)
+	if err != nil {
+		return fmt.Errorf("store: checking database %s: %w", path, err)
+	}
+	if !ok {
+		return fmt.Errorf("store: database %s is not an undercool database: it is another program's SQLite file (%s); nothing was changed; choose another file with --db or UNDERCOOL_DB",
+			path, o.describe())
 	}
 	return nil
+}
+
+// ownership is what checkOurs reads of a SQLite file.
+type ownership struct {
+	appID    int
+	objects  []schemaObject // not SQLite's own (sqlite_*)
+	versions []migration    // schema_version rows (version, name), if the table is there
+}
+
+type schemaObject struct{ kind, name, sql string }
+
+// readOwnership reads the application_id, the schema and the
+// schema_version rows, all in one read transaction.
+func readOwnership(ctx context.Context, sdb *sql.DB) (ownership, error) {
+	var o ownership
+	conn, err := sdb.Conn(ctx)
+	if err != nil {
+		return o, err
+	}
+	defer conn.Close()
+	if _, err := conn.ExecContext(ctx, "BEGIN"); err != nil {
+		return o, err
+	}
+	defer conn.ExecContext(context.WithoutCancel(ctx), "ROLLBACK")
+	if err := conn.QueryRowContext(ctx, "PRAGMA application_id").Scan(&o.appID); err != nil {
+		return o, err
+	}
+	if o.objects, err = readSchema(ctx, conn); err != nil {
+		return o, err
+	}
+	if !slices.ContainsFunc(o.objects, func(s schemaObject) bool { return s.kind == "table" && s.name == "schema_version" }) {
+		return o, nil
+	}
+	rows, err := conn.QueryContext(ctx, "SELECT version, name FROM schema_version ORDER BY version")
+	if err != nil {
+		return o, nil // not our table's columns: not ours
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var m migration
+		if err := rows.Scan(&m.version, &m.name); err != nil {
+			return o, nil
+		}
+		o.versions = append(o.versions, m)
+	}
+	return o, rows.Err()
+}
+
+// readSchema lists the schema's objects other than SQLite's own, sorted.
+func readSchema(ctx context.Context, q interface {
+	QueryContext(context.Context, string, ...any) (*sql.Rows, error)
+}) ([]schemaObject, error) {
+	rows, err := q.QueryContext(ctx, `SELECT type, name, coalesce(sql, '') FROM sqlite_master WHERE name NOT LIKE 'sqlite\_%' ESCAPE '\' ORDER BY type, name`)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []schemaObject
+	for rows.Next() {
+		var s schemaObject
+		if err := rows.Scan(&s.kind, &s.name, &s.sql); err != nil {
+			return nil, err
+		}
+		s.sql = strings.Join(strings.Fields(s.sql), " ")
+		out = append(out, s)
+	}
+	return out, rows.Err()
+}
+
+// earlierUndercool reports whether the file is a database made by an
+// undercool from before the application_id: its schema_version rows are
+// migrations 1…v of this program and its schema is exactly what they
+// build (built again in memory to compare).
+func (o ownership) earlierUndercool(ctx context.Context) (bool, error) {
+	ms, err := migrations()
+	if err != nil {
+		return false, err
+	}
+	if len(o.versions) > len(ms) {
+		return false, nil
+	}
+	for i, v := range o.versions {
+		if v.version != i+1 || v.name != ms[i].name {
+			return false, nil
+		}
+	}
+	if !slices.ContainsFunc(o.objects, func(s schemaObject) bool { return s.name == "schema_version" }) {
+		return false, nil
+	}
+	ref, err := sql.Open("sqlite", ":memory:")
+	if err != nil {
+		return false, err
+	}
+	defer ref.Close()
+	ref.SetMaxOpenConns(1) // one connection: one in-memory database
+	if _, err := ref.ExecContext(ctx, schemaVersionDDL); err != nil {
+		return false, err
+	}
+	for _, m := range ms[:len(o.versions)] {
+		if _, err := ref.ExecContext(ctx, m.sql); err != nil {
+			return false, fmt.Errorf("building schema version %d to compare: %w", m.version, err)
+		}
+	}
+	want, err := readSchema(ctx, ref)
+	if err != nil {
+		return false, err
+	}
+	return slices.Equal(want, o.objects), nil
+}
+
+// describe names the objects of a schema by kind, for an error.
+func (o ownership) describe() string {
+	var parts []string
+	for _, kind := range []string{"table", "view", "index", "trigger"} {
+		var names []string
+		for _, s := range o.objects {
+			if s.kind == kind {
+				names = append(names, s.name)
+			}
+		}
+		if len(names) > 0 {
+			parts = append(parts, kind+"s "+strings.Join(names, ", "))
+		}
+	}
+	return strings.Join(parts, "; ")
 }
 
 // Path returns the database's file path.
@@ -338,8 +509,7 @@ func (db *DB) migrate(ctx context.Context, upto int) error {
 	if upto < 0 || upto > len(ms) {
 		upto = len(ms)
 	}
-	if _, err := db.sql.ExecContext(ctx, `CREATE TABLE IF NOT EXISTS schema_version (
-		version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)`); err != nil {
+	if _, err := db.sql.ExecContext(ctx, schemaVersionDDL); err != nil {
 		return db.fail("preparing", err)
 	}
 	have, err := db.version(ctx)
@@ -352,6 +522,17 @@ func (db *DB) migrate(ctx context.Context, upto int) error {
 	for _, m := range ms[:upto] {
 		if err := db.apply(ctx, m); err != nil {
 			return err
+		}
+	}
+	// an earlier undercool's database with nothing to migrate, or a new
+	// one built to version 0, is marked on its own
+	var id int
+	if err := db.sql.QueryRowContext(ctx, "PRAGMA application_id").Scan(&id); err != nil {
+		return db.fail("reading the application_id of", err)
+	}
+	if id != applicationID {
+		if _, err := db.sql.ExecContext(ctx, "PRAGMA application_id = "+strconv.Itoa(applicationID)); err != nil {
+			return db.fail("marking", err)
 		}
 	}
 	return nil
@@ -401,6 +582,9 @@ func (db *DB) apply(ctx context.Context, m migration) error {
 	}
 	if _, err := tx.ExecContext(ctx, m.sql); err != nil {
 		return db.fail("applying migration "+m.name+" to", err)
+	}
+	if _, err := tx.ExecContext(ctx, "PRAGMA application_id = "+strconv.Itoa(applicationID)); err != nil {
+		return db.fail("marking", err)
 	}
 	if _, err := tx.ExecContext(ctx, `INSERT INTO schema_version(version, name, applied_at) VALUES (?, ?, ?)`,
 		m.version, m.name, formatTime(time.Now())); err != nil {
