@@ -1,0 +1,12 @@
+-- 0002: indexes for the history, trend and verify queries (plant-wide:
+-- by alloy, by deck, by time, by ladle and furnace). Older decks keep
+-- writing while it runs: their inserts wait for it, then go in.
+CREATE INDEX samples_recorded ON samples(recorded_at, id);
+CREATE INDEX samples_alloy_recorded ON samples(alloy, recorded_at, id);
+CREATE INDEX samples_deck_recorded ON samples(site, deck, recorded_at, id);
+CREATE INDEX samples_ladle ON samples(ladle);
+CREATE INDEX samples_furnace ON samples(furnace);
+CREATE INDEX samples_curve_sha256 ON samples(curve_sha256);
+CREATE INDEX samples_written_by ON samples(written_by);
+CREATE INDEX results_sample ON results(sample_id, id);
+CREATE INDEX results_written_by ON results(written_by);
