@@ -8,7 +8,6 @@ import (
 	"net"
 	"net/url"
 	"os"
-	"strconv"
 	"strings"
 	"time"
 
@@ -381,5 +380,3 @@ func (db *DB) Version(ctx context.Context) (int, error) {
 	v, _, err := db.pgVersion(ctx, conn, PlantSchemaVersion())
 	return v, err
 }
-
-var _ = strconv.Itoa

@@ -232,11 +232,11 @@ func (db *DB) fillSummaries(ctx context.Context) error {
 
 // scanner reads entry rows straight into the caller's Entry.
 type scanner struct {
-	reasons, problems           string
-	packed                      []byte
-	record, fallback            sql.NullString
-	dest                        []any
-	full                        bool
+	reasons, problems string
+	packed            []byte
+	record, fallback  sql.NullString
+	dest              []any
+	full              bool
 }
 
 func newScanner(full bool) *scanner {

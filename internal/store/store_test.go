@@ -35,6 +35,8 @@ func TestMain(m *testing.M) {
 		os.Exit(childWriter())
 	case "killed":
 		os.Exit(childKilled())
+	case "forwarder":
+		os.Exit(childForwarder())
 	default:
 		fmt.Fprintln(os.Stderr, "unknown UNDERCOOL_STORE_CHILD")
 		os.Exit(3)
