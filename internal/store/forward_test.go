@@ -40,7 +40,7 @@ func shiftOn(t testing.TB, db *DB, tag string, n int) {
 		s := Sample{Recorded: start.Add(time.Duration(i) * 7 * time.Minute), Sample: fmt.Sprintf("%s L-%d cup 1", tag, 2400+i),
 			Ladle: fmt.Sprintf("L-%d", 2400+i), Alloy: "grey-iron", Furnace: "IF-1", Record: constructedRecord("grey-iron", 1140+float64(i%9), "pass")}
 		if i%3 == 0 {
-			s.CurveSHA256 = fmt.Sprintf("%s%060x", tag[:4], i)
+			s.CurveSHA256 = hashUID(tag, strconv.Itoa(i)) + hashUID(tag) // constructed, 64 hex digits
 		}
 		id, err := db.AddSample(ctx, s)
 		if err != nil {

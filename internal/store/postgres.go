@@ -270,7 +270,7 @@ func (db *DB) migratePG(ctx context.Context, upto int, readOnly bool) error {
 		return db.fail("checking", err)
 	}
 	if !schema.Valid {
-		return fmt.Errorf("store: database %s: none of the schemas on the role's search_path exists, so there is nowhere for the records' tables", db.path)
+		return fmt.Errorf("store: database %s: this role may not use the records' schema, or none on its search_path exists: a deck's role must be a member of undercool_deck, a reader's of undercool_reader (see docs/plant-database.md)", db.path)
 	}
 	if !canCreate {
 		return db.behind(have, len(ms))

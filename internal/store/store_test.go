@@ -711,44 +711,48 @@ func TestVerifyDetectsTampering(t *testing.T) {
 }
 
 // TestTwoProcessesWriting runs two child processes that each add N samples
-// one transaction at a time to the same file, at the same time.
+// one transaction at a time to the same database, at the same time (two
+// decks writing at once: the same file, or the plant database).
 func TestTwoProcessesWriting(t *testing.T) {
-	n := 150
-	if testing.Short() {
-		n = 40
-	}
-	path := filepath.Join(t.TempDir(), "shared.db")
-	var cmds []*exec.Cmd
-	var outs []*strings.Builder
-	for _, tag := range []string{"IF-1", "IF-2"} {
-		c := exec.Command(os.Args[0], "-test.run=^$")
-		c.Env = append(os.Environ(), "UNDERCOOL_STORE_CHILD=writer", "UNDERCOOL_STORE_DB="+path,
-			"UNDERCOOL_STORE_N="+strconv.Itoa(n), "UNDERCOOL_STORE_TAG="+tag)
-		var out strings.Builder
-		c.Stdout, c.Stderr = &out, &out
-		if err := c.Start(); err != nil {
+	forEachEngine(t, func(t *testing.T, e *testEngine) {
+		n := 150
+		if testing.Short() {
+			n = 40
+		}
+		p := e.newPlace(t, -1)
+		path := p.target("deck_a")
+		var cmds []*exec.Cmd
+		var outs []*strings.Builder
+		for _, tag := range []string{"IF-1", "IF-2"} {
+			c := exec.Command(os.Args[0], "-test.run=^$")
+			c.Env = append(os.Environ(), "UNDERCOOL_STORE_CHILD=writer", "UNDERCOOL_STORE_DB="+path,
+				"UNDERCOOL_STORE_N="+strconv.Itoa(n), "UNDERCOOL_STORE_TAG="+tag)
+			var out strings.Builder
+			c.Stdout, c.Stderr = &out, &out
+			if err := c.Start(); err != nil {
+				t.Fatal(err)
+			}
+			cmds, outs = append(cmds, c), append(outs, &out)
+		}
+		for i, c := range cmds {
+			if err := c.Wait(); err != nil {
+				t.Fatalf("writer %d: %v\n%s", i, err, outs[i])
+			}
+		}
+		db, err := Open(context.Background(), p.target("undercool_owner"))
+		if err != nil {
 			t.Fatal(err)
 		}
-		cmds, outs = append(cmds, c), append(outs, &out)
-	}
-	for i, c := range cmds {
-		if err := c.Wait(); err != nil {
-			t.Fatalf("writer %d: %v\n%s", i, err, outs[i])
+		defer db.Close()
+		for _, tag := range []string{"IF-1", "IF-2"} {
+			var got int
+			db.sql.QueryRow(db.q("SELECT count(*) FROM samples s JOIN results r ON r.sample_id = s.id WHERE s.furnace = ?"), tag).Scan(&got)
+			if got != n {
+				t.Errorf("writer %s: %d samples stored, want %d", tag, got, n)
+			}
 		}
-	}
-	db, err := Open(context.Background(), path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer db.Close()
-	for _, tag := range []string{"IF-1", "IF-2"} {
-		var got int
-		db.sql.QueryRow("SELECT count(*) FROM samples s JOIN results r ON r.sample_id = s.id WHERE s.furnace = ?", tag).Scan(&got)
-		if got != n {
-			t.Errorf("writer %s: %d samples stored, want %d", tag, got, n)
-		}
-	}
-	integrity(t, db)
+		integrity(t, db)
+	})
 }
 
 func childWriter() int {
