@@ -142,7 +142,7 @@ func (s *Server) Resume() error {
 	}
 	c := exec.Command(filepath.Join(s.bin, "postgres"), "-D", filepath.Join(s.Dir, "data"),
 		"-k", s.Socket, "-p", strconv.Itoa(s.Port), "-c", "listen_addresses=127.0.0.1",
-		"-c", "max_connections=60", "-c", "shared_buffers=32MB", "-c", "log_min_messages=warning",
+		"-c", "max_connections=60", "-c", "shared_buffers=128MB", "-c", "log_min_messages=warning",
 		"-c", "log_connections=off", "-c", "logging_collector=off")
 	c.Dir = s.Dir
 	c.Env = []string{"PATH=/usr/bin:/bin", "LANG=C", "LC_ALL=C"}

@@ -85,10 +85,10 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 		}
 		where, args = append(where, col+" = ?"), append(args, f.Verdict)
 	}
-	from := " FROM samples s JOIN results r ON r.id = s.latest_result_id"
+	from := " FROM samples s " + db.latestJoin()
 	switch {
 	case fast:
-		from = " FROM samples s"
+		from = " FROM " + db.historyTable() + " s"
 		where = append(where, "s.latest_result_id IS NOT NULL")
 	case f.AllResults:
 		from = " FROM samples s JOIN results r ON r.sample_id = s.id"
@@ -97,15 +97,22 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 		from += " WHERE " + strings.Join(where, " AND ")
 	}
 	// count first, so the rows go straight into a slice of the right size
+	// (the plant database counts the fast path's rows as it sends them,
+	// count(*) OVER (), rather than reading them twice)
 	var n int
-	if err := db.sql.QueryRowContext(ctx, db.q("SELECT count(*)"+from), args...).Scan(&n); err != nil {
-		return nil, db.fail("reading history from", err)
+	window := fast && db.pg
+	if !window {
+		if err := db.sql.QueryRowContext(ctx, db.q("SELECT count(*)"+from), args...).Scan(&n); err != nil {
+			return nil, db.fail("reading history from", err)
+		}
 	}
 	if f.Limit > 0 && f.Limit < n {
 		n = f.Limit
 	}
 	var q string
 	switch {
+	case window:
+		q = "SELECT s.id, s.latest_result_id, s.summary, count(*) OVER ()"
 	case fast:
 		q = "SELECT s.id, s.latest_result_id, s.summary"
 	case f.Full:
@@ -137,12 +144,27 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 	var missing []int // rows without a summary (written before it existed)
 	sc := newScanner(f.Full)
 	var summary sql.RawBytes // decoded before the next row
+	dest := []any{nil, nil, &summary, &n}
+	if !window {
+		dest = dest[:3]
+	}
 	for rows.Next() {
+		if window && len(out) == 0 && cap(out) == 0 {
+			out = make([]Entry, 0, 1) // replaced once the first row gives the count
+		}
 		out = append(out, Entry{})
 		e := &out[len(out)-1]
+		dest[0], dest[1] = &e.Sample.ID, &e.Result.ID
 		if !fast {
 			err = sc.scan(rows, e)
-		} else if err = rows.Scan(&e.Sample.ID, &e.Result.ID, &summary); err == nil {
+		} else if err = rows.Scan(dest...); err == nil {
+			if window && len(out) == 1 {
+				if f.Limit > 0 && f.Limit < n {
+					n = f.Limit
+				}
+				out = append(make([]Entry, 0, n), out[0])
+				e = &out[0]
+			}
 			switch {
 			case len(summary) == 0 || summary[0] != summaryFormat: // none yet, or an earlier format
 				missing = append(missing, len(out)-1)
@@ -170,10 +192,30 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 	return out, nil
 }
 
+// latestJoin joins a sample (s) to its latest result (r): in SQLite
+// through the sample row's latest_result_id, in the plant database
+// through its latest table (see migrations/postgres/0001_base.sql).
+func (db *DB) latestJoin() string {
+	if db.pg {
+		return "JOIN latest l ON l.id = s.id JOIN results r ON r.id = l.latest_result_id"
+	}
+	return "JOIN results r ON r.id = s.latest_result_id"
+}
+
+// historyTable holds a history row per sample (id, latest_result_id,
+// latest_verdict, summary and the columns the filters use): the samples
+// table in SQLite, the narrow latest table in the plant database.
+func (db *DB) historyTable() string {
+	if db.pg {
+		return "latest"
+	}
+	return "samples"
+}
+
 // latestEntry reads one sample's history row the slow way, by a join.
 func (db *DB) latestEntry(ctx context.Context, id int64) (Entry, error) {
 	rows, err := db.sql.QueryContext(ctx, db.q("SELECT "+summaryColumns+
-		" FROM samples s JOIN results r ON r.id = s.latest_result_id WHERE s.id = ?"), id)
+		" FROM samples s "+db.latestJoin()+" WHERE s.id = ?"), id)
 	if err != nil {
 		return Entry{}, db.fail("reading history from", err)
 	}
@@ -409,7 +451,7 @@ func (db *DB) Trend(ctx context.Context, alloy, metric string, since, until time
 		where, args = append(where, "s.recorded_at < ?"), append(args, db.ts(until))
 	}
 	q := "SELECT s.id, s.recorded_at, s.sample, s.ladle, r.verdict, " + col +
-		" FROM samples s JOIN results r ON r.id = s.latest_result_id WHERE " + strings.Join(where, " AND ") +
+		" FROM samples s " + db.latestJoin() + " WHERE " + strings.Join(where, " AND ") +
 		" ORDER BY s.recorded_at, s.id"
 	rows, err := db.sql.QueryContext(ctx, db.q(q), args...)
 	if err != nil {

@@ -16,6 +16,8 @@ import (
 	"strings"
 	"time"
 
+	"github.com/jackc/pgx/v5/pgconn"
+
 	"github.com/undercool-foundry/undercool/internal/assess"
 )
 
@@ -606,7 +608,7 @@ func (db *DB) Put(ctx context.Context, s Sample) (int64, PutOutcome, error) {
 			return err
 		}
 		var lastVersion, lastRecord sql.NullString
-		if err := tx.QueryRowContext(ctx, db.q(`SELECT r.limits_version, r.record FROM samples s JOIN results r ON r.id = s.latest_result_id WHERE s.id = ?`), id).
+		if err := tx.QueryRowContext(ctx, db.q(`SELECT r.limits_version, r.record FROM samples s `+db.latestJoin()+` WHERE s.id = ?`), id).
 			Scan(&lastVersion, &lastRecord); err != nil && !errors.Is(err, sql.ErrNoRows) {
 			return err
 		}
@@ -652,6 +654,23 @@ func sameRecord(stored string, js []byte) bool {
 // rather than failing half-way) and commits it; any error rolls it all
 // back.
 func (db *DB) write(ctx context.Context, doing string, fn func(*sql.Tx) error) error {
+	for try := 1; ; try++ {
+		err := db.write1(ctx, doing, fn)
+		if try == 3 || !retryable(err) {
+			return err
+		}
+	}
+}
+
+// retryable reports whether a transaction failed only for meeting another
+// (PostgreSQL's deadlock and serialization failures), so that running it
+// again will do.
+func retryable(err error) bool {
+	var pe *pgconn.PgError
+	return errors.As(err, &pe) && (pe.Code == "40P01" || pe.Code == "40001")
+}
+
+func (db *DB) write1(ctx context.Context, doing string, fn func(*sql.Tx) error) error {
 	tx, err := db.sql.BeginTx(ctx, nil)
 	if err != nil {
 		return db.fail(doing, err)

@@ -431,7 +431,7 @@ func TestHistoryColumnsMatchRecord(t *testing.T) {
 		fast, _ := db.History(ctx, Filter{Oldest: true})
 		slow, _ := db.History(ctx, Filter{Oldest: true, Full: true})
 		// a row without a summary (as written before migration 0004) is read by a join
-		if _, err := owner.sql.Exec(owner.q("UPDATE samples SET summary = NULL WHERE id = ?"), fast[1].Sample.ID); err != nil {
+		if _, err := owner.sql.Exec(owner.q("UPDATE "+owner.historyTable()+" SET summary = NULL WHERE id = ?"), fast[1].Sample.ID); err != nil {
 			t.Fatal(err)
 		}
 		joined, _ := db.History(ctx, Filter{Oldest: true})

@@ -26,11 +26,7 @@ CREATE TABLE samples (
     curve_sha256       text        NOT NULL DEFAULT '',
     interrupted        boolean     NOT NULL DEFAULT false,
     simulated          boolean     NOT NULL DEFAULT false,
-    written_by         name        NOT NULL DEFAULT current_user,
-    latest_result_id   bigint,                          -- kept by the results_latest trigger
-    latest_analysed_at timestamptz,
-    latest_verdict     text        NOT NULL DEFAULT '',
-    summary            bytea                            -- the latest result's history row
+    written_by         name        NOT NULL DEFAULT current_user
 );
 
 CREATE TABLE results (
@@ -91,7 +87,25 @@ CREATE TABLE results (
     record               jsonb       NOT NULL, -- the whole result (the truth)
     written_by           name        NOT NULL DEFAULT current_user
 );
-ALTER TABLE samples ADD FOREIGN KEY (latest_result_id) REFERENCES results(id);
+
+-- Each sample's latest result (by analysis time, then arrival) with its
+-- history row and the columns history filters on: history reads this
+-- narrow table, one row per sample, and the samples rows are never
+-- updated. Kept by the results_latest trigger.
+CREATE TABLE latest (
+    id                 bigint      PRIMARY KEY REFERENCES samples(id), -- the sample's
+    latest_result_id   bigint      NOT NULL REFERENCES results(id),
+    latest_analysed_at timestamptz NOT NULL,
+    latest_verdict     text        NOT NULL,
+    recorded_at        timestamptz NOT NULL,
+    site               text        NOT NULL,
+    deck               text        NOT NULL,
+    alloy              text        NOT NULL,
+    ladle              text        NOT NULL,
+    furnace            text        NOT NULL,
+    written_by         name        NOT NULL, -- the sample's
+    summary            bytea
+);
 
 -- A result names its sample by uid (a deck may not see another deck's
 -- rows); its sample_id is looked up here, as the tables' owner.
@@ -105,21 +119,25 @@ BEGIN
 END $$;
 CREATE TRIGGER results_link BEFORE INSERT ON results FOR EACH ROW EXECUTE FUNCTION results_link();
 
--- The latest result of a sample (by analysis time, then arrival) is kept
--- on its row, with its history row, so that history reads one row per
--- sample; decks need no right to update.
+-- The latest result of a sample is kept in latest, as the tables' owner:
+-- decks need no right to update.
 CREATE FUNCTION results_latest() RETURNS trigger LANGUAGE plpgsql SECURITY DEFINER SET search_path FROM CURRENT AS $$
 BEGIN
-    UPDATE samples SET latest_result_id = NEW.id, latest_analysed_at = NEW.analysed_at,
-        latest_verdict = NEW.verdict, summary = NEW.summary
-     WHERE id = NEW.sample_id
-       AND (latest_result_id IS NULL OR (latest_analysed_at, latest_result_id) < (NEW.analysed_at, NEW.id));
+    INSERT INTO latest (id, latest_result_id, latest_analysed_at, latest_verdict, recorded_at, site, deck, alloy, ladle, furnace, written_by, summary)
+    SELECT s.id, NEW.id, NEW.analysed_at, NEW.verdict, s.recorded_at, s.site, s.deck, s.alloy, s.ladle, s.furnace, s.written_by, NEW.summary
+      FROM samples s WHERE s.id = NEW.sample_id
+    ON CONFLICT (id) DO UPDATE SET latest_result_id = EXCLUDED.latest_result_id, latest_analysed_at = EXCLUDED.latest_analysed_at,
+        latest_verdict = EXCLUDED.latest_verdict, summary = EXCLUDED.summary
+     WHERE (latest.latest_analysed_at, latest.latest_result_id) < (EXCLUDED.latest_analysed_at, EXCLUDED.latest_result_id);
     RETURN NULL;
 END $$;
 CREATE TRIGGER results_latest AFTER INSERT ON results FOR EACH ROW EXECUTE FUNCTION results_latest();
 
 ALTER TABLE samples ENABLE ROW LEVEL SECURITY;
 ALTER TABLE results ENABLE ROW LEVEL SECURITY;
+ALTER TABLE latest ENABLE ROW LEVEL SECURITY;
+CREATE POLICY deck_reads   ON latest FOR SELECT TO undercool_deck USING (written_by = current_user);
+CREATE POLICY office_reads ON latest FOR SELECT TO undercool_reader USING (true);
 CREATE POLICY deck_inserts ON samples FOR INSERT TO undercool_deck WITH CHECK (written_by = current_user);
 CREATE POLICY deck_reads   ON samples FOR SELECT TO undercool_deck USING (written_by = current_user);
 CREATE POLICY office_reads ON samples FOR SELECT TO undercool_reader USING (true);
@@ -127,7 +145,8 @@ CREATE POLICY deck_inserts ON results FOR INSERT TO undercool_deck WITH CHECK (w
 CREATE POLICY deck_reads   ON results FOR SELECT TO undercool_deck USING (written_by = current_user);
 CREATE POLICY office_reads ON results FOR SELECT TO undercool_reader USING (true);
 GRANT SELECT, INSERT ON samples, results TO undercool_deck;
-GRANT SELECT ON samples, results TO undercool_reader;
+GRANT SELECT ON latest TO undercool_deck;
+GRANT SELECT ON samples, results, latest TO undercool_reader;
 GRANT SELECT ON schema_version TO undercool_deck, undercool_reader;
 DO $$ BEGIN
     EXECUTE format('GRANT USAGE ON SCHEMA %I TO undercool_deck, undercool_reader', current_schema());
