@@ -113,6 +113,31 @@ func (s *Server) Exec(ctx context.Context, db string, stmts ...string) error {
 	return nil
 }
 
+// SQLAfter reads the first ```sql block after the line heading in a
+// Markdown file (a documented setup, run by tests as written) and splits
+// it into statements (each ends with ";" at a line's end).
+func SQLAfter(file, heading string) ([]string, error) {
+	b, err := os.ReadFile(file)
+	if err != nil {
+		return nil, fmt.Errorf("pgtest: %w", err)
+	}
+	doc := string(b)
+	i := strings.Index(doc, "\n"+heading+"\n")
+	if i < 0 {
+		return nil, fmt.Errorf("pgtest: %s has no heading %q", file, heading)
+	}
+	j := strings.Index(doc[i:], "```sql\n")
+	if j < 0 {
+		return nil, fmt.Errorf("pgtest: %s has no sql block after %q", file, heading)
+	}
+	block := doc[i+j+len("```sql\n"):]
+	k := strings.Index(block, "```")
+	if k < 0 {
+		return nil, fmt.Errorf("pgtest: %s: the sql block after %q does not end", file, heading)
+	}
+	return strings.Split(block[:k], ";\n"), nil
+}
+
 // URL is a connection string for role to database db over the Unix
 // socket, with extra key=value parameters; it holds no password (that
 // comes from the password file, see SetPassword).

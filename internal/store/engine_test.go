@@ -3,9 +3,7 @@ package store
 import (
 	"context"
 	"fmt"
-	"os"
 	"path/filepath"
-	"strings"
 	"sync"
 	"sync/atomic"
 	"testing"
@@ -29,20 +27,13 @@ var testRoles = map[string]string{
 }
 
 // pgSetup is the superuser's SQL for the shared server: the documented
-// roles and database, then the test's own roles.
+// roles and database (docs/plant-database.md, run as written), then the
+// test's own roles.
 func pgSetup() []string {
-	b, err := os.ReadFile(filepath.Join("..", "..", "docs", "plant-database.md"))
+	stmts, err := pgtest.SQLAfter(filepath.Join("..", "..", "docs", "plant-database.md"), "## The roles")
 	if err != nil {
-		return []string{"SELECT 'docs/plant-database.md is missing'::int"} // fails the setup, naming it
+		return []string{"SELECT 'docs/plant-database.md: no roles SQL'::int"} // fails the setup, naming it
 	}
-	doc := string(b)
-	i := strings.Index(doc, "## The roles")
-	j := strings.Index(doc[i:], "```sql\n")
-	k := strings.Index(doc[i+j+7:], "```")
-	if i < 0 || j < 0 || k < 0 {
-		return []string{"SELECT 'no roles SQL in docs/plant-database.md'::int"}
-	}
-	stmts := strings.Split(doc[i+j+7:i+j+7+k], ";\n")
 	return append(stmts,
 		"CREATE ROLE deck_a LOGIN IN ROLE undercool_deck",
 		"CREATE ROLE deck_b LOGIN IN ROLE undercool_deck",
