@@ -42,8 +42,8 @@ samples, or with --site and --deck one deck's.
 // recordsFlags are the options history and export share.
 type recordsFlags struct {
 	db, site, deck, alloy, furnace, ladle, since, until, verdict string
-	limit                                                         int
-	allResults, json, csv                                         bool
+	limit                                                        int
+	allResults, json, csv                                        bool
 }
 
 func (f *recordsFlags) register(fs *flag.FlagSet) {
