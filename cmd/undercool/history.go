@@ -180,7 +180,13 @@ func openRecords(ctx context.Context, env *environ, dbFlag string) (*store.DB, e
 	if err != nil {
 		return nil, err
 	}
-	o, err := deckOrigin(env, "", "")
+	return openAt(ctx, env, path, "", "")
+}
+
+// openAt opens the records database path, for writing, with the deck's
+// site and deck (deckOrigin of site and deck).
+func openAt(ctx context.Context, env *environ, path, site, deck string) (*store.DB, error) {
+	o, err := deckOrigin(env, site, deck)
 	if err != nil {
 		return nil, err
 	}

@@ -131,19 +131,7 @@ func openDeckFile(ctx context.Context, env *environ, dbFlag, site, deck string) 
 	if store.IsServer(path) {
 		return nil, errors.New("--db (or $UNDERCOOL_DB) names a PostgreSQL database; here it is this deck's own file, and the plant database is --plant (or $UNDERCOOL_PLANT)")
 	}
-	o, err := deckOrigin(env, site, deck)
-	if err != nil {
-		return nil, err
-	}
-	db, err := store.Open(ctx, path)
-	if err != nil {
-		return nil, err
-	}
-	if err := db.SetOrigin(o); err != nil {
-		db.Close()
-		return nil, err
-	}
-	return db, nil
+	return openAt(ctx, env, path, site, deck)
 }
 
 // startForwarding forwards a deck's queued samples to the plant database
