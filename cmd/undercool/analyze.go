@@ -61,7 +61,7 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 	alloy := fs.String("alloy", "", "alloy name for every file (overrides '# alloy:')")
 	limitsPath := fs.String("limits", "", "limits file (default: the shipped examples)")
 	storeIt := fs.Bool("store", false, "also store each analysis in the records database (earlier results are kept)")
-	dbPath := fs.String("db", "", "records database for --store (default $UNDERCOOL_DB or the user's data directory)")
+	dbPath := fs.String("db", "", "records database for --store: a file, or the plant database's postgres:// connection string (default $UNDERCOOL_DB or the user's data directory)")
 	files, err := parseLimitsArgs(fs, args)
 	if err != nil {
 		return errUsage

@@ -24,7 +24,7 @@ func init() {
 	})
 }
 
-const reportUsage = `usage: undercool report SAMPLE --out FILE.png|FILE.svg [--db PATH] [--alloy A] [--limits FILE]
+const reportUsage = `usage: undercool report SAMPLE --out FILE.png|FILE.svg [--db PATH|postgres://…] [--alloy A] [--limits FILE]
 
 Draws the page for a ladle's quality record: the cooling curve with its
 characteristic points, its derivative dT/dt, the results, the verdict with
@@ -43,7 +43,7 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 	fs.SetOutput(env.stderr)
 	fs.Usage = func() { fmt.Fprint(env.stderr, reportUsage); fs.PrintDefaults() }
 	out := fs.String("out", "", "the page to write, `FILE`.png or FILE.svg")
-	dbPath := fs.String("db", "", "records database `PATH` (default $UNDERCOOL_DB or the user's data directory)")
+	dbPath := fs.String("db", "", dbFlagHelp)
 	alloy := fs.String("alloy", "", "alloy of a curve file (overrides its '# alloy:')")
 	limitsPath := fs.String("limits", "", "limits `FILE` for a curve file (default: the shipped examples)")
 	pos, err := parseLimitsArgs(fs, args) // flags before or after SAMPLE
