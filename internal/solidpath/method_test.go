@@ -162,7 +162,7 @@ func TestErrors(t *testing.T) {
 		{"lengths", tt, temp[:100], ev, ok, ErrCurve, "100 temperatures"},
 		{"time backwards", backwards, temp, ev, ok, ErrCurve, "reading 100"},
 		{"NaN reading", tt, nan, ev, ok, ErrCurve, "temperature 50"},
-		{"no specific heat", tt, temp, ev, Options{}, ErrOptions, "specific heat"},
+		{"negative specific heat", tt, temp, ev, Options{SpecificHeat: -1}, ErrOptions, "specific heat -1"},
 		{"no end of freezing", tt, temp, Events{PourS: math.NaN(), ArrestS: 50, EndS: math.NaN()}, ok, ErrEvents, "end of freezing"},
 		{"events out of order", tt, temp, Events{PourS: math.NaN(), ArrestS: 300, EndS: 100}, ok, ErrEvents, "not in order"},
 		{"end beyond the curve", tt[:cut], temp[:cut], ev, ok, ErrEvents, "not in order"},
@@ -201,6 +201,11 @@ func TestErrors(t *testing.T) {
 				t.Errorf("error %v, want %v saying %q", err, tc.is, tc.words)
 			}
 		})
+	}
+	// Without a specific heat fs is still there, the latent heat is not.
+	tn, xn, _ := c.sample(10, 0, 0, 0, 1)
+	if p, err := Newtonian(tn, xn, c.events(), Options{}); err != nil || !math.IsNaN(p.LatentJPerKg) || p.At(c.t2) == 0 {
+		t.Errorf("c = 0: L %g, fs(t2) %g, %v", p.LatentJPerKg, p.At(c.t2), err)
 	}
 	s := Analyze(Cup{Time: tt, Centre: centre, Events: f.events(), Options: Options{SpecificHeat: f.c}, Coherency: true})
 	if !errors.Is(s.FourierErr, ErrOneThermocouple) || !errors.Is(s.CoherencyErr, ErrOneThermocouple) || s.Best() != s.Newtonian {

@@ -75,8 +75,8 @@ func prepare(t []float64, ev Events, opt Options, series ...[]float64) (Options,
 	}
 	o := opt.withDefaults()
 	switch {
-	case !(o.SpecificHeat > 0) || math.IsInf(o.SpecificHeat, 0):
-		return Options{}, fmt.Errorf("%w: specific heat %g J/(kg K) (set one for the alloy)", ErrOptions, o.SpecificHeat)
+	case !(o.SpecificHeat >= 0) || math.IsInf(o.SpecificHeat, 0):
+		return Options{}, fmt.Errorf("%w: specific heat %g J/(kg K)", ErrOptions, o.SpecificHeat)
 	case !(o.SlopeS > 0) || !(o.SettleS >= 0):
 		return Options{}, fmt.Errorf("%w: slope window %g s, settling time %g s", ErrOptions, o.SlopeS, o.SettleS)
 	case math.IsNaN(ev.ArrestS) || math.IsNaN(ev.EndS):
@@ -202,7 +202,11 @@ func buildPath(t, sm, zeros []float64, is, ie int, ev Events, o Options) (Path, 
 	if err != nil {
 		return Path{}, err
 	}
-	p := Path{StartS: t[is], EndS: t[ie], SpecificHeat: o.SpecificHeat, LatentJPerKg: o.SpecificHeat * total,
+	latent := o.SpecificHeat * total
+	if o.SpecificHeat == 0 {
+		latent = math.NaN()
+	}
+	p := Path{StartS: t[is], EndS: t[ie], SpecificHeat: o.SpecificHeat, LatentJPerKg: latent,
 		Time: slices.Clone(t[is : ie+1]), TempC: slices.Clone(sm[is : ie+1]), FS: fs}
 	for _, m := range ev.Marks {
 		if math.IsNaN(m.TimeS) {

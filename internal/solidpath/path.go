@@ -45,7 +45,8 @@ type Events struct {
 // Options are the physical constants and windows of the analysis.
 type Options struct {
 	// SpecificHeat is c in L = c·∫(T' − Z)dt, J/(kg K), one value for the
-	// liquid and the solid (required; see SpecificHeat for the defaults).
+	// liquid and the solid (see SpecificHeat for the defaults). 0: not
+	// known; fs needs no c, the latent heat is then NaN.
 	SpecificHeat float64
 	// AmbientC is the room temperature T∞ of a one-sided Newtonian zero
 	// curve, °C (0: 25 °C).
@@ -131,7 +132,7 @@ type Path struct {
 	// LatentJPerKg is the latent heat the method finds, J/kg:
 	// c·∫(T' − Z)dt from StartS to EndS. For the Newtonian method it is an
 	// apparent figure (see the package documentation for each method's
-	// bias).
+	// bias). NaN when Options.SpecificHeat is 0.
 	LatentJPerKg float64
 	SpecificHeat float64 // the c used, J/(kg K)
 
