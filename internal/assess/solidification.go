@@ -2,6 +2,7 @@ package assess
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"strings"
 
@@ -46,16 +47,8 @@ func (m *metallurgy) solidification() {
 		missingAll("the cup has not finished freezing")
 		return
 	}
-	wall := m.in.Wall
+	s := solidpath.Analyze(solidCup(m.in, *r, c))
 	pure := m.in.Family == arrest.FamilyPure
-	if pure {
-		wall = nil // a pure metal freezes from the wall inward: no parabolic field for the Fourier method
-	}
-	s := solidpath.Analyze(solidpath.Cup{
-		Time: m.in.Time, Centre: m.in.Temp, Wall: wall, Geometry: m.in.Radii,
-		Events: solidpath.EventsOf(m.res), Options: solidpath.Options{SpecificHeat: c},
-		Coherency: m.in.Family == arrest.FamilyAluminum,
-	})
 	latent := func(p *solidpath.Path, err error, metric string, dst **float64) {
 		switch {
 		case p == nil:
@@ -108,6 +101,58 @@ func (m *metallurgy) solidification() {
 		m.missing("coherency_c", label("coherency_c")+" not computed: "+reason(s.CoherencyErr))
 		m.missing("fs_at_coherency", label("fs_at_coherency")+" not computed: "+reason(s.CoherencyErr))
 	}
+}
+
+// solidCup is the sample as the solidification path takes it: its curves,
+// the events and marks of the record's points and the specific heat c. A
+// pure metal's wall thermocouple is left out: it freezes from the wall
+// inward, with no parabolic field for the Fourier method.
+func solidCup(in Input, r Record, c float64) solidpath.Cup {
+	wall := in.Wall
+	if in.Family == arrest.FamilyPure {
+		wall = nil
+	}
+	return solidpath.Cup{
+		Time: in.Time, Centre: in.Temp, Wall: wall, Geometry: in.Radii,
+		Events: solidpath.EventsOf(pointsOf(r)), Options: solidpath.Options{SpecificHeat: c},
+		Coherency: in.Family == arrest.FamilyAluminum,
+	}
+}
+
+// pointsOf gives back the characteristic points of a record as arrest
+// points (null: not found).
+func pointsOf(r Record) arrest.Result {
+	p := func(c, s *float64) arrest.Point {
+		if c == nil || s == nil {
+			return arrest.Point{}
+		}
+		return arrest.Point{TempC: *c, TimeS: *s, OK: true}
+	}
+	return arrest.Result{
+		PourPeak: p(r.PourPeakC, r.PourPeakS), LiquidusMin: p(r.LiquidusMinC, r.LiquidusMinS), Liquidus: p(r.LiquidusC, r.LiquidusS),
+		EutecticMin: p(r.EutecticMinC, r.EutecticMinS), EutecticMax: p(r.EutecticMaxC, r.EutecticMaxS), Solidus: p(r.SolidusC, r.SolidusS),
+	}
+}
+
+// SolidPath works out again the solidification path that a record's fs
+// figures come from (its fs_method), from the sample's curves: in.Time and
+// in.Temp, with in.Wall and in.Radii for a two-thermocouple cup. The
+// record gives the points and the specific heat, in.Family or else the
+// record's family the rules. For fs(t) on the dashboard and fs(T) on the
+// report page.
+func SolidPath(in Input, rec Record) (*solidpath.Path, error) {
+	if in.Family == "" {
+		in.Family = arrest.Family(rec.Family)
+	}
+	var c float64
+	if rec.SpecificHeatJPerKgK != nil {
+		c = *rec.SpecificHeatJPerKgK
+	}
+	s := solidpath.Analyze(solidCup(in, rec, c))
+	if p := s.Best(); p != nil {
+		return p, nil
+	}
+	return nil, fmt.Errorf("assess: solidification path of %s: %w", in.File, s.NewtonianErr)
 }
 
 // specificHeat is the c of the alloy's limits entry, else the family's

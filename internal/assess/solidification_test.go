@@ -44,6 +44,15 @@ func TestSolidificationOneThermocouple(t *testing.T) {
 	if rec.LatentHeatFourierJPerKg != nil || rec.CoherencyC != nil || rec.FSAtCoherency != nil || rec.FSAtEutecticStart != nil {
 		t.Errorf("two-thermocouple figures from one thermocouple: %v %v %v; eutectic start %v", rec.LatentHeatFourierJPerKg, rec.CoherencyC, rec.FSAtCoherency, rec.FSAtEutecticStart)
 	}
+	// The path behind the figures, worked out again from the curve and the
+	// record, gives the same fs.
+	path, err := SolidPath(Input{File: in.File, Time: in.Time, Temp: in.Temp}, rec)
+	if err != nil || rec.EutecticMinS == nil {
+		t.Fatalf("SolidPath: %v", err)
+	}
+	if got := path.At(*rec.EutecticMinS); got != *rec.FSAtEutecticMin || path.Method != rec.FSMethod {
+		t.Errorf("SolidPath: %s fs %g at the eutectic minimum, the record %s %g", path.Method, got, rec.FSMethod, *rec.FSAtEutecticMin)
+	}
 	b, err := json.Marshal(rec)
 	if err != nil {
 		t.Fatal(err)

@@ -119,6 +119,7 @@ func TestWriteSVG(t *testing.T) {
 		"Thermal analysis record — sample L-2417 cup 1", "ladle L-2417", "furnace IF-2", "operator Pell Brasswick",
 		"2026-12-01 06:15 UTC", "Cooling curve", "dT/dt", "eutectic min", "end of freezing",
 		"Verdict: " + strings.ToUpper(rec.Verdict), Caution, "simulated cup for the report test", "record #42",
+		"Fraction solid fs(T) — newtonian", "Solidification path", "fs at the eutectic minimum", "latent heat, Newtonian (apparent)",
 	} {
 		if !strings.Contains(all, want) {
 			t.Errorf("SVG text lacks %q", want)
