@@ -7,6 +7,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sim"
+	"github.com/undercool-foundry/undercool/internal/solidpath"
 )
 
 // simulatedInput is a SIMULATED cup of the alloy (internal/sim preset).
@@ -123,5 +124,46 @@ func TestSolidificationSpecificHeat(t *testing.T) {
 	book.Alloys[sim.PureAl].Reference.SpecificHeatJPerKgK = &bad
 	if err := book.Validate(); err == nil || !strings.Contains(err.Error(), "specific_heat_j_per_kg_k") {
 		t.Errorf("a negative specific heat validates: %v", err)
+	}
+}
+
+// A two-thermocouple cup (a SIMULATED radial Al-Si cup with its wall
+// thermocouple): fs from the Fourier path, its latent heat within the
+// method's ±12 % (internal/solidpath, TestOnRadialCups), the coherency
+// point and its fs; SolidPath gives the same Fourier path.
+func TestSolidificationTwoThermocouples(t *testing.T) {
+	p, err := sim.Preset(sim.AlSi7Mg, 0.6, 5)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.Cup = sim.CupRadial
+	out := sim.Simulate(p)
+	in := Input{File: "radial.csv", Alloy: sim.AlSi7Mg, Time: out.Time, Temp: out.Temp, Meta: out.Meta,
+		Wall: out.Wall, Radii: solidpath.Geometry{WallMm: out.Truth.WallTCRadiusMm}}
+	rec := Assess(in)
+	if rec.FSMethod != solidpath.MethodFourier {
+		t.Fatalf("fs_method %q with two thermocouples", rec.FSMethod)
+	}
+	l := out.Truth.LatentJPerKg
+	near(t, "Fourier latent heat", rec.LatentHeatFourierJPerKg, l, 0.12*l)
+	near(t, "Newtonian latent heat", rec.LatentHeatNewtonianJPerKg, l, 0.06*l)
+	if rec.CoherencyC == nil || rec.CoherencyS == nil || rec.FSAtCoherency == nil || rec.LiquidusS == nil || rec.EutecticMinS == nil {
+		t.Fatalf("coherency %v at %v s, fs %v", rec.CoherencyC, rec.CoherencyS, rec.FSAtCoherency)
+	}
+	if *rec.CoherencyS <= *rec.LiquidusS-10 || *rec.CoherencyS >= *rec.EutecticMinS || *rec.FSAtCoherency >= *rec.FSAtEutecticMin {
+		t.Errorf("coherency at %.1f s (fs %.3f) is not in the primary freezing (liquidus %.1f s, eutectic %.1f s at fs %.3f)",
+			*rec.CoherencyS, *rec.FSAtCoherency, *rec.LiquidusS, *rec.EutecticMinS, *rec.FSAtEutecticMin)
+	}
+	path, err := SolidPath(in, rec)
+	if err != nil || path.Method != solidpath.MethodFourier || path.At(*rec.EutecticMinS) != *rec.FSAtEutecticMin {
+		t.Errorf("SolidPath: %v, %v", path, err)
+	}
+	// A pure metal with a wall thermocouple: no Fourier figure, and why.
+	p, _ = sim.Preset(sim.PureAl, 0.5, 5)
+	p.Cup = sim.CupRadial
+	out = sim.Simulate(p)
+	rec = Assess(Input{Alloy: sim.PureAl, Time: out.Time, Temp: out.Temp, Wall: out.Wall, Radii: solidpath.Geometry{WallMm: out.Truth.WallTCRadiusMm}})
+	if rec.FSMethod != solidpath.MethodNewtonian || rec.LatentHeatFourierJPerKg != nil {
+		t.Errorf("pure metal: fs_method %q, Fourier L %v", rec.FSMethod, rec.LatentHeatFourierJPerKg)
 	}
 }

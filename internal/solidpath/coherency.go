@@ -1,6 +1,7 @@
 package solidpath
 
 import (
+	"errors"
 	"fmt"
 	"math"
 )
@@ -18,7 +19,7 @@ type Coherency struct {
 }
 
 // ErrNoCoherency says the temperature difference shows no coherency point.
-var ErrNoCoherency = fmt.Errorf("solidpath: no dendrite coherency point")
+var ErrNoCoherency = errors.New("solidpath: no dendrite coherency point")
 
 // CoherencyPoint finds the dendrite coherency point by the two-thermocouple
 // criterion: ΔT = T_w − T_c, the wall thermocouple's reading less the

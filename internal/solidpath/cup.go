@@ -1,6 +1,7 @@
 package solidpath
 
 import (
+	"errors"
 	"fmt"
 	"math"
 
@@ -106,7 +107,7 @@ type Solidification struct {
 
 // ErrOneThermocouple says a two-thermocouple figure was not computed
 // because the cup has one thermocouple.
-var ErrOneThermocouple = fmt.Errorf("solidpath: the cup has one thermocouple (the Fourier method and the coherency point need a second one near the wall)")
+var ErrOneThermocouple = errors.New("solidpath: the cup has one thermocouple (the Fourier method and the coherency point need a second one near the wall)")
 
 // Analyze works out the solidification path of the cup by every method its
 // thermocouples allow.

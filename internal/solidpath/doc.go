@@ -16,16 +16,18 @@
 //     (Upadhya, Stefanescu, Lieu and Yeager, AFS Trans. 97 (1989) 61;
 //     memory). It assumes the cup has one temperature. Known bias: in sand
 //     cups it reads L low (the gradient, and the cold wall's extra uptake
-//     early in freezing, are not in its zero curve), so its L is reported
-//     as an apparent latent heat.
+//     early in freezing, are not in its zero curve; 1–5 % on simulated sand
+//     cups, up to 15 % with a chill shell or a short plateau), so its L is
+//     reported as an apparent latent heat.
 //   - Fourier (two thermocouples, centre and near the wall): Z = a·∇²T with
 //     the Laplacian from the two readings for a parabolic radial field and
 //     the thermal diffusivity a measured on the single-phase stretches
 //     (Fraś, Kapturkiewicz, Burbielko and López, AFS Trans. 101 (1993) 505;
-//     memory). Its fs is the centre's. Known bias: the parabola; where the
-//     cup freezes from the wall inward with a liquid pool at the centre (a
-//     pure metal) the field is far from parabolic and the method does not
-//     apply.
+//     memory). Its fs is the centre's. Known bias: the parabola and the
+//     radial-only heat flow; L within about ±10 % on simulated sand cups,
+//     high where a chill shell holds the wall thermocouple; where the cup
+//     freezes from the wall inward with a liquid pool at the centre (a pure
+//     metal) the method does not apply.
 //   - Dendrite coherency (aluminium, two thermocouples): the minimum of
 //     T_w − T_c during the primary freezing (Bäckerud, Chai and Tamminen,
 //     Solidification Characteristics of Aluminum Alloys, 1990; memory).

@@ -48,11 +48,16 @@ const fourierRounds = 5
 // 505 (memory for the equations above, docs/sources.md §5). Assumptions: a
 // radial temperature field of parabolic shape between the thermocouples
 // (valid once the pour's stirring has died away and while the field is
-// quasi-steady), one specific heat c for liquid and solid, and a
-// diffusivity that changes linearly with fs. Its bias is the parabola's:
-// where the field steepens near the wall faster than r² allows, ∇²T is
-// under-read and L comes out a little low; the error distributions on
-// simulated cups are in docs/solidification.md.
+// quasi-steady), radial heat flow only (a long cylinder, or insulated
+// ends), one specific heat c for liquid and solid, and a diffusivity that
+// changes linearly with the centre's fs. Its biases, measured on simulated
+// cups (docs/solidification.md): the metal between the thermocouples
+// freezes before the centre, so a(fs) at the centre's fs misses its
+// conductivity, and heat leaves through the cup's bottom and open top as
+// well, so L is off by up to ±10 % (it is within 2 % where liquid and solid
+// conduct alike); a chill shell at the wall breaks the parabola (L up to
+// 30 % high); a pure metal, freezing from the wall inward around an
+// isothermal liquid pool, is outside the method (L about 28 % low).
 func Fourier(t, centre, wall []float64, g Geometry, ev Events, opt Options) (Path, error) {
 	o, err := prepare(t, ev, opt, centre, wall)
 	if err != nil {
