@@ -36,9 +36,9 @@ func TestSolidificationOneThermocouple(t *testing.T) {
 	near(t, "apparent latent heat", rec.LatentHeatNewtonianJPerKg, out.Truth.LatentJPerKg, 0.08*out.Truth.LatentJPerKg)
 	near(t, "fs at the end of freezing", rec.FSAtEndOfFreezing, 1, 0.02)
 	// Al-Si7 freezes about half its mass as primary α-Al before the eutectic
-	// (lever rule 0.52 for 7 % Si, k 0.13, 12.6 % at the eutectic,
-	// docs/sources.md §3; computed): a wide band, the point is the wiring.
-	near(t, "fs at the eutectic minimum", rec.FSAtEutecticMin, 0.52, 0.15)
+	// (lever rule 0.51, Scheil 0.49 for 7 % Si: docs/sources.md §5,
+	// computed): a wide band, the point is the wiring.
+	near(t, "fs at the eutectic minimum", rec.FSAtEutecticMin, 0.5, 0.15)
 	if rec.FSAtEutecticMin != nil && rec.FSAtEutecticMax != nil && *rec.FSAtEutecticMax < *rec.FSAtEutecticMin {
 		t.Errorf("fs falls from %g at the eutectic minimum to %g at its maximum", *rec.FSAtEutecticMin, *rec.FSAtEutecticMax)
 	}
