@@ -10,10 +10,11 @@ import (
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 )
 
-// Outside check on MEASURED curves: four hypoeutectic Al-Si cups from a
-// public repository (kept outside this repository, in
-// ../shared/realdata/joebee-alsi-before-after; its SOURCES.md gives the
-// provenance; the alloy is not named there). The fraction solid the
+// Outside check on MEASURED curves: four hypoeutectic Al-Si cups logged
+// before and after a melt treatment, from the public repository
+// joebeeonekenobi/coolingcurveanalysis (2016; no licence stated, so they are
+// read from beside this repository where present and never copied into it;
+// the alloy is not named there). The fraction solid the
 // Newtonian method finds at the start of the eutectic must lie within 0.15
 // of both the lever rule and the Scheil equation for the silicon content
 // the curve's own liquidus implies.
@@ -36,7 +37,7 @@ import (
 func TestRealAlSiFractionAtEutecticStart(t *testing.T) {
 	dir := filepath.Join("..", "..", "..", "shared", "realdata", "joebee-alsi-before-after")
 	if _, err := os.Stat(dir); err != nil {
-		t.Skipf("the measured Al-Si curves are not here (%v): this check runs where ../shared/realdata is present", err)
+		t.Skipf("the measured Al-Si curves are not beside the repository (%v): this check runs where they are", err)
 	}
 	const (
 		alMelt, eutC, eutSi = 660.45, 577.0, 12.6
