@@ -1,7 +1,6 @@
 package assess
 
 import (
-	"encoding/json"
 	"strings"
 	"testing"
 
@@ -54,14 +53,7 @@ func TestSolidificationOneThermocouple(t *testing.T) {
 	if got := path.At(*rec.EutecticMinS); got != *rec.FSAtEutecticMin || path.Method != rec.FSMethod {
 		t.Errorf("SolidPath: %s fs %g at the eutectic minimum, the record %s %g", path.Method, got, rec.FSMethod, *rec.FSAtEutecticMin)
 	}
-	b, err := json.Marshal(rec)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var m map[string]any
-	if err := json.Unmarshal(b, &m); err != nil {
-		t.Fatal(err)
-	}
+	m := jsonFields(t, rec)
 	for _, k := range []string{"fs_method", "fs_at_liquidus", "fs_at_eutectic_start", "fs_at_eutectic_min", "fs_at_eutectic_max",
 		"fs_at_end_of_freezing", "latent_heat_newtonian_j_per_kg", "latent_heat_fourier_j_per_kg", "specific_heat_j_per_kg_k",
 		"coherency_c", "coherency_s", "fs_at_coherency"} {

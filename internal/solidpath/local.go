@@ -49,55 +49,53 @@ func smoothOf(t, x []float64, half float64) smoothed {
 func fitLocal(t, x []float64, half float64) local {
 	n := len(t)
 	out := local{value: make([]float64, n), slope: make([]float64, n)}
-	var s0, s1, s2, sy, sty float64
+	var w window
 	lo, hi := 0, 0 // the window is t[lo:hi]
 	t0 := t[0]
 	for i := range n {
 		if i%1024 == 1023 {
 			// Start the sums afresh now and then, so that rounding does
 			// not accumulate over a long recording.
-			s0, s1, s2, sy, sty = 0, 0, 0, 0, 0
+			w = window{}
 			for j := lo; j < hi; j++ {
-				u := t[j] - t0
-				s0++
-				s1 += u
-				s2 += u * u
-				sy += x[j]
-				sty += u * x[j]
+				w.add(t[j]-t0, x[j], 1)
 			}
 		}
 		for hi < n && (t[hi]-t[i] <= half || hi < i+3) {
-			u := t[hi] - t0
-			s0++
-			s1 += u
-			s2 += u * u
-			sy += x[hi]
-			sty += u * x[hi]
+			w.add(t[hi]-t0, x[hi], 1)
 			hi++
 		}
 		for lo < i-2 && t[i]-t[lo] > half {
-			u := t[lo] - t0
-			s0--
-			s1 -= u
-			s2 -= u * u
-			sy -= x[lo]
-			sty -= u * x[lo]
+			w.add(t[lo]-t0, x[lo], -1)
 			lo++
 		}
 		// Least squares with one division: D = s0·s2 − s1² (s0 times the
 		// window's Σ(u − ū)²), slope (s0·sty − s1·sy)/D, value at u_i
 		// (sy + slope·(s0·u_i − s1))/s0.
-		d := s0*s2 - s1*s1
+		d := w.s0*w.s2 - w.s1*w.s1
 		if d > 0 {
-			r := 1 / (s0 * d)
-			b := (s0*sty - s1*sy) * s0 * r
+			r := 1 / (w.s0 * d)
+			b := (w.s0*w.sty - w.s1*w.sy) * w.s0 * r
 			out.slope[i] = b
-			out.value[i] = (sy + b*(s0*(t[i]-t0)-s1)) * d * r
+			out.value[i] = (w.sy + b*(w.s0*(t[i]-t0)-w.s1)) * d * r
 		} else {
-			out.value[i] = sy / s0
+			out.value[i] = w.sy / w.s0
 		}
 	}
 	return out
+}
+
+// window holds the sums of a least-squares line over the readings in it:
+// their count, Σu, Σu², Σx and Σu·x, u the time from the curve's start.
+type window struct{ s0, s1, s2, sy, sty float64 }
+
+// add takes a reading (u, x) into the sums (sign 1) or out of them (−1).
+func (w *window) add(u, x, sign float64) {
+	w.s0 += sign
+	w.s1 += sign * u
+	w.s2 += sign * u * u
+	w.sy += sign * x
+	w.sty += sign * u * x
 }
 
 // index returns the first reading at or after time s (len(t) if none).
