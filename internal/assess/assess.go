@@ -8,6 +8,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/solidpath"
 )
 
 // Verdict values (stable, documented in README.md).
@@ -82,6 +83,24 @@ type Record struct {
 	FixedPointC      *float64 `json:"fixed_point_c"`       // its ITS-90 value
 	FixedPointErrorC *float64 `json:"fixed_point_error_c"` // plateau − fixed point
 
+	// The solidification path (docs/solidification.md): fs at the points by
+	// FSMethod ("fourier" with two thermocouples, else "newtonian"; "" when
+	// neither could be worked out), the latent heat by each method with
+	// the specific heat used, and for aluminium with two thermocouples the
+	// dendrite coherency point.
+	FSMethod                  string   `json:"fs_method"`
+	FSAtLiquidus              *float64 `json:"fs_at_liquidus"`
+	FSAtEutecticStart         *float64 `json:"fs_at_eutectic_start"`
+	FSAtEutecticMin           *float64 `json:"fs_at_eutectic_min"`
+	FSAtEutecticMax           *float64 `json:"fs_at_eutectic_max"`
+	FSAtEndOfFreezing         *float64 `json:"fs_at_end_of_freezing"`
+	LatentHeatNewtonianJPerKg *float64 `json:"latent_heat_newtonian_j_per_kg"` // apparent: low in sand cups
+	LatentHeatFourierJPerKg   *float64 `json:"latent_heat_fourier_j_per_kg"`
+	SpecificHeatJPerKgK       *float64 `json:"specific_heat_j_per_kg_k"` // the c both latent heats use
+	CoherencyC                *float64 `json:"coherency_c"`
+	CoherencyS                *float64 `json:"coherency_s"`
+	FSAtCoherency             *float64 `json:"fs_at_coherency"`
+
 	// Chemistry is the analysis used (wt %), ChemistrySource where each
 	// element came from: "curve" (# si_pct: ...), "nominal" (the alloy's
 	// spec) or "tellurium cup" (estimated from the arrests).
@@ -130,6 +149,12 @@ type Input struct {
 	// Meta is the curve file's metadata; chemistry keys "c_pct", "si_pct",
 	// "p_pct", ... (wt %) override the alloy's nominal analysis.
 	Meta []curvefile.Meta
+
+	// Wall is the second thermocouple of a two-thermocouple cup, near its
+	// wall, at Time's readings (nil: one thermocouple; solidpath.OnTimes
+	// puts a channel logged on its own clock there); Radii place the two.
+	Wall  []float64
+	Radii solidpath.Geometry
 }
 
 // Assess analyses one sample and fills its record.

@@ -293,8 +293,9 @@ func TestPureCheckCup(t *testing.T) {
 	}
 }
 
-func TestJSONKeys(t *testing.T) {
-	rec := FromResult(Input{File: "x.csv", Alloy: "grey-iron"}, greyResult())
+// jsonFields is the record as scripts see it: its JSON object.
+func jsonFields(t *testing.T, rec Record) map[string]any {
+	t.Helper()
 	b, err := json.Marshal(rec)
 	if err != nil {
 		t.Fatal(err)
@@ -303,6 +304,12 @@ func TestJSONKeys(t *testing.T) {
 	if err := json.Unmarshal(b, &m); err != nil {
 		t.Fatal(err)
 	}
+	return m
+}
+
+func TestJSONKeys(t *testing.T) {
+	rec := FromResult(Input{File: "x.csv", Alloy: "grey-iron"}, greyResult())
+	m := jsonFields(t, rec)
 	for _, k := range []string{
 		// keys of the design (design.md, "JSON result") keep their names
 		"file", "alloy", "samples", "rate_hz", "pour_peak_c", "liquidus_min_c", "liquidus_c", "eutectic_min_c",

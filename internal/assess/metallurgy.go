@@ -51,6 +51,7 @@ func (m *metallurgy) run() {
 		m.pure()
 	}
 	m.potency()
+	m.solidification()
 }
 
 // set stores a computed figure in the record field and the metric values.

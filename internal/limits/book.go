@@ -84,6 +84,11 @@ type Reference struct {
 
 	// Pure-metal check cup.
 	FixedPointC *float64 `toml:"fixed_point_c"` // ITS-90 freezing point, °C
+
+	// SpecificHeatJPerKgK is the c the latent heat of the solidification
+	// path is worked out with, J/(kg K) (absent: the family's default,
+	// solidpath.SpecificHeat; a pure metal has none and needs its own).
+	SpecificHeatJPerKgK *float64 `toml:"specific_heat_j_per_kg_k"`
 }
 
 // PotencySpec chooses the constants of the nucleation-potency figure.

@@ -34,6 +34,16 @@ var metricList = []MetricInfo{
 	{"cooling_rate_c_per_s", "cooling rate", "°C/s", 2},
 	{"f_theta", "nucleation potency factor f(θ)", "", 5},
 	{"theta_deg", "effective contact angle", "°", 1},
+	// The solidification path (docs/solidification.md).
+	{"fs_at_liquidus", "fraction solid at the liquidus arrest", "", 2},
+	{"fs_at_eutectic_start", "fraction solid at the eutectic start", "", 2},
+	{"fs_at_eutectic_min", "fraction solid at the eutectic minimum", "", 2},
+	{"fs_at_eutectic_max", "fraction solid at the eutectic maximum", "", 2},
+	{"fs_at_end_of_freezing", "fraction solid at the end of freezing", "", 2},
+	{"latent_heat_newtonian_j_per_kg", "apparent latent heat (Newtonian)", "J/kg", 0},
+	{"latent_heat_fourier_j_per_kg", "latent heat (Fourier)", "J/kg", 0},
+	{"coherency_c", "dendrite coherency temperature", "°C", 1},
+	{"fs_at_coherency", "fraction solid at dendrite coherency", "", 2},
 }
 
 var metricIndex = func() map[string]MetricInfo {

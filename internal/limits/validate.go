@@ -135,6 +135,9 @@ func (b *Book) validateReference(a *Alloy, base string, add func(key, format str
 	default:
 		add(base+".reference.white_cup", "unknown method %q (want %q or %q)", r.WhiteCup, WhiteFormula, WhiteShop)
 	}
+	if c := r.SpecificHeatJPerKgK; c != nil && !(*c >= 100 && *c <= 5000) {
+		add(base+".reference.specific_heat_j_per_kg_k", "%g J/(kg K) is not a metal's specific heat (100–5000)", *c)
+	}
 	if r.MetastableSi != nil && *r.MetastableSi == 0 {
 		add(base+".reference.metastable_si", "must not be 0 (silicon is found by dividing by it)")
 	}
