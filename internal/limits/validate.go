@@ -53,6 +53,7 @@ func (b *Book) validate(data []byte, name string) error {
 	if b.Version == "" {
 		add("version", "is required (a label such as \"2026-12-01.1\" that verdicts record)")
 	}
+	b.validateText(add)
 	if len(b.Alloys) == 0 {
 		add("alloy", "the file defines no [alloy.NAME] table")
 	}
