@@ -213,9 +213,8 @@ func TestSaveRoundTripBackupAndLog(t *testing.T) {
 	defer func() { now = time.Now }()
 	v := 1143.0
 	b.Alloys["grey-iron"].Metrics["eutectic_min_c"].PassMin = &v
-	b.EditedBy = "Pell Brasswick"
 	b.Version = "cindermoth-2"
-	if err := Save(path, b); err != nil {
+	if err := SaveBy(path, b, "Pell Brasswick"); err != nil {
 		t.Fatal(err)
 	}
 	back, err := Load(path)
