@@ -126,7 +126,7 @@ func TestSaveOneLimitKeepsTheRest(t *testing.T) {
 		wantLine := l
 		switch {
 		case strings.HasPrefix(l, "version = "):
-			wantLine = `version = "example-1.1"`
+			wantLine = `version = "example-2.1"`
 		case strings.HasPrefix(l, "edited = "):
 			wantLine = `edited = "2026-12-02T06:40:00Z"`
 		case strings.HasPrefix(l, "edited_by = "):
@@ -138,12 +138,12 @@ func TestSaveOneLimitKeepsTheRest(t *testing.T) {
 			t.Errorf("line %d: %q, want %q", i+1, now2[i], wantLine)
 		}
 	}
-	if saved.Version != "example-1.1" || saved.EditedBy != "Odile Flintcaster" || *saved.Alloys["grey-iron"].Metrics["undercooling_c"].PassMax != 5.5 {
+	if saved.Version != "example-2.1" || saved.EditedBy != "Odile Flintcaster" || *saved.Alloys["grey-iron"].Metrics["undercooling_c"].PassMax != 5.5 {
 		t.Errorf("saved book: version %q by %q", saved.Version, saved.EditedBy)
 	}
 	log, _ := os.ReadFile(path + ".log")
 	old := *Builtin().Alloys["grey-iron"].Metrics["undercooling_c"].PassMax
-	if want := "2026-12-02T06:40:00Z\tOdile Flintcaster\tversion example-1 → example-1.1\talloy.grey-iron.metric.undercooling_c.pass_max " +
+	if want := "2026-12-02T06:40:00Z\tOdile Flintcaster\tversion example-2 → example-2.1\talloy.grey-iron.metric.undercooling_c.pass_max " +
 		strconv.FormatFloat(old, 'g', -1, 64) + " → 5.5\n"; string(log) != want {
 		t.Errorf("log %q\nwant %q", log, want)
 	}
@@ -168,12 +168,12 @@ func TestSaveOneLimitKeepsTheRest(t *testing.T) {
 	}
 	after, _ := os.ReadFile(path)
 	want := strings.Replace(string(before), "pass_max = 5.5", "pass_max = 7.0", 1)
-	want = strings.Replace(want, `version = "example-1.1"`, `version = "example-1.2"`, 1)
+	want = strings.Replace(want, `version = "example-2.1"`, `version = "example-2.2"`, 1)
 	want = strings.Replace(want, `edited_by = "Odile Flintcaster"`, `edited_by = "tquenchmoor"`, 1)
 	if string(after) != want {
 		t.Errorf("whole-book save changed more than the value and the stamp")
 	}
-	if b.Version != "example-1.2" || b.EditedBy != "tquenchmoor" {
+	if b.Version != "example-2.2" || b.EditedBy != "tquenchmoor" {
 		t.Errorf("the saved book's stamp: %q by %q", b.Version, b.EditedBy)
 	}
 

@@ -471,6 +471,16 @@ func value2(f reflect.Value, keepZero bool) (string, bool) {
 			return "", false
 		}
 		return strconv.FormatBool(f.Bool()), true
+	case reflect.Slice:
+		if f.Len() == 0 {
+			return "", false
+		}
+		parts := make([]string, f.Len())
+		for i := range f.Len() {
+			s, _ := value2(f.Index(i), true)
+			parts[i] = s
+		}
+		return "[" + strings.Join(parts, ", ") + "]", true
 	}
 	return "", false
 }
@@ -580,11 +590,15 @@ func (b *Book) Clone() *Book {
 			ac.Chemistry = maps.Clone(a.Chemistry)
 			ac.Reference.LiquidusSlopes = maps.Clone(a.Reference.LiquidusSlopes)
 			ac.Reference.EutecticDepressors = maps.Clone(a.Reference.EutecticDepressors)
+			ac.Detect.LiquidusC = slices.Clone(a.Detect.LiquidusC)
+			ac.Detect.EutecticC = slices.Clone(a.Detect.EutecticC)
+			ac.Detect.PourMinC = copyPtr(a.Detect.PourMinC)
 			ac.Metrics = make(map[string]*Limit, len(a.Metrics))
 			for m, l := range a.Metrics {
 				lc := *l
 				lc.PassMin, lc.PassMax = copyPtr(l.PassMin), copyPtr(l.PassMax)
 				lc.MarginalMin, lc.MarginalMax = copyPtr(l.MarginalMin), copyPtr(l.MarginalMax)
+				lc.Spoils = slices.Clone(l.Spoils)
 				ac.Metrics[m] = &lc
 			}
 			c.Alloys[n] = &ac
