@@ -118,6 +118,11 @@ func Parse(data []byte, name string) (*Book, error) {
 			b.Alloys[n] = a
 		}
 		a.Name = n
+		for _, l := range a.Metrics {
+			if l != nil && len(l.Spoils) == 0 {
+				l.Spoils = nil // "spoils = []" says what leaving it out says
+			}
+		}
 	}
 	if err := b.validate(data, name); err != nil {
 		return nil, err
