@@ -276,7 +276,7 @@ func TestCurveChemistry(t *testing.T) {
 func TestWhiteCup(t *testing.T) {
 	// Constructed from a known iron C 3.45, Si 2.00, P 0.04 (nominal P of the
 	// spec): Heine TL = 1669 − 124·(3.45 + 2.00/4 + 0.04/2) = 1176.72 °C; white
-	// arrest = 1148 − 15·2.00 − offset (field notes §2; an offset of 8.3 °C is
+	// arrest = 1148 − 15·2.00 − offset (Fe-C-Si literature, memory; an offset of 8.3 °C is
 	// the average of Riposan et al. 2020). The default inversion must give
 	// them back.
 	book := limits.Builtin()
@@ -408,7 +408,7 @@ func TestJSONKeys(t *testing.T) {
 	rec := FromResult(Input{File: "x.csv", Alloy: "grey-iron"}, greyResult())
 	m := jsonFields(t, rec)
 	for _, k := range []string{
-		// keys of the design (design.md, "JSON result") keep their names
+		// the stable keys of the JSON result (README.md, "Analysing files") keep their names
 		"file", "alloy", "samples", "rate_hz", "pour_peak_c", "liquidus_min_c", "liquidus_c", "eutectic_min_c",
 		"eutectic_max_c", "recalescence_c", "solidus_c", "problems", "verdict",
 		// new keys

@@ -357,7 +357,7 @@ func changes(old, new []byte) []string {
 // metric order. Unset optional values are left out.
 func Encode(b *Book) []byte {
 	var w bytes.Buffer
-	w.WriteString("# undercool limits file (format: README.md, \"Limits file\"). Temperatures in °C,\n")
+	w.WriteString("# undercool limits file (format: docs/limits.md). Temperatures in °C,\n")
 	w.WriteString("# times in s, chemistry in wt %. The shop's metallurgist is responsible for every number;\n")
 	w.WriteString("# verdicts assist the shop's written procedures and never replace them.\n\n")
 	scalar(&w, "version", b.Version)
