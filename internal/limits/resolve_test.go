@@ -166,12 +166,8 @@ func TestDetectValidation(t *testing.T) {
 	} {
 		_, err := Parse([]byte("version = \"t\"\n[alloy.x]\n"+c.body), "t.toml")
 		var le *Error
-		if !asError(err, &le) || le.Key != c.key || !contains(err.Error(), c.msg) {
+		if !errors.As(err, &le) || le.Key != c.key || !strings.Contains(err.Error(), c.msg) {
 			t.Errorf("%q: %v; want key %s, %q", c.body, err, c.key, c.msg)
 		}
 	}
 }
-
-func asError(err error, le **Error) bool { return errors.As(err, le) }
-
-func contains(s, sub string) bool { return strings.Contains(s, sub) }

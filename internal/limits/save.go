@@ -141,7 +141,44 @@ func readExisting(path string) ([]byte, error) {
 // The stamp keys (version, edited, edited_by) are edited but not listed:
 // the log line names them on its own.
 func diffBooks(old, new *Book) ([]textEdit, []string) {
-	a, b := leaves(Encode(old)), leaves(Encode(new))
+	var edits []textEdit
+	var log []string
+	for _, c := range diffLeaves(leaves(Encode(old)), leaves(Encode(new))) {
+		if c.gone {
+			edits = append(edits, textEdit{path: c.path})
+		} else {
+			v := tomlValue(c.new)
+			edits = append(edits, textEdit{path: c.path, value: &v})
+		}
+		if len(c.path) != 1 || !slices.Contains([]string{"version", "edited", "edited_by"}, c.path[0]) {
+			log = append(log, c.String())
+		}
+	}
+	return edits, log
+}
+
+// leafChange is one key whose value differs between two texts.
+type leafChange struct {
+	path        []string
+	old, new    any
+	added, gone bool
+}
+
+// String is the change for a log: "KEY 1142 → 1143", "KEY added 3.9",
+// "KEY removed (was 0.5)".
+func (c leafChange) String() string {
+	key := visible(dotted(c.path))
+	switch {
+	case c.added:
+		return key + " added " + display(c.new)
+	case c.gone:
+		return key + " removed (was " + display(c.old) + ")"
+	}
+	return key + " " + display(c.old) + " → " + display(c.new)
+}
+
+// diffLeaves lists the changed keys in key order.
+func diffLeaves(a, b map[string]leaf) []leafChange {
 	keys := map[string][]string{}
 	for k, l := range a {
 		keys[k] = l.path
@@ -149,34 +186,16 @@ func diffBooks(old, new *Book) ([]textEdit, []string) {
 	for k, l := range b {
 		keys[k] = l.path
 	}
-	var edits []textEdit
-	var log []string
+	var out []leafChange
 	for _, k := range slices.Sorted(maps.Keys(keys)) {
 		la, oka := a[k]
 		lb, okb := b[k]
 		if oka && okb && reflect.DeepEqual(la.value, lb.value) {
 			continue
 		}
-		stamp := len(keys[k]) == 1 && slices.Contains([]string{"version", "edited", "edited_by"}, k)
-		switch {
-		case !okb:
-			edits = append(edits, textEdit{path: la.path})
-			if !stamp {
-				log = append(log, visible(dotted(la.path))+" removed (was "+display(la.value)+")")
-			}
-		default:
-			v := tomlValue(lb.value)
-			edits = append(edits, textEdit{path: lb.path, value: &v})
-			switch {
-			case stamp:
-			case !oka:
-				log = append(log, visible(dotted(lb.path))+" added "+display(lb.value))
-			default:
-				log = append(log, visible(dotted(lb.path))+" "+display(la.value)+" → "+display(lb.value))
-			}
-		}
+		out = append(out, leafChange{path: keys[k], old: la.value, new: lb.value, added: !oka, gone: !okb})
 	}
-	return edits, log
+	return out
 }
 
 type leaf struct {
@@ -325,26 +344,9 @@ func changes(old, new []byte) []string {
 	if old == nil {
 		return []string{"created"}
 	}
-	a, b := leaves(old), leaves(new)
-	keys := map[string][]string{}
-	for k, l := range a {
-		keys[k] = l.path
-	}
-	for k, l := range b {
-		keys[k] = l.path
-	}
 	var out []string
-	for _, k := range slices.Sorted(maps.Keys(keys)) {
-		la, oka := a[k]
-		lb, okb := b[k]
-		switch {
-		case !oka:
-			out = append(out, visible(dotted(lb.path))+" added "+display(lb.value))
-		case !okb:
-			out = append(out, visible(dotted(la.path))+" removed (was "+display(la.value)+")")
-		case !reflect.DeepEqual(la.value, lb.value):
-			out = append(out, visible(dotted(lb.path))+" "+display(la.value)+" → "+display(lb.value))
-		}
+	for _, c := range diffLeaves(leaves(old), leaves(new)) {
+		out = append(out, c.String())
 	}
 	if len(out) == 0 {
 		return []string{"no value changed"}

@@ -369,9 +369,9 @@ func (s *scanner) value(doc *tomlText, path []string, depth int) error {
 		}
 		s.i++
 		if c == '[' {
-			return s.array(doc, path, depth+1)
+			return s.items(']', "array", func() error { return s.value(doc, path, depth+1) })
 		}
-		return s.inlineTable(doc, path, depth+1)
+		return s.items('}', "inline table", func() error { return s.keyValue(doc, path, true, depth+1) })
 	}
 	start := s.i
 	for s.i < len(s.d) {
@@ -392,37 +392,19 @@ func (s *scanner) value(doc *tomlText, path []string, depth int) error {
 	return nil
 }
 
-func (s *scanner) array(doc *tomlText, path []string, depth int) error {
+// items reads the comma-separated items of an array or an inline table up
+// to its closing byte (newlines and comments allowed between them).
+func (s *scanner) items(closing byte, what string, item func() error) error {
 	for {
 		s.skipSpace()
 		if s.i >= len(s.d) {
-			return s.errf("array not closed")
+			return s.errf("%s not closed", what)
 		}
-		if s.d[s.i] == ']' {
+		if s.d[s.i] == closing {
 			s.i++
 			return nil
 		}
-		if err := s.value(doc, path, depth); err != nil {
-			return err
-		}
-		s.skipSpace()
-		if s.i < len(s.d) && s.d[s.i] == ',' {
-			s.i++
-		}
-	}
-}
-
-func (s *scanner) inlineTable(doc *tomlText, path []string, depth int) error {
-	for {
-		s.skipSpace()
-		if s.i >= len(s.d) {
-			return s.errf("inline table not closed")
-		}
-		if s.d[s.i] == '}' {
-			s.i++
-			return nil
-		}
-		if err := s.keyValue(doc, path, true, depth); err != nil {
+		if err := item(); err != nil {
 			return err
 		}
 		s.skipSpace()
@@ -458,16 +440,23 @@ func (s *scanner) basicString() (int, error) {
 				return i + 1, nil
 			}
 			if bytes.HasPrefix(s.d[i:], []byte(`"""`)) {
-				end := i + 3
-				for k := 0; k < 2 && end < len(s.d) && s.d[end] == '"'; k++ {
-					end++ // """"" ends with two quotes of content
-				}
-				return end, nil
+				return multiEnd(s.d, i, '"'), nil
 			}
 		}
 		i++
 	}
 	return len(s.d), s.errf("string not closed")
+}
+
+// multiEnd is the end of a multi-line string whose closing triple quote q
+// starts at i: up to two more quotes right after it are content (five
+// quotes end a string with two quotes of content).
+func multiEnd(d []byte, i int, q byte) int {
+	end := i + 3
+	for k := 0; k < 2 && end < len(d) && d[end] == q; k++ {
+		end++
+	}
+	return end
 }
 
 // literalString is basicString for '...' and ”'...”' (no escapes).
@@ -478,11 +467,7 @@ func (s *scanner) literalString() (int, error) {
 				s.line++
 			}
 			if bytes.HasPrefix(s.d[i:], []byte(`'''`)) {
-				end := i + 3
-				for k := 0; k < 2 && end < len(s.d) && s.d[end] == '\''; k++ {
-					end++
-				}
-				return end, nil
+				return multiEnd(s.d, i, '\''), nil
 			}
 		}
 		return len(s.d), s.errf("string not closed")
