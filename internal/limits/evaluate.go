@@ -216,15 +216,15 @@ func judge(mi MetricInfo, l *Limit, v float64) (status, reason, advice string) {
 	case pass.Min != nil && v < *pass.Min:
 		advice = l.Low
 		if marg.Contains(v) {
-			return StatusMarginal, fmt.Sprintf("%s %s is below the %s pass limit (marginal down to %s)", mi.Label, mi.FormatApart(v, *pass.Min), mi.Format(*pass.Min), mi.Format(*marg.Min)), advice
+			return StatusMarginal, fmt.Sprintf("%s %s is below the %s pass limit (marginal down to %s)", mi.Label, mi.FormatApart(v, *pass.Min), mi.FormatBound(*pass.Min), mi.FormatBound(*marg.Min)), advice
 		}
-		reason = fmt.Sprintf("%s %s is below the %s limit", mi.Label, mi.FormatApart(v, *marg.Min), mi.Format(*marg.Min))
+		reason = fmt.Sprintf("%s %s is below the %s limit", mi.Label, mi.FormatApart(v, *marg.Min), mi.FormatBound(*marg.Min))
 	default:
 		advice = l.High
 		if marg.Contains(v) {
-			return StatusMarginal, fmt.Sprintf("%s %s is above the %s pass limit (marginal up to %s)", mi.Label, mi.FormatApart(v, *pass.Max), mi.Format(*pass.Max), mi.Format(*marg.Max)), advice
+			return StatusMarginal, fmt.Sprintf("%s %s is above the %s pass limit (marginal up to %s)", mi.Label, mi.FormatApart(v, *pass.Max), mi.FormatBound(*pass.Max), mi.FormatBound(*marg.Max)), advice
 		}
-		reason = fmt.Sprintf("%s %s is above the %s limit", mi.Label, mi.FormatApart(v, *marg.Max), mi.Format(*marg.Max))
+		reason = fmt.Sprintf("%s %s is above the %s limit", mi.Label, mi.FormatApart(v, *marg.Max), mi.FormatBound(*marg.Max))
 	}
 	return StatusFail, reason, advice
 }
@@ -242,21 +242,41 @@ func (m MetricInfo) FormatApart(v, bound float64) string {
 	return mm.Format(v)
 }
 
+// FormatBound writes a limit's bound with the metric's decimals, or more
+// (up to 4 more) where the file gives it more finely: a ±8.135 °C tolerance
+// reads "8.135 °C", not "8.13 °C".
+func (m MetricInfo) FormatBound(bound float64) string {
+	mm := m
+	mm.Decimals = m.boundDecimals(bound)
+	return mm.Format(bound)
+}
+
+func (m MetricInfo) boundDecimals(bound float64) int {
+	d := m.Decimals
+	for d < m.Decimals+4 {
+		if back, err := strconv.ParseFloat(strconv.FormatFloat(bound, 'f', d, 64), 64); err == nil && back == bound {
+			break
+		}
+		d++
+	}
+	return d
+}
+
 func bandText(mi MetricInfo, b Band) string {
 	switch {
 	case b.Min != nil && b.Max != nil:
-		return mi.Format(*b.Min) + " to " + mi.Format(*b.Max)
+		return mi.FormatBound(*b.Min) + " to " + mi.FormatBound(*b.Max)
 	case b.Min != nil:
-		return "its limit (at least " + mi.Format(*b.Min) + ")"
+		return "its limit (at least " + mi.FormatBound(*b.Min) + ")"
 	case b.Max != nil:
-		return "its limit (at most " + mi.Format(*b.Max) + ")"
+		return "its limit (at most " + mi.FormatBound(*b.Max) + ")"
 	}
 	return "its limits (presence only)"
 }
 
 // FormatBand writes a band for tables: "1142.0 … 1156.0", "≥ 12.0", "≤ 10.0", "any".
 func FormatBand(mi MetricInfo, b Band) string {
-	f := func(v float64) string { return strconv.FormatFloat(v, 'f', mi.Decimals, 64) }
+	f := func(v float64) string { return strconv.FormatFloat(v, 'f', mi.boundDecimals(v), 64) }
 	switch {
 	case b.Min != nil && b.Max != nil:
 		return f(*b.Min) + " … " + f(*b.Max)

@@ -473,3 +473,19 @@ func TestSampleChecks(t *testing.T) {
 		}
 	}
 }
+
+// TestBoundsReadAsWritten: a bound is written with the metric's decimals,
+// or as finely as the file gives it (up to 4 more decimals).
+func TestBoundsReadAsWritten(t *testing.T) {
+	mi, _ := Metric("fixed_point_error_c") // 2 decimals
+	for b, want := range map[float64]string{8.135: "8.135 °C", -3.146: "-3.146 °C", 2.2: "2.20 °C", 1.0 / 3: "0.333333 °C"} {
+		if got := mi.FormatBound(b); got != want {
+			t.Errorf("FormatBound(%g) = %q, want %q", b, got, want)
+		}
+	}
+	if got := FormatBand(mi, Band{Min: ptr(-8.135), Max: ptr(8.135)}); got != "-8.135 … 8.135" {
+		t.Errorf("FormatBand = %q", got)
+	}
+}
+
+func ptr(v float64) *float64 { return &v }
