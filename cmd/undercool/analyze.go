@@ -90,6 +90,11 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 			return err
 		}
 	}
+	if *alloy != "" {
+		if err := knownAlloy(env, "analyze", book, *alloy); err != nil {
+			return err
+		}
+	}
 
 	var records *analyzeStore // --store: see report.go
 	if *storeIt {
@@ -178,10 +183,26 @@ func analyzeOne(i int, path, alloy string, book *limits.Book, read func(string) 
 		File: path, Alloy: alloy, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped,
 		Limits: book, Meta: c.Meta,
 	})
-	if alloy == "" {
-		rec.Warnings = append(rec.Warnings, "no alloy named (give --alloy or a '# alloy:' line): analysed as "+rec.Family+" without limits")
-	}
 	return analyzed{index: i, rec: rec}
+}
+
+// knownAlloy refuses an alloy the limits do not know (a typo such as
+// grey_iron would otherwise be analysed by the name rule and judged
+// unchecked), naming the alloys they do know, as the sample form does. It
+// prints the refusal and gives exit status 2 (a usage mistake).
+func knownAlloy(env *environ, cmd string, book *limits.Book, alloy string) error {
+	src := "the shipped example limits"
+	if book == nil {
+		book = limits.Builtin()
+	} else {
+		src = book.Source
+	}
+	if book.Resolve(alloy).Known() {
+		return nil
+	}
+	fmt.Fprintf(env.stderr, "undercool %s: unknown alloy %q: %s know %s (or give --limits FILE with its entry)\n",
+		cmd, alloy, src, strings.Join(book.Names(), ", "))
+	return exitError{2}
 }
 
 func stderrIsTerminal(env *environ) bool {

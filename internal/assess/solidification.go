@@ -47,8 +47,8 @@ func (m *metallurgy) solidification() {
 		missingAll("the cup has not finished freezing")
 		return
 	}
-	s := solidpath.Analyze(solidCup(m.in, *r, c))
-	pure := m.in.Family == arrest.FamilyPure
+	s := solidpath.Analyze(solidCup(m.s.in, *r, c))
+	pure := m.s.in.Family == arrest.FamilyPure
 	latent := func(p *solidpath.Path, err error, metric string, dst **float64) {
 		switch {
 		case p == nil:
@@ -61,7 +61,7 @@ func (m *metallurgy) solidification() {
 	}
 	latent(s.Newtonian, s.NewtonianErr, "latent_heat_newtonian_j_per_kg", &r.LatentHeatNewtonianJPerKg)
 	fourierErr := s.FourierErr
-	if pure && m.in.Wall != nil {
+	if pure && m.s.in.Wall != nil {
 		fourierErr = errors.New("the Fourier method does not apply to a pure metal, which freezes from the wall inward")
 	}
 	latent(s.Fourier, fourierErr, "latent_heat_fourier_j_per_kg", &r.LatentHeatFourierJPerKg)
@@ -88,13 +88,13 @@ func (m *metallurgy) solidification() {
 	switch {
 	case s.Coherency != nil:
 		m.set(&r.CoherencyC, "coherency_c", s.Coherency.TempC)
-		r.CoherencyS = num(s.Coherency.TimeS)
+		r.CoherencyS = fig("coherency_s", s.Coherency.TimeS)
 		if !math.IsNaN(s.Coherency.FS) {
 			m.set(&r.FSAtCoherency, "fs_at_coherency", s.Coherency.FS)
 		} else {
 			m.missing("fs_at_coherency", label("fs_at_coherency")+" not computed: "+reason(s.FourierErr))
 		}
-	case m.in.Family != arrest.FamilyAluminum:
+	case m.s.in.Family != arrest.FamilyAluminum:
 		m.missing("coherency_c", label("coherency_c")+" not computed: defined for aluminium alloys")
 		m.missing("fs_at_coherency", label("fs_at_coherency")+" not computed: defined for aluminium alloys")
 	default:
@@ -161,7 +161,7 @@ func (m *metallurgy) specificHeat() (float64, string) {
 	if m.alloy != nil && m.alloy.Reference.SpecificHeatJPerKgK != nil {
 		return *m.alloy.Reference.SpecificHeatJPerKgK, ""
 	}
-	if c := solidpath.SpecificHeat(m.in.Family); c > 0 {
+	if c := solidpath.SpecificHeat(m.s.in.Family); c > 0 {
 		return c, ""
 	}
 	return 0, "no specific heat is set for this alloy (reference.specific_heat_j_per_kg_k in the limits file)"

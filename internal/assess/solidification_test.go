@@ -45,12 +45,12 @@ func TestSolidificationOneThermocouple(t *testing.T) {
 		t.Errorf("two-thermocouple figures from one thermocouple: %v %v %v; eutectic start %v", rec.LatentHeatFourierJPerKg, rec.CoherencyC, rec.FSAtCoherency, rec.FSAtEutecticStart)
 	}
 	// The path behind the figures, worked out again from the curve and the
-	// record, gives the same fs.
+	// record, gives the same fs (at the record's resolution, round.go).
 	path, err := SolidPath(Input{File: in.File, Time: in.Time, Temp: in.Temp}, rec)
 	if err != nil || rec.EutecticMinS == nil {
 		t.Fatalf("SolidPath: %v", err)
 	}
-	if got := path.At(*rec.EutecticMinS); got != *rec.FSAtEutecticMin || path.Method != rec.FSMethod {
+	if got := path.At(*rec.EutecticMinS); roundFigure("fs_at_eutectic_min", got) != *rec.FSAtEutecticMin || path.Method != rec.FSMethod {
 		t.Errorf("SolidPath: %s fs %g at the eutectic minimum, the record %s %g", path.Method, got, rec.FSMethod, *rec.FSAtEutecticMin)
 	}
 	m := jsonFields(t, rec)
@@ -147,8 +147,11 @@ func TestSolidificationTwoThermocouples(t *testing.T) {
 			*rec.CoherencyS, *rec.FSAtCoherency, *rec.LiquidusS, *rec.EutecticMinS, *rec.FSAtEutecticMin)
 	}
 	path, err := SolidPath(in, rec)
-	if err != nil || path.Method != solidpath.MethodFourier || path.At(*rec.EutecticMinS) != *rec.FSAtEutecticMin {
-		t.Errorf("SolidPath: %v, %v", path, err)
+	switch {
+	case err != nil:
+		t.Errorf("SolidPath: %v", err)
+	case path.Method != solidpath.MethodFourier || roundFigure("fs_at_eutectic_min", path.At(*rec.EutecticMinS)) != *rec.FSAtEutecticMin:
+		t.Errorf("SolidPath: method %s, fs at the eutectic minimum %v, the record %g", path.Method, path.At(*rec.EutecticMinS), *rec.FSAtEutecticMin)
 	}
 	// A pure metal with a wall thermocouple: no Fourier figure, and why.
 	p, _ = sim.Preset(sim.PureAl, 0.5, 5)

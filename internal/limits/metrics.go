@@ -28,6 +28,7 @@ var metricList = []MetricInfo{
 	{"eutectic_depression_c", "eutectic depression", "°C", 1},
 	{"plateau_c", "freezing plateau", "°C", 2},
 	{"fixed_point_error_c", "plateau minus the fixed point", "°C", 2},
+	{"fixed_point_undercooling_c", "check-cup undercooling below its plateau", "°C", 2},
 	{"pour_superheat_c", "pour superheat in the cup", "°C", 0},
 	{"plateau_s", "eutectic plateau duration", "s", 0},
 	{"freezing_time_s", "freezing time", "s", 0},
