@@ -10,7 +10,6 @@ import (
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/lipgloss"
 
-	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/feed"
@@ -200,11 +199,11 @@ type CurveReader func(path string) (*curvefile.Curve, error)
 
 // openCurve is the command that gives an opened sample's curve, read from
 // its file where the history has none, and its T′ as the analysis finds it
-// (the alloy's detector options, limits.Book.Resolve).
+// (the sample's detector options, assess.Options).
 func openCurve(read CurveReader, book *limits.Book, e Entry) tea.Cmd {
 	return func() tea.Msg {
-		t, v := e.Time, e.Temp
-		if len(t) == 0 {
+		in := assess.Input{Alloy: e.Record.Alloy, Limits: book, Time: e.Time, Temp: e.Temp}
+		if len(in.Time) == 0 {
 			if read == nil {
 				return curveLoadedMsg{id: e.ID, err: fmt.Errorf("no curve reader to open %s", e.Path)}
 			}
@@ -212,14 +211,10 @@ func openCurve(read CurveReader, book *limits.Book, e Entry) tea.Cmd {
 			if err != nil {
 				return curveLoadedMsg{id: e.ID, err: err}
 			}
-			t, v = c.Time, c.Temp
+			in.Time, in.Temp, in.Meta = c.Time, c.Temp, c.Meta
 		}
-		opt := book.Resolve(e.Record.Alloy).Detect
-		if e.Record.Family != "" {
-			opt.Family = arrest.Family(e.Record.Family)
-		}
-		st, sd := sample.Slope(t, v, opt)
-		return curveLoadedMsg{id: e.ID, t: t, v: v, st: st, sd: sd}
+		st, sd := sample.Slope(in.Time, in.Temp, assess.Options(in))
+		return curveLoadedMsg{id: e.ID, t: in.Time, v: in.Temp, st: st, sd: sd}
 	}
 }
 

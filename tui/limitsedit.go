@@ -4,29 +4,29 @@ import (
 	"github.com/undercool-foundry/undercool/internal/limits"
 )
 
-// The limits editor's seam to the limits package: a copy of the book that
-// edits can change without touching the book in use (limits.Book.Clone),
-// and the pending edits applied to it. Swap these for the limits package's
-// own editing API when it has one.
+// The limits editor's seam to the limits package: the pending edits made
+// on a copy of the book in use (limits.Book.Clone, limits.Book.SetLimit),
+// which the saver writes in place (limits.SaveBy) and the model swaps in.
 
 // editBook is a copy of b with the pending edits (alloy → bound → value)
-// applied, and how many were.
-func editBook(b *limits.Book, pending map[string]map[limitRow]*float64) (*limits.Book, int) {
+// applied, and how many were; an edit the book refuses is said.
+func editBook(b *limits.Book, pending map[string]map[limitRow]*float64) (*limits.Book, int, error) {
 	c := b.Clone()
 	n := 0
 	for alloy, m := range pending {
-		al, ok := c.Alloy(alloy)
-		if !ok {
-			continue
-		}
 		for r, v := range m {
-			if l := al.Metrics[r.metric]; l != nil {
-				*r.b.of(l) = v
-				n++
+			if _, err := c.SetLimit(alloy, r.metric, r.b.limitsBound(), v); err != nil {
+				return nil, 0, err
 			}
+			n++
 		}
 	}
-	return c, n
+	return c, n, nil
+}
+
+// limitsBound is the limits package's name of the bound.
+func (b bound) limitsBound() limits.Bound {
+	return [...]limits.Bound{passMin: limits.PassMin, passMax: limits.PassMax, margMin: limits.MarginalMin, margMax: limits.MarginalMax}[b]
 }
 
 // clonePending copies the pending edits (the values are never changed in

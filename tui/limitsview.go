@@ -249,7 +249,11 @@ func (p limitsPane) commit() (limitsPane, tea.Cmd) {
 		p.msg, p.msgBad = "a save is under way: press w again when it is done", true
 		return p, nil
 	}
-	edited, n := editBook(p.book, p.pending)
+	edited, n, err := editBook(p.book, p.pending)
+	if err != nil {
+		p.msg, p.msgBad = "not saved: "+err.Error(), true
+		return p, nil
+	}
 	if n == 0 {
 		p.msg, p.msgBad = "nothing changed", false
 		return p, nil

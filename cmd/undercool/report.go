@@ -21,7 +21,7 @@ func init() {
 	})
 }
 
-const reportUsage = `usage: undercool report SAMPLE --out FILE.png|FILE.svg [--db PATH] [--alloy A] [--limits FILE]
+const reportUsage = `usage: undercool report SAMPLE --out FILE.png|FILE.svg [--db PATH|postgres://…] [--alloy A] [--limits FILE]
 
 Draws the page for a ladle's quality record: the cooling curve with its
 characteristic points, its derivative dT/dt, the results, the verdict with
@@ -40,7 +40,7 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 	fs.SetOutput(env.stderr)
 	fs.Usage = func() { fmt.Fprint(env.stderr, reportUsage); fs.PrintDefaults() }
 	out := fs.String("out", "", "the page to write, `FILE`.png or FILE.svg")
-	dbPath := fs.String("db", "", "records database `PATH` (default $UNDERCOOL_DB or the user's data directory)")
+	dbPath := fs.String("db", "", dbFlagHelp)
 	alloy := fs.String("alloy", "", "alloy of a curve file (overrides its '# alloy:')")
 	limitsPath := fs.String("limits", "", "limits `FILE` for a curve file (default: the shipped examples)")
 	pos, err := parseLimitsArgs(fs, args) // flags before or after SAMPLE
@@ -78,13 +78,14 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 		if a == "" {
 			a = c.Get("alloy")
 		}
-		rec = assess.Assess(assess.Input{File: pos[0], Alloy: a, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped, Limits: book, Meta: c.Meta})
+		in := assess.Input{File: pos[0], Alloy: a, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped, Limits: book, Meta: c.Meta}
+		rec = assess.Assess(in)
 		s := sampleFromCurve(pos[0], c, rec)
 		if s.CurveSHA256, err = store.HashFile(pos[0]); err != nil {
 			return err
 		}
 		info = report.Info{Sample: s.Sample, Ladle: s.Ladle, Alloy: rec.Alloy, Furnace: s.Furnace, Operator: s.Operator,
-			Time: s.Recorded, CurvePath: pos[0], CurveSHA256: s.CurveSHA256, Detect: book.Resolve(a).Detect}
+			Time: s.Recorded, CurvePath: pos[0], CurveSHA256: s.CurveSHA256, Detect: assess.Options(in)}
 		if s.Simulated {
 			info.Notes = append(info.Notes, "simulated cup, not a measurement")
 		}

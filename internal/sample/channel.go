@@ -2,12 +2,14 @@ package sample
 
 import (
 	"fmt"
+	"math"
+	"slices"
+	"strings"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/feed"
-	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/protocol"
 )
 
@@ -20,7 +22,10 @@ type channel struct {
 	meta  Meta // the sample shown
 	next  Meta // the next sample's
 
-	res      limits.Resolution
+	in       assess.Input   // the sample as assess sees it: alloy, limits, the file's metadata
+	opt      arrest.Options // the detector options, assess.Options(in)
+	byCurve  bool           // no alloy named: the options follow the curve's highest reading
+	peak     float64        // the highest reading the options were made for
 	an       Analyzer
 	fileMeta []curvefile.Meta // the file's metadata as it started
 	path     string
@@ -84,7 +89,9 @@ func (c *channel) start(t *Tracker, it *feed.Item) {
 	c.state, c.n, c.path, c.startS = Recording, it.Sample, it.Path, it.StartS
 	c.meta = c.next
 	c.fileMeta = it.Meta
-	c.res = t.book.Resolve(c.meta.Get("alloy"))
+	c.in = assess.Input{Alloy: strings.TrimSpace(c.meta.Get("alloy")), Limits: t.book, Meta: c.finalMeta()}
+	c.byCurve, c.peak = c.in.Alloy == "", math.Inf(-1)
+	c.opt = assess.Options(c.in)
 	if c.an == nil {
 		c.an = t.cfg.NewAnalyzer()
 	}
@@ -142,7 +149,15 @@ func (c *channel) analyse(live bool) {
 		c.result = arrest.Result{}
 		return
 	}
-	opt := c.res.Detect
+	if c.byCurve && c.v[len(c.v)-1] > c.peak {
+		// the family a curve without an alloy is analysed as follows its
+		// highest reading (limits.FamilyOfCurve), as assess.Options says
+		c.peak = slices.Max(c.v)
+		in := c.in
+		in.Temp = []float64{c.peak}
+		c.opt = assess.Options(in)
+	}
+	opt := c.opt
 	opt.Live = live
 	c.result = c.an.Analyze(c.t, c.v, opt)
 	ts, d := c.an.Slope()
@@ -170,9 +185,11 @@ func (c *channel) end(t *Tracker, it *feed.Item) {
 
 // finish judges the sample, once.
 func (c *channel) finish(t *Tracker, path, why string, announce bool) {
+	in := c.in
+	in.File, in.Time, in.Temp, in.Skipped = path, c.t, c.v, c.faultsIn
+	c.opt = assess.Options(in) // what Assess of the file takes (the same unless the family follows the curve)
+	c.byCurve = false
 	c.analyse(false)
-	in := assess.Input{File: path, Alloy: c.res.Name, Family: c.res.Family(), Time: c.t, Temp: c.v,
-		Skipped: c.faultsIn, Limits: t.book, Meta: c.finalMeta()}
 	rec := t.cfg.Judge(in, c.result)
 	c.rec, c.path, c.state = &rec, path, Done
 	if announce {
@@ -196,7 +213,7 @@ func (c *channel) finalMeta() []curvefile.Meta {
 
 func (c *channel) snapshot() Snapshot {
 	return Snapshot{
-		Channel: c.id, State: c.state, Sample: c.n, Meta: c.meta, Next: c.next, Family: c.res.Family(),
+		Channel: c.id, State: c.state, Sample: c.n, Meta: c.meta, Next: c.next, Family: c.opt.Family,
 		T: c.t[:len(c.t):len(c.t)], V: c.v[:len(c.v):len(c.v)],
 		SlopeT: c.st[:len(c.st):len(c.st)], SlopeD: c.sd[:len(c.sd):len(c.sd)],
 		Result: c.result, Record: c.rec, Path: c.path, ElapsedS: c.elapsed(),

@@ -3,7 +3,8 @@
 // feed: the acquirer, or the replay of a curve file) and keeps, per
 // channel, the sample's curve, its state, the current and the next sample's
 // metadata, the alloy's limits entry and detection rules
-// (limits.Book.Resolve), one growing-curve analyser, the decision that
+// (limits.Book.Resolve, through assess.Options, the one rule), one
+// growing-curve analyser, the decision that
 // freezing is done (the source stops recording on its word) and the
 // finished record, produced once. Every user of a sample (the dashboard,
 // its headless lines, `record`, replay and the store writer) reads it from
@@ -16,6 +17,7 @@ package sample
 
 import (
 	"strconv"
+	"strings"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
@@ -378,11 +380,10 @@ func (t *Tracker) recovered(it *feed.Item) {
 		return
 	}
 	meta := MetaOf(c.Meta)
-	res := t.book.Resolve(meta.Get("alloy"))
-	an := t.cfg.NewAnalyzer()
-	result := an.Analyze(c.Time, c.Temp, res.Detect)
-	rec := t.cfg.Judge(assess.Input{File: it.Path, Alloy: res.Name, Family: res.Family(), Time: c.Time, Temp: c.Temp,
-		Skipped: c.Skipped, Limits: t.book, Meta: c.Meta}, result)
+	in := assess.Input{File: it.Path, Alloy: strings.TrimSpace(meta.Get("alloy")), Time: c.Time, Temp: c.Temp,
+		Skipped: c.Skipped, Limits: t.book, Meta: c.Meta}
+	result := t.cfg.NewAnalyzer().Analyze(c.Time, c.Temp, assess.Options(in))
+	rec := t.cfg.Judge(in, result)
 	t.out.Finished = append(t.out.Finished, Finished{Channel: it.Channel, Meta: meta, Path: it.Path, Record: rec,
 		T: c.Time, V: c.Temp, Recovered: true})
 }
