@@ -313,7 +313,7 @@ func (p *parser) finish() (*Curve, error) {
 	}
 	if p.swapCheck && swapped(p.time, p.temp) {
 		p.time, p.temp = p.temp, p.time
-		p.note("%s:%d: no header, and the first column goes back while the second only rises: read the second column as the time (s) and the first as the temperature (°C); %s", c.Name, p.headerLine, ColumnHint)
+		p.note("%s:%d: no header, and the first column goes back while the second only rises: read the second column as the time (s) and the first as the temperature (°C) (--time-column and --temp-column name them otherwise)", c.Name, p.headerLine)
 	}
 	c.Time, c.Temp = p.time, p.temp
 	for i := range p.extra {
