@@ -130,12 +130,17 @@ func (p *parser) comment(body []byte) {
 		p.note("%s:%d: metadata %q: %d bytes cut (values are kept up to %d bytes)", p.c.Name, p.line, k, cut, MaxMetaValue)
 	}
 	p.c.Meta = append(p.c.Meta, Meta{Key: k, Value: v})
-	if p.metaLine == nil {
-		p.metaLine = map[string]int{}
+	p.metaLines = append(p.metaLines, p.line)
+}
+
+// metaLine is the line of the first metadata line with the key.
+func (p *parser) metaLine(key string) int {
+	for i, m := range p.c.Meta {
+		if m.Key == key && i < len(p.metaLines) {
+			return p.metaLines[i]
+		}
 	}
-	if _, seen := p.metaLine[k]; !seen {
-		p.metaLine[k] = p.line
-	}
+	return 0
 }
 
 func validKey(k string) bool {
@@ -236,6 +241,9 @@ func firstOther(i int) int {
 func (p *parser) converted(u tempUnit) {
 	if u != unitC {
 		p.c.Set("converted_from", u.String())
+		if len(p.metaLines) < len(p.c.Meta) {
+			p.metaLines = append(p.metaLines, p.line)
+		}
 	}
 }
 
@@ -396,7 +404,7 @@ func (p *parser) setColumns(cols []column, width int) error {
 		}
 	}
 	p.rs.v = make([]float64, len(p.cols))
-	p.num = numReader{sep: p.sep, dec: p.dec, out: p.rs.v}
+	p.num = numReader{sep: p.sep, dec: p.dec}
 	p.plain = !p.emf
 	return nil
 }
@@ -410,7 +418,7 @@ func (p *parser) setupEMF(cjColumn bool) error {
 	}
 	tc, err := thermocouple.Lookup(typ)
 	if err != nil {
-		return &ParseError{File: p.c.Name, Line: p.metaLine["thermocouple"], Err: err}
+		return &ParseError{File: p.c.Name, Line: p.metaLine("thermocouple"), Err: err}
 	}
 	p.tc, p.emf = tc, true
 	if cjColumn {
@@ -420,7 +428,7 @@ func (p *parser) setupEMF(cjColumn bool) error {
 		if v := p.c.Get(k); v != "" {
 			cj, ok := parseNum([]byte(v), true)
 			if !ok {
-				return &ParseError{File: p.c.Name, Line: p.metaLine[k], Err: fmt.Errorf("%s %q is not a number", k, v)}
+				return &ParseError{File: p.c.Name, Line: p.metaLine(k), Err: fmt.Errorf("%s %q is not a number", k, v)}
 			}
 			p.cjMeta = cj
 			return nil

@@ -14,16 +14,15 @@ var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
 
 // numReader reads the numbers of a row (numReader.read): the separator
-// and decimal mark of its file, and where they go.
+// and decimal mark of its file.
 type numReader struct {
-	sep     byte      // the separator (' ': runs of blanks)
-	dec     byte      // a decimal mark besides '.': ',' for a decimal comma, '.' for none
-	out     []float64 // the numbers, by column
-	scratch []byte    // number text for strconv
+	sep     byte   // the separator (' ': runs of blanks)
+	dec     byte   // a decimal mark besides '.': ',' for a decimal comma, '.' for none
+	scratch []byte // number text for strconv
 }
 
-// read reads the fields of a row at b[i:] as numbers into out[k:],
-// at most count of them, while each holds a number and ends where its
+// read reads the fields of a row at b[i:] as numbers into out, at most
+// len(out) of them, while each holds a number and ends where its
 // field ends: blanks may follow (spaces, and tabs where sep is not a
 // tab), then sep or the line end; with sep ' ' (runs of blanks separate
 // the fields) a run of blanks ends it. After a separator, blanks before
@@ -49,8 +48,8 @@ type numReader struct {
 // This is the reader's inner loop: it calls nothing for the usual number
 // and allocates nothing, and it keeps few values live so that they stay
 // in registers.
-func (r *numReader) read(b []byte, i, k, count int) (n, next int, eol bool) {
-	for ; n < count; n++ {
+func (r *numReader) read(b []byte, i int, out []float64) (n, next int, eol bool) {
+	for ; n < len(out); n++ {
 		start := i
 		if c := b[i]; c == '-' || c == '+' {
 			i++
@@ -106,10 +105,10 @@ func (r *numReader) read(b []byte, i, k, count int) (n, next int, eol bool) {
 		// blanks and then one of them.
 		switch {
 		case c == '\n' || c == '\r':
-			r.out[k+n] = v
+			out[n] = v
 			return n + 1, i, true
 		case c == r.sep && c != ' ':
-			r.out[k+n] = v
+			out[n] = v
 			i++
 			for b[i] == ' ' || b[i] == '\t' {
 				i++
@@ -122,7 +121,7 @@ func (r *numReader) read(b []byte, i, k, count int) (n, next int, eol bool) {
 		}
 		switch c = b[j]; {
 		case c == '\n' || c == '\r':
-			r.out[k+n] = v
+			out[n] = v
 			return n + 1, j, true
 		case c == r.sep && c != ' ':
 			j++
@@ -133,7 +132,7 @@ func (r *numReader) read(b []byte, i, k, count int) (n, next int, eol bool) {
 		default:
 			return n, start, false // text after the number
 		}
-		r.out[k+n] = v
+		out[n] = v
 		i = j
 	}
 	return n, i, false
@@ -198,13 +197,14 @@ func parseNumIn(b []byte, comma bool, buf *[]byte) (float64, bool) {
 	if len(b) == 0 || bytes.IndexAny(b, "\r\n") >= 0 || b[len(b)-1] == ' ' || b[len(b)-1] == '\t' {
 		return 0, false
 	}
-	r := numReader{sep: '\n', dec: '.', out: make([]float64, 1)}
+	r := numReader{sep: '\n', dec: '.'}
 	if comma {
 		r.dec = ','
 	}
 	*buf = append(append((*buf)[:0], b...), '\n')
-	if n, _, eol := r.read(*buf, 0, 0, 1); n != 1 || !eol {
+	var out [1]float64
+	if n, _, eol := r.read(*buf, 0, out[:]); n != 1 || !eol {
 		return 0, false
 	}
-	return r.out[0], true
+	return out[0], true
 }

@@ -205,7 +205,7 @@ func (p *parser) lines() error {
 			}
 			continue
 		}
-		k, j, eol := p.num.read(b, i, 0, p.run[0])
+		k, j, eol := p.num.read(b, i, p.rs.v[:p.run[0]])
 		if eol && k == p.width && p.plain && len(p.time) < MaxReadings {
 			t := p.rs.v[p.timeCol]
 			if p.timeScale != 1 {
@@ -273,10 +273,10 @@ type parser struct {
 	emf        bool // converting an EMF column
 	tc         thermocouple.Type
 	cjMeta     float64
-	cjCol      int  // the cold-junction column of an EMF file, or -1
-	plain      bool // no EMF to convert, no padding run open: rows take the short way in lines
-	metaLine   map[string]int
-	swapCheck  bool // headerless two columns: see whether they are swapped
+	cjCol      int   // the cold-junction column of an EMF file, or -1
+	plain      bool  // no EMF to convert, no padding run open: rows take the short way in lines
+	metaLines  []int // the line of each of c.Meta
+	swapCheck  bool  // headerless two columns: see whether they are swapped
 	pad        padding
 	rs         rowState  // the row being read
 	num        numReader // the numbers of a row, into rs.v

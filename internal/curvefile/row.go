@@ -54,7 +54,7 @@ func (p *parser) row(b []byte, k, i int, eol bool) (int, error) {
 	for !eol {
 		if k < len(p.run) && p.run[k] > 0 {
 			var n int
-			n, i, eol = p.num.read(b, i, k, p.run[k])
+			n, i, eol = p.num.read(b, i, p.rs.v[k:k+p.run[k]])
 			if k += n; eol {
 				break
 			}
