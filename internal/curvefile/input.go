@@ -13,6 +13,12 @@ type input struct {
 	pos, end int // buf[pos:end] is read and not yet used
 	lim      int // buf[pos:lim] is whole lines, each with its line end
 	eof      bool
+	// left is how many bytes the input still holds where that is known
+	// (a file's size from its status when it was opened, an in-memory
+	// reader's length), else negative. Once they are read the input has
+	// ended, without a read to find out: a file is read as it was when
+	// opened.
+	left int
 }
 
 // more makes at least one whole line available at pos, reading as needed;
@@ -35,6 +41,11 @@ func (in *input) more() (bool, error) {
 		}
 		n, err := in.r.Read(in.buf[in.end : len(in.buf)-1]) // room for a last line end
 		in.end += n
+		if in.left >= 0 {
+			if in.left -= n; in.left <= 0 && err == nil {
+				err = io.EOF
+			}
+		}
 		switch {
 		case err == io.EOF:
 			in.eof = true

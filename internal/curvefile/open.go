@@ -8,7 +8,8 @@ import (
 )
 
 // openRegular opens path for reading where it is a regular file (after
-// symbolic links), and returns its size. Anything else is refused from its
+// symbolic links), and returns its size from the opened file's status
+// (-1 where it does not fit an int). Anything else is refused from its
 // file status, before it is opened: opening a FIFO waits for a writer, and
 // opening a device can have effects of its own. The open itself does not
 // wait (openFlags) and the opened file is checked again, in case path was
@@ -32,7 +33,11 @@ func openRegular(path string) (*os.File, int, error) {
 		f.Close()
 		return nil, 0, err
 	}
-	return f, int(min(fi.Size(), math.MaxInt32)), nil
+	size := -1
+	if fi.Size() <= math.MaxInt {
+		size = int(fi.Size())
+	}
+	return f, size, nil
 }
 
 // regular refuses what is not a regular file, saying what it is.

@@ -43,7 +43,8 @@ func (o Options) Read(r io.Reader, name string) (*Curve, error) {
 	if err := o.Check(); err != nil {
 		return nil, fmt.Errorf("curvefile: %s: %w", name, err)
 	}
-	return read(r, name, o, sizeHint(r))
+	size, exact := sizeHint(r)
+	return read(r, name, o, size, exact)
 }
 
 // ReadFile reads the curve file at path with the options. Anything that
@@ -59,7 +60,7 @@ func (o Options) ReadFile(path string) (*Curve, error) {
 		return nil, err
 	}
 	defer f.Close()
-	return read(f, path, o, size)
+	return read(f, path, o, size, size >= 0)
 }
 
 // Check reports whether the units are known and the column names usable.

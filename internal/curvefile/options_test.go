@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
+	"os"
 	"reflect"
 	"runtime"
 	"strings"
@@ -267,4 +268,31 @@ func TestReadExtraColumnsBound(t *testing.T) {
 		t.Errorf("allocated %d bytes for 20 rows of 100,000 columns, %d for 200 rows", a, b)
 	}
 	t.Logf("100,000 columns: %.1f MB allocated for 20 rows, %.1f MB for 200 rows (%.1f MB of text)", float64(a)/1e6, float64(b)/1e6, float64(len(many))/1e6)
+}
+
+// TestReadOpenFileAndSizes: a file ReadFile opens is read to its size
+// without a read to find the end; an *os.File given to Read, perhaps read
+// from before, is read to its end, whatever its size says.
+func TestReadOpenFileAndSizes(t *testing.T) {
+	path := t.TempDir() + "/cup.csv"
+	text := "# note: constructed\ntime_s,temp_c\n0,1300\n0.1,1299.5\n0.2,1299\n"
+	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	c, err := ReadFile(path)
+	if err != nil || !sameFloats(c.Time, []float64{0, 0.1, 0.2}) {
+		t.Fatalf("ReadFile: %v %v", c, err)
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	if _, err := f.Read(make([]byte, len("# note: constructed\n"))); err != nil {
+		t.Fatal(err)
+	}
+	c, err = Read(f, path)
+	if err != nil || !sameFloats(c.Time, []float64{0, 0.1, 0.2}) || len(c.Meta) != 0 {
+		t.Errorf("Read of a file read from before: %v %v", c, err)
+	}
 }

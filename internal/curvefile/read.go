@@ -115,20 +115,22 @@ func ReadFile(path string) (*Curve, error) { return Options{}.ReadFile(path) }
 // and allocates nothing per line: numbers are parsed where they lie, and
 // extra columns' text is gathered per column and cut into strings at the
 // end.
-func Read(r io.Reader, name string) (*Curve, error) { return read(r, name, Options{}, sizeHint(r)) }
+func Read(r io.Reader, name string) (*Curve, error) { return Options{}.Read(r, name) }
 
-// sizeHint is the number of bytes r will give, where r can tell (a file,
-// or an in-memory reader), else 0.
-func sizeHint(r io.Reader) int {
+// sizeHint is the number of bytes r will give, where r can tell, else 0;
+// exact is true where that is all it will give (an in-memory reader's
+// length), false for a file's size, which says nothing of how much of it
+// was read before.
+func sizeHint(r io.Reader) (size int, exact bool) {
 	switch v := r.(type) {
 	case interface{ Len() int }:
-		return v.Len()
+		return v.Len(), true
 	case *os.File:
-		if fi, err := v.Stat(); err == nil && fi.Mode().IsRegular() {
-			return int(min(fi.Size(), math.MaxInt32))
+		if fi, err := v.Stat(); err == nil && fi.Mode().IsRegular() && fi.Size() <= math.MaxInt32 {
+			return int(fi.Size()), false
 		}
 	}
-	return 0
+	return 0, false
 }
 
 // bufPool holds read buffers between files (analyze reads thousands).
@@ -137,9 +139,14 @@ var bufPool = sync.Pool{New: func() any { b := make([]byte, blockSize); return &
 // blockSize is the size of one read.
 const blockSize = 64 << 10
 
-func read(r io.Reader, name string, opt Options, size int) (*Curve, error) {
+// read reads the curve from r. size is the number of bytes r holds, where
+// known (else 0); exact says that r ends after them.
+func read(r io.Reader, name string, opt Options, size int, exact bool) (*Curve, error) {
 	bp := bufPool.Get().(*[]byte)
-	p := parser{c: &Curve{Name: name}, opt: opt, in: input{r: r, buf: *bp}}
+	p := parser{c: &Curve{Name: name}, opt: opt, in: input{r: r, buf: *bp, left: -1}}
+	if exact {
+		p.in.left = size
+	}
 	defer func() {
 		if cap(p.in.buf) <= 4*blockSize {
 			*bp = p.in.buf[:cap(p.in.buf)]
