@@ -10,9 +10,9 @@ import (
 	"testing"
 )
 
-// The measured curves from public repositories that the project keeps
-// beside the repository (their SOURCES.md gives provenance and licence);
-// they are never copied into it.
+// The measured curves from public repositories that are kept beside the
+// repository (with their provenance and licences); they are never copied
+// into it.
 const realData = "../../../shared/realdata"
 
 // realFile is the path of a measured file, or skips the test with the
@@ -96,7 +96,7 @@ func TestRealLoggerHeader(t *testing.T) {
 					t.Errorf("%+v: extra columns %q", opt, names(c.Extra))
 				}
 			}
-			// the time steps are uneven (SOURCES.md: 0.04–1.3 s over the files)
+			// the time steps are uneven (0.04–1.3 s over the two files)
 			c, _ := Options{TimeColumn: "4", TempColumn: "3"}.ReadFile(path)
 			lo, hi := 1e9, 0.0
 			for i := 1; i < len(c.Time); i++ {
