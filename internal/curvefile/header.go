@@ -200,11 +200,7 @@ func (p *parser) headerless(n int) error {
 	for i := range names {
 		names[i] = "column " + strconv.Itoa(i+1)
 	}
-	ti, err := resolve("time", p.opt.TimeColumn, names, false)
-	if err != nil {
-		return err
-	}
-	te, err := resolve("temp", p.opt.TempColumn, names, false)
+	ti, te, err := p.named(names, false)
 	if err != nil {
 		return err
 	}
@@ -228,6 +224,19 @@ func (p *parser) headerless(n int) error {
 	cols[te] = column{role: roleTemp, name: "temp_c", unit: unit}
 	p.converted(unit)
 	return p.setColumns(cols, n)
+}
+
+// named finds the time and the temperature columns the options name
+// among the names of the header (header true) or of the first line's
+// fields; -1 where the options name none.
+func (p *parser) named(names []string, header bool) (ti, te int, err error) {
+	if ti, err = resolve("time", p.opt.TimeColumn, names, header); err != nil {
+		return 0, 0, err
+	}
+	if te, err = resolve("temp", p.opt.TempColumn, names, header); err != nil {
+		return 0, 0, err
+	}
+	return ti, te, nil
 }
 
 // firstOther is the first column index that is not i.
@@ -258,11 +267,7 @@ func (p *parser) header(fields []field, width int) error {
 			return fmt.Errorf("column %d of the header has no name", i+1)
 		}
 	}
-	ti, err := resolve("time", p.opt.TimeColumn, names, true)
-	if err != nil {
-		return err
-	}
-	te, err := resolve("temp", p.opt.TempColumn, names, true)
+	ti, te, err := p.named(names, true)
 	if err != nil {
 		return err
 	}
