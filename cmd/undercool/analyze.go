@@ -28,7 +28,8 @@ func init() {
 	})
 }
 
-const analyzeUsage = `usage: undercool analyze [--json] [--alloy NAME] [--limits FILE] FILE...
+const analyzeUsage = `usage: undercool analyze [--json] [--alloy NAME] [--limits FILE]
+        [--time-column C] [--temp-column C] [--time-unit U] [--temp-unit U] FILE...
 
 Reads each curve file, finds the characteristic points of its cooling curve
 and judges them against the alloy's limits. The alloy comes from --alloy,
@@ -42,6 +43,8 @@ $UNDERCOOL_DB, else the user's data directory): a new sample, or for a
 curve file already stored a new result beside the earlier ones.
 Exit status 1 when some file could not be read (the others are still
 analysed); the reasons go to stderr, naming file and line.
+
+` + columnsUsage + `
 
 The verdict and advice assist the shop's own written procedures and its
 metallurgist; they do not replace them.`
@@ -62,26 +65,30 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 	limitsPath := fs.String("limits", "", "limits file (default: the shipped examples)")
 	storeIt := fs.Bool("store", false, "also store each analysis in the records database (earlier results are kept)")
 	dbPath := fs.String("db", "", "records database for --store: a file, or the plant database's postgres:// connection string (default $UNDERCOOL_DB or the user's data directory)")
+	columns := columnFlags(fs)
 	files, err := parseLimitsArgs(fs, args)
 	if err != nil {
 		return errUsage
+	}
+	if err := checkColumns(env, "analyze", columns); err != nil {
+		return err
 	}
 	if len(files) == 0 {
 		fmt.Fprintln(env.stderr, analyzeUsage)
 		return errUsage
 	}
 	// "-" is a curve read from standard input (once, before the workers).
-	read := curvefile.ReadFile
+	read := columns.ReadFile
 	if slices.Contains(files, "-") {
 		if *storeIt {
 			return errors.New("--store needs curve files: standard input (-) has no file to keep and verify")
 		}
-		c, err := curvefile.Read(env.stdin, "-")
+		c, err := columns.Read(env.stdin, "-")
 		read = func(path string) (*curvefile.Curve, error) {
 			if path == "-" {
 				return c, err
 			}
-			return curvefile.ReadFile(path)
+			return columns.ReadFile(path)
 		}
 	}
 	var book *limits.Book // nil: assess uses the shipped examples
@@ -101,6 +108,7 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 		if records, err = openAnalyzeStore(ctx, env, *dbPath); err != nil {
 			return err
 		}
+		records.read = columns.ReadFile
 	}
 	defer records.finish(env)
 
@@ -183,6 +191,7 @@ func analyzeOne(i int, path, alloy string, book *limits.Book, read func(string) 
 		File: path, Alloy: alloy, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped,
 		Limits: book, Meta: c.Meta,
 	})
+	rec.Warnings = append(rec.Warnings, c.Notes...) // what reading the file took (swapped columns, padding)
 	return analyzed{index: i, rec: rec}
 }
 

@@ -25,6 +25,7 @@ func init() {
 }
 
 const reportUsage = `usage: undercool report SAMPLE --out FILE.png|FILE.svg [--db PATH|postgres://…] [--alloy A] [--limits FILE]
+        [--time-column C] [--temp-column C] [--time-unit U] [--temp-unit U]
 
 Draws the page for a ladle's quality record: the cooling curve with its
 characteristic points, its derivative dT/dt, the results, the verdict with
@@ -36,6 +37,8 @@ the stored results are drawn, over the curve file as it is now; a changed
 curve file is noted on the page), or a curve file's path (analysed now,
 with --alloy and --limits as for 'undercool analyze'; write ./42 for a
 file named 42).
+
+` + columnsUsage + `
 `
 
 func runReport(ctx context.Context, env *environ, args []string) error {
@@ -46,12 +49,16 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 	dbPath := fs.String("db", "", dbFlagHelp)
 	alloy := fs.String("alloy", "", "alloy of a curve file (overrides its '# alloy:')")
 	limitsPath := fs.String("limits", "", "limits `FILE` for a curve file (default: the shipped examples)")
+	columns := columnFlags(fs)
 	pos, err := parseLimitsArgs(fs, args) // flags before or after SAMPLE
 	if err != nil {
 		if err == flag.ErrHelp {
 			return nil
 		}
 		return errUsage
+	}
+	if err := checkColumns(env, "report", columns); err != nil {
+		return err
 	}
 	if len(pos) != 1 || *out == "" {
 		fmt.Fprint(env.stderr, reportUsage)
@@ -63,7 +70,7 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 		info report.Info
 	)
 	if id, err := strconv.ParseInt(pos[0], 10, 64); err == nil && id > 0 {
-		c, rec, info, err = reportStored(ctx, env, *dbPath, id)
+		c, rec, info, err = reportStored(ctx, env, *dbPath, id, columns)
 		if err != nil {
 			return err
 		}
@@ -74,7 +81,7 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 				return err
 			}
 		}
-		if c, err = curvefile.ReadFile(pos[0]); err != nil {
+		if c, err = columns.ReadFile(pos[0]); err != nil {
 			return err
 		}
 		a := *alloy
@@ -82,6 +89,7 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 			a = c.Get("alloy")
 		}
 		rec = assess.Assess(assess.Input{File: pos[0], Alloy: a, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped, Limits: book, Meta: c.Meta})
+		rec.Warnings = append(rec.Warnings, c.Notes...) // what reading the file took (swapped columns, padding)
 		s := sampleFromCurve(pos[0], c, rec)
 		if s.CurveSHA256, err = store.HashFile(pos[0]); err != nil {
 			return err
@@ -101,7 +109,7 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 
 // reportStored loads a stored sample and its curve file; a curve file that
 // changed since it was stored is drawn as it is now, with a note.
-func reportStored(ctx context.Context, env *environ, dbPath string, id int64) (*curvefile.Curve, assess.Record, report.Info, error) {
+func reportStored(ctx context.Context, env *environ, dbPath string, id int64, columns *curvefile.Options) (*curvefile.Curve, assess.Record, report.Info, error) {
 	db, err := readRecords(ctx, env, dbPath)
 	if err != nil {
 		return nil, assess.Record{}, report.Info{}, err
@@ -116,7 +124,7 @@ func reportStored(ctx context.Context, env *environ, dbPath string, id int64) (*
 	if s.CurvePath == "" {
 		return nil, s.Record, info, fmt.Errorf("sample %d has no curve file to draw", id)
 	}
-	c, err := curvefile.ReadFile(s.CurvePath)
+	c, err := columns.ReadFile(s.CurvePath)
 	if err != nil {
 		return nil, s.Record, info, fmt.Errorf("sample %d: %w", id, err)
 	}
@@ -141,6 +149,7 @@ func reportStored(ctx context.Context, env *environ, dbPath string, id int64) (*
 // stored result is the same.
 type analyzeStore struct {
 	db     *store.DB
+	read   func(string) (*curvefile.Curve, error) // reads the curve files as analyze did
 	counts map[store.PutOutcome]int
 	failed int
 }
@@ -150,7 +159,7 @@ func openAnalyzeStore(ctx context.Context, env *environ, dbPath string) (*analyz
 	if err != nil {
 		return nil, err
 	}
-	return &analyzeStore{db: db, counts: map[store.PutOutcome]int{}}, nil
+	return &analyzeStore{db: db, read: curvefile.ReadFile, counts: map[store.PutOutcome]int{}}, nil
 }
 
 // add stores one analysed file; a failure is reported and counted, and
@@ -163,7 +172,7 @@ func (a *analyzeStore) add(ctx context.Context, env *environ, path string, rec a
 }
 
 func (a *analyzeStore) put(ctx context.Context, path string, rec assess.Record) error {
-	c, err := curvefile.ReadFile(path) // for the metadata; the analysis is rec
+	c, err := a.read(path) // for the metadata; the analysis is rec
 	if err != nil {
 		return err
 	}
