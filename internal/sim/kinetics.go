@@ -211,6 +211,7 @@ func (p Params) model() cup {
 	// makes it ten times larger (fitted).
 	m.kSolid = 2 * math.Pi * mat.k * d / math.Ln2
 	m.kLiquid = 10 * m.kSolid
+	p.adjust(&m)
 	return m
 }
 

@@ -199,6 +199,9 @@ func (p Params) meta() []curvefile.Meta {
 	add("sim_quant_c", g(p.Logger.QuantC))
 	add("sim_mains_c", g(p.Logger.MainsC))
 	add("sim_fault", string(p.Fault))
+	for _, a := range p.additionMeta() {
+		add("sim_addition", a)
+	}
 	return md
 }
 
