@@ -109,6 +109,7 @@ func Parse(data []byte, name string) (*Book, error) {
 		}
 		a.Name = n
 	}
+	b.nameInoculants()
 	if err := b.validate(data, name); err != nil {
 		return nil, err
 	}

@@ -159,6 +159,7 @@ func Encode(b *Book) []byte {
 			fields(&w, base+".metric."+quoteKey(m), reflect.ValueOf(a.Metrics[m]).Elem())
 		}
 	}
+	encodeInoculants(&w, b)
 	return w.Bytes()
 }
 
