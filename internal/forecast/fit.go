@@ -101,7 +101,7 @@ var ErrFit = errors.New("the cup model could not be fitted")
 // (correlated misfit carries less information than white noise). See
 // docs/advice.md.
 func Fit(ctx context.Context, s Sample, law Law) (*Fitted, error) {
-	pb, err := newProblem(s, law)
+	pb, err := newProblem(s, law, true)
 	if err != nil {
 		return nil, err
 	}
@@ -154,7 +154,10 @@ func ModelAlloy(family arrest.Family, name string) string {
 	return ""
 }
 
-func newProblem(s Sample, law Law) (*problem, error) {
+// newProblem sets up the fit of the sample; with needRec the arrest the law
+// shapes must recalesce (a fit of the law from one curve needs it; a refit
+// after an addition, with the melt's other parameters known, does not).
+func newProblem(s Sample, law Law, needRec bool) (*problem, error) {
 	base, err := sim.Preset(s.Alloy, 0, 1)
 	if err != nil {
 		return nil, fmt.Errorf("forecast: %w", err)
@@ -169,15 +172,21 @@ func newProblem(s Sample, law Law) (*problem, error) {
 	var end, arr float64 // end of the window and start of the arrest, curve clock
 	switch law {
 	case LawEutectic:
-		if !pts.EutecticMin.OK || !pts.EutecticMax.OK || !pts.RecalescenceOK || pts.Recalescence <= 0 {
+		if !pts.EutecticMin.OK || !pts.EutecticMax.OK {
+			return nil, fmt.Errorf("%w: no eutectic arrest", ErrFit)
+		}
+		if needRec && (!pts.RecalescenceOK || pts.Recalescence <= 0) {
 			return nil, fmt.Errorf("%w: the eutectic shows no recalescence to fit the nucleation law to", ErrFit)
 		}
 		end, arr = pts.EutecticMax.TimeS+20, pts.EutecticMin.TimeS-10
 	case LawPrimary:
-		if !pts.LiquidusMin.OK || !pts.Liquidus.OK || pts.LiquidusRecalescence <= 0 {
+		if !pts.Liquidus.OK {
+			return nil, fmt.Errorf("%w: no primary (liquidus) arrest", ErrFit)
+		}
+		if needRec && (!pts.LiquidusMin.OK || pts.LiquidusRecalescence <= 0) {
 			return nil, fmt.Errorf("%w: the primary arrest shows no recalescence to fit the nucleation law to", ErrFit)
 		}
-		end, arr = pts.Liquidus.TimeS+20, pts.LiquidusMin.TimeS-10
+		end, arr = pts.Liquidus.TimeS+20, pts.Liquidus.TimeS-15
 	default:
 		return nil, fmt.Errorf("forecast: unknown law %q", law)
 	}

@@ -16,17 +16,17 @@ import (
 // Treatment is one of the shop's additions as the model applies it (from an
 // inoculant table of the limits file; see limits.Inoculant).
 type Treatment struct {
-	Name   string
-	Effect sim.Effect
+	Name   string     `json:"name"`
+	Effect sim.Effect `json:"effect"`
 	// Gain per 0.01 % added, fresh: the factor on the nucleation constant
 	// A, or the °C the eutectic is lowered (a modifier).
-	Gain float64
+	Gain float64 `json:"gain_per_0_01_pct"`
 	// GainU is the standard uncertainty of Gain (from the shop's own
 	// calibration); 0 takes Gain as exact.
-	GainU       float64
-	HalfLifeMin float64 // the effect halves in this many minutes
-	HalfLifeU   float64 // its standard uncertainty, min (0: exact)
-	MaxPct      float64 // the largest addition the shop allows, %
+	GainU       float64 `json:"gain_u"`
+	HalfLifeMin float64 `json:"fade_half_life_min"`   // the effect halves in this many minutes
+	HalfLifeU   float64 `json:"fade_half_life_u_min"` // its standard uncertainty, min (0: exact)
+	MaxPct      float64 `json:"max_addition_pct"`     // the largest addition the shop allows, %
 }
 
 // Law is the nucleation law the treatment acts on.

@@ -155,16 +155,21 @@ func (b *Book) validateInoculants(add func(key, format string, args ...any)) {
 // encodeInoculants writes the [inoculant.NAME] tables (Encode calls it).
 func encodeInoculants(w *bytes.Buffer, b *Book) {
 	for _, n := range b.inoculantNames() {
-		in := b.InoculantTables[n]
-		base := "inoculant." + quoteKey(n)
-		fmt.Fprintf(w, "\n[%s]\n", base)
-		fields(w, base, reflect.ValueOf(in).Elem())
-		if len(in.Alloys) > 0 {
-			q := make([]string, len(in.Alloys))
-			for i, a := range in.Alloys {
-				q[i] = quote(a)
-			}
-			fmt.Fprintf(w, "alloys = [%s]\n", strings.Join(q, ", "))
+		EncodeInoculant(w, b.InoculantTables[n])
+	}
+}
+
+// EncodeInoculant writes one [inoculant.NAME] table (for `undercool
+// calibrate --inoculants`).
+func EncodeInoculant(w *bytes.Buffer, in *Inoculant) {
+	base := "inoculant." + quoteKey(in.Name)
+	fmt.Fprintf(w, "\n[%s]\n", base)
+	fields(w, base, reflect.ValueOf(in).Elem())
+	if len(in.Alloys) > 0 {
+		q := make([]string, len(in.Alloys))
+		for i, a := range in.Alloys {
+			q[i] = quote(a)
 		}
+		fmt.Fprintf(w, "alloys = [%s]\n", strings.Join(q, ", "))
 	}
 }
