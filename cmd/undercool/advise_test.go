@@ -108,3 +108,23 @@ func TestAnalyzeAdviseText(t *testing.T) {
 		t.Errorf("an addition above the largest allowed:\n%s", out)
 	}
 }
+
+// report --advise draws the estimate on the page.
+func TestReportAdvise(t *testing.T) {
+	dir := t.TempDir()
+	poor := poorCup(t, dir, "L-2417-cup1.csv", 4)
+	page := filepath.Join(dir, "page.svg")
+	code, _, errs := filesRun(t, "report", poor, "--out", page, "--advise")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	data, err := os.ReadFile(page)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"Estimate", "model estimate: +", "Model estimate, not a measurement"} {
+		if !bytes.Contains(data, []byte(want)) {
+			t.Errorf("the page lacks %q", want)
+		}
+	}
+}

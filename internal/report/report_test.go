@@ -85,11 +85,26 @@ func TestWriteSVG(t *testing.T) {
 	if err := Write(path, c, rec, demoInfo); err != nil {
 		t.Fatal(err)
 	}
+	all := svgText(t, path)
+	for _, want := range []string{
+		"Thermal analysis record — sample L-2417 cup 1", "ladle L-2417", "furnace IF-2", "operator Pell Brasswick",
+		"2026-12-01 06:15 UTC", "Cooling curve", "dT/dt", "eutectic min", "end of freezing",
+		"Verdict: " + strings.ToUpper(rec.Verdict), Caution, "simulated cup for the report test", "record #42",
+	} {
+		if !strings.Contains(all, want) {
+			t.Errorf("SVG text lacks %q", want)
+		}
+	}
+}
+
+// svgText checks that the SVG page is well-formed XML (encoding/xml reads
+// every token) with an svg root and returns its text, a line per element.
+func svgText(t *testing.T, path string) string {
+	t.Helper()
 	data, err := os.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)
 	}
-	// well-formed XML (encoding/xml reads every token) with an svg root
 	dec := xml.NewDecoder(bytes.NewReader(data))
 	var texts strings.Builder
 	root := ""
@@ -114,16 +129,7 @@ func TestWriteSVG(t *testing.T) {
 	if root != "svg" {
 		t.Fatalf("root element %q, want svg", root)
 	}
-	all := texts.String()
-	for _, want := range []string{
-		"Thermal analysis record — sample L-2417 cup 1", "ladle L-2417", "furnace IF-2", "operator Pell Brasswick",
-		"2026-12-01 06:15 UTC", "Cooling curve", "dT/dt", "eutectic min", "end of freezing",
-		"Verdict: " + strings.ToUpper(rec.Verdict), Caution, "simulated cup for the report test", "record #42",
-	} {
-		if !strings.Contains(all, want) {
-			t.Errorf("SVG text lacks %q", want)
-		}
-	}
+	return texts.String()
 }
 
 func TestWriteErrors(t *testing.T) {
