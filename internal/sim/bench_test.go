@@ -15,3 +15,24 @@ func BenchmarkSimulate300s10Hz(b *testing.B) {
 		Simulate(p)
 	}
 }
+
+// BenchmarkSimulateRadial300s10Hz is the same cup as a radial cup, default
+// (8 zones) and strong-gradient (12 zones).
+func BenchmarkSimulateRadial300s10Hz(b *testing.B) {
+	for _, c := range []struct {
+		name string
+		r    Radial
+	}{{"default", Radial{}}, {"strong", StrongGradient(GreyIron)}} {
+		p, err := Preset(GreyIron, 0.5, 1)
+		if err != nil {
+			b.Fatal(err)
+		}
+		p.DurationS, p.Logger.RateHz = 300, 10
+		p.Cup, p.Radial = CupRadial, c.r
+		b.Run(c.name, func(b *testing.B) {
+			for b.Loop() {
+				Simulate(p)
+			}
+		})
+	}
+}

@@ -51,6 +51,12 @@ type cup struct {
 
 	kSolid, kLiquid float64 // core–shell conductance through solid and liquid, W/K
 
+	front      bool       // radial cup: the solid grows from the wall as a front (pure metals)
+	mat        material   // the alloy's properties
+	radial     *radialCup // the radial cup's parameters; nil: the lumped cup
+	rings      *rings     // the radial cup's geometry, once integrated
+	radialLast []lump     // the radial cup's zones at the end of the run
+
 	last state // the state at the end of the run
 }
 
@@ -66,6 +72,21 @@ func (m *cup) fraction(t float64) float64 {
 		return (cl - m.c0) / ((1 - m.partition) * cl)
 	}
 	return 1 - math.Pow(cl/m.c0, 1/(m.partition-1))
+}
+
+// dfraction is d(fraction)/dT, K⁻¹ (0 above the liquidus): lever rule
+// −C0/((1 − k)·Cl²·s), Scheil e·(Cl/C0)^(e−1)/(C0·s) with e = 1/(k − 1),
+// s the liquidus slope.
+func (m *cup) dfraction(t float64) float64 {
+	if t >= m.liquidus {
+		return 0
+	}
+	cl := (m.lineTm - t) / m.lineSlope
+	if m.lever {
+		return -m.c0 / ((1 - m.partition) * cl * cl * m.lineSlope)
+	}
+	e := 1 / (m.partition - 1)
+	return e * math.Pow(cl/m.c0, e-1) / (m.c0 * m.lineSlope)
 }
 
 // wallS is the time constant of the cold cup wall's extra heat uptake after
@@ -168,14 +189,15 @@ type state struct {
 	core     lump    // the centre of the cup, where the thermocouple sits
 	shell    lump    // the rest, next to the cup wall
 	tc       float64 // thermocouple junction, °C
+	wallTC   float64 // radial cup: the wall thermocouple's junction, °C
 	fs       float64 // solid fraction of the whole cup
 	released float64 // latent heat released, J
 	lost     float64 // heat lost through the cup wall, J
 	primMax  float64 // largest primary undercooling reached, K
 	eutMax   float64 // largest eutectic undercooling reached, K
 	wall     float64 // exp(−t/25 s), the cup wall's soaking term
-	primOn   float64 // time the first primary nucleus appeared in either lump, s (−1 before)
-	eutOn    float64 // time the first eutectic nucleus appeared in either lump, s (−1 before)
+	primOn   float64 // time the first primary nucleus appeared in either lump (radial cup: in the centre zone), s (−1 before)
+	eutOn    float64 // time the first eutectic nucleus appeared in either lump (radial cup: in the centre zone), s (−1 before)
 	endT     float64 // time fs of the whole cup reached 0.9999, s (−1 before)
 }
 

@@ -14,10 +14,16 @@ const (
 	WhiteIron   = "white-iron" // cast iron in a tellurium cup
 	PureAl      = "pure-al"    // fixed-point check cup
 	PureZn      = "pure-zn"    // fixed-point check cup
+	PureSn      = "pure-sn"    // fixed-point check cup
+	PureAg      = "pure-ag"    // fixed-point check cup
+	PureCu      = "pure-cu"    // fixed-point check cup
 )
 
-// Alloys lists the alloy names in a stable order.
-var Alloys = []string{GreyIron, DuctileIron, AlSi7Mg, WhiteIron, PureAl, PureZn}
+// Alloys lists the alloy names in a stable order (the check cups last).
+var Alloys = []string{GreyIron, DuctileIron, AlSi7Mg, WhiteIron, PureAl, PureZn, PureSn, PureAg, PureCu}
+
+// CheckCups lists the pure-metal fixed-point cups, coldest first.
+var CheckCups = []string{PureSn, PureZn, PureAl, PureAg, PureCu}
 
 // Fault is a bad sample the simulator can make on purpose.
 type Fault string
@@ -48,7 +54,7 @@ type Logger struct {
 	// within ±0.05 Hz (grids hold 50 Hz within ±0.2 Hz, practice). Sampled
 	// at RateHz it aliases to a slow wave.
 	MainsHz float64
-	LagS    float64 // thermocouple time constant τ, s (0: 0.5 s; field notes §6: 0.3–1 s)
+	LagS    float64 // thermocouple time constant τ, s (0: 0.5 s; 0.3–1 s is usual, memory)
 }
 
 // Params are the inputs of one simulated cup, in terms a metallurgist uses.
@@ -57,7 +63,7 @@ type Params struct {
 	Alloy string // one of Alloys
 
 	// Chemistry, wt %. Iron: C, Si, P; when C is 0 and CE is set, C is
-	// derived from CE = C + (Si + P)/3 (Stefanescu 2021, field notes §2).
+	// derived from CE = C + (Si + P)/3 (Stefanescu, Int. J. Metalcasting 2021).
 	// Al-Si7Mg: Si (7 by default), Mg (0.35) and Fe (0.12).
 	C, Si, P float64
 	Mg, Fe   float64
@@ -65,7 +71,13 @@ type Params struct {
 
 	PourC     float64 // melt temperature in the full cup, °C
 	AmbientC  float64 // room temperature, °C (0: 25 °C)
-	CupMassKg float64 // metal in the cup, kg (iron ≈0.3–0.45, Al ≈0.1–0.3, field notes §1)
+	CupMassKg float64 // metal in the cup, kg (iron ≈0.3–0.45, Al ≈0.1–0.3 (practice)); the cup is a cylinder as high as wide
+
+	// Cup is the cup model: CupLumped (the zero value, two lumps) or
+	// CupRadial (concentric zones with conduction between them, the wall
+	// freezing first); Radial holds the radial cup's own parameters.
+	Cup    CupKind
+	Radial Radial
 
 	// Inoculation is the inoculation level of iron or the grain-refiner
 	// level of Al-Si, 0 (none) to 1 (strong, fresh). It sets the nucleation
@@ -107,9 +119,13 @@ const (
 	sigmaSB = 5.670374419e-8 // Stefan–Boltzmann constant, W m⁻² K⁻⁴ (CODATA 2018)
 	kelvin  = 273.15
 
-	// ITS-90 freezing points (Preston-Thomas, Metrologia 27 (1990) 3).
-	FreezeAlC = 660.323
+	// ITS-90 freezing points (Preston-Thomas, Metrologia 27 (1990) 3,
+	// Table 1).
+	FreezeSnC = 231.928
 	FreezeZnC = 419.527
+	FreezeAlC = 660.323
+	FreezeAgC = 961.78
+	FreezeCuC = 1084.62
 
 	// Al-Si eutectic, 577 °C at 12.6 wt % Si (Murray & McAlister, Bull.
 	// Alloy Phase Diagrams 5 (1984) 74).
@@ -121,8 +137,8 @@ const (
 	alSiPartition = 0.13
 
 	// ModificationMaxC is the eutectic growth-temperature depression of a
-	// fully modified Al-Si alloy; published range ≈4–8 °C (memory, field
-	// notes §3); the nucleation poisoning adds a little more undercooling.
+	// fully modified Al-Si alloy; published range ≈4–8 °C (memory); the
+	// nucleation poisoning adds a little more undercooling.
 	ModificationMaxC = 5.0
 
 	// Liquidus of hypoeutectic iron, TL = 1669 − 124·CEL with
@@ -138,11 +154,11 @@ const (
 
 // StableEutecticC is the graphite eutectic temperature,
 // Tst ≈ 1153 + 5.25·Si − 14.88·P (°C, wt %) (Fe-C-Si literature, memory,
-// unverified; field notes §2).
+// unverified).
 func StableEutecticC(si, p float64) float64 { return 1153 + 5.25*si - 14.88*p }
 
 // MetastableEutecticC is the cementite eutectic temperature,
-// Tmst ≈ 1148 − 15·Si (memory, unverified; field notes §2).
+// Tmst ≈ 1148 − 15·Si (memory, unverified).
 func MetastableEutecticC(si float64) float64 { return 1148 - 15*si }
 
 // IronLiquidusC is TL = 1669 − 124·CEL, CEL = C + Si/4 + P/2 (Heine)
@@ -158,6 +174,9 @@ func AlSiLiquidusC(si float64) float64 { return alSiLiquidusIntercept - alSiLiqu
 // CarbonEquivalent is CE = C + (Si + P)/3 (Stefanescu, Int. J.
 // Metalcasting 2021).
 func CarbonEquivalent(c, si, p float64) float64 { return c + (si+p)/3 }
+
+// isPure reports whether the alloy is a pure-metal check cup.
+func isPure(alloy string) bool { return strings.HasPrefix(alloy, "pure-") }
 
 // isIron reports whether the alloy is a cast iron.
 func isIron(alloy string) bool {
@@ -188,6 +207,12 @@ func Preset(alloy string, inoculation float64, seed uint64) (Params, error) {
 		p.PourC, p.CupMassKg = 720, 0.15
 	case PureZn:
 		p.PourC, p.CupMassKg = 470, 0.35
+	case PureSn:
+		p.PourC, p.CupMassKg = 270, 0.35
+	case PureAg:
+		p.PourC, p.CupMassKg = 1010, 0.45
+	case PureCu:
+		p.PourC, p.CupMassKg = 1135, 0.4
 	default:
 		return Params{}, fmt.Errorf("sim: unknown alloy %q (known: %s)", alloy, strings.Join(Alloys, ", "))
 	}
@@ -217,6 +242,11 @@ func (p Params) Validate() error {
 		return fmt.Errorf("sim: logger noise, quantisation, mains and spike rate must be ≥ 0 (spike rate ≤ 1)")
 	case p.DurationS < 0 || p.DurationS > 3600:
 		return fmt.Errorf("sim: duration %g s is outside 0..3600 s", p.DurationS)
+	case p.Cup != CupLumped && p.Cup != CupRadial:
+		return fmt.Errorf("sim: unknown cup kind %q (known: %q, %q)", p.Cup, CupLumped, CupRadial)
+	}
+	if err := p.Radial.validate(); err != nil {
+		return err
 	}
 	if err := p.validateAdditions(); err != nil {
 		return err

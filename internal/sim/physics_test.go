@@ -18,7 +18,7 @@ func preset(t *testing.T, alloy string, inoc float64) Params {
 }
 
 // Better inoculation gives a higher eutectic minimum and less recalescence
-// (field notes §2, practice; for ductile iron Cojocaru, Riposan, Stan, J.
+// (practice; for ductile iron Cojocaru, Riposan, Stan, J.
 // Therm. Anal. Calorim. 138 (2019) 2131: inoculation raises both the lowest
 // and the highest eutectic temperature).
 func TestInoculationRaisesEutecticMinimum(t *testing.T) {
@@ -38,7 +38,7 @@ func TestInoculationRaisesEutecticMinimum(t *testing.T) {
 	}
 }
 
-// Typical readings of a standard sand cup (field notes §2, memory; the
+// Typical readings of a standard sand cup (memory; the
 // model's nucleation constants were fitted to them, so this guards the fit).
 func TestGreyIronTypicalReadings(t *testing.T) {
 	cases := []struct {
@@ -102,7 +102,7 @@ func TestHigherCELowersLiquidus(t *testing.T) {
 }
 
 // A hypereutectic iron (CE > 4.3) freezes primary graphite, which gives no
-// visible arrest: the liquidus is null (practice; design.md).
+// visible arrest: the liquidus is null (practice; docs/analysis.md).
 func TestHypereutecticHasNoLiquidus(t *testing.T) {
 	p := preset(t, GreyIron, 0.5)
 	p.C, p.CE = 0, 4.5
@@ -127,7 +127,7 @@ func TestHypereutecticHasNoLiquidus(t *testing.T) {
 }
 
 // Modification by Sr or Na lowers the Al-Si eutectic growth temperature by
-// ≈4–8 °C when complete (field notes §3, memory; McDonald, Nogita, Dahle,
+// ≈4–8 °C when complete (memory; McDonald, Nogita, Dahle,
 // Acta Mater. 52 (2004) 4273 for the mechanism).
 func TestModificationLowersAlSiEutectic(t *testing.T) {
 	var first Truth
@@ -205,7 +205,7 @@ func TestPureMetalPlateaus(t *testing.T) {
 }
 
 // A tellurium cup freezes white: a flat arrest on the metastable eutectic
-// (field notes §1, Riposan et al., Metals 10 (2020) 993, practice), well
+// (Riposan et al., Metals 10 (2020) 993, practice), well
 // below the graphite eutectic.
 func TestWhiteIronFlatMetastableArrest(t *testing.T) {
 	tr := Simulate(preset(t, WhiteIron, 0.5)).Truth
@@ -223,7 +223,7 @@ func TestWhiteIronFlatMetastableArrest(t *testing.T) {
 // The energy balance closes: the latent heat recovered from the recorded
 // temperatures of the core and the shell with the model's own heat-loss law,
 // L = c·Δ(mean T) + (1/m)·∫Q(t, T_shell) dt by the trapezoid rule (the
-// Newtonian balance, field notes §5), equals L within 1 %, and the model
+// Newtonian balance of Upadhya, Stefanescu, Lieu, Yeager, AFS Trans. 97 (1989), memory), equals L within 1 %, and the model
 // releases exactly L per kg.
 func TestEnergyBalanceCloses(t *testing.T) {
 	for _, alloy := range Alloys {

@@ -15,6 +15,13 @@ type Output struct {
 	Time  []float64 // logger clock, s
 	Temp  []float64 // logger view: lagged thermocouple with noise, spikes, mains pickup, quantisation, °C
 	Clean []float64 // noiseless logger view (lagged thermocouple), °C
+	// Wall is the radial cup's second thermocouple near the wall (at
+	// Truth.WallTCRadiusMm, through the same lag), noiseless, at the logger's
+	// times; nil for a lumped cup.
+	Wall []float64
+	// FractionSolid is the mass-averaged solid fraction of the whole cup at
+	// the logger's times (0 before the pour).
+	FractionSolid []float64
 	// Open is true where the logger saw an open thermocouple (nil when the
 	// thermocouple never opened); Temp there holds OpenReadingC.
 	Open   []bool
@@ -58,6 +65,10 @@ func Simulate(p Params) Output {
 	out.Time = make([]float64, n)
 	out.Temp = make([]float64, n)
 	out.Clean = make([]float64, n)
+	out.FractionSolid = make([]float64, n)
+	if f.wallTC != nil {
+		out.Wall = make([]float64, n)
+	}
 	rng := rand.New(rand.NewPCG(p.Seed, p.Seed^0x9e3779b97f4a7c15))
 	lg := p.Logger
 	mainsHz := lg.MainsHz
@@ -74,6 +85,12 @@ func Simulate(p Params) Output {
 			i := min(int(u), len(f.tc)-2)
 			a := u - float64(i)
 			c = f.tc[i] + a*(f.tc[i+1]-f.tc[i])
+			out.FractionSolid[k] = f.fs[i] + a*(f.fs[i+1]-f.fs[i])
+			if out.Wall != nil {
+				out.Wall[k] = f.wallTC[i] + a*(f.wallTC[i+1]-f.wallTC[i])
+			}
+		} else if out.Wall != nil {
+			out.Wall[k] = p.AmbientC
 		}
 		out.Clean[k] = c
 		v := c + lg.NoiseC*rng.NormFloat64() + lg.MainsC*math.Sin(2*math.Pi*mainsHz*t+phase)
@@ -96,7 +113,7 @@ func Simulate(p Params) Output {
 		}
 		out.Temp[k] = math.Round(v*1e4) / 1e4
 	}
-	out.Meta = p.meta()
+	out.Meta = p.meta(out.Truth)
 	return out
 }
 
@@ -130,13 +147,22 @@ func (p Params) run() (fine, cup) {
 	}
 	f := fine{offset: p.PourAtS, tc: make([]float64, 0, est), temp: make([]float64, 0, est), fs: make([]float64, 0, est), shell: make([]float64, 0, est)}
 	var last state
-	m.integrate(dur, p.FillS, p.Logger.LagS, func(s *state) {
+	record := func(s *state) {
 		f.tc = append(f.tc, s.tc)
 		f.temp = append(f.temp, s.core.temp)
 		f.shell = append(f.shell, s.shell.temp)
 		f.fs = append(f.fs, s.fs)
 		last = *s
-	})
+	}
+	if m.radial != nil {
+		f.wallTC = make([]float64, 0, est)
+		m.integrateRadial(dur, p.FillS, p.Logger.LagS, func(s *state) {
+			record(s)
+			f.wallTC = append(f.wallTC, s.wallTC)
+		})
+	} else {
+		m.integrate(dur, p.FillS, p.Logger.LagS, record)
+	}
 	f.primOn, f.eutOn, f.endT = last.primOn, last.eutOn, last.endT
 	m.last = last
 	return f, m
@@ -149,17 +175,36 @@ func (m *cup) truth(f fine, n int) Truth {
 		tr.EquilibriumLiquidusC = m.liquidus
 	}
 	tr.FinalFractionSolid = m.last.fs
+	tr.LatentHeatJPerKg, tr.SpecificHeatJPerKgK = m.latent, m.c
+	tr.Cup = CupLumped
+	tr.CupRadiusMm = 500 * math.Cbrt(4*m.mass/m.rho/math.Pi)
+	if m.rings != nil {
+		tr.Cup, tr.Zones = CupRadial, len(m.rings.mass)
+		tr.WallTCRadiusMm = 1000 * m.rings.nodeRadius(m.rings.wallTC)
+		tr.CupRadiusMm = 1000 * m.rings.radius
+	}
 	tr.LatentJPerKg = m.last.released / m.mass
 	tr.EutecticCellsPerM3 = m.last.core.eut.m0
 	if m.last.endT >= 0 {
 		tr.FreezingEndS = f.offset + m.last.endT
 	}
 	f.points(n, &tr)
+	fs := func(p Point) float64 {
+		if !p.OK {
+			return 0
+		}
+		u := (p.TimeS - f.offset) / stepS
+		i := max(0, min(int(u), len(f.fs)-2))
+		a := u - float64(i)
+		return f.fs[i] + a*(f.fs[i+1]-f.fs[i])
+	}
+	tr.FractionSolid = PointFractions{LiquidusMin: fs(tr.LiquidusMin), Liquidus: fs(tr.Liquidus), EutecticStart: fs(tr.EutecticStart),
+		EutecticMin: fs(tr.EutecticMin), EutecticMax: fs(tr.EutecticMax), Solidus: fs(tr.Solidus)}
 	return tr
 }
 
 // meta is the curve-file metadata of a simulated cup.
-func (p Params) meta() []curvefile.Meta {
+func (p Params) meta(tr Truth) []curvefile.Meta {
 	g := func(v float64) string { return strconv.FormatFloat(v, 'f', -1, 64) }
 	md := []curvefile.Meta{{Key: "alloy", Value: p.Alloy}}
 	add := func(k, v string) {
@@ -202,14 +247,35 @@ func (p Params) meta() []curvefile.Meta {
 	for _, a := range p.additionMeta() {
 		add("sim_addition", a)
 	}
+	if p.Cup == CupRadial {
+		r := p.Radial.resolve(p.material())
+		add("sim_cup", string(CupRadial))
+		add("sim_zones", strconv.Itoa(r.zones))
+		add("sim_wall_h_w_per_m2k", g(r.wallH))
+		add("sim_k_liquid_w_per_mk", g(r.kL))
+		add("sim_k_solid_w_per_mk", g(r.kS))
+		if r.wallNucl != 1 {
+			add("sim_wall_nuclei", g(r.wallNucl))
+			add("sim_chill_shell", g(r.shell))
+		}
+		add("sim_wall_tc_radius_mm", g(math.Round(tr.WallTCRadiusMm*100)/100))
+	}
 	return md
 }
 
 // Curve is the output as a curve file's content: metadata, time and
-// temperature, and a "fault" column ("open" where the thermocouple was
+// temperature, a "wall_tc_c" column with the radial cup's noiseless wall
+// thermocouple, and a "fault" column ("open" where the thermocouple was
 // open) when the thermocouple opened.
 func (o Output) Curve(name string) *curvefile.Curve {
 	c := &curvefile.Curve{Name: name, Meta: o.Meta, Time: o.Time, Temp: o.Temp}
+	if o.Wall != nil {
+		col := curvefile.Column{Name: "wall_tc_c", Values: make([]string, len(o.Wall))}
+		for i, v := range o.Wall {
+			col.Values[i] = strconv.FormatFloat(math.Round(v*1e4)/1e4, 'f', -1, 64)
+		}
+		c.Extra = append(c.Extra, col)
+	}
 	if o.Open != nil {
 		col := curvefile.Column{Name: "fault", Values: make([]string, len(o.Time))}
 		for i, open := range o.Open {

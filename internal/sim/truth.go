@@ -15,14 +15,18 @@ type Point struct {
 
 // Truth is every characteristic point read off the noiseless logger view
 // (the lagged thermocouple without noise) at the integration step, with the
-// definitions of design.md, plus what the model knows about the cup.
+// definitions of docs/analysis.md, plus what the model knows about the cup.
 type Truth struct {
 	PourPeak    Point // highest reading of the pour transient
 	LiquidusMin Point // − → + crossing of T' in a recalescing primary arrest
 	Liquidus    Point // first local maximum of T' after the pour, or the + → − crossing after LiquidusMin
-	EutecticMin Point // − → + crossing of T' in the eutectic, else its local maximum of T'
-	EutecticMax Point // the following + → − crossing, else EutecticMin
-	Solidus     Point // most negative T' after the eutectic plateau
+	// EutecticStart is the start of eutectic freezing: T at the maximum of
+	// T'' on the rise of T' into the eutectic arrest, between the last local
+	// minimum of T' before EutecticMin and EutecticMin (docs/analysis.md).
+	EutecticStart Point
+	EutecticMin   Point // − → + crossing of T' in the eutectic, else its local maximum of T'
+	EutecticMax   Point // the following + → − crossing, else EutecticMin
+	Solidus       Point // most negative T' after the eutectic plateau
 	// Recalescence is EutecticMax − EutecticMin (0 without recalescence);
 	// valid with EutecticMin.
 	Recalescence float64
@@ -36,9 +40,29 @@ type Truth struct {
 	LatentJPerKg         float64 // latent heat released per kg of metal, J/kg
 	EutecticCellsPerM3   float64 // eutectic grains (cells or nodules) per m³
 	FreezingEndS         float64 // time the model's fs reached 0.9999 (logger clock), s; 0 if never
+
+	// For heat-balance analyses (two-thermocouple and Newtonian methods):
+	// the material's latent heat L (a full freeze releases L per kg;
+	// LatentJPerKg is what this recording's cup released) and the specific
+	// heat c the model uses (one value for liquid and solid).
+	LatentHeatJPerKg    float64
+	SpecificHeatJPerKgK float64
+	Cup                 CupKind // the cup model
+	CupRadiusMm         float64 // radius of the cup's metal (a cylinder as high as wide), mm
+	Zones               int     // radial cup: zones (0: lumped)
+	WallTCRadiusMm      float64 // radial cup: radius of the wall thermocouple, mm (0: lumped, none)
+	// FractionSolid is the mass-averaged solid fraction of the whole cup at
+	// each point's time (valid where the point is).
+	FractionSolid PointFractions
 }
 
-// truthJSON is the JSON form: the keys of design.md's JSON result.
+// PointFractions are the whole cup's solid fraction at the characteristic
+// points.
+type PointFractions struct {
+	LiquidusMin, Liquidus, EutecticStart, EutecticMin, EutecticMax, Solidus float64
+}
+
+// truthJSON is the JSON form: the keys of the JSON result (docs/analysis.md).
 type truthJSON struct {
 	Simulated     bool     `json:"simulated"`
 	PourPeakC     *float64 `json:"pour_peak_c"`
@@ -47,6 +71,8 @@ type truthJSON struct {
 	LiquidusMinS  *float64 `json:"liquidus_min_s"`
 	LiquidusC     *float64 `json:"liquidus_c"`
 	LiquidusS     *float64 `json:"liquidus_s"`
+	EutStartC     *float64 `json:"eutectic_start_c"`
+	EutStartS     *float64 `json:"eutectic_start_s"`
 	EutecticMinC  *float64 `json:"eutectic_min_c"`
 	EutecticMinS  *float64 `json:"eutectic_min_s"`
 	EutecticMaxC  *float64 `json:"eutectic_max_c"`
@@ -63,6 +89,20 @@ type truthJSON struct {
 		FractionSolid float64  `json:"final_fraction_solid"`
 		LatentJPerKg  float64  `json:"latent_j_per_kg"`
 		CellsPerM3    float64  `json:"eutectic_cells_per_m3"`
+		LatentHeat    float64  `json:"latent_heat_j_per_kg"`
+		SpecificHeat  float64  `json:"specific_heat_j_per_kg_k"`
+		Cup           string   `json:"cup"`
+		CupRadiusMm   float64  `json:"cup_radius_mm"`
+		Zones         *int     `json:"zones"`
+		WallTCMm      *float64 `json:"wall_tc_radius_mm"`
+		FSAt          struct {
+			LiquidusMin   *float64 `json:"liquidus_min"`
+			Liquidus      *float64 `json:"liquidus"`
+			EutecticStart *float64 `json:"eutectic_start"`
+			EutecticMin   *float64 `json:"eutectic_min"`
+			EutecticMax   *float64 `json:"eutectic_max"`
+			Solidus       *float64 `json:"solidus"`
+		} `json:"fraction_solid_at"`
 	} `json:"model"`
 }
 
@@ -74,7 +114,7 @@ func ptr(v float64, ok bool) *float64 {
 	return &r
 }
 
-// MarshalJSON writes the truth with design.md's keys, null where a point
+// MarshalJSON writes the truth with the JSON result's keys, null where a point
 // does not exist, and "simulated": true.
 func (t Truth) MarshalJSON() ([]byte, error) {
 	var j truthJSON
@@ -82,6 +122,7 @@ func (t Truth) MarshalJSON() ([]byte, error) {
 	j.PourPeakC, j.PourPeakS = ptr(t.PourPeak.TempC, t.PourPeak.OK), ptr(t.PourPeak.TimeS, t.PourPeak.OK)
 	j.LiquidusMinC, j.LiquidusMinS = ptr(t.LiquidusMin.TempC, t.LiquidusMin.OK), ptr(t.LiquidusMin.TimeS, t.LiquidusMin.OK)
 	j.LiquidusC, j.LiquidusS = ptr(t.Liquidus.TempC, t.Liquidus.OK), ptr(t.Liquidus.TimeS, t.Liquidus.OK)
+	j.EutStartC, j.EutStartS = ptr(t.EutecticStart.TempC, t.EutecticStart.OK), ptr(t.EutecticStart.TimeS, t.EutecticStart.OK)
 	j.EutecticMinC, j.EutecticMinS = ptr(t.EutecticMin.TempC, t.EutecticMin.OK), ptr(t.EutecticMin.TimeS, t.EutecticMin.OK)
 	j.EutecticMaxC, j.EutecticMaxS = ptr(t.EutecticMax.TempC, t.EutecticMax.OK), ptr(t.EutecticMax.TimeS, t.EutecticMax.OK)
 	j.RecalescenceC = ptr(t.Recalescence, t.EutecticMin.OK && t.EutecticMax.OK)
@@ -93,12 +134,35 @@ func (t Truth) MarshalJSON() ([]byte, error) {
 	j.Model.FractionSolid = math.Round(t.FinalFractionSolid*1e6) / 1e6
 	j.Model.LatentJPerKg = math.Round(t.LatentJPerKg)
 	j.Model.CellsPerM3 = float64(float32(t.EutecticCellsPerM3))
+	j.Model.LatentHeat = t.LatentHeatJPerKg
+	j.Model.SpecificHeat = t.SpecificHeatJPerKgK
+	j.Model.Cup = string(t.Cup)
+	if t.Cup == CupLumped {
+		j.Model.Cup = "lumped"
+	}
+	j.Model.CupRadiusMm = math.Round(t.CupRadiusMm*1e4) / 1e4
+	if t.Zones > 0 {
+		j.Model.Zones = &t.Zones
+		j.Model.WallTCMm = ptr(t.WallTCRadiusMm, true)
+	}
+	fsAt := func(v float64, p Point) *float64 {
+		if !p.OK {
+			return nil
+		}
+		r := math.Round(v*1e6) / 1e6
+		return &r
+	}
+	fa, fs := &j.Model.FSAt, t.FractionSolid
+	fa.LiquidusMin, fa.Liquidus = fsAt(fs.LiquidusMin, t.LiquidusMin), fsAt(fs.Liquidus, t.Liquidus)
+	fa.EutecticStart, fa.EutecticMin = fsAt(fs.EutecticStart, t.EutecticStart), fsAt(fs.EutecticMin, t.EutecticMin)
+	fa.EutecticMax, fa.Solidus = fsAt(fs.EutecticMax, t.EutecticMax), fsAt(fs.Solidus, t.Solidus)
 	return json.MarshalIndent(j, "", "  ")
 }
 
 // fine is the model's record at the integration step.
 type fine struct {
 	tc     []float64 // thermocouple junction (noiseless logger view), °C
+	wallTC []float64 // radial cup: the wall thermocouple's junction, °C (nil: lumped cup)
 	temp   []float64 // metal at the core, °C
 	shell  []float64 // metal in the shell, °C
 	fs     []float64 // solid fraction
@@ -107,6 +171,10 @@ type fine struct {
 	eutOn  float64   // model time of the first eutectic nucleus, s (−1: none)
 	endT   float64   // model time fs reached 0.9999, s (−1: never)
 }
+
+// recalMinC is the smallest rise of T while T' is above zero that counts
+// as a recalescence, °C (docs/analysis.md).
+const recalMinC = 0.05
 
 // crossing returns the point where d crosses zero between i−1 and i,
 // interpolated linearly.
@@ -119,8 +187,29 @@ func (f *fine) at(i int) Point {
 	return Point{TempC: f.tc[i], TimeS: f.offset + float64(i)*stepS, OK: true}
 }
 
+// eutecticStart is the start of eutectic freezing: T at the largest
+// T” = (x[i+1] − 2x[i] + x[i−1])/Δt² between the last local minimum of T'
+// before index e (the eutectic minimum) and e, searched no further back than
+// index from.
+func (f *fine) eutecticStart(d []float64, from, e int) Point {
+	lo := e - 1
+	for lo > from && !(d[lo] < d[lo-1] && d[lo] <= d[lo+1]) {
+		lo--
+	}
+	best, bi := math.Inf(-1), -1
+	for i := max(lo, 1); i <= e && i+1 < len(f.tc); i++ {
+		if v := f.tc[i+1] - 2*f.tc[i] + f.tc[i-1]; v > best {
+			best, bi = v, i
+		}
+	}
+	if bi < 0 {
+		return Point{}
+	}
+	return f.at(bi)
+}
+
 // points reads the characteristic points off f.tc[:n] (n is where the
-// recording stops) with the definitions of design.md.
+// recording stops) with the definitions of docs/analysis.md.
 func (f *fine) points(n int, tr *Truth) {
 	if n < 5 {
 		return
@@ -189,18 +278,34 @@ func (f *fine) points(n int, tr *Truth) {
 		return
 	}
 	start := max(after, idx(f.eutOn))
-	plateauEnd := -1
-	if i := upCross(start, n); i > 0 && i < n-1 {
-		if k := downCross(i+1, n); k > 0 {
+	plateauEnd, eutMin := -1, -1
+	// the eutectic recalesces where T' crosses − → + and T then rises by at
+	// least recalMinC before T' falls again; a smaller excursion is an
+	// arrest at zero, and the search goes on after it
+	i := upCross(start, n)
+	for i > 0 && i < n-1 {
+		k := downCross(i+1, n)
+		if k < 0 {
+			break // still recalescing where the recording ends
+		}
+		if f.tc[k]-f.tc[i] >= recalMinC {
 			tr.EutecticMin = f.crossing(d, i)
 			tr.EutecticMax = f.crossing(d, k)
 			tr.Recalescence = tr.EutecticMax.TempC - tr.EutecticMin.TempC
-			plateauEnd = k
+			plateauEnd, eutMin = k, i-1 // the last step before the crossing
+			break
 		}
-	} else if j := localMax(start, n); j > 0 {
-		tr.EutecticMin = f.at(j)
-		tr.EutecticMax = tr.EutecticMin
-		plateauEnd = j
+		i = upCross(k+1, n)
+	}
+	if i < 0 {
+		if j := localMax(start, n); j > 0 {
+			tr.EutecticMin = f.at(j)
+			tr.EutecticMax = tr.EutecticMin
+			plateauEnd, eutMin = j, j
+		}
+	}
+	if eutMin > 0 {
+		tr.EutecticStart = f.eutecticStart(d, after, eutMin)
 	}
 	// The end of freezing must lie inside the recording.
 	if plateauEnd < 0 || f.endT < 0 || idx(f.endT) >= n-1 {
