@@ -35,6 +35,15 @@ type Kinetics struct {
 	// LiquidusC is the equilibrium liquidus of the primary phase, °C (0: the
 	// one of the chemistry). It moves the alloy along its liquidus line.
 	LiquidusC float64
+	// Conductance multiplies the lumped cup's core–shell conductance, solid
+	// and liquid alike (0: 1): below 1 the centre lags the wall more, as
+	// in a cup with a stronger gradient.
+	Conductance float64
+	// StepS is the integration step, s (0: the simulator's own 5 ms; at
+	// most 50 ms). Iron and Al-Si cups, whose kinetics are slow, give the
+	// same points to about 0.02 °C at 20 ms, four times faster; pure metals
+	// need the 5 ms.
+	StepS float64
 }
 
 func (k Kinetics) validate() error {
@@ -59,6 +68,12 @@ func (k Kinetics) validate() error {
 	}
 	if err := errors.Join(positive("h", k.H), positive("τ", k.LagS)); err != nil {
 		return err
+	}
+	if !(k.StepS >= 0 && k.StepS <= maxStepS) {
+		return fmt.Errorf("sim: kinetics step %g s is outside 0..%g s", k.StepS, maxStepS)
+	}
+	if k.Conductance < 0 || k.Conductance > 1e3 || math.IsNaN(k.Conductance) {
+		return fmt.Errorf("sim: kinetics conductance factor %g is outside 0..1000", k.Conductance)
 	}
 	if k.LagS > 30 || k.H > 5000 {
 		return fmt.Errorf("sim: kinetics τ %g s or h %g W/(m² K) out of range (τ ≤ 30 s, h ≤ 5000)", k.LagS, k.H)
@@ -86,13 +101,14 @@ func Curve(p Params, k Kinetics, times []float64) ([]float64, Truth, error) {
 	}
 	p = p.withDefaults()
 	p.Fault = FaultNone
+	p.Cup = CupLumped
 	p.Logger.LagS = k.LagS
 	p.kinetics = &k
 	last := times[len(times)-1]
 	if !(last > p.PourAtS) || math.IsInf(last, 0) {
 		return nil, Truth{}, fmt.Errorf("sim: curve: the last time %g s is not after the pour at %g s", last, p.PourAtS)
 	}
-	p.DurationS = last + stepS
+	p.DurationS = last + max(stepS, k.StepS)
 	if err := p.Validate(); err != nil {
 		return nil, Truth{}, err
 	}
@@ -110,7 +126,7 @@ func (f *fine) reading(t, ambient float64) float64 {
 	if t < f.offset {
 		return ambient
 	}
-	u := (t - f.offset) / stepS
+	u := (t - f.offset) / f.step
 	i := min(int(u), len(f.tc)-2)
 	a := u - float64(i)
 	return f.tc[i] + a*(f.tc[i+1]-f.tc[i])
@@ -196,10 +212,17 @@ func (p Params) validateAdditions() error {
 	return nil
 }
 
+// maxStepS is the coarsest integration step Kinetics may ask for, s.
+const maxStepS = 0.05
+
 // adjust applies the explicit kinetics of Curve and the additions to the
 // resolved model (the last step of model).
 func (p Params) adjust(m *cup) {
+	m.step = stepS
 	if k := p.kinetics; k != nil {
+		if k.StepS > 0 && m.radial == nil {
+			m.step = k.StepS
+		}
 		if l := k.Eutectic; l != nil {
 			m.eutecticLaw = law{A: l.A, N: l.N, Mu: l.Mu}
 		}
@@ -207,6 +230,10 @@ func (p Params) adjust(m *cup) {
 			m.primaryLaw = law{A: l.A, N: l.N, Mu: l.Mu}
 		}
 		m.h = k.H
+		if k.Conductance > 0 {
+			m.kSolid *= k.Conductance
+			m.kLiquid *= k.Conductance
+		}
 		if k.EutecticC > 0 {
 			m.eutectic = k.EutecticC
 		}

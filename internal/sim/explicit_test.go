@@ -1,6 +1,7 @@
 package sim
 
 import (
+	"fmt"
 	"math"
 	"strings"
 	"testing"
@@ -192,5 +193,58 @@ func TestCurveAndAdditionErrors(t *testing.T) {
 		if err := q.Validate(); err == nil || !strings.Contains(err.Error(), c.want) {
 			t.Errorf("%+v: error %v, want one naming %q", c.a, err, c.want)
 		}
+	}
+}
+
+// A coarser step (Kinetics.StepS) gives the same points on iron and Al-Si
+// cups, whose kinetics are slow, within 0.05 °C (their times within 1.5 s: a flat top's crossing moves), at a quarter
+// of the work.
+func TestCurveCoarseStep(t *testing.T) {
+	for _, alloy := range []string{GreyIron, DuctileIron, AlSi7Mg} {
+		p := preset(t, alloy, 0.2)
+		k := kineticsOf(t, p)
+		times := []float64{0, 300}
+		_, fineTr, err := Curve(p, k, times)
+		if err != nil {
+			t.Fatal(err)
+		}
+		k.StepS = 0.02
+		_, coarse, err := Curve(p, k, times)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, c := range []struct {
+			name string
+			a, b Point
+		}{{"liquidus", fineTr.Liquidus, coarse.Liquidus}, {"eutectic min", fineTr.EutecticMin, coarse.EutecticMin}, {"eutectic max", fineTr.EutecticMax, coarse.EutecticMax}} {
+			if c.a.OK != c.b.OK || math.Abs(c.a.TempC-c.b.TempC) > 0.05 || math.Abs(c.a.TimeS-c.b.TimeS) > 1.5 {
+				t.Errorf("%s %s: %+v at 5 ms, %+v at 20 ms", alloy, c.name, c.a, c.b)
+			}
+		}
+	}
+	k := kineticsOf(t, preset(t, GreyIron, 0.2))
+	k.StepS = 0.2
+	if _, _, err := Curve(preset(t, GreyIron, 0.2), k, []float64{0, 100}); err == nil || !strings.Contains(err.Error(), "step 0.2 s") {
+		t.Errorf("a 0.2 s step: %v", err)
+	}
+}
+
+// BenchmarkCurve is one run of the fit's model: a grey-iron cup's first
+// 150 s, at the simulator's 5 ms step and at the fit's 20 ms.
+func BenchmarkCurve(b *testing.B) {
+	p, err := Preset(GreyIron, 0.1, 1)
+	if err != nil {
+		b.Fatal(err)
+	}
+	m := p.withDefaults().model()
+	for _, step := range []float64{0, 0.02} {
+		k := Kinetics{Eutectic: &Nucleation{A: m.eutecticLaw.A, N: 2, Mu: m.eutecticLaw.Mu}, H: m.h, LagS: 0.5, StepS: step}
+		b.Run(fmt.Sprintf("step-%gms", 1000*max(step, stepS)), func(b *testing.B) {
+			for b.Loop() {
+				if _, _, err := Curve(p, k, []float64{0, 150}); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
 	}
 }
