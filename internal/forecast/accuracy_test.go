@@ -29,19 +29,26 @@ type pairCase struct {
 }
 
 // newPair draws a pair from the seeded generator. The melt: chemistry and
-// pour within the usual ranges of docs/sources.md §2–§3, inoculation or
-// refinement 0–0.4 faded over 15–40 min (a poorly treated ladle), a logger
+// pour within the usual ranges of docs/sources.md §2–§3, inoculation 0–0.4
+// faded over 15–40 min (a poorly treated ladle; a grain refiner's melt is
+// refined 0–0.2 and held 30–60 min, as the refiner fades slowly), a logger
 // of 5 or 10 Hz with 0.03–0.1 °C noise and a 0.3–0.8 s thermocouple. The
 // addition: from a twentieth of the allowed one up to the allowed one, the
-// delay 1–12 min (1–20 min for a grain refiner). cup selects the after
-// cup's model: sim.CupLumped or, held out, sim.CupRadial.
-func newPair(rng *rand.Rand, alloy string, table *limits.Inoculant, cup string, seed uint64) pairCase {
+// delay 1–12 min (1–20 min for a grain refiner). cup and radial select both
+// cups' model: sim.CupLumped or, held out, sim.CupRadial with those
+// parameters.
+func newPair(rng *rand.Rand, alloy string, table *limits.Inoculant, cup sim.CupKind, radial sim.Radial, seed uint64) pairCase {
 	u := func(lo, hi float64) float64 { return lo + (hi-lo)*rng.Float64() }
-	p, err := sim.Preset(alloy, u(0, 0.4), seed)
+	x, hold := u(0, 0.4), u(15, 40)
+	if table.Effect == limits.EffectPrimaryNuclei {
+		x, hold = u(0, 0.2), u(30, 60)
+	}
+	p, err := sim.Preset(alloy, x, seed)
 	if err != nil {
 		panic(err)
 	}
-	p.HoldMin = u(15, 40)
+	p.HoldMin = hold
+	p.Cup, p.Radial = cup, radial
 	switch alloy {
 	case sim.GreyIron:
 		p.C, p.Si, p.P, p.PourC = u(3.2, 3.5), u(1.8, 2.3), u(0.02, 0.06), u(1310, 1380)
@@ -70,15 +77,8 @@ func newPair(rng *rand.Rand, alloy string, table *limits.Inoculant, cup string, 
 	a.HoldMin += c.delay
 	a.Additions = []sim.Addition{{Effect: sim.Effect(table.Effect), Pct: c.pct, AgeMin: c.delay, Gain: table.Gain, HalfLifeMin: table.HalfLifeMin}}
 	c.after = a
-	c.label = fmt.Sprintf("%s seed %d +%.2f %% %s after %g min (%s after cup)", alloy, seed, c.pct, table.Name, c.delay, or(cup, "lumped"))
+	c.label = fmt.Sprintf("%s seed %d +%.2f %% %s after %g min", alloy, seed, c.pct, table.Name, c.delay)
 	return c
-}
-
-func or(s, d string) string {
-	if s == "" {
-		return d
-	}
-	return s
 }
 
 // outcome is one pair's prediction against the after cup's reading.
@@ -129,37 +129,68 @@ func runPair(t *testing.T, c pairCase) outcome {
 // the eutectic minimum for an iron inoculant — must lie within 1.5 °C of
 // the one the analysis reads on the second cup, and within its stated
 // expanded uncertainty, in at least 90 % of the cases; the predicted
-// verdict must agree in at least 90 %. The after cups are lumped cups (the
-// fitted model's own kind) and, held out, radial cups. The error
-// distribution is printed. UNDERCOOL_ADVICE_PAIRS=N runs N pairs per set
-// (a larger sweep by hand); the race detector and -short run a few.
+// verdict must agree in at least 90 %. For aluminium the headline is the
+// α-Al recalescence after a grain refiner (within 0.3 °C) and the eutectic
+// depression after a modifier (within 1.0 °C), tolerances of our own
+// choosing, a fraction of their pass bands' scale. The pairs are lumped
+// cups (the fitted model's own kind) and, held out, radial cups
+// (internal/sim) nearly lumped and with the default conductivities: where
+// the two-lump fit misfits a cup's arrest it must say so and predict
+// nothing, and every prediction it does make is held to the same
+// tolerances. The error distribution is printed. UNDERCOOL_ADVICE_PAIRS=N
+// runs N pairs per set (a larger sweep by hand); the race detector and
+// -short run two sets of two.
 func TestHeldOutPairs(t *testing.T) {
-	n := 12
-	if raceBuild || testing.Short() {
+	n := 6
+	quick := raceBuild || testing.Short()
+	if quick {
 		n = 2
 	}
 	if v, err := strconv.Atoi(os.Getenv("UNDERCOOL_ADVICE_PAIRS")); err == nil && v > 0 {
 		n = v
 	}
 	iron := builtin.InoculantTables["fesi75-ca-ba"]
+	refiner := builtin.InoculantTables["altib-rod"]
+	modifier := builtin.InoculantTables["alsr-master"]
+	nearly := func(a string) sim.Radial { return sim.NearlyLumped(a) }
+	plain := func(string) sim.Radial { return sim.Radial{} }
 	for _, set := range []struct {
-		name  string
-		alloy string
-		table *limits.Inoculant
-		cup   string
-		tol   float64
+		name   string
+		alloy  string
+		table  *limits.Inoculant
+		cup    sim.CupKind
+		radial func(string) sim.Radial
+		tol    float64
+		// applies: the fit must predict at least 90 % of the pairs; quick:
+		// the set runs under the race detector and -short too.
+		applies, quick bool
 	}{
-		{"grey iron, lumped after cups", sim.GreyIron, iron, "", 1.5},
+		{"grey iron, lumped cups", sim.GreyIron, iron, sim.CupLumped, nil, 1.5, true, true},
+		{"grey iron, nearly lumped radial cups (held out)", sim.GreyIron, iron, sim.CupRadial, nearly, 1.5, true, true},
+		{"grey iron, radial cups (held out)", sim.GreyIron, iron, sim.CupRadial, plain, 1.5, false, false},
+		{"ductile iron, nearly lumped radial cups (held out)", sim.DuctileIron, iron, sim.CupRadial, nearly, 1.5, true, false},
+		{"Al-Si7Mg grain refiner, nearly lumped radial cups (held out)", sim.AlSi7Mg, refiner, sim.CupRadial, nearly, 0.3, true, false},
+		{"Al-Si7Mg modifier, nearly lumped radial cups (held out)", sim.AlSi7Mg, modifier, sim.CupRadial, nearly, 1.0, true, false},
 	} {
+		if quick && !set.quick {
+			continue
+		}
 		rng := rand.New(rand.NewPCG(17, 1))
 		var errs []float64
 		within, covered, agree, made := 0, 0, 0, 0
 		var lines []string
 		for i := range n {
-			c := newPair(rng, set.alloy, set.table, set.cup, uint64(100+i))
+			var r sim.Radial
+			if set.radial != nil {
+				r = set.radial(set.alloy)
+			}
+			c := newPair(rng, set.alloy, set.table, set.cup, r, uint64(100+i))
 			o := runPair(t, c)
 			if !o.ok {
 				lines = append(lines, fmt.Sprintf("  %s: no prediction: %s", c.label, o.why))
+				if !strings.Contains(o.why, "fit") {
+					t.Errorf("%s: no prediction, and the reason %q does not name the fit", c.label, o.why)
+				}
 				continue
 			}
 			if !o.measurable {
@@ -188,9 +219,9 @@ func TestHeldOutPairs(t *testing.T) {
 			}
 			return errs[min(len(errs)-1, int(f*float64(len(errs))))]
 		}
-		t.Logf("%s: %d pairs, %d predicted; |error| median %.2f, p90 %.2f, max %.2f °C; within %.1f °C %d/%d, within U %d/%d, verdict agrees %d/%d\n%s",
+		t.Logf("%s: %d pairs, %d predicted; |error| median %.2f, p90 %.2f, max %.2f; within %.1f %d/%d, within U %d/%d, verdict agrees %d/%d\n%s",
 			set.name, n, made, q(0.5), q(0.9), q(1), set.tol, within, made, covered, made, agree, made, strings.Join(lines, "\n"))
-		if made < n*9/10 {
+		if set.applies && made*10 < n*9 {
 			t.Errorf("%s: only %d of %d pairs got a prediction", set.name, made, n)
 		}
 		for _, c := range []struct {

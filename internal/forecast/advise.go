@@ -208,11 +208,11 @@ func TreatmentOf(in *limits.Inoculant) Treatment {
 
 // quality says why a fit is too poor to predict from, or "".
 func quality(f *Fitted, res arrest.Result) string {
-	if !f.Converged {
-		return "the fit of the cup model did not converge (" + f.Status + ")"
-	}
 	if f.EutecticRMSC > f.NoiseC+maxArrestRMS {
 		return fmt.Sprintf("the cup model fits the arrest badly (RMS residual %.2f °C, the curve's noise %.2f °C)", f.EutecticRMSC, f.NoiseC)
+	}
+	if !f.Converged {
+		return "the fit of the cup model did not converge (" + f.Status + ")"
 	}
 	a, b := f.truth.EutecticMin, f.truth.EutecticMax
 	ma, mb := res.EutecticMin, res.EutecticMax

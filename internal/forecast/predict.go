@@ -90,12 +90,15 @@ type Estimate struct {
 
 // predictor predicts for one fitted sample.
 type predictor struct {
-	f      *Fitted
-	t      Treatment
-	in     assess.Input
-	res    arrest.Result // the measured points
-	rec    assess.Record // the measured record
-	entry  *limits.Alloy
+	f     *Fitted
+	t     Treatment
+	in    assess.Input
+	res   arrest.Result // the measured points
+	rec   assess.Record // the measured record
+	entry *limits.Alloy
+	// span is the model's run: the fit's window and a minute more (a
+	// modifier's eutectic comes later).
+	span   []float64
 	before [2]float64 // the fitted model's own points (no addition)
 	// dBefore[i] are the model's points with parameter i stepped.
 	dBefore [][2]float64
@@ -105,6 +108,7 @@ type predictor struct {
 // newPredictor prepares predictions for the fitted sample.
 func newPredictor(f *Fitted, t Treatment, in assess.Input, res arrest.Result) (*predictor, error) {
 	pr := &predictor{f: f, t: t, in: in, res: res, rec: assess.FromResult(in, res)}
+	pr.span = []float64{f.times[0], f.times[len(f.times)-1] + 60}
 	book := in.Limits
 	if book == nil {
 		book = builtin
@@ -135,24 +139,12 @@ func newPredictor(f *Fitted, t Treatment, in assess.Input, res arrest.Result) (*
 // primary arrest's minimum and growth temperature.
 func (pr *predictor) points(th [numPar]float64, r float64) ([2]float64, bool) {
 	pr.runs++
-	_, tr, err := pr.f.m.curve(th, pr.t.addition(r), pr.f.times)
+	_, tr, err := pr.f.m.curve(th, pr.t.addition(r), pr.span)
 	if err != nil {
 		return [2]float64{}, false
 	}
-	if pr.f.Law == LawPrimary {
-		if !tr.Liquidus.OK {
-			return [2]float64{}, false
-		}
-		lo := tr.Liquidus.TempC
-		if tr.LiquidusMin.OK {
-			lo = tr.LiquidusMin.TempC
-		}
-		return [2]float64{lo, tr.Liquidus.TempC}, true
-	}
-	if !tr.EutecticMin.OK || !tr.EutecticMax.OK {
-		return [2]float64{}, false
-	}
-	return [2]float64{tr.EutecticMin.TempC, tr.EutecticMax.TempC}, true
+	lo, top, ok := arrestPoints(pr.f.Law, tr)
+	return [2]float64{lo, top}, ok
 }
 
 // result is the measured Result moved by the model's change of the two
