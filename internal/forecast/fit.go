@@ -602,7 +602,7 @@ func (pb *problem) minimise(ctx context.Context) (*Fitted, error) {
 	f.cov = cov
 	// Converged: the minimiser stopped by itself (its relative-change test,
 	// or a line search that found no lower point within the model's
-	// numerical resolution: χ² is rough on the scale of the 5 ms steps),
+	// numerical resolution: χ² is rough on the scale of its time steps),
 	// not on a budget, and the Gauss–Newton step left from here would move
 	// the parameters by less than their expanded uncertainty (k = 2: its
 	// predicted lowering of χ², in units of the residual variance, is below

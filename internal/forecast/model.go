@@ -48,7 +48,7 @@ const (
 )
 
 // parInfo names a parameter and sets its finite-difference step. The
-// model integrates in steps of 5 ms, so χ² is rough on a fine scale (of
+// model integrates in finite steps, so χ² is rough on a fine scale (of
 // the order of one unit of χ² for steps of 0.01 in ln(A·μ³)); the steps
 // of the nucleation parameters are taken larger than that roughness, so
 // that the Jacobian follows the curve's trend rather than its grain.
