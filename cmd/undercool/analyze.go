@@ -80,7 +80,7 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 	alloy := fs.String("alloy", "", "alloy name for every file (overrides '# alloy:')")
 	limitsPath := fs.String("limits", "", "limits file (default: the shipped examples)")
 	storeIt := fs.Bool("store", false, "also store each analysis in the records database (earlier results are kept)")
-	dbPath := fs.String("db", "", "records database for --store (default $UNDERCOOL_DB or the user's data directory)")
+	dbPath := fs.String("db", "", "records database for --store: a file, or the plant database's postgres:// connection string (default $UNDERCOOL_DB or the user's data directory)")
 	advise := fs.Bool("advise", false, "fit the cup model and add its advice on the alloy's additions (a model estimate; about 0.5 s a file)")
 	var aopt forecast.Options
 	fs.StringVar(&aopt.Inoculant, "inoculant", "", "with --advise: only this addition of the limits file (its table name)")
@@ -126,6 +126,11 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 	var book *limits.Book // nil: assess uses the shipped examples
 	if *limitsPath != "" {
 		if book, err = limits.Load(*limitsPath); err != nil {
+			return err
+		}
+	}
+	if *alloy != "" {
+		if err := knownAlloy(env, "analyze", book, *alloy); err != nil {
 			return err
 		}
 	}
@@ -223,11 +228,27 @@ func analyzeOne(ctx context.Context, i int, path, alloy string, book *limits.Boo
 	} else {
 		out.rec = assess.Assess(in)
 	}
-	if alloy == "" {
-		out.rec.Warnings = append(out.rec.Warnings, "no alloy named (give --alloy or a '# alloy:' line): analysed as "+out.rec.Family+" without limits")
-	}
 	out.index = i
 	return out
+}
+
+// knownAlloy refuses an alloy the limits do not know (a typo such as
+// grey_iron would otherwise be analysed by the name rule and judged
+// unchecked), naming the alloys they do know, as the sample form does. It
+// prints the refusal and gives exit status 2 (a usage mistake).
+func knownAlloy(env *environ, cmd string, book *limits.Book, alloy string) error {
+	src := "the shipped example limits"
+	if book == nil {
+		book = limits.Builtin()
+	} else {
+		src = book.Source
+	}
+	if book.Resolve(alloy).Known() {
+		return nil
+	}
+	fmt.Fprintf(env.stderr, "undercool %s: unknown alloy %q: %s know %s (or give --limits FILE with its entry)\n",
+		cmd, alloy, src, strings.Join(book.Names(), ", "))
+	return exitError{2}
 }
 
 func stderrIsTerminal(env *environ) bool {

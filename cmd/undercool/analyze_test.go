@@ -74,7 +74,7 @@ func jsonLines(t *testing.T, out string) []map[string]any {
 	return recs
 }
 
-// recordKeys are the stable keys of design.md's JSON result.
+// recordKeys are the stable keys of the JSON result (README.md, "Analysing files").
 var recordKeys = []string{"file", "alloy", "samples", "rate_hz",
 	"pour_peak_c", "pour_peak_s", "liquidus_min_c", "liquidus_min_s", "liquidus_c", "liquidus_s",
 	"eutectic_min_c", "eutectic_min_s", "eutectic_max_c", "eutectic_max_s", "recalescence_c",

@@ -139,7 +139,7 @@ func (c *inoculantCalibration) sampleOf(path string, book *limits.Book) (forecas
 	}
 	in := assess.Input{File: path, Alloy: alloy, Time: cv.Time, Temp: cv.Temp, Limits: book, Meta: cv.Meta}
 	r := book.Resolve(alloy)
-	res := arrest.Analyze(cv.Time, cv.Temp, r.Detect)
+	res := arrest.Analyze(cv.Time, cv.Temp, assess.Detect(in))
 	if res.Invalid() {
 		return forecast.Sample{}, "", fmt.Errorf("%s: the cup is not trustworthy: %s", path, res.Problems[0].Message)
 	}

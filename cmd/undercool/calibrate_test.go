@@ -190,7 +190,7 @@ func TestCalibrateOutIntoLimits(t *testing.T) {
 		t.Fatalf("exit %d: %s %s", code, out, errs)
 	}
 	lim := filepath.Join(dir, "shop.toml")
-	text := strings.Replace(string(limits.Example()), `version = "example-1"`, "version = \"cindermoth-1\"\ncalibration_file = \"cindermoth-cal.toml\"", 1)
+	text := strings.Replace(string(limits.Example()), `version = "`+limits.Builtin().Version+`"`, "version = \"cindermoth-1\"\ncalibration_file = \"cindermoth-cal.toml\"", 1)
 	text = strings.Replace(text, `white_cup = "formula"`, `white_cup = "shop"`, 1)
 	if err := os.WriteFile(lim, []byte(text), 0o644); err != nil {
 		t.Fatal(err)

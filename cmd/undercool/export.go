@@ -23,8 +23,9 @@ func init() {
 }
 
 const exportUsage = `usage: undercool export [--csv|--json] [--decimal-comma] [--bom] [--out FILE]
-                        [--alloy A] [--ladle L] [--since D] [--until D] [--verdict V]
-                        [--all-results] [--db PATH]
+                        [--site S] [--deck D] [--alloy A] [--furnace F] [--ladle L]
+                        [--since D] [--until D] [--verdict V] [--all-results]
+                        [--db PATH|postgres://…]
 
 Writes the stored samples, oldest first, with every result figure: CSV with
 a header row and ISO 8601 UTC times (default), or one JSON object a line.
@@ -79,11 +80,11 @@ type csvOptions struct {
 }
 
 // csvTextColumns are the text columns of the CSV, before the figures.
-var csvTextColumns = []string{"sample_id", "result_id", "recorded_at", "analysed_at", "sample", "ladle", "alloy", "furnace",
+var csvTextColumns = []string{"sample_id", "result_id", "recorded_at", "analysed_at", "site", "deck", "sample", "ladle", "alloy", "furnace",
 	"operator", "channel", "thermocouple", "verdict", "limits_version"}
 
 // csvTailColumns follow the figures.
-var csvTailColumns = []string{"samples", "rate_hz", "reasons", "advice", "curve_path", "curve_sha256", "interrupted", "simulated", "note"}
+var csvTailColumns = []string{"samples", "rate_hz", "reasons", "advice", "curve_path", "curve_sha256", "interrupted", "simulated", "note", "sample_uid"}
 
 // writeRecordsCSV writes a header row and one row per entry: the sample's
 // fields, every metric of store.Metrics() (empty where null), then the
@@ -121,7 +122,7 @@ func writeRecordsCSV(w io.Writer, entries []store.Entry, opt csvOptions) error {
 	for _, e := range entries {
 		s, r := e.Sample, e.Result
 		row = append(row[:0], strconv.FormatInt(s.ID, 10), strconv.FormatInt(r.ID, 10),
-			s.Recorded.UTC().Format(time.RFC3339), r.Analysed.UTC().Format(time.RFC3339),
+			s.Recorded.UTC().Format(time.RFC3339), r.Analysed.UTC().Format(time.RFC3339), csvText(s.Site), csvText(s.Deck),
 			csvText(s.Sample), csvText(s.Ladle), csvText(s.Alloy), csvText(s.Furnace), csvText(s.Operator), csvText(s.Channel),
 			csvText(s.Thermocouple), r.Verdict, csvText(r.LimitsVersion))
 		for _, m := range metrics {
@@ -133,7 +134,7 @@ func writeRecordsCSV(w io.Writer, entries []store.Entry, opt csvOptions) error {
 		}
 		row = append(row, strconv.Itoa(r.Record.Samples), num(r.Record.RateHz),
 			csvText(strings.Join(r.Reasons, " | ")), csvText(strings.Join(r.Record.Advice, " | ")),
-			csvText(s.CurvePath), s.CurveSHA256, yes(s.Interrupted), yes(s.Simulated), csvText(s.Note))
+			csvText(s.CurvePath), s.CurveSHA256, yes(s.Interrupted), yes(s.Simulated), csvText(s.Note), s.UID)
 		if err := cw.Write(row); err != nil {
 			return err
 		}

@@ -24,8 +24,9 @@ func init() {
 	})
 }
 
-const historyUsage = `usage: undercool history [--alloy A] [--ladle L] [--since D] [--until D] [--verdict V]
-                         [--limit N] [--all-results] [--json|--csv] [--db PATH]
+const historyUsage = `usage: undercool history [--site S] [--deck D] [--alloy A] [--furnace F] [--ladle L]
+                         [--since D] [--until D] [--verdict V] [--limit N] [--all-results]
+                         [--json|--csv] [--db PATH|postgres://…]
 
 Lists the stored samples, newest first, each with its latest result
 (--all-results: every result, older analyses included).
@@ -33,19 +34,24 @@ Lists the stored samples, newest first, each with its latest result
 D is a date (2026-12-01, local time; --until takes the whole day), a date
 and time (2026-12-01T14:30), or a span back from now (30m, 8h, 7d, 2w).
 The records live in --db PATH, else $UNDERCOOL_DB, else the user's data
-directory (see 'undercool help').
+directory (see 'undercool help'). A postgres:// connection string reads
+the plant database instead (docs/plant-database.md): every deck's
+samples, or with --site and --deck one deck's.
 `
 
 // recordsFlags are the options history and export share.
 type recordsFlags struct {
-	db, alloy, ladle, since, until, verdict string
-	limit                                   int
-	allResults, json, csv                   bool
+	db, site, deck, alloy, furnace, ladle, since, until, verdict string
+	limit                                                        int
+	allResults, json, csv                                        bool
 }
 
 func (f *recordsFlags) register(fs *flag.FlagSet) {
-	fs.StringVar(&f.db, "db", "", "records database `PATH` (default $UNDERCOOL_DB or the user's data directory)")
+	fs.StringVar(&f.db, "db", "", dbFlagHelp)
+	fs.StringVar(&f.site, "site", "", "only samples taken at this `site`")
+	fs.StringVar(&f.deck, "deck", "", "only samples taken on this melt `deck`")
 	fs.StringVar(&f.alloy, "alloy", "", "only this `alloy`")
+	fs.StringVar(&f.furnace, "furnace", "", "only samples from this `furnace` or holder")
 	fs.StringVar(&f.ladle, "ladle", "", "only this `ladle` id")
 	fs.StringVar(&f.since, "since", "", "recorded at or after `D` (2026-12-01, 2026-12-01T14:30, 8h, 7d)")
 	fs.StringVar(&f.until, "until", "", "recorded before `D` (a bare date includes that day)")
@@ -77,7 +83,8 @@ func (f *recordsFlags) entries(ctx context.Context, env *environ, cmd string, ad
 }
 
 func (f *recordsFlags) filter(now time.Time) (store.Filter, error) {
-	flt := store.Filter{Alloy: f.alloy, Ladle: f.ladle, Verdict: f.verdict, Limit: f.limit, AllResults: f.allResults}
+	flt := store.Filter{Site: f.site, Deck: f.deck, Alloy: f.alloy, Furnace: f.furnace, Ladle: f.ladle,
+		Verdict: f.verdict, Limit: f.limit, AllResults: f.allResults}
 	switch f.verdict {
 	case "", "pass", "marginal", "fail", "invalid", "unchecked":
 	default:
@@ -163,13 +170,52 @@ func parseNoArgs(fs *flag.FlagSet, env *environ, args []string) (help bool, err 
 	return false, nil
 }
 
-// openRecords opens the records database named by --db, else the default.
+// dbFlagHelp describes --db for every records command.
+const dbFlagHelp = "records database: a file `PATH`, or the plant database's postgres:// connection string (default $UNDERCOOL_DB or the user's data directory)"
+
+// openRecords opens the records database named by --db, else the default,
+// for writing: samples it stores carry the deck's site and deck (origin).
 func openRecords(ctx context.Context, env *environ, dbFlag string) (*store.DB, error) {
 	path, err := recordsPath(env, dbFlag)
 	if err != nil {
 		return nil, err
 	}
-	return store.Open(ctx, path)
+	return openAt(ctx, env, path, "", "")
+}
+
+// openAt opens the records database path, for writing, with the deck's
+// site and deck (deckOrigin of site and deck).
+func openAt(ctx context.Context, env *environ, path, site, deck string) (*store.DB, error) {
+	o, err := deckOrigin(env, site, deck)
+	if err != nil {
+		return nil, err
+	}
+	db, err := store.Open(ctx, path)
+	if err != nil {
+		return nil, err
+	}
+	if err := db.SetOrigin(o); err != nil {
+		db.Close()
+		return nil, err
+	}
+	return db, nil
+}
+
+// deckOrigin is where this deck's samples are taken: --site and --deck
+// where given, else $UNDERCOOL_SITE and $UNDERCOOL_DECK (set once per deck
+// in its environment).
+func deckOrigin(env *environ, site, deck string) (store.Origin, error) {
+	if site == "" {
+		site = env.getenv("UNDERCOOL_SITE")
+	}
+	if deck == "" {
+		deck = env.getenv("UNDERCOOL_DECK")
+	}
+	o := store.Origin{Site: site, Deck: deck}
+	if err := store.CheckOrigin(o); err != nil {
+		return o, fmt.Errorf("--site/--deck or $UNDERCOOL_SITE/$UNDERCOOL_DECK: %w", err)
+	}
+	return o, nil
 }
 
 // readRecords is openRecords for the commands that only read (history,
@@ -181,7 +227,7 @@ func readRecords(ctx context.Context, env *environ, dbFlag string) (*store.DB, e
 		return nil, err
 	}
 	db, err := store.Open(ctx, path)
-	if err == nil || !errors.Is(err, store.ErrNotWritable) {
+	if err == nil || !errors.Is(err, store.ErrNotWritable) || store.IsServer(path) {
 		return db, err
 	}
 	if _, serr := os.Stat(path); serr != nil {
@@ -242,16 +288,30 @@ func writeHistoryTable(w io.Writer, entries []store.Entry, dbPath string) error 
 		_, err := fmt.Fprintf(w, "no samples match in %s\n", dbPath)
 		return err
 	}
+	decks := false // a DECK column once the rows come from more than one place
+	for _, e := range entries {
+		if e.Sample.Site != entries[0].Sample.Site || e.Sample.Deck != entries[0].Sample.Deck {
+			decks = true
+			break
+		}
+	}
 	tw := tabwriter.NewWriter(w, 0, 4, 2, ' ', 0)
-	fmt.Fprint(tw, "ID\tRECORDED\tSAMPLE\tLADLE\tALLOY\tVERDICT")
+	fmt.Fprint(tw, "ID\tRECORDED")
+	if decks {
+		fmt.Fprint(tw, "\tDECK")
+	}
+	fmt.Fprint(tw, "\tSAMPLE\tLADLE\tALLOY\tVERDICT")
 	for _, c := range historyColumns {
 		fmt.Fprintf(tw, "\t%s", c.head)
 	}
 	fmt.Fprintln(tw, "\tFLAGS")
 	for _, e := range entries {
 		s, r := e.Sample, e.Result
-		fmt.Fprintf(tw, "%d\t%s\t%s\t%s\t%s\t%s", s.ID, s.Recorded.Local().Format("2006-01-02 15:04"),
-			dash(s.Sample), dash(s.Ladle), dash(s.Alloy), r.Verdict)
+		fmt.Fprintf(tw, "%d\t%s", s.ID, s.Recorded.Local().Format("2006-01-02 15:04"))
+		if decks {
+			fmt.Fprintf(tw, "\t%s", dash(strings.Trim(s.Site+"/"+s.Deck, "/")))
+		}
+		fmt.Fprintf(tw, "\t%s\t%s\t%s\t%s", dash(s.Sample), dash(s.Ladle), dash(s.Alloy), r.Verdict)
 		for _, c := range historyColumns {
 			if v, ok := store.Value(r.Record, c.key); ok {
 				fmt.Fprintf(tw, "\t%.1f", v)
@@ -286,6 +346,9 @@ func dash(s string) string {
 type recordLine struct {
 	SampleID      int64     `json:"sample_id"`
 	ResultID      int64     `json:"result_id"`
+	SampleUID     string    `json:"sample_uid"`
+	Site          string    `json:"site"`
+	Deck          string    `json:"deck"`
 	RecordedAt    time.Time `json:"recorded_at"`
 	AnalysedAt    time.Time `json:"analysed_at"`
 	StoredAt      time.Time `json:"stored_at"`
@@ -313,7 +376,7 @@ func writeJSONLines(w io.Writer, entries []store.Entry) error {
 	for _, e := range entries {
 		s, r := e.Sample, e.Result
 		if err := enc.Encode(recordLine{
-			SampleID: s.ID, ResultID: r.ID, RecordedAt: s.Recorded.UTC(), AnalysedAt: r.Analysed.UTC(), StoredAt: s.Created.UTC(),
+			SampleID: s.ID, ResultID: r.ID, SampleUID: s.UID, Site: s.Site, Deck: s.Deck, RecordedAt: s.Recorded.UTC(), AnalysedAt: r.Analysed.UTC(), StoredAt: s.Created.UTC(),
 			Sample: s.Sample, Ladle: s.Ladle, Alloy: s.Alloy, Furnace: s.Furnace, Operator: s.Operator,
 			Channel: s.Channel, Thermocouple: s.Thermocouple, Note: s.Note, CurvePath: s.CurvePath, CurveSHA256: s.CurveSHA256,
 			Interrupted: s.Interrupted, Simulated: s.Simulated, LimitsVersion: r.LimitsVersion, Verdict: r.Verdict,

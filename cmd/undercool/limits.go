@@ -11,6 +11,7 @@ import (
 	"strings"
 	"text/tabwriter"
 
+	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/limits"
 )
 
@@ -176,6 +177,7 @@ func showAlloy(w io.Writer, book *limits.Book, a *limits.Alloy) error {
 			fmt.Fprintf(w, "fixed point (ITS-90): %.3f °C\n", *a.Reference.FixedPointC)
 		}
 	}
+	fmt.Fprintln(w, detectionText(book.Resolve(a.Name).Detect.Hints))
 	if c, o, metric, ok := a.PotencyModel(a.Family); ok {
 		fmt.Fprintf(w, "nucleation potency: ΔT from %s, %s constants, onset %s (an effective, ranking figure)\n", metric, c.Name, cmp.Or(o.Mode, "hom-ratio"))
 	}
@@ -184,8 +186,13 @@ func showAlloy(w io.Writer, book *limits.Book, a *limits.Alloy) error {
 	for _, c := range a.Evaluate(limits.Sample{Complete: true}).Checks {
 		mi, _ := limits.Metric(c.Metric)
 		req := ""
-		if c.Required {
+		switch {
+		case c.Required && c.SampleCheck:
+			req = "yes (a check on the cup)"
+		case c.Required:
 			req = "yes"
+		case c.SampleCheck:
+			req = "a check on the cup"
 		}
 		l := a.Metrics[c.Metric]
 		advice := []string{}
@@ -198,13 +205,42 @@ func showAlloy(w io.Writer, book *limits.Book, a *limits.Alloy) error {
 		if l.Missing != "" {
 			advice = append(advice, "missing: "+l.Missing)
 		}
-		unit := ""
-		if mi.Unit != "" {
-			unit = " " + mi.Unit
+		if len(l.Spoils) > 0 {
+			advice = append(advice, "when it fails, withheld: "+strings.Join(l.Spoils, ", "))
 		}
-		fmt.Fprintf(tw, "%s\t%s%s\t%s%s\t%s\t%s\n", c.Metric, limits.FormatBand(mi, c.Pass), unit, limits.FormatBand(mi, c.Marginal), unit, req, strings.Join(advice, " | "))
+		band := func(b limits.Band) string {
+			if b.Min == nil && b.Max == nil {
+				return "-"
+			}
+			if mi.Unit == "" {
+				return limits.FormatBand(mi, b)
+			}
+			return limits.FormatBand(mi, b) + " " + mi.Unit
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\n", c.Metric, band(c.Pass), band(c.Marginal), req, strings.Join(advice, " | "))
 	}
 	return tw.Flush()
+}
+
+// detectionText says what the detector expects of the alloy's curves
+// (Book.Resolve): the pour trigger and the windows of its arrests.
+func detectionText(h arrest.Hints) string {
+	parts := []string{fmt.Sprintf("a pour reaches %.0f °C", h.MinPourC)}
+	win := func(name string, r arrest.Range) {
+		if !r.Open() {
+			parts = append(parts, fmt.Sprintf("%s within %.1f–%.1f °C", name, r.LoC, r.HiC))
+		}
+	}
+	win("liquidus arrest", h.Liquidus)
+	name := "eutectic"
+	if h.FixedPointC != 0 {
+		name = "plateau"
+	}
+	win(name, h.Eutectic)
+	if h.FixedPointC != 0 {
+		parts = append(parts, fmt.Sprintf("fixed point %.3f °C", h.FixedPointC))
+	}
+	return "detection: " + strings.Join(parts, "; ")
 }
 
 func limitsInit(env *environ, args []string) error {

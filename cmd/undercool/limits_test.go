@@ -21,11 +21,12 @@ func TestLimitsInitCheckShow(t *testing.T) {
 		t.Errorf("second init: exit %d %s", code, errs)
 	}
 	code, out, _ = decisionRun(t, "limits", "check", p)
-	if code != 0 || !strings.Contains(out, p+": ok: version example-1") || !strings.Contains(out, "grey-iron") {
+	if code != 0 || !strings.Contains(out, p+": ok: version "+limits.Builtin().Version) || !strings.Contains(out, "grey-iron") {
 		t.Errorf("check: exit %d %s", code, out)
 	}
 	code, out, _ = decisionRun(t, "limits", "show", "grey-iron", "--limits", p)
-	for _, want := range []string{"grey-iron (iron)", "eutectic_min_c", "≥ 1142.0 °C", "≥ 1138.0 °C", "koriyama2020", "Consider a late"} {
+	for _, want := range []string{"grey-iron (iron)", "eutectic_min_c", "≤ 5.0 °C", "≤ 8.0 °C", "koriyama2020", "consider a late",
+		"detection: a pour reaches 1000 °C; eutectic within 1088.2–1168.4 °C", "a check on the cup", "when it fails, withheld: ce"} {
 		if code != 0 || !strings.Contains(out, want) {
 			t.Errorf("show lacks %q (exit %d):\n%s", want, code, out)
 		}
@@ -44,8 +45,8 @@ func TestLimitsInitCheckShow(t *testing.T) {
 }
 
 func TestLimitsCheckErrors(t *testing.T) {
-	bad := strings.Replace(string(limits.Example()), "marginal_min = 1138.0", "marginal_min = 1150.0", 1)
-	bad = strings.Replace(bad, "pass_max = 10.0", "pass_max = 10.0\npass_maks = 11.0", 1)
+	bad := strings.Replace(string(limits.Example()), "marginal_min = 3.80", "marginal_min = 3.95", 1)
+	bad = strings.Replace(bad, "pass_max = 5.0", "pass_max = 5.0\npass_maks = 11.0", 1)
 	p := filepath.Join(t.TempDir(), "bad.toml")
 	if err := os.WriteFile(p, []byte(bad), 0o644); err != nil {
 		t.Fatal(err)
@@ -54,15 +55,14 @@ func TestLimitsCheckErrors(t *testing.T) {
 	if code != 1 || !strings.Contains(errs, p+":") || !strings.Contains(errs, "pass_maks: unknown key") {
 		t.Errorf("exit %d, stderr %q", code, errs)
 	}
-	good := strings.Replace(string(limits.Example()), "pass_max = 10.0", "pass_max = 10.0", 1)
-	good = strings.Replace(good, "marginal_min = 1138.0", "marginal_min = 1150.0", 1)
+	good := strings.Replace(string(limits.Example()), "marginal_min = 3.80", "marginal_min = 3.95", 1)
 	if err := os.WriteFile(p, []byte(good), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	code, _, errs = decisionRun(t, "limits", "check", p)
 	// line of the marginal_min key in the shipped file
-	line := 1 + strings.Count(good[:strings.Index(good, "marginal_min = 1150.0")], "\n")
-	want := p + ":" + strconv.Itoa(line) + ": alloy.grey-iron.metric.eutectic_min_c.marginal_min: 1150 is above pass_min 1142"
+	line := 1 + strings.Count(good[:strings.Index(good, "marginal_min = 3.95")], "\n")
+	want := p + ":" + strconv.Itoa(line) + ": alloy.grey-iron.metric.ce.marginal_min: 3.95 is above pass_min 3.9"
 	if code != 1 || !strings.Contains(errs, want) {
 		t.Errorf("exit %d, stderr %q, want %q", code, errs, want)
 	}

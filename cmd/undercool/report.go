@@ -25,7 +25,7 @@ func init() {
 	})
 }
 
-const reportUsage = `usage: undercool report SAMPLE --out FILE.png|FILE.svg [--db PATH] [--alloy A] [--limits FILE]
+const reportUsage = `usage: undercool report SAMPLE --out FILE.png|FILE.svg [--db PATH|postgres://…] [--alloy A] [--limits FILE]
                         [--advise [--inoculant NAME]]
 
 Draws the page for a ladle's quality record: the cooling curve with its
@@ -47,7 +47,7 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 	fs.SetOutput(env.stderr)
 	fs.Usage = func() { fmt.Fprint(env.stderr, reportUsage); fs.PrintDefaults() }
 	out := fs.String("out", "", "the page to write, `FILE`.png or FILE.svg")
-	dbPath := fs.String("db", "", "records database `PATH` (default $UNDERCOOL_DB or the user's data directory)")
+	dbPath := fs.String("db", "", dbFlagHelp)
 	alloy := fs.String("alloy", "", "alloy of a curve file (overrides its '# alloy:')")
 	limitsPath := fs.String("limits", "", "limits `FILE` for a curve file (default: the shipped examples)")
 	advise := fs.Bool("advise", false, "add the cup model's estimate for the alloy's additions (a model estimate)")

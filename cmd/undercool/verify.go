@@ -16,7 +16,7 @@ func init() {
 	})
 }
 
-const verifyUsage = `usage: undercool verify [--db PATH] [--quiet]
+const verifyUsage = `usage: undercool verify [--db PATH|postgres://…] [--quiet]
 
 Re-hashes (SHA-256) the curve file of every stored sample and compares it
 with the hash taken when the sample was stored. Lists every file that has
@@ -28,7 +28,7 @@ func runVerify(ctx context.Context, env *environ, args []string) error {
 	fs := flag.NewFlagSet("verify", flag.ContinueOnError)
 	fs.SetOutput(env.stderr)
 	fs.Usage = func() { fmt.Fprint(env.stderr, verifyUsage); fs.PrintDefaults() }
-	dbPath := fs.String("db", "", "records database `PATH` (default $UNDERCOOL_DB or the user's data directory)")
+	dbPath := fs.String("db", "", dbFlagHelp)
 	quiet := fs.Bool("quiet", false, "print only the problems, not the summary")
 	if help, err := parseNoArgs(fs, env, args); help || err != nil {
 		return err

@@ -75,6 +75,10 @@ func FamilyHints(f Family) Hints {
 		return Hints{MinPourC: 560, EutecticTopC: 590, SmoothS: 3, SlopeS: 6, ConfirmS: 10}
 	case FamilyPure:
 		return Hints{MinPourC: 150, EutecticTopC: math.Inf(1), SmoothS: 2, SlopeS: 4, ConfirmS: 8}
+	case FamilyEutectic:
+		// Without the entry's windows (Resolve sets them) the first arrest
+		// is taken for the eutectic, as for a pure metal.
+		return Hints{MinPourC: 150, EutecticTopC: math.Inf(1), SmoothS: 2, SlopeS: 4, ConfirmS: 8}
 	default:
 		return Hints{MinPourC: 1000, EutecticTopC: 1170, SmoothS: 2, SlopeS: 4, ConfirmS: 8}
 	}

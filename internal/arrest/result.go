@@ -16,6 +16,10 @@ const (
 	FamilyWhite    Family = "white"    // cast iron in a tellurium (white-freezing) cup
 	FamilyAluminum Family = "aluminum" // Al-Si casting alloys
 	FamilyPure     Family = "pure"     // a pure metal (fixed-point check cup)
+	// FamilyEutectic is any other alloy with a primary arrest and one
+	// eutectic (zinc, magnesium, tin-base, copper-base): its windows come
+	// from its limits entry (limits.Book.Resolve).
+	FamilyEutectic Family = "eutectic"
 )
 
 // Point is one characteristic point of a curve. A point that was not found

@@ -5,9 +5,15 @@
 package assess
 
 import (
+	"fmt"
+	"reflect"
+	"strconv"
+	"strings"
+
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/solidpath"
 )
 
 // Verdict values (stable, documented in README.md).
@@ -80,7 +86,30 @@ type Record struct {
 
 	PlateauC         *float64 `json:"plateau_c"`           // pure-metal check cup: freezing plateau
 	FixedPointC      *float64 `json:"fixed_point_c"`       // its ITS-90 value
-	FixedPointErrorC *float64 `json:"fixed_point_error_c"` // plateau − fixed point
+	FixedPointErrorC *float64 `json:"fixed_point_error_c"` // plateau − fixed point: the thermocouple's offset
+	// FixedPointUndercoolingC is how far a check cup's metal undercooled
+	// below its own plateau before it froze (plateau − the minimum before
+	// it; 0 without recalescence): measured against the plateau, the
+	// thermocouple's offset cancels out of it.
+	FixedPointUndercoolingC *float64 `json:"fixed_point_undercooling_c"`
+
+	// The solidification path (docs/solidification.md): fs at the points by
+	// FSMethod ("fourier" with two thermocouples, else "newtonian"; "" when
+	// neither could be worked out), the latent heat by each method with
+	// the specific heat used, and for aluminium with two thermocouples the
+	// dendrite coherency point.
+	FSMethod                  string   `json:"fs_method"`
+	FSAtLiquidus              *float64 `json:"fs_at_liquidus"`
+	FSAtEutecticStart         *float64 `json:"fs_at_eutectic_start"`
+	FSAtEutecticMin           *float64 `json:"fs_at_eutectic_min"`
+	FSAtEutecticMax           *float64 `json:"fs_at_eutectic_max"`
+	FSAtEndOfFreezing         *float64 `json:"fs_at_end_of_freezing"`
+	LatentHeatNewtonianJPerKg *float64 `json:"latent_heat_newtonian_j_per_kg"` // apparent: low in sand cups
+	LatentHeatFourierJPerKg   *float64 `json:"latent_heat_fourier_j_per_kg"`
+	SpecificHeatJPerKgK       *float64 `json:"specific_heat_j_per_kg_k"` // the c both latent heats use
+	CoherencyC                *float64 `json:"coherency_c"`
+	CoherencyS                *float64 `json:"coherency_s"`
+	FSAtCoherency             *float64 `json:"fs_at_coherency"`
 
 	// Chemistry is the analysis used (wt %), ChemistrySource where each
 	// element came from: "curve" (# si_pct: ...), "nominal" (the alloy's
@@ -90,6 +119,11 @@ type Record struct {
 
 	Potency *Potency `json:"potency"` // null when it cannot be computed
 
+	// Withheld are the figures a failed check on the sample spoils (a cup
+	// filled cold spoils a carbon equivalent read from its liquidus): they
+	// are null above, and kept here with why, so nothing is lost.
+	Withheld []WithheldFigure `json:"withheld"`
+
 	Checks        []limits.Check `json:"checks"`
 	Reasons       []string       `json:"reasons"`  // why the verdict, in numbers
 	Advice        []string       `json:"advice"`   // worded as advice; the shop's practice rules
@@ -97,6 +131,13 @@ type Record struct {
 	Provisional   bool           `json:"provisional"`
 	LimitsVersion string         `json:"limits_version"`
 	LimitsSource  string         `json:"limits_source"`
+}
+
+// WithheldFigure is one figure a failed check on the sample spoils.
+type WithheldFigure struct {
+	Metric string  `json:"metric"` // the record key, e.g. "ce"
+	Value  float64 `json:"value"`  // the figure as computed; not to be acted on
+	Why    string  `json:"why"`
 }
 
 // Potency is the nucleation-potency figure: an EFFECTIVE contact angle for
@@ -118,7 +159,7 @@ type Potency struct {
 type Input struct {
 	File    string
 	Alloy   string
-	Family  arrest.Family // empty: the alloy spec's family, else limits.Family(Alloy)
+	Family  arrest.Family // empty: the alloy's, by limits.Book.Resolve; set: this family's own hints
 	Time    []float64     // s
 	Temp    []float64     // °C
 	Skipped int           // lines the reader skipped as noise
@@ -130,45 +171,81 @@ type Input struct {
 	// Meta is the curve file's metadata; chemistry keys "c_pct", "si_pct",
 	// "p_pct", ... (wt %) override the alloy's nominal analysis.
 	Meta []curvefile.Meta
+
+	// Wall is the second thermocouple of a two-thermocouple cup, near its
+	// wall, at Time's readings (nil: one thermocouple; solidpath.OnTimes
+	// puts a channel logged on its own clock there); Radii place the two.
+	Wall  []float64
+	Radii solidpath.Geometry
 }
 
-// Assess analyses one sample and fills its record.
+// Assess analyses one sample and fills its record. The detector options
+// are those of Options.
 func Assess(in Input) Record {
-	book, alloy := resolve(&in)
-	res := arrest.Analyze(in.Time, in.Temp, arrest.Options{Family: in.Family})
-	return fromResult(in, res, book, alloy)
+	s := resolve(in)
+	res := arrest.Analyze(in.Time, in.Temp, s.detect)
+	return fromResult(s, res)
 }
 
-// FromResult builds the record from an already computed Result.
+// FromResult builds the record from an already computed Result (one made
+// with Options(in), so that the live and the offline record agree).
 func FromResult(in Input, res arrest.Result) Record {
-	book, alloy := resolve(&in)
-	return fromResult(in, res, book, alloy)
+	return fromResult(resolve(in), res)
 }
 
-// resolve picks the book, the alloy spec and the family (Book.Resolve, the
-// one rule every command uses).
-func resolve(in *Input) (*limits.Book, *limits.Alloy) {
-	book := in.Limits
-	if book == nil {
-		book = builtin
+// Options are the detector options for the input: its alloy resolved by
+// limits.Book.Resolve (the one rule every command uses), with the iron
+// eutectic window worked out from the sample's own chemistry where the
+// curve's metadata carries it (Resolution.WithChemistry); a curve that
+// names no alloy is analysed in the family its highest reading suggests
+// (limits.FamilyOfCurve). A live analyser made with these options gives
+// what Assess gives once the sample is complete.
+func Options(in Input) arrest.Options { return resolve(in).detect }
+
+// sample is an input with its alloy resolved.
+type sample struct {
+	in        Input
+	book      *limits.Book
+	res       limits.Resolution
+	detect    arrest.Options
+	chem      chemistry
+	guessedBy string // why the family was taken from the curve ("" when it was not)
+}
+
+// resolve resolves the input's alloy, chemistry and detector options.
+func resolve(in Input) sample {
+	s := sample{in: in, book: in.Limits}
+	if s.book == nil {
+		s.book = builtin
 	}
-	res := book.Resolve(in.Alloy)
-	if in.Family == "" {
-		in.Family = res.Family()
+	s.res = s.book.Resolve(in.Alloy)
+	s.chem = chemistryOf(s.res.Entry, in.Meta)
+	s.res = s.res.WithChemistry(s.chem.values)
+	s.detect = s.res.Detect
+	switch {
+	case in.Family != "" && in.Family != s.res.Family():
+		s.detect = arrest.Options{Family: in.Family}
+	case s.res.Name == "" && in.Family == "":
+		fam, why := limits.FamilyOfCurve(in.Temp)
+		s.detect = arrest.Options{Family: fam, Hints: arrest.FamilyHints(fam)}
+		s.detect = limits.Resolution{Detect: s.detect}.WithChemistry(s.chem.values).Detect
+		s.guessedBy = why
 	}
-	return book, res.Entry
+	s.in.Family = s.detect.Family // the family every later step uses
+	return s
 }
 
 // builtin is parsed once; Assess only reads it.
 var builtin = limits.Builtin()
 
-func fromResult(in Input, res arrest.Result, book *limits.Book, alloy *limits.Alloy) Record {
+func fromResult(s sample, res arrest.Result) Record {
+	in, book, alloy := s.in, s.book, s.res.Entry
 	r := Record{
-		File: in.File, Alloy: in.Alloy, Samples: res.Samples, RateHz: res.RateHz,
+		File: in.File, Alloy: in.Alloy, Samples: res.Samples, RateHz: roundTo(res.RateHz, rateDecimals),
 		SkippedLines: in.Skipped, Despiked: res.Despiked,
-		Problems: []string{}, Family: string(in.Family),
+		Problems: []string{}, Family: string(s.detect.Family),
 		Chemistry: map[string]float64{}, ChemistrySource: map[string]string{},
-		Checks: []limits.Check{}, Reasons: []string{}, Advice: []string{}, Warnings: []string{},
+		Checks: []limits.Check{}, Reasons: []string{}, Advice: []string{}, Warnings: []string{}, Withheld: []WithheldFigure{},
 		LimitsVersion: book.Version, LimitsSource: book.Source,
 	}
 	r.PourPeakC, r.PourPeakS = point(res.PourPeak)
@@ -177,34 +254,46 @@ func fromResult(in Input, res arrest.Result, book *limits.Book, alloy *limits.Al
 	r.EutecticMinC, r.EutecticMinS = point(res.EutecticMin)
 	r.EutecticMaxC, r.EutecticMaxS = point(res.EutecticMax)
 	r.SolidusC, r.SolidusS = point(res.Solidus)
-	if res.RecalescenceOK {
-		r.RecalescenceC = num(res.Recalescence)
+	switch {
+	case res.RecalescenceOK && r.EutecticMinC != nil && r.EutecticMaxC != nil:
+		// from the rounded points, so the record adds up
+		r.RecalescenceC = fig("recalescence_c", *r.EutecticMaxC-*r.EutecticMinC)
+	case res.RecalescenceOK:
+		r.RecalescenceC = fig("recalescence_c", res.Recalescence)
 	}
 	if res.PlateauS > 0 {
-		r.PlateauS = num(res.PlateauS)
+		r.PlateauS = fig("plateau_s", res.PlateauS)
 	}
 	if res.CoolingRateCps != 0 {
-		r.CoolingRateCps = num(res.CoolingRateCps)
+		r.CoolingRateCps = fig("cooling_rate_c_per_s", res.CoolingRateCps)
 	}
 	if res.FreezingTimeS > 0 {
-		r.FreezingTimeS = num(res.FreezingTimeS)
+		r.FreezingTimeS = fig("freezing_time_s", res.FreezingTimeS)
 	}
 	for _, p := range res.Problems {
 		r.Problems = append(r.Problems, p.Message)
 	}
 
-	m := newMetallurgy(&r, in, res, book, alloy)
+	if s.res.Name != "" && alloy == nil {
+		r.Warnings = append(r.Warnings, fmt.Sprintf("alloy %q is not in %s (it has: %s): analysed as %s by the naming rule, no limits apply",
+			s.res.Name, book.Source, strings.Join(book.Names(), ", "), r.Family))
+	}
+	if s.guessedBy != "" {
+		r.Warnings = append(r.Warnings, "no alloy named (give --alloy or a '# alloy:' line): analysed as "+r.Family+", "+s.guessedBy+"; no limits apply")
+	}
+	m := newMetallurgy(&r, s, res)
 	m.run()
-	judge(&r, res, alloy, m)
+	judge(&r, res, alloy, m, book)
 	return r
 }
 
 // judge sets the verdict, reasons and advice.
-func judge(r *Record, res arrest.Result, alloy *limits.Alloy, m *metallurgy) {
+func judge(r *Record, res arrest.Result, alloy *limits.Alloy, m *metallurgy, book *limits.Book) {
 	var out limits.Outcome
 	if alloy != nil {
 		out = alloy.Evaluate(limits.Sample{Values: m.values, Why: m.why, Complete: res.Complete})
 		r.Checks = append(r.Checks, out.Checks...)
+		withhold(r, out.Withheld)
 	}
 	r.Provisional = !res.Complete
 	switch {
@@ -221,9 +310,13 @@ func judge(r *Record, res arrest.Result, alloy *limits.Alloy, m *metallurgy) {
 		r.Reasons = append(r.Reasons, "no alloy is named for this sample, so no limits apply")
 	case alloy == nil:
 		r.Verdict = VerdictUnchecked
-		r.Reasons = append(r.Reasons, "no limits are set for alloy "+r.Alloy+" in "+r.LimitsSource)
+		r.Reasons = append(r.Reasons, "no limits are set for alloy "+r.Alloy+" in "+r.LimitsSource+" (it has: "+strings.Join(book.Names(), ", ")+")")
 	default:
 		r.Verdict = out.Verdict
+		if r.Family == string(arrest.FamilyPure) && r.FixedPointErrorC != nil {
+			r.Reasons = append(r.Reasons, fmt.Sprintf("a check of the thermocouple and amplifier, not of metal: plateau %.2f °C, %s °C from the ITS-90 freezing point %.3f °C",
+				*r.PlateauC, signed(*r.FixedPointErrorC, 2), *r.FixedPointC))
+		}
 		r.Reasons = append(r.Reasons, out.Reasons...)
 		r.Advice = append(r.Advice, out.Advice...)
 		if r.Verdict == VerdictInvalid {
@@ -232,11 +325,59 @@ func judge(r *Record, res arrest.Result, alloy *limits.Alloy, m *metallurgy) {
 	}
 }
 
+// companions are record figures that stand or fall with a metric.
+var companions = map[string][]string{
+	"ce": {"cel_koriyama2020", "cel_heine", "cel_shop"},
+}
+
+// withhold nulls the spoilt figures of the record (and their companions,
+// and a potency figure computed from one), keeping each in r.Withheld.
+func withhold(r *Record, spoilt []limits.Withheld) {
+	v := reflect.ValueOf(r).Elem()
+	t := v.Type()
+	field := func(key string) **float64 {
+		for i := range t.NumField() {
+			if strings.Split(t.Field(i).Tag.Get("json"), ",")[0] == key {
+				if p, ok := v.Field(i).Addr().Interface().(**float64); ok {
+					return p
+				}
+			}
+		}
+		return nil
+	}
+	for _, w := range spoilt {
+		for _, key := range append([]string{w.Metric}, companions[w.Metric]...) {
+			if p := field(key); p != nil && *p != nil {
+				r.Withheld = append(r.Withheld, WithheldFigure{Metric: key, Value: **p, Why: w.Why})
+				*p = nil
+			}
+		}
+		if r.Potency != nil && r.Potency.Metric == w.Metric {
+			r.Withheld = append(r.Withheld, WithheldFigure{Metric: "f_theta", Value: r.Potency.FTheta, Why: w.Why},
+				WithheldFigure{Metric: "theta_deg", Value: r.Potency.ThetaDeg, Why: w.Why})
+			r.Potency = nil
+		}
+	}
+}
+
+// signed writes v with d decimals and its sign, "+0.38", "−0.41"; a value
+// that rounds to zero is "0.00", never "-0.00".
+func signed(v float64, d int) string {
+	s := strconv.FormatFloat(v, 'f', d, 64)
+	switch {
+	case strings.Trim(s, "-0.") == "":
+		return strings.TrimPrefix(s, "-")
+	case v > 0:
+		return "+" + s
+	}
+	return "−" + strings.TrimPrefix(s, "-")
+}
+
 func point(p arrest.Point) (c, s *float64) {
 	if !p.OK {
 		return nil, nil
 	}
-	return num(p.TempC), num(p.TimeS)
+	return num(roundTo(p.TempC, tempDecimals)), num(roundTo(p.TimeS, timeDecimals))
 }
 
 func num(v float64) *float64 { return &v }

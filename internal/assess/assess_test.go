@@ -2,6 +2,7 @@ package assess
 
 import (
 	"encoding/json"
+	"fmt"
 	"math"
 	"slices"
 	"strings"
@@ -10,20 +11,31 @@ import (
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/sim"
 )
 
 // The arrest.Results below are hand-built (constructed), not measured: they
 // stand for what the detector reports, so that the metallurgy and verdict
 // rules can be checked on their own.
 
+// Records round their figures (round.go): temperatures to 0.01 °C, carbon
+// equivalents to 0.001, ratios to 4 significant digits; the tolerances
+// below are half of that resolution.
+const (
+	tolC   = 0.005
+	tolCE  = 0.0005
+	tolRel = 5e-4
+)
+
 func pt(c, s float64) arrest.Point { return arrest.Point{TempC: c, TimeS: s, OK: true} }
 
-// greyResult is a constructed well-inoculated grey-iron cup.
+// greyResult is a constructed well-inoculated grey-iron cup, its eutectic
+// 3 °C below the measured-basis stable eutectic of the shipped spec.
 func greyResult() arrest.Result {
 	return arrest.Result{
 		Samples: 1800, RateHz: 10, Complete: true,
 		PourPeak: pt(1320, 2), Liquidus: pt(1175, 40),
-		EutecticMin: pt(1156, 95), EutecticMax: pt(1158, 120), Solidus: pt(1120, 230),
+		EutecticMin: pt(1146, 95), EutecticMax: pt(1148, 120), Solidus: pt(1110, 230),
 		Recalescence: 2, RecalescenceOK: true, PlateauS: 90, FreezingTimeS: 200, CoolingRateCps: -2.5,
 	}
 }
@@ -45,17 +57,19 @@ func has(list []string, sub string) bool {
 
 func TestGreyIronPass(t *testing.T) {
 	rec := FromResult(Input{File: "L-2417-1.csv", Alloy: "grey-iron"}, greyResult())
-	// Nominal Si 2.10, P 0.04 of the shipped spec; field notes §2 (memory):
-	// Tst = 1153 + 5.25·2.1 − 14.88·0.04 = 1163.4298, Tmst = 1148 − 15·2.1 = 1116.5.
-	near(t, "stable eutectic", rec.StableEutecticC, 1163.4298, 1e-9)
-	near(t, "metastable eutectic", rec.MetastableEutecticC, 1116.5, 1e-9)
-	near(t, "undercooling", rec.UndercoolingC, 7.4298, 1e-9)
-	near(t, "chill margin", rec.ChillMarginC, 39.5, 1e-9)
-	near(t, "pour superheat", rec.PourSuperheatC, 1320-1175, 1e-9)
+	// Nominal Si 2.10, P 0.04 of the shipped spec (Fe-C-Si literature, memory):
+	// Tst = 1153 + 5.25·2.1 − 14.88·0.04 = 1163.4298, Tmst = 1148 − 15·2.1 = 1116.5,
+	// less the shipped offsets 14.4 and 8.3 °C (measured below calculated,
+	// Riposan et al., Metals 10 (2020) 993).
+	near(t, "stable eutectic", rec.StableEutecticC, 1163.4298-14.4, tolC)
+	near(t, "metastable eutectic", rec.MetastableEutecticC, 1116.5-8.3, tolC)
+	near(t, "undercooling", rec.UndercoolingC, 1149.0298-1146, tolC)
+	near(t, "chill margin", rec.ChillMarginC, 1146-1108.2, tolC)
+	near(t, "pour superheat", rec.PourSuperheatC, 1320-1175, tolC)
 	// Koriyama et al. (2020): CEL = (1625 − 1175)/110; Heine: (1669 − 1175)/124.
-	near(t, "ce", rec.CE, 450.0/110, 1e-12)
-	near(t, "cel koriyama", rec.CELKoriyama2020, 450.0/110, 1e-12)
-	near(t, "cel heine", rec.CELHeine, 494.0/124, 1e-12)
+	near(t, "ce", rec.CE, 450.0/110, tolCE)
+	near(t, "cel koriyama", rec.CELKoriyama2020, 450.0/110, tolCE)
+	near(t, "cel heine", rec.CELHeine, 494.0/124, tolCE)
 	if rec.CERegression != "koriyama2020" || rec.CELShop != nil {
 		t.Errorf("regression %q, shop %v", rec.CERegression, rec.CELShop)
 	}
@@ -68,13 +82,15 @@ func TestGreyIronPass(t *testing.T) {
 	if rec.Potency == nil || rec.Potency.Metal != "Fe" || rec.Potency.Metric != "undercooling_c" {
 		t.Fatalf("potency %+v", rec.Potency)
 	}
-	// f = (7.4298/295)²·(1811.15 − 7.4298)/(1811.15 − 295) (field notes §4).
-	want := math.Pow(7.4298/295, 2) * (1811.15 - 7.4298) / (1811.15 - 295)
-	near(t, "f(θ)", &rec.Potency.FTheta, want, 1e-9)
+	// f = (ΔT/295)²·(1811.15 − ΔT)/(1811.15 − 295), ΔT = 3.0298 K (classical
+	// nucleation with Turnbull's ΔT_hom = 295 K for Fe; derived, memory).
+	dT := 3.0298
+	want := math.Pow(dT/295, 2) * (1811.15 - dT) / (1811.15 - 295)
+	near(t, "f(θ)", &rec.Potency.FTheta, want, want*tolRel)
 	if !strings.Contains(rec.Potency.Basis, "EFFECTIVE") || rec.Potency.DMinUm != nil {
 		t.Errorf("basis %q, d_min %v", rec.Potency.Basis, rec.Potency.DMinUm)
 	}
-	if rec.LimitsVersion != "example-1" || rec.LimitsSource != "built-in" {
+	if rec.LimitsVersion != limits.Builtin().Version || rec.LimitsSource != "built-in" {
 		t.Errorf("limits %q from %q", rec.LimitsVersion, rec.LimitsSource)
 	}
 	if len(rec.Checks) != 7 {
@@ -96,6 +112,12 @@ func TestGreyIronVerdicts(t *testing.T) {
 	cold := greyResult()
 	cold.PourPeak = pt(1225, 2)
 
+	veryCold := greyResult()
+	veryCold.PourPeak = pt(1205, 2)
+
+	fast := greyResult()
+	fast.FreezingTimeS = 90
+
 	fatal := greyResult()
 	fatal.Problems = []arrest.Problem{{Code: "tc-fault", Message: "thermocouple open circuit at 84 s", Fatal: true}}
 
@@ -114,8 +136,7 @@ func TestGreyIronVerdicts(t *testing.T) {
 	}{
 		{"poorly inoculated", "grey-iron", poor, VerdictFail,
 			[]string{
-				"eutectic minimum 1139.2 °C is below the 1142.0 °C pass limit (marginal down to 1138.0 °C)",
-				"eutectic undercooling 24.2 °C is above the 14.0 °C limit",
+				"eutectic undercooling 9.8 °C is above the 8.0 °C limit",
 				"eutectic recalescence 6.0 °C is above the 4.0 °C pass limit (marginal up to 6.0 °C)",
 			},
 			[]string{"late (stream or ladle) inoculant", "more or later inoculation"}},
@@ -123,6 +144,14 @@ func TestGreyIronVerdicts(t *testing.T) {
 			[]string{"carbon equivalent not computed: no liquidus arrest"}, nil},
 		{"filled cold", "grey-iron", cold, VerdictMarginal,
 			[]string{"pour superheat in the cup 50 °C is below the 60 °C pass limit (marginal down to 40 °C)"}, []string{"hotter metal"}},
+		{"filled too cold: the cup, not the metal", "grey-iron", veryCold, VerdictInvalid,
+			[]string{"the sample is unfit (a check on the cup, not the metal): pour superheat in the cup 30 °C is below the 40 °C limit",
+				"withheld, spoilt by the sample: carbon equivalent from the liquidus"},
+			[]string{"hotter metal", "re-sampling with a fresh cup"}},
+		{"froze too fast: the cup, not the metal", "grey-iron", fast, VerdictInvalid,
+			[]string{"freezing time 90 s is below the 100 s limit",
+				"withheld, spoilt by the sample: eutectic recalescence, eutectic undercooling, chill margin"},
+			[]string{"full cup"}},
 		{"required eutectic missing", "grey-iron", noEut, VerdictInvalid,
 			[]string{"eutectic minimum not found; it is required for grey-iron"},
 			[]string{"re-sampling with a fresh, full cup"}},
@@ -132,7 +161,7 @@ func TestGreyIronVerdicts(t *testing.T) {
 			[]string{"no limits are set for alloy compacted-iron in built-in"}, nil},
 		{"no alloy named", "", greyResult(), VerdictUnchecked, []string{"no alloy is named"}, nil},
 		{"still freezing, nothing out", "grey-iron", live, VerdictUnchecked, []string{"still freezing"}, nil},
-		{"still freezing, already out", "grey-iron", liveBad, VerdictFail, []string{"1139.2 °C"}, nil},
+		{"still freezing, already out", "grey-iron", liveBad, VerdictFail, []string{"eutectic undercooling 9.8 °C"}, nil},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			rec := FromResult(Input{Alloy: c.alloy}, c.res)
@@ -161,6 +190,48 @@ func TestGreyIronVerdicts(t *testing.T) {
 	}
 }
 
+// TestBadCupWithholdsFigures: a cup filled too cold is invalid, and the
+// carbon equivalent read from its liquidus is withheld (null, with its
+// value and the reason kept in "withheld"); a cup that froze too fast
+// withholds its eutectic figures and the potency computed from them.
+func TestBadCupWithholdsFigures(t *testing.T) {
+	cold := greyResult()
+	cold.PourPeak = pt(1205, 2)
+	rec := FromResult(Input{Alloy: "grey-iron"}, cold)
+	if rec.CE != nil || rec.CELKoriyama2020 != nil || rec.CELHeine != nil || rec.LiquidusC == nil {
+		t.Errorf("ce %v, cel %v %v, liquidus %v: want the CE figures withheld, the point kept", rec.CE, rec.CELKoriyama2020, rec.CELHeine, rec.LiquidusC)
+	}
+	keys := map[string]float64{}
+	for _, w := range rec.Withheld {
+		keys[w.Metric] = w.Value
+		if !strings.Contains(w.Why, "pour superheat in the cup 30 °C") {
+			t.Errorf("withheld %s: why %q", w.Metric, w.Why)
+		}
+	}
+	// Koriyama et al. (2020): CEL = (1625 − 1175)/110; Heine: (1669 − 1175)/124.
+	if math.Abs(keys["ce"]-450.0/110) > tolCE || math.Abs(keys["cel_heine"]-494.0/124) > tolCE || len(keys) != 3 {
+		t.Errorf("withheld %+v", rec.Withheld)
+	}
+	for _, c := range rec.Checks {
+		if c.Metric == "ce" && c.Status != limits.StatusWithheld {
+			t.Errorf("ce check %s", c.Status)
+		}
+		if c.Metric == "pour_superheat_c" && (!c.SampleCheck || c.Status != limits.StatusFail) {
+			t.Errorf("pour superheat check %+v", c)
+		}
+	}
+	fast := greyResult()
+	fast.FreezingTimeS = 90
+	rec = FromResult(Input{Alloy: "grey-iron"}, fast)
+	if rec.Verdict != VerdictInvalid || rec.UndercoolingC != nil || rec.ChillMarginC != nil || rec.RecalescenceC != nil || rec.Potency != nil || rec.CE == nil {
+		t.Errorf("fast cup: verdict %s, undercooling %v, chill %v, recalescence %v, potency %v, ce %v", rec.Verdict, rec.UndercoolingC, rec.ChillMarginC, rec.RecalescenceC, rec.Potency, rec.CE)
+	}
+	b, _ := json.Marshal(rec)
+	if !strings.Contains(string(b), `"withheld":[{"metric":"recalescence_c"`) {
+		t.Errorf("JSON withheld: %s", b)
+	}
+}
+
 func TestReasonWording(t *testing.T) {
 	// A spec without a marginal band: the sentence names the one limit.
 	f := 1142.0
@@ -182,11 +253,18 @@ func TestReasonWording(t *testing.T) {
 func TestCurveChemistry(t *testing.T) {
 	meta := []curvefile.Meta{{Key: "alloy", Value: "grey-iron"}, {Key: "si_pct", Value: "2,4"}, {Key: "c_pct", Value: "3.38 %"}, {Key: "mn_pct", Value: "lots"}}
 	rec := FromResult(Input{Alloy: "grey-iron", Meta: meta}, greyResult())
-	// Tst = 1153 + 5.25·2.4 − 14.88·0.04 (P nominal) = 1165.0048 (field notes §2, memory).
-	near(t, "stable eutectic", rec.StableEutecticC, 1165.0048, 1e-9)
+	// Tst = 1153 + 5.25·2.4 − 14.88·0.04 (P nominal) = 1165.0048 (Fe-C-Si
+	// literature, memory), less the shipped 14.4 °C offset.
+	near(t, "stable eutectic", rec.StableEutecticC, 1165.0048-14.4, tolC)
+	// The detector's eutectic window follows the sample's silicon too:
+	// [Tmst − 8.3 − 20, Tst + 5] with Tmst = 1148 − 15·2.4 = 1112.
+	w := Options(Input{Alloy: "grey-iron", Meta: meta}).Hints.Eutectic
+	if math.Abs(w.LoC-(1112-8.3-20)) > 1e-9 || math.Abs(w.HiC-(1165.0048+5)) > 1e-9 {
+		t.Errorf("eutectic window %+v", w)
+	}
 	near(t, "si_pct", rec.SiPct, 2.4, 0)
 	near(t, "c_pct", rec.CPct, 3.38, 0)
-	near(t, "ce_classic", rec.CEClassic, 3.38+(2.4+0.04)/3, 1e-12)
+	near(t, "ce_classic", rec.CEClassic, 3.38+(2.4+0.04)/3, tolCE)
 	if rec.ChemistrySource["si"] != SourceCurve || rec.ChemistrySource["p"] != SourceNominal {
 		t.Errorf("sources %v", rec.ChemistrySource)
 	}
@@ -198,7 +276,7 @@ func TestCurveChemistry(t *testing.T) {
 func TestWhiteCup(t *testing.T) {
 	// Constructed from a known iron C 3.45, Si 2.00, P 0.04 (nominal P of the
 	// spec): Heine TL = 1669 − 124·(3.45 + 2.00/4 + 0.04/2) = 1176.72 °C; white
-	// arrest = 1148 − 15·2.00 − offset (field notes §2; an offset of 8.3 °C is
+	// arrest = 1148 − 15·2.00 − offset (Fe-C-Si literature, memory; an offset of 8.3 °C is
 	// the average of Riposan et al. 2020). The default inversion must give
 	// them back.
 	book := limits.Builtin()
@@ -233,8 +311,8 @@ func TestShopCalibration(t *testing.T) {
 	book.Alloys["grey-iron"].Reference.CELRegression = "shop"
 	res := greyResult()
 	rec := FromResult(Input{Alloy: "grey-iron", Limits: book}, res)
-	near(t, "shop CEL", rec.CELShop, (1660-1175)/120.0, 1e-12)
-	near(t, "ce uses shop", rec.CE, (1660-1175)/120.0, 1e-12)
+	near(t, "shop CEL", rec.CELShop, (1660-1175)/120.0, tolCE)
+	near(t, "ce uses shop", rec.CE, (1660-1175)/120.0, tolCE)
 	if len(rec.Warnings) != 0 {
 		t.Errorf("warnings %q inside the fitted range", rec.Warnings)
 	}
@@ -259,13 +337,14 @@ func TestAluminium(t *testing.T) {
 	near(t, "liquidus ref", rec.LiquidusRefC, 614.25, 1e-9)
 	near(t, "α undercooling", rec.AlphaUndercoolingC, 1.25, 1e-9)
 	near(t, "α recalescence", rec.AlphaRecalescenceC, 0.2, 1e-9)
-	near(t, "eutectic ref", rec.EutecticRefC, 573.856, 5e-4)
-	near(t, "depression", rec.EutecticDepressionC, 6.356, 5e-4)
+	near(t, "eutectic ref", rec.EutecticRefC, 573.856, tolC)
+	near(t, "depression", rec.EutecticDepressionC, 573.86-567.5, tolC) // from the rounded reference
 	if rec.Potency == nil || rec.Potency.Metal != "Al" {
 		t.Fatalf("potency %+v", rec.Potency)
 	}
 	// Free growth (Greer et al. 2000): d = 4·0.158/(1.112e6·1.25) m = 0.45468 µm.
-	near(t, "d_min", rec.Potency.DMinUm, 4*0.158/(1.112e6*1.25)*1e6, 1e-9)
+	dmin := 4 * 0.158 / (1.112e6 * 1.25) * 1e6
+	near(t, "d_min", rec.Potency.DMinUm, dmin, dmin*tolRel)
 	if rec.Verdict != VerdictPass {
 		t.Errorf("verdict %s, reasons %q", rec.Verdict, rec.Reasons)
 	}
@@ -276,25 +355,44 @@ func TestAluminium(t *testing.T) {
 	}
 }
 
+// TestPureCheckCup: a check cup reports its plateau, the thermocouple's
+// offset from the ITS-90 freezing point (Preston-Thomas, Metrologia 27
+// (1990) 3) and the undercooling below its plateau; it passes within the
+// type K class 2 tolerance, ±2.2 °C or ±0.75 %, whichever is greater
+// (IEC 60584-1, memory), and says it checks the thermocouple, not metal.
 func TestPureCheckCup(t *testing.T) {
-	// ITS-90 Al freezing point 660.323 °C (Preston-Thomas 1990); pass ±2.2 °C,
-	// marginal to the type K class 2 ±0.75 % (IEC 60584-1, memory).
 	for _, c := range []struct {
+		alloy   string
+		fp      float64
 		plateau float64
 		verdict string
-	}{{659.1, VerdictPass}, {662.5, VerdictPass}, {656.0, VerdictMarginal}, {654.0, VerdictFail}, {666.0, VerdictFail}} {
-		res := arrest.Result{Samples: 900, RateHz: 10, Complete: true, EutecticMin: pt(c.plateau-0.1, 50), EutecticMax: pt(c.plateau, 60)}
-		rec := FromResult(Input{Alloy: "pure-al"}, res)
-		near(t, "plateau", rec.PlateauC, c.plateau, 0)
-		near(t, "error", rec.FixedPointErrorC, c.plateau-660.323, 1e-9)
+	}{
+		{"pure-sn", 231.928, 233.0, VerdictPass}, {"pure-sn", 231.928, 234.2, VerdictFail}, // ±2.2 °C
+		{"pure-zn", 419.527, 416.5, VerdictPass}, {"pure-zn", 419.527, 416.3, VerdictFail}, // ±3.146 °C
+		{"pure-al", 660.323, 659.1, VerdictPass}, {"pure-al", 660.323, 656.0, VerdictPass}, {"pure-al", 660.323, 655.3, VerdictFail}, {"pure-al", 660.323, 666.0, VerdictFail},
+		{"pure-ag", 961.78, 968.9, VerdictPass}, {"pure-ag", 961.78, 969.1, VerdictFail}, // ±7.213 °C
+		{"pure-cu", 1084.62, 1076.6, VerdictPass}, {"pure-cu", 1084.62, 1076.4, VerdictFail}, // ±8.135 °C
+	} {
+		res := arrest.Result{Samples: 900, RateHz: 10, Complete: true, EutecticMin: pt(c.plateau-0.3, 50), EutecticMax: pt(c.plateau, 60)}
+		rec := FromResult(Input{Alloy: c.alloy}, res)
+		near(t, c.alloy+" plateau", rec.PlateauC, c.plateau, 0)
+		near(t, c.alloy+" offset", rec.FixedPointErrorC, c.plateau-c.fp, tolCE)
+		near(t, c.alloy+" undercooling", rec.FixedPointUndercoolingC, 0.3, tolCE)
 		if rec.Verdict != c.verdict {
-			t.Errorf("plateau %.1f: verdict %s, want %s (%q)", c.plateau, rec.Verdict, c.verdict, rec.Reasons)
+			t.Errorf("%s plateau %.1f: verdict %s, want %s (%q)", c.alloy, c.plateau, rec.Verdict, c.verdict, rec.Reasons)
+		}
+		if len(rec.Reasons) == 0 || !strings.HasPrefix(rec.Reasons[0], "a check of the thermocouple and amplifier, not of metal") {
+			t.Errorf("%s: reasons %q", c.alloy, rec.Reasons)
+		}
+		if c.verdict == VerdictFail && !has(rec.Advice, "checks the thermocouple, not metal") {
+			t.Errorf("%s: advice %q", c.alloy, rec.Advice)
 		}
 	}
 }
 
-func TestJSONKeys(t *testing.T) {
-	rec := FromResult(Input{File: "x.csv", Alloy: "grey-iron"}, greyResult())
+// jsonFields is the record as scripts see it: its JSON object.
+func jsonFields(t *testing.T, rec Record) map[string]any {
+	t.Helper()
 	b, err := json.Marshal(rec)
 	if err != nil {
 		t.Fatal(err)
@@ -303,8 +401,14 @@ func TestJSONKeys(t *testing.T) {
 	if err := json.Unmarshal(b, &m); err != nil {
 		t.Fatal(err)
 	}
+	return m
+}
+
+func TestJSONKeys(t *testing.T) {
+	rec := FromResult(Input{File: "x.csv", Alloy: "grey-iron"}, greyResult())
+	m := jsonFields(t, rec)
 	for _, k := range []string{
-		// keys of the design (design.md, "JSON result") keep their names
+		// the stable keys of the JSON result (README.md, "Analysing files") keep their names
 		"file", "alloy", "samples", "rate_hz", "pour_peak_c", "liquidus_min_c", "liquidus_c", "eutectic_min_c",
 		"eutectic_max_c", "recalescence_c", "solidus_c", "problems", "verdict",
 		// new keys
@@ -345,15 +449,15 @@ func TestAssessEmptyCurveNeverPasses(t *testing.T) {
 }
 
 func TestNoUndercoolingNoPotency(t *testing.T) {
-	// A constructed cup whose eutectic minimum lies above the calculated Tst
-	// (1163.43 °C at the nominal Si 2.1): no potency figure, and a warning.
+	// A constructed cup whose eutectic minimum lies above the offset Tst
+	// (1149.03 °C at the nominal Si 2.1): no potency figure, and a warning.
 	res := greyResult()
-	res.EutecticMin, res.EutecticMax = pt(1165, 95), pt(1166, 120)
+	res.EutecticMin, res.EutecticMax = pt(1151, 95), pt(1152, 120)
 	rec := FromResult(Input{Alloy: "grey-iron"}, res)
 	if rec.Potency != nil || !has(rec.Warnings, "no undercooling") {
 		t.Errorf("potency %+v, warnings %q", rec.Potency, rec.Warnings)
 	}
-	near(t, "undercooling", rec.UndercoolingC, 1163.4298-1165, 1e-9)
+	near(t, "undercooling", rec.UndercoolingC, 1149.0298-1151, tolC)
 }
 
 func TestAluminiumCurveSilicon(t *testing.T) {
@@ -384,6 +488,76 @@ func TestConcurrentSharedBook(t *testing.T) {
 	for range 8 {
 		if rec := <-done; rec.Verdict != VerdictPass {
 			t.Errorf("%s: %s %q", rec.Alloy, rec.Verdict, rec.Reasons)
+		}
+	}
+}
+
+// TestJSONNumbersRounded: a record of a simulated cup (internal/sim, the
+// project's own model) writes its numbers at the data's resolution, not
+// as 1184.4096759008462: the characteristic points to 0.01 °C and 0.01 s,
+// and every number with at most 3 decimals or, for ratios over decades
+// (f(θ), r*, ΔG*), at most 4 significant digits.
+func TestJSONNumbersRounded(t *testing.T) {
+	p, err := sim.Preset(sim.DuctileIron, 0.8, 7)
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := sim.Simulate(p)
+	rec := Assess(Input{File: "x.csv", Alloy: "ductile-iron", Time: out.Time, Temp: out.Temp, Meta: out.Meta})
+	b, _ := json.Marshal(rec)
+	dec := json.NewDecoder(strings.NewReader(string(b)))
+	dec.UseNumber()
+	var m map[string]any
+	if err := dec.Decode(&m); err != nil {
+		t.Fatal(err)
+	}
+	decimals := func(n json.Number) int {
+		s := n.String()
+		if i := strings.IndexAny(s, "eE"); i >= 0 {
+			return 99
+		}
+		if i := strings.IndexByte(s, '.'); i >= 0 {
+			return len(s) - i - 1
+		}
+		return 0
+	}
+	significant := func(n json.Number) int {
+		s := strings.TrimLeft(strings.NewReplacer("-", "", ".", "").Replace(strings.SplitN(strings.ToLower(n.String()), "e", 2)[0]), "0")
+		return len(s)
+	}
+	for _, k := range []string{"eutectic_min_c", "eutectic_max_c", "solidus_c", "eutectic_min_s", "solidus_s", "pour_peak_c"} { // a near-eutectic ductile iron shows no liquidus
+		n, ok := m[k].(json.Number)
+		if !ok || decimals(n) > 2 {
+			t.Errorf("%s = %v: want a number with at most 2 decimals", k, m[k])
+		}
+	}
+	var walk func(path string, v any)
+	walk = func(path string, v any) {
+		switch v := v.(type) {
+		case json.Number:
+			if decimals(v) > 3 && significant(v) > 4 {
+				t.Errorf("%s = %s: more than 3 decimals and 4 significant digits", path, v)
+			}
+		case map[string]any:
+			for k, x := range v {
+				walk(path+"."+k, x)
+			}
+		case []any:
+			for i, x := range v {
+				walk(fmt.Sprintf("%s[%d]", path, i), x)
+			}
+		}
+	}
+	walk("", m)
+	if rec.Potency == nil || rec.UndercoolingC == nil {
+		t.Fatalf("the simulated cup gave no potency or undercooling: %+v", rec.Reasons)
+	}
+}
+
+func TestSigned(t *testing.T) {
+	for v, want := range map[float64]string{0.38: "+0.38", -0.41: "−0.41", -0.001: "0.00", 0.004: "0.00", 0: "0.00", -12.5: "−12.50"} {
+		if got := signed(v, 2); got != want {
+			t.Errorf("signed(%g) = %q, want %q", v, got, want)
 		}
 	}
 }

@@ -23,6 +23,5 @@ func ExampleFromResult() {
 	}
 	// Output:
 	// fail
-	// - eutectic minimum 1139.2 °C is below the 1142.0 °C pass limit (marginal down to 1138.0 °C)
-	// - eutectic undercooling 24.2 °C is above the 14.0 °C limit
+	// - eutectic undercooling 9.8 °C is above the 8.0 °C limit
 }

@@ -3,11 +3,13 @@ package assess
 import (
 	"errors"
 	"fmt"
+	"maps"
 	"math"
 	"strconv"
 	"strings"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
+	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/metal"
 )
@@ -24,7 +26,7 @@ const (
 // limits.
 type metallurgy struct {
 	r      *Record
-	in     Input
+	s      sample
 	res    arrest.Result
 	book   *limits.Book
 	alloy  *limits.Alloy
@@ -32,15 +34,15 @@ type metallurgy struct {
 	why    map[string]string
 }
 
-func newMetallurgy(r *Record, in Input, res arrest.Result, book *limits.Book, alloy *limits.Alloy) *metallurgy {
-	return &metallurgy{r: r, in: in, res: res, book: book, alloy: alloy,
+func newMetallurgy(r *Record, s sample, res arrest.Result) *metallurgy {
+	return &metallurgy{r: r, s: s, res: res, book: s.book, alloy: s.res.Entry,
 		values: map[string]float64{}, why: map[string]string{}}
 }
 
 func (m *metallurgy) run() {
 	m.chemistry()
 	m.points()
-	switch m.in.Family {
+	switch m.s.detect.Family {
 	case arrest.FamilyIron:
 		m.iron()
 	case arrest.FamilyWhite:
@@ -51,6 +53,7 @@ func (m *metallurgy) run() {
 		m.pure()
 	}
 	m.potency()
+	m.solidification()
 }
 
 // set stores a computed figure in the record field and the metric values.
@@ -59,6 +62,7 @@ func (m *metallurgy) set(dst **float64, metric string, v float64) {
 		m.why[metric] = label(metric) + " could not be computed"
 		return
 	}
+	v = roundFigure(metric, v)
 	*dst = num(v)
 	m.values[metric] = v
 }
@@ -77,16 +81,24 @@ func label(metric string) string {
 	return metric
 }
 
-// chemistry reads "<el>_pct" metadata of the curve over the alloy's nominal
-// analysis.
-func (m *metallurgy) chemistry() {
-	if m.alloy != nil {
-		for el, v := range m.alloy.Chemistry {
-			m.r.Chemistry[el] = v
-			m.r.ChemistrySource[el] = SourceNominal
+// chemistry is the analysis a sample is judged with.
+type chemistry struct {
+	values   map[string]float64 // wt % by lower-case element symbol
+	source   map[string]string  // SourceCurve or SourceNominal
+	warnings []string
+}
+
+// chemistryOf reads "<el>_pct" metadata of the curve over the alloy's
+// nominal analysis (a decimal comma and a trailing % are accepted; an
+// unreadable value is a warning, never used).
+func chemistryOf(alloy *limits.Alloy, meta []curvefile.Meta) chemistry {
+	c := chemistry{values: map[string]float64{}, source: map[string]string{}}
+	if alloy != nil {
+		for el, v := range alloy.Chemistry {
+			c.values[el], c.source[el] = v, SourceNominal
 		}
 	}
-	for _, md := range m.in.Meta {
+	for _, md := range meta {
 		el, ok := strings.CutSuffix(strings.ToLower(strings.TrimSpace(md.Key)), "_pct")
 		if !ok || !isElement(el) {
 			continue
@@ -94,12 +106,19 @@ func (m *metallurgy) chemistry() {
 		txt := strings.TrimSpace(strings.TrimSuffix(strings.TrimSpace(md.Value), "%"))
 		v, err := strconv.ParseFloat(strings.Replace(txt, ",", ".", 1), 64)
 		if err != nil || v < 0 || v > 100 {
-			m.r.Warnings = append(m.r.Warnings, fmt.Sprintf("curve metadata %s: %q is not a wt %% (ignored)", md.Key, md.Value))
+			c.warnings = append(c.warnings, fmt.Sprintf("curve metadata %s: %q is not a wt %% (ignored)", md.Key, md.Value))
 			continue
 		}
-		m.r.Chemistry[el] = v
-		m.r.ChemistrySource[el] = SourceCurve
+		c.values[el], c.source[el] = v, SourceCurve
 	}
+	return c
+}
+
+// chemistry copies the sample's analysis into the record.
+func (m *metallurgy) chemistry() {
+	maps.Copy(m.r.Chemistry, m.s.chem.values)
+	maps.Copy(m.r.ChemistrySource, m.s.chem.source)
+	m.r.Warnings = append(m.r.Warnings, m.s.chem.warnings...)
 }
 
 func isElement(el string) bool {
@@ -206,10 +225,10 @@ func (m *metallurgy) cel() {
 	tl := *r.LiquidusC
 	k, _ := m.book.LiquidusCE(limits.RegressionKoriyama)
 	h, _ := m.book.LiquidusCE(limits.RegressionHeine)
-	r.CELKoriyama2020 = num(k.CEL(tl))
-	r.CELHeine = num(h.CEL(tl))
+	r.CELKoriyama2020 = fig("cel_koriyama2020", k.CEL(tl))
+	r.CELHeine = fig("cel_heine", h.CEL(tl))
 	if s, ok := m.book.LiquidusCE(limits.RegressionShop); ok {
-		r.CELShop = num(s.CEL(tl))
+		r.CELShop = fig("cel_shop", s.CEL(tl))
 		m.rangeWarning("liquidus", m.book.Calibration.Liquidus, tl)
 	}
 	switch r.CERegression {
@@ -255,7 +274,7 @@ func (m *metallurgy) white() {
 	r.WhiteEutecticC = num(*tMeta)
 	si := wc.Si(*tMeta)
 	m.set(&r.SiPct, "si_pct", si)
-	r.Chemistry["si"], r.ChemistrySource["si"] = si, SourceWhite
+	r.Chemistry["si"], r.ChemistrySource["si"] = roundTo(si, pctDecimals), SourceWhite
 	if shop {
 		m.rangeWarning("silicon", m.book.Calibration.Silicon, *tMeta)
 	}
@@ -270,7 +289,7 @@ func (m *metallurgy) white() {
 	}
 	c := wc.C(*r.LiquidusC, si, p)
 	m.set(&r.CPct, "c_pct", c)
-	r.Chemistry["c"], r.ChemistrySource["c"] = c, SourceWhite
+	r.Chemistry["c"], r.ChemistrySource["c"] = roundTo(c, pctDecimals), SourceWhite
 	if shop {
 		m.rangeWarning("carbon", m.book.Calibration.Carbon, *r.LiquidusC)
 	}
@@ -326,7 +345,16 @@ func (m *metallurgy) pure() {
 	if r.PlateauC == nil {
 		m.missing("plateau_c", "freezing plateau not found")
 		m.missing("fixed_point_error_c", "plateau minus the fixed point not computed: no plateau found")
+		m.missing("fixed_point_undercooling_c", "check-cup undercooling not computed: no plateau found")
 		return
+	}
+	switch {
+	case r.EutecticMinC != nil && r.EutecticMaxC != nil:
+		m.set(&r.FixedPointUndercoolingC, "fixed_point_undercooling_c", *r.EutecticMaxC-*r.EutecticMinC)
+	case r.EutecticMinC != nil:
+		m.set(&r.FixedPointUndercoolingC, "fixed_point_undercooling_c", 0)
+	default:
+		m.missing("fixed_point_undercooling_c", "check-cup undercooling not computed: the plateau is not a eutectic-type arrest")
 	}
 	if m.alloy != nil && m.alloy.Reference.FixedPointC != nil {
 		fp := *m.alloy.Reference.FixedPointC
@@ -340,7 +368,7 @@ func (m *metallurgy) pure() {
 // potency computes the nucleation-potency figure from the chosen
 // undercooling metric.
 func (m *metallurgy) potency() {
-	c, onset, metric, ok := m.alloy.PotencyModel(m.in.Family)
+	c, onset, metric, ok := m.alloy.PotencyModel(m.s.detect.Family)
 	if !ok {
 		return
 	}
@@ -357,14 +385,15 @@ func (m *metallurgy) potency() {
 		}
 		return
 	}
-	out := &Potency{FTheta: p.FTheta, ThetaDeg: p.ThetaDeg, BarrierRatio: p.BarrierRatio,
-		UndercoolingK: p.UndercoolingK, Metric: metric, Metal: c.Name, Basis: p.Basis}
+	out := &Potency{FTheta: roundFigure("f_theta", p.FTheta), ThetaDeg: roundFigure("theta_deg", p.ThetaDeg),
+		BarrierRatio: roundSig(p.BarrierRatio, sigDigits), UndercoolingK: roundTo(p.UndercoolingK, tempDecimals),
+		Metric: metric, Metal: c.Name, Basis: p.Basis}
 	if p.RStarNm > 0 {
-		out.RStarNm, out.DGStarJ = num(p.RStarNm), num(p.GHetJ)
+		out.RStarNm, out.DGStarJ = num(roundSig(p.RStarNm, sigDigits)), num(roundSig(p.GHetJ, sigDigits))
 	}
 	if p.DMinUm > 0 {
-		out.DMinUm = num(p.DMinUm)
+		out.DMinUm = num(roundSig(p.DMinUm, sigDigits))
 	}
 	m.r.Potency = out
-	m.values["f_theta"], m.values["theta_deg"] = p.FTheta, p.ThetaDeg
+	m.values["f_theta"], m.values["theta_deg"] = out.FTheta, out.ThetaDeg
 }

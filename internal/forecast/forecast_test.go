@@ -18,7 +18,7 @@ func cup(t testing.TB, p sim.Params, alloy string) (assess.Input, arrest.Result,
 	t.Helper()
 	o := sim.Simulate(p)
 	in := assess.Input{Alloy: alloy, Time: o.Time, Temp: o.Temp, Meta: o.Meta}
-	res := arrest.Analyze(o.Time, o.Temp, builtin.Resolve(alloy).Detect)
+	res := arrest.Analyze(o.Time, o.Temp, assess.Detect(in))
 	return in, res, o
 }
 

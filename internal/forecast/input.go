@@ -11,19 +11,11 @@ import (
 	"github.com/undercool-foundry/undercool/internal/limits"
 )
 
-// AdviseInput analyses the sample as assess.Assess does (the alloy
-// resolved by the book, limits.Book.Resolve) and advises on it: the
-// sample's record and the model's predictions for its additions.
+// AdviseInput analyses the sample as assess.Assess does (assess.Detect)
+// and advises on it: the sample's record and the model's predictions for
+// its additions.
 func AdviseInput(ctx context.Context, in assess.Input, opt Options) (assess.Record, []Prediction) {
-	book := in.Limits
-	if book == nil {
-		book = builtin
-	}
-	det := book.Resolve(in.Alloy).Detect
-	if in.Family != "" {
-		det.Family = in.Family
-	}
-	res := arrest.Analyze(in.Time, in.Temp, det)
+	res := arrest.Analyze(in.Time, in.Temp, assess.Detect(in))
 	return assess.FromResult(in, res), Advise(ctx, in, res, opt)
 }
 

@@ -55,7 +55,23 @@ type Alloy struct {
 
 	Reference Reference         `toml:"reference"`
 	Potency   PotencySpec       `toml:"potency"`
+	Detect    DetectSpec        `toml:"detect"`
 	Metrics   map[string]*Limit `toml:"metric"`
+}
+
+// DetectSpec is an alloy's own detection windows, for alloys the built-in
+// families do not describe (zinc die-casting, copper-base, magnesium and
+// tin-base alloys) or a shop's own cup. Book.Resolve maps them onto the
+// detector's hints; a key left out keeps the family's value. Windows are
+// [low, high] in °C: an arrest outside its window is not that point.
+type DetectSpec struct {
+	// PourMinC is the pour trigger: a pour must reach this reading, °C.
+	PourMinC *float64 `toml:"pour_min_c"`
+	// LiquidusC is where the primary (liquidus) arrest may lie.
+	LiquidusC []float64 `toml:"liquidus_c"`
+	// EutecticC is where the eutectic (a check cup's plateau) may lie; an
+	// arrest above it is a primary arrest.
+	EutecticC []float64 `toml:"eutectic_c"`
 }
 
 // Reference holds the reference temperatures and regression choices of an
@@ -88,6 +104,11 @@ type Reference struct {
 
 	// Pure-metal check cup.
 	FixedPointC *float64 `toml:"fixed_point_c"` // ITS-90 freezing point, °C
+
+	// SpecificHeatJPerKgK is the c the latent heat of the solidification
+	// path is worked out with, J/(kg K) (absent: the family's default,
+	// solidpath.SpecificHeat; a pure metal has none and needs its own).
+	SpecificHeatJPerKgK *float64 `toml:"specific_heat_j_per_kg_k"`
 }
 
 // PotencySpec chooses the constants of the nucleation-potency figure.
@@ -112,10 +133,20 @@ type Limit struct {
 	MarginalMax *float64 `toml:"marginal_max"`
 	// Required makes a finished sample invalid when the metric cannot be
 	// computed (an arrest that is due was not found: re-sample).
-	Required bool   `toml:"required"`
-	Low      string `toml:"low"`     // advice when the value is below the pass band
-	High     string `toml:"high"`    // advice when the value is above the pass band
-	Missing  string `toml:"missing"` // advice when the value could not be computed
+	Required bool `toml:"required"`
+	// SampleCheck marks a check on the sample rather than on the metal (a
+	// cup filled cold or short, say): out of its marginal band the sample
+	// is invalid and should be taken again (INVALID · RE-SAMPLE), rather
+	// than the metal failing.
+	SampleCheck bool `toml:"sample_check"`
+	// Spoils names the metrics a failed sample check makes untrustworthy
+	// (a liquidus read seconds after a low pour peak spoils the carbon
+	// equivalent): their figures are withheld from the verdict and the
+	// record, with the reason.
+	Spoils  []string `toml:"spoils"`
+	Low     string   `toml:"low"`     // advice when the value is below the pass band
+	High    string   `toml:"high"`    // advice when the value is above the pass band
+	Missing string   `toml:"missing"` // advice when the value could not be computed
 }
 
 // Alloy returns the named alloy's specification; a name not found as

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"slices"
 	"strconv"
+	"strings"
 )
 
 // Check statuses and verdicts. The verdict strings are the stable ones of the
@@ -13,6 +14,10 @@ const (
 	StatusMarginal = "marginal"
 	StatusFail     = "fail"
 	StatusMissing  = "missing" // the metric could not be computed
+	// StatusWithheld: the figure was computed, but a failed check on the
+	// sample spoils it (a cup filled cold, frozen too fast): it is not
+	// judged, and the record withholds it.
+	StatusWithheld = "withheld"
 
 	VerdictPass      = "pass"
 	VerdictMarginal  = "marginal"
@@ -57,9 +62,12 @@ type Check struct {
 	Pass     Band     `json:"pass"`
 	Marginal Band     `json:"marginal"`
 	Required bool     `json:"required"`
-	Status   string   `json:"status"` // pass, marginal, fail, missing
-	Reason   string   `json:"reason"`
-	Advice   string   `json:"advice,omitempty"`
+	// SampleCheck: a check on the sample, not the metal (its fail makes
+	// the verdict invalid: re-sample).
+	SampleCheck bool   `json:"sample_check,omitempty"`
+	Status      string `json:"status"` // pass, marginal, fail, missing, withheld
+	Reason      string `json:"reason"`
+	Advice      string `json:"advice,omitempty"`
 }
 
 // Sample is what a sample gives the limits: the metric values that could be
@@ -80,10 +88,22 @@ type Outcome struct {
 	// Provisional is true while the sample is still freezing: a verdict may
 	// still change, and pass is never given early.
 	Provisional bool
+	// Withheld are the figures failed checks on the sample spoil, by
+	// metric, with why ("pour superheat in the cup 13 °C is below the 40 °C
+	// limit: a cup filled cold"), in metric order.
+	Withheld []Withheld
+}
+
+// Withheld is one figure a failed check on the sample spoils.
+type Withheld struct {
+	Metric string `json:"metric"`
+	Why    string `json:"why"`
 }
 
 // Evaluate checks the sample against every limit of the alloy. Rules:
-// a required metric missing from a finished sample → invalid (re-sample);
+// a check on the sample (sample_check) outside its marginal band → invalid
+// (re-sample), and the figures it spoils are withheld, not judged; a
+// required metric missing from a finished sample → invalid (re-sample);
 // else any fail → fail; else any marginal → marginal; a missing metric that
 // is not required is listed but does not fail; if nothing could be checked,
 // or the sample is still freezing and nothing is out, → unchecked; else pass.
@@ -97,12 +117,36 @@ func (a *Alloy) Evaluate(s Sample) Outcome {
 			o.Advice = append(o.Advice, txt)
 		}
 	}
-	for _, name := range sortedMetrics(a.Metrics) {
+	names := sortedMetrics(a.Metrics)
+	// Checks on the sample first: what they spoil is not judged.
+	spoiled := map[string]string{}
+	for _, name := range names {
+		l := a.Metrics[name]
+		v, ok := s.Values[name]
+		if !l.SampleCheck || !ok {
+			continue
+		}
+		mi, _ := Metric(name)
+		if st, reason, _ := judge(mi, l, v); st == StatusFail {
+			for _, sp := range l.Spoils {
+				if _, seen := spoiled[sp]; !seen {
+					spoiled[sp] = reason
+				}
+			}
+		}
+	}
+	for _, name := range names {
 		l := a.Metrics[name]
 		mi, _ := Metric(name)
-		c := Check{Metric: name, Label: mi.Label, Unit: mi.Unit, Pass: l.PassBand(), Marginal: l.MarginalBand(), Required: l.Required}
+		c := Check{Metric: name, Label: mi.Label, Unit: mi.Unit, Pass: l.PassBand(), Marginal: l.MarginalBand(),
+			Required: l.Required, SampleCheck: l.SampleCheck}
 		v, ok := s.Values[name]
+		why, spoilt := spoiled[name]
 		switch {
+		case ok && spoilt:
+			c.Status = StatusWithheld
+			c.Reason = mi.Label + " withheld: " + why
+			o.Withheld = append(o.Withheld, Withheld{Metric: name, Why: why})
 		case !ok:
 			c.Status = StatusMissing
 			c.Reason = s.Why[name]
@@ -118,18 +162,29 @@ func (a *Alloy) Evaluate(s Sample) Outcome {
 			checked++
 			c.Value = &v
 			c.Status, c.Reason, c.Advice = judge(mi, l, v)
-			switch c.Status {
-			case StatusMarginal:
+			switch {
+			case c.Status == StatusFail && l.SampleCheck:
+				c.Reason = "the sample is unfit (a check on the cup, not the metal): " + c.Reason
+				worst = max(worst, 3)
+			case c.Status == StatusMarginal:
 				worst = max(worst, 1)
-			case StatusFail:
+			case c.Status == StatusFail:
 				worst = max(worst, 2)
 			}
 		}
-		if c.Status != StatusPass {
+		if c.Status != StatusPass && c.Status != StatusWithheld {
 			o.Reasons = append(o.Reasons, c.Reason)
 			addAdvice(c.Advice)
 		}
 		o.Checks = append(o.Checks, c)
+	}
+	if len(o.Withheld) > 0 {
+		parts := make([]string, len(o.Withheld))
+		for i, w := range o.Withheld {
+			mi, _ := Metric(w.Metric)
+			parts[i] = mi.Label
+		}
+		o.Reasons = append(o.Reasons, "withheld, spoilt by the sample: "+strings.Join(parts, ", "))
 	}
 	switch {
 	case worst == 3:
@@ -150,44 +205,78 @@ func (a *Alloy) Evaluate(s Sample) Outcome {
 	return o
 }
 
-// judge places v against the limit and words the reason in numbers.
+// judge places v against the limit and words the reason in numbers. Beside
+// a bound, v is written with as many decimals as it takes to differ from
+// it, so that "9.0 is above the 9.0 limit" is never printed.
 func judge(mi MetricInfo, l *Limit, v float64) (status, reason, advice string) {
 	pass, marg := l.PassBand(), l.MarginalBand()
-	val := mi.Label + " " + mi.Format(v)
 	switch {
 	case pass.Contains(v):
-		return StatusPass, val + " is within " + bandText(mi, pass), ""
+		return StatusPass, mi.Label + " " + mi.Format(v) + " is within " + bandText(mi, pass), ""
 	case pass.Min != nil && v < *pass.Min:
 		advice = l.Low
 		if marg.Contains(v) {
-			return StatusMarginal, fmt.Sprintf("%s is below the %s pass limit (marginal down to %s)", val, mi.Format(*pass.Min), mi.Format(*marg.Min)), advice
+			return StatusMarginal, fmt.Sprintf("%s %s is below the %s pass limit (marginal down to %s)", mi.Label, mi.FormatApart(v, *pass.Min), mi.FormatBound(*pass.Min), mi.FormatBound(*marg.Min)), advice
 		}
-		reason = fmt.Sprintf("%s is below the %s limit", val, mi.Format(*marg.Min))
+		reason = fmt.Sprintf("%s %s is below the %s limit", mi.Label, mi.FormatApart(v, *marg.Min), mi.FormatBound(*marg.Min))
 	default:
 		advice = l.High
 		if marg.Contains(v) {
-			return StatusMarginal, fmt.Sprintf("%s is above the %s pass limit (marginal up to %s)", val, mi.Format(*pass.Max), mi.Format(*marg.Max)), advice
+			return StatusMarginal, fmt.Sprintf("%s %s is above the %s pass limit (marginal up to %s)", mi.Label, mi.FormatApart(v, *pass.Max), mi.FormatBound(*pass.Max), mi.FormatBound(*marg.Max)), advice
 		}
-		reason = fmt.Sprintf("%s is above the %s limit", val, mi.Format(*marg.Max))
+		reason = fmt.Sprintf("%s %s is above the %s limit", mi.Label, mi.FormatApart(v, *marg.Max), mi.FormatBound(*marg.Max))
 	}
 	return StatusFail, reason, advice
+}
+
+// FormatApart writes v as Format does, with more decimals where needed
+// (up to 12) for it to read differently from bound: beside a 9.0 limit,
+// 9.04 reads "9.04", not "9.0".
+func (m MetricInfo) FormatApart(v, bound float64) string {
+	d := m.Decimals
+	for d < 12 && strconv.FormatFloat(v, 'f', d, 64) == strconv.FormatFloat(bound, 'f', d, 64) {
+		d++
+	}
+	mm := m
+	mm.Decimals = d
+	return mm.Format(v)
+}
+
+// FormatBound writes a limit's bound with the metric's decimals, or more
+// (up to 4 more) where the file gives it more finely: a ±8.135 °C tolerance
+// reads "8.135 °C", not "8.13 °C".
+func (m MetricInfo) FormatBound(bound float64) string {
+	mm := m
+	mm.Decimals = m.boundDecimals(bound)
+	return mm.Format(bound)
+}
+
+func (m MetricInfo) boundDecimals(bound float64) int {
+	d := m.Decimals
+	for d < m.Decimals+4 {
+		if back, err := strconv.ParseFloat(strconv.FormatFloat(bound, 'f', d, 64), 64); err == nil && back == bound {
+			break
+		}
+		d++
+	}
+	return d
 }
 
 func bandText(mi MetricInfo, b Band) string {
 	switch {
 	case b.Min != nil && b.Max != nil:
-		return mi.Format(*b.Min) + " to " + mi.Format(*b.Max)
+		return mi.FormatBound(*b.Min) + " to " + mi.FormatBound(*b.Max)
 	case b.Min != nil:
-		return "its limit (at least " + mi.Format(*b.Min) + ")"
+		return "its limit (at least " + mi.FormatBound(*b.Min) + ")"
 	case b.Max != nil:
-		return "its limit (at most " + mi.Format(*b.Max) + ")"
+		return "its limit (at most " + mi.FormatBound(*b.Max) + ")"
 	}
 	return "its limits (presence only)"
 }
 
 // FormatBand writes a band for tables: "1142.0 … 1156.0", "≥ 12.0", "≤ 10.0", "any".
 func FormatBand(mi MetricInfo, b Band) string {
-	f := func(v float64) string { return strconv.FormatFloat(v, 'f', mi.Decimals, 64) }
+	f := func(v float64) string { return strconv.FormatFloat(v, 'f', mi.boundDecimals(v), 64) }
 	switch {
 	case b.Min != nil && b.Max != nil:
 		return f(*b.Min) + " … " + f(*b.Max)

@@ -1,6 +1,8 @@
 package limits
 
 import (
+	"fmt"
+	"math"
 	"strings"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
@@ -29,4 +31,43 @@ func Family(alloyName string) arrest.Family {
 	default:
 		return arrest.FamilyIron
 	}
+}
+
+// Highest readings that tell the families apart when a curve names no
+// alloy: iron is poured above 1000 °C and aluminium alloys above 560 °C
+// (the pour triggers of arrest.FamilyHints); below that, some other alloy.
+const (
+	ironPourC      = 1000.0
+	aluminiumPourC = 560.0
+)
+
+// FamilyOfCurve recognises the family of a curve that names no alloy from
+// its highest reading (the pour peak; readings outside the thermocouple's
+// range, arrest.MinValidC to arrest.MaxValidC, are faults and ignored):
+//
+//	at least 1000 °C      → arrest.FamilyIron (a normal cast-iron cup)
+//	560 °C up to 1000 °C  → arrest.FamilyAluminum
+//	below 560 °C          → arrest.FamilyEutectic (first arrest the plateau)
+//
+// It is a rule for the detector only: without an alloy no limits apply. A
+// tellurium cup or a check cup is not told from the curve; name the alloy.
+// why says, in words, what the rule saw.
+func FamilyOfCurve(temp []float64) (f arrest.Family, why string) {
+	peak, seen := math.Inf(-1), false
+	for _, v := range temp {
+		if v >= arrest.MinValidC && v <= arrest.MaxValidC && v > peak {
+			peak, seen = v, true
+		}
+	}
+	switch {
+	case !seen:
+		return arrest.FamilyIron, "the curve has no reading in the thermocouple's range"
+	case peak >= ironPourC:
+		f = arrest.FamilyIron
+	case peak >= aluminiumPourC:
+		f = arrest.FamilyAluminum
+	default:
+		f = arrest.FamilyEutectic
+	}
+	return f, fmt.Sprintf("recognised from its highest reading, %.0f °C (iron from %.0f °C, aluminium from %.0f °C)", peak, ironPourC, aluminiumPourC)
 }

@@ -7,7 +7,6 @@ import (
 	"reflect"
 	"slices"
 	"sort"
-	"strings"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 )
@@ -165,11 +164,4 @@ func EncodeInoculant(w *bytes.Buffer, in *Inoculant) {
 	base := "inoculant." + quoteKey(in.Name)
 	fmt.Fprintf(w, "\n[%s]\n", base)
 	fields(w, base, reflect.ValueOf(in).Elem())
-	if len(in.Alloys) > 0 {
-		q := make([]string, len(in.Alloys))
-		for i, a := range in.Alloys {
-			q[i] = quote(a)
-		}
-		fmt.Fprintf(w, "alloys = [%s]\n", strings.Join(q, ", "))
-	}
 }

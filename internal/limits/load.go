@@ -5,6 +5,7 @@ import (
 	_ "embed"
 	"errors"
 	"fmt"
+	"io"
 	"os"
 	"path/filepath"
 	"regexp"
@@ -32,11 +33,13 @@ func Builtin() *Book {
 }
 
 // Load reads and validates a limits file. Errors name the file, the line
-// and the key.
+// and the key. A file that is not a regular file, is larger than
+// MaxFileBytes or nests deeper than MaxKeyDepth / MaxValueDepth is refused
+// before it is decoded.
 func Load(path string) (*Book, error) {
-	data, err := os.ReadFile(path)
+	data, err := readBounded(path)
 	if err != nil {
-		return nil, fmt.Errorf("limits: %w", err)
+		return nil, err
 	}
 	b, err := Parse(data, path)
 	if err != nil {
@@ -72,6 +75,10 @@ type Error struct {
 	Err  error
 }
 
+// Error writes FILE:LINE: KEY: message. Control and bidirectional-control
+// characters of the file, key or message are written as visible escapes
+// (\u001B), so that a bad limits file cannot reach the terminal raw
+// through its own error.
 func (e *Error) Error() string {
 	s := e.File
 	if e.Line > 0 {
@@ -84,7 +91,7 @@ func (e *Error) Error() string {
 	if e.Err != nil {
 		s += ": " + e.Err.Error()
 	}
-	return s
+	return visible(s)
 }
 
 func (e *Error) Unwrap() error { return e.Err }
@@ -92,6 +99,9 @@ func (e *Error) Unwrap() error { return e.Err }
 // Parse decodes and validates the text of a limits file; name is used in
 // error messages. A calibration_file it names is not read (Load reads it).
 func Parse(data []byte, name string) (*Book, error) {
+	if err := guard(data, name); err != nil {
+		return nil, err
+	}
 	var b Book
 	md, err := toml.NewDecoder(bytes.NewReader(data)).Decode(&b)
 	if err != nil {
@@ -108,6 +118,11 @@ func Parse(data []byte, name string) (*Book, error) {
 			b.Alloys[n] = a
 		}
 		a.Name = n
+		for _, l := range a.Metrics {
+			if l != nil && len(l.Spoils) == 0 {
+				l.Spoils = nil // "spoils = []" says what leaving it out says
+			}
+		}
 	}
 	b.nameInoculants()
 	if err := b.validate(data, name); err != nil {
@@ -118,9 +133,12 @@ func Parse(data []byte, name string) (*Book, error) {
 
 // LoadCalibration reads a file holding a [calibration] table.
 func LoadCalibration(path string) (*Calibration, error) {
-	data, err := os.ReadFile(path)
+	data, err := readBounded(path)
 	if err != nil {
-		return nil, fmt.Errorf("limits: calibration: %w", err)
+		return nil, err
+	}
+	if err := guard(data, path); err != nil {
+		return nil, err
 	}
 	var f struct {
 		Calibration *Calibration `toml:"calibration"`
@@ -137,6 +155,32 @@ func LoadCalibration(path string) (*Calibration, error) {
 		return nil, &Error{File: path, Msg: "no [calibration] table"}
 	}
 	return f.Calibration, nil
+}
+
+// readBounded reads a limits or calibration file: a regular file of at
+// most MaxFileBytes (a FIFO or device would block or never end; an
+// oversized file is refused before it is read).
+func readBounded(path string) ([]byte, error) {
+	st, err := os.Stat(path) // before opening: opening a FIFO blocks
+	if err != nil {
+		return nil, fmt.Errorf("limits: %w", err)
+	}
+	if !st.Mode().IsRegular() {
+		return nil, &Error{File: path, Msg: "not a regular file (a directory, pipe or device cannot be a limits file)"}
+	}
+	if st.Size() > MaxFileBytes {
+		return nil, &Error{File: path, Msg: fmt.Sprintf("%d bytes is more than a limits file may hold (%d bytes); refused before reading it", st.Size(), MaxFileBytes)}
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("limits: %w", err)
+	}
+	defer f.Close()
+	data, err := io.ReadAll(io.LimitReader(f, MaxFileBytes+1))
+	if err != nil {
+		return nil, fmt.Errorf("limits: %w", err)
+	}
+	return data, nil
 }
 
 var typeErr = regexp.MustCompile(`^toml: line (\d+) \(last key "([^"]*)"\): (.*)$`)

@@ -28,12 +28,23 @@ var metricList = []MetricInfo{
 	{"eutectic_depression_c", "eutectic depression", "°C", 1},
 	{"plateau_c", "freezing plateau", "°C", 2},
 	{"fixed_point_error_c", "plateau minus the fixed point", "°C", 2},
+	{"fixed_point_undercooling_c", "check-cup undercooling below its plateau", "°C", 2},
 	{"pour_superheat_c", "pour superheat in the cup", "°C", 0},
 	{"plateau_s", "eutectic plateau duration", "s", 0},
 	{"freezing_time_s", "freezing time", "s", 0},
 	{"cooling_rate_c_per_s", "cooling rate", "°C/s", 2},
 	{"f_theta", "nucleation potency factor f(θ)", "", 5},
 	{"theta_deg", "effective contact angle", "°", 1},
+	// The solidification path (docs/solidification.md).
+	{"fs_at_liquidus", "fraction solid at the liquidus arrest", "", 2},
+	{"fs_at_eutectic_start", "fraction solid at the eutectic start", "", 2},
+	{"fs_at_eutectic_min", "fraction solid at the eutectic minimum", "", 2},
+	{"fs_at_eutectic_max", "fraction solid at the eutectic maximum", "", 2},
+	{"fs_at_end_of_freezing", "fraction solid at the end of freezing", "", 2},
+	{"latent_heat_newtonian_j_per_kg", "apparent latent heat (Newtonian)", "J/kg", 0},
+	{"latent_heat_fourier_j_per_kg", "latent heat (Fourier)", "J/kg", 0},
+	{"coherency_c", "dendrite coherency temperature", "°C", 1},
+	{"fs_at_coherency", "fraction solid at dendrite coherency", "", 2},
 }
 
 var metricIndex = func() map[string]MetricInfo {

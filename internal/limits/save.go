@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"maps"
 	"os"
+	"os/user"
 	"reflect"
 	"slices"
 	"strconv"
@@ -19,43 +20,304 @@ import (
 // now is the clock of Save (replaced in tests).
 var now = time.Now
 
-// Save validates the book and writes it to path as a limits file, setting
-// its "edited" stamp. An existing file is first copied to a backup beside it
-// (PATH.YYYYMMDDTHHMMSSZ.bak, never overwritten), the new text is written to
-// a temporary file and renamed over path, and the change is appended with
-// its time, editor and the keys that changed to the sidecar log PATH.log.
-func Save(path string, b *Book) error {
+// Save is SaveBy with the system's user name as the editor.
+func Save(path string, b *Book) error { return SaveBy(path, b, "") }
+
+// SaveBy validates the book and writes it to path, recording who made the
+// change (empty: the system's user name, UserName).
+//
+// An existing file is edited in place: only the values that differ from
+// the file's own book change, byte for byte everything else stays
+// (comments, inline notes, order, untouched zero values), and the stamp is
+// renewed: "edited" (now), "edited_by" (who) and "version". The version is
+// b.Version where the caller changed it, else the file's version counted
+// up (NextVersion), so every saved book has a version of its own that the
+// results judged by it record. Before the old text is replaced, the edited
+// text is read back and must give the book asked for; the old file is
+// copied to PATH.YYYYMMDDTHHMMSSZ.bak (never overwritten), the new text is
+// written to a temporary file and renamed over path, and one line is
+// appended to PATH.log: time, editor, version old → new, and each changed
+// key with its old and new value. A missing file is written whole
+// (Encode); so is one whose old text no longer reads, and the log says so.
+// On success b carries the new stamp.
+func SaveBy(path string, b *Book, who string) error {
 	if err := b.Validate(); err != nil {
 		return fmt.Errorf("limits: not saved: %w", err)
 	}
-	t := now().UTC()
-	saved := *b
-	saved.Edited = t.Format(time.RFC3339)
-	text := Encode(&saved)
-	if _, err := Parse(text, path); err != nil {
-		return fmt.Errorf("limits: not saved, the encoded text does not read back: %w", err)
+	if who == "" {
+		who = UserName()
 	}
-	old, err := backup(path, t)
+	if msg := checkText("edited_by", who); msg != "" {
+		return fmt.Errorf("limits: not saved: the editor's name %s", msg)
+	}
+	t := now().UTC()
+	old, err := readExisting(path)
 	if err != nil {
+		return err
+	}
+	var oldBook *Book
+	if old != nil {
+		oldBook, _ = Parse(old, path)
+	}
+	want := b.Clone()
+	want.Calibration = b.Calibration
+	want.Edited, want.EditedBy = t.Format(time.RFC3339), who
+	oldVersion := ""
+	if oldBook != nil {
+		oldVersion = oldBook.Version
+	}
+	if b.Version == oldVersion {
+		want.Version = unusedVersion(path, NextVersion(oldVersion))
+	}
+	var text []byte
+	var changed []string
+	switch {
+	case old == nil:
+		text, changed = Encode(want), []string{"created"}
+	case oldBook == nil:
+		text, changed = Encode(want), []string{"rewritten whole: the old text did not read as a limits file"}
+	default:
+		var edits []textEdit
+		edits, changed = diffBooks(oldBook, want)
+		if text, err = applyEdits(old, edits); err != nil {
+			return fmt.Errorf("limits: not saved: %s: %w", path, err)
+		}
+	}
+	back, err := Parse(text, path)
+	if err != nil {
+		return fmt.Errorf("limits: not saved, the edited text does not read back: %w", err)
+	}
+	if !bytes.Equal(Encode(back), Encode(want)) {
+		return fmt.Errorf("limits: not saved: %s: the edited text does not read back as the book asked for (please report this)", path)
+	}
+	if _, err := backup(path, old, t); err != nil {
 		return err
 	}
 	if err := writeFile(path, text); err != nil {
 		return fmt.Errorf("limits: %w", err)
 	}
-	b.Edited = saved.Edited
-	return appendLog(path, fmt.Sprintf("%s\t%s\tversion %s\t%s\n", saved.Edited, or(saved.EditedBy, "unknown editor"),
-		or(saved.Version, "-"), strings.Join(changes(old, text), "; ")))
+	b.Version, b.Edited, b.EditedBy = want.Version, want.Edited, want.EditedBy
+	if len(changed) == 0 {
+		changed = []string{"no value changed"}
+	}
+	return appendLog(path, fmt.Sprintf("%s\t%s\tversion %s → %s\t%s\n", want.Edited, visible(who),
+		visible(or(oldVersion, "-")), visible(want.Version), strings.Join(changed, "; ")))
 }
 
-// backup copies an existing file to PATH.<time>.bak (never overwriting an
-// older backup) and returns its old contents; nil when there was no file.
-func backup(path string, t time.Time) ([]byte, error) {
-	old, err := os.ReadFile(path)
-	if os.IsNotExist(err) {
+// SaveEdits applies edits to the limits file at path (read afresh) and
+// saves it with SaveBy: the edited values change in place, nothing else
+// does. It returns the saved book (Source path) for the caller to use from
+// then on, or an error naming the edit or the rule the edits break; the
+// file is then left alone.
+func SaveEdits(path string, edits []Edit, who string) (*Book, error) {
+	b, err := Load(path)
+	if err != nil {
+		return nil, err
+	}
+	for _, e := range edits {
+		if err := b.Apply(e); err != nil {
+			return nil, fmt.Errorf("limits: not saved: %w", err)
+		}
+	}
+	if err := SaveBy(path, b, who); err != nil {
+		return nil, err
+	}
+	return b, nil
+}
+
+// readExisting reads the current file for an in-place save (nil when there
+// is none).
+func readExisting(path string) ([]byte, error) {
+	if _, err := os.Stat(path); os.IsNotExist(err) {
 		return nil, nil
 	}
-	if err != nil {
-		return nil, fmt.Errorf("limits: %w", err)
+	return readBounded(path)
+}
+
+// diffBooks lists the key edits that turn old into new and the log text of
+// each ("alloy.grey-iron.metric.eutectic_min_c.pass_min 1142 → 1143"). Both
+// are compared in their canonical form (Encode), so a value the file
+// writes differently (a zero offset left in, 3.90 for 3.9) is no change.
+// The stamp keys (version, edited, edited_by) are edited but not listed:
+// the log line names them on its own.
+func diffBooks(old, new *Book) ([]textEdit, []string) {
+	var edits []textEdit
+	var log []string
+	for _, c := range diffLeaves(leaves(Encode(old)), leaves(Encode(new))) {
+		if c.gone {
+			edits = append(edits, textEdit{path: c.path})
+		} else {
+			v := tomlValue(c.new)
+			edits = append(edits, textEdit{path: c.path, value: &v})
+		}
+		if len(c.path) != 1 || !slices.Contains([]string{"version", "edited", "edited_by"}, c.path[0]) {
+			log = append(log, c.String())
+		}
+	}
+	return edits, log
+}
+
+// leafChange is one key whose value differs between two texts.
+type leafChange struct {
+	path        []string
+	old, new    any
+	added, gone bool
+}
+
+// String is the change for a log: "KEY 1142 → 1143", "KEY added 3.9",
+// "KEY removed (was 0.5)".
+func (c leafChange) String() string {
+	key := visible(dotted(c.path))
+	switch {
+	case c.added:
+		return key + " added " + display(c.new)
+	case c.gone:
+		return key + " removed (was " + display(c.old) + ")"
+	}
+	return key + " " + display(c.old) + " → " + display(c.new)
+}
+
+// diffLeaves lists the changed keys in key order.
+func diffLeaves(a, b map[string]leaf) []leafChange {
+	keys := map[string][]string{}
+	for k, l := range a {
+		keys[k] = l.path
+	}
+	for k, l := range b {
+		keys[k] = l.path
+	}
+	var out []leafChange
+	for _, k := range slices.Sorted(maps.Keys(keys)) {
+		la, oka := a[k]
+		lb, okb := b[k]
+		if oka && okb && reflect.DeepEqual(la.value, lb.value) {
+			continue
+		}
+		out = append(out, leafChange{path: keys[k], old: la.value, new: lb.value, added: !oka, gone: !okb})
+	}
+	return out
+}
+
+type leaf struct {
+	path  []string
+	value any
+}
+
+// leaves decodes a canonical limits text into its scalar and array values
+// by key (parts joined by NUL, which no key holds).
+func leaves(text []byte) map[string]leaf {
+	var v map[string]any
+	if _, err := toml.Decode(string(text), &v); err != nil {
+		return nil
+	}
+	out := map[string]leaf{}
+	var walk func(path []string, x any)
+	walk = func(path []string, x any) {
+		if m, ok := x.(map[string]any); ok && len(m) > 0 {
+			for k, y := range m {
+				walk(append(slices.Clone(path), k), y)
+			}
+			return
+		}
+		out[strings.Join(path, "\x00")] = leaf{path: path, value: x}
+	}
+	walk(nil, v)
+	return out
+}
+
+// tomlValue writes a decoded TOML value as TOML text.
+func tomlValue(x any) string {
+	switch v := x.(type) {
+	case string:
+		return quote(v)
+	case float64:
+		return formatFloat(v)
+	case int64:
+		return strconv.FormatInt(v, 10)
+	case bool:
+		return strconv.FormatBool(v)
+	case []any:
+		parts := make([]string, len(v))
+		for i, y := range v {
+			parts[i] = tomlValue(y)
+		}
+		return "[" + strings.Join(parts, ", ") + "]"
+	case map[string]any:
+		parts := make([]string, 0, len(v))
+		for _, k := range slices.Sorted(maps.Keys(v)) {
+			parts = append(parts, quoteKey(k)+" = "+tomlValue(v[k]))
+		}
+		return "{ " + strings.Join(parts, ", ") + " }"
+	}
+	return quote(fmt.Sprint(x))
+}
+
+// display writes a value for the change log: numbers as the shortest
+// decimal, text quoted, control characters escaped.
+func display(x any) string {
+	switch v := x.(type) {
+	case float64:
+		return strconv.FormatFloat(v, 'g', -1, 64)
+	case string:
+		return visible(strconv.Quote(v))
+	}
+	return visible(tomlValue(x))
+}
+
+// NextVersion counts a version label up: the number after its last dot
+// goes up by one ("2026-12-01.1" → "2026-12-01.2"), and a label without
+// one gets ".1" ("example-1" → "example-1.1"; "" → "1").
+func NextVersion(v string) string {
+	if v == "" {
+		return "1"
+	}
+	if i := strings.LastIndexByte(v, '.'); i >= 0 {
+		if n, err := strconv.ParseUint(v[i+1:], 10, 32); err == nil {
+			return v[:i+1] + strconv.FormatUint(n+1, 10)
+		}
+	}
+	return v + ".1"
+}
+
+// unusedVersion counts v up past every version the change log beside path
+// has given a book before (a file restored from a backup would otherwise
+// give an old number to a new book).
+func unusedVersion(path, v string) string {
+	logText, _ := os.ReadFile(path + ".log")
+	used := map[string]bool{}
+	for _, line := range strings.Split(string(logText), "\n") {
+		f := strings.Split(line, "\t")
+		if len(f) >= 3 && strings.HasPrefix(f[2], "version ") {
+			if _, after, ok := strings.Cut(f[2], " → "); ok {
+				used[after] = true
+			}
+		}
+	}
+	for used[v] {
+		v = NextVersion(v)
+	}
+	return v
+}
+
+// UserName is the system's name for the user running the program ($USER,
+// $USERNAME, else the account's name), or "unknown user".
+func UserName() string {
+	for _, k := range []string{"USER", "USERNAME", "LOGNAME"} {
+		if v := strings.TrimSpace(os.Getenv(k)); v != "" && checkText("edited_by", v) == "" {
+			return v
+		}
+	}
+	if u, err := user.Current(); err == nil && u.Username != "" && checkText("edited_by", u.Username) == "" {
+		return u.Username
+	}
+	return "unknown user"
+}
+
+// backup copies the old contents of path (nil: there was no file) to
+// PATH.<time>.bak, never overwriting an older backup.
+func backup(path string, old []byte, t time.Time) (string, error) {
+	if old == nil {
+		return "", nil
 	}
 	stamp := t.Format("20060102T150405Z")
 	bak := fmt.Sprintf("%s.%s.bak", path, stamp)
@@ -63,9 +325,9 @@ func backup(path string, t time.Time) ([]byte, error) {
 		bak = fmt.Sprintf("%s.%s-%d.bak", path, stamp, i)
 	}
 	if err := writeFile(bak, old); err != nil {
-		return nil, fmt.Errorf("limits: backup before saving: %w", err)
+		return "", fmt.Errorf("limits: backup before saving: %w", err)
 	}
-	return old, nil
+	return bak, nil
 }
 
 func exists(p string) bool { _, err := os.Stat(p); return err == nil }
@@ -76,59 +338,19 @@ func writeFile(path string, data []byte) error {
 	return atomicfile.WriteBytes(path, data, 0o644)
 }
 
-// changes lists the keys whose values differ between two limits texts:
-// "alloy.grey-iron.metric.eutectic_min_c.pass_min 1142 → 1143". The edited
-// stamp itself is left out.
+// changes lists the keys whose values differ between two calibration
+// texts, as diffBooks does for books: "calibration.liquidus.a 1660 → 1662".
 func changes(old, new []byte) []string {
 	if old == nil {
 		return []string{"created"}
 	}
-	a, b := flatten(old), flatten(new)
 	var out []string
-	for _, k := range slices.Sorted(maps.Keys(merge(a, b))) {
-		if k == "edited" {
-			continue
-		}
-		va, oka := a[k]
-		vb, okb := b[k]
-		switch {
-		case !oka:
-			out = append(out, k+" added "+vb)
-		case !okb:
-			out = append(out, k+" removed (was "+va+")")
-		case va != vb:
-			out = append(out, k+" "+va+" → "+vb)
-		}
+	for _, c := range diffLeaves(leaves(old), leaves(new)) {
+		out = append(out, c.String())
 	}
 	if len(out) == 0 {
 		return []string{"no value changed"}
 	}
-	return out
-}
-
-func merge(a, b map[string]string) map[string]string {
-	m := maps.Clone(a)
-	maps.Copy(m, b)
-	return m
-}
-
-func flatten(data []byte) map[string]string {
-	var v map[string]any
-	if _, err := toml.Decode(string(data), &v); err != nil {
-		return map[string]string{"(unreadable)": err.Error()}
-	}
-	out := map[string]string{}
-	var walk func(prefix string, x any)
-	walk = func(prefix string, x any) {
-		if m, ok := x.(map[string]any); ok {
-			for k, y := range m {
-				walk(strings.TrimPrefix(prefix+"."+k, "."), y)
-			}
-			return
-		}
-		out[prefix] = fmt.Sprint(x)
-	}
-	walk("", v)
 	return out
 }
 
@@ -137,7 +359,7 @@ func flatten(data []byte) map[string]string {
 // metric order. Unset optional values are left out.
 func Encode(b *Book) []byte {
 	var w bytes.Buffer
-	w.WriteString("# undercool limits file (format: README.md, \"Limits file\"). Temperatures in °C,\n")
+	w.WriteString("# undercool limits file (format: docs/limits.md). Temperatures in °C,\n")
 	w.WriteString("# times in s, chemistry in wt %. The shop's metallurgist is responsible for every number;\n")
 	w.WriteString("# verdicts assist the shop's written procedures and never replace them.\n\n")
 	scalar(&w, "version", b.Version)
@@ -252,6 +474,16 @@ func value2(f reflect.Value, keepZero bool) (string, bool) {
 			return "", false
 		}
 		return strconv.FormatBool(f.Bool()), true
+	case reflect.Slice:
+		if f.Len() == 0 {
+			return "", false
+		}
+		parts := make([]string, f.Len())
+		for i := range f.Len() {
+			s, _ := value2(f.Index(i), true)
+			parts[i] = s
+		}
+		return "[" + strings.Join(parts, ", ") + "]", true
 	}
 	return "", false
 }
@@ -319,8 +551,11 @@ func SaveCalibration(path string, c *Calibration) error {
 	w.WriteString("# Check the fit quality figures below with the shop's metallurgist before use.\n")
 	EncodeCalibration(&w, c)
 	t := now().UTC()
-	old, err := backup(path, t)
+	old, err := readExisting(path)
 	if err != nil {
+		return err
+	}
+	if _, err := backup(path, old, t); err != nil {
 		return err
 	}
 	if err := writeFile(path, w.Bytes()); err != nil {
@@ -358,11 +593,15 @@ func (b *Book) Clone() *Book {
 			ac.Chemistry = maps.Clone(a.Chemistry)
 			ac.Reference.LiquidusSlopes = maps.Clone(a.Reference.LiquidusSlopes)
 			ac.Reference.EutecticDepressors = maps.Clone(a.Reference.EutecticDepressors)
+			ac.Detect.LiquidusC = slices.Clone(a.Detect.LiquidusC)
+			ac.Detect.EutecticC = slices.Clone(a.Detect.EutecticC)
+			ac.Detect.PourMinC = copyPtr(a.Detect.PourMinC)
 			ac.Metrics = make(map[string]*Limit, len(a.Metrics))
 			for m, l := range a.Metrics {
 				lc := *l
 				lc.PassMin, lc.PassMax = copyPtr(l.PassMin), copyPtr(l.PassMax)
 				lc.MarginalMin, lc.MarginalMax = copyPtr(l.MarginalMin), copyPtr(l.MarginalMax)
+				lc.Spoils = slices.Clone(l.Spoils)
 				ac.Metrics[m] = &lc
 			}
 			c.Alloys[n] = &ac

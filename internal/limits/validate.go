@@ -53,6 +53,7 @@ func (b *Book) validate(data []byte, name string) error {
 	if b.Version == "" {
 		add("version", "is required (a label such as \"2026-12-01.1\" that verdicts record)")
 	}
+	b.validateText(add)
 	if len(b.Alloys) == 0 {
 		add("alloy", "the file defines no [alloy.NAME] table")
 	}
@@ -60,12 +61,13 @@ func (b *Book) validate(data []byte, name string) error {
 		a := b.Alloys[n]
 		base := "alloy." + n
 		switch a.Family {
-		case arrest.FamilyIron, arrest.FamilyWhite, arrest.FamilyAluminum, arrest.FamilyPure:
+		case arrest.FamilyIron, arrest.FamilyWhite, arrest.FamilyAluminum, arrest.FamilyPure, arrest.FamilyEutectic:
 		case "":
-			add(base+".family", "is required: \"iron\", \"white\", \"aluminum\" or \"pure\"")
+			add(base+".family", "is required: %s", familyList)
 		default:
-			add(base+".family", "unknown family %q (want \"iron\", \"white\", \"aluminum\" or \"pure\")", a.Family)
+			add(base+".family", "unknown family %q (want %s)", a.Family, familyList)
 		}
+		validateDetect(a, base, add)
 		for el, v := range a.Chemistry {
 			if !slices.Contains(Elements, el) {
 				add(base+".chemistry."+el, "unknown element %q", el)
@@ -113,6 +115,37 @@ func (b *Book) validate(data []byte, name string) error {
 	return errors.Join(all...)
 }
 
+const familyList = `"iron", "white", "aluminum", "pure" or "eutectic"`
+
+// validateDetect checks an alloy's detection windows: a pour trigger and
+// [low, high] windows within the readings a thermocouple can give, and for
+// a "eutectic" family alloy the eutectic window it cannot do without.
+func validateDetect(a *Alloy, base string, add func(key, format string, args ...any)) {
+	d := a.Detect
+	key := base + ".detect."
+	inRange := func(v float64) bool { return v >= arrest.MinValidC && v <= arrest.MaxValidC }
+	if v := d.PourMinC; v != nil && !inRange(*v) {
+		add(key+"pour_min_c", "%g °C is not a reading between %d and %d °C", *v, arrest.MinValidC, arrest.MaxValidC)
+	}
+	for name, w := range map[string][]float64{"liquidus_c": d.LiquidusC, "eutectic_c": d.EutecticC} {
+		switch {
+		case w == nil:
+		case len(w) != 2:
+			add(key+name, "give two temperatures, [low, high] in °C (%d given)", len(w))
+		case !inRange(w[0]) || !inRange(w[1]):
+			add(key+name, "[%g, %g] is not within the readings a thermocouple gives (%d to %d °C)", w[0], w[1], arrest.MinValidC, arrest.MaxValidC)
+		case !(w[0] < w[1]):
+			add(key+name, "[%g, %g]: the low end must be below the high end", w[0], w[1])
+		}
+	}
+	if l, e := d.LiquidusC, d.EutecticC; len(l) == 2 && len(e) == 2 && !(l[1] > e[1]) {
+		add(key+"liquidus_c", "[%g, %g] must reach above the eutectic window's top %g °C (the liquidus arrest comes first)", l[0], l[1], e[1])
+	}
+	if a.Family == arrest.FamilyEutectic && d.EutecticC == nil {
+		add(base+".detect", "a \"eutectic\" family alloy needs detect.eutectic_c = [low, high], the window of its eutectic in °C")
+	}
+}
+
 func (b *Book) validateReference(a *Alloy, base string, add func(key, format string, args ...any)) {
 	r := a.Reference
 	cal := b.Calibration
@@ -135,6 +168,9 @@ func (b *Book) validateReference(a *Alloy, base string, add func(key, format str
 		}
 	default:
 		add(base+".reference.white_cup", "unknown method %q (want %q or %q)", r.WhiteCup, WhiteFormula, WhiteShop)
+	}
+	if c := r.SpecificHeatJPerKgK; c != nil && !(*c >= 100 && *c <= 5000) {
+		add(base+".reference.specific_heat_j_per_kg_k", "%g J/(kg K) is not a metal's specific heat (100–5000)", *c)
 	}
 	if r.MetastableSi != nil && *r.MetastableSi == 0 {
 		add(base+".reference.metastable_si", "must not be 0 (silicon is found by dividing by it)")
@@ -161,6 +197,20 @@ func validateLimit(l *Limit, key, metric string, add func(key, format string, ar
 		if v != nil && (math.IsNaN(*v) || math.IsInf(*v, 0)) {
 			add(key+"."+k, "must be a finite number")
 		}
+	}
+	if len(l.Spoils) > 0 && !l.SampleCheck {
+		add(key+".spoils", "only a check on the sample (sample_check = true) can spoil other figures")
+	}
+	for _, sp := range l.Spoils {
+		switch _, ok := Metric(sp); {
+		case !ok:
+			add(key+".spoils", "unknown metric %q", sp)
+		case sp == metric:
+			add(key+".spoils", "a check cannot spoil its own metric")
+		}
+	}
+	if l.SampleCheck && l.PassMin == nil && l.PassMax == nil {
+		add(key+".sample_check", "a check on the sample needs a pass band (pass_min and/or pass_max)")
 	}
 	if l.PassMin == nil && l.PassMax == nil && l.MarginalMin == nil && l.MarginalMax == nil && !l.Required {
 		add(key, "sets no band: give pass_min and/or pass_max, or required = true")

@@ -6,7 +6,8 @@ import (
 	"github.com/undercool-foundry/undercool/internal/metal"
 )
 
-// The worked aluminium example of the field notes (§4): a melt that starts
+// A worked aluminium example (classical nucleation, Turnbull's ΔT_hom =
+// 130 K for Al, memory): a melt that starts
 // to nucleate 5 K below the melting point.
 func ExampleNucleationPotency() {
 	p, err := metal.NucleationPotency(metal.Metals["al"], 5, metal.Onset{})

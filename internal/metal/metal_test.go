@@ -18,8 +18,8 @@ func near(t *testing.T, what string, got, want, tol float64) {
 }
 
 func TestFTheta(t *testing.T) {
-	// Check values computed from f(θ) = (2+cosθ)(1−cosθ)²/4 (field notes §4,
-	// Porter & Easterling; computed), tolerance 5e-7 (six decimals given).
+	// Check values computed from f(θ) = (2+cosθ)(1−cosθ)²/4 (Porter &
+	// Easterling, Phase Transformations in Metals and Alloys; computed), tolerance 5e-7 (six decimals given).
 	for _, c := range []struct{ theta, f float64 }{
 		{0, 0}, {30, 0.012861}, {45, 0.058058}, {60, 0.15625},
 		{90, 0.5}, {120, 0.84375}, {180, 1},
@@ -32,7 +32,8 @@ func TestFTheta(t *testing.T) {
 }
 
 func TestWorkedPotency(t *testing.T) {
-	// Worked values (field notes §4, computed): Al T_m 933.47 K, ΔT_hom 130 K,
+	// Worked values (computed from f(θ) ≈ (ΔT/ΔT_hom)²·(T_m − ΔT)/(T_m − ΔT_hom),
+	// Turnbull's droplet undercoolings, memory): Al T_m 933.47 K, ΔT_hom 130 K,
 	// ΔT 5 K → f 1.71e-3, θ ≈ 17.9°; Fe 1811 K, 295 K, ΔT 10 K → f 1.37e-3,
 	// θ ≈ 16.9°. Tolerances: f half a unit in the last digit given; θ is
 	// given as "≈" to a tenth of a degree, tolerance 0.1°.
@@ -189,18 +190,19 @@ func TestIron(t *testing.T) {
 	near(t, "chill margin", ChillMargin(1150.1, 1116.5), 33.6, 1e-9)
 	// Classic CE (Stefanescu 2021): C 3.4, Si 2.1, P 0.04 → 3.4 + 2.14/3.
 	near(t, "CE", CEClassic(3.4, 2.1, 0.04), 3.4+2.14/3, 1e-12)
-	// Published liquidus regressions, check points from the field notes
-	// (§2): CEL 4.0 → 1185 °C (Koriyama et al. 2020), 1173 °C (Heine).
+	// Published liquidus regressions, check points at CEL 4.0: 1185 °C
+	// (Koriyama, Kanno, Iwami, Kang, Int. J. Metalcasting 2020), 1173 °C (Heine,
+	// AFS Transactions, memory).
 	near(t, "Koriyama TL(4.0)", Koriyama2020().Liquidus(4), 1185, 1e-9)
 	near(t, "Heine TL(4.0)", Heine().Liquidus(4), 1173, 1e-9)
 	near(t, "Koriyama CEL(1185)", Koriyama2020().CEL(1185), 4, 1e-12)
 	near(t, "Heine CEL(1173)", Heine().CEL(1173), 4, 1e-12)
-	// They disagree by 12–16 °C for CEL 4.0–4.3 (field notes §2; by hand
-	// 12.0 and 16.2 °C at the ends).
+	// They disagree by 12–16 °C for CEL 4.0–4.3 (computed by hand from the
+	// two regressions: 12.0 and 16.2 °C at the ends).
 	for _, cel := range []float64{4.0, 4.15, 4.3} {
 		d := Koriyama2020().Liquidus(cel) - Heine().Liquidus(cel)
 		if d < 11.95 || d > 16.25 {
-			t.Errorf("CEL %.1f: regressions differ by %.1f °C, field notes say 12–16", cel, d)
+			t.Errorf("CEL %.1f: regressions differ by %.1f °C, want 12–16", cel, d)
 		}
 	}
 	near(t, "Heine CEL of chemistry", Heine().CELOf(map[string]float64{"c": 3.4, "si": 2.0, "p": 0.1}), 3.95, 1e-12)
@@ -217,11 +219,11 @@ func TestIron(t *testing.T) {
 
 func TestAlSi(t *testing.T) {
 	a := DefaultAlSi()
-	// Al-Si7Mg liquidus ≈ 613–617 °C (field notes §3, memory): 660.45 − 6.6·7 = 614.25.
+	// Al-Si7Mg liquidus ≈ 613–617 °C (memory): 660.45 − 6.6·7 = 614.25.
 	tl := a.Liquidus(map[string]float64{"si": 7, "mg": 0.35})
 	near(t, "Al-Si7 liquidus", tl, 614.25, 1e-9)
 	if tl < 613 || tl > 617 {
-		t.Errorf("Al-Si7Mg liquidus %.2f °C outside the 613–617 °C of the field notes", tl)
+		t.Errorf("Al-Si7Mg liquidus %.2f °C outside the 613–617 °C expected (memory)", tl)
 	}
 	// Binary eutectic: no depressors → 577 °C (Murray & McAlister 1984).
 	near(t, "binary eutectic", a.Eutectic(map[string]float64{"si": 12.6}), 577, 1e-12)

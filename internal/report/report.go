@@ -34,6 +34,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/curve"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/forecast"
+	"github.com/undercool-foundry/undercool/internal/solidpath"
 )
 
 // Caution is the line every page carries.
@@ -59,6 +60,12 @@ type Info struct {
 	// (internal/forecast), shown under "Estimate" with the caution that a
 	// model estimate never replaces the shop's practice.
 	Predictions []forecast.Prediction
+
+	// Wall is the second thermocouple of a two-thermocouple cup at the
+	// curve's readings, Radii the two thermocouples' radii (nil: one
+	// thermocouple): the fs(T) panel then shows the Fourier path.
+	Wall  []float64
+	Radii solidpath.Geometry
 }
 
 // Page size: A4 portrait; PNG at DPI dots per inch (A4 at 150 dpi is
@@ -125,7 +132,8 @@ const (
 	estimateRoom = 16 * vg.Millimeter // the panels give up this much for the estimate
 	margin       = 14 * vg.Millimeter
 	titleHeight  = 30 * vg.Millimeter
-	plotsHeight  = 150 * vg.Millimeter
+	plotsHeight  = 102 * vg.Millimeter // the curve and its derivative
+	pathHeight   = 40 * vg.Millimeter  // the fs(T) panel and the solidification figures
 )
 
 var ink = color.Gray{Y: 0x20}
@@ -197,14 +205,124 @@ func drawPage(dc draw.Canvas, c *curvefile.Curve, rec assess.Record, info Info) 
 	temp.Draw(cells[0][0])
 	deriv.Draw(cells[1][0])
 
+	// the solidification path: fs(T) on the left, its figures on the right
+	row := dc
+	row.Max.Y = plots.Min.Y - 9*vg.Millimeter
+	row.Min.Y = row.Max.Y - pathHeight
+	split := left + 0.55*(right-left)
+	row.Min.X, row.Max.X = left-4*vg.Millimeter, split
+	path, pathErr := assess.SolidPath(assess.Input{File: c.Name, Time: c.Time, Temp: c.Temp, Wall: info.Wall, Radii: info.Radii}, rec)
+	fp, err := pathPlot(path)
+	if err != nil {
+		return err
+	}
+	fp.Draw(row)
+	drawPathFigures(dc, split+8*vg.Millimeter, right, row.Max.Y-4*vg.Millimeter, rec, path, pathErr)
+
 	// the text block
-	drawResults(dc, left, right, plots.Min.Y-8*vg.Millimeter, rec, info)
+	drawResults(dc, left, right, row.Min.Y-8*vg.Millimeter, rec, info)
 	dc.FillText(style(9.5, true), vg.Point{X: left, Y: dc.Min.Y + margin}, Caution)
 	if len(info.Predictions) > 0 {
 		// The estimate's caution stands with the page's, always shown.
 		dc.FillText(style(8.5, true), vg.Point{X: left, Y: dc.Min.Y + margin + cautionLine}, forecast.Caution)
 	}
 	return nil
+}
+
+// pathPlot draws fs(T), the fraction solid against the centre
+// temperature, falling temperature to the right as the cup freezes; an
+// empty panel saying so when there is no path.
+func pathPlot(p *solidpath.Path) (*plot.Plot, error) {
+	fp := plot.New()
+	fp.Title.Text = "Fraction solid fs(T)"
+	fp.X.Label.Text = "temperature, °C"
+	fp.Y.Label.Text = "fs"
+	fp.Add(plotter.NewGrid())
+	fp.Y.Min, fp.Y.Max = 0, 1
+	if p != nil && len(p.TempC) > 1 {
+		pts := make(plotter.XYs, len(p.TempC))
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for i := range p.TempC {
+			pts[i] = plotter.XY{X: p.TempC[i], Y: p.FS[i]}
+			lo, hi = min(lo, p.TempC[i]), max(hi, p.TempC[i])
+		}
+		line, err := plotter.NewLine(pts)
+		if err != nil {
+			return nil, fmt.Errorf("drawing fs(T): %w", err)
+		}
+		line.Color, line.Width = curveColour, vg.Points(1.1)
+		fp.Add(line)
+		pad := max((hi-lo)*0.05, 0.5)
+		// the temperature falls as the cup freezes: high on the left
+		fp.X.Min, fp.X.Max = lo-pad, hi+pad
+		fp.X.Scale = reversed{}
+		fp.Title.Text += " — " + p.Method
+	} else {
+		fp.X.Min, fp.X.Max = 0, 1
+		fp.Title.Text += " — not available"
+	}
+	fp.Title.TextStyle = style(11, true)
+	for _, ax := range []*plot.Axis{&fp.X, &fp.Y} {
+		ax.Label.TextStyle.Font = style(9.5, false).Font
+		ax.Tick.Label.Font = style(8.5, false).Font
+		ax.Tick.Marker = niceTicks{}
+	}
+	return fp, nil
+}
+
+// reversed is a linear axis scale that runs from its maximum to its
+// minimum.
+type reversed struct{}
+
+func (reversed) Normalize(lo, hi, x float64) float64 { return (hi - x) / (hi - lo) }
+
+// drawPathFigures writes the solidification figures of the record beside
+// the fs(T) panel (whose title names the method): fs at the points, the latent heats with the
+// specific heat, the coherency point (those the record has), or why there
+// are none.
+func drawPathFigures(dc draw.Canvas, x, right, y vg.Length, rec assess.Record, p *solidpath.Path, pathErr error) {
+	head, body := style(10, true), style(9, false)
+	line := 4.0 * vg.Millimeter
+	dc.FillText(head, vg.Point{X: x, Y: y}, "Solidification path")
+	y -= 6 * vg.Millimeter
+	if p == nil {
+		for _, l := range wrap(body, "not available: "+strings.TrimPrefix(fmt.Sprint(pathErr), "assess: "), right-x) {
+			dc.FillText(body, vg.Point{X: x, Y: y}, l)
+			y -= line
+		}
+		return
+	}
+	f := func(v *float64, format string) string {
+		if v == nil {
+			return ""
+		}
+		return fmt.Sprintf(format, *v)
+	}
+	kj := func(v *float64) *float64 {
+		if v == nil {
+			return nil
+		}
+		k := *v / 1000
+		return &k
+	}
+	for _, l := range [][2]string{
+		{"fs at the liquidus", f(rec.FSAtLiquidus, "%.2f")},
+		{"fs at the eutectic start", f(rec.FSAtEutecticStart, "%.2f")},
+		{"fs at the eutectic minimum", f(rec.FSAtEutecticMin, "%.2f")},
+		{"fs at the eutectic maximum", f(rec.FSAtEutecticMax, "%.2f")},
+		{"latent heat, Newtonian (apparent)", f(kj(rec.LatentHeatNewtonianJPerKg), "%.0f kJ/kg")},
+		{"latent heat, Fourier", f(kj(rec.LatentHeatFourierJPerKg), "%.0f kJ/kg")},
+		{"specific heat used", f(rec.SpecificHeatJPerKgK, "%.0f J/(kg K)")},
+		{"dendrite coherency", f(rec.CoherencyC, "%.1f °C")},
+		{"fs at coherency", f(rec.FSAtCoherency, "%.2f")},
+	} {
+		if l[1] == "" {
+			continue
+		}
+		dc.FillText(body, vg.Point{X: x, Y: y}, l[0])
+		dc.FillText(body, vg.Point{X: right - 24*vg.Millimeter, Y: y}, l[1])
+		y -= line
+	}
 }
 
 // mark is one characteristic point to draw.

@@ -15,6 +15,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/sim"
+	"github.com/undercool-foundry/undercool/internal/solidpath"
 )
 
 // simulatedCup is a simulated (not measured) grey-iron cup from
@@ -90,6 +91,7 @@ func TestWriteSVG(t *testing.T) {
 		"Thermal analysis record — sample L-2417 cup 1", "ladle L-2417", "furnace IF-2", "operator Pell Brasswick",
 		"2026-12-01 06:15 UTC", "Cooling curve", "dT/dt", "eutectic min", "end of freezing",
 		"Verdict: " + strings.ToUpper(rec.Verdict), Caution, "simulated cup for the report test", "record #42",
+		"Fraction solid fs(T) — newtonian", "Solidification path", "fs at the eutectic minimum", "latent heat, Newtonian (apparent)",
 	} {
 		if !strings.Contains(all, want) {
 			t.Errorf("SVG text lacks %q", want)
@@ -97,8 +99,33 @@ func TestWriteSVG(t *testing.T) {
 	}
 }
 
-// svgText checks that the SVG page is well-formed XML (encoding/xml reads
-// every token) with an svg root and returns its text, a line per element.
+// A two-thermocouple cup (SIMULATED radial Al-Si cup with its wall
+// thermocouple) shows the Fourier path and the coherency point.
+func TestWriteTwoThermocouples(t *testing.T) {
+	p, err := sim.Preset("al-si7mg", 0.6, 5)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.Cup = sim.CupRadial
+	out := sim.Simulate(p)
+	radii := solidpath.Geometry{WallMm: out.Truth.WallTCRadiusMm}
+	c := &curvefile.Curve{Name: "simulated radial cup", Meta: out.Meta, Time: out.Time, Temp: out.Temp}
+	rec := assess.Assess(assess.Input{Alloy: "al-si7mg", Time: c.Time, Temp: c.Temp, Meta: c.Meta, Wall: out.Wall, Radii: radii})
+	info := demoInfo
+	info.Wall, info.Radii = out.Wall, radii
+	path := filepath.Join(t.TempDir(), "radial.svg")
+	if err := Write(path, c, rec, info); err != nil {
+		t.Fatal(err)
+	}
+	all := svgText(t, path)
+	for _, want := range []string{"Fraction solid fs(T) — fourier", "latent heat, Fourier", "dendrite coherency", "fs at coherency"} {
+		if !strings.Contains(all, want) {
+			t.Errorf("SVG text lacks %q", want)
+		}
+	}
+}
+
+// svgText checks that the file is well-formed SVG and returns its text.
 func svgText(t *testing.T, path string) string {
 	t.Helper()
 	data, err := os.ReadFile(path)

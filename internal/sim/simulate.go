@@ -22,6 +22,11 @@ type Output struct {
 	// FractionSolid is the mass-averaged solid fraction of the whole cup at
 	// the logger's times (0 before the pour).
 	FractionSolid []float64
+	// CentreFractionSolid is the solid fraction where the centre
+	// thermocouple sits (radial cup: the centre zone; lumped cup: the
+	// core) at the logger's times (0 before the pour): the local fraction
+	// a two-thermocouple analysis reads.
+	CentreFractionSolid []float64
 	// Open is true where the logger saw an open thermocouple (nil when the
 	// thermocouple never opened); Temp there holds OpenReadingC.
 	Open   []bool
@@ -66,6 +71,7 @@ func Simulate(p Params) Output {
 	out.Temp = make([]float64, n)
 	out.Clean = make([]float64, n)
 	out.FractionSolid = make([]float64, n)
+	out.CentreFractionSolid = make([]float64, n)
 	if f.wallTC != nil {
 		out.Wall = make([]float64, n)
 	}
@@ -86,6 +92,7 @@ func Simulate(p Params) Output {
 			a := u - float64(i)
 			c = f.tc[i] + a*(f.tc[i+1]-f.tc[i])
 			out.FractionSolid[k] = f.fs[i] + a*(f.fs[i+1]-f.fs[i])
+			out.CentreFractionSolid[k] = f.fsCore[i] + a*(f.fsCore[i+1]-f.fsCore[i])
 			if out.Wall != nil {
 				out.Wall[k] = f.wallTC[i] + a*(f.wallTC[i+1]-f.wallTC[i])
 			}
@@ -145,13 +152,14 @@ func (p Params) run() (fine, cup) {
 	if dur == 0 {
 		est = int(400 / m.step)
 	}
-	f := fine{offset: p.PourAtS, step: m.step, tc: make([]float64, 0, est), temp: make([]float64, 0, est), fs: make([]float64, 0, est), shell: make([]float64, 0, est)}
+	f := fine{offset: p.PourAtS, step: m.step, tc: make([]float64, 0, est), temp: make([]float64, 0, est), fs: make([]float64, 0, est), fsCore: make([]float64, 0, est), shell: make([]float64, 0, est)}
 	var last state
 	record := func(s *state) {
 		f.tc = append(f.tc, s.tc)
 		f.temp = append(f.temp, s.core.temp)
 		f.shell = append(f.shell, s.shell.temp)
 		f.fs = append(f.fs, s.fs)
+		f.fsCore = append(f.fsCore, s.core.fs)
 		last = *s
 	}
 	if m.radial != nil {

@@ -166,6 +166,7 @@ type fine struct {
 	temp   []float64 // metal at the core, °C
 	shell  []float64 // metal in the shell, °C
 	fs     []float64 // solid fraction
+	fsCore []float64 // solid fraction of the core (radial cup: the centre zone)
 	offset float64   // logger time of index 0 (the pour), s
 	step   float64   // the time between two entries, s
 	primOn float64   // model time of the first primary nucleus, s (−1: none)

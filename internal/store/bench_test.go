@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"path/filepath"
+	"strconv"
 	"testing"
 	"time"
 )
@@ -99,4 +100,83 @@ func BenchmarkHistoryMonth(b *testing.B) {
 	// CPU time as well as wall time: on a shared, loaded machine the
 	// wall time says more about the neighbours than about the query
 	b.ReportMetric(float64(cpuTime()-cpu)/float64(b.N), "cpu-ns/op")
+}
+
+// plantMonth fills a plant database with a month of twenty decks (150
+// samples a deck a day, three alloys in turn: 90,000 samples), through
+// the owner role, as the decks' forwarding would have.
+func plantMonth(b *testing.B, db *DB, end time.Time) {
+	ctx := context.Background()
+	for d := range 20 {
+		ss := constructedSamples(4500, 30, end)
+		for i := range ss {
+			ss[i].Site, ss[i].Deck = "cindermoth-north", fmt.Sprintf("deck-%d", d+1)
+			ss[i].CurveSHA256 = hashUID("bench", strconv.Itoa(d), strconv.Itoa(i)) + hashUID("bench")
+		}
+		if _, err := db.AddSamples(ctx, ss); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkPlantHistoryMonth is history on the plant database (a local
+// PostgreSQL server, Unix socket) of one alloy over the last 30 days
+// across twenty decks, with 90,000 samples in the table: 30,000 rows, as
+// the quality office reads it. Target: at most 50 ms per op.
+func BenchmarkPlantHistoryMonth(b *testing.B) {
+	e := &testEngine{name: "postgres", srv: pgServer(b)}
+	p := e.newPlace(b, -1)
+	owner := p.open(b, "undercool_owner")
+	end := time.Date(2026, 12, 1, 0, 0, 0, 0, time.UTC)
+	plantMonth(b, owner, end)
+	if _, err := owner.sql.Exec("ANALYZE"); err != nil {
+		b.Fatal(err)
+	}
+	office := p.open(b, "quality_office")
+	ctx := context.Background()
+	since := end.Add(-30 * 24 * time.Hour)
+	cpu := cpuTime()
+	for b.Loop() {
+		h, err := office.History(ctx, Filter{Alloy: "grey-iron", Since: since})
+		if err != nil {
+			b.Fatal(err)
+		}
+		if len(h) != 30000 {
+			b.Fatalf("%d rows, want 30000", len(h))
+		}
+	}
+	b.ReportMetric(float64(cpuTime()-cpu)/float64(b.N), "client-cpu-ns/op")
+}
+
+// BenchmarkForward forwards a deck's outbox of 2,000 samples to the plant
+// database (a local PostgreSQL server) and reports samples a second.
+func BenchmarkForward(b *testing.B) {
+	e := &testEngine{name: "postgres", srv: pgServer(b)}
+	ctx := context.Background()
+	n := 0
+	var elapsed time.Duration
+	for b.Loop() {
+		b.StopTimer()
+		p := e.newPlace(b, -1)
+		plant := p.open(b, "deck_a")
+		local, err := Open(ctx, filepath.Join(b.TempDir(), "deck.db"))
+		if err != nil {
+			b.Fatal(err)
+		}
+		if _, err := local.AddSamples(ctx, constructedSamples(2000, 14, time.Date(2026, 12, 1, 0, 0, 0, 0, time.UTC))); err != nil {
+			b.Fatal(err)
+		}
+		b.StartTimer()
+		t0 := time.Now()
+		sent, err := Forward(ctx, local, plant, nil)
+		elapsed += time.Since(t0)
+		if err != nil || sent.New != 2000 {
+			b.Fatalf("%+v, %v", sent, err)
+		}
+		n += sent.New
+		b.StopTimer()
+		local.Close()
+		b.StartTimer()
+	}
+	b.ReportMetric(float64(n)/elapsed.Seconds(), "samples/s")
 }

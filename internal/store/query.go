@@ -14,8 +14,11 @@ import (
 
 // Filter selects samples for History. Zero fields select everything.
 type Filter struct {
+	Site    string // where the sample was taken (plant-wide records)
+	Deck    string // the melt deck there
 	Alloy   string
 	Ladle   string
+	Furnace string
 	Since   time.Time // recorded at or after
 	Until   time.Time // recorded before
 	Verdict string    // of the result shown
@@ -42,10 +45,10 @@ type Entry struct {
 // summaryColumns are what a history row reads; fullColumns add the rest
 // of the sample and the whole record.
 const (
-	summaryColumns = `s.id, s.recorded_at, s.sample, s.ladle, s.alloy, s.furnace, s.operator, s.interrupted, s.simulated,
+	summaryColumns = `s.id, s.recorded_at, s.sample, s.ladle, s.alloy, s.furnace, s.operator, s.site, s.deck, s.interrupted, s.simulated,
 	r.id, r.analysed_at, r.limits_version, r.verdict, r.reasons, r.problems, r.file, r.packed,
 	CASE WHEN r.packed IS NULL THEN r.record END`
-	fullColumns = summaryColumns + `, s.created_at, s.channel, s.thermocouple, s.note, s.curve_path, s.curve_sha256, r.record`
+	fullColumns = summaryColumns + `, s.created_at, s.channel, s.thermocouple, s.note, s.curve_path, s.curve_sha256, s.uid, r.uid, r.record`
 )
 
 // History returns the samples the filter selects, newest first unless
@@ -62,17 +65,18 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 		where []string
 		args  []any
 	)
-	if f.Alloy != "" {
-		where, args = append(where, "s.alloy = ?"), append(args, f.Alloy)
-	}
-	if f.Ladle != "" {
-		where, args = append(where, "s.ladle = ?"), append(args, f.Ladle)
+	for _, c := range []struct{ col, v string }{
+		{"s.site", f.Site}, {"s.deck", f.Deck}, {"s.alloy", f.Alloy}, {"s.ladle", f.Ladle}, {"s.furnace", f.Furnace},
+	} {
+		if c.v != "" {
+			where, args = append(where, c.col+" = ?"), append(args, c.v)
+		}
 	}
 	if !f.Since.IsZero() {
-		where, args = append(where, "s.recorded_at >= ?"), append(args, formatTime(f.Since))
+		where, args = append(where, "s.recorded_at >= ?"), append(args, db.ts(f.Since))
 	}
 	if !f.Until.IsZero() {
-		where, args = append(where, "s.recorded_at < ?"), append(args, formatTime(f.Until))
+		where, args = append(where, "s.recorded_at < ?"), append(args, db.ts(f.Until))
 	}
 	if f.Verdict != "" {
 		col := "r.verdict"
@@ -81,10 +85,11 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 		}
 		where, args = append(where, col+" = ?"), append(args, f.Verdict)
 	}
-	from := " FROM samples s JOIN results r ON r.id = s.latest_result_id"
+	from := " FROM samples s " + db.latestJoin()
 	switch {
 	case fast:
-		from = " FROM samples s"
+		from = " FROM " + db.historyTable() + " s"
+		where = append(where, "s.latest_result_id IS NOT NULL")
 	case f.AllResults:
 		from = " FROM samples s JOIN results r ON r.sample_id = s.id"
 	}
@@ -92,17 +97,24 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 		from += " WHERE " + strings.Join(where, " AND ")
 	}
 	// count first, so the rows go straight into a slice of the right size
+	// (the plant database counts the fast path's rows as it sends them,
+	// count(*) OVER (), rather than reading them twice)
 	var n int
-	if err := db.sql.QueryRowContext(ctx, "SELECT count(*)"+from, args...).Scan(&n); err != nil {
-		return nil, db.fail("reading history from", err)
+	window := fast && db.pg
+	if !window {
+		if err := db.sql.QueryRowContext(ctx, db.q("SELECT count(*)"+from), args...).Scan(&n); err != nil {
+			return nil, db.fail("reading history from", err)
+		}
 	}
 	if f.Limit > 0 && f.Limit < n {
 		n = f.Limit
 	}
 	var q string
 	switch {
+	case window:
+		q = "SELECT s.id, s.latest_result_id, s.summary, count(*) OVER ()"
 	case fast:
-		q = "SELECT s.id, s.summary"
+		q = "SELECT s.id, s.latest_result_id, s.summary"
 	case f.Full:
 		q = "SELECT " + fullColumns
 	default:
@@ -123,7 +135,7 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 		q += " LIMIT ?"
 		args = append(args, f.Limit)
 	}
-	rows, err := db.sql.QueryContext(ctx, q, args...)
+	rows, err := db.sql.QueryContext(ctx, db.q(q), args...)
 	if err != nil {
 		return nil, db.fail("reading history from", err)
 	}
@@ -132,16 +144,34 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 	var missing []int // rows without a summary (written before it existed)
 	sc := newScanner(f.Full)
 	var summary sql.RawBytes // decoded before the next row
+	dest := []any{nil, nil, &summary, &n}
+	if !window {
+		dest = dest[:3]
+	}
 	for rows.Next() {
+		if window && len(out) == 0 && cap(out) == 0 {
+			out = make([]Entry, 0, 1) // replaced once the first row gives the count
+		}
 		out = append(out, Entry{})
 		e := &out[len(out)-1]
+		dest[0], dest[1] = &e.Sample.ID, &e.Result.ID
 		if !fast {
 			err = sc.scan(rows, e)
-		} else if err = rows.Scan(&e.Sample.ID, &summary); err == nil {
-			if summary == nil {
+		} else if err = rows.Scan(dest...); err == nil {
+			if window && len(out) == 1 {
+				if f.Limit > 0 && f.Limit < n {
+					n = f.Limit
+				}
+				out = append(make([]Entry, 0, n), out[0])
+				e = &out[0]
+			}
+			switch {
+			case len(summary) == 0 || summary[0] != summaryFormat: // none yet, or an earlier format
 				missing = append(missing, len(out)-1)
-			} else if err = unpackSummary(summary, e); err != nil {
-				err = fmt.Errorf("sample %d: %w", e.Sample.ID, err)
+			default:
+				if err = unpackSummary(summary, e); err != nil {
+					err = fmt.Errorf("sample %d: %w", e.Sample.ID, err)
+				}
 			}
 		}
 		if err != nil {
@@ -162,10 +192,30 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 	return out, nil
 }
 
+// latestJoin joins a sample (s) to its latest result (r): in SQLite
+// through the sample row's latest_result_id, in the plant database
+// through its latest table (see migrations/postgres/0001_base.sql).
+func (db *DB) latestJoin() string {
+	if db.pg {
+		return "JOIN latest l ON l.id = s.id JOIN results r ON r.id = l.latest_result_id"
+	}
+	return "JOIN results r ON r.id = s.latest_result_id"
+}
+
+// historyTable holds a history row per sample (id, latest_result_id,
+// latest_verdict, summary and the columns the filters use): the samples
+// table in SQLite, the narrow latest table in the plant database.
+func (db *DB) historyTable() string {
+	if db.pg {
+		return "latest"
+	}
+	return "samples"
+}
+
 // latestEntry reads one sample's history row the slow way, by a join.
 func (db *DB) latestEntry(ctx context.Context, id int64) (Entry, error) {
-	rows, err := db.sql.QueryContext(ctx, "SELECT "+summaryColumns+
-		" FROM samples s JOIN results r ON r.id = s.latest_result_id WHERE s.id = ?", id)
+	rows, err := db.sql.QueryContext(ctx, db.q("SELECT "+summaryColumns+
+		" FROM samples s "+db.latestJoin()+" WHERE s.id = ?"), id)
 	if err != nil {
 		return Entry{}, db.fail("reading history from", err)
 	}
@@ -184,9 +234,10 @@ func (db *DB) latestEntry(ctx context.Context, id int64) (Entry, error) {
 }
 
 // fillSummaries writes the summary of samples stored before the summary
-// column existed (migration 0004), so history reads them the fast way.
+// column existed (migration 0004) or in an earlier format (cleared by a
+// migration), so history reads them the fast way (SQLite).
 func (db *DB) fillSummaries(ctx context.Context) error {
-	rows, err := db.sql.QueryContext(ctx, `SELECT id FROM samples WHERE summary IS NULL AND latest_result_id IS NOT NULL`)
+	rows, err := db.sql.QueryContext(ctx, `SELECT id FROM samples WHERE (summary IS NULL OR substr(summary, 1, 1) != x'02') AND latest_result_id IS NOT NULL`)
 	if err != nil {
 		return db.fail("migrating", err)
 	}
@@ -213,7 +264,7 @@ func (db *DB) fillSummaries(ctx context.Context) error {
 	}
 	return db.write(ctx, "migrating", func(tx *sql.Tx) error {
 		for i, id := range ids { // a result added meanwhile has written its own summary
-			if _, err := tx.ExecContext(ctx, `UPDATE samples SET summary = ? WHERE id = ? AND summary IS NULL`, sums[i], id); err != nil {
+			if _, err := tx.ExecContext(ctx, `UPDATE samples SET summary = ? WHERE id = ? AND (summary IS NULL OR substr(summary, 1, 1) != x'02')`, sums[i], id); err != nil {
 				return err
 			}
 		}
@@ -223,12 +274,11 @@ func (db *DB) fillSummaries(ctx context.Context) error {
 
 // scanner reads entry rows straight into the caller's Entry.
 type scanner struct {
-	recorded, analysed, created string
-	reasons, problems           string
-	packed                      []byte
-	record, fallback            sql.NullString
-	dest                        []any
-	full                        bool
+	reasons, problems string
+	packed            []byte
+	record, fallback  sql.NullString
+	dest              []any
+	full              bool
 }
 
 func newScanner(full bool) *scanner {
@@ -237,22 +287,17 @@ func newScanner(full bool) *scanner {
 
 func (sc *scanner) scan(rows *sql.Rows, e *Entry) error {
 	s, r := &e.Sample, &e.Result
-	sc.dest = append(sc.dest[:0], &s.ID, &sc.recorded, &s.Sample, &s.Ladle, &s.Alloy, &s.Furnace, &s.Operator, &s.Interrupted, &s.Simulated,
-		&r.ID, &sc.analysed, &r.LimitsVersion, &r.Verdict, &sc.reasons, &sc.problems, &r.Record.File, &sc.packed, &sc.fallback)
+	sc.dest = append(sc.dest[:0], &s.ID, dbTime{&s.Recorded}, &s.Sample, &s.Ladle, &s.Alloy, &s.Furnace, &s.Operator, &s.Site, &s.Deck,
+		&s.Interrupted, &s.Simulated,
+		&r.ID, dbTime{&r.Analysed}, &r.LimitsVersion, &r.Verdict, &sc.reasons, &sc.problems, &r.Record.File, &sc.packed, &sc.fallback)
 	if sc.full {
-		sc.dest = append(sc.dest, &sc.created, &s.Channel, &s.Thermocouple, &s.Note, &s.CurvePath, &s.CurveSHA256, &sc.record)
+		sc.dest = append(sc.dest, dbTime{&s.Created}, &s.Channel, &s.Thermocouple, &s.Note, &s.CurvePath, &s.CurveSHA256,
+			&s.UID, &r.UID, &sc.record)
 	}
 	if err := rows.Scan(sc.dest...); err != nil {
 		return err
 	}
 	r.SampleID = s.ID
-	var err error
-	if s.Recorded, err = parseTime(sc.recorded); err != nil {
-		return err
-	}
-	if r.Analysed, err = parseTime(sc.analysed); err != nil {
-		return err
-	}
 	r.Reasons = splitLines(sc.reasons)
 	switch {
 	case sc.full || sc.fallback.Valid:
@@ -270,11 +315,6 @@ func (sc *scanner) scan(rows *sql.Rows, e *Entry) error {
 			return fmt.Errorf("result %d: %w", r.ID, err)
 		}
 	}
-	if sc.full {
-		if s.Created, err = parseTime(sc.created); err != nil {
-			return err
-		}
-	}
 	return nil
 }
 
@@ -282,8 +322,8 @@ func (sc *scanner) scan(rows *sql.Rows, e *Entry) error {
 // its results, oldest first, each with its whole stored record. A missing
 // id gives an error wrapping ErrNoSample.
 func (db *DB) Get(ctx context.Context, id int64) (Sample, []Result, error) {
-	rows, err := db.sql.QueryContext(ctx, "SELECT "+fullColumns+
-		" FROM samples s JOIN results r ON r.sample_id = s.id WHERE s.id = ? ORDER BY r.id", id)
+	rows, err := db.sql.QueryContext(ctx, db.q("SELECT "+fullColumns+
+		" FROM samples s JOIN results r ON r.sample_id = s.id WHERE s.id = ? ORDER BY r.id"), id)
 	if err != nil {
 		return Sample{}, nil, db.fail("reading", err)
 	}
@@ -396,21 +436,24 @@ func (db *DB) Trend(ctx context.Context, alloy, metric string, since, until time
 		return nil, SPC{}, fmt.Errorf("store: trend of %q: %w (known: %s)", metric, ErrUnknownMetric, strings.Join(Metrics(), ", "))
 	}
 	col := "r." + mf.key
-	if !mf.column {
-		col = "json_extract(r.record, '$." + mf.key + "')" // key is a Go struct tag, not user text
+	switch { // key is a Go struct tag (metricByKey), not user text
+	case !mf.column && db.pg:
+		col = "(r.record ->> '" + mf.key + "')::double precision"
+	case !mf.column:
+		col = "json_extract(r.record, '$." + mf.key + "')"
 	}
 	where := []string{"s.alloy = ?", col + " IS NOT NULL"}
 	args := []any{alloy}
 	if !since.IsZero() {
-		where, args = append(where, "s.recorded_at >= ?"), append(args, formatTime(since))
+		where, args = append(where, "s.recorded_at >= ?"), append(args, db.ts(since))
 	}
 	if !until.IsZero() {
-		where, args = append(where, "s.recorded_at < ?"), append(args, formatTime(until))
+		where, args = append(where, "s.recorded_at < ?"), append(args, db.ts(until))
 	}
 	q := "SELECT s.id, s.recorded_at, s.sample, s.ladle, r.verdict, " + col +
-		" FROM samples s JOIN results r ON r.id = s.latest_result_id WHERE " + strings.Join(where, " AND ") +
+		" FROM samples s " + db.latestJoin() + " WHERE " + strings.Join(where, " AND ") +
 		" ORDER BY s.recorded_at, s.id"
-	rows, err := db.sql.QueryContext(ctx, q, args...)
+	rows, err := db.sql.QueryContext(ctx, db.q(q), args...)
 	if err != nil {
 		return nil, SPC{}, db.fail("reading a trend from", err)
 	}
@@ -420,14 +463,8 @@ func (db *DB) Trend(ctx context.Context, alloy, metric string, since, until time
 		vals []float64
 	)
 	for rows.Next() {
-		var (
-			p   TrendPoint
-			rec string
-		)
-		if err := rows.Scan(&p.SampleID, &rec, &p.Sample, &p.Ladle, &p.Verdict, &p.Value); err != nil {
-			return nil, SPC{}, db.fail("reading a trend from", err)
-		}
-		if p.Time, err = parseTime(rec); err != nil {
+		var p TrendPoint
+		if err := rows.Scan(&p.SampleID, dbTime{&p.Time}, &p.Sample, &p.Ladle, &p.Verdict, &p.Value); err != nil {
 			return nil, SPC{}, db.fail("reading a trend from", err)
 		}
 		pts = append(pts, p)

@@ -16,6 +16,8 @@ import (
 	"strings"
 	"time"
 
+	"github.com/jackc/pgx/v5/pgconn"
+
 	"github.com/undercool-foundry/undercool/internal/assess"
 )
 
@@ -23,9 +25,16 @@ import (
 // analysis. For AddSample, Record and LimitsVersion are the first analysis;
 // Get returns the latest result's there (History returns them in Entry.Result).
 type Sample struct {
-	ID       int64
-	Created  time.Time // when the row was written (set by the store)
+	ID int64 // in this database (each copy has its own)
+	// UID names the sample on every copy (a deck's file, the plant
+	// database): the curve file's SHA-256 when it has one, else an id made
+	// when it was first stored. Set by the store.
+	UID      string
+	Created  time.Time // when the row was first written (set by the store)
 	Recorded time.Time // when the sample was taken; the zero time means now
+
+	Site string // where it was taken; empty: the database's Origin
+	Deck string
 
 	Sample       string // sample id, e.g. "L-2417 cup 1"
 	Ladle        string // ladle or tap id, e.g. "L-2417"
@@ -50,6 +59,7 @@ type Sample struct {
 type Result struct {
 	ID            int64
 	SampleID      int64
+	UID           string // the same on every copy (set by the store)
 	Analysed      time.Time
 	LimitsVersion string
 	Verdict       string
@@ -194,48 +204,210 @@ func metricByKey(key string) (metricField, bool) {
 	return metricField{}, false
 }
 
-// resultColumns are the results columns every insert writes, in the order
-// of insertResult's arguments.
-var resultColumns = append([]string{"sample_id", "analysed_at", "limits_version", "verdict", "reasons", "problems",
-	"file", "samples", "skipped_lines", "despiked", "rate_hz", "packed", "record"}, pointColumns...)
+// sampleColumns are the samples columns every insert writes, in the
+// order of sampleArgs.
+const sampleColumns = "uid, site, deck, created_at, recorded_at, sample, ladle, alloy, furnace, operator, channel, thermocouple, note, curve_path, curve_sha256, interrupted, simulated"
 
-var insertResultSQL = "INSERT INTO results(" + strings.Join(resultColumns, ", ") + ") VALUES (?" +
-	strings.Repeat(", ?", len(resultColumns)-1) + ")"
-
-const insertSampleSQL = `INSERT INTO samples(created_at, recorded_at, sample, ladle, alloy, furnace, operator,
-	channel, thermocouple, note, curve_path, curve_sha256, interrupted, simulated)
-	VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`
-
-const setLatestSQL = `UPDATE samples SET latest_result_id = ?, latest_verdict = ?, summary = ? WHERE id = ?`
-
-// sampleMetaSQL reads what a result's summary needs of its sample.
-const sampleMetaSQL = `SELECT id, recorded_at, sample, ladle, alloy, furnace, operator, interrupted, simulated FROM samples WHERE id = ?`
-
-// inserter holds one write transaction's prepared statements.
-type inserter struct {
-	sample, result, latest *sql.Stmt
+func (db *DB) sampleArgs(s *Sample) []any {
+	return []any{s.UID, s.Site, s.Deck, db.ts(s.Created), db.ts(s.Recorded), s.Sample, s.Ladle, s.Alloy, s.Furnace,
+		s.Operator, s.Channel, s.Thermocouple, s.Note, s.CurvePath, s.CurveSHA256, s.Interrupted, s.Simulated}
 }
 
-func prepare(ctx context.Context, tx *sql.Tx) (*inserter, error) {
-	var in inserter
-	var err error
-	if in.sample, err = tx.PrepareContext(ctx, insertSampleSQL); err != nil {
-		return nil, err
+// resultColumns are the results columns every insert writes after the
+// engine's own (SQLite: uid, sample_id; PostgreSQL: uid, sample_uid,
+// summary), in the order of resultArgs.
+var resultColumns = append([]string{"analysed_at", "limits_version", "verdict", "reasons", "problems",
+	"file", "samples", "skipped_lines", "despiked", "rate_hz", "packed", "record"}, pointColumns...)
+
+func (db *DB) resultArgs(r *Result, js []byte, numbers []byte) []any {
+	rec := &r.Record
+	problems := rec.Problems
+	if problems == nil {
+		problems = []string{}
 	}
-	if in.result, err = tx.PrepareContext(ctx, insertResultSQL); err != nil {
-		return nil, err
+	args := make([]any, 0, len(resultColumns)+3)
+	args = append(args, db.ts(r.Analysed), r.LimitsVersion, r.Verdict, joinLines(r.Reasons),
+		joinLines(problems), rec.File, rec.Samples, rec.SkippedLines, rec.Despiked, rec.RateHz, numbers, string(js))
+	for _, p := range pointDests(rec) {
+		if p == nil || *p == nil {
+			args = append(args, nil)
+		} else {
+			args = append(args, **p)
+		}
 	}
-	if in.latest, err = tx.PrepareContext(ctx, setLatestSQL); err != nil {
-		return nil, err
+	return args
+}
+
+// The statements of a write. A row whose uid is stored already is not
+// written again (ON CONFLICT ... DO NOTHING): that is what makes
+// forwarding and importing idempotent.
+var (
+	sqliteInsertSample = "INSERT INTO samples(" + sampleColumns + ") VALUES (" + placeholders(17) + ") ON CONFLICT (uid) WHERE uid != '' DO NOTHING RETURNING id"
+	pgInsertSample     = "INSERT INTO samples(" + sampleColumns + ") VALUES (" + placeholders(17) + ") ON CONFLICT (uid) DO NOTHING RETURNING id"
+	sqliteInsertResult = "INSERT INTO results(uid, sample_id, " + strings.Join(resultColumns, ", ") + ") VALUES (" +
+		placeholders(2+len(resultColumns)) + ") ON CONFLICT (uid) WHERE uid != '' DO NOTHING RETURNING id"
+	pgInsertResult = "INSERT INTO results(uid, sample_uid, summary, " + strings.Join(resultColumns, ", ") + ") VALUES (" +
+		placeholders(3+len(resultColumns)) + ") ON CONFLICT (uid) DO NOTHING RETURNING id"
+)
+
+const (
+	// setLatestSQL makes a result written here the sample's latest.
+	setLatestSQL = `UPDATE samples SET latest_result_id = ?, latest_verdict = ?, summary = ? WHERE id = ?`
+	// setLatestIfNewerSQL does for a copied result, when it is the newest
+	// by analysis time (then arrival), as the plant database's trigger does.
+	setLatestIfNewerSQL = `UPDATE samples SET latest_result_id = ?, latest_verdict = ?, summary = ? WHERE id = ?
+		AND (latest_result_id IS NULL OR (SELECT r.analysed_at FROM results r WHERE r.id = samples.latest_result_id) <= ?)`
+	queueSQL = `INSERT OR IGNORE INTO outbox(result_id, queued_at) VALUES (?, ?)`
+)
+
+func placeholders(n int) string { return strings.TrimSuffix(strings.Repeat("?, ", n), ", ") }
+
+// sampleMetaSQL reads what a result's summary needs of its sample.
+const sampleMetaSQL = `SELECT id, uid, recorded_at, sample, ladle, alloy, furnace, operator, site, deck, interrupted, simulated FROM samples WHERE id = ?`
+
+// writer holds one write transaction and its prepared statements.
+type writer struct {
+	db                                   *DB
+	tx                                   *sql.Tx
+	sample, result, latest, newer, queue *sql.Stmt
+	findSample, findResult               *sql.Stmt
+}
+
+func (db *DB) newWriter(ctx context.Context, tx *sql.Tx) (*writer, error) {
+	w := &writer{db: db, tx: tx}
+	var list []struct {
+		dst **sql.Stmt
+		q   string
 	}
-	return &in, nil
+	add := func(dst **sql.Stmt, q string) {
+		list = append(list, struct {
+			dst **sql.Stmt
+			q   string
+		}{dst, q})
+	}
+	add(&w.findSample, "SELECT id FROM samples WHERE uid = ?")
+	add(&w.findResult, "SELECT id FROM results WHERE uid = ?")
+	if db.pg {
+		add(&w.sample, pgInsertSample)
+		add(&w.result, pgInsertResult)
+	} else {
+		add(&w.sample, sqliteInsertSample)
+		add(&w.result, sqliteInsertResult)
+		add(&w.latest, setLatestSQL)
+		add(&w.newer, setLatestIfNewerSQL)
+		add(&w.queue, queueSQL)
+	}
+	for _, p := range list {
+		st, err := tx.PrepareContext(ctx, db.q(p.q))
+		if err != nil {
+			w.Close()
+			return nil, err
+		}
+		*p.dst = st
+	}
+	return w, nil
 }
 
 // Close closes the statements (the transaction's end would too).
-func (in *inserter) Close() {
-	in.sample.Close()
-	in.result.Close()
-	in.latest.Close()
+func (w *writer) Close() {
+	for _, st := range []*sql.Stmt{w.sample, w.result, w.latest, w.newer, w.queue, w.findSample, w.findResult} {
+		if st != nil {
+			st.Close()
+		}
+	}
+}
+
+// newSample completes a sample to be stored now: its uid, site and deck
+// (the database's origin where empty), times, and the curve file's
+// absolute path.
+func (db *DB) newSample(s *Sample, now time.Time) {
+	if s.UID == "" {
+		s.UID = newSampleUID(s.CurveSHA256)
+	}
+	if s.Site == "" && s.Deck == "" {
+		s.Site, s.Deck = db.origin.Site, db.origin.Deck
+	}
+	if s.Recorded.IsZero() {
+		s.Recorded = now
+	}
+	s.Created = now
+	if s.CurvePath != "" {
+		if abs, err := filepath.Abs(s.CurvePath); err == nil {
+			s.CurvePath = abs
+		}
+	}
+}
+
+// newResult is the result of an analysis of s stored now, with its uid.
+func newResult(s *Sample, rec assess.Record, limitsVersion string, now time.Time) (Result, []byte, error) {
+	if limitsVersion == "" {
+		limitsVersion = rec.LimitsVersion
+	}
+	if rec.Problems == nil {
+		rec.Problems = []string{}
+	}
+	js, err := recordJSON(rec)
+	if err != nil {
+		return Result{}, nil, err
+	}
+	r := Result{SampleID: s.ID, Analysed: now, LimitsVersion: limitsVersion, Verdict: rec.Verdict, Reasons: Reasons(rec), Record: rec}
+	r.UID = resultUID(s.UID, formatTime(now), limitsVersion, js)
+	return r, js, nil
+}
+
+// put stores result r (its record as js) of sample s in the write
+// transaction: first the sample, unless s.ID is set or a sample with its
+// uid is stored already (then that one is used), then the result, unless
+// one with its uid is stored already (added is then false). A local
+// result (written here now) becomes the sample's latest; a copy from
+// another database becomes it when it is the newest by analysis time. In
+// SQLite every new result joins the outbox. It sets s.ID and r.ID (0
+// where the plant database keeps the row from this role: another deck's).
+func (w *writer) put(ctx context.Context, s *Sample, r *Result, js []byte, local bool) (added bool, err error) {
+	db := w.db
+	meta := s // what the summary shows of the sample: the stored row where there is one
+	if s.ID == 0 {
+		err := w.sample.QueryRowContext(ctx, db.sampleArgs(s)...).Scan(&s.ID)
+		if errors.Is(err, sql.ErrNoRows) { // stored already
+			if err = w.findSample.QueryRowContext(ctx, s.UID).Scan(&s.ID); err == nil && !db.pg {
+				meta, err = sampleMeta(ctx, w.tx, db, s.ID)
+			}
+			if errors.Is(err, sql.ErrNoRows) && db.pg {
+				err = nil // another deck's row
+			}
+		}
+		if err != nil {
+			return false, err
+		}
+	}
+	r.SampleID = s.ID
+	numbers := packNumbers(&r.Record)
+	summary := packSummary(meta, r, numbers)
+	var args []any
+	if db.pg {
+		args = append([]any{r.UID, s.UID, summary}, db.resultArgs(r, js, numbers)...)
+	} else {
+		args = append([]any{r.UID, s.ID}, db.resultArgs(r, js, numbers)...)
+	}
+	err = w.result.QueryRowContext(ctx, args...).Scan(&r.ID)
+	if errors.Is(err, sql.ErrNoRows) {
+		if err := w.findResult.QueryRowContext(ctx, r.UID).Scan(&r.ID); err != nil && !errors.Is(err, sql.ErrNoRows) {
+			return false, err
+		}
+		return false, nil
+	}
+	if err != nil || db.pg {
+		return err == nil, err
+	}
+	if local {
+		_, err = w.latest.ExecContext(ctx, r.ID, r.Verdict, summary, s.ID)
+	} else {
+		_, err = w.newer.ExecContext(ctx, r.ID, r.Verdict, summary, s.ID, db.ts(r.Analysed))
+	}
+	if err == nil {
+		_, err = w.queue.ExecContext(ctx, r.ID, formatTime(time.Now()))
+	}
+	return err == nil, err
 }
 
 // Reasons gives the plain-language lines behind a record's verdict: its
@@ -251,7 +423,9 @@ func Reasons(rec assess.Record) []string {
 }
 
 // AddSample stores a new sample and its first analysis in one transaction
-// and returns the sample's id.
+// and returns the sample's id. A sample whose curve file is stored
+// already (by its SHA-256) is not stored twice: the analysis is added to
+// the stored one, whose id is returned.
 func (db *DB) AddSample(ctx context.Context, s Sample) (int64, error) {
 	ids, err := db.AddSamples(ctx, []Sample{s})
 	if err != nil {
@@ -265,18 +439,23 @@ func (db *DB) AddSample(ctx context.Context, s Sample) (int64, error) {
 func (db *DB) AddSamples(ctx context.Context, ss []Sample) ([]int64, error) {
 	ids := make([]int64, 0, len(ss))
 	err := db.write(ctx, "adding samples to", func(tx *sql.Tx) error {
-		in, err := prepare(ctx, tx)
+		w, err := db.newWriter(ctx, tx)
 		if err != nil {
 			return err
 		}
-		defer in.Close()
+		defer w.Close()
 		now := time.Now()
 		for i := range ss {
-			id, err := in.addSample(ctx, &ss[i], now)
+			s := ss[i]
+			db.newSample(&s, now)
+			r, js, err := newResult(&s, s.Record, s.LimitsVersion, now)
+			if err == nil {
+				_, err = w.put(ctx, &s, &r, js, true)
+			}
 			if err != nil {
 				return fmt.Errorf("sample %q: %w", ss[i].Sample, err)
 			}
-			ids = append(ids, id)
+			ids = append(ids, s.ID)
 		}
 		return nil
 	})
@@ -286,86 +465,14 @@ func (db *DB) AddSamples(ctx context.Context, ss []Sample) ([]int64, error) {
 	return ids, nil
 }
 
-func (in *inserter) addSample(ctx context.Context, s *Sample, now time.Time) (int64, error) {
-	rec := s.Recorded
-	if rec.IsZero() {
-		rec = now
-	}
-	path := s.CurvePath
-	if path != "" {
-		if abs, err := filepath.Abs(path); err == nil {
-			path = abs
-		}
-	}
-	res, err := in.sample.ExecContext(ctx, formatTime(now), formatTime(rec), s.Sample, s.Ladle, s.Alloy, s.Furnace,
-		s.Operator, s.Channel, s.Thermocouple, s.Note, path, s.CurveSHA256, s.Interrupted, s.Simulated)
-	if err != nil {
-		return 0, err
-	}
-	id, err := res.LastInsertId()
-	if err != nil {
-		return 0, err
-	}
-	meta := *s
-	meta.ID, meta.Recorded = id, rec
-	if _, err := in.addResult(ctx, &meta, s.Record, s.LimitsVersion, now); err != nil {
-		return 0, err
-	}
-	return id, nil
-}
-
-// addResult inserts a result of sample s (its id and the metadata its
-// summary shows) and makes it the sample's latest.
-func (in *inserter) addResult(ctx context.Context, s *Sample, rec assess.Record, limitsVersion string, now time.Time) (int64, error) {
-	if limitsVersion == "" {
-		limitsVersion = rec.LimitsVersion
-	}
-	js, err := recordJSON(rec)
-	if err != nil {
-		return 0, err
-	}
-	if rec.Problems == nil {
-		rec.Problems = []string{}
-	}
-	r := Result{SampleID: s.ID, Analysed: now, LimitsVersion: limitsVersion, Verdict: rec.Verdict, Reasons: Reasons(rec), Record: rec}
-	numbers := packNumbers(&rec)
-	args := make([]any, 0, len(resultColumns))
-	args = append(args, s.ID, formatTime(now), limitsVersion, rec.Verdict, joinLines(r.Reasons),
-		joinLines(rec.Problems), rec.File, rec.Samples, rec.SkippedLines, rec.Despiked, rec.RateHz, numbers, string(js))
-	for _, p := range pointDests(&rec) {
-		if p == nil || *p == nil {
-			args = append(args, nil)
-		} else {
-			args = append(args, **p)
-		}
-	}
-	res, err := in.result.ExecContext(ctx, args...)
-	if err != nil {
-		return 0, err
-	}
-	if r.ID, err = res.LastInsertId(); err != nil {
-		return 0, err
-	}
-	if _, err := in.latest.ExecContext(ctx, r.ID, r.Verdict, packSummary(s, &r, numbers), s.ID); err != nil {
-		return 0, err
-	}
-	return r.ID, nil
-}
-
 // sampleMeta reads sample id's metadata for a new result's summary.
-func sampleMeta(ctx context.Context, tx *sql.Tx, id int64) (*Sample, error) {
-	var (
-		s        Sample
-		recorded string
-	)
-	err := tx.QueryRowContext(ctx, sampleMetaSQL, id).Scan(&s.ID, &recorded, &s.Sample, &s.Ladle, &s.Alloy, &s.Furnace, &s.Operator, &s.Interrupted, &s.Simulated)
+func sampleMeta(ctx context.Context, tx *sql.Tx, db *DB, id int64) (*Sample, error) {
+	var s Sample
+	err := tx.QueryRowContext(ctx, db.q(sampleMetaSQL), id).Scan(&s.ID, &s.UID, dbTime{&s.Recorded}, &s.Sample, &s.Ladle, &s.Alloy,
+		&s.Furnace, &s.Operator, &s.Site, &s.Deck, &s.Interrupted, &s.Simulated)
 	if errors.Is(err, sql.ErrNoRows) {
 		return nil, fmt.Errorf("sample %d: %w", id, ErrNoSample)
 	}
-	if err != nil {
-		return nil, err
-	}
-	s.Recorded, err = parseTime(recorded)
 	return &s, err
 }
 
@@ -415,19 +522,28 @@ var ErrNoSample = errors.New("no such sample")
 func (db *DB) AddResult(ctx context.Context, sampleID int64, rec assess.Record, limitsVersion string) (int64, error) {
 	var id int64
 	err := db.write(ctx, "adding a result to", func(tx *sql.Tx) error {
-		meta, err := sampleMeta(ctx, tx, sampleID)
+		meta, err := sampleMeta(ctx, tx, db, sampleID)
 		if err != nil {
 			return err
 		}
-		in, err := prepare(ctx, tx)
-		if err != nil {
-			return err
-		}
-		defer in.Close()
-		id, err = in.addResult(ctx, meta, rec, limitsVersion, time.Now())
+		id, err = db.addResult(ctx, tx, meta, rec, limitsVersion)
 		return err
 	})
 	return id, err
+}
+
+func (db *DB) addResult(ctx context.Context, tx *sql.Tx, meta *Sample, rec assess.Record, limitsVersion string) (int64, error) {
+	w, err := db.newWriter(ctx, tx)
+	if err != nil {
+		return 0, err
+	}
+	defer w.Close()
+	r, js, err := newResult(meta, rec, limitsVersion, time.Now())
+	if err != nil {
+		return 0, err
+	}
+	_, err = w.put(ctx, meta, &r, js, true)
+	return r.ID, err
 }
 
 // PutOutcome says what Put did.
@@ -466,23 +582,33 @@ func (db *DB) Put(ctx context.Context, s Sample) (int64, PutOutcome, error) {
 		out PutOutcome
 	)
 	err := db.write(ctx, "storing a result in", func(tx *sql.Tx) error {
-		in, err := prepare(ctx, tx)
-		if err != nil {
-			return err
+		uid := s.UID
+		if uid == "" {
+			uid = newSampleUID(s.CurveSHA256)
 		}
-		defer in.Close()
-		now := time.Now()
-		err = tx.QueryRowContext(ctx, `SELECT id FROM samples WHERE curve_sha256 = ? ORDER BY id LIMIT 1`, s.CurveSHA256).Scan(&id)
+		err := tx.QueryRowContext(ctx, db.q(`SELECT id FROM samples WHERE uid = ?`), uid).Scan(&id)
 		switch {
 		case errors.Is(err, sql.ErrNoRows):
 			out = PutNewSample
-			id, err = in.addSample(ctx, &s, now)
+			w, err := db.newWriter(ctx, tx)
+			if err != nil {
+				return err
+			}
+			defer w.Close()
+			now := time.Now()
+			db.newSample(&s, now)
+			r, js, err := newResult(&s, s.Record, s.LimitsVersion, now)
+			if err != nil {
+				return err
+			}
+			_, err = w.put(ctx, &s, &r, js, true)
+			id = s.ID
 			return err
 		case err != nil:
 			return err
 		}
-		var lastVersion, lastRecord string
-		if err := tx.QueryRowContext(ctx, `SELECT r.limits_version, r.record FROM samples s JOIN results r ON r.id = s.latest_result_id WHERE s.id = ?`, id).
+		var lastVersion, lastRecord sql.NullString
+		if err := tx.QueryRowContext(ctx, db.q(`SELECT r.limits_version, r.record FROM samples s `+db.latestJoin()+` WHERE s.id = ?`), id).
 			Scan(&lastVersion, &lastRecord); err != nil && !errors.Is(err, sql.ErrNoRows) {
 			return err
 		}
@@ -494,25 +620,57 @@ func (db *DB) Put(ctx context.Context, s Sample) (int64, PutOutcome, error) {
 		if lv == "" {
 			lv = s.Record.LimitsVersion
 		}
-		if lastVersion == lv && lastRecord == string(js) {
+		if lastVersion.String == lv && sameRecord(lastRecord.String, js) {
 			out = PutUnchanged
 			return nil
 		}
-		meta, err := sampleMeta(ctx, tx, id)
+		meta, err := sampleMeta(ctx, tx, db, id)
 		if err != nil {
 			return err
 		}
 		out = PutNewResult
-		_, err = in.addResult(ctx, meta, s.Record, s.LimitsVersion, now)
+		_, err = db.addResult(ctx, tx, meta, s.Record, s.LimitsVersion)
 		return err
 	})
 	return id, out, err
 }
 
-// write runs fn in one write transaction (begun IMMEDIATE, so it holds the
-// write lock from the start and waits for another writer rather than
-// failing half-way) and commits it; any error rolls it all back.
+// sameRecord reports whether a stored record (as either engine gives its
+// JSON back) is the record encoded as js.
+func sameRecord(stored string, js []byte) bool {
+	if stored == string(js) {
+		return true
+	}
+	var rec assess.Record
+	if err := json.Unmarshal([]byte(stored), &rec); err != nil {
+		return false
+	}
+	again, err := recordJSON(rec)
+	return err == nil && string(again) == string(js)
+}
+
+// write runs fn in one write transaction (in SQLite begun IMMEDIATE, so
+// it holds the write lock from the start and waits for another writer
+// rather than failing half-way) and commits it; any error rolls it all
+// back.
 func (db *DB) write(ctx context.Context, doing string, fn func(*sql.Tx) error) error {
+	for try := 1; ; try++ {
+		err := db.write1(ctx, doing, fn)
+		if try == 3 || !retryable(err) {
+			return err
+		}
+	}
+}
+
+// retryable reports whether a transaction failed only for meeting another
+// (PostgreSQL's deadlock and serialization failures), so that running it
+// again will do.
+func retryable(err error) bool {
+	var pe *pgconn.PgError
+	return errors.As(err, &pe) && (pe.Code == "40P01" || pe.Code == "40001")
+}
+
+func (db *DB) write1(ctx context.Context, doing string, fn func(*sql.Tx) error) error {
 	tx, err := db.sql.BeginTx(ctx, nil)
 	if err != nil {
 		return db.fail(doing, err)

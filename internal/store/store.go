@@ -1,16 +1,32 @@
-// Package store keeps the records of every sample in a SQLite database
-// (modernc.org/sqlite, pure Go, no server): one samples row per finished
-// sample, with its metadata and the SHA-256 of its curve file, and one
-// results row per analysis of it. Re-analysis after a limits change adds a
-// results row and keeps the old one; history shows the latest by default.
+// Package store keeps the records of every sample: one samples row per
+// finished sample, with its metadata, its site and deck and the SHA-256 of
+// its curve file, and one results row per analysis of it. Re-analysis
+// after a limits change adds a results row and keeps the old one; history
+// shows the latest by default.
 //
-// The database runs in WAL mode with a busy timeout, so the dashboard, a
-// re-analysis and a history query may use it at the same time, from one
-// process or several. Writes are transactions begun IMMEDIATE: a writer
-// killed at any moment leaves the database as it was before its
-// transaction. The schema is built by numbered migrations embedded in the
-// program (migrations/NNNN_name.sql), each applied in its own transaction
-// and counted in the schema_version table.
+// Two engines hold the same records behind the one type DB: a SQLite file
+// (modernc.org/sqlite, pure Go, no server), each melt deck's own and the
+// default, and a PostgreSQL database (jackc/pgx), the plant's, shared by
+// every deck and read by the quality office. Open takes a file path or a
+// postgres:// connection string; nothing outside this package knows which
+// engine it has. Each engine has its schema as numbered migrations
+// embedded in the program (migrations/sqlite, migrations/postgres), each
+// applied in its own transaction and counted in its schema_version table.
+//
+// A SQLite database runs in WAL mode with a busy timeout, so the
+// dashboard, a re-analysis and a history query may use it at the same
+// time, from one process or several. Writes are transactions begun
+// IMMEDIATE: a writer killed at any moment leaves the database as it was
+// before its transaction. Every result written to a SQLite file joins its
+// outbox, which a Forwarder empties into the plant database, in order,
+// whenever the link is up (forward.go); each sample and result carries a
+// uid that is the same on every copy, so a row sent twice is stored once.
+//
+// The PostgreSQL engine takes credentials only from the environment
+// (PGPASSWORD) or the password file (~/.pgpass, $PGPASSFILE), never from
+// the connection string; it verifies the server's certificate over TLS
+// whenever the server is not on this computer; its SQL is parameterised
+// throughout; and it never shows the password in an error (postgres.go).
 package store
 
 import (
@@ -20,268 +36,167 @@ import (
 	"errors"
 	"fmt"
 	"io/fs"
-	"net/url"
-	"os"
 	"path/filepath"
 	"runtime"
-	"slices"
 	"sort"
 	"strconv"
 	"strings"
+	"sync"
 	"time"
-
-	"modernc.org/sqlite"
-	sqlite3 "modernc.org/sqlite/lib"
+	"unicode"
 )
 
-//go:embed migrations/*.sql
+//go:embed migrations/sqlite/*.sql migrations/postgres/*.sql
 var migrationFiles embed.FS
 
-// DB is an open records database. It is safe for concurrent use.
+// DB is an open records database, in a SQLite file or on a PostgreSQL
+// server. It is safe for concurrent use.
 type DB struct {
 	sql  *sql.DB
-	path string
+	path string // the file, or the server and database (never a secret)
+	pg   bool   // PostgreSQL; else SQLite
+
+	secrets []string // text never to show in an error (the password)
+	origin  Origin   // the site and deck of samples written without one
+	binds   sync.Map // query with ? placeholders → PostgreSQL's $n form
 }
 
-// busyTimeoutMS is how long a statement waits for another writer's lock
-// before it gives up with "database is locked".
-const busyTimeoutMS = 15000
-
-// Open opens (creating it and its directory where needed) the database at
-// path and brings its schema up to date. Errors name the path; a directory
-// that cannot be written, or a file that cannot, gives a clear error before
-// anything is written.
-func Open(ctx context.Context, path string) (*DB, error) {
-	return open(ctx, path, -1)
+// IsServer reports whether target names a PostgreSQL database (a
+// postgres:// or postgresql:// connection string) rather than a file.
+func IsServer(target string) bool {
+	return strings.HasPrefix(target, "postgres://") || strings.HasPrefix(target, "postgresql://")
 }
 
-// open is Open with the schema brought only up to version upto (-1: all);
-// tests use it to build databases of every earlier version.
-func open(ctx context.Context, path string, upto int) (*DB, error) {
-	if err := checkPath(path, "?#"); err != nil {
-		return nil, err
+// Open opens the records database target and brings its schema up to
+// date: a SQLite file path (created, with its directory, where needed) or
+// a PostgreSQL connection string (see openPostgres for what it accepts and
+// when it migrates). Errors name the database, never a password.
+func Open(ctx context.Context, target string) (*DB, error) {
+	if IsServer(target) {
+		return openPostgres(ctx, target, -1, false)
 	}
-	if err := checkWritable(path); err != nil {
-		return nil, err
+	return open(ctx, target, -1)
+}
+
+// OpenReadOnly opens an existing database for reading only: a SQLite file
+// where Open cannot write it (see openReadOnlyFile), or a PostgreSQL
+// database in read-only transactions.
+func OpenReadOnly(ctx context.Context, target string) (*DB, error) {
+	if IsServer(target) {
+		return openPostgres(ctx, target, -1, true)
 	}
-	if err := checkOurs(ctx, path); err != nil {
-		return nil, err
+	return openReadOnlyFile(ctx, target)
+}
+
+// Engine names the database's engine: "sqlite" or "postgres".
+func (db *DB) Engine() string {
+	if db.pg {
+		return "postgres"
 	}
-	dsn := path + "?_pragma=busy_timeout(" + strconv.Itoa(busyTimeoutMS) + ")" +
-		"&_pragma=foreign_keys(1)&_pragma=journal_mode(WAL)&_pragma=synchronous(FULL)&_pragma=cache_size(-32768)&_pragma=mmap_size(268435456)&_txlock=immediate"
-	sdb, err := sql.Open("sqlite", dsn)
-	if err != nil {
-		return nil, fmt.Errorf("store: opening database %s: %w", path, err)
-	}
-	db := &DB{sql: sdb, path: path}
-	if err := db.ping(ctx); err != nil {
-		sdb.Close()
-		return nil, db.fail("opening", err)
-	}
-	if err := db.migrate(ctx, upto); err != nil {
-		sdb.Close()
-		return nil, err
-	}
-	if upto < 0 {
-		if err := db.fillSummaries(ctx); err != nil {
-			sdb.Close()
-			return nil, err
+	return "sqlite"
+}
+
+// Origin is where samples are taken: the site (plant) and the melt deck
+// there, set once per deck (its configuration or flags) and stored with
+// every sample it writes.
+type Origin struct {
+	Site string
+	Deck string
+}
+
+// CheckOrigin refuses a site or deck name that is too long (over 64 bytes)
+// or holds control characters or invalid UTF-8.
+func CheckOrigin(o Origin) error {
+	for _, f := range []struct{ what, v string }{{"site", o.Site}, {"deck", o.Deck}} {
+		if len(f.v) > 64 {
+			return fmt.Errorf("store: %s name %.20q… is longer than 64 bytes", f.what, f.v)
 		}
-	}
-	return db, nil
-}
-
-// ErrNotWritable marks an Open that failed because the database or its
-// directory cannot be written (read-only media, permissions); such a
-// database may still be read with OpenReadOnly.
-var ErrNotWritable = errors.New("cannot be written")
-
-// OpenReadOnly opens an existing database for reading only, for where Open
-// cannot write (an archive on read-only media or a read-only share): to
-// look through the records, export or verify them. It reads through
-// SQLite's immutable mode, which takes no locks and reads no journal, so a
-// database with a write-ahead log beside it that is not empty (its last
-// samples may be there, not yet in the file) is refused, and so is one
-// whose schema is older or newer than this undercool's (it cannot be
-// brought up to date). Errors name the path; nothing is ever written.
-func OpenReadOnly(ctx context.Context, path string) (*DB, error) {
-	if err := checkPath(path, "?#%"); err != nil { // '%' too: the path goes into a URI
-		return nil, err
-	}
-	st, err := os.Stat(path)
-	switch {
-	case err != nil:
-		return nil, fmt.Errorf("store: database %s: %w", path, err)
-	case st.Size() == 0:
-		return nil, fmt.Errorf("store: database %s is empty: there are no records to read", path)
-	}
-	if wal, err := os.Stat(path + "-wal"); err == nil && wal.Size() > 0 {
-		return nil, fmt.Errorf("store: database %s has a write-ahead log beside it (%s) that holds samples not yet in the file, and neither can be written: copy both to a writable place and open the copy", path, path+"-wal")
-	}
-	// a URI (SQLite's form: file:///C:/dir/x.db for a Windows drive)
-	u := url.URL{Scheme: "file", Path: filepath.ToSlash(path), RawQuery: "mode=ro&immutable=1"}
-	switch {
-	case filepath.VolumeName(path) != "":
-		u.Path = "/" + u.Path
-	case !filepath.IsAbs(path):
-		u = url.URL{Scheme: "file", Opaque: filepath.ToSlash(path), RawQuery: "mode=ro&immutable=1"}
-	}
-	sdb, err := sql.Open("sqlite", u.String()+"&_pragma=query_only(1)")
-	if err != nil {
-		return nil, fmt.Errorf("store: opening database %s: %w", path, err)
-	}
-	db := &DB{sql: sdb, path: path}
-	if err := checkOursRO(ctx, db); err != nil {
-		sdb.Close()
-		return nil, err
-	}
-	return db, nil
-}
-
-// checkOursRO checks, for OpenReadOnly, that the database is ours and of
-// this undercool's schema version.
-func checkOursRO(ctx context.Context, db *DB) error {
-	var n int
-	if err := db.sql.QueryRowContext(ctx, `SELECT count(*) FROM sqlite_master WHERE type = 'table' AND name = 'schema_version'`).Scan(&n); err != nil {
-		return db.fail("opening", err)
-	}
-	if n == 0 {
-		return fmt.Errorf("store: %s is not an undercool records database (no schema_version table); nothing was read", db.path)
-	}
-	ms, err := migrations()
-	if err != nil {
-		return err
-	}
-	have, err := db.version(ctx)
-	switch {
-	case err != nil:
-		return err
-	case have > len(ms):
-		return db.newerSchema(have, len(ms))
-	case have < len(ms):
-		return fmt.Errorf("store: database %s has schema version %d and this undercool reads %d; it cannot be brought up to date where it is read-only: copy it to a writable place and open the copy", db.path, have, len(ms))
-	}
-	return nil
-}
-
-// ping opens the first connection. Switching a new file to WAL needs a
-// moment alone with it, and SQLite answers SQLITE_BUSY at once (without
-// waiting the busy timeout) when another process is doing the same, so
-// that is retried for as long as the busy timeout.
-func (db *DB) ping(ctx context.Context) error {
-	deadline := time.Now().Add(busyTimeoutMS * time.Millisecond)
-	for {
-		err := db.sql.PingContext(ctx)
-		var se *sqlite.Error
-		if err == nil || !errors.As(err, &se) || se.Code()&0xff != sqlite3.SQLITE_BUSY || time.Now().After(deadline) {
-			return err
-		}
-		select {
-		case <-ctx.Done():
-			return ctx.Err()
-		case <-time.After(20 * time.Millisecond):
-		}
-	}
-}
-
-// checkWritable makes the database's directory and checks that the
-// directory and an existing database file can be written, so a read-only
-// place fails here with a clear error rather than on the first sample.
-func checkWritable(path string) error {
-	dir := filepath.Dir(path)
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return fmt.Errorf("store: database %s: cannot create its directory (it %w; choose another place with --db or UNDERCOOL_DB): %w", path, ErrNotWritable, err)
-	}
-	probe, err := os.CreateTemp(dir, ".undercool-probe-*")
-	if err != nil {
-		return fmt.Errorf("store: database %s: its directory %s %w (SQLite needs it for the journal; choose another place with --db or UNDERCOOL_DB): %w", path, dir, ErrNotWritable, err)
-	}
-	probe.Close()
-	os.Remove(probe.Name())
-	f, err := os.OpenFile(path, os.O_RDWR, 0)
-	switch {
-	case err == nil:
-		f.Close()
-	case errors.Is(err, fs.ErrNotExist):
-	default:
-		return fmt.Errorf("store: database %s %w: %w", path, ErrNotWritable, err)
-	}
-	return nil
-}
-
-// checkOurs refuses an existing SQLite file that holds tables but no
-// schema_version table: another program's database, which migrating would
-// change. It looks through a query-only connection, before the WAL pragma
-// of the real one touches the file. A file another process holds busy is
-// left to the real connection.
-func checkOurs(ctx context.Context, path string) error {
-	if st, err := os.Stat(path); err != nil || st.Size() == 0 {
-		return nil
-	}
-	sdb, err := sql.Open("sqlite", path+"?_pragma=busy_timeout("+strconv.Itoa(busyTimeoutMS)+")&_pragma=query_only(1)")
-	if err != nil {
-		return fmt.Errorf("store: opening database %s: %w", path, err)
-	}
-	defer sdb.Close()
-	var tables []string
-	rows, err := sdb.QueryContext(ctx, `SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite\_%' ESCAPE '\' ORDER BY name`)
-	if err == nil {
-		for rows.Next() {
-			var n string
-			if err = rows.Scan(&n); err != nil {
-				break
+		for _, r := range f.v {
+			if r == unicode.ReplacementChar || unicode.IsControl(r) || unicode.Is(unicode.Bidi_Control, r) {
+				return fmt.Errorf("store: %s name %q holds a control character or invalid text", f.what, f.v)
 			}
-			tables = append(tables, n)
 		}
-		rows.Close()
-		if err == nil {
-			err = rows.Err()
-		}
-	}
-	var se *sqlite.Error
-	switch {
-	case errors.As(err, &se) && se.Code()&0xff == sqlite3.SQLITE_BUSY:
-		return nil
-	case err != nil:
-		return (&DB{path: path}).fail("opening", err)
-	case len(tables) > 0 && !slices.Contains(tables, "schema_version"):
-		return fmt.Errorf("store: database %s is not an undercool database: it is another program's SQLite file (tables %s); nothing was changed; choose another file with --db or UNDERCOOL_DB",
-			path, strings.Join(tables, ", "))
 	}
 	return nil
 }
 
-// Path returns the database's file path.
+// SetOrigin sets the site and deck stored with samples written without
+// their own (call it before the first write).
+func (db *DB) SetOrigin(o Origin) error {
+	if err := CheckOrigin(o); err != nil {
+		return err
+	}
+	db.origin = o
+	return nil
+}
+
+// Origin returns the site and deck set by SetOrigin.
+func (db *DB) Origin() Origin { return db.origin }
+
+// q gives a query written with ? placeholders in the engine's form
+// (PostgreSQL numbers them: $1, $2, ...). Our queries hold no ? inside
+// literals.
+func (db *DB) q(query string) string {
+	if !db.pg {
+		return query
+	}
+	if v, ok := db.binds.Load(query); ok {
+		return v.(string)
+	}
+	var b strings.Builder
+	n := 0
+	for i := 0; i < len(query); i++ {
+		if query[i] == '?' {
+			n++
+			b.WriteString("$" + strconv.Itoa(n))
+			continue
+		}
+		b.WriteByte(query[i])
+	}
+	db.binds.Store(query, b.String())
+	return b.String()
+}
+
+// ts gives a time as the engine stores it: fixed-width UTC text with
+// milliseconds in SQLite (timeLayout), a timestamptz (to the millisecond
+// too) in PostgreSQL.
+func (db *DB) ts(t time.Time) any {
+	if db.pg {
+		return t.UTC().Truncate(time.Millisecond)
+	}
+	return formatTime(t)
+}
+
+// dbTime scans a stored time from either engine.
+type dbTime struct{ t *time.Time }
+
+func (d dbTime) Scan(src any) error {
+	switch v := src.(type) {
+	case time.Time:
+		*d.t = v.UTC()
+		return nil
+	case string:
+		t, err := parseTime(v)
+		*d.t = t
+		return err
+	case []byte:
+		t, err := parseTime(string(v))
+		*d.t = t
+		return err
+	}
+	return fmt.Errorf("stored time of type %T", src)
+}
+
+// Path names the database: its file path, or for PostgreSQL the server,
+// role and database (never the password).
 func (db *DB) Path() string { return db.path }
 
 // Close closes the database.
 func (db *DB) Close() error {
 	if err := db.sql.Close(); err != nil {
-		return fmt.Errorf("store: closing database %s: %w", db.path, err)
+		return db.fail("closing", err)
 	}
 	return nil
-}
-
-// fail wraps err with the database path and, for the errors a user can do
-// something about (read-only, disk full, cannot open), plain advice.
-func (db *DB) fail(doing string, err error) error {
-	var se *sqlite.Error
-	hint := ""
-	if errors.As(err, &se) {
-		switch se.Code() & 0xff {
-		case sqlite3.SQLITE_READONLY:
-			hint = " (the database or its directory is read-only; nothing was written; choose another place with --db or UNDERCOOL_DB)"
-		case sqlite3.SQLITE_FULL:
-			hint = " (the disk is full; this change was not written and the records already stored are intact; free some space and retry)"
-		case sqlite3.SQLITE_CANTOPEN:
-			hint = " (cannot open the file; check the path and its permissions)"
-		case sqlite3.SQLITE_NOTADB, sqlite3.SQLITE_CORRUPT:
-			hint = " (this file is not an undercool database or is damaged; nothing was changed)"
-		case sqlite3.SQLITE_BUSY:
-			hint = " (another program held the database too long; retry)"
-		}
-	}
-	return fmt.Errorf("store: %s database %s%s: %w", doing, db.path, hint, err)
 }
 
 // migration is one numbered schema step.
@@ -291,9 +206,14 @@ type migration struct {
 	sql     string
 }
 
-// migrations returns the embedded migrations in version order.
-func migrations() ([]migration, error) {
-	ents, err := fs.ReadDir(migrationFiles, "migrations")
+// migrations returns the embedded SQLite migrations in version order.
+func migrations() ([]migration, error) { return engineMigrations("sqlite") }
+
+// engineMigrations returns one engine's embedded migrations
+// (migrations/ENGINE/NNNN_name.sql) in version order.
+func engineMigrations(engine string) ([]migration, error) {
+	dir := "migrations/" + engine
+	ents, err := fs.ReadDir(migrationFiles, dir)
 	if err != nil {
 		return nil, fmt.Errorf("store: reading embedded migrations: %w", err)
 	}
@@ -304,7 +224,7 @@ func migrations() ([]migration, error) {
 		if !ok || err != nil || !strings.HasSuffix(e.Name(), ".sql") {
 			return nil, fmt.Errorf("store: embedded migration %q is not named NNNN_name.sql", e.Name())
 		}
-		b, err := migrationFiles.ReadFile("migrations/" + e.Name())
+		b, err := migrationFiles.ReadFile(dir + "/" + e.Name())
 		if err != nil {
 			return nil, fmt.Errorf("store: reading migration %s: %w", e.Name(), err)
 		}
@@ -319,42 +239,14 @@ func migrations() ([]migration, error) {
 	return ms, nil
 }
 
-// SchemaVersion is the schema version this program builds.
+// SchemaVersion is the schema version of the SQLite files this program
+// builds.
 func SchemaVersion() int {
 	ms, err := migrations()
 	if err != nil {
 		panic(err) // the embedded files are part of the program
 	}
 	return len(ms)
-}
-
-// migrate applies every migration newer than the database's version, up to
-// upto (-1: all), each in its own transaction.
-func (db *DB) migrate(ctx context.Context, upto int) error {
-	ms, err := migrations()
-	if err != nil {
-		return err
-	}
-	if upto < 0 || upto > len(ms) {
-		upto = len(ms)
-	}
-	if _, err := db.sql.ExecContext(ctx, `CREATE TABLE IF NOT EXISTS schema_version (
-		version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)`); err != nil {
-		return db.fail("preparing", err)
-	}
-	have, err := db.version(ctx)
-	if err != nil {
-		return err
-	}
-	if have > len(ms) {
-		return db.newerSchema(have, len(ms))
-	}
-	for _, m := range ms[:upto] {
-		if err := db.apply(ctx, m); err != nil {
-			return err
-		}
-	}
-	return nil
 }
 
 // newerSchema is the error for a database of a schema version this
@@ -371,43 +263,6 @@ func checkPath(path, bad string) error {
 	}
 	if i := strings.IndexAny(path, bad); i >= 0 {
 		return fmt.Errorf("store: database path %q: %q is not allowed in the path", path, path[i])
-	}
-	return nil
-}
-
-func (db *DB) version(ctx context.Context) (int, error) {
-	var v int
-	if err := db.sql.QueryRowContext(ctx, `SELECT coalesce(max(version), 0) FROM schema_version`).Scan(&v); err != nil {
-		return 0, db.fail("reading the schema version of", err)
-	}
-	return v, nil
-}
-
-// apply runs one migration in its own transaction, unless another process
-// applied it first (checked inside the transaction, which holds the write
-// lock from its start).
-func (db *DB) apply(ctx context.Context, m migration) error {
-	tx, err := db.sql.BeginTx(ctx, nil)
-	if err != nil {
-		return db.fail("migrating", err)
-	}
-	defer tx.Rollback()
-	var done int
-	if err := tx.QueryRowContext(ctx, `SELECT count(*) FROM schema_version WHERE version = ?`, m.version).Scan(&done); err != nil {
-		return db.fail("migrating", err)
-	}
-	if done > 0 {
-		return nil
-	}
-	if _, err := tx.ExecContext(ctx, m.sql); err != nil {
-		return db.fail("applying migration "+m.name+" to", err)
-	}
-	if _, err := tx.ExecContext(ctx, `INSERT INTO schema_version(version, name, applied_at) VALUES (?, ?, ?)`,
-		m.version, m.name, formatTime(time.Now())); err != nil {
-		return db.fail("migrating", err)
-	}
-	if err := tx.Commit(); err != nil {
-		return db.fail("applying migration "+m.name+" to", err)
 	}
 	return nil
 }

@@ -20,6 +20,7 @@ import (
 	"gonum.org/v1/gonum/stat"
 
 	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/pgtest"
 )
 
 // TestMain doubles as the child processes of the multi-process tests: with
@@ -27,11 +28,15 @@ import (
 func TestMain(m *testing.M) {
 	switch os.Getenv("UNDERCOOL_STORE_CHILD") {
 	case "":
-		os.Exit(m.Run())
+		code := m.Run()
+		pgtest.StopShared()
+		os.Exit(code)
 	case "writer":
 		os.Exit(childWriter())
 	case "killed":
 		os.Exit(childKilled())
+	case "forwarder":
+		os.Exit(childForwarder())
 	default:
 		fmt.Fprintln(os.Stderr, "unknown UNDERCOOL_STORE_CHILD")
 		os.Exit(3)
@@ -75,6 +80,9 @@ func count(t testing.TB, db *DB, table string) int {
 
 func integrity(t testing.TB, db *DB) {
 	t.Helper()
+	if db.pg {
+		return // the server keeps its own
+	}
 	var s string
 	if err := db.sql.QueryRow("PRAGMA integrity_check").Scan(&s); err != nil {
 		t.Fatal(err)
@@ -134,6 +142,9 @@ func TestMigrateFromEveryVersion(t *testing.T) {
 				if err == nil {
 					_, err = old.sql.Exec(`INSERT INTO results(sample_id, analysed_at, verdict, record, eutectic_min_c)
 						VALUES (7, '2026-11-30T06:04:00.000Z', 'pass', '{"alloy":"grey-iron","verdict":"pass","eutectic_min_c":1146.5,"pour_superheat_c":141.5,"problems":[]}', 1146.5)`)
+				}
+				if err == nil && from >= 5 { // the column is written by the program since 0005
+					_, err = old.sql.Exec(`UPDATE results SET pour_superheat_c = 141.5 WHERE sample_id = 7`)
 				}
 				if err == nil && from >= 4 { // as the program has done since 0004
 					_, err = old.sql.Exec(`UPDATE samples SET latest_result_id = (SELECT max(id) FROM results WHERE sample_id = 7), latest_verdict = 'pass' WHERE id = 7`)
@@ -297,138 +308,145 @@ func TestDefaultPath(t *testing.T) {
 }
 
 func TestAddSampleGetAndReanalysis(t *testing.T) {
-	db, _ := openTemp(t)
-	ctx := context.Background()
-	poured := time.Date(2026, 12, 1, 6, 15, 0, 0, time.FixedZone("deck", 3600))
-	rec := constructedRecord("grey-iron", 1139.5, "marginal")
-	rec.LiquidusC = nil // not found: stays null
-	rec.Problems = []string{"recording ended early"}
-	in := Sample{Recorded: poured, Sample: "L-2417 cup 1", Ladle: "L-2417", Alloy: "grey-iron", Furnace: "IF-1",
-		Operator: "Tobin Quenchmoor", Channel: "1", Thermocouple: "K", Note: "after 8 min in holder H3",
-		CurvePath: "relative/cup.csv", CurveSHA256: "ab12", Simulated: true, Record: rec, LimitsVersion: "2026-11"}
-	id, err := db.AddSample(ctx, in)
-	if err != nil {
-		t.Fatal(err)
-	}
-	got, results, err := db.Get(ctx, id)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !got.Recorded.Equal(poured) || got.Recorded.Location() != time.UTC {
-		t.Errorf("recorded %v, want %v in UTC", got.Recorded, poured)
-	}
-	if !filepath.IsAbs(got.CurvePath) || !strings.HasSuffix(got.CurvePath, filepath.Join("relative", "cup.csv")) {
-		t.Errorf("curve path %q not made absolute", got.CurvePath)
-	}
-	if got.Operator != in.Operator || got.Furnace != "IF-1" || !got.Simulated || got.Interrupted || got.LimitsVersion != "2026-11" {
-		t.Errorf("metadata round trip: %+v", got)
-	}
-	if !reflect.DeepEqual(got.Record, rec) {
-		t.Errorf("record round trip:\n got %+v\nwant %+v", got.Record, rec)
-	}
-	if len(results) != 1 || results[0].Verdict != "marginal" || !slices.Equal(results[0].Reasons, []string{"recording ended early"}) {
-		t.Fatalf("results %+v", results)
-	}
-	var liq any
-	db.sql.QueryRow("SELECT liquidus_c FROM results WHERE sample_id = ?", id).Scan(&liq)
-	if liq != nil {
-		t.Errorf("liquidus_c column = %v, want NULL", liq)
-	}
+	forEachEngine(t, func(t *testing.T, e *testEngine) {
+		db := e.fresh(t)
+		ctx := context.Background()
+		poured := time.Date(2026, 12, 1, 6, 15, 0, 0, time.FixedZone("deck", 3600))
+		rec := constructedRecord("grey-iron", 1139.5, "marginal")
+		rec.LiquidusC = nil // not found: stays null
+		rec.Problems = []string{"recording ended early"}
+		in := Sample{Recorded: poured, Sample: "L-2417 cup 1", Ladle: "L-2417", Alloy: "grey-iron", Furnace: "IF-1",
+			Operator: "Tobin Quenchmoor", Channel: "1", Thermocouple: "K", Note: "after 8 min in holder H3",
+			CurvePath: "relative/cup.csv", CurveSHA256: "ab12", Simulated: true, Record: rec, LimitsVersion: "2026-11"}
+		id, err := db.AddSample(ctx, in)
+		if err != nil {
+			t.Fatal(err)
+		}
+		got, results, err := db.Get(ctx, id)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !got.Recorded.Equal(poured) || got.Recorded.Location() != time.UTC {
+			t.Errorf("recorded %v, want %v in UTC", got.Recorded, poured)
+		}
+		if !filepath.IsAbs(got.CurvePath) || !strings.HasSuffix(got.CurvePath, filepath.Join("relative", "cup.csv")) {
+			t.Errorf("curve path %q not made absolute", got.CurvePath)
+		}
+		if got.Operator != in.Operator || got.Furnace != "IF-1" || !got.Simulated || got.Interrupted || got.LimitsVersion != "2026-11" {
+			t.Errorf("metadata round trip: %+v", got)
+		}
+		if !reflect.DeepEqual(got.Record, rec) {
+			t.Errorf("record round trip:\n got %+v\nwant %+v", got.Record, rec)
+		}
+		if len(results) != 1 || results[0].Verdict != "marginal" || !slices.Equal(results[0].Reasons, []string{"recording ended early"}) {
+			t.Fatalf("results %+v", results)
+		}
+		var liq any
+		db.sql.QueryRow(db.q("SELECT liquidus_c FROM results WHERE sample_id = ?"), id).Scan(&liq)
+		if liq != nil {
+			t.Errorf("liquidus_c column = %v, want NULL", liq)
+		}
 
-	// re-analysis with new limits keeps the old result
-	rec2 := rec
-	rec2.Verdict = "pass"
-	rid, err := db.AddResult(ctx, id, rec2, "2026-12")
-	if err != nil {
-		t.Fatal(err)
-	}
-	got, results, _ = db.Get(ctx, id)
-	if len(results) != 2 || results[0].Verdict != "marginal" || results[1].ID != rid || got.Record.Verdict != "pass" || got.LimitsVersion != "2026-12" {
-		t.Fatalf("after re-analysis: %+v %+v", got, results)
-	}
-	h, _ := db.History(ctx, Filter{})
-	all, _ := db.History(ctx, Filter{AllResults: true})
-	if len(h) != 1 || !h[0].Sample.Recorded.Equal(poured) || h[0].Sample.Operator != in.Operator || !h[0].Sample.Simulated ||
-		h[0].Result.LimitsVersion != "2026-12" || !h[0].Result.Analysed.Equal(results[1].Analysed) {
-		t.Errorf("history row after re-analysis: %+v", h[0].Sample)
-	}
-	if len(h) != 1 || h[0].Result.Verdict != "pass" || len(all) != 2 {
-		t.Fatalf("history latest %d rows (%v), all %d rows", len(h), h, len(all))
-	}
+		// re-analysis with new limits keeps the old result
+		rec2 := rec
+		rec2.Verdict = "pass"
+		rid, err := db.AddResult(ctx, id, rec2, "2026-12")
+		if err != nil {
+			t.Fatal(err)
+		}
+		got, results, _ = db.Get(ctx, id)
+		if len(results) != 2 || results[0].Verdict != "marginal" || results[1].ID != rid || got.Record.Verdict != "pass" || got.LimitsVersion != "2026-12" {
+			t.Fatalf("after re-analysis: %+v %+v", got, results)
+		}
+		h, _ := db.History(ctx, Filter{})
+		all, _ := db.History(ctx, Filter{AllResults: true})
+		if len(h) != 1 || !h[0].Sample.Recorded.Equal(poured) || h[0].Sample.Operator != in.Operator || !h[0].Sample.Simulated ||
+			h[0].Result.LimitsVersion != "2026-12" || !h[0].Result.Analysed.Equal(results[1].Analysed) {
+			t.Errorf("history row after re-analysis: %+v", h[0].Sample)
+		}
+		if len(h) != 1 || h[0].Result.Verdict != "pass" || len(all) != 2 {
+			t.Fatalf("history latest %d rows (%v), all %d rows", len(h), h, len(all))
+		}
 
-	if _, err := db.AddResult(ctx, 999, rec, ""); !errors.Is(err, ErrNoSample) {
-		t.Errorf("AddResult to a missing sample: %v", err)
-	}
-	if _, _, err := db.Get(ctx, 999); !errors.Is(err, ErrNoSample) {
-		t.Errorf("Get of a missing sample: %v", err)
-	}
+		if _, err := db.AddResult(ctx, 999, rec, ""); !errors.Is(err, ErrNoSample) {
+			t.Errorf("AddResult to a missing sample: %v", err)
+		}
+		if _, _, err := db.Get(ctx, 999); !errors.Is(err, ErrNoSample) {
+			t.Errorf("Get of a missing sample: %v", err)
+		}
+	})
 }
 
 func TestPut(t *testing.T) {
-	db, _ := openTemp(t)
-	ctx := context.Background()
-	s := Sample{Sample: "L-2417 cup 1", Alloy: "grey-iron", CurveSHA256: "aa", Record: constructedRecord("grey-iron", 1146, "pass"), LimitsVersion: "v1"}
-	id1, out, err := db.Put(ctx, s)
-	if err != nil || out != PutNewSample {
-		t.Fatalf("first put: %v %v", out, err)
-	}
-	id2, out, _ := db.Put(ctx, s)
-	if out != PutUnchanged || id2 != id1 {
-		t.Fatalf("same analysis again: %v id %d", out, id2)
-	}
-	s.LimitsVersion = "v2"
-	s.Record.Verdict = "marginal"
-	id3, out, _ := db.Put(ctx, s)
-	if out != PutNewResult || id3 != id1 {
-		t.Fatalf("new limits: %v id %d", out, id3)
-	}
-	s.CurveSHA256 = "bb"
-	id4, out, _ := db.Put(ctx, s)
-	if out != PutNewSample || id4 == id1 {
-		t.Fatalf("other curve: %v id %d", out, id4)
-	}
-	if count(t, db, "samples") != 2 || count(t, db, "results") != 3 {
-		t.Fatalf("%d samples, %d results; want 2, 3", count(t, db, "samples"), count(t, db, "results"))
-	}
+	forEachEngine(t, func(t *testing.T, e *testEngine) {
+		db := e.fresh(t)
+		ctx := context.Background()
+		s := Sample{Sample: "L-2417 cup 1", Alloy: "grey-iron", CurveSHA256: "aa", Record: constructedRecord("grey-iron", 1146, "pass"), LimitsVersion: "v1"}
+		id1, out, err := db.Put(ctx, s)
+		if err != nil || out != PutNewSample {
+			t.Fatalf("first put: %v %v", out, err)
+		}
+		id2, out, _ := db.Put(ctx, s)
+		if out != PutUnchanged || id2 != id1 {
+			t.Fatalf("same analysis again: %v id %d", out, id2)
+		}
+		s.LimitsVersion = "v2"
+		s.Record.Verdict = "marginal"
+		id3, out, _ := db.Put(ctx, s)
+		if out != PutNewResult || id3 != id1 {
+			t.Fatalf("new limits: %v id %d", out, id3)
+		}
+		s.CurveSHA256 = "bb"
+		id4, out, _ := db.Put(ctx, s)
+		if out != PutNewSample || id4 == id1 {
+			t.Fatalf("other curve: %v id %d", out, id4)
+		}
+		if count(t, db, "samples") != 2 || count(t, db, "results") != 3 {
+			t.Fatalf("%d samples, %d results; want 2, 3", count(t, db, "samples"), count(t, db, "results"))
+		}
+	})
 }
 
 // TestHistoryColumnsMatchRecord checks that the Record history builds from
 // the columns is the stored record, key for key.
 func TestHistoryColumnsMatchRecord(t *testing.T) {
-	db, _ := openTemp(t)
-	ctx := context.Background()
-	full := constructedRecord("ductile-iron", 1141.25, "marginal")
-	full.LiquidusMinC, full.LiquidusMinS, full.LiquidusC, full.LiquidusS = f64(1178.5), f64(40.5), f64(1180.125), f64(44)
-	full.PlateauS, full.CoolingRateCps, full.FreezingTimeS = f64(61.5), f64(-1.75), f64(135.25)
-	full.SkippedLines, full.Despiked, full.File = 2, 1, "/deck/L-2417.csv"
-	full.UndercoolingC, full.CE, full.FixedPointErrorC = f64(12.5), f64(4.31), f64(-0.25)
-	full.Problems = []string{"too noisy", "recording ended early"}
-	sparse := constructedRecord("al-si7mg", 570, "invalid")
-	sparse.EutecticMaxC, sparse.SolidusS, sparse.RateHz = nil, nil, 0
-	sparse.Alloy = "al-si7mg"
-	for _, rec := range []assess.Record{full, sparse} {
-		if _, err := db.AddSample(ctx, Sample{Alloy: rec.Alloy, Record: rec}); err != nil {
+	forEachEngine(t, func(t *testing.T, e *testEngine) {
+		p := e.newPlace(t, -1)
+		db, owner := p.open(t, "deck_a"), p.open(t, "undercool_owner")
+		ctx := context.Background()
+		full := constructedRecord("ductile-iron", 1141.25, "marginal")
+		full.LiquidusMinC, full.LiquidusMinS, full.LiquidusC, full.LiquidusS = f64(1178.5), f64(40.5), f64(1180.125), f64(44)
+		full.PlateauS, full.CoolingRateCps, full.FreezingTimeS = f64(61.5), f64(-1.75), f64(135.25)
+		full.SkippedLines, full.Despiked, full.File = 2, 1, "/deck/L-2417.csv"
+		full.UndercoolingC, full.CE, full.FixedPointErrorC = f64(12.5), f64(4.31), f64(-0.25)
+		full.Problems = []string{"too noisy", "recording ended early"}
+		sparse := constructedRecord("al-si7mg", 570, "invalid")
+		sparse.EutecticMaxC, sparse.SolidusS, sparse.RateHz = nil, nil, 0
+		sparse.Alloy = "al-si7mg"
+		for _, rec := range []assess.Record{full, sparse} {
+			if _, err := db.AddSample(ctx, Sample{Alloy: rec.Alloy, Record: rec}); err != nil {
+				t.Fatal(err)
+			}
+		}
+		fast, _ := db.History(ctx, Filter{Oldest: true})
+		slow, _ := db.History(ctx, Filter{Oldest: true, Full: true})
+		// a row without a summary (as written before migration 0004) is read by a join
+		if _, err := owner.sql.Exec(owner.q("UPDATE "+owner.historyTable()+" SET summary = NULL WHERE id = ?"), fast[1].Sample.ID); err != nil {
 			t.Fatal(err)
 		}
-	}
-	fast, _ := db.History(ctx, Filter{Oldest: true})
-	slow, _ := db.History(ctx, Filter{Oldest: true, Full: true})
-	// a row without a summary (as written before migration 0004) is read by a join
-	if _, err := db.sql.Exec("UPDATE samples SET summary = NULL WHERE id = ?", fast[1].Sample.ID); err != nil {
-		t.Fatal(err)
-	}
-	joined, _ := db.History(ctx, Filter{Oldest: true})
-	if !reflect.DeepEqual(joined, fast) {
-		t.Errorf("row without a summary:\n got %+v\nwant %+v", joined[1], fast[1])
-	}
-	for i, rec := range []assess.Record{full, sparse} {
-		if !reflect.DeepEqual(fast[i].Result.Record, rec) {
-			t.Errorf("row %d from columns:\n got %+v\nwant %+v", i, fast[i].Result.Record, rec)
+		joined, _ := db.History(ctx, Filter{Oldest: true})
+		if !reflect.DeepEqual(joined, fast) {
+			t.Errorf("row without a summary:\n got %+v\nwant %+v", joined[1], fast[1])
 		}
-		if !reflect.DeepEqual(slow[i].Result.Record, rec) {
-			t.Errorf("row %d from JSON:\n got %+v\nwant %+v", i, slow[i].Result.Record, rec)
+		for i, rec := range []assess.Record{full, sparse} {
+			if !reflect.DeepEqual(fast[i].Result.Record, rec) {
+				t.Errorf("row %d from columns:\n got %+v\nwant %+v", i, fast[i].Result.Record, rec)
+			}
+			if !reflect.DeepEqual(slow[i].Result.Record, rec) {
+				t.Errorf("row %d from JSON:\n got %+v\nwant %+v", i, slow[i].Result.Record, rec)
+			}
 		}
-	}
+	})
 }
 
 func TestReasons(t *testing.T) {
@@ -464,59 +482,61 @@ func seedShift(t testing.TB, db *DB, start time.Time, n int, alloys ...string) {
 }
 
 func TestHistoryFilters(t *testing.T) {
-	db, _ := openTemp(t)
-	ctx := context.Background()
-	start := time.Date(2026, 12, 1, 6, 0, 0, 0, time.UTC)
-	seedShift(t, db, start, 12, "grey-iron", "ductile-iron") // 06:00 … 07:50 (+1 min for ductile)
-	for _, tc := range []struct {
-		name string
-		f    Filter
-		want int
-	}{
-		{"all", Filter{}, 24},
-		{"alloy", Filter{Alloy: "ductile-iron"}, 12},
-		{"since", Filter{Since: start.Add(60 * time.Minute)}, 12},                                     // 07:00 on
-		{"until", Filter{Until: start.Add(30 * time.Minute)}, 6},                                      // before 06:30
-		{"window", Filter{Since: start.Add(30 * time.Minute), Until: start.Add(60 * time.Minute)}, 6}, // 06:30–06:59
-		{"verdict", Filter{Verdict: "fail"}, 6},                                                       // i = 3, 7, 11
-		{"alloy+verdict", Filter{Alloy: "grey-iron", Verdict: "pass"}, 6},
-		{"ladle", Filter{Ladle: "L-2405"}, 2},
-		{"limit", Filter{Limit: 5}, 5},
-		{"none", Filter{Alloy: "al-si7mg"}, 0},
-	} {
-		t.Run(tc.name, func(t *testing.T) {
-			h, err := db.History(ctx, tc.f)
-			if err != nil {
-				t.Fatal(err)
-			}
-			if len(h) != tc.want {
-				t.Fatalf("%d rows, want %d", len(h), tc.want)
-			}
-			for i, e := range h {
-				if tc.f.Alloy != "" && e.Sample.Alloy != tc.f.Alloy || tc.f.Verdict != "" && e.Result.Verdict != tc.f.Verdict ||
-					!tc.f.Since.IsZero() && e.Sample.Recorded.Before(tc.f.Since) || !tc.f.Until.IsZero() && !e.Sample.Recorded.Before(tc.f.Until) {
-					t.Errorf("row %d does not match the filter: %+v", i, e.Sample)
+	forEachEngine(t, func(t *testing.T, e *testEngine) {
+		db := e.fresh(t)
+		ctx := context.Background()
+		start := time.Date(2026, 12, 1, 6, 0, 0, 0, time.UTC)
+		seedShift(t, db, start, 12, "grey-iron", "ductile-iron") // 06:00 … 07:50 (+1 min for ductile)
+		for _, tc := range []struct {
+			name string
+			f    Filter
+			want int
+		}{
+			{"all", Filter{}, 24},
+			{"alloy", Filter{Alloy: "ductile-iron"}, 12},
+			{"since", Filter{Since: start.Add(60 * time.Minute)}, 12},                                     // 07:00 on
+			{"until", Filter{Until: start.Add(30 * time.Minute)}, 6},                                      // before 06:30
+			{"window", Filter{Since: start.Add(30 * time.Minute), Until: start.Add(60 * time.Minute)}, 6}, // 06:30–06:59
+			{"verdict", Filter{Verdict: "fail"}, 6},                                                       // i = 3, 7, 11
+			{"alloy+verdict", Filter{Alloy: "grey-iron", Verdict: "pass"}, 6},
+			{"ladle", Filter{Ladle: "L-2405"}, 2},
+			{"limit", Filter{Limit: 5}, 5},
+			{"none", Filter{Alloy: "al-si7mg"}, 0},
+		} {
+			t.Run(tc.name, func(t *testing.T) {
+				h, err := db.History(ctx, tc.f)
+				if err != nil {
+					t.Fatal(err)
 				}
-				if i > 0 && e.Sample.Recorded.After(h[i-1].Sample.Recorded) {
-					t.Errorf("row %d not newest first", i)
+				if len(h) != tc.want {
+					t.Fatalf("%d rows, want %d", len(h), tc.want)
 				}
-			}
-		})
-	}
-	// the verdict filter applies to the latest result: re-analysing a
-	// failed sample as pass takes it out of the failures
-	fails, _ := db.History(ctx, Filter{Verdict: "fail"})
-	rec := fails[0].Result.Record
-	rec.Verdict = "pass"
-	if _, err := db.AddResult(ctx, fails[0].Sample.ID, rec, "v2"); err != nil {
-		t.Fatal(err)
-	}
-	if h, _ := db.History(ctx, Filter{Verdict: "fail"}); len(h) != 5 {
-		t.Fatalf("%d failures after re-analysis, want 5", len(h))
-	}
-	if h, _ := db.History(ctx, Filter{Verdict: "fail", AllResults: true}); len(h) != 6 {
-		t.Fatalf("%d failed results in all results, want 6", len(h))
-	}
+				for i, e := range h {
+					if tc.f.Alloy != "" && e.Sample.Alloy != tc.f.Alloy || tc.f.Verdict != "" && e.Result.Verdict != tc.f.Verdict ||
+						!tc.f.Since.IsZero() && e.Sample.Recorded.Before(tc.f.Since) || !tc.f.Until.IsZero() && !e.Sample.Recorded.Before(tc.f.Until) {
+						t.Errorf("row %d does not match the filter: %+v", i, e.Sample)
+					}
+					if i > 0 && e.Sample.Recorded.After(h[i-1].Sample.Recorded) {
+						t.Errorf("row %d not newest first", i)
+					}
+				}
+			})
+		}
+		// the verdict filter applies to the latest result: re-analysing a
+		// failed sample as pass takes it out of the failures
+		fails, _ := db.History(ctx, Filter{Verdict: "fail"})
+		rec := fails[0].Result.Record
+		rec.Verdict = "pass"
+		if _, err := db.AddResult(ctx, fails[0].Sample.ID, rec, "v2"); err != nil {
+			t.Fatal(err)
+		}
+		if h, _ := db.History(ctx, Filter{Verdict: "fail"}); len(h) != 5 {
+			t.Fatalf("%d failures after re-analysis, want 5", len(h))
+		}
+		if h, _ := db.History(ctx, Filter{Verdict: "fail", AllResults: true}); len(h) != 6 {
+			t.Fatalf("%d failed results in all results, want 6", len(h))
+		}
+	})
 }
 
 func TestComputeSPC(t *testing.T) {
@@ -557,57 +577,59 @@ func TestComputeSPC(t *testing.T) {
 }
 
 func TestTrend(t *testing.T) {
-	db, _ := openTemp(t)
-	ctx := context.Background()
-	start := time.Date(2026, 12, 1, 6, 0, 0, 0, time.UTC)
-	seedShift(t, db, start, 20, "grey-iron", "ductile-iron")
-	// one grey-iron sample far out, and one with the metric not found
-	out := constructedRecord("grey-iron", 1120, "fail")
-	nullRec := constructedRecord("grey-iron", 0, "invalid")
-	nullRec.EutecticMinC = nil
-	db.AddSamples(ctx, []Sample{
-		{Recorded: start.Add(205 * time.Minute), Alloy: "grey-iron", Sample: "L-2450 cup 1", Record: out},
-		{Recorded: start.Add(206 * time.Minute), Alloy: "grey-iron", Sample: "L-2451 cup 1", Record: nullRec},
+	forEachEngine(t, func(t *testing.T, e *testEngine) {
+		db := e.fresh(t)
+		ctx := context.Background()
+		start := time.Date(2026, 12, 1, 6, 0, 0, 0, time.UTC)
+		seedShift(t, db, start, 20, "grey-iron", "ductile-iron")
+		// one grey-iron sample far out, and one with the metric not found
+		out := constructedRecord("grey-iron", 1120, "fail")
+		nullRec := constructedRecord("grey-iron", 0, "invalid")
+		nullRec.EutecticMinC = nil
+		db.AddSamples(ctx, []Sample{
+			{Recorded: start.Add(205 * time.Minute), Alloy: "grey-iron", Sample: "L-2450 cup 1", Record: out},
+			{Recorded: start.Add(206 * time.Minute), Alloy: "grey-iron", Sample: "L-2451 cup 1", Record: nullRec},
+		})
+		pts, spc, err := db.Trend(ctx, "grey-iron", "eutectic_min_c", time.Time{}, time.Time{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(pts) != 21 || spc.N != 21 {
+			t.Fatalf("%d points (N %d), want 21 (the null one left out)", len(pts), spc.N)
+		}
+		vals := make([]float64, len(pts))
+		for i, p := range pts {
+			vals[i] = p.Value
+			if i > 0 && p.Time.Before(pts[i-1].Time) {
+				t.Fatal("trend not in time order")
+			}
+		}
+		if want := ComputeSPC(vals); spc != want {
+			t.Fatalf("spc %+v, want %+v", spc, want)
+		}
+		last := pts[len(pts)-1]
+		if last.Value != 1120 || !last.Beyond || pts[0].Beyond {
+			t.Errorf("beyond-limits marks: last %+v first %+v (spc %+v)", last, pts[0], spc)
+		}
+		win, _, _ := db.Trend(ctx, "grey-iron", "eutectic_min_c", start.Add(100*time.Minute), start.Add(150*time.Minute))
+		if len(win) != 5 {
+			t.Errorf("window: %d points, want 5", len(win))
+		}
+		if _, _, err := db.Trend(ctx, "grey-iron", "drop table", time.Time{}, time.Time{}); !errors.Is(err, ErrUnknownMetric) {
+			t.Errorf("unknown metric: %v", err)
+		}
+		// a metric without a column of its own is read from the record JSON
+		for i := range metricFields {
+			if metricFields[i].key == "recalescence_c" {
+				metricFields[i].column = false
+				defer func() { metricFields[i].column = true }()
+			}
+		}
+		pj, _, err := db.Trend(ctx, "grey-iron", "recalescence_c", time.Time{}, time.Time{})
+		if err != nil || len(pj) != 22 || pj[0].Value != 3 {
+			t.Errorf("json metric: %d points, %v", len(pj), err)
+		}
 	})
-	pts, spc, err := db.Trend(ctx, "grey-iron", "eutectic_min_c", time.Time{}, time.Time{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	if len(pts) != 21 || spc.N != 21 {
-		t.Fatalf("%d points (N %d), want 21 (the null one left out)", len(pts), spc.N)
-	}
-	vals := make([]float64, len(pts))
-	for i, p := range pts {
-		vals[i] = p.Value
-		if i > 0 && p.Time.Before(pts[i-1].Time) {
-			t.Fatal("trend not in time order")
-		}
-	}
-	if want := ComputeSPC(vals); spc != want {
-		t.Fatalf("spc %+v, want %+v", spc, want)
-	}
-	last := pts[len(pts)-1]
-	if last.Value != 1120 || !last.Beyond || pts[0].Beyond {
-		t.Errorf("beyond-limits marks: last %+v first %+v (spc %+v)", last, pts[0], spc)
-	}
-	win, _, _ := db.Trend(ctx, "grey-iron", "eutectic_min_c", start.Add(100*time.Minute), start.Add(150*time.Minute))
-	if len(win) != 5 {
-		t.Errorf("window: %d points, want 5", len(win))
-	}
-	if _, _, err := db.Trend(ctx, "grey-iron", "drop table", time.Time{}, time.Time{}); !errors.Is(err, ErrUnknownMetric) {
-		t.Errorf("unknown metric: %v", err)
-	}
-	// a metric without a column of its own is read from the record JSON
-	for i := range metricFields {
-		if metricFields[i].key == "recalescence_c" {
-			metricFields[i].column = false
-			defer func() { metricFields[i].column = true }()
-		}
-	}
-	pj, _, err := db.Trend(ctx, "grey-iron", "recalescence_c", time.Time{}, time.Time{})
-	if err != nil || len(pj) != 22 || pj[0].Value != 3 {
-		t.Errorf("json metric: %d points, %v", len(pj), err)
-	}
 }
 
 func TestMetrics(t *testing.T) {
@@ -646,85 +668,91 @@ func TestMetrics(t *testing.T) {
 }
 
 func TestVerifyDetectsTampering(t *testing.T) {
-	db, _ := openTemp(t)
-	ctx := context.Background()
-	dir := t.TempDir()
-	var ids []int64
-	for i, name := range []string{"kept.csv", "tampered.csv", "deleted.csv"} {
-		p := filepath.Join(dir, name)
-		// constructed two-line curve files
-		os.WriteFile(p, []byte(fmt.Sprintf("# sample: L-24%02d cup 1\ntime_s,temp_c\n0.0,1290.%d\n", i, i)), 0o644)
-		sum, err := HashFile(p)
+	forEachEngine(t, func(t *testing.T, e *testEngine) {
+		db := e.fresh(t)
+		ctx := context.Background()
+		dir := t.TempDir()
+		var ids []int64
+		for i, name := range []string{"kept.csv", "tampered.csv", "deleted.csv"} {
+			p := filepath.Join(dir, name)
+			// constructed two-line curve files
+			os.WriteFile(p, []byte(fmt.Sprintf("# sample: L-24%02d cup 1\ntime_s,temp_c\n0.0,1290.%d\n", i, i)), 0o644)
+			sum, err := HashFile(p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			id, _ := db.AddSample(ctx, Sample{Sample: name, CurvePath: p, CurveSHA256: sum, Record: constructedRecord("grey-iron", 1146, "pass")})
+			ids = append(ids, id)
+		}
+		noFile, _ := db.AddSample(ctx, Sample{Sample: "typed in", Record: constructedRecord("grey-iron", 1146, "pass")})
+		// SHA-256 of "abc" is ba7816bf…15ad (FIPS 180-2, appendix B.1)
+		abc := filepath.Join(dir, "abc")
+		os.WriteFile(abc, []byte("abc"), 0o644)
+		if h, _ := HashFile(abc); h != "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad" {
+			t.Fatalf("HashFile(abc) = %s", h)
+		}
+
+		os.WriteFile(filepath.Join(dir, "tampered.csv"), []byte("# sample: L-2401 cup 1\ntime_s,temp_c\n0.0,1291.1\n"), 0o644)
+		os.Remove(filepath.Join(dir, "deleted.csv"))
+		checks, err := db.Verify(ctx)
 		if err != nil {
 			t.Fatal(err)
 		}
-		id, _ := db.AddSample(ctx, Sample{Sample: name, CurvePath: p, CurveSHA256: sum, Record: constructedRecord("grey-iron", 1146, "pass")})
-		ids = append(ids, id)
-	}
-	noFile, _ := db.AddSample(ctx, Sample{Sample: "typed in", Record: constructedRecord("grey-iron", 1146, "pass")})
-	// SHA-256 of "abc" is ba7816bf…15ad (FIPS 180-2, appendix B.1)
-	abc := filepath.Join(dir, "abc")
-	os.WriteFile(abc, []byte("abc"), 0o644)
-	if h, _ := HashFile(abc); h != "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad" {
-		t.Fatalf("HashFile(abc) = %s", h)
-	}
-
-	os.WriteFile(filepath.Join(dir, "tampered.csv"), []byte("# sample: L-2401 cup 1\ntime_s,temp_c\n0.0,1291.1\n"), 0o644)
-	os.Remove(filepath.Join(dir, "deleted.csv"))
-	checks, err := db.Verify(ctx)
-	if err != nil {
-		t.Fatal(err)
-	}
-	want := map[int64]CurveState{ids[0]: CurveOK, ids[1]: CurveChanged, ids[2]: CurveMissing, noFile: CurveNone}
-	if len(checks) != len(want) {
-		t.Fatalf("%d checks, want %d", len(checks), len(want))
-	}
-	for _, c := range checks {
-		if c.State != want[c.SampleID] {
-			t.Errorf("sample %d (%s): %v, want %v", c.SampleID, c.Sample, c.State, want[c.SampleID])
+		want := map[int64]CurveState{ids[0]: CurveOK, ids[1]: CurveChanged, ids[2]: CurveMissing, noFile: CurveNone}
+		if len(checks) != len(want) {
+			t.Fatalf("%d checks, want %d", len(checks), len(want))
 		}
-	}
+		for _, c := range checks {
+			if c.State != want[c.SampleID] {
+				t.Errorf("sample %d (%s): %v, want %v", c.SampleID, c.Sample, c.State, want[c.SampleID])
+			}
+		}
+	})
 }
 
 // TestTwoProcessesWriting runs two child processes that each add N samples
-// one transaction at a time to the same file, at the same time.
+// one transaction at a time to the same database, at the same time (two
+// decks writing at once: the same file, or the plant database).
 func TestTwoProcessesWriting(t *testing.T) {
-	n := 150
-	if testing.Short() {
-		n = 40
-	}
-	path := filepath.Join(t.TempDir(), "shared.db")
-	var cmds []*exec.Cmd
-	var outs []*strings.Builder
-	for _, tag := range []string{"IF-1", "IF-2"} {
-		c := exec.Command(os.Args[0], "-test.run=^$")
-		c.Env = append(os.Environ(), "UNDERCOOL_STORE_CHILD=writer", "UNDERCOOL_STORE_DB="+path,
-			"UNDERCOOL_STORE_N="+strconv.Itoa(n), "UNDERCOOL_STORE_TAG="+tag)
-		var out strings.Builder
-		c.Stdout, c.Stderr = &out, &out
-		if err := c.Start(); err != nil {
+	forEachEngine(t, func(t *testing.T, e *testEngine) {
+		n := 150
+		if testing.Short() {
+			n = 40
+		}
+		p := e.newPlace(t, -1)
+		path := p.target("deck_a")
+		var cmds []*exec.Cmd
+		var outs []*strings.Builder
+		for _, tag := range []string{"IF-1", "IF-2"} {
+			c := exec.Command(os.Args[0], "-test.run=^$")
+			c.Env = append(os.Environ(), "UNDERCOOL_STORE_CHILD=writer", "UNDERCOOL_STORE_DB="+path,
+				"UNDERCOOL_STORE_N="+strconv.Itoa(n), "UNDERCOOL_STORE_TAG="+tag)
+			var out strings.Builder
+			c.Stdout, c.Stderr = &out, &out
+			if err := c.Start(); err != nil {
+				t.Fatal(err)
+			}
+			cmds, outs = append(cmds, c), append(outs, &out)
+		}
+		for i, c := range cmds {
+			if err := c.Wait(); err != nil {
+				t.Fatalf("writer %d: %v\n%s", i, err, outs[i])
+			}
+		}
+		db, err := Open(context.Background(), p.target("undercool_owner"))
+		if err != nil {
 			t.Fatal(err)
 		}
-		cmds, outs = append(cmds, c), append(outs, &out)
-	}
-	for i, c := range cmds {
-		if err := c.Wait(); err != nil {
-			t.Fatalf("writer %d: %v\n%s", i, err, outs[i])
+		defer db.Close()
+		for _, tag := range []string{"IF-1", "IF-2"} {
+			var got int
+			db.sql.QueryRow(db.q("SELECT count(*) FROM samples s JOIN results r ON r.sample_id = s.id WHERE s.furnace = ?"), tag).Scan(&got)
+			if got != n {
+				t.Errorf("writer %s: %d samples stored, want %d", tag, got, n)
+			}
 		}
-	}
-	db, err := Open(context.Background(), path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer db.Close()
-	for _, tag := range []string{"IF-1", "IF-2"} {
-		var got int
-		db.sql.QueryRow("SELECT count(*) FROM samples s JOIN results r ON r.sample_id = s.id WHERE s.furnace = ?", tag).Scan(&got)
-		if got != n {
-			t.Errorf("writer %s: %d samples stored, want %d", tag, got, n)
-		}
-	}
-	integrity(t, db)
+		integrity(t, db)
+	})
 }
 
 func childWriter() int {
@@ -810,7 +838,7 @@ func childKilled() int {
 		fmt.Fprintln(os.Stderr, err)
 		return 1
 	}
-	in, err := prepare(ctx, tx)
+	w, err := db.newWriter(ctx, tx)
 	if err != nil {
 		fmt.Fprintln(os.Stderr, err)
 		return 1
@@ -818,7 +846,13 @@ func childKilled() int {
 	note := strings.Repeat("never committed ", 64)
 	for i := 0; ; i++ { // until killed; the rows outgrow the page cache and spill into the WAL
 		s := Sample{Sample: fmt.Sprintf("doomed %d", i), Note: note, Record: constructedRecord("grey-iron", 1146, "pass")}
-		if _, err := in.addSample(ctx, &s, time.Now()); err != nil {
+		now := time.Now()
+		db.newSample(&s, now)
+		r, js, err := newResult(&s, s.Record, "", now)
+		if err == nil {
+			_, err = w.put(ctx, &s, &r, js, true)
+		}
+		if err != nil {
 			fmt.Fprintln(os.Stderr, err)
 			return 1
 		}

@@ -14,26 +14,34 @@ import (
 // It is a copy, rewritten in the transaction that adds each result; the
 // columns and the record JSON stay the truth.
 //
-// Layout: byte 0 the format (1); the result id as a uvarint; the sample's
-// recorded and the result's analysed times as varint Unix milliseconds;
-// then, each as a uvarint length and UTF-8 bytes: limits_version, verdict,
-// reasons, problems (one a line), file, sample, ladle, alloy, furnace,
-// operator; a flags byte (1 interrupted, 2 simulated); then the packed
-// numbers (packed.go) to the end.
-const summaryFormat = 1
+// The plant database keeps the same blob, written by the deck that sent
+// the result (so it names no row id of either database: the result's id
+// is a column beside it).
+//
+// Layout: byte 0 the format (2); the sample's recorded and the result's
+// analysed times as varint Unix milliseconds; then, each as a uvarint
+// length and UTF-8 bytes: limits_version, verdict, reasons, problems (one
+// a line), file, sample, ladle, alloy, furnace, operator, site, deck; a
+// flags byte (1 interrupted, 2 simulated); then the packed numbers
+// (packed.go) to the end. Format 1 (to schema version 5) had the result id
+// after the format byte and no site or deck; a row holding one (written by
+// an earlier undercool) is read the slow way until rebuilt.
+const summaryFormat = 2
+
+// summaryStrings is the number of strings in a summary.
+const summaryStrings = 12
 
 var errSummary = errors.New("summary is damaged")
 
 func packSummary(s *Sample, r *Result, numbers []byte) []byte {
-	strs := []string{r.LimitsVersion, r.Verdict, joinLines(r.Reasons), joinLines(r.Record.Problems),
-		r.Record.File, s.Sample, s.Ladle, s.Alloy, s.Furnace, s.Operator}
+	strs := [summaryStrings]string{r.LimitsVersion, r.Verdict, joinLines(r.Reasons), joinLines(r.Record.Problems),
+		r.Record.File, s.Sample, s.Ladle, s.Alloy, s.Furnace, s.Operator, s.Site, s.Deck}
 	n := 12 + len(numbers)
 	for _, x := range strs {
 		n += len(x) + 2
 	}
 	b := make([]byte, 0, n)
 	b = append(b, summaryFormat)
-	b = binary.AppendUvarint(b, uint64(r.ID))
 	b = binary.AppendVarint(b, s.Recorded.UnixMilli())
 	b = binary.AppendVarint(b, r.Analysed.UnixMilli())
 	for _, x := range strs {
@@ -51,17 +59,13 @@ func packSummary(s *Sample, r *Result, numbers []byte) []byte {
 	return append(b, numbers...)
 }
 
-// unpackSummary fills e (whose Sample.ID the caller sets).
+// unpackSummary fills e (whose Sample.ID and Result.ID the caller sets).
 func unpackSummary(b []byte, e *Entry) error {
 	if len(b) < 2 || b[0] != summaryFormat {
 		return errSummary
 	}
 	b = b[1:]
-	id, k := binary.Uvarint(b)
-	if k <= 0 {
-		return errSummary
-	}
-	b = b[k:]
+	var k int
 	var ms [2]int64
 	for i := range ms {
 		if ms[i], k = binary.Varint(b); k <= 0 {
@@ -70,8 +74,8 @@ func unpackSummary(b []byte, e *Entry) error {
 		b = b[k:]
 	}
 	// one string for all the text of the row
-	var strs [10]string
-	var lens [10]int
+	var strs [summaryStrings]string
+	var lens [summaryStrings]int
 	total := 0
 	rest := b
 	for i := range lens {
@@ -99,11 +103,11 @@ func unpackSummary(b []byte, e *Entry) error {
 		return errSummary
 	}
 	s, r := &e.Sample, &e.Result
-	r.ID, r.SampleID = int64(id), s.ID
+	r.SampleID = s.ID
 	s.Recorded, r.Analysed = time.UnixMilli(ms[0]).UTC(), time.UnixMilli(ms[1]).UTC()
 	r.LimitsVersion, r.Verdict = strs[0], strs[1]
 	r.Reasons, r.Record.Problems, r.Record.File = splitLines(strs[2]), splitLines(strs[3]), strs[4]
-	s.Sample, s.Ladle, s.Alloy, s.Furnace, s.Operator = strs[5], strs[6], strs[7], strs[8], strs[9]
+	s.Sample, s.Ladle, s.Alloy, s.Furnace, s.Operator, s.Site, s.Deck = strs[5], strs[6], strs[7], strs[8], strs[9], strs[10], strs[11]
 	s.Interrupted, s.Simulated = b[0]&1 != 0, b[0]&2 != 0
 	r.Record.Alloy, r.Record.Verdict = s.Alloy, r.Verdict
 	return unpackNumbers(b[1:], &r.Record)

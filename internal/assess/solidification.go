@@ -1,0 +1,179 @@
+package assess
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/undercool-foundry/undercool/internal/arrest"
+	"github.com/undercool-foundry/undercool/internal/solidpath"
+)
+
+// fsMetrics are the record's fs_at_* keys by the point each is read at.
+var fsMetrics = []struct {
+	key    string // solidpath mark key
+	metric string
+	field  func(r *Record) **float64
+}{
+	{solidpath.KeyLiquidus, "fs_at_liquidus", func(r *Record) **float64 { return &r.FSAtLiquidus }},
+	{solidpath.KeyEutecticStart, "fs_at_eutectic_start", func(r *Record) **float64 { return &r.FSAtEutecticStart }},
+	{solidpath.KeyEutecticMin, "fs_at_eutectic_min", func(r *Record) **float64 { return &r.FSAtEutecticMin }},
+	{solidpath.KeyEutecticMax, "fs_at_eutectic_max", func(r *Record) **float64 { return &r.FSAtEutecticMax }},
+	{solidpath.KeyEndOfFreezing, "fs_at_end_of_freezing", func(r *Record) **float64 { return &r.FSAtEndOfFreezing }},
+}
+
+// solidification fills the solidification path's figures
+// (docs/solidification.md): the Newtonian path from the centre curve, the
+// Fourier path and, for aluminium, the coherency point where the sample
+// has a wall thermocouple. fs at the points comes from the Fourier path
+// where there is one. Every figure that cannot be worked out is null with
+// the reason.
+func (m *metallurgy) solidification() {
+	r := m.r
+	c, cWhy := m.specificHeat()
+	if c > 0 {
+		r.SpecificHeatJPerKgK = num(c)
+	}
+	missingAll := func(why string) {
+		for _, f := range fsMetrics {
+			m.missing(f.metric, label(f.metric)+" not computed: "+why)
+		}
+		for _, k := range []string{"latent_heat_newtonian_j_per_kg", "latent_heat_fourier_j_per_kg", "coherency_c", "fs_at_coherency"} {
+			m.missing(k, label(k)+" not computed: "+why)
+		}
+	}
+	if !m.res.Complete {
+		missingAll("the cup has not finished freezing")
+		return
+	}
+	s := solidpath.Analyze(solidCup(m.s.in, *r, c))
+	pure := m.s.in.Family == arrest.FamilyPure
+	latent := func(p *solidpath.Path, err error, metric string, dst **float64) {
+		switch {
+		case p == nil:
+			m.missing(metric, label(metric)+" not computed: "+reason(err))
+		case c == 0:
+			m.missing(metric, label(metric)+" not computed: "+cWhy)
+		default:
+			m.set(dst, metric, p.LatentJPerKg)
+		}
+	}
+	latent(s.Newtonian, s.NewtonianErr, "latent_heat_newtonian_j_per_kg", &r.LatentHeatNewtonianJPerKg)
+	fourierErr := s.FourierErr
+	if pure && m.s.in.Wall != nil {
+		fourierErr = errors.New("the Fourier method does not apply to a pure metal, which freezes from the wall inward")
+	}
+	latent(s.Fourier, fourierErr, "latent_heat_fourier_j_per_kg", &r.LatentHeatFourierJPerKg)
+
+	best := s.Best()
+	if best == nil {
+		missingAll(reason(s.NewtonianErr))
+		return
+	}
+	r.FSMethod = best.Method
+	for _, f := range fsMetrics {
+		i := -1
+		for k, p := range best.Points {
+			if p.Key == f.key {
+				i = k
+			}
+		}
+		if i < 0 {
+			m.missing(f.metric, label(f.metric)+" not computed: the point was not found")
+			continue
+		}
+		m.set(f.field(r), f.metric, best.Points[i].FS)
+	}
+	switch {
+	case s.Coherency != nil:
+		m.set(&r.CoherencyC, "coherency_c", s.Coherency.TempC)
+		r.CoherencyS = fig("coherency_s", s.Coherency.TimeS)
+		if !math.IsNaN(s.Coherency.FS) {
+			m.set(&r.FSAtCoherency, "fs_at_coherency", s.Coherency.FS)
+		} else {
+			m.missing("fs_at_coherency", label("fs_at_coherency")+" not computed: "+reason(s.FourierErr))
+		}
+	case m.s.in.Family != arrest.FamilyAluminum:
+		m.missing("coherency_c", label("coherency_c")+" not computed: defined for aluminium alloys")
+		m.missing("fs_at_coherency", label("fs_at_coherency")+" not computed: defined for aluminium alloys")
+	default:
+		m.missing("coherency_c", label("coherency_c")+" not computed: "+reason(s.CoherencyErr))
+		m.missing("fs_at_coherency", label("fs_at_coherency")+" not computed: "+reason(s.CoherencyErr))
+	}
+}
+
+// solidCup is the sample as the solidification path takes it: its curves,
+// the events and marks of the record's points and the specific heat c. A
+// pure metal's wall thermocouple is left out: it freezes from the wall
+// inward, with no parabolic field for the Fourier method.
+func solidCup(in Input, r Record, c float64) solidpath.Cup {
+	wall := in.Wall
+	if in.Family == arrest.FamilyPure {
+		wall = nil
+	}
+	return solidpath.Cup{
+		Time: in.Time, Centre: in.Temp, Wall: wall, Geometry: in.Radii,
+		Events: solidpath.EventsOf(pointsOf(r)), Options: solidpath.Options{SpecificHeat: c},
+		Coherency: in.Family == arrest.FamilyAluminum,
+	}
+}
+
+// pointsOf gives back the characteristic points of a record as arrest
+// points (null: not found).
+func pointsOf(r Record) arrest.Result {
+	p := func(c, s *float64) arrest.Point {
+		if c == nil || s == nil {
+			return arrest.Point{}
+		}
+		return arrest.Point{TempC: *c, TimeS: *s, OK: true}
+	}
+	return arrest.Result{
+		PourPeak: p(r.PourPeakC, r.PourPeakS), LiquidusMin: p(r.LiquidusMinC, r.LiquidusMinS), Liquidus: p(r.LiquidusC, r.LiquidusS),
+		EutecticMin: p(r.EutecticMinC, r.EutecticMinS), EutecticMax: p(r.EutecticMaxC, r.EutecticMaxS), Solidus: p(r.SolidusC, r.SolidusS),
+	}
+}
+
+// SolidPath works out again the solidification path that a record's fs
+// figures come from (its fs_method), from the sample's curves: in.Time and
+// in.Temp, with in.Wall and in.Radii for a two-thermocouple cup. The
+// record gives the points and the specific heat, in.Family or else the
+// record's family the rules. For fs(t) on the dashboard and fs(T) on the
+// report page.
+func SolidPath(in Input, rec Record) (*solidpath.Path, error) {
+	if in.Family == "" {
+		in.Family = arrest.Family(rec.Family)
+	}
+	var c float64
+	if rec.SpecificHeatJPerKgK != nil {
+		c = *rec.SpecificHeatJPerKgK
+	}
+	s := solidpath.Analyze(solidCup(in, rec, c))
+	if p := s.Best(); p != nil {
+		return p, nil
+	}
+	return nil, fmt.Errorf("assess: solidification path of %s: %w", in.File, s.NewtonianErr)
+}
+
+// specificHeat is the c of the alloy's limits entry, else the family's
+// default; 0 with the reason when neither sets one.
+func (m *metallurgy) specificHeat() (float64, string) {
+	if m.alloy != nil && m.alloy.Reference.SpecificHeatJPerKgK != nil {
+		return *m.alloy.Reference.SpecificHeatJPerKgK, ""
+	}
+	if c := solidpath.SpecificHeat(m.s.in.Family); c > 0 {
+		return c, ""
+	}
+	return 0, "no specific heat is set for this alloy (reference.specific_heat_j_per_kg_k in the limits file)"
+}
+
+// reason is an error's text without the package prefix, for the record's
+// plain words.
+func reason(err error) string {
+	if err == nil {
+		return "not available"
+	}
+	const prefix = "solidpath: "
+	s := err.Error()
+	return strings.TrimPrefix(s, prefix)
+}
