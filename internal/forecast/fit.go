@@ -44,8 +44,9 @@ type Fitted struct {
 	Readings     int // readings in the window
 	Iterations   int // major iterations of the minimiser
 	Evaluations  int // model runs
-	// Converged says the minimiser stopped on its convergence test; Status
-	// is its status in words.
+	// Converged says the fit is done (see the note in minimise: the
+	// minimiser stopped by itself and a further step would change nothing
+	// that matters); Status is its status in words.
 	Converged bool
 	Status    string
 
@@ -87,11 +88,13 @@ const (
 var ErrFit = errors.New("the cup model could not be fitted")
 
 // Fit fits the cup model's free parameters to the sample by weighted least
-// squares: A and n of the nucleation law N = A·ΔTⁿ and μ of the growth law
-// of the given law (the eutectic's for an iron inoculant or an Al-Si
-// modifier, the primary phase's for a grain refiner), the cup wall's h,
-// the thermocouple's τ, and as nuisance parameters the reference
-// temperatures, the pour temperature and the pour time. The minimiser is
+// squares: the nucleation law N = A·ΔTⁿ with the growth law u = μ·ΔT² of
+// the given law (the eutectic's for an iron inoculant or an Al-Si
+// modifier, the primary phase's for a grain refiner) — A·μ³ and n, for a
+// curve fixes A and μ only as that product (see the parameter list) —,
+// the cup wall's h, the thermocouple's τ, and as nuisance parameters the
+// reference temperatures, the pour temperature and time, the lumped cup's
+// core–shell conductance and, in a eutectic fit, the primary phase's A·μ³. The minimiser is
 // gonum's optimize.Newton with the Gauss–Newton Hessian 2·JᵀWJ (J by forward
 // differences, W the reading weights) and a backtracking (Armijo) line
 // search; Newton's added multiple of the identity where the matrix is not
