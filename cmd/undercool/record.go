@@ -115,7 +115,7 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 // and stores it (the curve file is complete and safe before this runs: a
 // failure here loses nothing already recorded).
 func (r *recording) judge(ctx context.Context, path, alloy string, book *limits.Book, records *analyzeStore) {
-	res := analyzeOne(0, path, alloy, book, nil)
+	res := analyzeOne(ctx, 0, path, alloy, book, nil, nil)
 	if res.err != nil {
 		fmt.Fprintf(r.env.stderr, "undercool record: %s could not be analysed: %v\n", path, res.err)
 		return

@@ -11,6 +11,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/forecast"
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/report"
 	"github.com/undercool-foundry/undercool/internal/store"
@@ -26,6 +27,7 @@ func init() {
 
 const reportUsage = `usage: undercool report SAMPLE --out FILE.png|FILE.svg [--db PATH|postgres://…] [--alloy A] [--limits FILE]
         [--time-column C] [--temp-column C] [--time-unit U] [--temp-unit U]
+                        [--advise [--inoculant NAME]]
 
 Draws the page for a ladle's quality record: the cooling curve with its
 characteristic points, its derivative dT/dt, the results, the verdict with
@@ -36,7 +38,9 @@ SAMPLE is a stored sample's id (digits, as 'undercool history' lists them:
 the stored results are drawn, over the curve file as it is now; a changed
 curve file is noted on the page), or a curve file's path (analysed now,
 with --alloy and --limits as for 'undercool analyze'; write ./42 for a
-file named 42).
+file named 42). --advise adds the cup model's estimate of what the alloy's
+additions would do, as 'undercool analyze --advise' gives it (docs/advice.md),
+marked as a model estimate that never replaces the shop's practice.
 
 ` + columnsUsage + `
 `
@@ -50,6 +54,8 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 	alloy := fs.String("alloy", "", "alloy of a curve file (overrides its '# alloy:')")
 	limitsPath := fs.String("limits", "", "limits `FILE` for a curve file (default: the shipped examples)")
 	columns := columnFlags(fs)
+	advise := fs.Bool("advise", false, "add the cup model's estimate for the alloy's additions (a model estimate)")
+	inoculant := fs.String("inoculant", "", "with --advise: only this addition of the limits file")
 	pos, err := parseLimitsArgs(fs, args) // flags before or after SAMPLE
 	if err != nil {
 		if err == flag.ErrHelp {
@@ -64,23 +70,26 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 		fmt.Fprint(env.stderr, reportUsage)
 		return errUsage
 	}
+	if *inoculant != "" && !*advise {
+		return fmt.Errorf("--inoculant goes with --advise")
+	}
 	var (
 		c    *curvefile.Curve
 		rec  assess.Record
 		info report.Info
+		book *limits.Book
 	)
+	if *limitsPath != "" {
+		if book, err = limits.Load(*limitsPath); err != nil {
+			return err
+		}
+	}
 	if id, err := strconv.ParseInt(pos[0], 10, 64); err == nil && id > 0 {
 		c, rec, info, err = reportStored(ctx, env, *dbPath, id, columns)
 		if err != nil {
 			return err
 		}
 	} else {
-		var book *limits.Book
-		if *limitsPath != "" {
-			if book, err = limits.Load(*limitsPath); err != nil {
-				return err
-			}
-		}
 		if c, err = columns.ReadFile(pos[0]); err != nil {
 			return err
 		}
@@ -99,6 +108,10 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 		if s.Simulated {
 			info.Notes = append(info.Notes, "simulated cup, not a measurement")
 		}
+	}
+	if *advise {
+		in := assess.Input{File: info.CurvePath, Alloy: rec.Alloy, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped, Limits: book, Meta: c.Meta}
+		_, info.Predictions = forecast.AdviseInput(ctx, in, forecast.Options{Inoculant: *inoculant, DelayMin: -1})
 	}
 	if err := report.Write(*out, c, rec, info); err != nil {
 		return err
