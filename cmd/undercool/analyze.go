@@ -29,8 +29,8 @@ func init() {
 	})
 }
 
-const analyzeUsage = `usage: undercool analyze [--json] [--alloy NAME] [--limits FILE] [--advise [--inoculant NAME]
-                         [--add-inoculant PCT] [--delay-min M]]
+const analyzeUsage = `usage: undercool analyze [--json] [--alloy NAME] [--limits FILE]
+        [--advise [--inoculant NAME] [--add-inoculant PCT] [--delay-min M]]
         [--time-column C] [--temp-column C] [--time-unit U] [--temp-unit U] FILE...
 
 Reads each curve file, finds the characteristic points of its cooling curve

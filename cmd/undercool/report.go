@@ -26,8 +26,7 @@ func init() {
 }
 
 const reportUsage = `usage: undercool report SAMPLE --out FILE.png|FILE.svg [--db PATH|postgres://…] [--alloy A] [--limits FILE]
-        [--time-column C] [--temp-column C] [--time-unit U] [--temp-unit U]
-                        [--advise [--inoculant NAME]]
+        [--advise [--inoculant NAME]] [--time-column C] [--temp-column C] [--time-unit U] [--temp-unit U]
 
 Draws the page for a ladle's quality record: the cooling curve with its
 characteristic points, its derivative dT/dt, the results, the verdict with
