@@ -17,6 +17,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/forecast"
 	"github.com/undercool-foundry/undercool/internal/limits"
 )
 
@@ -28,7 +29,9 @@ func init() {
 	})
 }
 
-const analyzeUsage = `usage: undercool analyze [--json] [--alloy NAME] [--limits FILE] FILE...
+const analyzeUsage = `usage: undercool analyze [--json] [--alloy NAME] [--limits FILE]
+        [--advise [--inoculant NAME] [--add-inoculant PCT] [--delay-min M]]
+        [--time-column C] [--temp-column C] [--time-unit U] [--temp-unit U] FILE...
 
 Reads each curve file, finds the characteristic points of its cooling curve
 and judges them against the alloy's limits. The alloy comes from --alloy,
@@ -37,11 +40,20 @@ limits are used, whose numbers the shop's metallurgist must set. A FILE of
 "-" is a curve read from standard input.
 
 --json writes one JSON object per file, one a line, as each file finishes.
+--advise also fits the cup model to each curve and adds its advice (about
+half a second a file; see docs/advice.md): for each addition the limits
+file lists for the alloy, the smallest allowed one that reaches a pass with
+a margin and how long the ladle may then wait, or, with --add-inoculant,
+what that addition would do if poured --delay-min minutes after it. In
+--json the object "prediction" (and "predictions" where the alloy has
+several additions). It is a model estimate, never a measurement.
 --store also keeps each analysis in the records database (--db PATH, else
 $UNDERCOOL_DB, else the user's data directory): a new sample, or for a
 curve file already stored a new result beside the earlier ones.
 Exit status 1 when some file could not be read (the others are still
 analysed); the reasons go to stderr, naming file and line.
+
+` + columnsUsage + `
 
 The verdict and advice assist the shop's own written procedures and its
 metallurgist; they do not replace them.`
@@ -50,7 +62,17 @@ metallurgist; they do not replace them.`
 type analyzed struct {
 	index int
 	rec   assess.Record
-	err   error // the file could not be read
+	preds []forecast.Prediction // --advise: the model's predictions
+	err   error                 // the file could not be read
+}
+
+// advisedRecord is the JSON of an analysed file: the record, and with
+// --advise the prediction to show first and, where the alloy has several
+// additions, all of them.
+type advisedRecord struct {
+	assess.Record
+	Prediction  *forecast.Prediction  `json:"prediction,omitempty"`
+	Predictions []forecast.Prediction `json:"predictions,omitempty"`
 }
 
 func runAnalyze(ctx context.Context, env *environ, args []string) error {
@@ -62,26 +84,50 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 	limitsPath := fs.String("limits", "", "limits file (default: the shipped examples)")
 	storeIt := fs.Bool("store", false, "also store each analysis in the records database (earlier results are kept)")
 	dbPath := fs.String("db", "", "records database for --store: a file, or the plant database's postgres:// connection string (default $UNDERCOOL_DB or the user's data directory)")
+	columns := columnFlags(fs)
+	advise := fs.Bool("advise", false, "fit the cup model and add its advice on the alloy's additions (a model estimate; about 0.5 s a file)")
+	var aopt forecast.Options
+	fs.StringVar(&aopt.Inoculant, "inoculant", "", "with --advise: only this addition of the limits file (its table name)")
+	fs.Float64Var(&aopt.AdditionPct, "add-inoculant", 0, "with --advise: predict this addition, % of the ladle (0: search the smallest that passes)")
+	fs.Float64Var(&aopt.DelayMin, "delay-min", -1, "with --advise: minutes from the addition to the pour (default: the table's delay_min)")
 	files, err := parseLimitsArgs(fs, args)
 	if err != nil {
 		return errUsage
+	}
+	if err := checkColumns(env, "analyze", columns); err != nil {
+		return err
+	}
+	set := map[string]bool{}
+	fs.Visit(func(f *flag.Flag) { set[f.Name] = true })
+	if !*advise && (set["inoculant"] || set["add-inoculant"] || set["delay-min"]) {
+		return errors.New("--inoculant, --add-inoculant and --delay-min go with --advise")
+	}
+	if aopt.AdditionPct < 0 || aopt.AdditionPct > 5 || aopt.AdditionPct != aopt.AdditionPct {
+		return fmt.Errorf("--add-inoculant %g: want a percentage of the ladle from 0 to 5", aopt.AdditionPct)
+	}
+	if set["delay-min"] && !(aopt.DelayMin >= 0 && aopt.DelayMin <= 600) {
+		return fmt.Errorf("--delay-min %g: want 0 to 600 minutes", aopt.DelayMin)
+	}
+	var adv *forecast.Options
+	if *advise {
+		adv = &aopt
 	}
 	if len(files) == 0 {
 		fmt.Fprintln(env.stderr, analyzeUsage)
 		return errUsage
 	}
 	// "-" is a curve read from standard input (once, before the workers).
-	read := curvefile.ReadFile
+	read := columns.ReadFile
 	if slices.Contains(files, "-") {
 		if *storeIt {
 			return errors.New("--store needs curve files: standard input (-) has no file to keep and verify")
 		}
-		c, err := curvefile.Read(env.stdin, "-")
+		c, err := columns.Read(env.stdin, "-")
 		read = func(path string) (*curvefile.Curve, error) {
 			if path == "-" {
 				return c, err
 			}
-			return curvefile.ReadFile(path)
+			return columns.ReadFile(path)
 		}
 	}
 	var book *limits.Book // nil: assess uses the shipped examples
@@ -104,6 +150,7 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 		}
 		defer db.Close()
 		records = newRecordWriter(ctx, db, nil)
+		records.read = columns.ReadFile // the metadata read as analyze read the file
 		defer func() {
 			records.Close()
 			for _, err := range records.Errors() {
@@ -117,7 +164,7 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 	out.start()
 	wctx, cancel := context.WithCancel(ctx)
 	defer cancel()
-	results := analyzeFiles(wctx, files, *alloy, book, read)
+	results := analyzeFiles(wctx, files, *alloy, book, adv, read)
 	for a := range results {
 		if err := out.result(a); err != nil {
 			cancel()
@@ -149,7 +196,7 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 // analyzeFiles reads and assesses the files on GOMAXPROCS workers and sends
 // each outcome as soon as it is ready (in finishing order). The channel is
 // closed when every file is done or ctx is cancelled.
-func analyzeFiles(ctx context.Context, files []string, alloy string, book *limits.Book, read func(string) (*curvefile.Curve, error)) <-chan analyzed {
+func analyzeFiles(ctx context.Context, files []string, alloy string, book *limits.Book, adv *forecast.Options, read func(string) (*curvefile.Curve, error)) <-chan analyzed {
 	jobs := make(chan int)
 	results := make(chan analyzed)
 	workers := min(runtime.GOMAXPROCS(0), len(files))
@@ -157,7 +204,7 @@ func analyzeFiles(ctx context.Context, files []string, alloy string, book *limit
 	for range workers {
 		wg.Go(func() {
 			for i := range jobs {
-				results <- analyzeOne(i, files[i], alloy, book, read)
+				results <- analyzeOne(ctx, i, files[i], alloy, book, adv, read)
 			}
 		})
 	}
@@ -179,8 +226,8 @@ func analyzeFiles(ctx context.Context, files []string, alloy string, book *limit
 }
 
 // analyzeOne reads one curve with read (nil: curvefile.ReadFile) and
-// assesses it.
-func analyzeOne(i int, path, alloy string, book *limits.Book, read func(string) (*curvefile.Curve, error)) analyzed {
+// assesses it; with adv also the model's advice.
+func analyzeOne(ctx context.Context, i int, path, alloy string, book *limits.Book, adv *forecast.Options, read func(string) (*curvefile.Curve, error)) analyzed {
 	if read == nil {
 		read = curvefile.ReadFile
 	}
@@ -191,11 +238,19 @@ func analyzeOne(i int, path, alloy string, book *limits.Book, read func(string) 
 	if alloy == "" {
 		alloy = c.Get("alloy")
 	}
-	rec := assess.Assess(assess.Input{
+	in := assess.Input{
 		File: path, Alloy: alloy, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped,
 		Limits: book, Meta: c.Meta,
-	})
-	return analyzed{index: i, rec: rec}
+	}
+	var out analyzed
+	if adv != nil {
+		out.rec, out.preds = forecast.AdviseInput(ctx, in, *adv)
+	} else {
+		out.rec = assess.Assess(in)
+	}
+	out.rec.Warnings = append(out.rec.Warnings, c.Notes...) // what reading the file took (swapped columns, padding)
+	out.index = i
+	return out
 }
 
 // knownAlloy refuses an alloy the limits do not know (a typo such as
@@ -232,14 +287,14 @@ type analyzeOutput struct {
 
 	fileW, alloyW int
 	done, failed  int
-	details       []*assess.Record // by input index, for the notes after the table
+	details       []*analyzed // by input index, for the notes after the table
 }
 
 func (o *analyzeOutput) start() {
 	if o.json {
 		return
 	}
-	o.details = make([]*assess.Record, len(o.files))
+	o.details = make([]*analyzed, len(o.files))
 	o.fileW, o.alloyW = len("file"), len("alloy")
 	for _, f := range o.files {
 		o.fileW = max(o.fileW, len([]rune(f)))
@@ -263,7 +318,14 @@ func (o *analyzeOutput) result(a analyzed) error {
 			_, err = fmt.Fprintf(o.env.stdout, "%-*s  %-*s  %s\n", o.fileW, o.files[a.index], o.alloyW, "", "unreadable (see the error above)")
 		}
 	case o.json:
-		b, jerr := json.Marshal(a.rec)
+		out := advisedRecord{Record: a.rec}
+		if p, ok := forecast.Headline(a.rec, a.preds); ok {
+			out.Prediction = &p
+			if len(a.preds) > 1 {
+				out.Predictions = a.preds
+			}
+		}
+		b, jerr := json.Marshal(out)
 		if jerr != nil {
 			o.failed++
 			fmt.Fprintf(o.env.stderr, "undercool analyze: %s: cannot encode the result: %v\n", a.rec.File, jerr)
@@ -272,7 +334,7 @@ func (o *analyzeOutput) result(a analyzed) error {
 		_, err = o.env.stdout.Write(append(b, '\n'))
 	default:
 		r := &a.rec
-		o.details[a.index] = r
+		o.details[a.index] = &a
 		_, err = fmt.Fprintf(o.env.stdout, "%-*s  %-*s  %7d  %8s  %8s  %8s  %6s  %8s  %s\n",
 			o.fileW, r.File, o.alloyW, orDash(r.Alloy), r.Samples,
 			cell(r.LiquidusC, 1), cell(r.EutecticMinC, 1), cell(r.EutecticMaxC, 1), cell(r.RecalescenceC, 1),
@@ -292,8 +354,13 @@ func (o *analyzeOutput) finish() error {
 	}
 	w := o.env.stdout
 	advised := false
-	for _, r := range o.details {
-		if r == nil || len(r.Problems)+len(r.Reasons)+len(r.Advice)+len(r.Warnings) == 0 {
+	estimated := false
+	for _, a := range o.details {
+		if a == nil {
+			continue
+		}
+		r := &a.rec
+		if len(r.Problems)+len(r.Reasons)+len(r.Advice)+len(r.Warnings)+len(a.preds) == 0 {
 			continue
 		}
 		fmt.Fprintf(w, "\n%s (%s): %s\n", r.File, orDash(r.Alloy), r.Verdict)
@@ -301,10 +368,19 @@ func (o *analyzeOutput) finish() error {
 		notes(w, "reason", r.Reasons)
 		notes(w, "warning", r.Warnings)
 		notes(w, "advice", r.Advice)
+		var est []string
+		for _, p := range a.preds {
+			est = append(est, p.Text)
+		}
+		notes(w, "estimate", est)
 		advised = advised || len(r.Advice) > 0
+		estimated = estimated || len(est) > 0
 	}
 	if advised {
 		fmt.Fprintln(w, "\nAdvice only: follow the shop's written procedures and its metallurgist.")
+	}
+	if estimated {
+		fmt.Fprintln(w, forecast.Caution)
 	}
 	_, err := fmt.Fprintf(w, "\n%d files, %d unreadable\n", len(o.files), o.failed)
 	if err != nil {

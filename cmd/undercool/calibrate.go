@@ -28,6 +28,7 @@ func init() {
 }
 
 const calibrateUsage = `usage: undercool calibrate [--json] [--out FILE] [options] PAIRS.csv
+       undercool calibrate --inoculants [--limits FILE] [--alloy A] [--json] [--out FILE] PAIRS.csv
 
 PAIRS.csv has a header row and one pair a line: a cup's arrests beside the
 spectrometer analysis of the same metal. Columns (any order; others are
@@ -42,6 +43,15 @@ not measured. Lines starting with # are comments.
 Fits (least squares): TL = a − b·CEL with CEL = C + cel_si·Si + cel_p·P;
 Si = a + b·T_white; C = a + b·TL + c·Si. --out writes a [calibration] file to
 name in the limits file with calibration_file = "FILE".
+
+--inoculants fits the shop's inoculant tables instead (docs/advice.md): each
+line of PAIRS.csv is a cup, an addition and its re-sample from the same
+ladle, with the columns before and after (curve files, relative to
+PAIRS.csv), inoculant (a table of the limits file), addition_pct (% of the
+ladle) and delay_min (minutes from the addition to the re-sample's pour),
+and optionally sample. The gain per 0.01 % and the fade half-life are
+fitted with their uncertainties; --out writes the limits file with the
+tables updated (the old one is backed up).
 `
 
 func runCalibrate(ctx context.Context, env *environ, args []string) error {
@@ -57,6 +67,8 @@ func runCalibrate(ctx context.Context, env *environ, args []string) error {
 	fs.Float64Var(&opt.MinR2, "min-r2", opt.MinR2, "warn when R² is below this")
 	fs.Float64Var(&opt.MaxRMSTempC, "max-rms-c", opt.MaxRMSTempC, "warn when the liquidus fit's RMS residual exceeds this, °C")
 	fs.Float64Var(&opt.MaxRMSPct, "max-rms-pct", opt.MaxRMSPct, "warn when the C or Si fit's RMS residual exceeds this, wt %")
+	var inoc inoculantCalibration
+	inoc.register(fs)
 	pos, err := parseLimitsArgs(fs, args)
 	if err != nil {
 		return errUsage
@@ -66,6 +78,9 @@ func runCalibrate(ctx context.Context, env *environ, args []string) error {
 		return errUsage
 	}
 	path := pos[0]
+	if inoc.on {
+		return inoc.run(ctx, env, path, *out, *asJSON)
+	}
 	f, err := os.Open(path)
 	if err != nil {
 		return err

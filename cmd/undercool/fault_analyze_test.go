@@ -77,7 +77,7 @@ func TestFaultAnalyzeBadFiles(t *testing.T) {
 	dir := t.TempDir()
 	good := simulatedCup(t, dir, "good.csv", "ductile-iron", 3)
 	bad := map[string]struct{ text, want string }{
-		"nan.csv":        {"time_s,temp_c\n0,1300\n0.1,NaN\n", `:3: column "temp_c": "NaN" is not a finite number`},
+		"nan.csv":        {"time_s,temp_c\n0,1300\n0.1,NaN\n0.2,1299\n", `:3: column "temp_c": "NaN" is not a finite number`}, // (a NaN in the last rows is padding, dropped with a warning)
 		"inf.csv":        {"time_s,temp_c\n0,+Inf\n", `:2: column "temp_c": "+Inf" is not a finite number`},
 		"text.csv":       {"time_s,temp_c\n0,1300\n0.1,hot\n", `:3: column "temp_c": "hot" is not a finite number`},
 		"fields.csv":     {"time_s;temp_c;ch\n0;1300;1\n0,1;1299\n", ":3: 2 fields where the header has 3 columns"},

@@ -30,6 +30,7 @@ import (
 // this file only, so that it can move onto another records back end.
 type recordWriter struct {
 	db   *store.DB
+	read func(string) (*curvefile.Curve, error) // reads a curve file for its metadata (default curvefile.ReadFile)
 	ctx  context.Context
 	jobs *mailbox.Box[writeJob]
 	done chan struct{}
@@ -54,7 +55,7 @@ type writeJob struct {
 // sample that could not be stored, on the writer's goroutine (a log; the
 // commands that print say them after Close, from Errors).
 func newRecordWriter(ctx context.Context, db *store.DB, onError func(error)) *recordWriter {
-	w := &recordWriter{db: db, ctx: context.WithoutCancel(ctx), jobs: mailbox.New[writeJob](), done: make(chan struct{}),
+	w := &recordWriter{db: db, read: curvefile.ReadFile, ctx: context.WithoutCancel(ctx), jobs: mailbox.New[writeJob](), done: make(chan struct{}),
 		counts: map[store.PutOutcome]int{}, onError: onError}
 	go w.run()
 	return w
@@ -92,7 +93,7 @@ func (w *recordWriter) put(path string, rec assess.Record) {
 		if path == "" {
 			return errors.New("the sample has no curve file")
 		}
-		c, err := curvefile.ReadFile(path) // for the metadata; the analysis is rec
+		c, err := w.read(path) // for the metadata; the analysis is rec
 		if err != nil {
 			return err
 		}

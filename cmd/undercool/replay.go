@@ -7,7 +7,6 @@ import (
 	"path/filepath"
 	"sync"
 
-	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/session"
 	"github.com/undercool-foundry/undercool/replay"
@@ -28,8 +27,10 @@ func runReplay(ctx context.Context, env *environ, args []string) error {
 	speed := fs.Float64("speed", 10, "how many times faster than it was recorded (1 to 50)")
 	end := fs.Bool("end", false, "go straight to the end of the file")
 	limitsPath := fs.String("limits", "", "limits file (default: the built-in examples)")
+	columns := columnFlags(fs)
 	fs.Usage = func() {
-		fmt.Fprintln(env.stderr, "usage: undercool replay FILE [--speed X | --end] [--limits FILE]")
+		fmt.Fprintln(env.stderr, "usage: undercool replay FILE [--speed X | --end] [--limits FILE]\n        [--time-column C] [--temp-column C] [--time-unit U] [--temp-unit U]")
+		fmt.Fprint(env.stderr, "\n"+columnsUsage+"\n\n")
 		fs.PrintDefaults()
 	}
 	// Accept options before or after the file name.
@@ -53,10 +54,16 @@ func runReplay(ctx context.Context, env *environ, args []string) error {
 		fmt.Fprintf(env.stderr, "undercool replay: --speed %g: use 1 to 50\n", *speed)
 		return errUsage
 	}
+	if err := checkColumns(env, "replay", columns); err != nil {
+		return err
+	}
 	path := files[0]
-	curve, err := curvefile.ReadFile(path)
+	curve, err := columns.ReadFile(path)
 	if err != nil {
 		return err
+	}
+	for _, n := range curve.Notes { // what reading the file took (swapped columns, padding)
+		fmt.Fprintf(env.stderr, "undercool replay: note: %s\n", n)
 	}
 	if len(curve.Time) == 0 {
 		return fmt.Errorf("%s: no readings to replay", path)
@@ -81,7 +88,7 @@ func runReplay(ctx context.Context, env *environ, args []string) error {
 	wg.Go(func() { src.Run(srcCtx) })
 	wg.Go(sess.Run)
 	opt := tui.Options{Feed: sess, Pace: src, Title: "replay · " + filepath.Base(path), Limits: book, SaveLimits: saver,
-		Records: mem, ReadCurve: curvefile.ReadFile}
+		Records: mem, ReadCurve: columns.ReadFile}
 	if isTerminal(env) {
 		err = tui.Run(ctx, opt, env.stdin, env.stdout)
 	} else {

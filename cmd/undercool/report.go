@@ -8,6 +8,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/forecast"
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/report"
 	"github.com/undercool-foundry/undercool/internal/store"
@@ -22,6 +23,7 @@ func init() {
 }
 
 const reportUsage = `usage: undercool report SAMPLE --out FILE.png|FILE.svg [--db PATH|postgres://…] [--alloy A] [--limits FILE]
+        [--advise [--inoculant NAME]] [--time-column C] [--temp-column C] [--time-unit U] [--temp-unit U]
 
 Draws the page for a ladle's quality record: the cooling curve with its
 characteristic points, its derivative dT/dt, the results, the verdict with
@@ -32,7 +34,11 @@ SAMPLE is a stored sample's id (digits, as 'undercool history' lists them:
 the stored results are drawn, over the curve file as it is now; a changed
 curve file is noted on the page), or a curve file's path (analysed now,
 with --alloy and --limits as for 'undercool analyze'; write ./42 for a
-file named 42).
+file named 42). --advise adds the cup model's estimate of what the alloy's
+additions would do, as 'undercool analyze --advise' gives it (docs/advice.md),
+marked as a model estimate that never replaces the shop's practice.
+
+` + columnsUsage + `
 `
 
 func runReport(ctx context.Context, env *environ, args []string) error {
@@ -43,6 +49,9 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 	dbPath := fs.String("db", "", dbFlagHelp)
 	alloy := fs.String("alloy", "", "alloy of a curve file (overrides its '# alloy:')")
 	limitsPath := fs.String("limits", "", "limits `FILE` for a curve file (default: the shipped examples)")
+	columns := columnFlags(fs)
+	advise := fs.Bool("advise", false, "add the cup model's estimate for the alloy's additions (a model estimate)")
+	inoculant := fs.String("inoculant", "", "with --advise: only this addition of the limits file")
 	pos, err := parseLimitsArgs(fs, args) // flags before or after SAMPLE
 	if err != nil {
 		if err == flag.ErrHelp {
@@ -50,28 +59,34 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 		}
 		return errUsage
 	}
+	if err := checkColumns(env, "report", columns); err != nil {
+		return err
+	}
 	if len(pos) != 1 || *out == "" {
 		fmt.Fprint(env.stderr, reportUsage)
 		return errUsage
+	}
+	if *inoculant != "" && !*advise {
+		return fmt.Errorf("--inoculant goes with --advise")
 	}
 	var (
 		c    *curvefile.Curve
 		rec  assess.Record
 		info report.Info
+		book *limits.Book
 	)
+	if *limitsPath != "" {
+		if book, err = limits.Load(*limitsPath); err != nil {
+			return err
+		}
+	}
 	if id, err := strconv.ParseInt(pos[0], 10, 64); err == nil && id > 0 {
-		c, rec, info, err = reportStored(ctx, env, *dbPath, id)
+		c, rec, info, err = reportStored(ctx, env, *dbPath, id, columns)
 		if err != nil {
 			return err
 		}
 	} else {
-		book := limits.Builtin() // the shipped examples, as assess takes them
-		if *limitsPath != "" {
-			if book, err = limits.Load(*limitsPath); err != nil {
-				return err
-			}
-		}
-		if c, err = curvefile.ReadFile(pos[0]); err != nil {
+		if c, err = columns.ReadFile(pos[0]); err != nil {
 			return err
 		}
 		a := *alloy
@@ -80,6 +95,7 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 		}
 		in := assess.Input{File: pos[0], Alloy: a, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped, Limits: book, Meta: c.Meta}
 		rec = assess.Assess(in)
+		rec.Warnings = append(rec.Warnings, c.Notes...) // what reading the file took (swapped columns, padding)
 		s := sampleFromCurve(pos[0], c, rec)
 		if s.CurveSHA256, err = store.HashFile(pos[0]); err != nil {
 			return err
@@ -90,6 +106,10 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 			info.Notes = append(info.Notes, "simulated cup, not a measurement")
 		}
 	}
+	if *advise {
+		in := assess.Input{File: info.CurvePath, Alloy: rec.Alloy, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped, Limits: book, Meta: c.Meta}
+		_, info.Predictions = forecast.AdviseInput(ctx, in, forecast.Options{Inoculant: *inoculant, DelayMin: -1})
+	}
 	if err := report.Write(*out, c, rec, info); err != nil {
 		return err
 	}
@@ -99,7 +119,7 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 
 // reportStored loads a stored sample and its curve file; a curve file that
 // changed since it was stored is drawn as it is now, with a note.
-func reportStored(ctx context.Context, env *environ, dbPath string, id int64) (*curvefile.Curve, assess.Record, report.Info, error) {
+func reportStored(ctx context.Context, env *environ, dbPath string, id int64, columns *curvefile.Options) (*curvefile.Curve, assess.Record, report.Info, error) {
 	db, err := readRecords(ctx, env, dbPath)
 	if err != nil {
 		return nil, assess.Record{}, report.Info{}, err
@@ -114,7 +134,7 @@ func reportStored(ctx context.Context, env *environ, dbPath string, id int64) (*
 	if s.CurvePath == "" {
 		return nil, s.Record, info, fmt.Errorf("sample %d has no curve file to draw", id)
 	}
-	c, err := curvefile.ReadFile(s.CurvePath)
+	c, err := columns.ReadFile(s.CurvePath)
 	if err != nil {
 		return nil, s.Record, info, fmt.Errorf("sample %d: %w", id, err)
 	}

@@ -340,7 +340,7 @@ func TestQuitAsASampleFinishesKeepsItsRecord(t *testing.T) {
 // `family = "aluminum"` must decide how it is analysed everywhere.
 func customLimits(t *testing.T) string {
 	t.Helper()
-	text := strings.ReplaceAll(string(limits.Example()), "[alloy.al-si7mg", "[alloy.a356")
+	text := strings.ReplaceAll(strings.ReplaceAll(string(limits.Example()), "[alloy.al-si7mg", "[alloy.a356"), `"al-si7mg"`, `"a356"`)
 	path := filepath.Join(t.TempDir(), "limits.toml")
 	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
 		t.Fatal(err)

@@ -30,6 +30,7 @@ type simFlags struct {
 	seed                        uint64
 	serve, checksum             bool
 	speed                       float64
+	add                         addFlags
 }
 
 func runSimulate(ctx context.Context, env *environ, args []string) error {
@@ -56,10 +57,13 @@ func runSimulate(ctx context.Context, env *environ, args []string) error {
 	fs.Float64Var(&f.speed, "speed", 1, "with --serve: run this many times faster than real time")
 	fs.StringVar(&f.channels, "channels", "", "with --serve: comma-separated channel ids, each with its own stand")
 	fs.BoolVar(&f.checksum, "checksum", false, "with --serve: end each line with the protocol's checksum")
+	f.add.register(fs)
 	fs.Usage = func() {
 		fmt.Fprintln(env.stderr, "usage: undercool simulate --alloy ALLOY [options] --out FILE")
 		fmt.Fprintln(env.stderr, "       undercool simulate --serve [--alloy ALLOY ...] [--speed X]")
 		fmt.Fprintln(env.stderr, "Writes a SIMULATED cup from the undercool cup model (not a measurement).")
+		fmt.Fprintln(env.stderr, "With --add-inoculant PCT --delay-min M, the cup of the same melt after that addition")
+		fmt.Fprintln(env.stderr, "(an inoculant table of --limits FILE, else the shipped examples), poured M minutes later.")
 		fs.PrintDefaults()
 	}
 	if help, err := parseFlags(fs, args); help || err != nil {
@@ -154,6 +158,9 @@ func (f *simFlags) params(set map[string]bool) (sim.Params, error) {
 		return sim.Params{}, fmt.Errorf("--fault %q: want open-thermocouple, short-pour or pulled-early", f.fault)
 	}
 	p.Ladle, p.Sample, p.Operator = "L-2417", "L-2417 cup 1", "Pell Brasswick"
+	if err := f.add.apply(&p, set); err != nil {
+		return sim.Params{}, err
+	}
 	if err := p.Validate(); err != nil {
 		return sim.Params{}, err
 	}

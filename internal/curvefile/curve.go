@@ -18,8 +18,13 @@ type Curve struct {
 	Extra []Column  // further columns, kept, not lost
 	// Skipped counts lines that were passed over as noise (blank lines and
 	// '#' comment lines that are not "# key: value" metadata); they are
-	// never silently lost.
+	// never silently lost. Padding rows at the end (see Read) count too.
 	Skipped int
+	// Notes say what the reader did that the user should be told, each
+	// naming the file and the line: columns read as swapped, padding rows
+	// dropped, columns or metadata not kept in full. They are not written
+	// back to a file.
+	Notes []string
 }
 
 // Column is an extra data column kept from the file.

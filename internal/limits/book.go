@@ -34,6 +34,10 @@ type Book struct {
 
 	Alloys map[string]*Alloy `toml:"alloy"`
 
+	// InoculantTables are the shop's melt additions for the model's
+	// advice, by name (see Inoculant).
+	InoculantTables map[string]*Inoculant `toml:"inoculant"`
+
 	// Source is where the book came from: a file path or "built-in".
 	Source string `toml:"-"`
 }

@@ -124,6 +124,7 @@ func Parse(data []byte, name string) (*Book, error) {
 			}
 		}
 	}
+	b.nameInoculants()
 	if err := b.validate(data, name); err != nil {
 		return nil, err
 	}

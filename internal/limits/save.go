@@ -381,6 +381,7 @@ func Encode(b *Book) []byte {
 			fields(&w, base+".metric."+quoteKey(m), reflect.ValueOf(a.Metrics[m]).Elem())
 		}
 	}
+	encodeInoculants(&w, b)
 	return w.Bytes()
 }
 

@@ -98,6 +98,7 @@ func (b *Book) validate(data []byte, name string) error {
 			validateLimit(a.Metrics[m], base+".metric."+m, m, add)
 		}
 	}
+	b.validateInoculants(add)
 	if c := b.Calibration; c != nil {
 		if c.Liquidus != nil && !(c.Liquidus.B > 0) {
 			add("calibration.liquidus.b", "%g: the liquidus must fall as CEL rises (b > 0)", c.Liquidus.B)

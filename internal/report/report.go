@@ -34,6 +34,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/forecast"
 	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/solidpath"
 )
@@ -57,10 +58,14 @@ type Info struct {
 	// Notes are extra lines for the text block, e.g. that the curve file
 	// changed since the sample was stored.
 	Notes []string
-	// Detect are the detector options the sample was analysed with (its
-	// alloy's, limits.Book.Resolve); the zero value takes the record's
-	// family. The dT/dt panel is the analyser's T′ under them.
+	// Detect are the detector options the sample was analysed with
+	// (assess.Options); the zero value takes the record's family. The
+	// dT/dt panel is the analyser's T′ under them.
 	Detect arrest.Options
+	// Predictions are the cup model's advice on the sample's additions
+	// (internal/forecast), shown under "Estimate" with the caution that a
+	// model estimate never replaces the shop's practice.
+	Predictions []forecast.Prediction
 
 	// Wall is the second thermocouple of a two-thermocouple cup at the
 	// curve's readings, Radii the two thermocouples' radii (nil: one
@@ -129,10 +134,12 @@ func writeAtomic(path string, write func(io.Writer) (int64, error)) error {
 
 // page layout, from the top
 const (
-	margin      = 14 * vg.Millimeter
-	titleHeight = 30 * vg.Millimeter
-	plotsHeight = 102 * vg.Millimeter // the curve and its derivative
-	pathHeight  = 40 * vg.Millimeter  // the fs(T) panel and the solidification figures
+	cautionLine  = 5 * vg.Millimeter  // the estimate's caution above the page's
+	estimateRoom = 16 * vg.Millimeter // the panels give up this much for the estimate
+	margin       = 14 * vg.Millimeter
+	titleHeight  = 30 * vg.Millimeter
+	plotsHeight  = 102 * vg.Millimeter // the curve and its derivative
+	pathHeight   = 40 * vg.Millimeter  // the fs(T) panel and the solidification figures
 )
 
 var ink = color.Gray{Y: 0x20}
@@ -196,6 +203,9 @@ func drawPage(dc draw.Canvas, c *curvefile.Curve, rec assess.Record, info Info) 
 	plots := dc
 	plots.Max.Y = top - titleHeight
 	plots.Min.Y = plots.Max.Y - plotsHeight
+	if len(info.Predictions) > 0 {
+		plots.Min.Y += estimateRoom // the estimate's lines need the room
+	}
 	plots.Min.X, plots.Max.X = left-4*vg.Millimeter, right
 	cells := plot.Align([][]*plot.Plot{{temp}, {deriv}}, draw.Tiles{Rows: 2, Cols: 1, PadY: 9 * vg.Millimeter}, plots)
 	temp.Draw(cells[0][0])
@@ -218,6 +228,10 @@ func drawPage(dc draw.Canvas, c *curvefile.Curve, rec assess.Record, info Info) 
 	// the text block
 	drawResults(dc, left, right, row.Min.Y-8*vg.Millimeter, rec, info)
 	dc.FillText(style(9.5, true), vg.Point{X: left, Y: dc.Min.Y + margin}, Caution)
+	if len(info.Predictions) > 0 {
+		// The estimate's caution stands with the page's, always shown.
+		dc.FillText(style(8.5, true), vg.Point{X: left, Y: dc.Min.Y + margin + cautionLine}, forecast.Caution)
+	}
 	return nil
 }
 
@@ -538,10 +552,14 @@ type result struct {
 }
 
 // resultLines are the registry's metrics the record has a value of, in
-// the registry's order.
+// the registry's order, less the solidification path's (fraction solid,
+// latent heat: beside the fs(T) panel, drawPathFigures).
 func resultLines(rec assess.Record) []result {
 	var rs []result
 	for _, m := range assess.Metrics() {
+		if strings.HasPrefix(m.Name, "fs_") || strings.HasPrefix(m.Name, "latent_heat_") {
+			continue
+		}
 		if v, ok := m.Value(&rec); ok {
 			rs = append(rs, result{m, v})
 		}
@@ -590,22 +608,32 @@ func drawResults(dc draw.Canvas, left, right, y vg.Length, rec assess.Record, in
 	// reasons, advice, problems, warnings, notes: as many lines as fit
 	bottom := dc.Min.Y + margin + 8*vg.Millimeter
 	label := style(9, true)
+	var estimates []string
+	for _, p := range info.Predictions {
+		estimates = append(estimates, p.Text)
+	}
+	if len(estimates) > 0 {
+		bottom += cautionLine
+	}
 	for _, sec := range []struct {
 		name  string
 		lines []string
 	}{
 		{"Problems", rec.Problems}, {"Reasons", rec.Reasons}, {"Advice", rec.Advice},
-		{"Warnings", rec.Warnings}, {"Notes", info.Notes},
+		{"Estimate", estimates}, {"Warnings", rec.Warnings}, {"Notes", info.Notes},
 	} {
 		for i, l := range sec.lines {
-			if y < bottom {
+			// The line, wrapped, must end above the bottom with room for
+			// the note that more follows.
+			wls := wrap(body, l, right-left-24*vg.Millimeter)
+			if y-vg.Length(len(wls))*line < bottom {
 				dc.FillText(body, vg.Point{X: left, Y: y}, "… (more in the record's JSON: undercool history --json)")
 				return
 			}
 			if i == 0 {
 				dc.FillText(label, vg.Point{X: left, Y: y}, sec.name)
 			}
-			for _, wl := range wrap(body, l, right-left-24*vg.Millimeter) {
+			for _, wl := range wls {
 				dc.FillText(body, vg.Point{X: left + 24*vg.Millimeter, Y: y}, wl)
 				y -= line
 			}

@@ -131,7 +131,6 @@ func svgText(t *testing.T, path string) string {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// well-formed XML (encoding/xml reads every token) with an svg root
 	dec := xml.NewDecoder(bytes.NewReader(data))
 	var texts strings.Builder
 	root := ""

@@ -257,6 +257,7 @@ func (p Params) model() cup {
 		m.radial = p.Radial.resolve(mat)
 		m.front = isPure(p.Alloy)
 	}
+	p.adjust(&m)
 	return m
 }
 

@@ -57,6 +57,10 @@ type cup struct {
 	rings      *rings     // the radial cup's geometry, once integrated
 	radialLast []lump     // the radial cup's zones at the end of the run
 
+	// step is the lumped cup's integration step, s: stepS, or the coarser
+	// one a fit asks for (Kinetics.StepS). The radial cup keeps stepS.
+	step float64
+
 	last state // the state at the end of the run
 }
 
@@ -225,16 +229,16 @@ func (m *cup) conductance(s *state) float64 {
 // toward the shell's: the end-of-freezing dip of dT/dt.
 func (m *cup) integrate(durS, fillS, lagS float64, emit func(*state)) {
 	s := state{core: lump{temp: m.pour}, shell: lump{temp: m.pour}, tc: m.ambient, wall: 1, primOn: -1, eutOn: -1, endT: -1}
-	wallStep := math.Exp(-stepS / wallS)
+	wallStep := math.Exp(-m.step / wallS)
 	maxS := durS
 	if maxS == 0 {
 		maxS = 1800
 	}
-	full := -math.Expm1(-stepS / lagS)
+	full := -math.Expm1(-m.step / lagS)
 	mCore, mShell := m.mass*coreFrac, m.mass*(1-coreFrac)
 	emit(&s)
-	for s.t < maxS-stepS/2 {
-		dt := stepS
+	for s.t < maxS-m.step/2 {
+		dt := m.step
 		// Nuclei are born from the largest undercooling anywhere in the
 		// cup (convection carries them through the liquid).
 		var bp float64

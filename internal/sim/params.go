@@ -93,6 +93,10 @@ type Params struct {
 	HoldMin         float64 // minutes held since inoculation
 	FadeHalfLifeMin float64 // half-life of the inoculation effect, min (0: 8 min for iron, 30 min for Al grain refiner) (memory, practice)
 
+	// Additions are treatments made shortly before this cup (an inoculant,
+	// a grain refiner, a modifier), each fading on its own (see Addition).
+	Additions []Addition
+
 	PourAtS   float64 // time of the pour on the logger's clock, s (0: 3 s)
 	FillS     float64 // time to fill the cup, s (0: 0.8 s)
 	DurationS float64 // recording length, s (0: until 40 s after the end of freezing)
@@ -103,6 +107,8 @@ type Params struct {
 	FaultAtS float64 // when an open thermocouple or an early pull happens, logger clock, s (0: three quarters of the way from the eutectic maximum to the end of freezing)
 
 	Seed uint64
+
+	kinetics *Kinetics // explicit kinetics of Curve (nil: the alloy's own)
 
 	// Labels for the curve file (free text, our scenario's names in the demo).
 	Sample, Ladle, Operator string
@@ -240,6 +246,9 @@ func (p Params) Validate() error {
 		return fmt.Errorf("sim: unknown cup kind %q (known: %q, %q)", p.Cup, CupLumped, CupRadial)
 	}
 	if err := p.Radial.validate(); err != nil {
+		return err
+	}
+	if err := p.validateAdditions(); err != nil {
 		return err
 	}
 	if isIron(p.Alloy) {

@@ -45,13 +45,13 @@ func Simulate(p Params) Output {
 	f, m := p.run()
 	out := Output{Params: p}
 	// Where the recording stops.
-	total := p.PourAtS + float64(len(f.tc)-1)*stepS
+	total := p.PourAtS + float64(len(f.tc)-1)*f.step
 	stopS, openS := total, math.Inf(1)
 	pulled := p.Fault == FaultPulledEarly
 	if p.Fault == FaultOpen || pulled {
 		at := p.FaultAtS
 		if at == 0 {
-			at = midPlateau(m.truth(f, len(f.tc)), p.PourAtS+float64(len(f.tc))*stepS/2)
+			at = midPlateau(m.truth(f, len(f.tc)), p.PourAtS+float64(len(f.tc))*f.step/2)
 		}
 		if pulled {
 			stopS = math.Min(at, total)
@@ -61,7 +61,7 @@ func Simulate(p Params) Output {
 	}
 	nFine := len(f.tc)
 	if end := min(stopS, openS); end < total {
-		nFine = max(0, int((end-p.PourAtS)/stepS)+1)
+		nFine = max(0, int((end-p.PourAtS)/f.step)+1)
 	}
 	out.Truth = m.truth(f, nFine)
 
@@ -87,7 +87,7 @@ func Simulate(p Params) Output {
 		out.Time[k] = math.Round(t*1e6) / 1e6
 		c := p.AmbientC
 		if t >= p.PourAtS {
-			u := (t - p.PourAtS) / stepS
+			u := (t - p.PourAtS) / f.step
 			i := min(int(u), len(f.tc)-2)
 			a := u - float64(i)
 			c = f.tc[i] + a*(f.tc[i+1]-f.tc[i])
@@ -146,13 +146,13 @@ func (p Params) run() (fine, cup) {
 	}
 	dur := 0.0
 	if p.DurationS > 0 {
-		dur = math.Max(p.DurationS-p.PourAtS, stepS)
+		dur = math.Max(p.DurationS-p.PourAtS, m.step)
 	}
-	est := int(dur/stepS) + 2
+	est := int(dur/m.step) + 2
 	if dur == 0 {
-		est = int(400 / stepS)
+		est = int(400 / m.step)
 	}
-	f := fine{offset: p.PourAtS, tc: make([]float64, 0, est), temp: make([]float64, 0, est), fs: make([]float64, 0, est), fsCore: make([]float64, 0, est), shell: make([]float64, 0, est)}
+	f := fine{offset: p.PourAtS, step: m.step, tc: make([]float64, 0, est), temp: make([]float64, 0, est), fs: make([]float64, 0, est), fsCore: make([]float64, 0, est), shell: make([]float64, 0, est)}
 	var last state
 	record := func(s *state) {
 		f.tc = append(f.tc, s.tc)
@@ -201,7 +201,7 @@ func (m *cup) truth(f fine, n int) Truth {
 		if !p.OK {
 			return 0
 		}
-		u := (p.TimeS - f.offset) / stepS
+		u := (p.TimeS - f.offset) / f.step
 		i := max(0, min(int(u), len(f.fs)-2))
 		a := u - float64(i)
 		return f.fs[i] + a*(f.fs[i+1]-f.fs[i])
@@ -252,6 +252,9 @@ func (p Params) meta(tr Truth) []curvefile.Meta {
 	add("sim_quant_c", g(p.Logger.QuantC))
 	add("sim_mains_c", g(p.Logger.MainsC))
 	add("sim_fault", string(p.Fault))
+	for _, a := range p.additionMeta() {
+		add("sim_addition", a)
+	}
 	if p.Cup == CupRadial {
 		r := p.Radial.resolve(p.material())
 		add("sim_cup", string(CupRadial))

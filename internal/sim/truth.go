@@ -168,6 +168,7 @@ type fine struct {
 	fs     []float64 // solid fraction
 	fsCore []float64 // solid fraction of the core (radial cup: the centre zone)
 	offset float64   // logger time of index 0 (the pour), s
+	step   float64   // the time between two entries, s
 	primOn float64   // model time of the first primary nucleus, s (−1: none)
 	eutOn  float64   // model time of the first eutectic nucleus, s (−1: none)
 	endT   float64   // model time fs reached 0.9999, s (−1: never)
@@ -181,11 +182,11 @@ const recalMinC = 0.05
 // interpolated linearly.
 func (f *fine) crossing(d []float64, i int) Point {
 	a := d[i-1] / (d[i-1] - d[i])
-	return Point{TempC: f.tc[i-1] + a*(f.tc[i]-f.tc[i-1]), TimeS: f.offset + (float64(i-1)+a)*stepS, OK: true}
+	return Point{TempC: f.tc[i-1] + a*(f.tc[i]-f.tc[i-1]), TimeS: f.offset + (float64(i-1)+a)*f.step, OK: true}
 }
 
 func (f *fine) at(i int) Point {
-	return Point{TempC: f.tc[i], TimeS: f.offset + float64(i)*stepS, OK: true}
+	return Point{TempC: f.tc[i], TimeS: f.offset + float64(i)*f.step, OK: true}
 }
 
 // eutecticStart is the start of eutectic freezing: T at the largest
@@ -218,7 +219,7 @@ func (f *fine) points(n int, tr *Truth) {
 	x := f.tc[:n]
 	d := make([]float64, n)
 	for i := 1; i < n-1; i++ {
-		d[i] = (x[i+1] - x[i-1]) / (2 * stepS)
+		d[i] = (x[i+1] - x[i-1]) / (2 * f.step)
 	}
 	d[0], d[n-1] = d[1], d[n-2]
 	// upCross finds the next − → + crossing at or after i (−1: none).
@@ -246,7 +247,7 @@ func (f *fine) points(n int, tr *Truth) {
 		}
 		return -1
 	}
-	idx := func(modelT float64) int { return max(1, int(math.Ceil(modelT/stepS))) }
+	idx := func(modelT float64) int { return max(1, int(math.Ceil(modelT/f.step))) }
 
 	// Pour peak: the first + → − crossing after the thermocouple starts rising.
 	peak := downCross(1, n-1)

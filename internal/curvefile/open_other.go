@@ -1,0 +1,6 @@
+//go:build !unix
+
+package curvefile
+
+// openFlags: no FIFOs to wait on here.
+const openFlags = 0

@@ -1,0 +1,41 @@
+package forecast
+
+import (
+	"context"
+	"testing"
+
+	"github.com/undercool-foundry/undercool/internal/sim"
+)
+
+// BenchmarkAdvise is the target: the fit and the prediction (the
+// search for the smallest passing addition and the longest wait) of one
+// finished sample in under 1 s on one core (run with -cpu 1), per
+// addition; an Al-Si7Mg sample with both a refiner and a modifier takes
+// two fits. It reports the model runs per sample beside the time.
+func BenchmarkAdvise(b *testing.B) {
+	for _, c := range []struct {
+		name, alloy, inoculant string
+		inoc                   float64
+	}{
+		{"grey-iron", sim.GreyIron, "", 0.1},
+		{"ductile-iron", sim.DuctileIron, "", 0.1},
+		{"al-si7mg-refiner", sim.AlSi7Mg, "altib-rod", 0.1},
+		{"al-si7mg-modifier", sim.AlSi7Mg, "alsr-master", 0.1},
+		{"al-si7mg-both", sim.AlSi7Mg, "", 0.1},
+	} {
+		b.Run(c.name, func(b *testing.B) {
+			p := preset(b, c.alloy, c.inoc, 3)
+			in, res, _ := cup(b, p, c.alloy)
+			runs := 0
+			for b.Loop() {
+				for _, pr := range Advise(context.Background(), in, res, Options{Inoculant: c.inoculant, DelayMin: -1}) {
+					if !pr.Applies {
+						b.Fatalf("%s: %s", c.name, pr.Why)
+					}
+					runs += pr.Fit.ModelRuns
+				}
+			}
+			b.ReportMetric(float64(runs)/float64(b.N), "fit-runs/op")
+		})
+	}
+}
