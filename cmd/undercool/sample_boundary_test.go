@@ -492,22 +492,7 @@ func TestCustomAlloyTheSameEverywhere(t *testing.T) {
 	if m == nil {
 		t.Fatalf("replay printed no result:\n%s", stdout)
 	}
-	if want := verdictLine(offline.Verdict); m[1] != want {
-		t.Errorf("replay: %s, analyze of the same file: %s", m[1], want)
+	if !strings.HasPrefix(m[1], strings.ToUpper(offline.Verdict)) { // the lines print FAIL, PASS, MARGINAL, INVALID · RE-SAMPLE
+		t.Errorf("replay: %s, analyze of the same file: %s", m[1], offline.Verdict)
 	}
-}
-
-// verdictLine is the verdict as the headless lines print it.
-func verdictLine(v string) string {
-	switch v {
-	case assess.VerdictPass:
-		return "PASS"
-	case assess.VerdictMarginal:
-		return "MARGINAL"
-	case assess.VerdictFail:
-		return "FAIL"
-	case assess.VerdictInvalid:
-		return "INVALID · RE-SAMPLE"
-	}
-	return strings.ToUpper(v)
 }
