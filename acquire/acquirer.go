@@ -13,9 +13,10 @@ import (
 	"sync/atomic"
 	"time"
 
-	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
-	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/feed"
+	"github.com/undercool-foundry/undercool/internal/mailbox"
+	"github.com/undercool-foundry/undercool/internal/protocol"
 	"github.com/undercool-foundry/undercool/internal/thermocouple"
 )
 
@@ -68,16 +69,10 @@ type Config struct {
 
 	Trigger Trigger
 
-	// Finished decides that freezing has ended, from the valid readings of
-	// the sample so far (t in s from the start of the file, temp in °C). It
-	// is asked about once every FinishCheckS of sample time. The default
-	// is arrest.Analyze(t, temp, {Family}).Complete, with the family of the
-	// sample's alloy (form data "alloy", limits.Family) where it has one.
-	Finished      func(t, temp []float64) bool
-	Family        arrest.Family // for the default Finished when the sample names no alloy
-	FinishCheckS  float64       // s, default 1
-	FreezeMarginS float64       // s recorded after Finished, default 15
-	MaxS          float64       // s, time limit of a sample, default 600
+	// MaxS is the time limit of a sample, s from its file's first reading
+	// (default 600). A sample ends earlier when the tracker says freezing
+	// is done (Stop), by hand, or when acquisition stops.
+	MaxS float64
 
 	BatchEvery   time.Duration // shortest time between batches, default 2 ms (the dashboard merges batches into at most 30 redraws a second)
 	ReconnectMin time.Duration // first reconnection delay, default 100 ms, doubling
@@ -106,8 +101,6 @@ func (c Config) withDefaults() Config {
 	def(&c.Trigger.MinC, 300)
 	def(&c.Trigger.PreS, 10)
 	c.Trigger.PreS = max(c.Trigger.PreS, c.Trigger.WithinS)
-	def(&c.FinishCheckS, 1)
-	def(&c.FreezeMarginS, 15)
 	def(&c.MaxS, 600)
 	defDur(&c.BatchEvery, 2*time.Millisecond)
 	defDur(&c.ReconnectMin, 100*time.Millisecond)
@@ -121,46 +114,33 @@ func (c Config) withDefaults() Config {
 	return c
 }
 
-// finishedFor is the end-of-freezing rule of a sample of the alloy named
-// ("" = unknown).
-func (c *Config) finishedFor(alloy string) func(t, temp []float64) bool {
-	if c.Finished != nil {
-		return c.Finished
-	}
-	fam := c.Family
-	if alloy != "" {
-		fam = limits.Family(alloy)
-	}
-	var an arrest.Analyzer
-	return func(t, temp []float64) bool {
-		return an.Analyze(t, temp, arrest.Options{Family: fam}).Complete
-	}
-}
-
-// Acquirer reads one port, parses the line protocol, runs the sample
-// lifecycle of each channel, keeps the crash-safe raw logs and hands
-// readings over in batches. Start, Stop and SetMeta may be called from any
-// goroutine; they never block.
+// Acquirer reads one port, parses the line protocol, converts raw EMF,
+// watches each channel for the pour, keeps the crash-safe raw logs and hands
+// everything over as one ordered stream of items per batch (package feed).
+// What a sample is called and when its freezing is done is decided
+// downstream, by the sample tracker: the acquirer writes what SetMeta tells
+// it and stops a sample when Stop says. Start, Stop and SetMeta may be
+// called from any goroutine; they never block.
 type Acquirer struct {
 	open Opener
 	cfg  Config
-	out  chan Batch
-	in   *queue[item]
-	ctl  *queue[control]
-	fr   Framer
+	out  chan feed.Batch
+	in   *mailbox.Box[item]
+	ctl  *mailbox.Box[control]
+	fr   protocol.Framer
 	ran  atomic.Bool
 
 	// Owned by the Run goroutine.
-	st         Status
-	pending    Batch
-	lastIdx    map[string]int // channel → index of its last reading in pending
+	st         feed.Status
+	pending    feed.Batch
+	lastIdx    map[string]int // channel → index of its last reading item in pending
 	chans      map[string]*channel
 	order      []string // channel ids in order of appearance
 	tb         timebase
 	tc         thermocouple.Type
 	tcName     string
-	devInfo    []curvefile.Meta // latest device info, non-form keys
-	form       []curvefile.Meta // form data for channels not seen yet (info lines without ch=)
+	devInfo    []curvefile.Meta // latest device info, the keys that are not sample keys
+	nextMeta   []curvefile.Meta // sample metadata for channels not seen yet (SetMeta of channel "")
 	started    int              // samples started
 	lastLine   time.Time
 	silentSaid bool
@@ -180,28 +160,34 @@ func New(open Opener, cfg Config) *Acquirer {
 	return &Acquirer{
 		open: open,
 		cfg:  cfg.withDefaults(),
-		out:  make(chan Batch),
-		in:   newQueue[item](),
-		ctl:  newQueue[control](),
+		out:  make(chan feed.Batch),
+		in:   mailbox.New[item](),
+		ctl:  mailbox.New[control](),
 	}
 }
 
 // Batches is the stream of batches. It is closed when Run returns.
-func (a *Acquirer) Batches() <-chan Batch { return a.out }
+func (a *Acquirer) Batches() <-chan feed.Batch { return a.out }
 
 // Start starts recording channel ch ("" = "1") now, with the pre-trigger
 // readings, unless it is already recording.
-func (a *Acquirer) Start(ch string) { a.ctl.push(control{op: opStart, ch: ch}) }
+func (a *Acquirer) Start(ch string) { a.ctl.Push(control{op: opStart, ch: ch}) }
 
-// Stop ends the sample recording on channel ch ("" = "1") and completes
-// its file.
-func (a *Acquirer) Stop(ch string) { a.ctl.push(control{op: opStop, ch: ch}) }
+// Stop ends sample number sample of channel ch ("" = "1"; sample 0: the
+// one recording) and completes its file, with reason as its "ended"
+// metadata. A sample that has ended already is left as it is.
+func (a *Acquirer) Stop(ch string, sample int, reason string) {
+	a.ctl.Push(control{op: opStop, ch: ch, sample: sample, reason: reason})
+}
 
-// SetMeta sets sample form data (e.g. sample, alloy, operator) for channel
-// ch ("" = every channel): it goes into the curve file of the sample being
-// recorded on it, or else of its next sample. Later values of a key win.
-func (a *Acquirer) SetMeta(ch string, meta []curvefile.Meta) {
-	a.ctl.push(control{op: opMeta, ch: ch, meta: slices.Clone(meta)})
+// SetMeta sets the sample metadata (the sample keys of the line protocol:
+// sample, alloy, operator, ...) of sample number sample of channel ch.
+// With sample 0 it is for the channel's next sample file (ch "": for
+// channels not seen yet), replacing what was set before; never for the one
+// recording. With the number of the sample recording, its completed file
+// says meta in place of the sample keys it started with.
+func (a *Acquirer) SetMeta(ch string, sample int, meta []curvefile.Meta) {
+	a.ctl.Push(control{op: opMeta, ch: ch, sample: sample, meta: slices.Clone(meta)})
 }
 
 type controlOp uint8
@@ -213,9 +199,11 @@ const (
 )
 
 type control struct {
-	op   controlOp
-	ch   string
-	meta []curvefile.Meta
+	op     controlOp
+	ch     string
+	sample int
+	reason string
+	meta   []curvefile.Meta
 }
 
 type itemKind uint8
@@ -235,35 +223,6 @@ type item struct {
 	err  error
 }
 
-// queue is an unbounded hand-over between goroutines: push never blocks.
-type queue[T any] struct {
-	mu    sync.Mutex
-	items []T
-	ready chan struct{}
-}
-
-func newQueue[T any]() *queue[T] { return &queue[T]{ready: make(chan struct{}, 1)} }
-
-func (q *queue[T]) push(v T) {
-	q.mu.Lock()
-	q.items = append(q.items, v)
-	q.mu.Unlock()
-	select {
-	case q.ready <- struct{}{}:
-	default:
-	}
-}
-
-// swap takes everything queued, handing spare (emptied) in for reuse.
-func (q *queue[T]) swap(spare []T) []T {
-	clear(spare)
-	q.mu.Lock()
-	got := q.items
-	q.items = spare[:0]
-	q.mu.Unlock()
-	return got
-}
-
 // Run acquires until ctx ends: it recovers interrupted samples in the
 // output directory, opens the port (and reopens it with back-off whenever
 // it fails), and sends batches. When ctx ends, samples being recorded are
@@ -280,8 +239,14 @@ func (a *Acquirer) Run(ctx context.Context) (err error) {
 	}
 	recs, rerr := recoverDir(a.outDir(), a.cfg.Now())
 	for _, r := range recs {
-		a.event(Event{Kind: EventRecovered, Path: r.Path, Channel: r.Channel,
-			Text: fmt.Sprintf("recovered interrupted sample %s (%d readings)", r.Path, r.Rows)})
+		it := feed.Item{Kind: feed.KindRecovered, Path: r.Path, Channel: r.Channel,
+			Text: fmt.Sprintf("recovered interrupted sample %s (%d readings)", r.Path, r.Rows)}
+		if c, err := curvefile.ReadFile(r.Path); err == nil {
+			it.Curve = c
+		} else {
+			a.warn("recover:"+r.Path, fmt.Sprintf("recovered %s cannot be read back: %v", r.Path, err))
+		}
+		a.item(it)
 	}
 	if rerr != nil {
 		a.warn("recover", rerr.Error())
@@ -294,7 +259,7 @@ func (a *Acquirer) Run(ctx context.Context) (err error) {
 		stopRead()
 		wg.Wait()
 		// What the reader handed over before it stopped still counts.
-		for _, it := range a.in.swap(nil) {
+		for _, it := range a.in.Take(nil) {
 			if herr := a.handle(&it); herr != nil && err == nil {
 				err = herr
 			}
@@ -313,7 +278,7 @@ func (a *Acquirer) Run(ctx context.Context) (err error) {
 	var items []item
 	var ctls []control
 	for {
-		var out chan<- Batch
+		var out chan<- feed.Batch
 		if a.hasPending() {
 			if wait := time.Until(nextSend); wait <= 0 {
 				out = a.out
@@ -321,7 +286,7 @@ func (a *Acquirer) Run(ctx context.Context) (err error) {
 				send.Reset(wait)
 			}
 		}
-		var b Batch
+		var b feed.Batch
 		if out != nil {
 			b = a.batch()
 		}
@@ -329,21 +294,21 @@ func (a *Acquirer) Run(ctx context.Context) (err error) {
 		case <-ctx.Done():
 			return nil
 		case out <- b:
-			a.pending = Batch{}
+			a.pending = feed.Batch{}
 			a.wantStatus = false
 			clear(a.lastIdx)
 			a.sentAt = a.cfg.Now()
 			nextSend = time.Now().Add(a.cfg.BatchEvery)
 		case <-send.C:
-		case <-a.in.ready:
-			items = a.in.swap(items)
+		case <-a.in.Ready():
+			items = a.in.Take(items)
 			for i := range items {
 				if err := a.handle(&items[i]); err != nil {
 					return err
 				}
 			}
-		case <-a.ctl.ready:
-			ctls = a.ctl.swap(ctls)
+		case <-a.ctl.Ready():
+			ctls = a.ctl.Take(ctls)
 			for _, c := range ctls {
 				if err := a.control(c); err != nil {
 					return err
@@ -419,9 +384,9 @@ func (a *Acquirer) readLoop(ctx context.Context) {
 			if ctx.Err() != nil {
 				return
 			}
-			a.in.push(item{kind: itemOpenFailed, err: err, at: a.cfg.Now()})
+			a.in.Push(item{kind: itemOpenFailed, err: err, at: a.cfg.Now()})
 		} else {
-			a.in.push(item{kind: itemConnected, at: a.cfg.Now()})
+			a.in.Push(item{kind: itemConnected, at: a.cfg.Now()})
 			stop := context.AfterFunc(ctx, func() { rc.Close() })
 			lines, err := a.readPort(ctx, rc)
 			stop()
@@ -432,7 +397,7 @@ func (a *Acquirer) readLoop(ctx context.Context) {
 			if err == nil {
 				err = errors.New("end of stream")
 			}
-			a.in.push(item{kind: itemDisconnected, err: err, at: a.cfg.Now()})
+			a.in.Push(item{kind: itemDisconnected, err: err, at: a.cfg.Now()})
 			if lines > 0 {
 				delay = a.cfg.ReconnectMin
 			}
@@ -454,24 +419,24 @@ func (a *Acquirer) readPort(ctx context.Context, rc interface{ Read([]byte) (int
 	sc.Buffer(make([]byte, 4096), 64*1024)
 	sc.Split(a.fr.Split)
 	for sc.Scan() {
-		a.in.push(item{kind: itemLine, line: slices.Clone(sc.Bytes()), at: a.cfg.Now()})
+		a.in.Push(item{kind: itemLine, line: slices.Clone(sc.Bytes()), at: a.cfg.Now()})
 		lines++
 	}
 	return lines, sc.Err()
 }
 
 func (a *Acquirer) hasPending() bool {
-	return len(a.pending.Readings) > 0 || len(a.pending.Events) > 0 || a.wantStatus
+	return len(a.pending.Items) > 0 || a.wantStatus
 }
 
 // batch is the pending batch with a fresh status.
-func (a *Acquirer) batch() Batch {
+func (a *Acquirer) batch() feed.Batch {
 	b := a.pending
 	b.Status = a.status()
 	return b
 }
 
-func (a *Acquirer) status() Status {
+func (a *Acquirer) status() feed.Status {
 	s := a.st
 	s.Overlong = int(a.fr.Overlong.Load())
 	s.Partial = int(a.fr.Partial.Load())
@@ -480,9 +445,14 @@ func (a *Acquirer) status() Status {
 	if !a.lastLine.IsZero() {
 		s.SilentS = a.cfg.Now().Sub(a.lastLine).Seconds()
 	}
-	s.Channels = make(map[string]State, len(a.chans))
+	now := a.cfg.Now()
+	s.Channels = make(map[string]feed.ChannelStatus, len(a.chans))
 	for id, c := range a.chans {
-		s.Channels[id] = c.state
+		cs := feed.ChannelStatus{Recording: c.log != nil, Sample: c.n, Readings: c.readings, Faults: c.faults}
+		if !c.lastAt.IsZero() {
+			cs.SilentS = now.Sub(c.lastAt).Seconds()
+		}
+		s.Channels[id] = cs
 	}
 	return s
 }
@@ -500,7 +470,7 @@ func (a *Acquirer) flushLast() {
 	}
 }
 
-func (a *Acquirer) event(e Event) { a.pending.Events = append(a.pending.Events, e) }
+func (a *Acquirer) item(it feed.Item) { a.pending.Items = append(a.pending.Items, it) }
 
 // warn emits a warning once per key.
 func (a *Acquirer) warn(key, text string) {
@@ -508,7 +478,7 @@ func (a *Acquirer) warn(key, text string) {
 		return
 	}
 	a.warned[key] = true
-	a.event(Event{Kind: EventWarning, Text: text, TimeS: a.tb.last})
+	a.item(feed.Item{Kind: feed.KindWarning, Text: text, TimeS: a.tb.last})
 }
 
 func (a *Acquirer) handle(it *item) error {
@@ -524,22 +494,22 @@ func (a *Acquirer) handle(it *item) error {
 		a.lastOpen = ""
 		a.lastLine = it.at
 		a.silentSaid = false
-		a.event(Event{Kind: EventConnected, TimeS: a.tb.last, Text: text})
+		a.item(feed.Item{Kind: feed.KindConnected, TimeS: a.tb.last, Text: text})
 	case itemDisconnected:
 		a.st.Connected, a.st.Reconnecting = false, true
 		for _, i := range a.lastIdx {
-			a.pending.Readings[i].Flags |= FlagGapAfter
+			a.pending.Items[i].Reading.Flags |= feed.FlagGapAfter
 		}
 		for _, c := range a.chans {
 			c.markGap()
 		}
-		a.event(Event{Kind: EventDisconnected, TimeS: a.tb.last,
+		a.item(feed.Item{Kind: feed.KindDisconnected, TimeS: a.tb.last,
 			Text: fmt.Sprintf("lost %s (%v); reconnecting", a.portName(), it.err)})
 	case itemOpenFailed:
 		a.st.Connected, a.st.Reconnecting = false, true
 		if msg := it.err.Error(); msg != a.lastOpen {
 			a.lastOpen = msg
-			a.event(Event{Kind: EventWarning, TimeS: a.tb.last, Text: msg + "; retrying"})
+			a.item(feed.Item{Kind: feed.KindWarning, TimeS: a.tb.last, Text: msg + "; retrying"})
 		}
 	case itemLine:
 		return a.line(it)
@@ -557,17 +527,17 @@ func (a *Acquirer) portName() string {
 func (a *Acquirer) line(it *item) error {
 	a.lastLine = it.at
 	a.silentSaid = false
-	l, err := ParseLine(it.line)
+	l, err := protocol.ParseLine(it.line)
 	if err != nil {
 		a.st.Lines++
 		a.garbage(it.line, err)
 		return nil
 	}
 	switch l.Kind {
-	case LineBlank:
+	case protocol.LineBlank:
 		a.st.Blank++
 		return nil
-	case LineInfo:
+	case protocol.LineInfo:
 		a.st.Lines++
 		a.info(&l)
 		return nil
@@ -591,39 +561,28 @@ func (a *Acquirer) garbage(b []byte, err error) {
 		return
 	}
 	a.garbageAt = now
-	a.event(Event{Kind: EventWarning, TimeS: a.tb.last, Text: fmt.Sprintf(
+	a.item(feed.Item{Kind: feed.KindWarning, TimeS: a.tb.last, Text: fmt.Sprintf(
 		"%d garbage line(s) from %s, last %s (noise on the line, or the wrong --baud or --frame?)",
 		a.garbageN, a.portName(), a.st.LastGarbage)})
 	a.garbageN = 0
 }
 
-// formKeys are device-info keys that describe the sample rather than the
-// device; they go into the curve file as their own metadata lines.
-var formKeys = map[string]bool{"sample": true, "alloy": true, "operator": true, "ladle": true,
-	"furnace": true, "cup": true, "note": true, "melt": true, "heat": true}
-
-func (a *Acquirer) info(l *Line) {
+// info passes a device line on; its sample keys are the tracker's to
+// decide on, the others describe the device (the file's "device" line).
+func (a *Acquirer) info(l *protocol.Line) {
 	ch := l.InfoValue("ch")
-	info := make(map[string]string, len(l.Info))
-	var form []curvefile.Meta
-	for _, kv := range l.Info {
-		info[kv.Key] = kv.Value
-		switch {
-		case formKeys[kv.Key]:
-			form = append(form, curvefile.Meta{Key: kv.Key, Value: kv.Value})
-		case kv.Key == "ch":
-		default:
-			a.devInfo = mergeMeta(a.devInfo, []curvefile.Meta{{Key: kv.Key, Value: kv.Value}})
+	kv := make([]curvefile.Meta, 0, len(l.Info))
+	for _, x := range l.Info {
+		kv = append(kv, curvefile.Meta{Key: x.Key, Value: x.Value})
+		if !protocol.IsSampleKey(x.Key) && x.Key != "ch" {
+			a.devInfo = mergeMeta(a.devInfo, []curvefile.Meta{{Key: x.Key, Value: x.Value}})
 		}
 	}
 	if tcName := l.InfoValue("tc"); tcName != "" {
 		a.deviceTC(tcName)
 	}
-	if len(form) > 0 {
-		a.applyForm(ch, form)
-	}
-	a.event(Event{Kind: EventDeviceInfo, Channel: ch, TimeS: a.tb.last, Info: info,
-		Text: "device:" + string(AppendLine(nil, *l)[1:])})
+	a.item(feed.Item{Kind: feed.KindDeviceInfo, Channel: ch, TimeS: a.tb.last, Meta: kv,
+		Text: "device:" + string(protocol.AppendLine(nil, *l)[1:])})
 }
 
 func (a *Acquirer) deviceTC(name string) {
@@ -641,30 +600,16 @@ func (a *Acquirer) deviceTC(name string) {
 	}
 }
 
-// applyForm hands form data to channel ch, or to every channel ("").
-func (a *Acquirer) applyForm(ch string, form []curvefile.Meta) {
-	if ch != "" {
-		if c := a.channel(ch); c != nil {
-			c.setForm(form)
-		}
-		return
-	}
-	a.form = mergeMeta(a.form, form)
-	for _, c := range a.chans {
-		c.setForm(form)
-	}
-}
-
 // reading turns a parsed reading line into a Reading.
-func (a *Acquirer) reading(l *Line, at time.Time) Reading {
-	r := Reading{TimeS: a.tb.at(l, at), Channel: l.Channel}
+func (a *Acquirer) reading(l *protocol.Line, at time.Time) feed.Reading {
+	r := feed.Reading{TimeS: a.tb.at(l, at), Channel: l.Channel}
 	switch {
-	case l.Fault == FaultOpen:
-		r.Flags, r.TempC = FlagOpen, math.NaN()
-	case l.Fault != FaultNone:
-		r.Flags, r.TempC = FlagFault, math.NaN()
+	case l.Fault == protocol.FaultOpen:
+		r.Flags, r.TempC = feed.FlagOpen, math.NaN()
+	case l.Fault != protocol.FaultNone:
+		r.Flags, r.TempC = feed.FlagFault, math.NaN()
 	case l.HasEMF:
-		r.Flags |= FlagEMF
+		r.Flags |= feed.FlagEMF
 		r.EMFmV = l.EMFmV
 		switch {
 		case l.HasCJ:
@@ -683,7 +628,7 @@ func (a *Acquirer) reading(l *Line, at time.Time) Reading {
 		}
 		t, err := a.tc.Temp(r.EMFmV, r.ColdJctC)
 		if err != nil {
-			r.Flags |= FlagFault
+			r.Flags |= feed.FlagFault
 			r.TempC = math.NaN()
 			a.warn("emf:"+l.Channel, fmt.Sprintf("channel %s: %v", l.Channel, err))
 		} else {
@@ -699,18 +644,18 @@ func (a *Acquirer) reading(l *Line, at time.Time) Reading {
 }
 
 // accept passes a reading on and through its channel's lifecycle.
-func (a *Acquirer) accept(r Reading, at time.Time) error {
-	if r.Flags&(FlagOpen|FlagFault) != 0 {
+func (a *Acquirer) accept(r feed.Reading, at time.Time) error {
+	if !r.Valid() {
 		a.st.Faults++
 	}
 	a.st.Readings++
 	a.rateN++
 	c := a.channel(r.Channel)
 	if c != nil && c.gapBefore {
-		r.Flags |= FlagGapBefore
+		r.Flags |= feed.FlagGapBefore
 	}
-	a.lastIdx[r.Channel] = len(a.pending.Readings)
-	a.pending.Readings = append(a.pending.Readings, r)
+	a.lastIdx[r.Channel] = len(a.pending.Items)
+	a.item(feed.Item{Kind: feed.KindReading, Channel: r.Channel, TimeS: r.TimeS, Reading: r})
 	if c == nil {
 		return nil
 	}
@@ -726,8 +671,7 @@ func (a *Acquirer) channel(id string) *channel {
 	if len(a.cfg.Channels) > 0 && !slices.Contains(a.cfg.Channels, id) {
 		return nil
 	}
-	c := &channel{id: id}
-	c.setForm(a.form)
+	c := &channel{id: id, next: slices.Clone(a.nextMeta)}
 	a.chans[id] = c
 	a.order = append(a.order, id)
 	return c
@@ -739,20 +683,30 @@ func (a *Acquirer) control(c control) error {
 	}
 	switch c.op {
 	case opMeta:
-		a.applyForm(c.ch, c.meta)
+		if c.ch == "" {
+			a.nextMeta = cleanMeta(c.meta)
+			return nil
+		}
+		if ch := a.channel(c.ch); ch != nil {
+			ch.setMeta(c.sample, cleanMeta(c.meta))
+		}
 	case opStart:
 		ch := a.channel(c.ch)
 		if ch == nil {
-			a.event(Event{Kind: EventWarning, Channel: c.ch, TimeS: a.tb.last,
+			a.item(feed.Item{Kind: feed.KindWarning, Channel: c.ch, TimeS: a.tb.last,
 				Text: fmt.Sprintf("channel %q is not being recorded (channels: %v)", c.ch, a.cfg.Channels)})
 			return nil
 		}
-		if ch.state == StateWaiting || ch.state == StateDone {
+		if ch.log == nil {
 			return ch.start(a, "started by hand", a.tb.last, a.cfg.Now())
 		}
 	case opStop:
-		if ch, ok := a.chans[c.ch]; ok && (ch.state == StateRecording || ch.state == StateFrozen) {
-			return ch.finish(a, "stopped by hand")
+		if ch, ok := a.chans[c.ch]; ok && ch.log != nil && (c.sample == 0 || c.sample == ch.n) {
+			reason := c.reason
+			if reason == "" {
+				reason = "stopped by hand"
+			}
+			return ch.finish(a, reason)
 		}
 	}
 	return nil
@@ -770,7 +724,7 @@ func (a *Acquirer) tick() error {
 	}
 	for _, id := range a.order {
 		c := a.chans[id]
-		if (c.state == StateRecording || c.state == StateFrozen) && now.Sub(c.startHost).Seconds() > a.cfg.MaxS+2 {
+		if c.log != nil && now.Sub(c.startHost).Seconds() > a.cfg.MaxS+2 {
 			if err := c.finish(a, fmt.Sprintf("time limit of %g s reached (no readings for %.0f s)",
 				a.cfg.MaxS, now.Sub(a.lastLine).Seconds())); err != nil {
 				return err
@@ -779,7 +733,7 @@ func (a *Acquirer) tick() error {
 	}
 	if a.st.Connected && !a.silentSaid && !a.lastLine.IsZero() && now.Sub(a.lastLine) >= a.cfg.SilentAfter {
 		a.silentSaid = true
-		a.event(Event{Kind: EventWarning, TimeS: a.tb.last,
+		a.item(feed.Item{Kind: feed.KindWarning, TimeS: a.tb.last,
 			Text: fmt.Sprintf("no data from %s for %.0f s (still connected)", a.portName(), now.Sub(a.lastLine).Seconds())})
 	}
 	if now.Sub(a.sentAt) >= time.Second {
@@ -793,7 +747,7 @@ func (a *Acquirer) finishAll(reason string) error {
 	var first error
 	for _, id := range a.order {
 		c := a.chans[id]
-		if c.state == StateRecording || c.state == StateFrozen {
+		if c.log != nil {
 			if err := c.finish(a, reason); err != nil && first == nil {
 				first = err
 			}
@@ -815,7 +769,7 @@ type timebase struct {
 	last    float64 // the latest time given
 }
 
-func (tb *timebase) at(l *Line, at time.Time) float64 {
+func (tb *timebase) at(l *protocol.Line, at time.Time) float64 {
 	if !tb.started {
 		tb.started, tb.host0 = true, at
 	}

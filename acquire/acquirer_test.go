@@ -15,23 +15,29 @@ import (
 	"testing/iotest"
 	"time"
 
-	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
-	"github.com/undercool-foundry/undercool/internal/sim"
+	"github.com/undercool-foundry/undercool/internal/feed"
+	"github.com/undercool-foundry/undercool/internal/protocol"
 )
 
 // TestLifecycle: a constructed cup curve (sent as fast as the pipe takes
 // it, timed by device ms) is triggered by its pour, recorded with the
-// pre-trigger readings, frozen by the injected rule and completed after
-// the margin; the file holds the sent readings exactly.
+// pre-trigger readings and completed when told to stop; the file holds the
+// sent readings exactly, its sample metadata as set (SetMeta), and the
+// start item hands over the pre-trigger readings and the file's metadata.
 func TestLifecycle(t *testing.T) {
-	sent, col := recordCup(t, `! dev=test-amp fw=2.1 sample="L-2417 cup 1" operator="Pell Brasswick"`)
+	sent, col := recordCup(t, `! dev=test-amp fw=2.1 sample="L-2417 cup 9" operator="Pell Brasswick"`)
 
-	st := col.has(EventSampleStarted, "1")
-	fr := col.has(EventSampleFrozen, "1")
-	done := col.has(EventSampleDone, "1")
-	if st == nil || fr == nil || !strings.Contains(st.Text, "pour detected") {
+	st := col.has(feed.KindStarted, "1")
+	done := col.has(feed.KindEnded, "1")
+	if st == nil || !strings.Contains(st.Text, "pour detected") || st.Sample != 1 || done.Sample != 1 {
 		t.Fatalf("events: %v", col.eventTexts())
+	}
+	if len(st.Pre) != 201 || st.Pre[0].TimeS != st.StartS || st.StartS != st.TimeS || metaValue(st.Meta, "sample") != "L-2417 cup 1" {
+		t.Fatalf("start item: %d pre-trigger readings from %v, start %v, metadata %v", len(st.Pre), st.Pre[0].TimeS, st.StartS, st.Meta)
+	}
+	if di := col.has(feed.KindDeviceInfo, ""); di == nil || metaValue(di.Meta, "sample") != "L-2417 cup 9" {
+		t.Fatalf("device info item %+v", di)
 	}
 	// The pre-trigger buffer is 10 s: the file starts 10 s before the
 	// reading that triggered (ambient lasted 12 s).
@@ -43,17 +49,20 @@ func TestLifecycle(t *testing.T) {
 	if trig := 12.25; math.Abs(st.TimeS-(trig-10)) > 1e-9 {
 		t.Fatalf("file starts at %v s of acquisition, want %v (10 s before the trigger)", st.TimeS, trig-10)
 	}
-	// Frozen at 30 s of sample time, done 5 s later.
+	// Stopped at 35 s of sample time.
 	last := c.float(t, len(c.rows)-1, "time_s")
-	if last < 35 || last > 35.1 {
-		t.Fatalf("last row at %v s, want 35 (frozen at 30 + margin 5)", last)
+	if last != 35 {
+		t.Fatalf("last row at %v s, want 35, where it was stopped", last)
 	}
 	for _, k := range []string{"sample", "operator", "channel", "started", "trigger", "device", "ended"} {
 		if c.meta[k] == "" {
 			t.Errorf("metadata %q missing: %v", k, c.meta)
 		}
 	}
-	if c.meta["sample"] != "L-2417 cup 1" || c.meta["operator"] != "Pell Brasswick" || c.meta["ended"] != "freezing done" || c.meta["simulated"] != "" {
+	// The device's own sample keys are the tracker's to decide on: the file
+	// carries what SetMeta said.
+	if c.meta["sample"] != "L-2417 cup 1" || c.meta["operator"] != "Tobin Quenchmoor" || c.meta["ended"] != "freezing done" ||
+		c.meta["simulated"] != "" || !strings.Contains(c.meta["device"], "fw=2.1") || strings.Contains(c.meta["device"], "sample") {
 		t.Errorf("metadata %v", c.meta)
 	}
 	if !strings.Contains(filepath.Base(done.Path), "L-2417-cup-1") {
@@ -62,8 +71,8 @@ func TestLifecycle(t *testing.T) {
 	if _, err := os.Stat(partialName(done.Path)); !errors.Is(err, os.ErrNotExist) {
 		t.Errorf("partial file left: %v", err)
 	}
-	if col.last.Channels["1"] != StateDone {
-		t.Errorf("state %v, want done", col.last.Channels["1"])
+	if cs := col.last.Channels["1"]; cs.Recording || cs.Sample != 1 || cs.Readings != len(sent) {
+		t.Errorf("channel status %+v, want sample 1 done after %d readings", cs, len(sent))
 	}
 }
 
@@ -72,7 +81,7 @@ func TestLifecycle(t *testing.T) {
 func TestTwoChannels(t *testing.T) {
 	dir := t.TempDir()
 	port := newPipePort()
-	_, col, _ := startAcq(t, port.open, Config{Dir: dir, Finished: finishedAfter(20), FreezeMarginS: 1})
+	a, col, _ := startAcq(t, port.open, Config{Dir: dir})
 	plain := cupCurve(10, 11, 40)
 	tell := cupCurve(10, 16, 40)
 	w := port.plug()
@@ -81,14 +90,17 @@ func TestTwoChannels(t *testing.T) {
 			w.Write([]byte(plain[i].line("1") + tell[i].line("tell")))
 		}
 	}()
+	col.until("every reading", 10*time.Second, func() bool { return len(col.readings) == 2*len(plain) })
+	a.Stop("tell", 0, "freezing done")
+	a.Stop("1", 0, "freezing done")
 	col.until("both done", 10*time.Second, func() bool {
-		return col.has(EventSampleDone, "1") != nil && col.has(EventSampleDone, "tell") != nil
+		return col.has(feed.KindEnded, "1") != nil && col.has(feed.KindEnded, "tell") != nil
 	})
-	p := readRows(t, col.has(EventSampleDone, "1").Path)
-	q := readRows(t, col.has(EventSampleDone, "tell").Path)
-	checkRowsMatch(t, p, plain, int(col.has(EventSampleStarted, "1").TimeS*10+0.5))
-	checkRowsMatch(t, q, tell, int(col.has(EventSampleStarted, "tell").TimeS*10+0.5))
-	if d := col.has(EventSampleStarted, "tell").TimeS - col.has(EventSampleStarted, "1").TimeS; math.Abs(d-5) > 0.01 {
+	p := readRows(t, col.has(feed.KindEnded, "1").Path)
+	q := readRows(t, col.has(feed.KindEnded, "tell").Path)
+	checkRowsMatch(t, p, plain, int(col.has(feed.KindStarted, "1").TimeS*10+0.5))
+	checkRowsMatch(t, q, tell, int(col.has(feed.KindStarted, "tell").TimeS*10+0.5))
+	if d := col.has(feed.KindStarted, "tell").TimeS - col.has(feed.KindStarted, "1").TimeS; math.Abs(d-5) > 0.01 {
 		t.Fatalf("tellurium cup started %v s after the plain one, want 5", d)
 	}
 	if p.meta["channel"] != "1" || q.meta["channel"] != "tell" {
@@ -101,7 +113,7 @@ func TestTwoChannels(t *testing.T) {
 func TestReconnect(t *testing.T) {
 	dir := t.TempDir()
 	port := newPipePort()
-	_, col, _ := startAcq(t, port.open, Config{Dir: dir, Finished: finishedAfter(25), FreezeMarginS: 1})
+	a, col, _ := startAcq(t, port.open, Config{Dir: dir})
 	sent := cupCurve(10, 3, 40)
 	cut := 150
 	w := port.plug()
@@ -111,27 +123,29 @@ func TestReconnect(t *testing.T) {
 	col.until("readings before the unplug", 5*time.Second, func() bool { return len(col.readings) == cut })
 	w.Write([]byte("ch=1 ms=99 c=12")) // cut off by the unplug: a partial line
 	w.CloseWithError(errors.New("device unplugged"))
-	col.until("disconnect", 5*time.Second, func() bool { return col.has(EventDisconnected, "") != nil })
+	col.until("disconnect", 5*time.Second, func() bool { return col.has(feed.KindDisconnected, "") != nil })
 	w = port.plug()
-	col.until("reconnect", 5*time.Second, func() bool { return col.count(EventConnected) == 2 })
+	col.until("reconnect", 5*time.Second, func() bool { return col.count(feed.KindConnected) == 2 })
 	for _, r := range sent[cut:] {
 		w.Write([]byte(r.line("1")))
 	}
-	col.until("sample done", 10*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
+	col.until("every reading", 10*time.Second, func() bool { return len(col.readings) == len(sent) })
+	a.Stop("1", 0, "freezing done")
+	col.until("sample done", 10*time.Second, func() bool { return col.has(feed.KindEnded, "1") != nil })
 
-	c := readRows(t, col.has(EventSampleDone, "1").Path)
+	c := readRows(t, col.has(feed.KindEnded, "1").Path)
 	checkRowsMatch(t, c, sent, 0)
 	fl := c.col("flags")
 	if c.rows[cut-1][fl] != "gap_after" || c.rows[cut][fl] != "gap_before" {
 		t.Fatalf("flags around the gap: %q %q", c.rows[cut-1][fl], c.rows[cut][fl])
 	}
-	if col.readings[cut].Flags&FlagGapBefore == 0 {
+	if col.readings[cut].Flags&feed.FlagGapBefore == 0 {
 		t.Fatalf("first reading after the gap not flagged: %+v", col.readings[cut])
 	}
 	if col.last.Reconnects != 1 || col.last.Partial != 1 {
 		t.Fatalf("reconnects %d partial %d, want 1 and 1", col.last.Reconnects, col.last.Partial)
 	}
-	if e := col.has(EventDisconnected, ""); !strings.Contains(e.Text, "device unplugged") {
+	if e := col.has(feed.KindDisconnected, ""); !strings.Contains(e.Text, "device unplugged") {
 		t.Fatalf("disconnect text %q", e.Text)
 	}
 }
@@ -142,7 +156,7 @@ func TestReconnect(t *testing.T) {
 func TestIotestPorts(t *testing.T) {
 	parts := []string{"c=1\r\nc=2\r\n", "c=3\rc=4\r", "c=5\nc=6\n", "c=7\nc=8\n", "c=9\n"}
 	wraps := []func(io.Reader) io.Reader{iotest.OneByteReader, iotest.HalfReader, iotest.DataErrReader,
-		func(r io.Reader) io.Reader { return iotest.TimeoutReader(&fixedChunks{b: []byte("c=7\nc=8\n"), n: 8}) },
+		iotest.TimeoutReader, // the first read takes the whole part, the second times out
 		func(r io.Reader) io.Reader { return zeroReads(r, 500) }}
 	var n atomic.Int32
 	open := func(ctx context.Context) (io.ReadCloser, error) {
@@ -226,10 +240,10 @@ func TestGarbageAndFaults(t *testing.T) {
 		t.Fatalf("status %+v", s)
 	}
 	r := col.readings
-	if r[1].Flags&FlagOpen == 0 || r[2].Flags&FlagFault == 0 || r[3].Flags&(FlagFault|FlagEMF) != FlagFault|FlagEMF || r[4].TempC != 21 {
+	if r[1].Flags&feed.FlagOpen == 0 || r[2].Flags&feed.FlagFault == 0 || r[3].Flags&(feed.FlagFault|feed.FlagEMF) != feed.FlagFault|feed.FlagEMF || r[4].TempC != 21 {
 		t.Fatalf("readings %+v", r)
 	}
-	w2 := col.has(EventWarning, "")
+	w2 := col.has(feed.KindWarning, "")
 	if w2 == nil || !strings.Contains(w2.Text, "garbage") {
 		t.Fatalf("no garbage warning: %v", col.eventTexts())
 	}
@@ -252,17 +266,19 @@ func TestEMF(t *testing.T) {
 	col.until("three readings", 5*time.Second, func() bool { return len(col.readings) == 3 })
 	want := []float64{1000, 1000, 600}
 	for i, r := range col.readings {
-		if r.Flags&FlagEMF == 0 || math.Abs(r.TempC-want[i]) > 0.05 || r.ColdJctC != 25 {
+		if r.Flags&feed.FlagEMF == 0 || math.Abs(r.TempC-want[i]) > 0.05 || r.ColdJctC != 25 {
 			t.Errorf("reading %d: %+v, want %v °C", i, r, want[i])
 		}
 	}
-	if e := col.has(EventDeviceInfo, ""); e == nil || e.Info["tc"] != "J" {
+	if e := col.has(feed.KindDeviceInfo, ""); e == nil || metaValue(e.Meta, "tc") != "J" {
 		t.Fatalf("device info event: %v", col.eventTexts())
 	}
 }
 
 // TestManualStartStopMeta: a sample started and stopped by hand carries
-// the form data set while it records.
+// the sample metadata set for it while it records (its completed file says
+// them in place of those it started with); metadata set for the next
+// sample goes into the next file, never the one recording.
 func TestManualStartStopMeta(t *testing.T) {
 	dir := t.TempDir()
 	port := newPipePort()
@@ -271,17 +287,27 @@ func TestManualStartStopMeta(t *testing.T) {
 	w := port.plug()
 	io.WriteString(w, "ms=0 c=700\nms=100 c=701\n")
 	col.until("two readings", 5*time.Second, func() bool { return len(col.readings) == 2 })
+	a.SetMeta("1", 0, []curvefile.Meta{{Key: "sample", Value: "L-2417 cup 1"}, {Key: "alloy", Value: "grey-iron"}})
 	a.Start("1")
-	col.until("started", 5*time.Second, func() bool { return col.has(EventSampleStarted, "1") != nil })
-	a.SetMeta("1", []curvefile.Meta{{Key: "sample", Value: "L-2417 cup 2"}, {Key: "operator", Value: "Tobin Quenchmoor"}, {Key: "note", Value: "two\nlines"}})
+	col.until("started", 5*time.Second, func() bool { return col.has(feed.KindStarted, "1") != nil })
+	a.SetMeta("1", 1, []curvefile.Meta{{Key: "sample", Value: "L-2417 cup 2"}, {Key: "operator", Value: "Tobin Quenchmoor"}, {Key: "note", Value: "two\nlines"}})
+	a.SetMeta("1", 0, []curvefile.Meta{{Key: "sample", Value: "L-2418 cup 1"}})
 	io.WriteString(w, "ms=200 c=690\nms=300 c=680\n")
 	col.until("four readings", 5*time.Second, func() bool { return len(col.readings) == 4 })
-	a.Stop("1")
-	col.until("done", 5*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
-	c := readRows(t, col.has(EventSampleDone, "1").Path)
-	if len(c.rows) != 4 || c.meta["sample"] != "L-2417 cup 2" || c.meta["operator"] != "Tobin Quenchmoor" ||
+	a.Stop("1", 0, "")
+	col.until("done", 5*time.Second, func() bool { return col.has(feed.KindEnded, "1") != nil })
+	c := readRows(t, col.has(feed.KindEnded, "1").Path)
+	if len(c.rows) != 4 || c.meta["sample"] != "L-2417 cup 2" || c.meta["operator"] != "Tobin Quenchmoor" || c.meta["alloy"] != "" ||
 		c.meta["note"] != "two lines" || c.meta["ended"] != "stopped by hand" || c.meta["shop"] == "" {
 		t.Fatalf("file %+v", c)
+	}
+	if st := col.has(feed.KindStarted, "1"); metaValue(st.Meta, "sample") != "L-2417 cup 1" || metaValue(st.Meta, "alloy") != "grey-iron" {
+		t.Fatalf("the file started with %v", st.Meta)
+	}
+	a.Start("1")
+	col.until("second", 5*time.Second, func() bool { return col.count(feed.KindStarted) == 2 })
+	if st := col.events[len(col.events)-1]; st.Sample != 2 || metaValue(st.Meta, "sample") != "L-2418 cup 1" {
+		t.Fatalf("the next file started as %+v", st)
 	}
 }
 
@@ -290,7 +316,7 @@ func TestManualStartStopMeta(t *testing.T) {
 func TestTimeLimits(t *testing.T) {
 	t.Run("readings", func(t *testing.T) {
 		port := newPipePort()
-		_, col, _ := startAcq(t, port.open, Config{Dir: t.TempDir(), MaxS: 5, Finished: func(_, _ []float64) bool { return false }})
+		_, col, _ := startAcq(t, port.open, Config{Dir: t.TempDir(), MaxS: 5})
 		w := port.plug()
 		sent := cupCurve(10, 2, 20)
 		go func() {
@@ -298,8 +324,8 @@ func TestTimeLimits(t *testing.T) {
 				w.Write([]byte(r.line("1")))
 			}
 		}()
-		col.until("done", 5*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
-		c := readRows(t, col.has(EventSampleDone, "1").Path)
+		col.until("done", 5*time.Second, func() bool { return col.has(feed.KindEnded, "1") != nil })
+		c := readRows(t, col.has(feed.KindEnded, "1").Path)
 		if got := c.float(t, len(c.rows)-1, "time_s"); got != 5 || !strings.Contains(c.meta["ended"], "time limit") {
 			t.Fatalf("ended at %v s: %q", got, c.meta["ended"])
 		}
@@ -312,14 +338,14 @@ func TestTimeLimits(t *testing.T) {
 		_, col, _ := startAcq(t, port.open, Config{Dir: t.TempDir(), MaxS: 60, Now: clock, SilentAfter: 30 * time.Second})
 		w := port.plug()
 		io.WriteString(w, "ms=0 c=25\nms=500 c=600\n")
-		col.until("started", 5*time.Second, func() bool { return col.has(EventSampleStarted, "1") != nil })
+		col.until("started", 5*time.Second, func() bool { return col.has(feed.KindStarted, "1") != nil })
 		now.Store(int64(63 * time.Second)) // the device went quiet for a minute
-		col.until("done", 5*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
-		e := col.has(EventSampleDone, "1")
+		col.until("done", 5*time.Second, func() bool { return col.has(feed.KindEnded, "1") != nil })
+		e := col.has(feed.KindEnded, "1")
 		if !strings.Contains(e.Text, "no readings") {
 			t.Fatalf("done: %q", e.Text)
 		}
-		if w := col.has(EventWarning, ""); w == nil || !strings.Contains(w.Text, "no data") {
+		if w := col.has(feed.KindWarning, ""); w == nil || !strings.Contains(w.Text, "no data") {
 			t.Fatalf("no silence warning: %v", col.eventTexts())
 		}
 		if c := readRows(t, e.Path); c.meta["started"] != "2026-03-02T06:30:00.000Z" || len(c.rows) != 2 {
@@ -368,90 +394,9 @@ func TestTimebase(t *testing.T) {
 		{4000100, 11, 11.1}, //
 	}
 	for i, s := range steps {
-		l := Line{HasMS: s.ms >= 0, MS: uint64(max(s.ms, 0))}
+		l := protocol.Line{HasMS: s.ms >= 0, MS: uint64(max(s.ms, 0))}
 		if got := tb.at(&l, at(s.hostS)); math.Abs(got-s.want) > 1e-9 {
 			t.Fatalf("step %d: %v, want %v", i, got, s.want)
-		}
-	}
-}
-
-// TestSimulatedCupDefaultFinished: a simulated grey-iron cup (internal/sim,
-// a physics model, not measured data) sent at 10 Hz device time is
-// triggered by its pour and stopped by the default end-of-freezing rule
-// (arrest.Analyze(...).Complete) after the model's own end of freezing,
-// plus the margin; the file holds every reading sent from the start of the
-// pre-trigger buffer.
-func TestSimulatedCupDefaultFinished(t *testing.T) {
-	p, err := sim.Preset("grey-iron", 0.5, 7)
-	if err != nil {
-		t.Fatal(err)
-	}
-	o := sim.Simulate(p)
-	sent := make([]cupReading, len(o.Time))
-	for i := range o.Time {
-		sent[i] = cupReading{ms: uint64(math.Round(o.Time[i] * 1000)), temp: o.Temp[i]}
-	}
-	port := newPipePort()
-	_, col, _ := startAcq(t, port.open, Config{Dir: t.TempDir(), Family: arrest.FamilyIron})
-	w := port.plug()
-	go func() {
-		for _, r := range sent {
-			w.Write([]byte(r.line("1")))
-		}
-	}()
-	col.until("done", 20*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
-	st, fr := col.has(EventSampleStarted, "1"), col.has(EventSampleFrozen, "1")
-	if fr == nil {
-		t.Fatalf("never frozen: %v", col.eventTexts())
-	}
-	if solidus := o.Truth.Solidus.TimeS; fr.TimeS < solidus {
-		t.Fatalf("frozen at %v s, before the model's end of freezing at %v s", fr.TimeS, solidus)
-	}
-	c := readRows(t, col.has(EventSampleDone, "1").Path)
-	if c.meta["ended"] != "freezing done" {
-		t.Fatalf("ended %q", c.meta["ended"])
-	}
-	first := 0
-	for sent[first].ms < uint64(math.Round((st.TimeS+o.Time[0])*1000)) {
-		first++
-	}
-	checkRowsMatch(t, c, sent, first)
-	if got := c.float(t, len(c.rows)-1, "time_s") + st.TimeS - (fr.TimeS - o.Time[0]); got < 15 || got > 15.2 {
-		t.Fatalf("recorded %v s after freezing ended, want the 15 s margin", got)
-	}
-}
-
-// TestSimulatedDeck: the simulated melt deck (internal/sim, a physics model
-// behind the line protocol, with checksums, two stands) run 400 times
-// faster than real time: every line it writes parses (no garbage), and each
-// cup becomes its own sample file carrying the deck's form data.
-func TestSimulatedDeck(t *testing.T) {
-	dir := t.TempDir()
-	port := newPipePort()
-	_, col, _ := startAcq(t, port.open, Config{Dir: dir})
-	w := port.plug()
-	deck := sim.NewDeck(sim.DeckOptions{Seed: 11, Speed: 400, Channels: []string{"1", "tell"}, Checksum: true})
-	ctx, cancel := context.WithCancel(context.Background())
-	defer cancel()
-	go deck.Run(ctx, w)
-	col.until("four samples", 30*time.Second, func() bool { return col.count(EventSampleDone) >= 4 })
-	cancel()
-	if s := col.last; s.Garbage != 0 || s.Lines == 0 {
-		t.Fatalf("status %+v", s)
-	}
-	for _, e := range col.events {
-		if e.Kind != EventSampleDone {
-			continue
-		}
-		c := readRows(t, e.Path)
-		if !strings.HasPrefix(c.meta["sample"], "L-") || c.meta["operator"] == "" || c.meta["alloy"] == "" || c.meta["channel"] != e.Channel {
-			t.Errorf("%s: metadata %v", e.Path, c.meta)
-		}
-		if len(c.rows) < 300 { // 30 s at 10 Hz: the pour and more
-			t.Errorf("%s: only %d rows", e.Path, len(c.rows))
-		}
-		if first := c.float(t, 0, "temp_c"); first > 60 {
-			t.Errorf("%s: starts at %v °C, not near ambient (the tail of the cup before)", e.Path, first)
 		}
 	}
 }
@@ -461,8 +406,7 @@ func TestSimulatedDeck(t *testing.T) {
 // recording sample, as fast as a pipe delivers them.
 func BenchmarkAcquirerRecording(b *testing.B) {
 	port := newPipePort()
-	a := New(port.open, Config{Dir: b.TempDir(), Trigger: Trigger{Manual: true}, MaxS: 1e9,
-		Finished: func(_, _ []float64) bool { return false }})
+	a := New(port.open, Config{Dir: b.TempDir(), Trigger: Trigger{Manual: true}, MaxS: 1e9})
 	ctx, cancel := context.WithCancel(context.Background())
 	defer cancel()
 	go a.Run(ctx)
@@ -471,7 +415,11 @@ func BenchmarkAcquirerRecording(b *testing.B) {
 	var got atomic.Int64
 	go func() {
 		for bt := range a.Batches() {
-			got.Add(int64(len(bt.Readings)))
+			for _, it := range bt.Items {
+				if it.Kind == feed.KindReading {
+					got.Add(1)
+				}
+			}
 		}
 	}()
 	line := []byte("ms=0000000 c=1234.56\n")
@@ -493,31 +441,29 @@ func BenchmarkAcquirerRecording(b *testing.B) {
 // are, so that no record or report passes one off as a measurement.
 func TestSimulatedDeviceMarksItsSamples(t *testing.T) {
 	_, col := recordCup(t, `! dev=undercool-sim fw=1.0 tc=K simulated=true`, `! sample="L-2451 cup 1" alloy=grey-iron simulated=true`)
-	c := readRows(t, col.has(EventSampleDone, "1").Path)
-	if c.meta["simulated"] != "true" || c.meta["sample"] != "L-2451 cup 1" || !strings.Contains(c.meta["device"], "simulated=true") {
+	c := readRows(t, col.has(feed.KindEnded, "1").Path)
+	if c.meta["simulated"] != "true" || !strings.Contains(c.meta["device"], "simulated=true") {
 		t.Errorf("metadata %v, want simulated: true", c.meta)
 	}
 }
 
 // recordCup sends the device-info lines and then a constructed cup curve
-// (cupCurve(20, 12, 50), channel 1) to an acquirer on a pipe port that
-// judges the cup frozen at 30 s and completes it 5 s later, and waits
-// until the sample is done; it returns the readings sent and the events.
+// (cupCurve(20, 12, 50), channel 1) to an acquirer on a pipe port, with
+// the sample metadata "L-2417 cup 1" operated by Tobin Quenchmoor set for
+// the next file (as the tracker sets it), stops the sample at 35 s of its
+// own time (as the tracker does once freezing is done) and waits until it
+// is done; it returns the readings sent and the events.
 func recordCup(t *testing.T, info ...string) ([]cupReading, *collector) {
 	t.Helper()
 	port := newPipePort()
-	_, col, _ := startAcq(t, port.open, Config{Port: "fake0", Dir: t.TempDir(),
-		Finished: finishedAfter(30), FreezeMarginS: 5})
+	a, col, _ := startAcq(t, port.open, Config{Port: "fake0", Dir: t.TempDir()})
+	a.SetMeta("1", 0, []curvefile.Meta{{Key: "sample", Value: "L-2417 cup 1"}, {Key: "operator", Value: "Tobin Quenchmoor"}})
 	sent := cupCurve(20, 12, 50)
 	w := port.plug()
-	go func() {
-		for _, l := range info {
-			w.Write([]byte(l + "\n"))
-		}
-		for _, r := range sent {
-			w.Write([]byte(r.line("1")))
-		}
-	}()
-	col.until("sample done", 10*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
-	return sent, col
+	for _, l := range info {
+		w.Write([]byte(l + "\n"))
+	}
+	// The trigger is at 12.25 s, the file starts 10 s before it (index 45).
+	k := col.stopAt(w, "1", sent, 0, 45, 35)
+	return sent[:k], col
 }

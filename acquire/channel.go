@@ -11,39 +11,38 @@ import (
 	"time"
 
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/feed"
+	"github.com/undercool-foundry/undercool/internal/protocol"
 )
 
 // channel is the sample lifecycle of one channel id: waiting for the pour
-// (keeping the last Trigger.PreS seconds), recording into its raw log,
-// frozen (recording the margin after the end of freezing), done (and
-// waiting for the next pour).
+// (keeping the last Trigger.PreS seconds), recording into its raw log until
+// told to stop (or the time limit), and waiting for the next pour.
 type channel struct {
 	id    string
-	state State
-	pre   []Reading        // the last PreS seconds while not recording
+	n     int              // samples started on the channel
+	pre   []feed.Reading   // the last PreS seconds while not recording
 	preAt []time.Time      // host arrival times of pre
-	form  []curvefile.Meta // form data for the next sample
+	next  []curvefile.Meta // sample metadata for the next file (SetMeta)
 
-	log       *rawLog
+	log       *rawLog   // the sample recording, nil while waiting
 	startT    float64   // acquisition time of the file's first reading
 	startHost time.Time // host time of the same
-	t, temp   []float64 // valid readings of the sample, t from startT
-	finished  func(t, temp []float64) bool
-	nextCheck float64
-	frozenAt  float64
-	gapBefore bool // the port was lost since this channel's last reading
+	gapBefore bool      // the port was lost since this channel's last reading
+
+	readings, faults int
+	lastAt           time.Time // host time of the last reading
 }
 
-func valid(r Reading) bool {
-	return r.Flags&(FlagOpen|FlagFault) == 0 && !math.IsNaN(r.TempC)
-}
-
-func (c *channel) setForm(m []curvefile.Meta) {
-	if c.log != nil {
-		c.log.extra = mergeMeta(c.log.extra, m)
-		return
+// setMeta takes the tracker's sample metadata: for the next file
+// (sample 0), or for the completed form of the file recording sample.
+func (c *channel) setMeta(sample int, m []curvefile.Meta) {
+	switch {
+	case sample == 0:
+		c.next = m
+	case c.log != nil && sample == c.n:
+		c.log.fix = m
 	}
-	c.form = mergeMeta(c.form, m)
 }
 
 func (c *channel) markGap() {
@@ -53,16 +52,14 @@ func (c *channel) markGap() {
 	}
 }
 
-// rel is a reading's time in the sample's file: s from its first reading,
-// rounded to the microsecond so that device milliseconds stay exact.
-func (c *channel) rel(t float64) float64 {
-	return math.Round((t-c.startT)*1e6) / 1e6
-}
-
-func (c *channel) add(a *Acquirer, r Reading, at time.Time) error {
+func (c *channel) add(a *Acquirer, r feed.Reading, at time.Time) error {
 	c.gapBefore = false
-	switch c.state {
-	case StateWaiting, StateDone:
+	c.readings++
+	if !r.Valid() {
+		c.faults++
+	}
+	c.lastAt = at
+	if c.log == nil {
 		c.buffer(r, at, a.cfg.Trigger.PreS)
 		if a.cfg.Trigger.Manual || (a.cfg.MaxSamples > 0 && a.started >= a.cfg.MaxSamples) {
 			return nil
@@ -73,45 +70,19 @@ func (c *channel) add(a *Acquirer, r Reading, at time.Time) error {
 		}
 		return nil
 	}
-	rel := c.rel(r.TimeS)
-	if err := c.record(r, rel); err != nil {
+	rel := feed.FileTime(r.TimeS, c.startT)
+	if err := c.log.write(r, rel); err != nil {
 		return err
 	}
 	if rel >= a.cfg.MaxS {
 		return c.finish(a, fmt.Sprintf("time limit of %g s reached", a.cfg.MaxS))
-	}
-	switch c.state {
-	case StateRecording:
-		if rel >= c.nextCheck && len(c.t) > 0 {
-			c.nextCheck = rel + a.cfg.FinishCheckS
-			if c.finished(c.t, c.temp) {
-				c.state, c.frozenAt = StateFrozen, rel
-				a.event(Event{Kind: EventSampleFrozen, Channel: c.id, TimeS: r.TimeS, Path: c.log.partial,
-					Text: fmt.Sprintf("channel %s: freezing has ended at %.1f s; recording %g s more", c.id, rel, a.cfg.FreezeMarginS)})
-			}
-		}
-	case StateFrozen:
-		if rel-c.frozenAt >= a.cfg.FreezeMarginS {
-			return c.finish(a, "freezing done")
-		}
-	}
-	return nil
-}
-
-func (c *channel) record(r Reading, rel float64) error {
-	if err := c.log.write(r, rel); err != nil {
-		return err
-	}
-	if valid(r) {
-		c.t = append(c.t, rel)
-		c.temp = append(c.temp, r.TempC)
 	}
 	return nil
 }
 
 // buffer keeps r (which arrived at host time at) and drops readings older
 // than preS seconds.
-func (c *channel) buffer(r Reading, at time.Time, preS float64) {
+func (c *channel) buffer(r feed.Reading, at time.Time, preS float64) {
 	c.pre = append(c.pre, r)
 	c.preAt = append(c.preAt, at)
 	i := 0
@@ -134,14 +105,14 @@ func (c *channel) trimPre(riseFrom float64) {
 		if p.TimeS > riseFrom {
 			break
 		}
-		if valid(p) && p.TempC <= lo {
+		if p.Valid() && p.TempC <= lo {
 			lo, k = p.TempC, i
 		}
 	}
 	if k < 0 {
 		return
 	}
-	for k > 0 && (!valid(c.pre[k-1]) || c.pre[k-1].TempC <= lo+preTrimC) {
+	for k > 0 && (!c.pre[k-1].Valid() || c.pre[k-1].TempC <= lo+preTrimC) {
 		k--
 	}
 	c.pre, c.preAt = c.pre[k:], c.preAt[k:]
@@ -149,13 +120,13 @@ func (c *channel) trimPre(riseFrom float64) {
 
 // triggered reports whether r completes a pour transient: at least MinC
 // and more than RiseC above the lowest valid reading of the last WithinS.
-func (c *channel) triggered(r Reading, tr Trigger) (string, bool) {
-	if !valid(r) || r.TempC < tr.MinC {
+func (c *channel) triggered(r feed.Reading, tr Trigger) (string, bool) {
+	if !r.Valid() || r.TempC < tr.MinC {
 		return "", false
 	}
 	lo, loT := math.Inf(1), 0.0
 	for i := len(c.pre) - 1; i >= 0 && c.pre[i].TimeS >= r.TimeS-tr.WithinS; i-- {
-		if p := c.pre[i]; valid(p) && p.TempC < lo {
+		if p := c.pre[i]; p.Valid() && p.TempC < lo {
 			lo, loT = p.TempC, p.TimeS
 		}
 	}
@@ -168,7 +139,7 @@ func (c *channel) triggered(r Reading, tr Trigger) (string, bool) {
 // start opens the sample's raw log with the buffered readings; at and
 // atHost are the acquisition and host times of the start.
 func (c *channel) start(a *Acquirer, why string, at float64, atHost time.Time) error {
-	if c.state == StateRecording || c.state == StateFrozen {
+	if c.log != nil {
 		return nil
 	}
 	c.startT, c.startHost = at, atHost
@@ -176,26 +147,24 @@ func (c *channel) start(a *Acquirer, why string, at float64, atHost time.Time) e
 		c.startT, c.startHost = c.pre[0].TimeS, c.preAt[0]
 	}
 	now := a.cfg.Now()
-	emf := slices.ContainsFunc(c.pre, func(r Reading) bool { return r.Flags&FlagEMF != 0 })
-	form := c.form
-	c.form = nil
-	path, err := a.newPath(c.id, metaValue(form, "sample"), now)
+	emf := slices.ContainsFunc(c.pre, func(r feed.Reading) bool { return r.Flags&feed.FlagEMF != 0 })
+	path, err := a.newPath(c.id, metaValue(c.next, "sample"), now)
 	if err != nil {
 		return err
 	}
-	meta := a.sampleMeta(c, form, why)
-	log, err := createLog(path, meta, emf, a.cfg.SyncEvery)
+	log, err := createLog(path, a.sampleMeta(c, why), emf, a.cfg.SyncEvery)
 	if err != nil {
 		return err
 	}
-	c.finished = a.cfg.finishedFor(metaValue(meta, "alloy"))
-	c.log, c.state = log, StateRecording
-	c.t, c.temp, c.nextCheck = c.t[:0], c.temp[:0], 0
+	c.log = log
+	c.n++
 	a.started++
-	a.event(Event{Kind: EventSampleStarted, Channel: c.id, TimeS: c.startT, Path: log.partial,
+	pre := slices.Clone(c.pre)
+	a.item(feed.Item{Kind: feed.KindStarted, Channel: c.id, TimeS: c.startT, Sample: c.n, Path: log.partial,
+		Meta: slices.Clone(log.meta), Pre: pre, StartS: c.startT,
 		Text: fmt.Sprintf("channel %s: %s; recording to %s", c.id, why, log.partial)})
-	for _, r := range c.pre {
-		if err := c.record(r, c.rel(r.TimeS)); err != nil {
+	for _, r := range pre {
+		if err := c.log.write(r, feed.FileTime(r.TimeS, c.startT)); err != nil {
 			return err
 		}
 	}
@@ -206,28 +175,29 @@ func (c *channel) start(a *Acquirer, why string, at float64, atHost time.Time) e
 // finish completes the sample's file.
 func (c *channel) finish(a *Acquirer, reason string) error {
 	log := c.log
-	c.log, c.state = nil, StateDone
-	n := len(c.t)
+	c.log = nil
+	n := len(log.rows)
 	dur := 0.0
 	if n > 0 {
-		dur = c.t[n-1]
+		dur = log.rows[n-1].time
 	}
 	log.extra = mergeMeta(log.extra, []curvefile.Meta{{Key: "ended", Value: reason}})
 	path, err := log.finish()
 	if err != nil {
-		a.event(Event{Kind: EventWarning, Channel: c.id, TimeS: a.tb.last, Path: log.partial,
+		a.item(feed.Item{Kind: feed.KindEnded, Channel: c.id, TimeS: a.tb.last, Sample: c.n, Path: log.partial, Failed: true,
 			Text: fmt.Sprintf("channel %s: %v (the readings stay in %s)", c.id, err, log.partial)})
 		return err
 	}
 	a.st.SamplesDone++
-	a.event(Event{Kind: EventSampleDone, Channel: c.id, TimeS: a.tb.last, Path: path,
-		Text: fmt.Sprintf("channel %s: sample done (%s): %d readings over %.1f s in %s", c.id, reason, log.rows, dur, path)})
+	a.item(feed.Item{Kind: feed.KindEnded, Channel: c.id, TimeS: a.tb.last, Sample: c.n, Path: path,
+		Text: fmt.Sprintf("channel %s: sample done (%s): %d readings over %.1f s in %s", c.id, reason, n-log.faults, dur, path)})
 	return nil
 }
 
-// sampleMeta is the metadata a sample's file starts with.
-func (a *Acquirer) sampleMeta(c *channel, form []curvefile.Meta, why string) []curvefile.Meta {
-	meta := mergeMeta(slices.Clone(a.cfg.Meta), form)
+// sampleMeta is the metadata a sample's file starts with: the configured
+// metadata, the sample's own (as the tracker set it) and the acquisition's.
+func (a *Acquirer) sampleMeta(c *channel, why string) []curvefile.Meta {
+	meta := mergeMeta(slices.Clone(a.cfg.Meta), c.next)
 	add := func(k, v string) { meta = mergeMeta(meta, []curvefile.Meta{{Key: k, Value: v}}) }
 	add("channel", c.id)
 	if a.tcName != "" {
@@ -299,7 +269,7 @@ func exists(p string) bool {
 func slug(s string) string {
 	b := []byte(s)
 	for i, c := range b {
-		if !isIDByte(c) {
+		if !protocol.IsIDByte(c) {
 			b[i] = '-'
 		}
 	}

@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/feed"
 )
 
 // faultTmpfs mounts a tmpfs of the given size (e.g. "256k") in a temp dir
@@ -55,7 +56,7 @@ func TestFaultRawLogDiskFull(t *testing.T) {
 		t.Fatalf("filling the tmpfs: %v", err)
 	}
 	port := newPipePort()
-	a, col, stop := startAcq(t, port.open, Config{Port: "fake0", Dir: dir, Finished: finishedAfter(1e9), SyncEvery: 20 * time.Millisecond})
+	a, col, stop := startAcq(t, port.open, Config{Port: "fake0", Dir: dir, SyncEvery: 20 * time.Millisecond})
 	sent := cupCurve(100, 2, 60) // 6000 readings of about 20 bytes: far more than 16 KiB
 	w := port.plug()
 	go func() {
@@ -73,14 +74,18 @@ wait:
 			if !ok {
 				break wait // Run has returned
 			}
-			col.events = append(col.events, b.Events...)
+			for _, it := range b.Items {
+				if it.Kind != feed.KindReading {
+					col.events = append(col.events, it)
+				}
+			}
 		case <-deadline:
 			t.Fatalf("Run did not stop on the full disk; events: %v", col.eventTexts())
 		}
 	}
 	runErr := stop()
 	w.CloseWithError(os.ErrClosed)
-	st0 := col.has(EventSampleStarted, "1")
+	st0 := col.has(feed.KindStarted, "1")
 	if st0 == nil {
 		t.Fatalf("no sample started: %v", col.eventTexts())
 	}
@@ -97,7 +102,7 @@ wait:
 	if err := os.Remove(filler); err != nil {
 		t.Fatal(err)
 	}
-	recs, err := Recover(dir)
+	recs, err := recoverDir(dir, time.Now())
 	if err != nil || len(recs) != 1 {
 		t.Fatalf("Recover: %v %v", recs, err)
 	}

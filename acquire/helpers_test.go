@@ -10,6 +10,8 @@ import (
 	"sync"
 	"testing"
 	"time"
+
+	"github.com/undercool-foundry/undercool/internal/feed"
 )
 
 // cupReading is one reading a fake amplifier sends.
@@ -86,9 +88,9 @@ func (p *pipePort) plug() *io.PipeWriter {
 type collector struct {
 	t        *testing.T
 	a        *Acquirer
-	readings []Reading
-	events   []Event
-	last     Status
+	readings []feed.Reading
+	events   []feed.Item
+	last     feed.Status
 	batches  int
 }
 
@@ -101,8 +103,13 @@ func (c *collector) until(what string, timeout time.Duration, done func() bool) 
 			if !ok {
 				c.t.Fatalf("batches closed while waiting for %s", what)
 			}
-			c.readings = append(c.readings, b.Readings...)
-			c.events = append(c.events, b.Events...)
+			for _, it := range b.Items {
+				if it.Kind == feed.KindReading {
+					c.readings = append(c.readings, it.Reading)
+				} else {
+					c.events = append(c.events, it)
+				}
+			}
 			c.last = b.Status
 			c.batches++
 		case <-deadline:
@@ -111,7 +118,7 @@ func (c *collector) until(what string, timeout time.Duration, done func() bool) 
 	}
 }
 
-func (c *collector) has(kind EventKind, ch string) *Event {
+func (c *collector) has(kind feed.Kind, ch string) *feed.Item {
 	for i := range c.events {
 		if c.events[i].Kind == kind && (ch == "" || c.events[i].Channel == ch) {
 			return &c.events[i]
@@ -120,7 +127,7 @@ func (c *collector) has(kind EventKind, ch string) *Event {
 	return nil
 }
 
-func (c *collector) count(kind EventKind) int {
+func (c *collector) count(kind feed.Kind) int {
 	n := 0
 	for _, e := range c.events {
 		if e.Kind == kind {
@@ -230,10 +237,27 @@ func checkRowsMatch(t *testing.T, c curveRows, sent []cupReading, from int) {
 	}
 }
 
-// finishedAfter is an injected end-of-freezing rule for constructed
-// curves: freezing counts as ended at sample time s.
-func finishedAfter(s float64) func(t, temp []float64) bool {
-	return func(t, _ []float64) bool { return len(t) > 0 && t[len(t)-1] >= s }
+// stopAt sends readings sent[:k] up to (and with) the first one at or past
+// sample time s (device time from the file's first reading at
+// sent[first]), waits until they are all in, and stops the sample there:
+// what the tracker does when freezing is done. It returns k.
+func (c *collector) stopAt(w io.Writer, ch string, sent []cupReading, from, first int, s float64) int {
+	c.t.Helper()
+	k := max(from, first)
+	for k < len(sent) && float64(sent[k].ms-sent[first].ms)/1000 < s {
+		k++
+	}
+	k = min(k+1, len(sent))
+	go func() {
+		for _, r := range sent[from:k] {
+			w.Write([]byte(r.line(ch)))
+		}
+	}()
+	want := len(c.readings) + k - from
+	c.until("readings up to the stop", 10*time.Second, func() bool { return len(c.readings) >= want })
+	c.a.Stop(ch, 0, "freezing done")
+	c.until("sample done", 10*time.Second, func() bool { return c.has(feed.KindEnded, ch) != nil })
+	return k
 }
 
 func contextWithCancel() (context.Context, context.CancelFunc) {

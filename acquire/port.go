@@ -3,11 +3,9 @@ package acquire
 import (
 	"context"
 	"errors"
-	"flag"
 	"fmt"
 	"io"
 	"io/fs"
-	"math"
 	"strconv"
 	"strings"
 	"time"
@@ -35,8 +33,6 @@ var DefaultPortMode = PortMode{Baud: 115200, DataBits: 8, Parity: 'N', StopBits:
 func (m PortMode) Frame() string {
 	return strconv.Itoa(m.DataBits) + string(m.Parity) + strconv.FormatFloat(m.StopBits, 'f', -1, 64)
 }
-
-func (m PortMode) String() string { return strconv.Itoa(m.Baud) + " " + m.Frame() }
 
 // ParseFrame parses a frame like "8N1", "7E1", "8N2" or "8N1.5" (data
 // bits, parity N/E/O/M/S, stop bits) into m, keeping m's baud rate.
@@ -77,13 +73,6 @@ func (m PortMode) Check() error {
 		return err
 	}
 	return nil
-}
-
-// AddFlags registers --baud and --frame on fs, writing into m (which
-// should hold the defaults).
-func (m *PortMode) AddFlags(fs *flag.FlagSet) {
-	fs.IntVar(&m.Baud, "baud", m.Baud, "baud rate in bit/s (the amplifier's setting)")
-	fs.Func("frame", "data bits, parity (N E O M S) and stop bits, e.g. 8N1 or 7E1 (default "+m.Frame()+")", m.ParseFrame)
 }
 
 func (m PortMode) serial() *serial.Mode {
@@ -174,20 +163,5 @@ func waitForData(ctx context.Context, r io.Reader) io.Reader {
 				time.Sleep(time.Millisecond)
 			}
 		}
-	})
-}
-
-// AddEMFFlags registers --tc and --cj on fs, writing into c: the
-// thermocouple type and the cold-junction temperature for amplifiers that
-// send raw EMF.
-func (c *Config) AddEMFFlags(fs *flag.FlagSet) {
-	fs.StringVar(&c.Thermocouple, "tc", c.Thermocouple, "thermocouple type for raw EMF readings, B E J K N R S T (default: what the device announces, else K)")
-	fs.Func("cj", "cold-junction temperature in °C for EMF readings that carry no cj= (default: 25, with a warning)", func(s string) error {
-		v, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
-		if err != nil || math.IsNaN(v) || math.IsInf(v, 0) || v < -50 || v > 150 {
-			return fmt.Errorf("%q is not a cold-junction temperature in °C (-50 to 150)", s)
-		}
-		c.ColdJunctionC, c.ColdJunctionSet = v, true
-		return nil
 	})
 }

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -14,6 +15,8 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/atomicfile"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/feed"
+	"github.com/undercool-foundry/undercool/internal/protocol"
 )
 
 // The crash-safe raw log. While a sample records, its readings go to
@@ -47,9 +50,13 @@ type rawLog struct {
 	partial, final string
 	f              *os.File
 	w              *curvefile.Writer
+	meta           []curvefile.Meta // the metadata the file started with
+	cols           []string         // its extra columns
 	emf            bool
-	rows, faults   int
+	rows           []row // what was written, in order, for the completed file
+	faults         int
 	extra          []curvefile.Meta // metadata added at the end
+	fix            []curvefile.Meta // the sample's metadata as decided after the start (sample keys), or nil
 	gapAtEnd       bool             // the port was lost after the last row so far
 	unlock         func()
 
@@ -57,6 +64,15 @@ type rawLog struct {
 	done sync.WaitGroup
 	mu   sync.Mutex // guards err
 	err  error      // the first fsync error
+}
+
+// row is one line of the raw log below its header: a reading, or a fault
+// reading kept as a "#fault" comment line.
+type row struct {
+	time, temp float64
+	flags      string // as Flag.String writes them
+	mv, cj     string // the EMF columns' text, when the file has them
+	fault      string // the whole "#fault ..." line (without its line break) for a fault reading
 }
 
 // createLog starts the raw log of a sample whose completed file is final.
@@ -82,7 +98,8 @@ func createLog(final string, meta []curvefile.Meta, emf bool, syncEvery time.Dur
 	if emf {
 		cols = append(cols, "emf_mv", "cj_c")
 	}
-	w, err := curvefile.NewWriter(f, cleanMeta(meta), cols...)
+	meta = cleanMeta(meta)
+	w, err := curvefile.NewWriter(f, meta, cols...)
 	if err == nil {
 		err = f.Sync()
 	}
@@ -95,7 +112,7 @@ func createLog(final string, meta []curvefile.Meta, emf bool, syncEvery time.Dur
 		os.Remove(partial)
 		return nil, fmt.Errorf("acquire: starting %s: %w", partial, err)
 	}
-	l := &rawLog{partial: partial, final: final, f: f, w: w, emf: emf, unlock: unlock, stop: make(chan struct{})}
+	l := &rawLog{partial: partial, final: final, f: f, w: w, meta: meta, cols: cols, emf: emf, unlock: unlock, stop: make(chan struct{})}
 	l.done.Go(func() { l.syncLoop(syncEvery) })
 	return l, nil
 }
@@ -135,39 +152,44 @@ func (l *rawLog) syncLoop(every time.Duration) {
 }
 
 // write appends one reading at time rel (s in the file).
-func (l *rawLog) write(r Reading, rel float64) error {
-	flags := (r.Flags &^ FlagEMF).String()
+func (l *rawLog) write(r feed.Reading, rel float64) error {
+	rw := row{time: rel, temp: r.TempC, flags: (r.Flags &^ feed.FlagEMF).String()}
+	if l.emf && r.Flags&feed.FlagEMF != 0 {
+		rw.mv = strconv.FormatFloat(r.EMFmV, 'f', -1, 64)
+		rw.cj = strconv.FormatFloat(r.ColdJctC, 'f', -1, 64)
+	}
 	var err error
 	switch {
-	case !valid(r):
+	case !r.Valid():
 		b := strconv.AppendFloat([]byte("#fault "), rel, 'f', -1, 64)
 		b = append(b, ' ')
-		b = append(b, flags...)
-		if r.Flags&FlagEMF != 0 {
+		b = append(b, rw.flags...)
+		if r.Flags&feed.FlagEMF != 0 {
 			b = append(b, " emf_mv="...)
 			b = strconv.AppendFloat(b, r.EMFmV, 'f', -1, 64)
 			b = append(b, " cj_c="...)
 			b = strconv.AppendFloat(b, r.ColdJctC, 'f', -1, 64)
 		}
+		rw.fault = string(b)
 		_, err = l.f.Write(append(b, '\n'))
 		l.faults++
-	case l.emf:
-		mv, cj := "", ""
-		if r.Flags&FlagEMF != 0 {
-			mv = strconv.FormatFloat(r.EMFmV, 'f', -1, 64)
-			cj = strconv.FormatFloat(r.ColdJctC, 'f', -1, 64)
-		}
-		err = l.w.Write(rel, r.TempC, flags, mv, cj)
-		l.rows++
 	default:
-		err = l.w.Write(rel, r.TempC, flags)
-		l.rows++
+		err = l.writeRow(l.w, rw)
 	}
 	if err != nil {
 		return fmt.Errorf("acquire: raw log %s: %w", l.partial, err)
 	}
+	l.rows = append(l.rows, rw)
 	l.gapAtEnd = false
 	return nil
+}
+
+// writeRow writes a reading row with the file's columns.
+func (l *rawLog) writeRow(w *curvefile.Writer, rw row) error {
+	if l.emf {
+		return w.Write(rw.time, rw.temp, rw.flags, rw.mv, rw.cj)
+	}
+	return w.Write(rw.time, rw.temp, rw.flags)
 }
 
 // finish completes the log and returns the final path.
@@ -190,7 +212,11 @@ func (l *rawLog) finish() (string, error) {
 	if !keepOpenWhileCompleting {
 		l.f.Close()
 	}
-	_, err = complete(l.partial, l.final, l.extra, l.gapAtEnd)
+	meta := l.meta
+	if l.fix != nil {
+		meta = withSampleMeta(meta, l.fix)
+	}
+	err = l.complete(meta, l.extra)
 	l.unlock()
 	l.f.Close()
 	if err != nil {
@@ -199,120 +225,50 @@ func (l *rawLog) finish() (string, error) {
 	return l.final, nil
 }
 
-// completed is what complete made of a partial file.
-type completed struct {
-	Rows   int  // readings kept
-	Faults int  // fault readings kept (#fault lines)
-	Torn   bool // a torn last line was dropped
-}
-
-// complete writes the completed form of the raw log src to dst (through
-// a temporary file, fsynced, renamed) and removes src: extra metadata after the
-// file's own, gap_after marks, a torn last line dropped.
-func complete(src, dst string, extra []curvefile.Meta, gapAtEnd bool) (completed, error) {
-	var c completed
-	data, err := os.ReadFile(src)
+// complete writes the completed form of the raw log (from what was
+// written, kept in rows) to its final name, through a temporary file,
+// fsynced and renamed, and removes the partial file: the metadata it
+// started with and extra after them, the fault count, and gap_after on the
+// last reading before each gap.
+func (l *rawLog) complete(meta, extra []curvefile.Meta) error {
+	meta = mergeMeta(slices.Clone(meta), cleanMeta(extra))
+	if l.faults > 0 {
+		meta = mergeMeta(meta, []curvefile.Meta{{Key: "faults", Value: strconv.Itoa(l.faults) + " fault readings, kept as #fault lines"}})
+	}
+	var b bytes.Buffer
+	b.Grow(len(l.rows)*24 + 512)
+	w, err := curvefile.NewWriter(&b, meta, l.cols...)
 	if err != nil {
-		return c, fmt.Errorf("acquire: %w", err)
+		return fmt.Errorf("acquire: completing %s: %w", l.final, err)
 	}
-	if i := bytes.LastIndexByte(data, '\n'); i+1 < len(data) {
-		c.Torn = true
-		data = data[:i+1]
-	}
-	lines := strings.SplitAfter(string(data), "\n")
-	if n := len(lines); n > 0 && lines[n-1] == "" {
-		lines = lines[:n-1]
-	}
-	var meta []curvefile.Meta
-	var other []string // metadata lines not of the "# key: value" form
-	i := 0
-	for ; i < len(lines) && strings.HasPrefix(lines[i], "#"); i++ {
-		k, v, ok := strings.Cut(strings.TrimSpace(strings.TrimPrefix(lines[i], "#")), ":")
-		if !ok {
-			other = append(other, lines[i])
+	for j, rw := range l.rows {
+		if rw.fault != "" {
+			b.WriteString(rw.fault)
+			b.WriteByte('\n')
 			continue
 		}
-		meta = append(meta, curvefile.Meta{Key: strings.TrimSpace(k), Value: strings.TrimSpace(v)})
-	}
-	meta = mergeMeta(meta, cleanMeta(extra))
-	flagCol := -1
-	header := "time_s,temp_c,flags\n"
-	if i < len(lines) {
-		header = lines[i]
-		for j, name := range strings.Split(strings.TrimSpace(header), ",") {
-			if name == "flags" {
-				flagCol = j
-			}
+		gapNext := l.gapAtEnd
+		if j+1 < len(l.rows) {
+			gapNext = hasFlag(l.rows[j+1].flags, "gap_before") || strings.Contains(l.rows[j+1].fault, "gap_before")
 		}
-		i++
-	}
-	rows := lines[i:]
-	var body strings.Builder
-	body.Grow(len(data))
-	for j, row := range rows {
-		if strings.HasPrefix(row, "#") {
-			c.Faults++
-			body.WriteString(row)
-			continue
+		if gapNext && !hasFlag(rw.flags, "gap_after") {
+			rw.flags = strings.TrimPrefix(rw.flags+"|gap_after", "|")
 		}
-		c.Rows++
-		var gapNext bool
-		if j+1 < len(rows) {
-			next := rows[j+1]
-			gapNext = strings.HasPrefix(next, "#") && strings.Contains(next, "gap_before") ||
-				flagCol >= 0 && hasFlag(next, flagCol, "gap_before")
-		} else {
-			gapNext = gapAtEnd
+		if err := l.writeRow(w, rw); err != nil {
+			return fmt.Errorf("acquire: completing %s: %w", l.final, err)
 		}
-		if gapNext && flagCol >= 0 {
-			row = addFlag(row, flagCol, "gap_after")
-		}
-		body.WriteString(row)
 	}
-	if c.Faults > 0 {
-		meta = mergeMeta(meta, []curvefile.Meta{{Key: "faults", Value: strconv.Itoa(c.Faults) + " fault readings, kept as #fault lines"}})
+	if err := writeAtomic(l.final, b.Bytes()); err != nil {
+		return err
 	}
-	var b strings.Builder
-	b.Grow(len(data) + 256)
-	for _, m := range meta {
-		fmt.Fprintf(&b, "# %s: %s\n", m.Key, m.Value)
+	if err := os.Remove(l.partial); err != nil {
+		return fmt.Errorf("acquire: %w", err)
 	}
-	for _, o := range other {
-		b.WriteString(o)
-	}
-	b.WriteString(header)
-	b.WriteString(body.String())
-	if err := writeAtomic(dst, []byte(b.String())); err != nil {
-		return c, err
-	}
-	if err := os.Remove(src); err != nil {
-		return c, fmt.Errorf("acquire: %w", err)
-	}
-	return c, syncDir(filepath.Dir(dst))
+	return syncDir(filepath.Dir(l.final))
 }
 
-func field(row string, col int) (start, end int, ok bool) {
-	start = 0
-	for k := 0; k < col; k++ {
-		i := strings.IndexByte(row[start:], ',')
-		if i < 0 {
-			return 0, 0, false
-		}
-		start += i + 1
-	}
-	end = len(row)
-	if i := strings.IndexAny(row[start:], ",\n"); i >= 0 {
-		end = start + i
-	}
-	return start, end, true
-}
-
-func hasFlag(row string, col int, flag string) bool {
-	s, e, ok := field(row, col)
-	if !ok {
-		return false
-	}
-	for _, f := range strings.Split(row[s:e], "|") {
+func hasFlag(flags, flag string) bool {
+	for f := range strings.SplitSeq(flags, "|") {
 		if f == flag {
 			return true
 		}
@@ -320,15 +276,26 @@ func hasFlag(row string, col int, flag string) bool {
 	return false
 }
 
-func addFlag(row string, col int, flag string) string {
-	s, e, ok := field(row, col)
-	if !ok || hasFlag(row, col, flag) {
-		return row
+// withSampleMeta is meta with its sample keys (protocol.SampleKeys) as fix
+// says: replaced where fix has them, dropped where it has not, added after
+// the others where meta had none.
+func withSampleMeta(meta, fix []curvefile.Meta) []curvefile.Meta {
+	var out []curvefile.Meta
+	for _, m := range meta {
+		if !protocol.IsSampleKey(m.Key) {
+			out = append(out, m)
+			continue
+		}
+		if v := metaValue(fix, m.Key); v != "" {
+			out = append(out, curvefile.Meta{Key: m.Key, Value: v})
+		}
 	}
-	if e > s {
-		flag = row[s:e] + "|" + flag
+	for _, m := range fix {
+		if metaValue(out, m.Key) == "" && m.Value != "" {
+			out = append(out, m)
+		}
 	}
-	return row[:s] + flag + row[e:]
+	return out
 }
 
 // writeAtomic writes data to dst through a temporary file beside it:
@@ -352,16 +319,15 @@ type Recovered struct {
 	Torn    bool   // a torn last line was dropped
 }
 
-// Recover completes the samples in dir whose recording was interrupted (a
-// NAME.partial.csv left by a crash, a kill or a power cut): every completely
-// written line is kept, a torn last line is dropped, the metadata gain
-// "# interrupted: true" and "# recovered: TIME", and the file is renamed to
-// NAME.csv. A partial file still locked by a running recorder is left
-// alone. Where NAME.csv already exists (the crash came after completing)
-// the partial file is removed. Recover returns what it completed, in name
-// order, and the first error; it goes on past errors.
-func Recover(dir string) ([]Recovered, error) { return recoverDir(dir, time.Now()) }
-
+// recoverDir completes the samples in dir whose recording was interrupted
+// (a NAME.partial.csv left by a crash, a kill or a power cut): every
+// completely written line is kept, a torn last line is dropped, the
+// metadata gain "# interrupted: true" and "# recovered: TIME" (now), and
+// the file is renamed to NAME.csv. A partial file still locked by a
+// running recorder is left alone. Where NAME.csv already exists (the crash
+// came after completing) the partial file is removed. It returns what it
+// completed, in name order, and the first error; it goes on past errors.
+// Run calls it at its start.
 func recoverDir(dir string, now time.Time) ([]Recovered, error) {
 	names, err := filepath.Glob(filepath.Join(globEscape(dir), "*"+partialSuffix))
 	if err != nil {
@@ -405,24 +371,73 @@ func recoverOne(p string, now time.Time) (Recovered, bool, error) {
 	if exists(final) {
 		return Recovered{}, false, os.Remove(p)
 	}
+	l, torn, err := readPartial(p)
+	if err != nil {
+		return Recovered{}, false, err
+	}
 	extra := []curvefile.Meta{
 		{Key: "interrupted", Value: "true"},
 		{Key: "recovered", Value: now.Format("2006-01-02T15:04:05Z07:00")},
 	}
-	c, err := complete(p, final, extra, false)
-	if err != nil {
+	if err := l.complete(l.meta, extra); err != nil {
 		return Recovered{}, false, err
 	}
-	r := Recovered{Path: final, Rows: c.Rows, Torn: c.Torn}
-	if cv, err := os.ReadFile(final); err == nil {
-		for _, line := range strings.Split(string(cv), "\n") {
-			if v, ok := strings.CutPrefix(line, "# channel: "); ok {
-				r.Channel = v
-				break
-			}
+	return Recovered{Path: final, Channel: metaValue(l.meta, "channel"), Rows: len(l.rows) - l.faults, Torn: torn}, true, nil
+}
+
+// readPartial reads an interrupted raw log back (with the curve reader;
+// a torn last line is dropped first) into the rows its completed form is
+// written from, the fault lines in their places.
+func readPartial(p string) (l *rawLog, torn bool, err error) {
+	data, err := os.ReadFile(p)
+	if err != nil {
+		return nil, false, fmt.Errorf("acquire: recover: %w", err)
+	}
+	if i := bytes.LastIndexByte(data, '\n'); i+1 < len(data) {
+		torn, data = true, data[:i+1]
+	}
+	c, err := curvefile.Read(bytes.NewReader(data), p)
+	if err != nil {
+		return nil, torn, fmt.Errorf("acquire: recover: %w", err)
+	}
+	l = &rawLog{partial: p, final: finalName(p), meta: c.Meta}
+	text := map[string][]string{}
+	for _, col := range c.Extra {
+		l.cols = append(l.cols, col.Name)
+		text[col.Name] = col.Values
+	}
+	l.emf = slices.Contains(l.cols, "emf_mv")
+	at := func(col string, k int) string {
+		if v := text[col]; k < len(v) {
+			return v[k]
+		}
+		return ""
+	}
+	// The curve reader passes over the fault lines: put them back among
+	// the readings, where they were. Below the header every line that does
+	// not start with '#' is a reading.
+	k, header := 0, false
+	for line := range bytes.SplitSeq(data, []byte{'\n'}) {
+		t := bytes.TrimSpace(line)
+		switch {
+		case len(t) == 0:
+		case bytes.HasPrefix(t, []byte("#fault ")):
+			l.rows = append(l.rows, row{fault: string(t)})
+			l.faults++
+		case t[0] == '#':
+		case !header:
+			header = true
+		case k < len(c.Time):
+			l.rows = append(l.rows, row{time: c.Time[k], temp: c.Temp[k], flags: at("flags", k), mv: at("emf_mv", k), cj: at("cj_c", k)})
+			k++
+		default:
+			k++
 		}
 	}
-	return r, true, nil
+	if k != len(c.Time) {
+		return nil, torn, fmt.Errorf("acquire: recover %s: %d reading lines, the curve reader found %d", p, k, len(c.Time))
+	}
+	return l, torn, nil
 }
 
 func globEscape(p string) string {

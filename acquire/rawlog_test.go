@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/feed"
 )
 
 const tornPartial = `# sample: L-2417 cup 3
@@ -28,7 +29,7 @@ func TestRecover(t *testing.T) {
 	if err := os.WriteFile(p, []byte(tornPartial), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	recs, err := Recover(dir)
+	recs, err := recoverDir(dir, time.Now())
 	if err != nil || len(recs) != 1 {
 		t.Fatalf("Recover: %v %v", recs, err)
 	}
@@ -51,7 +52,7 @@ func TestRecover(t *testing.T) {
 		t.Fatalf("curve reader: %v %+v", err, cv)
 	}
 	// A second run finds nothing more.
-	if recs, err := Recover(dir); err != nil || len(recs) != 0 {
+	if recs, err := recoverDir(dir, time.Now()); err != nil || len(recs) != 0 {
 		t.Fatalf("second Recover: %v %v", recs, err)
 	}
 }
@@ -67,10 +68,10 @@ func TestRecoverLeavesLiveLog(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if err := l.write(Reading{TimeS: 1, TempC: 1300}, 0); err != nil {
+	if err := l.write(feed.Reading{TimeS: 1, TempC: 1300}, 0); err != nil {
 		t.Fatal(err)
 	}
-	recs, err := Recover(dir)
+	recs, err := recoverDir(dir, time.Now())
 	if err != nil || len(recs) != 0 {
 		t.Fatalf("Recover took a live log: %v %v", recs, err)
 	}
@@ -91,7 +92,7 @@ func TestRecoverAfterCompleting(t *testing.T) {
 	final := filepath.Join(dir, "s.csv")
 	os.WriteFile(final, []byte("# ended: freezing done\ntime_s,temp_c,flags\n0,1,\n"), 0o644)
 	os.WriteFile(partialName(final), []byte(tornPartial), 0o644)
-	if recs, err := Recover(dir); err != nil || len(recs) != 0 {
+	if recs, err := recoverDir(dir, time.Now()); err != nil || len(recs) != 0 {
 		t.Fatalf("Recover: %v %v", recs, err)
 	}
 	b, _ := os.ReadFile(final)
@@ -107,8 +108,8 @@ func TestRunRecovers(t *testing.T) {
 	os.WriteFile(filepath.Join(dir, "x.partial.csv"), []byte(tornPartial), 0o644)
 	port := newPipePort()
 	_, col, _ := startAcq(t, port.open, Config{Dir: dir})
-	col.until("recovered", 5*time.Second, func() bool { return col.has(EventRecovered, "") != nil })
-	if e := col.has(EventRecovered, ""); e.Path != filepath.Join(dir, "x.csv") || e.Channel != "1" {
+	col.until("recovered", 5*time.Second, func() bool { return col.has(feed.KindRecovered, "") != nil })
+	if e := col.has(feed.KindRecovered, ""); e.Path != filepath.Join(dir, "x.csv") || e.Channel != "1" {
 		t.Fatalf("event %+v", e)
 	}
 }
@@ -141,9 +142,9 @@ func TestFaultsInFile(t *testing.T) {
 	a.Start("1")
 	w.Write([]byte("ms=100 f=open\nms=200 mv=99 cj=25\nms=300 c=990.5\n"))
 	col.until("four", 5*time.Second, func() bool { return len(col.readings) == 4 })
-	a.Stop("1")
-	col.until("done", 5*time.Second, func() bool { return col.has(EventSampleDone, "1") != nil })
-	path := col.has(EventSampleDone, "1").Path
+	a.Stop("1", 0, "")
+	col.until("done", 5*time.Second, func() bool { return col.has(feed.KindEnded, "1") != nil })
+	path := col.has(feed.KindEnded, "1").Path
 	b, _ := os.ReadFile(path)
 	if !strings.Contains(string(b), "\n#fault 0.1 open\n#fault 0.2 fault emf_mv=99 cj_c=25\n0.3,990.5,,,\n") {
 		t.Fatalf("file:\n%s", b)

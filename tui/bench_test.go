@@ -4,44 +4,52 @@ import (
 	"testing"
 
 	tea "github.com/charmbracelet/bubbletea"
+
+	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
 // BenchmarkLiveView3000 draws the live view (120×40, colour on, the
 // real ntcharts canvas) of a cup holding a 3,000-point curve with its
-// points marked and its verdict. Target: at most 5 ms an op.
+// points marked and its verdict, charts included. Target: at most 5 ms an
+// op.
 func BenchmarkLiveView3000(b *testing.B) {
-	m := New(Options{Title: "bench", Styles: NewStyles(colourRenderer()), Analyzer: constructedAnalyzer, Judge: constructedJudge, Clock: fixedClock}).resize(120, 40)
-	m = feed(m, constructedBatches("1", 300, 10, 5)) // 3,000 readings
-	if n := len(m.live.cup("1").t); n != 3000 {
+	mem := &Memory{Clock: fixedClock}
+	f := newTestFeed(sample.Config{NewAnalyzer: newConstructedAnalyzer, Judge: constructedJudge}, mem)
+	m := New(Options{Feed: f, Title: "bench", Styles: NewStyles(colourRenderer()), Records: mem, Clock: fixedClock}).resize(120, 40)
+	m = play(m, constructedBatches("1", 300, 10, 5)) // 3,000 readings
+	if n := len(m.live.cups[0].snap.T); n != 3000 {
 		b.Fatalf("%d readings", n)
 	}
-	c := m.live.cup("1")
+	m.live.cups[0].drawn = chartCache{} // a full draw each time, charts included
 	cpu0 := processCPU()
 	for b.Loop() {
-		c.drawn = chartCache{} // a full draw each time, charts included
 		_ = m.View()
 	}
 	b.ReportMetric(float64(processCPU()-cpu0)/float64(b.N), "cpu-ns/op")
 }
 
-// BenchmarkLive10Hz is the dashboard's work for one batch at 10 Hz input:
-// one reading in, the real growing-curve analysis (arrest.Analyzer) over
-// the whole sample so far, and one redraw, averaged over a whole
-// 300 s (3,000-reading) sample. CPU share of one core at 10 Hz =
+// BenchmarkLive10Hz is the dashboard's whole work for one reading at 10 Hz
+// input: the tracker's update (the real growing-curve analysis,
+// arrest.Analyzer, over the whole sample so far), the model's Update (the
+// charts drawn when due) and one View, averaged over a whole 300 s
+// (3,000-reading) sample. CPU share of one core at 10 Hz =
 // 10 × (ns/op) / 1e9.
 func BenchmarkLive10Hz(b *testing.B) {
 	bs := constructedBatches("1", 300, 10, 1)
-	mk := func() Model {
-		return New(Options{Title: "bench", Styles: NewStyles(colourRenderer()), Clock: fixedClock}).resize(120, 40)
+	mk := func() (Model, *sample.Tracker) {
+		tr := sample.New(sample.Config{Limits: limits.Builtin()})
+		return New(Options{Title: "bench", Styles: NewStyles(colourRenderer()), Clock: fixedClock}).resize(120, 40), tr
 	}
-	m := mk()
+	m, tr := mk()
 	i := 0
 	cpu0 := processCPU()
 	for b.Loop() {
 		if i == len(bs) {
-			m, i = mk(), 0
+			m, tr = mk()
+			i = 0
 		}
-		tm, _ := m.Update(batchMsg{bs[i]})
+		tm, _ := m.Update(updateMsg{tr.Apply(bs[i])})
 		m = tm.(Model)
 		_ = m.View()
 		i++

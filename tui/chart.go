@@ -36,9 +36,6 @@ type plot struct {
 	xs, ys     []float64 // or points joined by a braille line (trend)
 	marks      []mark
 	levels     []level
-	// lc, when set, is a chart kept between draws: reused (cleared) when
-	// its size still fits, so a redraw does not allocate a new canvas.
-	lc *linechart.Model
 	// niceX widens x1 so that the labels, every xStep columns, fall on
 	// round values (multiples of 10 × a round step per column).
 	niceX bool
@@ -73,20 +70,6 @@ func (p plot) roundX() plot {
 	return p
 }
 
-// niceSpan rounds a positive span up to 1, 2 or 5 times a power of ten.
-func niceSpan(v float64) float64 {
-	if v <= 0 || math.IsNaN(v) {
-		return 1
-	}
-	p := math.Pow(10, math.Floor(math.Log10(v)))
-	for _, m := range []float64{1, 2, 5, 10} {
-		if m*p >= v {
-			return m * p
-		}
-	}
-	return 10 * p
-}
-
 // padRange widens [lo, hi] by a fraction and to at least minSpan.
 func padRange(lo, hi, frac, minSpan float64) (float64, float64) {
 	if hi-lo < minSpan {
@@ -115,29 +98,13 @@ func (p plot) render(st *Styles) string {
 	ySteps := max(1, (p.h-2)/3)
 	xf := func(_ int, v float64) string { return fmt.Sprintf(xFmt, v) }
 	yf := func(_ int, v float64) string { return fmt.Sprintf(yFmt, v) }
-	var lc *linechart.Model
-	if p.lc != nil && p.lc.Width() == p.w && p.lc.Height() == p.h {
-		lc = p.lc
-		lc.Canvas.Fill(canvas.Cell{}) // Clear would allocate a new canvas
-		lc.XLabelFormatter, lc.YLabelFormatter = xf, yf
-		lc.SetYStep(ySteps)
-		lc.SetXYRange(p.x0, p.x1, p.y0, p.y1)
-		lc.SetViewXYRange(p.x0, p.x1, p.y0, p.y1)
-		lc.Style = p.line
-		lc.UpdateGraphSizes()
-	} else {
-		n := linechart.New(p.w, p.h, p.x0, p.x1, p.y0, p.y1,
-			linechart.WithXYSteps(xStep, ySteps),
-			linechart.WithStyles(st.Axis, st.Axis, p.line),
-			linechart.WithXLabelFormatter(xf),
-			linechart.WithYLabelFormatter(yf),
-		)
-		lc = &n
-		if p.lc != nil {
-			*p.lc = n
-			lc = p.lc
-		}
-	}
+	n := linechart.New(p.w, p.h, p.x0, p.x1, p.y0, p.y1,
+		linechart.WithXYSteps(xStep, ySteps),
+		linechart.WithStyles(st.Axis, st.Axis, p.line),
+		linechart.WithXLabelFormatter(xf),
+		linechart.WithYLabelFormatter(yf),
+	)
+	lc := &n
 	lc.DrawXYAxisAndLabel()
 	for _, l := range p.levels {
 		if l.y < p.y0 || l.y > p.y1 {
@@ -239,19 +206,29 @@ type runKey struct {
 }
 
 // runStyle gives the escape sequences that open and close a run of cells
-// drawn with s, found once by rendering a marker and cached.
+// drawn with s: found once for the dashboard's own chart styles when the
+// styles are built (chartStyles), else afresh (nothing is stored while
+// drawing: the view writes nothing).
 func (st *Styles) runStyle(k runKey, s lipgloss.Style) [2]string {
 	if v, ok := st.runs[k]; ok {
 		return v
 	}
+	return runEscapes(s)
+}
+
+// runEscapes renders a marker with s and splits the text around it.
+func runEscapes(s lipgloss.Style) [2]string {
 	out := s.Render("\x00")
 	i := strings.IndexByte(out, 0)
-	v := [2]string{out[:i], out[i+1:]}
-	if st.runs == nil {
-		st.runs = map[runKey][2]string{}
+	return [2]string{out[:i], out[i+1:]}
+}
+
+// chartStyles finds the run escapes of every style the charts draw with.
+func (st *Styles) chartStyles() {
+	st.runs = map[runKey][2]string{}
+	for _, s := range []lipgloss.Style{{}, st.Axis, st.Curve, st.Rate, st.Mark, st.Limit, st.Muted} {
+		st.runs[runKey{fg: s.GetForeground(), bold: s.GetBold()}] = runEscapes(s)
 	}
-	st.runs[k] = v
-	return v
 }
 
 func abs(v int) int {

@@ -3,187 +3,59 @@ package tui
 import (
 	"fmt"
 	"math"
+	"sort"
 	"strings"
 
-	"github.com/NimbleMarkets/ntcharts/linechart"
 	"github.com/charmbracelet/lipgloss"
 	"github.com/charmbracelet/x/ansi"
 
-	"github.com/undercool-foundry/undercool/acquire"
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/feed"
+	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
-// SampleMeta is the sample form: what the operator says about the cup.
-type SampleMeta struct {
-	Sample, Alloy, Operator, Note string
-}
-
-// Analyzer is the analysis of a (growing) curve; live is true while more
-// readings may follow. Nil uses each cup's own arrest.Analyzer (work space
-// kept per cup, so live calls only process new readings). Tests may give a
-// constructed one.
-type Analyzer func(t, temp []float64, family arrest.Family, live bool) arrest.Result
-
-// Judge turns a finished analysis into its record (assess.FromResult with
-// the alloy's limits).
-type Judge func(in assess.Input, res arrest.Result) assess.Record
-
-// recentMax bounds the readings kept while waiting: the acquirer's sample
-// starts up to its pre-trigger time (10 s by default) before the event.
-const recentMax = 2048
-
-// cup is one channel's sample: its whole curve, the decimated copies for
-// drawing, the live analysis and, once known, the record.
+// cup is one channel as the dashboard shows it: the tracker's snapshot
+// (a value: its slices are never changed) and its charts as last drawn.
 type cup struct {
-	id    string
-	state State
-	meta  SampleMeta  // the sample shown
-	next  *SampleMeta // the form for the next sample, while one is recording
-
-	t0         float64   // acquirer time of the sample start
-	t, v       []float64 // the whole sample curve, s from t0 and °C
-	temp, rate trace
-	tempLC     *linechart.Model // charts kept between draws
-	rateLC     *linechart.Model
-	drawn      chartCache // the charts as last drawn
-	sl         slope
-	peakT      float64 // time of the highest reading so far (end of the pour transient)
-	peakV      float64
-
-	last    Reading
-	hasLast bool
-	recent  []Reading // readings before the start, for the pre-trigger
-
-	ws      arrest.Analyzer // the cup's own analysis work space
-	res     arrest.Result
-	rec     *assess.Record
-	path    string
-	elapsed float64
+	snap  sample.Snapshot
+	drawn chartCache // drawn in Update, read by View
 }
 
-func newCup(id string) *cup {
-	return &cup{id: id, temp: newTrace(), rate: newTrace(), sl: slope{w: 2}, peakV: math.Inf(-1),
-		tempLC: &linechart.Model{}, rateLC: &linechart.Model{}}
+func newCup(s sample.Snapshot) cup { return cup{snap: s} }
+
+func (c *cup) id() string                 { return c.snap.Channel }
+func (c *cup) state() sample.State        { return c.snap.State }
+func (c *cup) res() arrest.Result         { return c.snap.Result }
+func (c *cup) rec() *assess.Record        { return c.snap.Record }
+func (c *cup) elapsed() float64           { return c.snap.ElapsedS }
+func (c *cup) busy() bool                 { return c.snap.State.Busy() }
+func (c *cup) last() (feed.Reading, bool) { return c.snap.Last, c.snap.HasLast }
+
+// meta is the sample shown: the one recording or finished, else (before
+// the first pour) the one to come.
+func (c *cup) meta() sample.Meta {
+	if c.snap.State == sample.Waiting {
+		return c.snap.Next
+	}
+	return c.snap.Meta
 }
 
-// busy reports whether a sample is being recorded.
-func (c *cup) busy() bool { return c.state == StateRecording || c.state == StateFrozen }
-
-// form is the sample form's current values for this cup: the next
-// sample's while one is recording.
-func (c *cup) form() SampleMeta {
-	if c.busy() && c.next != nil {
-		return *c.next
-	}
-	return c.meta
-}
-
-// setForm takes the sample form: for the sample shown, or for the next
-// one while a sample is recording.
-func (c *cup) setForm(m SampleMeta) {
-	if c.busy() {
-		c.next = &m
-		return
-	}
-	c.meta, c.next = m, nil
-}
-
-// begin starts a new sample at acquirer time t0.
-func (c *cup) begin(t0 float64) {
-	if c.next != nil {
-		c.meta, c.next = *c.next, nil
-	}
-	c.t0 = t0
-	c.t, c.v = c.t[:0], c.v[:0] // the backing arrays are reused: the work space starts afresh
-	c.ws.Reset()
-	c.temp.reset()
-	c.rate.reset()
-	c.sl = slope{w: c.sl.w}
-	c.peakT, c.peakV = 0, math.Inf(-1)
-	c.res, c.rec, c.path, c.elapsed = arrest.Result{}, nil, "", 0
-	c.state = StateRecording
-	for _, r := range c.recent {
-		if r.TimeS >= t0 {
-			c.append(r)
-		}
-	}
-	c.recent = c.recent[:0]
-}
-
-func usable(r Reading) bool {
-	return r.Flags&(acquire.FlagOpen|acquire.FlagFault) == 0 && !math.IsNaN(r.TempC)
-}
-
-// take is one reading of this channel.
-func (c *cup) take(r Reading) {
-	c.last, c.hasLast = r, true
-	if c.state != StateRecording && c.state != StateFrozen {
-		if usable(r) {
-			c.recent = append(c.recent, r)
-			if len(c.recent) > recentMax {
-				c.recent = append(c.recent[:0], c.recent[recentMax/2:]...)
-			}
-		}
-		return
-	}
-	c.append(r)
-}
-
-func (c *cup) append(r Reading) {
-	if !usable(r) {
-		return
-	}
-	ts := r.TimeS - c.t0
-	if n := len(c.t); n > 0 && ts <= c.t[n-1] {
-		return // out of order or repeated: the analysis needs rising time
-	}
-	c.t = append(c.t, ts)
-	c.v = append(c.v, r.TempC)
-	c.temp.add(ts, r.TempC)
-	if r.TempC > c.peakV {
-		c.peakT, c.peakV = ts, r.TempC
-	}
-	if mid, d, ok := c.sl.next(c.t, c.v, len(c.t)-1); ok {
-		c.rate.add(mid, d)
-	}
-	c.elapsed = ts
-}
-
-// analyse reruns the analysis on the curve: live while it may still grow,
-// the offline answer once it has ended.
-func (c *cup) analyse(an Analyzer, live bool) {
-	if len(c.t) == 0 {
-		return
-	}
-	fam := familyOf(c.meta.Alloy)
-	if an != nil {
-		c.res = an(c.t, c.v, fam, live)
-		return
-	}
-	c.res = c.ws.Analyze(c.t, c.v, arrest.Options{Family: fam, Live: live})
-}
-
-// finish gives the sample its record.
-func (c *cup) finish(an Analyzer, judge Judge, path string) assess.Record {
-	c.analyse(an, false)
-	in := assess.Input{File: path, Alloy: c.meta.Alloy, Family: familyOf(c.meta.Alloy), Time: c.t, Temp: c.v}
-	rec := judge(in, c.res)
-	c.rec, c.path, c.state = &rec, path, StateDone
-	return rec
-}
+// form is what the sample form opens with: the next sample's values over
+// the last sample's (so that a cup number is quickly changed).
+func (c *cup) form() sample.Meta { return c.snap.Meta.Merge(c.snap.Next) }
 
 // stateWord is the sample state in the dashboard's own words.
 func (c *cup) stateWord() string {
-	switch c.state {
-	case StateRecording:
-		if c.res.EutecticMin.OK || c.res.Liquidus.OK {
+	switch c.state() {
+	case sample.Recording:
+		if r := c.res(); r.EutecticMin.OK || r.Liquidus.OK {
 			return "FREEZING"
 		}
 		return "RECORDING"
-	case StateFrozen:
+	case sample.Frozen:
 		return "FROZEN · FINISHING"
-	case StateDone:
+	case sample.Done:
 		return "DONE"
 	default:
 		return "WAITING FOR POUR"
@@ -192,16 +64,17 @@ func (c *cup) stateWord() string {
 
 // reading is the big current reading and a word on faults.
 func (c *cup) reading() (big, note string) {
-	if !c.hasLast {
+	r, ok := c.last()
+	if !ok {
 		return "----", "no reading yet"
 	}
 	switch {
-	case c.last.Flags&acquire.FlagOpen != 0:
+	case r.Flags&feed.FlagOpen != 0:
 		return "----", "THERMOCOUPLE OPEN"
-	case c.last.Flags&acquire.FlagFault != 0:
+	case r.Flags&feed.FlagFault != 0:
 		return "----", "DEVICE FAULT"
 	}
-	return fmt.Sprintf("%6.1f", c.last.TempC), ""
+	return fmt.Sprintf("%6.1f", r.TempC), ""
 }
 
 // pointRow is one characteristic point for the list beside the curve.
@@ -211,8 +84,9 @@ type pointRow struct {
 	p     arrest.Point
 }
 
-func (c *cup) points() []pointRow {
-	r := c.res
+func (c *cup) points() []pointRow { return pointsOf(c.snap.Result) }
+
+func pointsOf(r arrest.Result) []pointRow {
 	return []pointRow{
 		{'P', "pour peak", r.PourPeak},
 		{'A', "liquidus", r.Liquidus},
@@ -235,7 +109,7 @@ func (c *cup) marks() []mark {
 // view draws the cup in w×h cells.
 func (c *cup) view(st *Styles, w, h int) string {
 	if w < 20 || h < 8 {
-		return lipgloss.NewStyle().Width(max(w, 1)).Height(max(h, 1)).Render(c.id)
+		return lipgloss.NewStyle().Width(max(w, 1)).Height(max(h, 1)).Render(c.id())
 	}
 	if w >= 72 && h >= 16 {
 		return c.viewWide(st, w, h)
@@ -246,16 +120,17 @@ func (c *cup) view(st *Styles, w, h int) string {
 // header is the cup's name and sample, and its alloy and operator: one
 // line when wide enough, else two.
 func (c *cup) header(st *Styles, w int) string {
-	first := st.Title.Render("CUP " + c.id)
-	if c.meta.Sample != "" {
-		first += "  " + st.Value.Render(c.meta.Sample)
+	m := c.meta()
+	first := st.Title.Render("CUP " + c.id())
+	if s := sampleName(m); s != "" {
+		first += "  " + st.Value.Render(s)
 	}
 	var parts []string
-	if c.meta.Alloy != "" {
-		parts = append(parts, st.Value.Render(c.meta.Alloy))
+	if a := m.Get("alloy"); a != "" {
+		parts = append(parts, st.Value.Render(a))
 	}
-	if c.meta.Operator != "" {
-		parts = append(parts, st.Muted.Render(c.meta.Operator))
+	if o := m.Get("operator"); o != "" {
+		parts = append(parts, st.Muted.Render(o))
 	}
 	second := strings.Join(parts, st.Muted.Render(" · "))
 	if second == "" {
@@ -272,8 +147,8 @@ func (c *cup) bigBlock(st *Styles) string {
 	digits := st.Big.Render(bigText(strings.TrimSpace(big)))
 	unit := st.Value.Render("°C")
 	stateLine := st.State.Render(c.stateWord())
-	if c.state == StateRecording || c.state == StateFrozen || c.state == StateDone {
-		stateLine += st.Muted.Render(fmt.Sprintf("  %3.0f s", c.elapsed))
+	if c.state() != sample.Waiting {
+		stateLine += st.Muted.Render(fmt.Sprintf("  %3.0f s", c.elapsed()))
 	}
 	if note != "" {
 		stateLine = st.Error.Render(note) + "  " + stateLine
@@ -294,8 +169,8 @@ func (c *cup) pointList(st *Styles) []string {
 		lines = append(lines, st.Mark.Render(string(p.sym))+" "+st.Label.Render(fmt.Sprintf("%-16s", p.label))+st.Value.Render(fmtPoint(p.p)))
 	}
 	rc := "   —"
-	if c.res.RecalescenceOK {
-		rc = fmt.Sprintf("%6.1f °C", c.res.Recalescence)
+	if r := c.res(); r.RecalescenceOK {
+		rc = fmt.Sprintf("%6.1f °C", r.Recalescence)
 	}
 	lines = append(lines, "  "+st.Label.Render(fmt.Sprintf("%-16s", "recalescence"))+st.Value.Render(rc))
 	return lines
@@ -312,8 +187,8 @@ func (c *cup) compactPoints(st *Styles, w int) []string {
 		parts = append(parts, st.Mark.Render(string(p.sym))+" "+st.Value.Render(v))
 	}
 	rc := "—"
-	if c.res.RecalescenceOK {
-		rc = fmt.Sprintf("%.1f", c.res.Recalescence)
+	if r := c.res(); r.RecalescenceOK {
+		rc = fmt.Sprintf("%.1f", r.Recalescence)
 	}
 	parts = append(parts, st.Label.Render("recal ")+st.Value.Render(rc))
 	return wrapParts(parts, "  ", w)
@@ -343,23 +218,24 @@ func wrapParts(parts []string, sep string, w int) []string {
 // verdictLines is the verdict with its reasons and advice, or what the
 // cup is waiting for.
 func (c *cup) verdictLines(st *Styles, w int, boxed bool) []string {
-	if c.rec == nil {
-		if c.state == StateWaiting {
+	rec := c.rec()
+	if rec == nil {
+		if c.state() == sample.Waiting {
 			return []string{st.Muted.Render("Press s to fill in the sample form.")}
 		}
 		return []string{st.Muted.Render("Verdict when freezing is done.")}
 	}
-	v := c.rec.Verdict
+	v := rec.Verdict
 	lines := []string{st.verdictStyle(v).Render("VERDICT  " + verdictWord(v))}
 	if boxed {
 		// A solid bar of the verdict's colour inside its own border shape:
 		// readable across the deck; the word and the border stay without colour.
 		lines = strings.Split(st.verdictBox(v).Render(st.verdictStyle(v).Reverse(true).Padding(0, 1).Render(verdictWord(v))), "\n")
 	}
-	for _, r := range recordReasons(c.rec) {
+	for _, r := range recordReasons(rec) {
 		lines = append(lines, wrapText(st.Value, "• "+r, w)...)
 	}
-	for _, a := range recordAdvice(c.rec) {
+	for _, a := range recordAdvice(rec) {
 		lines = append(lines, wrapText(st.Value, "→ "+a, w)...)
 	}
 	return lines
@@ -394,31 +270,68 @@ func wrapText(s lipgloss.Style, text string, w int) []string {
 	return lines
 }
 
+// peakS is the time of the highest reading of the curve (the end of the
+// pour transient).
+func peakS(t, v []float64) float64 {
+	at, hi := 0.0, math.Inf(-1)
+	for i, x := range v {
+		if x > hi {
+			at, hi = t[i], x
+		}
+	}
+	return at
+}
+
 func (c *cup) tempPlot(st *Styles, w, h int) plot {
-	x1 := math.Max(60, c.elapsed*1.05)
+	s := &c.snap
+	x1 := math.Max(60, s.ElapsedS*1.05)
+	tr := traceOf(s.T, s.V)
 	// The scale follows the metal from the pour peak on; the rise from room
 	// temperature runs off the bottom rather than squash the arrests.
-	lo, hi, ok := c.temp.bounds(c.peakT)
+	lo, hi, ok := tr.bounds(peakS(s.T, s.V))
 	if !ok {
 		lo, hi = 0, 1400
-		if c.hasLast && usable(c.last) {
-			lo, hi = c.last.TempC-50, c.last.TempC+50
+		if r, has := c.last(); has && r.Valid() {
+			lo, hi = r.TempC-50, r.TempC+50
 		}
 	}
 	lo, hi = padRange(lo, hi, 0.05, 20)
 	return plot{w: w, h: h, x0: 0, x1: x1, y0: math.Floor(lo/10) * 10, y1: math.Ceil(hi/10) * 10,
-		yFmt: "%6.0f", xFmt: "%.0fs", line: st.Curve, tr: &c.temp, marks: c.marks(), niceX: true, lc: c.tempLC}.roundX()
+		yFmt: "%6.0f", xFmt: "%.0fs", line: st.Curve, tr: &tr, marks: c.marks(), niceX: true}.roundX()
 }
 
+// ratePlot draws the T′ the analysis found the points on (despiked), with
+// each point marked where it sits on T′: the crossings of zero.
 func (c *cup) ratePlot(st *Styles, w, h int, x1 float64) plot {
-	lo, hi, ok := c.rate.bounds(c.peakT + 3)
+	s := &c.snap
+	tr := traceOf(s.SlopeT, s.SlopeD)
+	lo, hi, ok := tr.bounds(peakS(s.T, s.V) + 3)
 	if !ok {
 		lo, hi = -5, 1
 	}
 	lo, hi = math.Min(lo, 0), math.Max(hi, 0)
 	lo, hi = padRange(lo, hi, 0.1, 1)
-	return plot{w: w, h: h, x0: 0, x1: x1, y0: lo, y1: hi, yFmt: "%+6.1f", xFmt: "%.0fs", line: st.Rate, tr: &c.rate,
-		levels: []level{{y: 0, r: '·', style: st.Axis}}, niceX: true, lc: c.rateLC}
+	var ms []mark
+	for _, p := range c.points() {
+		if v, ok := valueAt(s.SlopeT, s.SlopeD, p.p.TimeS); p.p.OK && ok {
+			ms = append(ms, mark{x: p.p.TimeS, y: v, r: p.sym})
+		}
+	}
+	return plot{w: w, h: h, x0: 0, x1: x1, y0: lo, y1: hi, yFmt: "%+6.1f", xFmt: "%.0fs", line: st.Rate, tr: &tr,
+		levels: []level{{y: 0, r: '·', style: st.Axis}}, marks: ms, niceX: true}
+}
+
+// valueAt interpolates (t, d) at time x; false outside it or on NaN.
+func valueAt(t, d []float64, x float64) (float64, bool) {
+	i := sort.SearchFloat64s(t, x)
+	if i == 0 || i >= len(t) {
+		return 0, false
+	}
+	a, b := d[i-1], d[i]
+	if math.IsNaN(a) || math.IsNaN(b) || t[i] == t[i-1] {
+		return 0, false
+	}
+	return a + (b-a)*(x-t[i-1])/(t[i]-t[i-1]), true
 }
 
 // chartEveryS is how far, in the sample's own seconds, the curve must have
@@ -430,34 +343,50 @@ const chartEveryS = 0.5
 // chartCache is the charts' text as last drawn, with what it was drawn for.
 type chartCache struct {
 	key  chartKey
-	atS  float64 // c.elapsed when drawn
+	atS  float64 // the sample time drawn
 	text string
 }
 
 // chartKey is what redraws the charts at once when it changes.
 type chartKey struct {
-	w, h  int
-	st    *Styles
-	state State
-	t0    float64 // a new sample
-	marks int     // a point settled
-	n     int     // readings, while there are too few for a trend to show
-	lastC int     // the reading in 10 °C steps, while no curve is drawn (it sets the scale)
+	w, h   int
+	st     *Styles
+	state  sample.State
+	sample int // a new sample
+	marks  int // a point settled
+	n      int // readings, while there are too few for a trend to show
+	lastC  int // the reading in 10 °C steps, while no curve is drawn (it sets the scale)
 }
 
-// charts draws the curve and its rate, reusing the last drawing while the
-// sample has grown by less than chartEveryS and nothing else changed.
+func (c *cup) chartKey(st *Styles, w, h int) chartKey {
+	k := chartKey{w: w, h: h, st: st, state: c.state(), sample: c.snap.Sample, marks: len(c.marks()), n: min(len(c.snap.T), 50)}
+	if r, ok := c.last(); len(c.snap.T) == 0 && ok {
+		k.lastC = int(math.Floor(r.TempC / 10))
+	}
+	return k
+}
+
+// charts draws the curve and its rate: the drawing of the last Update
+// while the sample has grown by less than chartEveryS and nothing else
+// changed, else afresh (nothing is kept: View writes nothing).
 func (c *cup) charts(st *Styles, w, h int) string {
-	key := chartKey{w: w, h: h, st: st, state: c.state, t0: c.t0, marks: len(c.marks()), n: min(len(c.t), 50)}
-	if len(c.t) == 0 && c.hasLast {
-		key.lastC = int(math.Floor(c.last.TempC / 10))
+	if c.fresh(st, w, h) {
+		return c.drawn.text
 	}
-	if d := c.drawn; d.text != "" && d.key == key && c.elapsed >= d.atS && c.elapsed-d.atS < chartEveryS {
-		return d.text
+	return c.drawCharts(st, w, h)
+}
+
+// fresh reports whether the charts as last drawn serve for size w×h.
+func (c *cup) fresh(st *Styles, w, h int) bool {
+	d := c.drawn
+	return d.text != "" && d.key == c.chartKey(st, w, h) && c.elapsed() >= d.atS && c.elapsed()-d.atS < chartEveryS
+}
+
+// redraw keeps the charts for size w×h drawn for View, when they are due.
+func (c *cup) redraw(st *Styles, w, h int) {
+	if !c.fresh(st, w, h) {
+		c.drawn = chartCache{key: c.chartKey(st, w, h), atS: c.elapsed(), text: c.drawCharts(st, w, h)}
 	}
-	text := c.drawCharts(st, w, h)
-	c.drawn = chartCache{key: key, atS: c.elapsed, text: text}
-	return text
 }
 
 func (c *cup) drawCharts(st *Styles, w, h int) string {
@@ -476,31 +405,54 @@ func (c *cup) drawCharts(st *Styles, w, h int) string {
 	}, "\n")
 }
 
-// viewWide: facts on the left, charts on the right.
-func (c *cup) viewWide(st *Styles, w, h int) string {
-	lw := 35
-	left := []string{c.header(st, lw), c.bigBlock(st), ""}
-	left = append(left, c.pointList(st)...)
-	left = append(left, c.verdictLines(st, lw, true)...)
-	leftS := box(strings.Join(left, "\n"), lw, h)
-	return lipgloss.JoinHorizontal(lipgloss.Top, leftS, " ", c.charts(st, w-lw-1, h))
+// layout is where the cup's charts go in w×h cells (the same sums as view),
+// and whether it has any.
+func (c *cup) layout(st *Styles, w, h int) (cw, ch int, ok bool) {
+	switch {
+	case w < 20 || h < 8:
+		return 0, 0, false
+	case w >= 72 && h >= 16:
+		return w - wideLeft - 1, h, true
+	}
+	used := lipgloss.Height(strings.Join(c.tallTop(st, w), "\n")) + len(c.tallBottom(st, w))
+	if h-used >= 5 {
+		return w, h - used, true
+	}
+	return 0, 0, false
 }
 
-// viewTall: everything stacked, for narrow cups side by side.
-func (c *cup) viewTall(st *Styles, w, h int) string {
-	top := []string{c.header(st, w), c.bigBlock(st)}
+// wideLeft is the width of the facts column of a wide cup.
+const wideLeft = 35
+
+// viewWide: facts on the left, charts on the right.
+func (c *cup) viewWide(st *Styles, w, h int) string {
+	left := []string{c.header(st, wideLeft), c.bigBlock(st), ""}
+	left = append(left, c.pointList(st)...)
+	left = append(left, c.verdictLines(st, wideLeft, true)...)
+	leftS := box(strings.Join(left, "\n"), wideLeft, h)
+	return lipgloss.JoinHorizontal(lipgloss.Top, leftS, " ", c.charts(st, w-wideLeft-1, h))
+}
+
+func (c *cup) tallTop(st *Styles, w int) []string { return []string{c.header(st, w), c.bigBlock(st)} }
+
+func (c *cup) tallBottom(st *Styles, w int) []string {
 	bottom := c.compactPoints(st, w)
 	bottom = append(bottom, c.verdictLines(st, w, false)...)
 	if len(bottom) > 4 {
 		bottom = bottom[:4]
 	}
-	used := lipgloss.Height(strings.Join(top, "\n")) + len(bottom)
-	ch := h - used
+	return bottom
+}
+
+// viewTall: everything stacked, for narrow cups side by side.
+func (c *cup) viewTall(st *Styles, w, h int) string {
+	top, bottom := c.tallTop(st, w), c.tallBottom(st, w)
 	mid := ""
-	if ch >= 5 {
-		mid = c.charts(st, w, ch)
+	if cw, ch, ok := c.layout(st, w, h); ok {
+		mid = c.charts(st, cw, ch)
 	} else {
-		mid = strings.Repeat("\n", max(ch-1, 0))
+		used := lipgloss.Height(strings.Join(top, "\n")) + len(bottom)
+		mid = strings.Repeat("\n", max(h-used-1, 0))
 	}
 	return box(strings.Join(append(append(top, mid), bottom...), "\n"), w, h)
 }

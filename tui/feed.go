@@ -3,72 +3,77 @@
 // the verdict against the alloy's limits, the shift's history and the
 // limits themselves.
 //
-// The dashboard does no device I/O of its own. Readings arrive from a
-// Source (the acquirer, or a curve-file replay) in batches over a channel;
-// a tea.Cmd waits on that channel and is re-armed after each message, so the
-// screen is redrawn once per batch and acquisition never waits on it.
+// The dashboard does no device I/O and keeps no sample state of its own:
+// the sample tracker's updates (internal/sample, run by a session) arrive
+// over a channel; a tea.Cmd waits on that channel and is re-armed after
+// each message, so the screen is redrawn once per update and acquisition
+// never waits on it. The model is a value: its panes hold the tracker's
+// snapshots (never changed once made), View writes nothing, and every side
+// effect (the log, the operator's requests, saving limits) is a command.
 package tui
 
 import (
 	"time"
 
-	"github.com/undercool-foundry/undercool/internal/curvefile"
-
 	tea "github.com/charmbracelet/bubbletea"
+
+	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
-// Source is what the dashboard needs of an acquirer. *acquire.Acquirer
-// satisfies it; so does the curve-file Replay.
-type Source interface {
-	// Batches delivers readings, events and status; it is closed when
-	// acquisition ends.
-	Batches() <-chan Batch
-	// SetMeta hands the sample form to the acquirer for the next raw log of
-	// the channel.
-	SetMeta(channel string, meta []curvefile.Meta)
+// Feed is what the dashboard needs of a live session (internal/session):
+// the sample tracker's updates, and the operator's requests.
+type Feed interface {
+	// Updates delivers the tracker's updates; it is closed when the
+	// session ends.
+	Updates() <-chan sample.Update
+	// SetForm hands the sample form to the tracker: it names the channel's
+	// next sample.
+	SetForm(channel string, m sample.Meta)
+	// SetLimits hands a saved limits book to the tracker.
+	SetLimits(b *limits.Book)
 	// Start and Stop begin and end a sample by hand.
 	Start(channel string)
 	Stop(channel string)
 }
 
-// speeder is implemented by sources whose pace can be changed (Replay).
-type speeder interface {
+// Pacer is implemented by sources whose pace can be changed (a replay).
+type Pacer interface {
 	SetSpeed(x float64)
 	Speed() float64
 	SkipToEnd()
 }
 
-// batchMsg carries one batch from the source to the model.
-type batchMsg struct{ b Batch }
+// updateMsg carries one (merged) update of the tracker to the model.
+type updateMsg struct{ u sample.Update }
 
-// feedClosedMsg says the source's channel was closed.
+// feedClosedMsg says the session's channel was closed.
 type feedClosedMsg struct{}
 
-// frameEvery is the shortest time between two deliveries of readings to
+// frameEvery is the shortest time between two deliveries of updates to
 // the model, so the screen is redrawn at most 30 times a second however
-// fast the acquirer hands readings over (it delivers within a few
-// milliseconds of a line's arrival).
+// fast the tracker hands them over.
 const frameEvery = 33 * time.Millisecond
 
-// pacer remembers when readings were last handed to the model, so that
-// deliveries are at least frameEvery apart. One waitBatch runs at a time,
+// pacer remembers when updates were last handed to the model, so that
+// deliveries are at least frameEvery apart. One waitUpdate runs at a time,
 // and the model handles its message before the next starts, so the field
 // needs no lock.
 type pacer struct{ last time.Time }
 
-// waitBatch returns the command that waits for the next batch. The model
-// re-arms it after every batchMsg. A batch that comes frameEvery or more
+// waitUpdate returns the command that waits for the next update. The model
+// re-arms it after every updateMsg. An update that comes frameEvery or more
 // after the last delivery is handed over at once (with whatever else is
 // already waiting); one that comes sooner waits out the rest of the frame,
-// and what arrives meanwhile is merged into it (readings and events in
-// order, the latest status). Nothing is dropped, and the view redraws at
-// most 30 times a second.
-func waitBatch(ch <-chan Batch, p *pacer) tea.Cmd {
+// and what arrives meanwhile is merged into it (events and finished samples
+// in order, the latest status and channels). Nothing is dropped, and the
+// view redraws at most 30 times a second.
+func waitUpdate(ch <-chan sample.Update, p *pacer) tea.Cmd {
 	if ch == nil {
 		return nil
 	}
 	return func() tea.Msg {
-		b, ok := <-ch
+		u, ok := <-ch
 		if !ok {
 			return feedClosedMsg{}
 		}
@@ -82,7 +87,7 @@ func waitBatch(ch <-chan Batch, p *pacer) tea.Cmd {
 					if !ok {
 						break collect // deliver what came; the next wait reports the close
 					}
-					b = mergeBatch(b, more)
+					u = sample.Merge(u, more)
 				case <-deadline.C:
 					break collect
 				}
@@ -95,21 +100,12 @@ func waitBatch(ch <-chan Batch, p *pacer) tea.Cmd {
 					drained = true
 					break
 				}
-				b = mergeBatch(b, more)
+				u = sample.Merge(u, more)
 			default:
 				drained = true
 			}
 		}
 		p.last = time.Now()
-		return batchMsg{b}
+		return updateMsg{u}
 	}
-}
-
-// mergeBatch appends next to b: readings and events in order, the newer
-// status.
-func mergeBatch(b, next Batch) Batch {
-	b.Readings = append(b.Readings, next.Readings...)
-	b.Events = append(b.Events, next.Events...)
-	b.Status = next.Status
-	return b
 }

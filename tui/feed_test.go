@@ -4,49 +4,52 @@ import (
 	"testing"
 	"time"
 
-	"github.com/undercool-foundry/undercool/acquire"
+	"github.com/undercool-foundry/undercool/internal/feed"
+	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
-// Batches that arrive together are merged into one message: every reading
-// and event kept in order, the newest status, so the screen redraws once.
-func TestWaitBatchMergesWithoutLoss(t *testing.T) {
-	ch := make(chan Batch, 64)
+// Updates that arrive together are merged into one message: every event
+// kept in order, the newest status and channels, so the screen redraws
+// once.
+func TestWaitUpdateMergesWithoutLoss(t *testing.T) {
+	ch := make(chan sample.Update, 64)
 	for i := range 50 {
-		ch <- Batch{
-			Readings: []acquire.Reading{{TimeS: float64(i) / 200, TempC: 1300 - float64(i), Channel: "1"}},
-			Status:   acquire.Status{Readings: i + 1},
+		ch <- sample.Update{
+			Events:   []sample.Event{{Kind: sample.EventWarning, TimeS: float64(i)}},
+			Status:   feed.Status{Readings: i + 1},
+			Channels: []sample.Snapshot{{Channel: "1", ElapsedS: float64(i)}},
 		}
 	}
 	close(ch)
-	msg := waitBatch(ch, &pacer{})()
-	bm, ok := msg.(batchMsg)
+	msg := waitUpdate(ch, &pacer{})()
+	um, ok := msg.(updateMsg)
 	if !ok {
-		t.Fatalf("first message %T, want batchMsg", msg)
+		t.Fatalf("first message %T, want updateMsg", msg)
 	}
-	if len(bm.b.Readings) != 50 {
-		t.Fatalf("merged %d readings, want all 50", len(bm.b.Readings))
+	if len(um.u.Events) != 50 {
+		t.Fatalf("merged %d events, want all 50", len(um.u.Events))
 	}
-	for i, r := range bm.b.Readings {
-		if r.TempC != 1300-float64(i) {
-			t.Fatalf("reading %d is %.1f °C, want %.1f: order lost", i, r.TempC, 1300-float64(i))
+	for i, e := range um.u.Events {
+		if e.TimeS != float64(i) {
+			t.Fatalf("event %d at %.1f s: order lost", i, e.TimeS)
 		}
 	}
-	if bm.b.Status.Readings != 50 {
-		t.Errorf("status from batch %d, want the newest (50)", bm.b.Status.Readings)
+	if um.u.Status.Readings != 50 || um.u.Channels[0].ElapsedS != 49 {
+		t.Errorf("status from update %d, channels %v, want the newest", um.u.Status.Readings, um.u.Channels)
 	}
-	if _, ok := waitBatch(ch, &pacer{})().(feedClosedMsg); !ok {
-		t.Error("after the merged batch the closed feed must be reported")
+	if _, ok := waitUpdate(ch, &pacer{})().(feedClosedMsg); !ok {
+		t.Error("after the merged update the closed feed must be reported")
 	}
 }
 
 // Right after a delivery, the next one waits out the frame and merges
 // what arrives meanwhile: at most 30 deliveries a second however fast the
-// batches come.
-func TestWaitBatchSpacesDeliveries(t *testing.T) {
-	ch := make(chan Batch)
+// updates come.
+func TestWaitUpdateSpacesDeliveries(t *testing.T) {
+	ch := make(chan sample.Update)
 	go func() {
-		for i := range 40 { // 40 batches 2 ms apart: 80 ms in all
-			ch <- Batch{Readings: []acquire.Reading{{TimeS: float64(i), Channel: "1"}}}
+		for i := range 40 { // 40 updates 2 ms apart: 80 ms in all
+			ch <- sample.Update{Events: []sample.Event{{TimeS: float64(i)}}}
 			time.Sleep(2 * time.Millisecond)
 		}
 		close(ch)
@@ -55,17 +58,17 @@ func TestWaitBatchSpacesDeliveries(t *testing.T) {
 	var got, deliveries int
 	var times []time.Time
 	for {
-		msg := waitBatch(ch, p)()
-		bm, ok := msg.(batchMsg)
+		msg := waitUpdate(ch, p)()
+		um, ok := msg.(updateMsg)
 		if !ok {
 			break
 		}
-		got += len(bm.b.Readings)
+		got += len(um.u.Events)
 		deliveries++
 		times = append(times, p.last)
 	}
 	if got != 40 {
-		t.Fatalf("%d readings delivered, want all 40", got)
+		t.Fatalf("%d events delivered, want all 40", got)
 	}
 	// (the last one comes when the feed closes, without waiting)
 	for i := 1; i < len(times)-1; i++ {
@@ -73,5 +76,5 @@ func TestWaitBatchSpacesDeliveries(t *testing.T) {
 			t.Errorf("deliveries %d and %d only %v apart, want about %v", i-1, i, d, frameEvery)
 		}
 	}
-	t.Logf("40 batches in %d deliveries", deliveries)
+	t.Logf("40 updates in %d deliveries", deliveries)
 }

@@ -6,6 +6,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"sync"
 	"testing"
@@ -19,6 +20,8 @@ import (
 	"github.com/undercool-foundry/undercool/acquire"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/sample"
+	"github.com/undercool-foundry/undercool/internal/session"
 	"github.com/undercool-foundry/undercool/internal/sim"
 )
 
@@ -39,11 +42,14 @@ func TestFlowPourToVerdictOnSimulatedDeck(t *testing.T) {
 		return rc, nil
 	}
 	acq := acquire.New(open, acquire.Config{Port: "simulated deck", Dir: dir})
+	mem := &Memory{Clock: fixedClock}
+	sess := session.New(acq, sample.New(sample.Config{}), session.Options{Finished: mem.Add})
 	ctx, cancel := context.WithCancel(context.Background())
 	defer cancel()
 	var wg sync.WaitGroup
-	wg.Add(2)
+	wg.Add(3)
 	go func() { defer wg.Done(); acq.Run(ctx) }()
+	go func() { defer wg.Done(); sess.Run() }()
 	go func() {
 		defer wg.Done()
 		sim.NewDeck(sim.DeckOptions{Seed: 1, Speed: 50}).Run(ctx, pw)
@@ -52,8 +58,7 @@ func TestFlowPourToVerdictOnSimulatedDeck(t *testing.T) {
 	defer wg.Wait()
 	defer cancel()
 
-	mem := &Memory{}
-	m := New(Options{Source: acq, Title: "flow", Styles: asciiStyles(), Records: mem, Clock: fixedClock})
+	m := New(Options{Feed: sess, Title: "flow", Styles: asciiStyles(), Records: mem, Clock: fixedClock})
 	tm := teatest.NewTestModel(t, m, teatest.WithInitialTermSize(100, 30))
 	out := tm.Output()
 	var seen bytes.Buffer
@@ -83,7 +88,7 @@ func TestFlowPourToVerdictOnSimulatedDeck(t *testing.T) {
 		t.Fatalf("no sample kept in the history")
 	}
 	e := es[len(es)-1]
-	if e.Meta.Sample == "" || e.Meta.Alloy == "" {
+	if e.Meta.Get("sample") == "" || e.Meta.Get("alloy") == "" {
 		t.Errorf("the device's sample form was not taken: %+v", e.Meta)
 	}
 	if e.Path == "" || !strings.HasSuffix(e.Path, ".csv") {
@@ -94,8 +99,8 @@ func TestFlowPourToVerdictOnSimulatedDeck(t *testing.T) {
 	if e.Record.Verdict == "" || len(e.Time) < 100 {
 		t.Errorf("record %q with %d readings", e.Record.Verdict, len(e.Time))
 	}
-	if fm.live.cup("1").state != StateDone && !fm.live.recording() {
-		t.Errorf("cup state %v after the verdict", fm.live.cup("1").state)
+	if c := fm.live.activeCup(); c.state() != sample.Done && !fm.live.recording() {
+		t.Errorf("cup state %v after the verdict", c.state())
 	}
 }
 
@@ -186,8 +191,10 @@ func TestLimitsEditRefusesBadBand(t *testing.T) {
 func TestNoColor(t *testing.T) {
 	render := func(env []string) string {
 		r := lipgloss.NewRenderer(io.Discard, termenv.WithEnvironment(fakeEnv(env)), termenv.WithTTY(true), termenv.WithProfile(-1))
-		m := New(Options{Title: "t", Styles: NewStyles(r), Analyzer: constructedAnalyzer, Judge: constructedJudge, Clock: fixedClock}).resize(100, 30)
-		return feed(m, constructedBatches("1", 230, 10, 5)).View()
+		mem := &Memory{Clock: fixedClock}
+		f := newTestFeed(sample.Config{NewAnalyzer: newConstructedAnalyzer, Judge: constructedJudge}, mem)
+		m := New(Options{Feed: f, Title: "t", Styles: NewStyles(r), Records: mem, Clock: fixedClock}).resize(100, 30)
+		return play(m, constructedBatches("1", 230, 10, 5)).View()
 	}
 	plain := render([]string{"NO_COLOR=1", "TERM=xterm-256color", "COLORTERM=truecolor"})
 	if strings.Contains(plain, "\x1b[") {
@@ -215,3 +222,103 @@ func firstEscape(s string) string {
 	i := strings.Index(s, "\x1b[")
 	return s[max(0, i-10):min(len(s), i+20)]
 }
+
+// The limits editor works on a copy of the book, checked and swapped in
+// when its save is written: pressing w again while a slow save runs, and
+// editing during it, neither touch the book being saved nor the one in
+// use (go test -race watches the saver read its book while the keys
+// arrive). Both edits end up in the file, and the saved book is the one
+// the session judges by. (Before, the editor wrote into the shared book
+// while the save read it on another goroutine: a data race.)
+func TestLimitsSavedTwiceWithoutRace(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "limits.toml")
+	if err := os.WriteFile(path, limits.Example(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	book, err := limits.Load(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var mu sync.Mutex
+	saves := 0
+	gate := make(chan struct{}) // the first save waits for the test's edits
+	save := func(_ context.Context, b *limits.Book) (string, error) {
+		for range 200 { // a slow save: the book read over and over
+			_ = b.Validate()
+		}
+		<-gate
+		mu.Lock()
+		saves++
+		mu.Unlock()
+		return path, limits.Save(path, b)
+	}
+	mem := &Memory{Clock: fixedClock}
+	f := &raceFeed{}
+	m := New(Options{Feed: f, Styles: asciiStyles(), Limits: book, SaveLimits: save, Records: mem, Clock: fixedClock})
+	tm := teatest.NewTestModel(t, m, teatest.WithInitialTermSize(100, 30))
+	key := func(s string) { tm.Send(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune(s)}) }
+	key("3")
+	rows := m.lim.rows()
+	edit := func(v string) {
+		tm.Send(tea.KeyMsg{Type: tea.KeyEnter})
+		tm.Send(tea.KeyMsg{Type: tea.KeyCtrlU})
+		key(v)
+		tm.Send(tea.KeyMsg{Type: tea.KeyEnter})
+	}
+	edit("0.05")
+	key("w")
+	key("w")     // pressed twice: refused while the save runs
+	key("j")     // the next row
+	edit("0.07") // edited during the save
+	teatest.WaitFor(t, tm.Output(), func(b []byte) bool { return strings.Contains(stripANSI(string(b)), "0.07 *") },
+		teatest.WithDuration(20*time.Second))
+	close(gate)
+	teatest.WaitFor(t, tm.Output(), func(b []byte) bool { return strings.Contains(stripANSI(string(b)), "saved to") },
+		teatest.WithDuration(20*time.Second))
+	key("w") // the second edit, saved now: its row loses the '*' of an unsaved edit
+	saved := regexp.MustCompile(rows[1].metric + ` +` + boundNames[rows[1].b] + ` +0\.07  \S`)
+	teatest.WaitFor(t, tm.Output(), func(b []byte) bool { return saved.MatchString(stripANSI(string(b))) },
+		teatest.WithDuration(20*time.Second))
+	key("q")
+	fm := tm.FinalModel(t, teatest.WithFinalTimeout(10*time.Second)).(Model)
+	again, err := limits.Load(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	al, _ := again.Alloy(m.lim.alloyName())
+	for i, want := range []float64{0.05, 0.07} {
+		r := rows[i]
+		if got := *r.b.of(al.Metrics[r.metric]); got == nil || *got != want {
+			t.Errorf("%s %s = %v in the file, want %v", r.metric, boundNames[r.b], got, want)
+		}
+	}
+	if saves != 2 || len(fm.lim.pending) != 0 || fm.opt.Limits == book {
+		t.Errorf("%d saves, %d edits pending, the book in use swapped: %v", saves, len(fm.lim.pending), fm.opt.Limits != book)
+	}
+	f.mu.Lock()
+	defer f.mu.Unlock()
+	if len(f.limits) != 2 || f.limits[1] != fm.opt.Limits {
+		t.Errorf("the session was given %d books, not the one in use", len(f.limits))
+	}
+	// the book first loaded was never written to
+	if b0 := book.Alloys[m.lim.alloyName()].Metrics[rows[0].metric]; *rows[0].b.of(b0) != nil && **rows[0].b.of(b0) == 0.05 {
+		t.Error("the edit went into the book in use")
+	}
+}
+
+// raceFeed is a session without a source, for the limits test: it keeps
+// the books it is given.
+type raceFeed struct {
+	mu     sync.Mutex
+	limits []*limits.Book
+}
+
+func (f *raceFeed) Updates() <-chan sample.Update { return nil }
+func (f *raceFeed) SetForm(string, sample.Meta)   {}
+func (f *raceFeed) SetLimits(b *limits.Book) {
+	f.mu.Lock()
+	f.limits = append(f.limits, b)
+	f.mu.Unlock()
+}
+func (f *raceFeed) Start(string) {}
+func (f *raceFeed) Stop(string)  {}

@@ -8,17 +8,19 @@ import (
 	"github.com/charmbracelet/bubbles/textinput"
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/lipgloss"
+	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
 // formDoneMsg carries the filled-in sample form.
 type formDoneMsg struct {
 	channel string
-	meta    SampleMeta
+	meta    sample.Meta
 }
 
 // formClosedMsg says the form was left without changes.
 type formClosedMsg struct{}
 
+// formLabels name the form's fields, the sample keys sample.FormKeys.
 var formLabels = [4]string{"sample / ladle", "alloy", "operator", "note"}
 
 // formPane is the sample form: sample or ladle id, alloy, operator, note.
@@ -28,13 +30,13 @@ type formPane struct {
 	inputs  [4]textinput.Model
 	focus   int
 	channel string
-	forNext bool // a sample is recording: the form is for the next one
+	forNext bool // a sample is recording or shown finished: the form is for the next one
 	alloys  []string
 	err     string
 }
 
 func newFormPane(st *Styles, keys *KeyMap, alloys []string) formPane {
-	f := formPane{st: st, keys: keys, alloys: alloys}
+	f := formPane{st: st, keys: keys}
 	for i := range f.inputs {
 		in := textinput.New()
 		in.Prompt = ""
@@ -42,14 +44,24 @@ func newFormPane(st *Styles, keys *KeyMap, alloys []string) formPane {
 		in.Width = 30
 		f.inputs[i] = in
 	}
+	return f.setAlloys(alloys)
+}
+
+// setAlloys takes the alloys of the limits book in use.
+func (f formPane) setAlloys(alloys []string) formPane {
+	f.alloys = alloys
 	f.inputs[1].Placeholder = strings.Join(alloys, ", ")
 	return f
 }
 
 // open shows the form for a channel, prefilled.
-func (f formPane) open(channel string, m SampleMeta, forNext bool) (formPane, tea.Cmd) {
+func (f formPane) open(channel string, m sample.Meta, forNext bool) (formPane, tea.Cmd) {
 	f.channel, f.err, f.focus, f.forNext = channel, "", 0, forNext
-	for i, v := range []string{m.Sample, m.Alloy, m.Operator, m.Note} {
+	for i, k := range sample.FormKeys() {
+		v := m.Get(k)
+		if k == "sample" {
+			v = sampleName(m)
+		}
 		f.inputs[i].SetValue(v)
 		f.inputs[i].CursorEnd()
 		f.inputs[i].Blur()
@@ -57,22 +69,26 @@ func (f formPane) open(channel string, m SampleMeta, forNext bool) (formPane, te
 	return f, f.inputs[0].Focus()
 }
 
-func (f formPane) meta() SampleMeta {
-	v := func(i int) string { return strings.TrimSpace(f.inputs[i].Value()) }
-	return SampleMeta{Sample: v(0), Alloy: v(1), Operator: v(2), Note: v(3)}
+func (f formPane) meta() sample.Meta {
+	var m sample.Meta
+	for i, k := range sample.FormKeys() {
+		m = m.With(k, strings.TrimSpace(f.inputs[i].Value()))
+	}
+	return m
 }
 
 // validate checks the alloy is one the limits know.
-func (f formPane) validate(m SampleMeta) error {
-	if m.Alloy == "" {
+func (f formPane) validate(m sample.Meta) error {
+	alloy := m.Get("alloy")
+	if alloy == "" {
 		return nil
 	}
 	for _, a := range f.alloys {
-		if a == m.Alloy {
+		if a == alloy {
 			return nil
 		}
 	}
-	return fmt.Errorf("alloy %q is not in the limits; use one of %s", m.Alloy, strings.Join(f.alloys, ", "))
+	return fmt.Errorf("alloy %q is not in the limits; use one of %s", alloy, strings.Join(f.alloys, ", "))
 }
 
 func (f formPane) move(d int) (formPane, tea.Cmd) {

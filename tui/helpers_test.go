@@ -5,6 +5,11 @@ import (
 	"regexp"
 	"sort"
 
+	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/feed"
+	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/sample"
+
 	"github.com/charmbracelet/lipgloss"
 	"github.com/muesli/termenv"
 
@@ -46,45 +51,58 @@ func constructedCurve(seconds, rate float64) (t, v []float64) {
 	return t, v
 }
 
-// constructedBatches cuts a constructed curve into acquirer-like batches of
-// per readings on channel ch, with a start event at the first reading and a
-// done event after the last.
+// Batch and the item kinds, as the tests build the source's stream.
+type Batch = feed.Batch
+
+// constructedBatches cuts a constructed curve into source-like batches of
+// per readings on channel ch, with the sample's device line and its start
+// at the first reading and its end after the last (sample 1).
 func constructedBatches(ch string, seconds, rate float64, per int) []Batch {
 	return constructedBatchesAt(ch, 0, seconds, rate, per)
 }
 
 // constructedBatchesAt is constructedBatches with the sample starting at
-// acquirer time t0.
+// acquirer time t0 (and numbered by it: sample 1 + t0/300).
 func constructedBatchesAt(ch string, t0, seconds, rate float64, per int) []Batch {
 	t, v := constructedCurve(seconds, rate)
 	for i := range t {
 		t[i] += t0
 	}
-	st := Status{Port: "sim:deck", Connected: true, ReadingsPerS: rate, Lines: 0, Channels: map[string]State{ch: StateRecording}}
+	n := 1 + int(t0/300)
+	st := feed.Status{Port: "sim:deck", Connected: true, ReadingsPerS: rate, Channels: map[string]feed.ChannelStatus{ch: {Recording: true, Sample: n}}}
+	meta := []curvefile.Meta{{Key: "sample", Value: "L-2417 cup 1"}, {Key: "alloy", Value: "grey-iron"}, {Key: "operator", Value: "Pell Brasswick"}}
 	var out []Batch
 	for i := 0; i < len(t); i += per {
 		var b Batch
 		if i == 0 {
-			b.Events = append(b.Events, Event{Kind: EventDeviceInfo, Channel: ch, Info: map[string]string{"sample": "L-2417 cup 1", "alloy": "grey-iron", "operator": "Pell Brasswick"}},
-				Event{Kind: EventSampleStarted, Channel: ch, TimeS: t0})
+			b.Items = append(b.Items, feed.Item{Kind: feed.KindDeviceInfo, Channel: ch, TimeS: t0, Meta: meta},
+				feed.Item{Kind: feed.KindStarted, Channel: ch, TimeS: t0, Sample: n, StartS: t0, Meta: meta, Path: "/data/L-2417-cup1.partial.csv"})
 		}
 		for k := i; k < min(i+per, len(t)); k++ {
-			b.Readings = append(b.Readings, Reading{TimeS: t[k], TempC: v[k], Channel: ch})
+			r := feed.Reading{TimeS: t[k], TempC: v[k], Channel: ch}
+			b.Items = append(b.Items, feed.Item{Kind: feed.KindReading, Channel: ch, TimeS: r.TimeS, Reading: r})
+			st.Lines++
+			st.Readings++
 		}
-		st.Lines += len(b.Readings)
 		b.Status = st
 		out = append(out, b)
 	}
 	last := &out[len(out)-1]
-	last.Events = append(last.Events, Event{Kind: EventSampleDone, Channel: ch, TimeS: t[len(t)-1], Path: "/data/L-2417-cup1.csv"})
-	last.Status.Channels = map[string]State{ch: StateDone}
+	last.Items = append(last.Items, feed.Item{Kind: feed.KindEnded, Channel: ch, TimeS: t[len(t)-1], Sample: n, Path: "/data/L-2417-cup1.csv", Text: "freezing done"})
+	last.Status.Channels = map[string]feed.ChannelStatus{ch: {Sample: n}}
 	return out
 }
 
 // constructedAnalyzer reports the constructed curve's designed points once
 // the curve has grown past them: a screen-test stand-in with known answers
-// (the real detector is tested in internal/arrest).
-func constructedAnalyzer(t, v []float64, _ arrest.Family, _ bool) arrest.Result {
+// (the real detector is tested in internal/arrest). Its T′ is the real
+// analyser's, of the same readings.
+type constructedAnalyzer struct{ arrest.Analyzer }
+
+func newConstructedAnalyzer() sample.Analyzer { return &constructedAnalyzer{} }
+
+func (a *constructedAnalyzer) Analyze(t, v []float64, opt arrest.Options) arrest.Result {
+	a.Analyzer.Analyze(t, v, opt)
 	end := t[len(t)-1]
 	at := func(s float64) arrest.Point {
 		if end < s+5 {
@@ -113,6 +131,43 @@ func constructedJudge(in assess.Input, res arrest.Result) assess.Record {
 	uc := 12.5 + float64(len(in.Time)%7)
 	rec.UndercoolingC = &uc
 	return rec
+}
+
+// testFeed is a session for screen tests, run by hand: feed applies
+// batches to its tracker and hands the updates to the model; what the
+// model asks of it (the form, a start) goes to the tracker and the
+// recorded requests, and its finished samples to the records.
+type testFeed struct {
+	tr      *sample.Tracker
+	records *Memory
+	queued  []sample.Update // made by requests, not yet delivered
+	starts  []string
+	stops   []string
+	limits  []*limits.Book
+}
+
+func newTestFeed(cfg sample.Config, records *Memory) *testFeed {
+	f := &testFeed{tr: sample.New(cfg), records: records}
+	f.queued = append(f.queued, f.tr.Initial())
+	return f
+}
+
+func (f *testFeed) Updates() <-chan sample.Update { return nil }
+func (f *testFeed) SetForm(ch string, m sample.Meta) {
+	f.queued = append(f.queued, f.tr.SetForm(ch, m))
+}
+func (f *testFeed) SetLimits(b *limits.Book) { f.tr.SetLimits(b); f.limits = append(f.limits, b) }
+func (f *testFeed) Start(ch string)          { f.starts = append(f.starts, ch) }
+func (f *testFeed) Stop(ch string)           { f.stops = append(f.stops, ch) }
+
+// deliver hands an update to the model as the session would: finished
+// samples to the records first.
+func (f *testFeed) deliver(m Model, u sample.Update) Model {
+	for _, x := range u.Finished {
+		f.records.Add(x)
+	}
+	tm, cmd := m.Update(updateMsg{u})
+	return runCmds(tm.(Model), cmd)
 }
 
 // asciiStyles are the styles with no colour at all, for golden files.

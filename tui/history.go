@@ -1,7 +1,6 @@
 package tui
 
 import (
-	"context"
 	"fmt"
 	"math"
 	"sort"
@@ -11,29 +10,25 @@ import (
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/lipgloss"
 
+	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/store"
 )
 
-// preferredMetrics come first in the trend's metric cycle; any other
-// numeric key of the record follows in name order.
-var preferredMetrics = []string{
-	"undercooling_c", "recalescence_c", "eutectic_min_c", "eutectic_max_c", "liquidus_c",
-	"solidus_c", "cooling_rate_c_per_s", "plateau_s", "freezing_time_s", "pour_peak_c",
-}
+// firstMetric is the trend's metric when it opens (the others follow in
+// the registry's order, assess.Metrics).
+const firstMetric = "undercooling_c"
 
-// historyLoadedMsg carries a history query's answer.
-type historyLoadedMsg struct {
-	entries []Entry
-	err     error
-}
-
-// curveLoadedMsg carries an opened sample's curve read from its file.
+// curveLoadedMsg carries an opened sample's curve (read from its file
+// where the history has none) and the T′ the analysis finds its points on.
 type curveLoadedMsg struct {
-	id   int64
-	t, v []float64
-	err  error
+	id     int64
+	t, v   []float64
+	st, sd []float64
+	err    error
 }
 
 // historyPane lists the shift's samples, newest first, with a trend of one
@@ -50,7 +45,7 @@ type historyPane struct {
 	metric  int
 	sel     int
 	open    *Entry
-	opened  cup // the opened sample drawn as a finished cup
+	opened  cup // the opened sample drawn as a finished cup, once its curve is in
 	w, h    int
 	errText string
 }
@@ -59,14 +54,22 @@ func newHistoryPane(st *Styles, keys *KeyMap, book *limits.Book, read CurveReade
 	return historyPane{st: st, keys: keys, book: book, read: read}
 }
 
-func (p historyPane) SetSize(w, h int) historyPane { p.w, p.h = w, h; return p }
+func (p historyPane) SetSize(w, h int) historyPane {
+	p.w, p.h = w, h
+	return p.redraw()
+}
 
-// load is the command that reads the history.
-func loadHistory(rs Records) tea.Cmd {
-	return func() tea.Msg {
-		es, err := rs.List(context.Background(), "", 500)
-		return historyLoadedMsg{es, err}
+// setBook takes a saved limits book (the trend's bands).
+func (p historyPane) setBook(b *limits.Book) historyPane { p.book = b; return p }
+
+// redraw draws the opened cup's charts for View.
+func (p historyPane) redraw() historyPane {
+	if p.open != nil && len(p.opened.snap.T) > 0 {
+		if cw, ch, ok := p.opened.layout(p.st, p.w, p.h); ok {
+			p.opened.redraw(p.st, cw, ch)
+		}
 	}
+	return p
 }
 
 func (p historyPane) filterName() string {
@@ -83,13 +86,15 @@ func (p historyPane) shown() []Entry {
 	}
 	var out []Entry
 	for _, e := range p.all {
-		if e.Meta.Alloy == f {
+		if e.Meta.Get("alloy") == f {
 			out = append(out, e)
 		}
 	}
 	return out
 }
 
+// metrics are the registry's metrics (assess.Metrics) that some sample
+// shown has a value of, from firstMetric on in the registry's order.
 func (p historyPane) metrics() []string {
 	seen := map[string]bool{}
 	for _, e := range p.shown() {
@@ -98,20 +103,16 @@ func (p historyPane) metrics() []string {
 		}
 	}
 	var out []string
-	for _, k := range preferredMetrics {
-		if seen[k] {
-			out = append(out, k)
-			delete(seen, k)
+	start := 0
+	for _, m := range assess.Metrics() {
+		if seen[m.Name] {
+			if m.Name == firstMetric {
+				start = len(out)
+			}
+			out = append(out, m.Name)
 		}
 	}
-	var rest []string
-	for k := range seen {
-		if !strings.HasSuffix(k, "_s") || k == "plateau_s" || k == "freezing_time_s" {
-			rest = append(rest, k)
-		}
-	}
-	sort.Strings(rest)
-	return append(out, rest...)
+	return append(out[start:], out[:start]...)
 }
 
 func (p historyPane) metricName() string {
@@ -130,11 +131,11 @@ func (p *historyPane) setEntries(es []Entry) {
 	}
 	set := map[string]bool{}
 	for _, e := range es {
-		if e.Meta.Alloy != "" {
-			set[e.Meta.Alloy] = true
+		if a := e.Meta.Get("alloy"); a != "" {
+			set[a] = true
 		}
 	}
-	p.alloys = p.alloys[:0]
+	p.alloys = nil // a new slice: the pane is a value
 	for a := range set {
 		p.alloys = append(p.alloys, a)
 	}
@@ -159,8 +160,11 @@ func (p historyPane) Update(msg tea.Msg) (historyPane, tea.Cmd) {
 				p.errText = msg.err.Error()
 				return p, nil
 			}
-			p.open.Time, p.open.Temp = msg.t, msg.v
-			p.opened = openedCup(*p.open)
+			e := *p.open
+			e.Time, e.Temp = msg.t, msg.v
+			p.open = &e
+			p.opened = openedCup(e, msg.st, msg.sd)
+			return p.redraw(), nil
 		}
 	case tea.KeyMsg:
 		if p.open != nil {
@@ -183,11 +187,8 @@ func (p historyPane) Update(msg tea.Msg) (historyPane, tea.Cmd) {
 			p.metric++
 		case key.Matches(msg, p.keys.Open) && n > 0:
 			e := p.shown()[p.sel]
-			p.open = &e
-			if len(e.Time) == 0 && e.Path != "" {
-				return p, readCurve(p.read, e.ID, e.Path)
-			}
-			p.opened = openedCup(e)
+			p.open, p.opened = &e, cup{}
+			return p, openCurve(p.read, p.book, e)
 		}
 	}
 	return p, nil
@@ -196,41 +197,44 @@ func (p historyPane) Update(msg tea.Msg) (historyPane, tea.Cmd) {
 // CurveReader reads a stored sample's curve file (curvefile.ReadFile).
 type CurveReader func(path string) (*curvefile.Curve, error)
 
-// readCurve is the command that reads a stored sample's curve file.
-func readCurve(read CurveReader, id int64, path string) tea.Cmd {
+// openCurve is the command that gives an opened sample's curve, read from
+// its file where the history has none, and its T′ as the analysis finds it
+// (the sample's detector options, assess.Options).
+func openCurve(read CurveReader, book *limits.Book, e Entry) tea.Cmd {
 	return func() tea.Msg {
-		if read == nil {
-			return curveLoadedMsg{id: id, err: fmt.Errorf("no curve reader to open %s", path)}
+		in := assess.Input{Alloy: e.Record.Alloy, Limits: book, Time: e.Time, Temp: e.Temp}
+		if len(in.Time) == 0 {
+			if read == nil {
+				return curveLoadedMsg{id: e.ID, err: fmt.Errorf("no curve reader to open %s", e.Path)}
+			}
+			c, err := read(e.Path)
+			if err != nil {
+				return curveLoadedMsg{id: e.ID, err: err}
+			}
+			in.Time, in.Temp, in.Meta = c.Time, c.Temp, c.Meta
 		}
-		c, err := read(path)
-		if err != nil {
-			return curveLoadedMsg{id: id, err: err}
-		}
-		return curveLoadedMsg{id: id, t: c.Time, v: c.Temp}
+		st, sd := sample.Slope(in.Time, in.Temp, assess.Options(in))
+		return curveLoadedMsg{id: e.ID, t: in.Time, v: in.Temp, st: st, sd: sd}
 	}
 }
 
 // openedCup draws a stored sample the way the live view draws a finished
 // one, from its record's points.
-func openedCup(e Entry) cup {
-	c := newCup(e.Channel)
-	c.meta = e.Meta
-	for i := range e.Time {
-		c.append(Reading{TimeS: e.Time[i], TempC: e.Temp[i], Channel: e.Channel})
-	}
-	if n := len(e.Temp); n > 0 {
-		c.last, c.hasLast = Reading{TimeS: e.Time[n-1], TempC: e.Temp[n-1]}, true
-	}
-	c.res = resultFromRecord(e.Record)
+func openedCup(e Entry, st, sd []float64) cup {
+	s := sample.Snapshot{Channel: e.Channel, State: sample.Done, Meta: e.Meta, T: e.Time, V: e.Temp, SlopeT: st, SlopeD: sd,
+		Result: resultFromRecord(e.Record), Path: e.Path}
 	rec := e.Record
-	c.rec, c.state, c.path = &rec, StateDone, e.Path
-	return *c
+	s.Record = &rec
+	if n := len(e.Temp); n > 0 {
+		s.Last, s.HasLast, s.ElapsedS = feed.Reading{TimeS: e.Time[n-1], TempC: e.Temp[n-1], Channel: e.Channel}, true, e.Time[n-1]
+	}
+	return newCup(s)
 }
 
 func (p historyPane) View() string {
 	if p.open != nil {
 		c := p.opened
-		if len(c.t) == 0 {
+		if len(c.snap.T) == 0 {
 			return box(p.st.Muted.Render("Reading "+p.open.Path+" …")+"\n"+p.st.Error.Render(p.errText), p.w, p.h)
 		}
 		return c.view(p.st, p.w, p.h)
@@ -262,7 +266,7 @@ func (p historyPane) View() string {
 	for i := start; i < len(es) && len(lines) < listH+1; i++ {
 		e := es[i]
 		row := fmt.Sprintf("%-5d %-5s %-3s %-18s %-13s %-9s %8s %7s", e.ID, e.At.Format("15:04"), e.Channel,
-			cut(e.Meta.Sample, 18), cut(e.Meta.Alloy, 13), e.Record.Verdict,
+			cut(sampleName(e.Meta), 18), cut(e.Meta.Get("alloy"), 13), e.Record.Verdict,
 			fmtOpt(e.Record.EutecticMinC, "%.1f"), fmtOpt(e.Record.RecalescenceC, "%.1f"))
 		row = clip(row, p.w)
 		if i == p.sel {
@@ -366,4 +370,16 @@ func (p historyPane) ShortHelp() []key.Binding {
 
 func (p historyPane) FullHelp() [][]key.Binding {
 	return [][]key.Binding{{p.keys.Up, p.keys.Down, p.keys.Open, p.keys.Back}, {p.keys.Alloy, p.keys.Metric}}
+}
+
+// metricValues gives a record's value of every metric of the registry
+// that it has.
+func metricValues(r assess.Record) map[string]float64 {
+	out := map[string]float64{}
+	for _, m := range assess.Metrics() {
+		if v, ok := m.Value(&r); ok {
+			out[m.Name] = v
+		}
+	}
+	return out
 }

@@ -19,8 +19,11 @@ import (
 // change with its time) and says where it went.
 type LimitsSaver func(ctx context.Context, b *limits.Book) (string, error)
 
-// limitsSavedMsg is the answer of a save.
+// limitsSavedMsg is the answer of a save: the book saved, which becomes
+// the one in use.
 type limitsSavedMsg struct {
+	book  *limits.Book
+	saved map[string]map[limitRow]*float64 // the edits it holds
 	where string
 	err   error
 }
@@ -56,12 +59,17 @@ type limitRow struct {
 	b      bound
 }
 
-// limitsPane shows an alloy's limits and edits them with validation.
+// limitsPane shows an alloy's limits and edits them with validation. The
+// book it shows is the one in use, never changed: edits are pending until
+// saved, and a save works on its own copy of the book (editBook), which the
+// model swaps in when the save says it is written. Edits made while a save
+// runs stay pending for the next one.
 type limitsPane struct {
 	st     *Styles
 	keys   *KeyMap
 	book   *limits.Book
 	save   LimitsSaver
+	saving bool
 	alloys []string
 	alloy  int
 	sel    int
@@ -163,11 +171,14 @@ func parseBound(s string) (*float64, error) {
 func (p limitsPane) Update(msg tea.Msg) (limitsPane, tea.Cmd) {
 	switch msg := msg.(type) {
 	case limitsSavedMsg:
+		p.saving = false
 		if msg.err != nil {
 			p.msg, p.msgBad = "not saved: "+msg.err.Error(), true
-		} else {
-			p.msg, p.msgBad = "saved to "+msg.where, false
+			return p, nil
 		}
+		p.book, p.alloys = msg.book, msg.book.Names()
+		p.pending = dropSaved(p.pending, msg.saved)
+		p.msg, p.msgBad = "saved to "+msg.where, false
 		return p, nil
 	case tea.KeyMsg:
 		rows := p.rows()
@@ -180,17 +191,14 @@ func (p limitsPane) Update(msg tea.Msg) (limitsPane, tea.Cmd) {
 					return p, nil
 				}
 				r := rows[p.sel]
-				old, had := p.pending[p.alloyName()][r]
+				before := p.pending
+				p.pending = clonePending(p.pending) // a new map: the pane is a value
 				if p.pending[p.alloyName()] == nil {
 					p.pending[p.alloyName()] = map[limitRow]*float64{}
 				}
 				p.pending[p.alloyName()][r] = v
 				if err := p.check(r.metric); err != nil {
-					if had {
-						p.pending[p.alloyName()][r] = old
-					} else {
-						delete(p.pending[p.alloyName()], r)
-					}
+					p.pending = before
 					p.msg, p.msgBad = err.Error(), true
 					return p, nil
 				}
@@ -230,47 +238,37 @@ func (p limitsPane) Update(msg tea.Msg) (limitsPane, tea.Cmd) {
 	return p, nil
 }
 
-// commit applies the pending edits to the book and saves it.
+// commit saves the pending edits: on a copy of the book, checked whole,
+// by a command; the copy comes back in limitsSavedMsg.
 func (p limitsPane) commit() (limitsPane, tea.Cmd) {
-	if p.save == nil {
+	switch {
+	case p.save == nil:
 		p.msg, p.msgBad = "this session has no limits file to write", true
 		return p, nil
-	}
-	type undo struct {
-		at  **float64
-		was *float64
-	}
-	var undos []undo
-	for alloy, m := range p.pending {
-		al, ok := p.book.Alloy(alloy)
-		if !ok {
-			continue
-		}
-		for r, v := range m {
-			if l := al.Metrics[r.metric]; l != nil {
-				at := r.b.of(l)
-				undos = append(undos, undo{at, *at})
-				*at = v
-			}
-		}
-	}
-	if len(undos) == 0 {
-		p.msg, p.msgBad = "nothing changed", false
+	case p.saving:
+		p.msg, p.msgBad = "a save is under way: press w again when it is done", true
 		return p, nil
 	}
-	if err := p.book.Validate(); err != nil {
-		for _, u := range undos {
-			*u.at = u.was
-		}
+	edited, n, err := editBook(p.book, p.pending)
+	if err != nil {
 		p.msg, p.msgBad = "not saved: "+err.Error(), true
 		return p, nil
 	}
-	p.pending = map[string]map[limitRow]*float64{}
-	save, book := p.save, p.book
+	if n == 0 {
+		p.msg, p.msgBad = "nothing changed", false
+		return p, nil
+	}
+	if err := edited.Validate(); err != nil {
+		p.msg, p.msgBad = "not saved: "+err.Error(), true
+		return p, nil
+	}
+	saved := clonePending(p.pending)
+	save := p.save
+	p.saving = true
 	p.msg, p.msgBad = "saving…", false
 	return p, func() tea.Msg {
-		where, err := save(context.Background(), book)
-		return limitsSavedMsg{where, err}
+		where, err := save(context.Background(), edited)
+		return limitsSavedMsg{book: edited, saved: saved, where: where, err: err}
 	}
 }
 

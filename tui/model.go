@@ -1,10 +1,10 @@
 package tui
 
 import (
-	"context"
 	"fmt"
 	"io"
 	"log"
+	"strconv"
 	"strings"
 	"time"
 
@@ -14,10 +14,9 @@ import (
 	"github.com/charmbracelet/lipgloss"
 	"github.com/charmbracelet/x/ansi"
 
-	"github.com/undercool-foundry/undercool/internal/arrest"
-	"github.com/undercool-foundry/undercool/internal/assess"
-	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
 // SafetyLine is always on screen; SafetyShort where the screen is narrow.
@@ -28,19 +27,17 @@ const (
 
 // Options configure the dashboard.
 type Options struct {
-	Source  Source       // where readings come from (required)
+	Feed    Feed         // the live session's updates (nil: nothing live)
+	Pace    Pacer        // the replay's pace, when the source is one
 	Title   string       // shown at the top right, e.g. "demo · simulated deck"
-	Records Records      // history; nil keeps the session's samples in memory
-	Limits  *limits.Book // nil uses the built-in examples
+	Records Records      // history; nil shows none
+	Limits  *limits.Book // the book shown and edited; nil uses the built-in examples
 	// SaveLimits writes an edited book; nil makes the limits read-only.
 	SaveLimits LimitsSaver
 	ReadCurve  CurveReader // opens a stored sample's curve file
-	Prefill    SampleMeta  // the form's first values (e.g. the last sample)
 	Styles     *Styles     // nil builds them for lipgloss's default renderer
-	Analyzer   Analyzer    // nil: each cup's own arrest.Analyzer
-	Judge      Judge       // nil uses assess.FromResult with Limits
 	Clock      func() time.Time
-	Log        io.Writer // the log file; nil discards
+	Log        io.Writer // the log file; nil discards. Written by commands only.
 }
 
 type tab int
@@ -53,13 +50,14 @@ const (
 
 // Model is the dashboard's root model.
 type Model struct {
-	st   *Styles
-	keys KeyMap
-	help help.Model
-	opt  Options
-	feed <-chan Batch
-	pace *pacer // spaces the deliveries of batches (feed.go)
-	log  *log.Logger
+	st    *Styles
+	keys  KeyMap
+	help  help.Model
+	opt   Options
+	feed  <-chan sample.Update
+	pace  *pacer // spaces the deliveries of updates (feed.go)
+	log   *log.Logger
+	speed float64 // the replay's pace, as last set
 
 	tab      tab
 	live     livePane
@@ -69,8 +67,8 @@ type Model struct {
 	formOpen bool
 	showHelp bool
 	asking   bool // "quit while recording?"
-	ended    bool // the source's channel closed
-	status   Status
+	ended    bool // the session's channel closed
+	status   feed.Status
 	flash    string
 	w, h     int
 }
@@ -92,16 +90,12 @@ func New(opt Options) Model {
 	if opt.Log == nil {
 		opt.Log = io.Discard
 	}
-	if opt.Judge == nil {
-		book := opt.Limits
-		opt.Judge = func(in assess.Input, res arrest.Result) assess.Record {
-			in.Limits = book
-			return assess.FromResult(in, res)
-		}
-	}
 	m := Model{st: opt.Styles, keys: DefaultKeys(), help: help.New(), opt: opt, log: log.New(opt.Log, "", log.LstdFlags)}
-	if opt.Source != nil {
-		m.feed, m.pace = opt.Source.Batches(), &pacer{}
+	if opt.Feed != nil {
+		m.feed, m.pace = opt.Feed.Updates(), &pacer{}
+	}
+	if opt.Pace != nil {
+		m.speed = opt.Pace.Speed()
 	}
 	m.help.Styles.ShortKey = m.st.Mark
 	m.help.Styles.ShortDesc = m.st.Muted
@@ -109,16 +103,16 @@ func New(opt Options) Model {
 	m.help.Styles.FullDesc = m.st.Value
 	m.help.Styles.ShortSeparator = m.st.Muted
 	m.help.Styles.FullSeparator = m.st.Muted
-	m.live = newLivePane(m.st, &m.keys, opt.Analyzer, opt.Judge, opt.Prefill)
+	m.live = newLivePane(m.st, &m.keys)
 	m.hist = newHistoryPane(m.st, &m.keys, opt.Limits, opt.ReadCurve)
 	m.lim = newLimitsPane(m.st, &m.keys, opt.Limits, opt.SaveLimits)
 	m.form = newFormPane(m.st, &m.keys, opt.Limits.Names())
 	return m.resize(80, 24)
 }
 
-// Init starts waiting for the first batch and loads the history.
+// Init starts waiting for the first update and loads the history.
 func (m Model) Init() tea.Cmd {
-	return tea.Batch(waitBatch(m.feed, m.pace), loadHistory(m.opt.Records))
+	return tea.Batch(waitUpdate(m.feed, m.pace), loadHistory(m.opt.Records))
 }
 
 // chrome is the rows taken by the title, status, help and safety lines.
@@ -134,78 +128,54 @@ func (m Model) resize(w, h int) Model {
 	return m
 }
 
+// speedMsg says the replay's pace was set.
+type speedMsg struct{ x float64 }
+
 // Update handles one message.
 func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 	switch msg := msg.(type) {
 	case tea.WindowSizeMsg:
 		return m.resize(msg.Width, msg.Height), nil
-	case batchMsg:
-		m.status = msg.b.Status
-		var recovered []tea.Cmd
-		for _, ev := range msg.b.Events {
-			m.logEvent(ev)
-			if ev.Kind == EventWarning || ev.Kind == EventRecovered {
-				m.flash = ev.Text
-			}
-			if ev.Kind == EventRecovered && ev.Path != "" && m.opt.ReadCurve != nil {
-				recovered = append(recovered, recoveredCmd(m.opt.ReadCurve, m.opt.Judge, ev))
-			}
-		}
-		var cmd tea.Cmd
-		m.live, cmd = m.live.Update(msg)
-		return m, tea.Batch(append(recovered, cmd, waitBatch(m.feed, m.pace))...)
+	case updateMsg:
+		return m.update(msg.u)
 	case feedClosedMsg:
 		m.ended = true
 		m.feed = nil
-		m.log.Printf("feed closed")
-		return m, nil
-	case sampleDoneMsg:
-		e := msg.e
-		e.At = m.opt.Clock()
-		m.log.Printf("sample done: cup %s sample %q alloy %q verdict %s file %s", e.Channel, e.Meta.Sample, e.Meta.Alloy, e.Record.Verdict, e.Path)
-		if !msg.recovered {
-			m.live.prefill = e.Meta
-		}
-		rs := m.opt.Records
-		return m, func() tea.Msg {
-			if _, err := rs.Add(context.Background(), e); err != nil {
-				return historyLoadedMsg{err: fmt.Errorf("keeping sample %q: %w", e.Meta.Sample, err)}
-			}
-			es, err := rs.List(context.Background(), "", 500)
-			return historyLoadedMsg{es, err}
-		}
+		return m, m.logf("feed closed")
 	case historyLoadedMsg:
+		var cmd tea.Cmd
 		if msg.err != nil {
-			m.log.Printf("history: %v", msg.err)
 			m.flash = msg.err.Error()
+			cmd = m.logf("history: %v", msg.err)
 		}
 		m.hist, _ = m.hist.Update(msg)
-		return m, nil
+		return m, cmd
 	case curveLoadedMsg:
 		m.hist, _ = m.hist.Update(msg)
 		return m, nil
 	case limitsSavedMsg:
+		var cmd tea.Cmd
 		if msg.err != nil {
-			m.log.Printf("limits not saved: %v", msg.err)
+			cmd = m.logf("limits not saved: %v", msg.err)
 		} else {
-			m.log.Printf("limits saved to %s", msg.where)
+			// the saved book is the one in use from now on: shown, edited
+			// further, judged by
+			cmd = tea.Batch(m.logf("limits saved to %s", msg.where), m.setLimits(msg.book))
+			m.opt.Limits = msg.book
+			m.hist = m.hist.setBook(msg.book)
+			m.form = m.form.setAlloys(msg.book.Names())
 		}
 		m.lim, _ = m.lim.Update(msg)
-		return m, nil
+		return m, cmd
 	case formDoneMsg:
 		m.formOpen = false
-		m.live.cup(msg.channel).setForm(msg.meta)
-		m.live.prefill = msg.meta
-		m.log.Printf("sample form for cup %s: %+v", msg.channel, msg.meta)
-		src, ch, meta := m.opt.Source, msg.channel, metaLines(msg.meta)
-		return m, func() tea.Msg {
-			if src != nil {
-				src.SetMeta(ch, meta)
-			}
-			return nil
-		}
+		ch, meta := msg.channel, msg.meta
+		return m, tea.Batch(m.logf("sample form for cup %s: %s", ch, metaText(meta)), m.toFeed(func(f Feed) { f.SetForm(ch, meta) }))
 	case formClosedMsg:
 		m.formOpen = false
+		return m, nil
+	case speedMsg:
+		m.speed = msg.x
 		return m, nil
 	case tea.KeyMsg:
 		return m.key(msg)
@@ -223,19 +193,82 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 	return m, nil
 }
 
-func (m Model) logEvent(ev Event) {
-	m.log.Printf("%s: cup %q at %.1f s: %s %v %s", ev.Kind, ev.Channel, ev.TimeS, ev.Text, ev.Info, ev.Path)
-}
-
-// metaLines is the form as curve-file metadata.
-func metaLines(s SampleMeta) []curvefile.Meta {
-	var out []curvefile.Meta
-	for _, kv := range [][2]string{{"sample", s.Sample}, {"alloy", s.Alloy}, {"operator", s.Operator}, {"note", s.Note}} {
-		if kv[1] != "" {
-			out = append(out, curvefile.Meta{Key: kv[0], Value: kv[1]})
+// update takes one update of the tracker: the cups' snapshots, the events
+// (in the log, warnings in the foot line) and the finished samples (the
+// history is read again once the store writer has them).
+func (m Model) update(u sample.Update) (tea.Model, tea.Cmd) {
+	m.status = u.Status
+	var lines []string
+	for _, ev := range u.Events {
+		lines = append(lines, eventLog(ev))
+		if ev.Kind == sample.EventWarning || ev.Kind == sample.EventRecovered {
+			m.flash = ev.Text
 		}
 	}
-	return out
+	for _, f := range u.Finished {
+		lines = append(lines, fmt.Sprintf("sample done: cup %s sample %q alloy %q verdict %s file %s",
+			f.Channel, f.Meta.Get("sample"), f.Record.Alloy, f.Record.Verdict, f.Path))
+	}
+	m.live = m.live.apply(u.Channels)
+	cmds := []tea.Cmd{m.logLines(lines), waitUpdate(m.feed, m.pace)}
+	if len(u.Finished) > 0 {
+		cmds = append(cmds, loadHistory(m.opt.Records))
+	}
+	return m, tea.Batch(cmds...)
+}
+
+// eventLog is an event as a log line.
+func eventLog(ev sample.Event) string {
+	return fmt.Sprintf("%s: cup %q at %.1f s: %s %v %s", ev.Kind, ev.Channel, ev.TimeS, ev.Text, ev.Info, ev.Path)
+}
+
+// logf is the command that writes a line to the log.
+func (m Model) logf(format string, args ...any) tea.Cmd {
+	l, line := m.log, fmt.Sprintf(format, args...)
+	return func() tea.Msg {
+		l.Print(line)
+		return nil
+	}
+}
+
+// logLines is the command that writes lines to the log, in order.
+func (m Model) logLines(lines []string) tea.Cmd {
+	if len(lines) == 0 {
+		return nil
+	}
+	l := m.log
+	return func() tea.Msg {
+		for _, s := range lines {
+			l.Print(s)
+		}
+		return nil
+	}
+}
+
+// toFeed is the command that asks the session something.
+func (m Model) toFeed(do func(Feed)) tea.Cmd {
+	f := m.opt.Feed
+	if f == nil {
+		return nil
+	}
+	return func() tea.Msg {
+		do(f)
+		return nil
+	}
+}
+
+// setLimits hands a saved book to the tracker.
+func (m Model) setLimits(b *limits.Book) tea.Cmd {
+	return m.toFeed(func(f Feed) { f.SetLimits(b) })
+}
+
+// metaText is sample metadata as text for the log.
+func metaText(m sample.Meta) string {
+	var parts []string
+	for _, x := range m {
+		parts = append(parts, x.Key+"="+strconv.Quote(x.Value))
+	}
+	return strings.Join(parts, " ")
 }
 
 func (m Model) key(k tea.KeyMsg) (tea.Model, tea.Cmd) {
@@ -301,35 +334,39 @@ var speeds = []float64{1, 2, 4, 5, 10, 20, 50}
 
 func (m Model) liveKey(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 	c := m.live.activeCup()
-	src := m.opt.Source
-	sp, canPace := src.(speeder)
+	pace := m.opt.Pace
 	switch {
 	case key.Matches(k, m.keys.Form):
 		m.formOpen = true
 		var cmd tea.Cmd
-		m.form, cmd = m.form.open(c.id, c.form(), c.busy())
+		m.form, cmd = m.form.open(c.id(), c.form(), c.state() != sample.Waiting)
 		return m, cmd
-	case key.Matches(k, m.keys.Start) && src != nil:
-		ch := c.id
+	case key.Matches(k, m.keys.Start) && m.opt.Feed != nil:
+		ch := c.id()
 		m.flash = "start asked for cup " + ch
-		return m, func() tea.Msg { src.Start(ch); return nil }
-	case key.Matches(k, m.keys.Stop) && src != nil:
-		ch := c.id
+		return m, m.toFeed(func(f Feed) { f.Start(ch) })
+	case key.Matches(k, m.keys.Stop) && m.opt.Feed != nil:
+		ch := c.id()
 		m.flash = "stop asked for cup " + ch
-		return m, func() tea.Msg { src.Stop(ch); return nil }
-	case canPace && key.Matches(k, m.keys.Faster):
-		sp.SetSpeed(nextSpeed(sp.Speed(), 1))
-		return m, nil
-	case canPace && key.Matches(k, m.keys.Slower):
-		sp.SetSpeed(nextSpeed(sp.Speed(), -1))
-		return m, nil
-	case canPace && key.Matches(k, m.keys.End):
-		sp.SkipToEnd()
-		return m, nil
+		return m, m.toFeed(func(f Feed) { f.Stop(ch) })
+	case pace != nil && key.Matches(k, m.keys.Faster):
+		return m, setSpeed(pace, nextSpeed(m.speed, 1))
+	case pace != nil && key.Matches(k, m.keys.Slower):
+		return m, setSpeed(pace, nextSpeed(m.speed, -1))
+	case pace != nil && key.Matches(k, m.keys.End):
+		return m, func() tea.Msg { pace.SkipToEnd(); return nil }
 	}
 	var cmd tea.Cmd
 	m.live, cmd = m.live.Update(k)
 	return m, cmd
+}
+
+// setSpeed is the command that sets the replay's pace.
+func setSpeed(p Pacer, x float64) tea.Cmd {
+	return func() tea.Msg {
+		p.SetSpeed(x)
+		return speedMsg{p.Speed()}
+	}
 }
 
 func nextSpeed(cur float64, dir int) float64 {
@@ -413,8 +450,8 @@ func (m Model) titleBar() string {
 	}
 	left := strings.Join(parts, "")
 	right := m.st.Muted.Render(m.opt.Title)
-	if sp, ok := m.opt.Source.(speeder); ok {
-		right = m.st.Muted.Render(fmt.Sprintf("%s · %g×", m.opt.Title, sp.Speed()))
+	if m.opt.Pace != nil {
+		right = m.st.Muted.Render(fmt.Sprintf("%s · %g×", m.opt.Title, m.speed))
 	}
 	if room := m.w - lipgloss.Width(left) - 1; lipgloss.Width(right) > room {
 		right = m.st.Muted.Render("…" + tail(stripStyle(right), room-1))
@@ -481,7 +518,7 @@ func (m Model) shortHelp() []key.Binding {
 		pane = m.lim.ShortHelp()
 	default:
 		pane = m.live.ShortHelp()
-		if _, ok := m.opt.Source.(speeder); ok {
+		if m.opt.Pace != nil {
 			pane = append(pane, m.keys.Faster, m.keys.Slower, m.keys.End)
 		}
 	}
@@ -497,7 +534,7 @@ func (m Model) fullHelp() [][]key.Binding {
 		groups = m.lim.FullHelp()
 	default:
 		groups = m.live.FullHelp()
-		if _, ok := m.opt.Source.(speeder); ok {
+		if m.opt.Pace != nil {
 			groups = append(groups, []key.Binding{m.keys.Faster, m.keys.Slower, m.keys.End})
 		}
 	}

@@ -2,46 +2,23 @@ package tui
 
 import (
 	"strings"
-	"sync"
 	"testing"
 
 	tea "github.com/charmbracelet/bubbletea"
-
-	"github.com/undercool-foundry/undercool/internal/curvefile"
 )
 
-// fakeSource records what the dashboard asks of the acquirer.
-type fakeSource struct {
-	mu     sync.Mutex
-	ch     chan Batch
-	meta   map[string][]curvefile.Meta
-	starts []string
-}
-
-func (f *fakeSource) Batches() <-chan Batch { return f.ch }
-func (f *fakeSource) SetMeta(ch string, m []curvefile.Meta) {
-	f.mu.Lock()
-	defer f.mu.Unlock()
-	if f.meta == nil {
-		f.meta = map[string][]curvefile.Meta{}
-	}
-	f.meta[ch] = m
-}
-func (f *fakeSource) Start(ch string) { f.mu.Lock(); f.starts = append(f.starts, ch); f.mu.Unlock() }
-func (f *fakeSource) Stop(string)     {}
-
-// The sample form starts from the device's info line, and what the
-// operator types goes to the acquirer for the next raw log.
-func TestFormPrefilledAndSentToAcquirer(t *testing.T) {
-	src := &fakeSource{}
-	m := New(Options{Source: src, Styles: asciiStyles(), Analyzer: constructedAnalyzer, Judge: constructedJudge, Clock: fixedClock}).resize(100, 30)
-	m = feed(m, constructedBatches("1", 230, 10, 5)) // a whole sample: the cup waits for the next one
+// The sample form starts from the last sample (named by the device's line)
+// and what the operator types goes to the tracker, for the next sample:
+// the sample shown keeps its name.
+func TestFormPrefilledAndSentToTheTracker(t *testing.T) {
+	m := testModel(t, 100, 30)
+	m = play(m, constructedBatches("1", 230, 10, 5)) // a whole sample: the cup waits for the next one
 	m = press(m, "s")
-	if !m.formOpen {
-		t.Fatal("s did not open the form")
+	if !m.formOpen || !m.form.forNext {
+		t.Fatal("s did not open the form for the next sample")
 	}
-	if got := m.form.meta(); got.Sample != "L-2417 cup 1" || got.Alloy != "grey-iron" || got.Operator != "Pell Brasswick" {
-		t.Fatalf("form not prefilled from the device: %+v", got)
+	if got := m.form.meta(); got.Get("sample") != "L-2417 cup 1" || got.Get("alloy") != "grey-iron" || got.Get("operator") != "Pell Brasswick" {
+		t.Fatalf("form not prefilled from the device: %v", got)
 	}
 	m.form.inputs[0].SetValue("L-2418 cup 1")
 	m = press(m, "enter", "enter")
@@ -50,16 +27,35 @@ func TestFormPrefilledAndSentToAcquirer(t *testing.T) {
 	if m.formOpen {
 		t.Fatal("the form is still open after enter on the last field")
 	}
-	want := "sample=L-2418 cup 1 alloy=grey-iron operator=Odile Flintcaster"
-	var got []string
-	for _, kv := range src.meta["1"] {
-		got = append(got, kv.Key+"="+kv.Value)
+	f := m.opt.Feed.(*testFeed)
+	sn, _ := f.tr.Snapshot("1")
+	if got := metaText(sn.Next); got != `sample="L-2418 cup 1" alloy="grey-iron" operator="Odile Flintcaster"` {
+		t.Errorf("the tracker's next sample is %s", got)
 	}
-	if strings.Join(got, " ") != want {
-		t.Errorf("acquirer got %q, want %q", strings.Join(got, " "), want)
+	if c := m.live.activeCup(); sampleName(c.meta()) != "L-2417 cup 1" {
+		t.Errorf("cup shows sample %q: the finished sample was relabelled", sampleName(c.meta()))
 	}
-	if c := m.live.cup("1"); c.meta.Sample != "L-2418 cup 1" {
-		t.Errorf("cup shows sample %q", c.meta.Sample)
+}
+
+// The DONE cup keeps its sample, alloy and operator on screen when the
+// next sample is named, by the form or by the device's line. (Before the
+// sample tracker, the next sample's id replaced the header of the finished
+// cup, so its verdict read as the next ladle's.)
+func TestDoneVerdictNotRelabelled(t *testing.T) {
+	m := testModel(t, 100, 30)
+	m = play(m, constructedBatches("1", 230, 10, 5))
+	before := stripANSI(m.View())
+	if !strings.Contains(before, "L-2417 cup 1") || !strings.Contains(before, "MARGINAL") {
+		t.Fatalf("no finished sample:\n%s", before)
+	}
+	m = press(m, "s")
+	m.form.inputs[0].SetValue("L-2418 cup 1")
+	m.form.inputs[2].SetValue("Tobin Quenchmoor")
+	m = press(m, "enter", "enter", "enter", "enter")
+	m = play(m, []Batch{{Items: constructedBatches("1", 1, 10, 1)[0].Items[:1]}}) // the device names a sample too
+	v := stripANSI(m.View())
+	if strings.Contains(v, "L-2418") || strings.Contains(v, "Tobin") || !strings.Contains(v, "L-2417 cup 1") || !strings.Contains(v, "MARGINAL") {
+		t.Errorf("the DONE cup was relabelled:\n%s", v)
 	}
 }
 
@@ -76,7 +72,7 @@ func TestFormRefusesUnknownAlloy(t *testing.T) {
 
 // q while a sample records asks first; n keeps recording, y quits.
 func TestQuitAsksWhileRecording(t *testing.T) {
-	m := feed(testModel(t, 100, 30), constructedBatches("1", 100, 10, 5)[:60])
+	m := play(testModel(t, 100, 30), constructedBatches("1", 100, 10, 5)[:60])
 	tm, cmd := m.Update(tea.KeyMsg{Type: tea.KeyRunes, Runes: []rune("q")})
 	m = tm.(Model)
 	if cmd != nil || !m.asking {
@@ -96,20 +92,18 @@ func TestQuitAsksWhileRecording(t *testing.T) {
 	}
 }
 
-// p asks the acquirer to start a sample on the cup shown.
+// p asks the session to start a sample on the cup shown.
 func TestStartByHand(t *testing.T) {
-	src := &fakeSource{}
-	m := New(Options{Source: src, Styles: asciiStyles(), Clock: fixedClock}).resize(100, 30)
-	m = feed(m, constructedBatches("1", 10, 10, 5)[:1])
-	press(m, "p")
-	if len(src.starts) != 1 || src.starts[0] != "1" {
-		t.Errorf("starts %v", src.starts)
+	m := play(testModel(t, 100, 30), constructedBatches("1", 10, 10, 5)[:1])
+	m = press(m, "p")
+	if f := m.opt.Feed.(*testFeed); len(f.starts) != 1 || f.starts[0] != "1" {
+		t.Errorf("starts %v", f.starts)
 	}
 }
 
 // Resizes are followed: the view always fills the new size.
 func TestFollowsResize(t *testing.T) {
-	m := feed(testModel(t, 80, 24), constructedBatches("1", 230, 10, 5))
+	m := play(testModel(t, 80, 24), constructedBatches("1", 230, 10, 5))
 	for _, sz := range [][2]int{{80, 24}, {132, 43}, {100, 30}, {200, 60}} {
 		tm, _ := m.Update(tea.WindowSizeMsg{Width: sz[0], Height: sz[1]})
 		m = tm.(Model)

@@ -9,6 +9,8 @@ import (
 	"strings"
 
 	tea "github.com/charmbracelet/bubbletea"
+	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
 // Run shows the dashboard on a terminal until the operator quits or ctx is
@@ -24,59 +26,54 @@ func Run(ctx context.Context, opt Options, in io.Reader, out io.Writer) error {
 }
 
 // Lines is the dashboard without a terminal: the same live pipeline (the
-// same cups, the same growing-curve analysis and judgement) printed as
-// lines, for logs and smoke tests. It prints each channel's reading once a
-// second of device time, every event, and each finished sample's verdict
-// with its points, reasons and advice. It returns when the source closes,
-// ctx is done, or maxSamples samples have finished (0: no limit).
+// same tracker, the same growing-curve analysis and judgement) printed as
+// lines, for logs and smoke tests. It prints each channel's latest reading
+// once a second of device time, every event, and each finished sample's
+// verdict with its points, reasons and advice. It returns when the session
+// ends, ctx is done, or maxSamples samples have finished (0: no limit).
+// It keeps nothing: the session hands finished samples to the records.
 func Lines(ctx context.Context, opt Options, w io.Writer, maxSamples int) error {
-	m := New(opt)
 	fmt.Fprintln(w, "# "+SafetyLine)
+	if opt.Feed == nil {
+		return nil
+	}
+	updates := opt.Feed.Updates()
 	lastSec := map[string]float64{}
 	finished := 0
 	for {
-		var b Batch
+		var u sample.Update
 		var ok bool
 		select {
 		case <-ctx.Done():
 			return nil
-		case b, ok = <-m.feed:
+		case u, ok = <-updates:
 			if !ok {
 				return nil
 			}
 		}
-		for _, ev := range b.Events {
+		for _, ev := range u.Events {
 			if line := eventLine(ev); line != "" {
 				fmt.Fprintln(w, line)
 			}
-			if ev.Kind == EventRecovered && ev.Path != "" && m.opt.ReadCurve != nil {
-				e, err := recoveredEntry(m.opt.ReadCurve, m.opt.Judge, ev)
-				if err == nil {
-					e.At = m.opt.Clock()
-					_, err = m.opt.Records.Add(ctx, e)
-				}
-				if err != nil {
-					fmt.Fprintf(w, "! could not keep the recovered sample %s: %v\n", ev.Path, err)
-				}
-			}
 		}
-		done := m.live.batch(b)
-		for _, r := range b.Readings {
-			sec := math.Floor(r.TimeS)
-			if last, seen := lastSec[r.Channel]; seen && sec <= last {
+		for _, sn := range u.Channels {
+			if !sn.HasLast {
 				continue
 			}
-			lastSec[r.Channel] = sec
-			c := m.live.cup(r.Channel)
-			big, note := c.reading()
-			fmt.Fprintf(w, "cup %s  t=%7.1f s  %s °C  %s %s\n", c.id, r.TimeS, strings.TrimSpace(big), strings.ToLower(c.stateWord()), note)
-		}
-		for _, e := range done {
-			e.At = m.opt.Clock()
-			if _, err := m.opt.Records.Add(ctx, e); err != nil {
-				fmt.Fprintf(w, "! could not keep sample %q: %v\n", e.Meta.Sample, err)
+			sec := math.Floor(sn.Last.TimeS)
+			if last, seen := lastSec[sn.Channel]; seen && sec <= last {
+				continue
 			}
-			fmt.Fprint(w, resultLines(e))
+			lastSec[sn.Channel] = sec
+			c := newCup(sn)
+			big, note := c.reading()
+			fmt.Fprintf(w, "cup %s  t=%7.1f s  %s °C  %s %s\n", c.id(), sn.Last.TimeS, strings.TrimSpace(big), strings.ToLower(c.stateWord()), note)
+		}
+		for _, f := range u.Finished {
+			fmt.Fprint(w, resultLines(f))
+			if f.Recovered {
+				continue
+			}
 			finished++
 			if maxSamples > 0 && finished >= maxSamples {
 				return nil
@@ -86,26 +83,37 @@ func Lines(ctx context.Context, opt Options, w io.Writer, maxSamples int) error 
 }
 
 // eventLine is an event in words, "" for those not worth a line.
-func eventLine(ev Event) string {
+func eventLine(ev sample.Event) string {
 	switch ev.Kind {
-	case EventDeviceInfo:
-		return fmt.Sprintf("= device info cup %q: %v", ev.Channel, ev.Info)
-	case EventSampleStarted, EventSampleFrozen, EventSampleDone, EventRecovered:
+	case sample.EventDeviceInfo:
+		return fmt.Sprintf("= device info cup %q: %v", ev.Channel, infoMap(ev.Info))
+	case sample.EventStarted, sample.EventFrozen, sample.EventDone, sample.EventRecovered:
 		return fmt.Sprintf("= %s: cup %s at %.1f s %s", ev.Kind, ev.Channel, ev.TimeS, ev.Path)
-	case EventConnected, EventDisconnected, EventWarning:
+	case sample.EventConnected, sample.EventDisconnected, sample.EventWarning:
 		return fmt.Sprintf("= %s %s", ev.Kind, ev.Text)
 	}
 	return ""
 }
 
+// infoMap is a device line's pairs as a map, for printing.
+func infoMap(kv []curvefile.Meta) map[string]string {
+	m := make(map[string]string, len(kv))
+	for _, x := range kv {
+		m[x.Key] = x.Value
+	}
+	return m
+}
+
 // resultLines is a finished sample's verdict, points, reasons and advice.
-func resultLines(e Entry) string {
+func resultLines(f sample.Finished) string {
 	var sb strings.Builder
-	r := e.Record
-	fmt.Fprintf(&sb, "RESULT cup %s sample %q alloy %q: %s\n", e.Channel, e.Meta.Sample, e.Meta.Alloy, verdictWord(r.Verdict))
-	res := resultFromRecord(r)
-	c := cup{res: res}
-	for _, p := range c.points() {
+	r := f.Record
+	what := "RESULT"
+	if f.Recovered {
+		what = "RESULT (recovered)"
+	}
+	fmt.Fprintf(&sb, "%s cup %s sample %q alloy %q: %s\n", what, f.Channel, sampleName(f.Meta), r.Alloy, verdictWord(r.Verdict))
+	for _, p := range pointsOf(resultFromRecord(r)) {
 		fmt.Fprintf(&sb, "  %-16s %s\n", p.label, strings.TrimSpace(fmtPoint(p.p)))
 	}
 	fmt.Fprintf(&sb, "  %-16s %s\n", "recalescence", fmtOpt(r.RecalescenceC, "%.1f °C"))
@@ -116,8 +124,8 @@ func resultLines(e Entry) string {
 	for _, s := range recordAdvice(&r) {
 		fmt.Fprintf(&sb, "  → %s\n", s)
 	}
-	if e.Path != "" {
-		fmt.Fprintf(&sb, "  curve file %s\n", e.Path)
+	if f.Path != "" {
+		fmt.Fprintf(&sb, "  curve file %s\n", f.Path)
 	}
 	return sb.String()
 }

@@ -36,7 +36,7 @@ type Styles struct {
 	Verdict                 map[string]lipgloss.Style // by assess verdict value
 	verdictBorder           map[string]lipgloss.Border
 	renderer                *lipgloss.Renderer
-	runs                    map[runKey][2]string // chart runs' escape sequences
+	runs                    map[runKey][2]string // chart runs' escape sequences, found once (chartStyles)
 }
 
 // NewStyles builds the styles for one renderer.
@@ -81,6 +81,7 @@ func NewStyles(r *lipgloss.Renderer) *Styles {
 		"invalid":   lipgloss.DoubleBorder(),
 		"unchecked": lipgloss.HiddenBorder(),
 	}
+	s.chartStyles()
 	return s
 }
 

@@ -5,14 +5,20 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
-	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
 // ansiTruncate cuts a styled string to w cells.
 func ansiTruncate(s string, w int) string { return ansi.Truncate(s, w, "") }
 
-// familyOf is the detector family for an alloy name.
-func familyOf(alloy string) arrest.Family { return limits.Family(alloy) }
+// sampleName is how a sample is named on screen: its sample id, else its
+// ladle.
+func sampleName(m sample.Meta) string {
+	if s := m.Get("sample"); s != "" {
+		return s
+	}
+	return m.Get("ladle")
+}
 
 // recordReasons is why the record has its verdict: the problems found and
 // the reasons in numbers, without repeats.

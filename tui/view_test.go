@@ -11,7 +11,9 @@ import (
 
 	tea "github.com/charmbracelet/bubbletea"
 
+	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
 // updating reports -update (the flag is registered by x/exp/golden, which
@@ -25,16 +27,22 @@ func updating() bool {
 // not depend on the real time.
 func fixedClock() time.Time { return time.Date(2026, 3, 2, 9, 41, 0, 0, time.UTC) }
 
-// testModel is a dashboard with no colour, the constructed analyzer and a
-// fixed clock, fed nothing yet.
+// testModel is a dashboard with no colour, the constructed analyzer and
+// judge in its tracker (a testFeed) and a fixed clock, fed nothing yet.
 func testModel(t testing.TB, w, h int) Model {
 	t.Helper()
 	book, err := limits.Parse([]byte(constructedLimits), "constructed.toml")
 	if err != nil {
 		t.Fatal(err)
 	}
-	m := New(Options{Title: "test deck", Styles: asciiStyles(), Limits: book, Analyzer: constructedAnalyzer, Judge: constructedJudge, Clock: fixedClock})
-	return m.resize(w, h)
+	return testModelWith(book, w, h)
+}
+
+func testModelWith(book *limits.Book, w, h int) Model {
+	mem := &Memory{Clock: fixedClock}
+	f := newTestFeed(sample.Config{Limits: book, NewAnalyzer: newConstructedAnalyzer, Judge: constructedJudge}, mem)
+	m := New(Options{Feed: f, Title: "test deck", Styles: asciiStyles(), Limits: book, Records: mem, Clock: fixedClock})
+	return runCmds(m.resize(w, h), nil)
 }
 
 // constructedLimits is a CONSTRUCTED limits book for screen tests (not
@@ -59,36 +67,37 @@ low = "constructed advice: consider checking chill"
 high = "constructed advice: consider later inoculation"
 `
 
-// feed runs batches through Update, running the commands that store
-// finished samples, as the program would.
-func feed(m Model, bs []Batch) Model {
+// play runs batches through the model's test session and the updates
+// through Update, running the commands as the program would.
+func play(m Model, bs []Batch) Model {
+	f := m.opt.Feed.(*testFeed)
 	for _, b := range bs {
-		var tm tea.Model
-		var cmd tea.Cmd
-		tm, cmd = m.Update(batchMsg{b})
-		m = tm.(Model)
-		m = runCmds(m, cmd)
+		m = f.deliver(m, f.tr.Apply(b))
 	}
 	return m
 }
 
 // runCmds runs a command tree synchronously, feeding back the messages
-// the dashboard itself made (not the batch waits).
+// the dashboard itself made (not the waits for updates), and the updates
+// the test session made meanwhile.
 func runCmds(m Model, cmd tea.Cmd) Model {
-	if cmd == nil {
-		return m
-	}
-	msg := cmd()
-	switch msg := msg.(type) {
-	case tea.BatchMsg:
-		for _, c := range msg {
-			if c != nil {
-				m = runCmds(m, c)
+	if cmd != nil {
+		switch msg := cmd().(type) {
+		case tea.BatchMsg:
+			for _, c := range msg {
+				if c != nil {
+					m = runCmds(m, c)
+				}
 			}
+		case historyLoadedMsg, limitsSavedMsg, formDoneMsg, formClosedMsg, curveLoadedMsg, speedMsg:
+			tm, c := m.Update(msg)
+			m = runCmds(tm.(Model), c)
 		}
-	case sampleDoneMsg, historyLoadedMsg, limitsSavedMsg, formDoneMsg, formClosedMsg:
-		tm, c := m.Update(msg)
-		m = runCmds(tm.(Model), c)
+	}
+	if f, ok := m.opt.Feed.(*testFeed); ok && len(f.queued) > 0 {
+		u := f.queued[0]
+		f.queued = f.queued[1:]
+		m = f.deliver(m, u)
 	}
 	return m
 }
@@ -126,10 +135,9 @@ func twoCups(seconds float64) []Batch {
 	for i := range a {
 		x := a[i]
 		if i < len(b) {
-			x.Readings = append(x.Readings, b[i].Readings...)
-			x.Events = append(x.Events, b[i].Events...)
+			x.Items = append(x.Items, b[i].Items...)
 		}
-		x.Status.Channels = map[string]State{"1": StateRecording, "2": StateRecording}
+		x.Status.Channels = map[string]feed.ChannelStatus{"1": {Recording: true}, "2": {Recording: true}}
 		out = append(out, x)
 	}
 	return out
@@ -161,22 +169,22 @@ func TestGoldenScreens(t *testing.T) {
 		make func(m Model) Model
 	}{
 		{"waiting", func(m Model) Model { return m }},
-		{"live-recording", func(m Model) Model { return feed(m, constructedBatches("1", 100, 10, 5)[:140]) }},
-		{"live-verdict", func(m Model) Model { return feed(m, constructedBatches("1", 230, 10, 5)) }},
-		{"live-two-cups", func(m Model) Model { return feed(m, twoCups(120)) }},
+		{"live-recording", func(m Model) Model { return play(m, constructedBatches("1", 100, 10, 5)[:140]) }},
+		{"live-verdict", func(m Model) Model { return play(m, constructedBatches("1", 230, 10, 5)) }},
+		{"live-two-cups", func(m Model) Model { return play(m, twoCups(120)) }},
 		{"history", func(m Model) Model {
-			m = feed(m, constructedBatches("1", 230, 10, 5))
-			m = feed(m, constructedBatchesAt("1", 300, 200, 10, 5))
-			m = feed(m, constructedBatchesAt("1", 600, 215, 10, 5))
+			m = play(m, constructedBatches("1", 230, 10, 5))
+			m = play(m, constructedBatchesAt("1", 300, 200, 10, 5))
+			m = play(m, constructedBatchesAt("1", 600, 215, 10, 5))
 			return press(m, "2")
 		}},
 		{"history-open", func(m Model) Model {
-			return press(feed(m, constructedBatches("1", 230, 10, 5)), "2", "enter")
+			return press(play(m, constructedBatches("1", 230, 10, 5)), "2", "enter")
 		}},
 		{"limits", func(m Model) Model { return press(m, "3") }},
-		{"form", func(m Model) Model { return press(feed(m, constructedBatches("1", 20, 10, 5)[:2]), "s") }},
+		{"form", func(m Model) Model { return press(play(m, constructedBatches("1", 20, 10, 5)[:2]), "s") }},
 		{"help", func(m Model) Model { return press(m, "?") }},
-		{"quit-ask", func(m Model) Model { return press(feed(m, constructedBatches("1", 100, 10, 5)[:60]), "q") }},
+		{"quit-ask", func(m Model) Model { return press(play(m, constructedBatches("1", 100, 10, 5)[:60]), "q") }},
 	}
 	for _, sz := range sizes {
 		for _, sc := range screens {

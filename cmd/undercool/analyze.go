@@ -142,14 +142,23 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 		}
 	}
 
-	var records *analyzeStore // --store: see report.go
+	var records *recordWriter // --store
 	if *storeIt {
-		if records, err = openAnalyzeStore(ctx, env, *dbPath); err != nil {
+		db, err := openRecords(ctx, env, *dbPath)
+		if err != nil {
 			return err
 		}
-		records.read = columns.ReadFile
+		defer db.Close()
+		records = newRecordWriter(ctx, db, nil)
+		records.read = columns.ReadFile // the metadata read as analyze read the file
+		defer func() {
+			records.Close()
+			for _, err := range records.Errors() {
+				fmt.Fprintf(env.stderr, "undercool analyze: %v\n", err)
+			}
+			fmt.Fprintln(env.stderr, records.summary())
+		}()
 	}
-	defer records.finish(env)
 
 	out := &analyzeOutput{env: env, json: *asJSON, files: files, progress: stderrIsTerminal(env)}
 	out.start()
@@ -166,7 +175,7 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 			return err
 		}
 		if records != nil && a.err == nil {
-			records.add(ctx, env, files[a.index], a.rec)
+			records.Add(files[a.index], a.rec)
 		}
 	}
 	if err := out.finish(); err != nil {
@@ -175,7 +184,10 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 	if ctx.Err() != nil {
 		return ctx.Err()
 	}
-	if out.failed > 0 || records.anyFailed() {
+	if records != nil && records.Close() != nil {
+		out.failed++
+	}
+	if out.failed > 0 {
 		return exitError{1}
 	}
 	return nil

@@ -96,7 +96,7 @@ func runDemo(ctx context.Context, env *environ, args []string) error {
 	return runDashboard(ctx, env, dashboard{
 		dir: dir, limitsPath: limitsPath, title: title,
 		open: acquire.Opener(open), cfg: acquire.Config{Port: "simulated deck"}, // the end of freezing is judged by each sample's alloy (from the deck's info lines)
-		simulated: true, maxSamples: *samples,
+		maxSamples: *samples,
 		feed: func(ctx context.Context) error {
 			err := deck.Run(ctx, pw)
 			pw.CloseWithError(errors.Join(err, errors.New("the simulated deck stopped")))

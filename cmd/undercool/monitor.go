@@ -5,16 +5,18 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"log"
 	"os"
 	"path/filepath"
 	"sync"
-	"time"
 
 	"github.com/charmbracelet/x/term"
 
 	"github.com/undercool-foundry/undercool/acquire"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/sample"
+	"github.com/undercool-foundry/undercool/internal/session"
 	"github.com/undercool-foundry/undercool/internal/store"
 	"github.com/undercool-foundry/undercool/tui"
 )
@@ -32,9 +34,9 @@ func runMonitor(ctx context.Context, env *environ, args []string) error {
 	fs.SetOutput(env.stderr)
 	port := fs.String("port", "", "serial port of the amplifier, e.g. /dev/ttyUSB0 (required)")
 	mode := acquire.DefaultPortMode
-	mode.AddFlags(fs)
+	addPortFlags(fs, &mode)
 	var cfg acquire.Config
-	cfg.AddEMFFlags(fs)
+	addEMFFlags(fs, &cfg)
 	data := fs.String("data", "", "data directory for curve files and the log (default: the records database's directory)")
 	dbPath := fs.String("db", "", "records database (default: $UNDERCOOL_DB, else the user's data directory; with --data, DIR/undercool.db)")
 	limitsPath := fs.String("limits", "", "limits file (default: the built-in examples)")
@@ -79,7 +81,6 @@ type dashboard struct {
 	title      string
 	open       acquire.Opener
 	cfg        acquire.Config
-	simulated  bool
 	maxSamples int // lines mode: stop after this many samples (0: no limit)
 	// feed, when set, runs beside the acquirer (the simulated deck) until
 	// the session ends.
@@ -117,37 +118,44 @@ func runDashboard(ctx context.Context, env *environ, d dashboard) error {
 	}
 	defer db.Close()
 
+	// One way: port → acquirer → tracker (the session) → screen, and
+	// finished samples → the store writer. The acquisition runs until the
+	// screen returns; the session then hands on what the acquirer completed
+	// as it stopped, and the writer stores it all before the database is
+	// closed.
 	d.cfg.Dir = curves
 	acq := acquire.New(d.open, d.cfg)
-	runCtx, cancel := context.WithCancel(ctx)
+	logger := log.New(logf, "", log.LstdFlags)
+	records := newRecordWriter(ctx, db, func(err error) { logger.Print(err) })
+	sess := session.New(acq, sample.New(sample.Config{Limits: book}), session.Options{Finished: records.Finished})
+	acqCtx, stopAcq := context.WithCancel(context.WithoutCancel(ctx))
+	defer stopAcq()
 	var wg sync.WaitGroup
 	var acqErr error
-	wg.Add(1)
-	go func() {
-		defer wg.Done()
-		acqErr = acq.Run(runCtx)
-	}()
+	wg.Go(func() { acqErr = acq.Run(acqCtx) })
+	wg.Go(sess.Run)
 	if d.feed != nil {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			if err := d.feed(runCtx); err != nil && !errors.Is(err, context.Canceled) {
-				fmt.Fprintf(logf, "%s feed: %v\n", time.Now().Format(time.RFC3339), err)
+		wg.Go(func() {
+			if err := d.feed(acqCtx); err != nil && !errors.Is(err, context.Canceled) {
+				logger.Printf("feed: %v", err)
 			}
-		}()
+		})
 	}
 	opt := tui.Options{
-		Source: acq, Title: d.title, Limits: book, SaveLimits: saver,
-		Records:   tui.StoreRecords{DB: db, Simulated: d.simulated},
-		ReadCurve: curvefile.ReadFile, Log: logf,
+		Feed: sess, Title: d.title, Limits: book, SaveLimits: saver,
+		Records: records, ReadCurve: curvefile.ReadFile, Log: logf,
 	}
 	if isTerminal(env) {
-		err = tui.Run(runCtx, opt, env.stdin, env.stdout)
+		err = tui.Run(ctx, opt, env.stdin, env.stdout)
 	} else {
-		err = tui.Lines(runCtx, opt, env.stdout, d.maxSamples)
+		err = tui.Lines(ctx, opt, env.stdout, d.maxSamples)
 	}
-	cancel()
+	stopAcq()
 	wg.Wait()
+	if werr := records.Close(); werr != nil {
+		logger.Print(werr)
+		err = cmpOr(err, werr)
+	}
 	if err != nil {
 		return err
 	}
@@ -155,6 +163,13 @@ func runDashboard(ctx context.Context, env *environ, d dashboard) error {
 		return acqErr
 	}
 	return nil
+}
+
+func cmpOr(a, b error) error {
+	if a != nil {
+		return a
+	}
+	return b
 }
 
 // loadLimits reads the limits file, or takes the built-in examples (which

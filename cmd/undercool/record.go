@@ -8,8 +8,9 @@ import (
 	"time"
 
 	"github.com/undercool-foundry/undercool/acquire"
-	"github.com/undercool-foundry/undercool/internal/curvefile"
-	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/feed"
+	"github.com/undercool-foundry/undercool/internal/sample"
+	"github.com/undercool-foundry/undercool/internal/session"
 )
 
 func init() {
@@ -28,9 +29,9 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	fs.SetOutput(env.stderr)
 	port := fs.String("port", "", "serial port of the amplifier (required): "+portNameHelp())
 	mode := acquire.DefaultPortMode
-	mode.AddFlags(fs)
+	addPortFlags(fs, &mode)
 	var cfg acquire.Config
-	cfg.AddEMFFlags(fs)
+	addEMFFlags(fs, &cfg)
 	out := fs.String("out", "", "curve file to write, NAME.csv; it must not exist (default: a new name in --dir)")
 	dir := fs.String("dir", ".", "directory for the curve file when --out is not given")
 	channel := fs.String("channel", "", "record this channel id only (default: the first channel poured)")
@@ -40,8 +41,8 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	rise := fs.Float64("trigger-rise", 100, "pour trigger: a rise of more than this many °C ...")
 	within := fs.Float64("trigger-within", 3, "... within this many s ...")
 	minC := fs.Float64("trigger-min", 300, "... to at least this many °C")
-	alloy := fs.String("alloy", "", "alloy of the sample, e.g. grey-iron, ductile-iron, al-si7mg (metadata; tells the end-of-freezing detector the family)")
-	sample := fs.String("sample", "", `sample label for the file, e.g. "L-2417 cup 1"`)
+	alloy := fs.String("alloy", "", "alloy of the sample, e.g. grey-iron, ductile-iron, al-si7mg (its limits entry decides how the end of freezing is found and the verdict)")
+	sample_ := fs.String("sample", "", `sample label for the file, e.g. "L-2417 cup 1"`)
 	operator := fs.String("operator", "", "who took the sample")
 	dbPath := fs.String("db", "", "records database the finished sample is stored in (default $UNDERCOOL_DB or the user's data directory)")
 	noStore := fs.Bool("no-store", false, "do not store the finished sample in the records database")
@@ -74,89 +75,74 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	if *channel != "" {
 		cfg.Channels = []string{*channel}
 	}
-	if *alloy != "" {
-		cfg.Family = limits.Family(*alloy)
-	}
-	for _, m := range []curvefile.Meta{{Key: "alloy", Value: *alloy}, {Key: "sample", Value: *sample}, {Key: "operator", Value: *operator}} {
-		if m.Value != "" {
-			cfg.Meta = append(cfg.Meta, m)
-		}
+	// The sample's own metadata is the tracker's to decide: it writes it
+	// into the file, and judges the cup by the alloy's limits entry.
+	var meta sample.Meta
+	for _, kv := range [][2]string{{"alloy", *alloy}, {"sample", *sample_}, {"operator", *operator}} {
+		meta = meta.With(kv[0], kv[1])
 	}
 	book, _, err := loadLimits(*limitsPath)
 	if err != nil {
 		return err
 	}
-	var records *analyzeStore
+	var records *recordWriter
 	if !*noStore {
 		// Opened before the pour, so a database that cannot be written is
 		// an error now, not after the cup.
-		if records, err = openAnalyzeStore(ctx, env, *dbPath); err != nil {
+		db, err := openRecords(ctx, env, *dbPath)
+		if err != nil {
 			return err
 		}
+		defer db.Close()
+		records = newRecordWriter(ctx, db, nil)
 	}
-	rec := &recording{env: env, port: *port, channel: *channel, waitS: *waitS}
-	runErr := rec.run(ctx, acquire.New(recordOpener(*port, mode), cfg), *start)
-	for _, p := range rec.recovered {
-		rec.judge(context.WithoutCancel(ctx), p, "", book, records)
-	}
-	if rec.path != "" {
-		rec.judge(context.WithoutCancel(ctx), rec.path, *alloy, book, records)
-	}
+	rec := &recording{env: env, port: *port, channel: *channel, waitS: *waitS, records: records}
+	acq := acquire.New(recordOpener(*port, mode), cfg)
+	tr := sample.New(sample.Config{Limits: book, Meta: meta})
+	runErr := rec.run(ctx, acq, tr, *start)
 	if records != nil {
-		records.finish(env)
-		if runErr == nil && records.anyFailed() {
+		err := records.Close()
+		for _, e := range records.Errors() {
+			fmt.Fprintf(env.stderr, "undercool record: %v\n", e)
+		}
+		fmt.Fprintln(env.stderr, "undercool record: "+records.summary())
+		if runErr == nil && err != nil {
 			return exitError{1}
 		}
 	}
 	return runErr
 }
 
-// judge analyses a finished (or recovered) curve file, prints its verdict
-// and stores it (the curve file is complete and safe before this runs: a
-// failure here loses nothing already recorded).
-func (r *recording) judge(ctx context.Context, path, alloy string, book *limits.Book, records *analyzeStore) {
-	res := analyzeOne(ctx, 0, path, alloy, book, nil, nil)
-	if res.err != nil {
-		fmt.Fprintf(r.env.stderr, "undercool record: %s could not be analysed: %v\n", path, res.err)
-		return
-	}
-	fmt.Fprintf(r.env.stderr, "undercool record: %s: verdict %s", filepath.Base(path), res.rec.Verdict)
-	for _, why := range res.rec.Reasons {
-		fmt.Fprintf(r.env.stderr, "; %s", why)
-	}
-	fmt.Fprintln(r.env.stderr, " (advice only: follow the shop's written procedures)")
-	if records != nil {
-		records.add(ctx, r.env, path, res.rec)
-	}
-}
-
 // recording follows one record run: it prints events and progress to
-// stderr and the finished file's path to stdout.
+// stderr, the verdict of each finished sample (and of any recovered at the
+// start), and the finished file's path to stdout.
 type recording struct {
 	env     *environ
 	port    string
 	channel string // the sample's channel ("" until one starts)
 	waitS   float64
+	records *recordWriter
 
-	started   bool
-	readings  int      // of the sample's channel since it started
-	lastC     float64  // its last valid reading, °C
-	path      string   // the finished curve file
-	recovered []string // samples an earlier run left interrupted, recovered at the start
-	status    acquire.Status
+	started  bool
+	readings int     // of the sample's channel since it started
+	lastC    float64 // its last valid reading, °C
+	path     string  // the finished curve file
+	status   feed.Status
 }
 
-func (r *recording) run(ctx context.Context, a *acquire.Acquirer, startNow bool) error {
+func (r *recording) run(ctx context.Context, a *acquire.Acquirer, tr *sample.Tracker, startNow bool) error {
 	runCtx, cancel := context.WithCancel(ctx)
 	defer cancel()
+	sess := session.New(a, tr, session.Options{Finished: r.finished})
 	errc := make(chan error, 1)
 	go func() { errc <- a.Run(runCtx) }()
+	go sess.Run()
 	if startNow {
 		ch := r.channel
 		if ch == "" {
 			ch = "1"
 		}
-		a.Start(ch)
+		sess.Start(ch)
 	}
 	var wait <-chan time.Time
 	if r.waitS > 0 {
@@ -167,15 +153,15 @@ func (r *recording) run(ctx context.Context, a *acquire.Acquirer, startNow bool)
 	progress := time.NewTicker(2 * time.Second)
 	defer progress.Stop()
 	var giveUp error
-	batches := a.Batches()
-	for batches != nil {
+	updates := sess.Updates()
+	for updates != nil {
 		select {
-		case b, ok := <-batches:
+		case u, ok := <-updates:
 			if !ok {
-				batches = nil
+				updates = nil
 				break
 			}
-			r.batch(b)
+			r.update(u)
 			if r.path != "" {
 				cancel()
 			}
@@ -208,27 +194,45 @@ func (r *recording) run(ctx context.Context, a *acquire.Acquirer, startNow bool)
 	return exitError{130}
 }
 
-func (r *recording) batch(b acquire.Batch) {
-	r.status = b.Status
-	for _, e := range b.Events {
-		if e.Kind == acquire.EventSampleStarted && !r.started && (r.channel == "" || e.Channel == r.channel) {
+// finished is given each finished sample by the session (on its
+// goroutine): it is stored.
+func (r *recording) finished(f sample.Finished) {
+	if r.records != nil {
+		r.records.Finished(f)
+	}
+}
+
+// verdict says a finished sample's verdict.
+func (r *recording) verdict(f sample.Finished) {
+	fmt.Fprintf(r.env.stderr, "undercool record: %s: verdict %s", filepath.Base(f.Path), f.Record.Verdict)
+	for _, why := range f.Record.Reasons {
+		fmt.Fprintf(r.env.stderr, "; %s", why)
+	}
+	fmt.Fprintln(r.env.stderr, " (advice only: follow the shop's written procedures)")
+}
+
+func (r *recording) update(u sample.Update) {
+	r.status = u.Status
+	for _, e := range u.Events {
+		if e.Kind == sample.EventStarted && !r.started && (r.channel == "" || e.Channel == r.channel) {
 			r.started, r.channel = true, e.Channel
 		}
-		fmt.Fprintf(r.env.stderr, "undercool record: %s\n", e.Text)
-		if e.Kind == acquire.EventSampleDone && e.Channel == r.channel {
-			r.path = e.Path
-		}
-		if e.Kind == acquire.EventRecovered && e.Path != "" {
-			r.recovered = append(r.recovered, e.Path)
+		if e.Text != "" {
+			fmt.Fprintf(r.env.stderr, "undercool record: %s\n", e.Text)
 		}
 	}
-	for _, rd := range b.Readings {
-		if !r.started || rd.Channel != r.channel {
-			continue
+	for _, f := range u.Finished {
+		r.verdict(f)
+		if !f.Recovered && f.Channel == r.channel {
+			r.path = f.Path
 		}
-		r.readings++
-		if rd.Flags&(acquire.FlagOpen|acquire.FlagFault) == 0 {
-			r.lastC = rd.TempC
+	}
+	for _, sn := range u.Channels {
+		if r.started && sn.Channel == r.channel {
+			r.readings = len(sn.T)
+			if sn.HasLast && sn.Last.Valid() {
+				r.lastC = sn.Last.TempC
+			}
 		}
 	}
 }
@@ -247,8 +251,12 @@ func (r *recording) progress() {
 			r.port, conn, s.Lines, s.Garbage, s.ReadingsPerS)
 		return
 	}
+	state := "recording"
+	if !s.Channels[r.channel].Recording {
+		state = "done"
+	}
 	fmt.Fprintf(r.env.stderr, "undercool record: %s, %s: channel %s %s; %d readings, %.1f °C, %d faults\n",
-		r.port, conn, r.channel, s.Channels[r.channel], r.readings, r.lastC, s.Faults)
+		r.port, conn, r.channel, state, r.readings, r.lastC, s.Faults)
 }
 
 // noSample explains why no sample started in --wait-s.

@@ -7,6 +7,9 @@ import (
 	"path/filepath"
 	"sync"
 
+	"github.com/undercool-foundry/undercool/internal/sample"
+	"github.com/undercool-foundry/undercool/internal/session"
+	"github.com/undercool-foundry/undercool/replay"
 	"github.com/undercool-foundry/undercool/tui"
 )
 
@@ -70,24 +73,28 @@ func runReplay(ctx context.Context, env *environ, args []string) error {
 		return err
 	}
 	abs, _ := filepath.Abs(path)
-	src := tui.NewReplay(curve, abs, curve.Get("channel"), *speed)
+	src := replay.New(curve, abs, "", *speed)
 	if *end {
 		src.SkipToEnd()
 	}
-	runCtx, cancel := context.WithCancel(ctx)
+	// The same way as a live sample: the replay's items through the
+	// tracker (its session) to the screen; the finished sample is kept for
+	// this session only (a replay stores nothing).
+	mem := &tui.Memory{}
+	sess := session.New(src, sample.New(sample.Config{Limits: book}), session.Options{Finished: mem.Add})
+	srcCtx, stopSrc := context.WithCancel(context.WithoutCancel(ctx))
+	defer stopSrc()
 	var wg sync.WaitGroup
-	wg.Add(1)
-	go func() {
-		defer wg.Done()
-		src.Run(runCtx)
-	}()
-	opt := tui.Options{Source: src, Title: "replay · " + filepath.Base(path), Limits: book, SaveLimits: saver, ReadCurve: columns.ReadFile}
+	wg.Go(func() { src.Run(srcCtx) })
+	wg.Go(sess.Run)
+	opt := tui.Options{Feed: sess, Pace: src, Title: "replay · " + filepath.Base(path), Limits: book, SaveLimits: saver,
+		Records: mem, ReadCurve: columns.ReadFile}
 	if isTerminal(env) {
-		err = tui.Run(runCtx, opt, env.stdin, env.stdout)
+		err = tui.Run(ctx, opt, env.stdin, env.stdout)
 	} else {
-		err = tui.Lines(runCtx, opt, env.stdout, 1)
+		err = tui.Lines(ctx, opt, env.stdout, 1)
 	}
-	cancel()
+	stopSrc()
 	wg.Wait()
 	return err
 }

@@ -4,10 +4,7 @@ import (
 	"context"
 	"flag"
 	"fmt"
-	"os"
 	"strconv"
-	"strings"
-	"time"
 
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
@@ -96,14 +93,15 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 		if a == "" {
 			a = c.Get("alloy")
 		}
-		rec = assess.Assess(assess.Input{File: pos[0], Alloy: a, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped, Limits: book, Meta: c.Meta})
+		in := assess.Input{File: pos[0], Alloy: a, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped, Limits: book, Meta: c.Meta}
+		rec = assess.Assess(in)
 		rec.Warnings = append(rec.Warnings, c.Notes...) // what reading the file took (swapped columns, padding)
 		s := sampleFromCurve(pos[0], c, rec)
 		if s.CurveSHA256, err = store.HashFile(pos[0]); err != nil {
 			return err
 		}
 		info = report.Info{Sample: s.Sample, Ladle: s.Ladle, Alloy: rec.Alloy, Furnace: s.Furnace, Operator: s.Operator,
-			Time: s.Recorded, CurvePath: pos[0], CurveSHA256: s.CurveSHA256}
+			Time: s.Recorded, CurvePath: pos[0], CurveSHA256: s.CurveSHA256, Detect: assess.Options(in)}
 		if s.Simulated {
 			info.Notes = append(info.Notes, "simulated cup, not a measurement")
 		}
@@ -153,92 +151,4 @@ func reportStored(ctx context.Context, env *environ, dbPath string, id int64, co
 		info.Notes = append(info.Notes, "simulated cup, not a measurement")
 	}
 	return c, s.Record, info, nil
-}
-
-// analyzeStore keeps 'undercool analyze --store' results: each analysed
-// curve file becomes a new sample, or (same file contents already stored)
-// a further result that keeps the earlier ones, or nothing when the latest
-// stored result is the same.
-type analyzeStore struct {
-	db     *store.DB
-	read   func(string) (*curvefile.Curve, error) // reads the curve files as analyze did
-	counts map[store.PutOutcome]int
-	failed int
-}
-
-func openAnalyzeStore(ctx context.Context, env *environ, dbPath string) (*analyzeStore, error) {
-	db, err := openRecords(ctx, env, dbPath)
-	if err != nil {
-		return nil, err
-	}
-	return &analyzeStore{db: db, read: curvefile.ReadFile, counts: map[store.PutOutcome]int{}}, nil
-}
-
-// add stores one analysed file; a failure is reported and counted, and
-// the other files are still stored.
-func (a *analyzeStore) add(ctx context.Context, env *environ, path string, rec assess.Record) {
-	if err := a.put(ctx, path, rec); err != nil {
-		a.failed++
-		fmt.Fprintf(env.stderr, "undercool analyze: not stored: %v\n", err)
-	}
-}
-
-func (a *analyzeStore) put(ctx context.Context, path string, rec assess.Record) error {
-	c, err := a.read(path) // for the metadata; the analysis is rec
-	if err != nil {
-		return err
-	}
-	s := sampleFromCurve(path, c, rec)
-	if s.CurveSHA256, err = store.HashFile(path); err != nil {
-		return err
-	}
-	_, outcome, err := a.db.Put(ctx, s)
-	if err != nil {
-		return fmt.Errorf("%s: %w", path, err)
-	}
-	a.counts[outcome]++
-	return nil
-}
-
-// finish closes the database and says what was stored.
-func (a *analyzeStore) finish(env *environ) {
-	if a == nil {
-		return
-	}
-	fmt.Fprintf(env.stderr, "stored in %s: %d new samples, %d new results (earlier results kept), %d unchanged, %d not stored\n",
-		a.db.Path(), a.counts[store.PutNewSample], a.counts[store.PutNewResult], a.counts[store.PutUnchanged], a.failed)
-	a.db.Close()
-}
-
-// anyFailed reports whether some file could not be stored.
-func (a *analyzeStore) anyFailed() bool { return a != nil && a.failed > 0 }
-
-// sampleFromCurve fills a store.Sample from a curve file's metadata (keys
-// sample, ladle, furnace, operator, channel, thermocouple, note, started,
-// simulated, interrupted) and its record; the hash is left to the caller.
-func sampleFromCurve(path string, c *curvefile.Curve, rec assess.Record) store.Sample {
-	s := store.Sample{
-		Sample: c.Get("sample"), Ladle: c.Get("ladle"), Alloy: rec.Alloy, Furnace: c.Get("furnace"),
-		Operator: c.Get("operator"), Channel: c.Get("channel"), Thermocouple: c.Get("thermocouple"),
-		Note: c.Get("note"), CurvePath: path, Record: rec, LimitsVersion: rec.LimitsVersion,
-		Simulated:   metaTrue(c.Get("simulated")),
-		Interrupted: metaTrue(c.Get("interrupted")),
-	}
-	if s.Alloy == "" {
-		s.Alloy = c.Get("alloy")
-	}
-	if t, err := time.Parse(time.RFC3339Nano, c.Get("started")); err == nil {
-		s.Recorded = t
-	} else if st, err := os.Stat(path); err == nil {
-		s.Recorded = st.ModTime() // no start time in the file: when it was last written
-	}
-	return s
-}
-
-func metaTrue(v string) bool {
-	switch strings.ToLower(strings.TrimSpace(v)) {
-	case "true", "yes", "1":
-		return true
-	}
-	return false
 }

@@ -1389,3 +1389,11 @@ func (a *Analyzer) result(live bool) Result {
 	}
 	return r
 }
+
+// Slope is the T′ the points are found on, as far as the analysis has
+// computed it: the Savitzky–Golay slope (Hints.SlopeS) of the despiked
+// readings, °C/s, NaN over the first half window, with the time of each
+// value, s. It grows with each call on a growing curve; the values already
+// given do not change. The slices are the Analyzer's own: read them before
+// the next call and do not change them.
+func (a *Analyzer) Slope() (t, d []float64) { return a.ts[:len(a.d)], a.d }

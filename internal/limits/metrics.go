@@ -2,7 +2,11 @@ package limits
 
 import "strconv"
 
-// MetricInfo describes a metric that a limit can be set on.
+// MetricInfo describes a metric that a limit can be set on. The list of
+// them (Metrics) is the project's one registry of metrics: limits checks
+// and words its reasons with it, and the record's value of each is
+// assess.Metric.Value (by the same key, the record's JSON key); the
+// dashboard, the store and the report page read it from there.
 type MetricInfo struct {
 	Name     string // key in the limits file and the JSON record
 	Label    string // plain words for reasons
@@ -11,6 +15,7 @@ type MetricInfo struct {
 }
 
 var metricList = []MetricInfo{
+	{"pour_peak_c", "pour peak", "°C", 1},
 	{"liquidus_c", "liquidus arrest", "°C", 1},
 	{"liquidus_min_c", "primary undercooling minimum", "°C", 1},
 	{"eutectic_min_c", "eutectic minimum", "°C", 1},

@@ -1,7 +1,8 @@
 // Package report draws the page that goes into a ladle's quality record:
 // a title with the sample, ladle, alloy and time; the cooling curve with
-// its characteristic points marked and labelled; the curve's derivative
-// dT/dt in a second panel on the same time axis; a block with the results,
+// its characteristic points marked and labelled; the T′ the analysis found
+// them on (despiked, as the dashboard draws it) in a second panel on the
+// same time axis; a block with the results,
 // the verdict, its reasons and advice; and the caution that the advice
 // defers to the shop's written procedures. PNG or SVG, by the file's
 // extension (gonum/plot's vgimg and vgsvg back ends).
@@ -30,10 +31,11 @@ import (
 	"gonum.org/v1/plot/vg/vgimg"
 	"gonum.org/v1/plot/vg/vgsvg"
 
+	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
-	"github.com/undercool-foundry/undercool/internal/curve"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/forecast"
+	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/solidpath"
 )
 
@@ -56,6 +58,10 @@ type Info struct {
 	// Notes are extra lines for the text block, e.g. that the curve file
 	// changed since the sample was stored.
 	Notes []string
+	// Detect are the detector options the sample was analysed with
+	// (assess.Options); the zero value takes the record's family. The
+	// dT/dt panel is the analyser's T′ under them.
+	Detect arrest.Options
 	// Predictions are the cup model's advice on the sample's additions
 	// (internal/forecast), shown under "Estimate" with the caution that a
 	// model estimate never replaces the shop's practice.
@@ -190,7 +196,7 @@ func drawPage(dc draw.Canvas, c *curvefile.Curve, rec assess.Record, info Info) 
 	}
 
 	// the two panels
-	temp, deriv, err := curvePlots(c, rec)
+	temp, deriv, err := curvePlots(c, rec, info.Detect)
 	if err != nil {
 		return err
 	}
@@ -351,7 +357,7 @@ var (
 	gridColour  = color.Gray{Y: 0xc8}
 )
 
-func curvePlots(c *curvefile.Curve, rec assess.Record) (*plot.Plot, *plot.Plot, error) {
+func curvePlots(c *curvefile.Curve, rec assess.Record, detect arrest.Options) (*plot.Plot, *plot.Plot, error) {
 	tp := plot.New()
 	tp.Title.Text = "Cooling curve"
 	tp.Y.Label.Text = "temperature, °C"
@@ -371,14 +377,17 @@ func curvePlots(c *curvefile.Curve, rec assess.Record) (*plot.Plot, *plot.Plot, 
 	dp := plot.New()
 	dp.Title.Text = "Cooling rate dT/dt"
 	dp.X.Label.Text = "time, s"
-	dp.Y.Label.Text = "dT/dt, °C/s (" + derivMethod(c) + ")"
+	dp.Y.Label.Text = "dT/dt, °C/s (as analysed, despiked)"
 	dp.Add(plotter.NewGrid())
-	d := Derivative(c.Time, c.Temp)
+	if detect == (arrest.Options{}) {
+		detect.Family = arrest.Family(rec.Family)
+	}
+	dt, d := sample.Slope(c.Time, c.Temp, detect)
 	dpts := make(plotter.XYs, 0, len(d))
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for i, v := range d {
 		if !math.IsNaN(v) {
-			dpts = append(dpts, plotter.XY{X: c.Time[i], Y: v})
+			dpts = append(dpts, plotter.XY{X: dt[i], Y: v})
 			lo, hi = min(lo, v), max(hi, v)
 		}
 	}
@@ -391,7 +400,7 @@ func curvePlots(c *curvefile.Curve, rec assess.Record) (*plot.Plot, *plot.Plot, 
 		dp.Add(dl)
 		// the pour transient dwarfs the arrests: show the range after it,
 		// clipping the pour's spike
-		dp.Y.Min, dp.Y.Max = derivRange(c.Time, d, rec.PourPeakS, lo, hi)
+		dp.Y.Min, dp.Y.Max = derivRange(dt, d, rec.PourPeakS, lo, hi)
 	}
 	zero, _ := plotter.NewLine(plotter.XYs{{X: c.Time[0], Y: 0}, {X: c.Time[len(c.Time)-1], Y: 0}})
 	zero.Color, zero.Dashes = gridColour, []vg.Length{vg.Points(3), vg.Points(2)}
@@ -535,96 +544,27 @@ func derivRange(t, d []float64, pourS *float64, lo, hi float64) (float64, float6
 	return max(lo, min(a-pad, 0)), min(hi, max(b+pad, 0))
 }
 
-// derivativeWindowS is the span of the Savitzky–Golay window for the
-// plotted derivative, s.
-const derivativeWindowS = 1.5
-
-func derivMethod(c *curvefile.Curve) string {
-	if _, ok := evenStep(c.Time); ok {
-		return fmt.Sprintf("Savitzky–Golay, %.1f s", derivativeWindowS)
-	}
-	return "central difference"
+// result is one line of the results block: a metric of the registry
+// (assess.Metrics) and its value.
+type result struct {
+	m assess.Metric
+	v float64
 }
 
-// evenStep returns the median time step and whether the samples are evenly
-// spaced (every step within 1 % of the median), as Savitzky–Golay needs.
-func evenStep(t []float64) (float64, bool) {
-	if len(t) < 3 {
-		return 0, false
-	}
-	steps := make([]float64, len(t)-1)
-	for i := range steps {
-		steps[i] = t[i+1] - t[i]
-	}
-	sorted := slices.Clone(steps)
-	sort.Float64s(sorted)
-	dt := sorted[len(sorted)/2]
-	if dt <= 0 {
-		return 0, false
-	}
-	for _, s := range steps {
-		if math.Abs(s-dt) > 0.01*dt {
-			return dt, false
-		}
-	}
-	return dt, true
-}
-
-// Derivative returns dT/dt (°C/s) at each sample of an evenly spaced curve
-// by the quadratic Savitzky–Golay derivative filter over
-// derivativeWindowS (internal/curve); for an unevenly spaced or very short
-// curve it falls back to the central difference
-// (T[i+1] − T[i−1])/(t[i+1] − t[i−1]), one-sided at the ends.
-func Derivative(t, temp []float64) []float64 {
-	if dt, ok := evenStep(t); ok {
-		w := curve.WindowSamples(derivativeWindowS, 1/dt, 2, 5)
-		if w <= len(temp) {
-			return curve.SavGol(w, 2, 1).Apply(nil, temp, dt)
-		}
-	}
-	d := make([]float64, len(temp))
-	n := len(temp)
-	for i := range d {
-		a, b := max(i-1, 0), min(i+1, n-1)
-		if a == b || t[b] == t[a] {
-			d[i] = math.NaN()
+// resultLines are the registry's metrics the record has a value of, in
+// the registry's order, less the solidification path's (fraction solid,
+// latent heat: beside the fs(T) panel, drawPathFigures).
+func resultLines(rec assess.Record) []result {
+	var rs []result
+	for _, m := range assess.Metrics() {
+		if strings.HasPrefix(m.Name, "fs_") || strings.HasPrefix(m.Name, "latent_heat_") {
 			continue
 		}
-		d[i] = (temp[b] - temp[a]) / (t[b] - t[a])
+		if v, ok := m.Value(&rec); ok {
+			rs = append(rs, result{m, v})
+		}
 	}
-	return d
-}
-
-// result is one line of the results block.
-type result struct {
-	name string
-	v    *float64
-	unit string
-}
-
-func resultLines(rec assess.Record) []result {
-	rs := []result{
-		{"pour peak", rec.PourPeakC, "°C"},
-		{"liquidus", rec.LiquidusC, "°C"},
-		{"liquidus minimum", rec.LiquidusMinC, "°C"},
-		{"eutectic minimum", rec.EutecticMinC, "°C"},
-		{"eutectic maximum", rec.EutecticMaxC, "°C"},
-		{"recalescence", rec.RecalescenceC, "°C"},
-		{"end of freezing", rec.SolidusC, "°C"},
-		{"undercooling (Tst − eut. min)", rec.UndercoolingC, "°C"},
-		{"chill margin (eut. min − Tmst)", rec.ChillMarginC, "°C"},
-		{"carbon equivalent (liquidus)", rec.CE, ""},
-		{"C estimate", rec.CPct, "%"},
-		{"Si estimate", rec.SiPct, "%"},
-		{"α-Al undercooling", rec.AlphaUndercoolingC, "°C"},
-		{"eutectic depression", rec.EutecticDepressionC, "°C"},
-		{"plateau", rec.PlateauC, "°C"},
-		{"plateau − fixed point", rec.FixedPointErrorC, "°C"},
-		{"plateau duration", rec.PlateauS, "s"},
-		{"freezing time", rec.FreezingTimeS, "s"},
-		{"cooling rate (liquid)", rec.CoolingRateCps, "°C/s"},
-	}
-	return slices.DeleteFunc(rs, func(r result) bool { return r.v == nil })
+	return rs
 }
 
 func drawResults(dc draw.Canvas, left, right, y vg.Length, rec assess.Record, info Info) {
@@ -658,12 +598,9 @@ func drawResults(dc draw.Canvas, left, right, y vg.Length, rec assess.Record, in
 		if i >= half {
 			x, row = left+colW, i-half
 		}
-		val := fmt.Sprintf("%.1f %s", *r.v, r.unit)
-		if r.unit == "%" || r.unit == "" || r.unit == "°C/s" {
-			val = strings.TrimSpace(fmt.Sprintf("%.2f %s", *r.v, r.unit))
-		}
+		val := r.m.Format(r.v)
 		yy := y - vg.Length(row)*line
-		dc.FillText(body, vg.Point{X: x, Y: yy}, r.name)
+		dc.FillText(body, vg.Point{X: x, Y: yy}, r.m.Label)
 		dc.FillText(body, vg.Point{X: x + colW - 24*vg.Millimeter, Y: yy}, val)
 	}
 	y -= vg.Length(half)*line + 3*vg.Millimeter

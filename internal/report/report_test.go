@@ -5,7 +5,6 @@ import (
 	"encoding/xml"
 	"image/png"
 	"io"
-	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -179,38 +178,5 @@ func TestWriteErrors(t *testing.T) {
 	left, _ := filepath.Glob(filepath.Join(dir, ".*"))
 	if len(left) > 0 {
 		t.Errorf("temporary files left: %v", left)
-	}
-}
-
-// TestDerivative checks both derivative paths against calculus: the
-// quadratic Savitzky–Golay filter is exact for a quadratic (Savitzky &
-// Golay 1964), and so is the central difference on even steps; on uneven
-// steps the central difference is exact for a straight line.
-func TestDerivative(t *testing.T) {
-	n := 600
-	tt := make([]float64, n)
-	q := make([]float64, n)
-	for i := range tt {
-		tt[i] = float64(i) * 0.1 // 10 Hz
-		q[i] = 1300 - 2.5*tt[i] + 0.004*tt[i]*tt[i]
-	}
-	d := Derivative(tt, q)
-	for i, v := range d {
-		if want := -2.5 + 0.008*tt[i]; math.Abs(v-want) > 1e-9 {
-			t.Fatalf("SG d/dt at %g s = %.12g, want %.12g ± 1e-9", tt[i], v, want)
-		}
-	}
-	uneven := []float64{0, 0.1, 0.25, 0.3, 0.5, 0.55, 0.9}
-	lin := make([]float64, len(uneven))
-	for i, x := range uneven {
-		lin[i] = 1250 - 1.75*x
-	}
-	if _, ok := evenStep(uneven); ok {
-		t.Fatal("uneven steps taken for even")
-	}
-	for i, v := range Derivative(uneven, lin) {
-		if math.Abs(v+1.75) > 1e-9 {
-			t.Errorf("central difference at %g s = %g, want -1.75", uneven[i], v)
-		}
 	}
 }

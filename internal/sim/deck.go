@@ -9,6 +9,8 @@ import (
 	"math/rand/v2"
 	"strconv"
 	"time"
+
+	"github.com/undercool-foundry/undercool/internal/protocol"
 )
 
 // Clock is the deck's time source; tests replace it.
@@ -130,6 +132,7 @@ type Deck struct {
 	next      int        // next ladle number
 	count     int        // cups of the current ladle
 	lastAlloy string
+	buf, num  []byte // the line being written, a number being rounded
 }
 
 // NewDeck makes a deck. The same options give the same stream.
@@ -242,7 +245,8 @@ func (d *Deck) Run(ctx context.Context, w io.Writer) error {
 	for i, id := range ids {
 		chans[i] = &channelRun{id: id}
 	}
-	d.line(bw, "! dev=undercool-sim fw=1.0 tc=K simulated=true site=\"Cindermoth Iron & Light Alloy works\"")
+	d.line(bw, protocol.Line{Kind: protocol.LineInfo, Info: []protocol.KV{{Key: "dev", Value: "undercool-sim"}, {Key: "fw", Value: "1.0"},
+		{Key: "tc", Value: "K"}, {Key: "simulated", Value: "true"}, {Key: "site", Value: "Cindermoth Iron & Light Alloy works"}}})
 	start := d.opt.Clock.Now()
 	dt := 1 / d.opt.RateHz
 	for tick := 0; ; tick++ {
@@ -280,26 +284,29 @@ func (d *Deck) reading(w *bufio.Writer, c *channelRun, tagged bool, ms uint64) {
 		c.out = Simulate(c.ladle.Params)
 		c.k, c.tail = 0, 0
 		c.tailN = int(c.ladle.AfterS * d.opt.RateHz)
-		info := fmt.Sprintf("! sample=%q alloy=%s operator=%q ladle=%s furnace=%q simulated=true", c.ladle.Sample, c.ladle.Params.Alloy, c.ladle.Operator, c.ladle.Ladle, c.ladle.Furnace)
+		info := protocol.Line{Kind: protocol.LineInfo, Info: []protocol.KV{
+			{Key: "sample", Value: c.ladle.Sample}, {Key: "alloy", Value: c.ladle.Params.Alloy},
+			{Key: "operator", Value: c.ladle.Operator}, {Key: "ladle", Value: c.ladle.Ladle},
+			{Key: "furnace", Value: c.ladle.Furnace}, {Key: "simulated", Value: "true"}}}
 		if tagged {
-			info += " ch=" + c.id
+			info.Info = append(info.Info, protocol.KV{Key: "ch", Value: c.id})
 		}
 		d.line(w, info)
 	}
-	prefix := ""
+	l := protocol.Line{Kind: protocol.LineReading, HasMS: true, MS: ms}
 	if tagged {
-		prefix = "ch=" + c.id + " "
+		l.Channel = c.id
 	}
-	prefix += "ms=" + strconv.FormatUint(ms, 10) + " "
 	if c.k < len(c.out.Time) {
 		k := c.k
 		c.k++
 		if c.out.Open != nil && c.out.Open[k] {
-			d.line(w, prefix+"f=open")
+			l.Fault = protocol.FaultOpen
+			d.line(w, l)
 			return
 		}
 		c.last = c.out.Temp[k]
-		d.line(w, prefix+"c="+strconv.FormatFloat(c.last, 'f', 2, 64))
+		d.line(w, d.temp(l, c.last))
 		return
 	}
 	// Pulled out: the bead cools in air toward room temperature (τ ≈ 3 s,
@@ -310,22 +317,30 @@ func (d *Deck) reading(w *bufio.Writer, c *channelRun, tagged bool, ms uint64) {
 		amb = 25
 	}
 	if c.out.Open != nil {
-		d.line(w, prefix+"f=open") // the broken thermocouple stays open until the cup is replaced
+		l.Fault = protocol.FaultOpen // the broken thermocouple stays open until the cup is replaced
+		d.line(w, l)
 		return
 	}
 	c.last = amb + (c.last-amb)*math.Exp(-1/(3*d.opt.RateHz)) + 0.03*d.noise.NormFloat64()
-	d.line(w, prefix+"c="+strconv.FormatFloat(c.last, 'f', 2, 64))
+	d.line(w, d.temp(l, c.last))
 }
 
-// line writes one protocol line, with the checksum when asked.
-func (d *Deck) line(w *bufio.Writer, s string) {
-	w.WriteString(s)
+// temp makes l a temperature reading of v °C as the amplifier resolves it,
+// to 0.01 °C.
+func (d *Deck) temp(l protocol.Line, v float64) protocol.Line {
+	d.num = strconv.AppendFloat(d.num[:0], v, 'f', 2, 64)
+	l.HasTemp = true
+	l.TempC, _ = strconv.ParseFloat(string(d.num), 64)
+	return l
+}
+
+// line writes one protocol line (protocol.AppendLine), with the
+// protocol's checksum (protocol.AppendChecksum) when asked.
+func (d *Deck) line(w *bufio.Writer, l protocol.Line) {
+	d.buf = protocol.AppendLine(d.buf[:0], l)
 	if d.opt.Checksum {
-		var x byte
-		for i := 0; i < len(s); i++ {
-			x ^= s[i]
-		}
-		fmt.Fprintf(w, "*%02X", x)
+		d.buf = protocol.AppendChecksum(d.buf)
 	}
-	w.WriteByte('\n')
+	d.buf = append(d.buf, '\n')
+	w.Write(d.buf)
 }

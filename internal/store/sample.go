@@ -96,7 +96,6 @@ func Metrics() []string {
 // metricField is one *float64 field of assess.Record.
 type metricField struct {
 	key    string // JSON key
-	index  int    // field index in assess.Record
 	column bool   // results has a column of this name
 }
 
@@ -176,23 +175,18 @@ var metricFields = func() []metricField {
 		if f.Type != ptr || key == "" || key == "-" {
 			continue
 		}
-		fs = append(fs, metricField{key: key, index: i, column: slices.Contains(pointColumns, key)})
+		fs = append(fs, metricField{key: key, column: slices.Contains(pointColumns, key)})
 	}
 	return fs
 }()
 
-// Value returns a record's value of a metric from Metrics; false when it
-// is null or not a metric.
+// Value returns a record's value of a metric from Metrics (the record's
+// own accessor, assess.Value); false when it is null or not a metric.
 func Value(rec assess.Record, metric string) (float64, bool) {
-	f, ok := metricByKey(metric)
-	if !ok {
+	if _, ok := metricByKey(metric); !ok {
 		return 0, false
 	}
-	p := reflect.ValueOf(rec).Field(f.index).Interface().(*float64)
-	if p == nil {
-		return 0, false
-	}
-	return *p, true
+	return assess.Value(&rec, metric)
 }
 
 func metricByKey(key string) (metricField, bool) {

@@ -1,4 +1,11 @@
-package acquire
+// Package protocol is the project's line protocol for thermocouple
+// amplifiers, version 1 (DEVELOPERS.md, "The line protocol"): ASCII text, one reading a line, space-separated key=value
+// tokens, an optional "*HH" XOR checksum, "!" device-information lines and
+// the plain "one number a line" form of simple boards. It holds the framer
+// (Framer, a bufio.SplitFunc), the parser (ParseLine) and the writer
+// (AppendLine, AppendChecksum) that the acquirer and the simulator's
+// virtual amplifier share. It is pure: bytes in, values out.
+package protocol
 
 import (
 	"bytes"
@@ -8,11 +15,6 @@ import (
 	"strings"
 	"sync/atomic"
 )
-
-// The line protocol, version 1 (DEVELOPERS.md, "The line protocol"): ASCII
-// text, one reading a line, space-separated key=value tokens, an optional
-// "*HH" XOR checksum, "!" device-information lines and the plain "one number
-// a line" form of simple boards.
 
 // MaxLineLen is the longest line the framer passes on, terminator excluded.
 // A longer line is counted as over-long garbage and dropped.
@@ -173,8 +175,9 @@ func Checksum(b []byte) byte {
 	return x
 }
 
-// AppendChecksum appends "*HH", the checksum of line, to line. Firmware
-// writers may use it to check their own implementation.
+// AppendChecksum appends "*HH", the checksum of line, to line (upper-case
+// hex). The simulator's virtual amplifier writes its checksums with it;
+// firmware writers may use it to check their own implementation.
 func AppendChecksum(line []byte) []byte {
 	const hex = "0123456789ABCDEF"
 	x := Checksum(line)
@@ -343,6 +346,26 @@ func parseInfo(b []byte, l Line) (Line, error) {
 	return l, nil
 }
 
+// sampleKeys are the device-information keys that describe the sample rather
+// than the device (the same keys as the dashboard's sample form and the
+// curve file's metadata). A device line holding them names the next sample.
+var sampleKeys = []string{"sample", "alloy", "operator", "ladle", "furnace", "cup", "melt", "heat", "note"}
+
+// SampleKeys lists the device-information keys that describe the sample
+// (sample, alloy, operator, ladle, furnace, cup, melt, heat, note), in the
+// order the curve files write them.
+func SampleKeys() []string { return append([]string(nil), sampleKeys...) }
+
+// IsSampleKey reports whether key is one of SampleKeys.
+func IsSampleKey(key string) bool {
+	for _, k := range sampleKeys {
+		if k == key {
+			return true
+		}
+	}
+	return false
+}
+
 // InfoValue returns the value of key in a device-information line, or "".
 func (l *Line) InfoValue(key string) string {
 	for _, kv := range l.Info {
@@ -360,7 +383,7 @@ func parseChannel(v []byte) (string, error) {
 		return "", fmt.Errorf("channel id %q is longer than 16 characters", v)
 	}
 	for _, c := range v {
-		if !isIDByte(c) {
+		if !IsIDByte(c) {
 			return "", fmt.Errorf("channel id %q: only letters, digits, '_' and '-' are allowed", v)
 		}
 	}
@@ -444,15 +467,16 @@ func isInfoKey(key []byte) bool {
 		return false
 	}
 	for _, c := range key {
-		if !isIDByte(c) {
+		if !IsIDByte(c) {
 			return false
 		}
 	}
 	return true
 }
 
-// isIDByte: letters, digits, '_' and '-', the bytes of ids and keys.
-func isIDByte(c byte) bool {
+// IsIDByte reports whether c may be part of a channel id or an info key:
+// letters, digits, '_' and '-'.
+func IsIDByte(c byte) bool {
 	return c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z' || c >= '0' && c <= '9' || c == '_' || c == '-'
 }
 
@@ -519,8 +543,8 @@ func countBits(x uint8) int {
 }
 
 // AppendLine appends l in protocol form (without a terminator or
-// checksum): the inverse of ParseLine, used by fake devices in tests and as
-// a reference for firmware writers. Numbers are written in their shortest
+// checksum): the inverse of ParseLine, used by the simulator's virtual
+// amplifier and fake devices in tests, and a reference for firmware writers. Numbers are written in their shortest
 // exact form.
 func AppendLine(b []byte, l Line) []byte {
 	switch l.Kind {
@@ -553,7 +577,7 @@ func AppendLine(b []byte, l Line) []byte {
 			b = append(b, ' ')
 		}
 	}
-	if l.Channel != "" && l.Channel != "1" {
+	if l.Channel != "" {
 		b = append(b, "ch="...)
 		b = append(b, l.Channel...)
 	}

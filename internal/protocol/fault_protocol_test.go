@@ -1,4 +1,4 @@
-package acquire
+package protocol
 
 import (
 	"strings"
