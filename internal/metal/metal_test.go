@@ -181,7 +181,7 @@ func TestThetaFromFBisection(t *testing.T) {
 
 func TestIron(t *testing.T) {
 	e := DefaultEutectic()
-	// Field notes §2 (memory, unverified): Tst = 1153 + 5.25·Si − 14.88·P,
+	// Fe-C-Si literature (memory, unverified; docs/sources.md §2): Tst = 1153 + 5.25·Si − 14.88·P,
 	// Tmst = 1148 − 15·Si. Si 2.1, P 0.04: by hand 1163.4298 and 1116.5.
 	near(t, "Tst", e.Stable(2.1, 0.04), 1163.4298, 1e-9)
 	near(t, "Tmst", e.Metastable(2.1, 0.04), 1116.5, 1e-9)

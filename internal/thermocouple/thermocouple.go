@@ -20,7 +20,7 @@
 // 1e-7 °C). Below the published inverse ranges (types E, K, N, T below
 // −200 °C) the same bracketed solve starts from a straight-line guess.
 //
-// Cold-junction compensation (the usual practice, and field-notes §7): a
+// Cold-junction compensation (the usual practice; docs/sources.md §7): a
 // thermocouple whose measuring junction is at t and whose cold junction is at
 // t_cj produces E(t) − E(t_cj); so EMF returns that difference and Temp
 // solves E(t) = E_measured + E(t_cj).
