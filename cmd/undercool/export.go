@@ -119,14 +119,14 @@ func writeRecordsCSV(w io.Writer, entries []store.Entry, opt csvOptions) error {
 		return "no"
 	}
 	row := make([]string, 0, len(head))
-	for _, e := range entries {
-		s, r := e.Sample, e.Result
+	for i := range entries {
+		s, r := &entries[i].Sample, &entries[i].Result
 		row = append(row[:0], strconv.FormatInt(s.ID, 10), strconv.FormatInt(r.ID, 10),
 			s.Recorded.UTC().Format(time.RFC3339), r.Analysed.UTC().Format(time.RFC3339), csvText(s.Site), csvText(s.Deck),
 			csvText(s.Sample), csvText(s.Ladle), csvText(s.Alloy), csvText(s.Furnace), csvText(s.Operator), csvText(s.Channel),
 			csvText(s.Thermocouple), r.Verdict, csvText(r.LimitsVersion))
 		for _, m := range metrics {
-			if v, ok := store.Value(r.Record, m); ok {
+			if v, ok := store.Value(&r.Record, m); ok {
 				row = append(row, num(v))
 			} else {
 				row = append(row, "")

@@ -305,15 +305,15 @@ func writeHistoryTable(w io.Writer, entries []store.Entry, dbPath string) error 
 		fmt.Fprintf(tw, "\t%s", c.head)
 	}
 	fmt.Fprintln(tw, "\tFLAGS")
-	for _, e := range entries {
-		s, r := e.Sample, e.Result
+	for i := range entries {
+		s, r := &entries[i].Sample, &entries[i].Result
 		fmt.Fprintf(tw, "%d\t%s", s.ID, s.Recorded.Local().Format("2006-01-02 15:04"))
 		if decks {
 			fmt.Fprintf(tw, "\t%s", dash(strings.Trim(s.Site+"/"+s.Deck, "/")))
 		}
 		fmt.Fprintf(tw, "\t%s\t%s\t%s\t%s", dash(s.Sample), dash(s.Ladle), dash(s.Alloy), r.Verdict)
 		for _, c := range historyColumns {
-			if v, ok := store.Value(r.Record, c.key); ok {
+			if v, ok := store.Value(&r.Record, c.key); ok {
 				fmt.Fprintf(tw, "\t%.1f", v)
 			} else {
 				fmt.Fprint(tw, "\t–")

@@ -182,26 +182,37 @@ var metricFields = func() []metricField {
 }()
 
 // Value returns a record's value of a metric from Metrics; false when it
-// is null or not a metric.
-func Value(rec assess.Record, metric string) (float64, bool) {
+// is null or not a metric. It takes the record by pointer: it is called
+// for every figure of every row of a history or an export, and a record
+// passed by value would be copied to the heap on each call (reflect).
+func Value(rec *assess.Record, metric string) (float64, bool) {
 	f, ok := metricByKey(metric)
 	if !ok {
 		return 0, false
 	}
-	p := reflect.ValueOf(rec).Field(f.index).Interface().(*float64)
+	p := reflect.ValueOf(rec).Elem().Field(f.index).Interface().(*float64)
 	if p == nil {
 		return 0, false
 	}
 	return *p, true
 }
 
-func metricByKey(key string) (metricField, bool) {
-	for _, f := range metricFields {
-		if f.key == key {
-			return f, true
-		}
+// metricIndex finds a metric's place in metricFields by its key (an
+// export looks up every metric of every row).
+var metricIndex = func() map[string]int {
+	m := make(map[string]int, len(metricFields))
+	for i, f := range metricFields {
+		m[f.key] = i
 	}
-	return metricField{}, false
+	return m
+}()
+
+func metricByKey(key string) (metricField, bool) {
+	i, ok := metricIndex[key]
+	if !ok {
+		return metricField{}, false
+	}
+	return metricFields[i], true
 }
 
 // sampleColumns are the samples columns every insert writes, in the

@@ -639,10 +639,11 @@ func TestMetrics(t *testing.T) {
 			t.Errorf("Metrics() lacks %s: %v", k, m)
 		}
 	}
-	if v, ok := Value(constructedRecord("grey-iron", 1143.5, "pass"), "eutectic_min_c"); !ok || v != 1143.5 {
+	want := constructedRecord("grey-iron", 1143.5, "pass")
+	if v, ok := Value(&want, "eutectic_min_c"); !ok || v != 1143.5 {
 		t.Errorf("Value(eutectic_min_c) = %v, %v", v, ok)
 	}
-	if _, ok := Value(assess.Record{}, "eutectic_min_c"); ok {
+	if _, ok := Value(&assess.Record{}, "eutectic_min_c"); ok {
 		t.Error("Value of a null point is not false")
 	}
 	if slices.Contains(m, "verdict") || slices.Contains(m, "samples") {
