@@ -500,7 +500,7 @@ func recordJSON(rec assess.Record) ([]byte, error) {
 }
 
 // joinLines keeps plain-language lines one a line (a line break inside one
-// becomes a space); splitLines undoes it.
+// becomes a space); cells.split undoes it.
 func joinLines(lines []string) string {
 	var b strings.Builder
 	for i, l := range lines {
@@ -515,13 +515,6 @@ func joinLines(lines []string) string {
 		}, l))
 	}
 	return b.String()
-}
-
-func splitLines(s string) []string {
-	if s == "" {
-		return []string{}
-	}
-	return strings.Split(s, "\n")
 }
 
 // ErrNoSample is returned for a sample id that is not in the database.
