@@ -5,6 +5,8 @@
 package assess
 
 import (
+	"sync"
+
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/limits"
@@ -150,7 +152,7 @@ func FromResult(in Input, res arrest.Result) Record {
 func resolve(in *Input) (*limits.Book, *limits.Alloy) {
 	book := in.Limits
 	if book == nil {
-		book = builtin
+		book = builtin()
 	}
 	res := book.Resolve(in.Alloy)
 	if in.Family == "" {
@@ -159,8 +161,10 @@ func resolve(in *Input) (*limits.Book, *limits.Alloy) {
 	return book, res.Entry
 }
 
-// builtin is parsed once; Assess only reads it.
-var builtin = limits.Builtin()
+// builtin is parsed once, when first needed (not when the program
+// starts: every command would pay for it, about 2 ms); Assess only reads
+// it.
+var builtin = sync.OnceValue(limits.Builtin)
 
 func fromResult(in Input, res arrest.Result, book *limits.Book, alloy *limits.Alloy) Record {
 	r := Record{
