@@ -54,24 +54,39 @@ func runExport(ctx context.Context, env *environ, args []string) error {
 		fmt.Fprintln(env.stderr, "undercool export: --json does not go with --csv, --decimal-comma or --bom")
 		return errUsage
 	}
-	entries, _, err := f.entries(ctx, env, "export", func(flt *store.Filter) { flt.Full, flt.Oldest = true, true })
+	db, flt, err := f.open(ctx, env, "export")
 	if err != nil {
 		return err
 	}
+	defer db.Close()
+	flt.Full, flt.Oldest = true, true
+	n := 0
 	write := func(w io.Writer) error {
+		var sink entrySink = newRecordsCSV(w, opt)
 		if f.json {
-			return writeJSONLines(w, entries)
+			sink = newRecordLines(w)
 		}
-		return writeRecordsCSV(w, entries, opt)
+		return writeEntries(ctx, db, flt, counted{sink, &n})
 	}
 	if out == "" {
-		return write(env.stdout)
+		return buffered(env.stdout, write)
 	}
 	if err := atomicfile.Write(out, 0o644, write); err != nil {
 		return err
 	}
-	fmt.Fprintf(env.stderr, "wrote %d samples to %s\n", len(entries), out)
+	fmt.Fprintf(env.stderr, "wrote %d samples to %s\n", n, out)
 	return nil
+}
+
+// counted is an entrySink that counts the entries added.
+type counted struct {
+	entrySink
+	n *int
+}
+
+func (c counted) add(e *store.Entry) error {
+	*c.n++
+	return c.entrySink.add(e)
 }
 
 type csvOptions struct {
@@ -86,61 +101,88 @@ var csvTextColumns = []string{"sample_id", "result_id", "recorded_at", "analysed
 // csvTailColumns follow the figures.
 var csvTailColumns = []string{"samples", "rate_hz", "reasons", "advice", "curve_path", "curve_sha256", "interrupted", "simulated", "note", "sample_uid"}
 
-// writeRecordsCSV writes a header row and one row per entry: the sample's
+// recordsCSV writes a header row and one row per entry: the sample's
 // fields, every metric of store.Metrics() (empty where null), then the
 // rest. Times are ISO 8601 UTC; lists are joined with " | ".
-func writeRecordsCSV(w io.Writer, entries []store.Entry, opt csvOptions) error {
-	if opt.bom {
-		if _, err := io.WriteString(w, "\uFEFF"); err != nil {
-			return err
-		}
-	}
+type recordsCSV struct {
+	w       io.Writer
+	cw      *csv.Writer
+	opt     csvOptions
+	metrics []string
+	row     []string
+	started bool // the header is written
+}
+
+func newRecordsCSV(w io.Writer, opt csvOptions) *recordsCSV {
 	cw := csv.NewWriter(w)
 	cw.UseCRLF = true // RFC 4180
 	if opt.decimalComma {
 		cw.Comma = ';'
 	}
-	metrics := store.Metrics()
-	head := append(append(append([]string{}, csvTextColumns...), metrics...), csvTailColumns...)
-	if err := cw.Write(head); err != nil {
-		return err
+	return &recordsCSV{w: w, cw: cw, opt: opt, metrics: store.Metrics()}
+}
+
+// start writes the byte-order mark (if asked for) and the header, once.
+func (c *recordsCSV) start() error {
+	if c.started {
+		return nil
 	}
-	num := func(v float64) string {
-		s := strconv.FormatFloat(v, 'f', -1, 64)
-		if opt.decimalComma {
-			s = strings.Replace(s, ".", ",", 1)
-		}
-		return s
-	}
-	yes := func(b bool) string {
-		if b {
-			return "yes"
-		}
-		return "no"
-	}
-	row := make([]string, 0, len(head))
-	for _, e := range entries {
-		s, r := e.Sample, e.Result
-		row = append(row[:0], strconv.FormatInt(s.ID, 10), strconv.FormatInt(r.ID, 10),
-			s.Recorded.UTC().Format(time.RFC3339), r.Analysed.UTC().Format(time.RFC3339), csvText(s.Site), csvText(s.Deck),
-			csvText(s.Sample), csvText(s.Ladle), csvText(s.Alloy), csvText(s.Furnace), csvText(s.Operator), csvText(s.Channel),
-			csvText(s.Thermocouple), r.Verdict, csvText(r.LimitsVersion))
-		for _, m := range metrics {
-			if v, ok := store.Value(r.Record, m); ok {
-				row = append(row, num(v))
-			} else {
-				row = append(row, "")
-			}
-		}
-		row = append(row, strconv.Itoa(r.Record.Samples), num(r.Record.RateHz),
-			csvText(strings.Join(r.Reasons, " | ")), csvText(strings.Join(r.Record.Advice, " | ")),
-			csvText(s.CurvePath), s.CurveSHA256, yes(s.Interrupted), yes(s.Simulated), csvText(s.Note), s.UID)
-		if err := cw.Write(row); err != nil {
+	c.started = true
+	if c.opt.bom {
+		if _, err := io.WriteString(c.w, "\uFEFF"); err != nil {
 			return err
 		}
 	}
-	cw.Flush()
-	return cw.Error()
+	head := append(append(append([]string{}, csvTextColumns...), c.metrics...), csvTailColumns...)
+	c.row = make([]string, 0, len(head))
+	return c.cw.Write(head)
+}
+
+func (c *recordsCSV) num(v float64) string {
+	s := strconv.FormatFloat(v, 'f', -1, 64)
+	if c.opt.decimalComma {
+		s = strings.Replace(s, ".", ",", 1)
+	}
+	return s
+}
+
+func yes(b bool) string {
+	if b {
+		return "yes"
+	}
+	return "no"
+}
+
+func (c *recordsCSV) add(e *store.Entry) error {
+	if err := c.start(); err != nil {
+		return err
+	}
+	s, r := &e.Sample, &e.Result
+	row := append(c.row[:0], strconv.FormatInt(s.ID, 10), strconv.FormatInt(r.ID, 10),
+		s.Recorded.UTC().Format(time.RFC3339), r.Analysed.UTC().Format(time.RFC3339), csvText(s.Site), csvText(s.Deck),
+		csvText(s.Sample), csvText(s.Ladle), csvText(s.Alloy), csvText(s.Furnace), csvText(s.Operator), csvText(s.Channel),
+		csvText(s.Thermocouple), r.Verdict, csvText(r.LimitsVersion))
+	for _, m := range c.metrics {
+		if v, ok := store.Value(&r.Record, m); ok {
+			row = append(row, c.num(v))
+		} else {
+			row = append(row, "")
+		}
+	}
+	row = append(row, strconv.Itoa(r.Record.Samples), c.num(r.Record.RateHz),
+		csvText(strings.Join(r.Reasons, " | ")), csvText(strings.Join(r.Record.Advice, " | ")),
+		csvText(s.CurvePath), s.CurveSHA256, yes(s.Interrupted), yes(s.Simulated), csvText(s.Note), s.UID)
+	c.row = row
+	return c.cw.Write(row)
+}
+
+// end writes the header if no entry did, and flushes.
+func (c *recordsCSV) end(string) error {
+	if err := c.start(); err != nil {
+		return err
+	}
+	c.cw.Flush()
+	return c.cw.Error()
 }
 
 // csvText keeps a spreadsheet from taking text for a formula (OWASP, "CSV

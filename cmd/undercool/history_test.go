@@ -43,28 +43,38 @@ func recordsSeed(t *testing.T, start time.Time, n int) (string, []int64) {
 		t.Fatal(err)
 	}
 	defer db.Close()
-	verdicts := []string{assess.VerdictPass, assess.VerdictMarginal, assess.VerdictFail}
-	var ss []store.Sample
-	for i := range n {
-		alloy := "grey-iron"
+	ss := constructedSamples(start, time.Hour, n, func(i int) string {
 		if i%4 == 3 {
-			alloy = "al-si7mg"
+			return "al-si7mg"
 		}
-		rec := assess.Record{Alloy: alloy, Samples: 2400, RateHz: 10, EutecticMinC: recordsF(1140.5 + float64(i)),
-			RecalescenceC: recordsF(2.25), UndercoolingC: recordsF(9.5), Problems: []string{},
-			Reasons: []string{fmt.Sprintf("eutectic minimum %.1f °C", 1140.5+float64(i))}, Verdict: verdicts[i%3],
-			Advice: []string{"consider inoculating and re-sampling"}, LimitsVersion: "2026-11.2"}
-		ss = append(ss, store.Sample{
-			Recorded: start.Add(time.Duration(i) * time.Hour), Sample: fmt.Sprintf("L-%d cup 1", 2417+i), Ladle: fmt.Sprintf("L-%d", 2417+i),
-			Alloy: alloy, Furnace: "IF-2", Operator: "Pell Brasswick", Channel: "1", Thermocouple: "K",
-			Note: "=not a formula", Record: rec,
-		})
-	}
+		return "grey-iron"
+	})
 	ids, err := db.AddSamples(context.Background(), ss)
 	if err != nil {
 		t.Fatal(err)
 	}
 	return path, ids
+}
+
+// constructedSamples gives n constructed (not measured) samples from the
+// Cindermoth demo scenario, one every step from start, sample i of
+// alloy(i), verdicts cycling.
+func constructedSamples(start time.Time, step time.Duration, n int, alloy func(i int) string) []store.Sample {
+	verdicts := []string{assess.VerdictPass, assess.VerdictMarginal, assess.VerdictFail}
+	ss := make([]store.Sample, n)
+	for i := range ss {
+		a := alloy(i)
+		rec := assess.Record{Alloy: a, Samples: 2400, RateHz: 10, EutecticMinC: recordsF(1140.5 + float64(i)),
+			RecalescenceC: recordsF(2.25), UndercoolingC: recordsF(9.5), Problems: []string{},
+			Reasons: []string{fmt.Sprintf("eutectic minimum %.1f °C", 1140.5+float64(i))}, Verdict: verdicts[i%3],
+			Advice: []string{"consider inoculating and re-sampling"}, LimitsVersion: "2026-11.2"}
+		ss[i] = store.Sample{
+			Recorded: start.Add(time.Duration(i) * step), Sample: fmt.Sprintf("L-%d cup 1", 2417+i), Ladle: fmt.Sprintf("L-%d", 2417+i),
+			Alloy: a, Furnace: "IF-2", Operator: "Pell Brasswick", Channel: "1", Thermocouple: "K",
+			Note: "=not a formula", Record: rec,
+		}
+	}
+	return ss
 }
 
 func TestHistoryTableAndFilters(t *testing.T) {

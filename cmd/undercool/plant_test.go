@@ -4,7 +4,9 @@ import (
 	"bytes"
 	"context"
 	"fmt"
+	"io"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"strings"
 	"sync"
@@ -24,7 +26,7 @@ var (
 // plantServer is the shared throw-away PostgreSQL server with the
 // documented roles (docs/plant-database.md) and passwords for the owner,
 // a deck and the quality office; schema is a new schema for this test.
-func plantServer(t *testing.T) (srv *pgtest.Server, url func(role string) string) {
+func plantServer(t testing.TB) (srv *pgtest.Server, url func(role string) string) {
 	t.Helper()
 	stmts, err := pgtest.SQLAfter(filepath.Join("..", "..", "docs", "plant-database.md"), "## The roles")
 	if err != nil {
@@ -151,8 +153,78 @@ func TestFaultPlantCommandsSecrets(t *testing.T) {
 	}
 }
 
-// TestMain stops the throw-away PostgreSQL server after the tests.
+// BenchmarkPlantHistoryCommand is 'undercool history' as the quality
+// office runs it, end to end: a process of its own (this test binary as
+// undercool, see TestMain) that starts, connects as quality_office
+// (password authentication, SCRAM), reads a month of one alloy across
+// twenty decks (30,000 rows; 90,000 constructed samples in the plant
+// database, vacuumed as autovacuum would have) and writes the table, or
+// the JSON lines, to /dev/null. The target for the table is 50 ms a run;
+// client-cpu-ns/op is the process's own user and system time.
+func BenchmarkPlantHistoryCommand(b *testing.B) {
+	srv, url := plantServer(b)
+	ctx := context.Background()
+	db, err := store.Open(ctx, url("undercool_owner"))
+	if err != nil {
+		b.Fatal(err)
+	}
+	end := time.Date(2026, 12, 1, 0, 0, 0, 0, time.UTC)
+	alloys := []string{"grey-iron", "ductile-iron", "al-si7mg"}
+	for d := range 20 {
+		ss := constructedSamples(end.Add(-30*24*time.Hour), 30*24*time.Hour/4500, 4500, func(i int) string { return alloys[i%3] })
+		for i := range ss {
+			ss[i].Site, ss[i].Deck = "cindermoth-north", fmt.Sprintf("deck-%d", d+1)
+		}
+		if _, err := db.AddSamples(ctx, ss); err != nil {
+			b.Fatal(err)
+		}
+	}
+	db.Close()
+	if err := srv.Exec(ctx, "undercool", "VACUUM ANALYZE"); err != nil {
+		b.Fatal(err)
+	}
+	args := []string{"history", "--db", url("quality_office"), "--alloy", "grey-iron", "--since", end.Add(-30 * 24 * time.Hour).Format(time.RFC3339)}
+	for _, bc := range []struct {
+		name string
+		args []string
+		want string // in the output
+	}{
+		{"table", args, "30000 samples from postgres://quality_office@"},
+		{"json", append(args, "--json"), `"alloy":"grey-iron"`},
+	} {
+		b.Run(bc.name, func(b *testing.B) {
+			run := func(stdout io.Writer) *os.ProcessState {
+				cmd := exec.Command(os.Args[0], bc.args...)
+				cmd.Env = append(os.Environ(), "UNDERCOOL_CMD_CHILD=undercool")
+				var errs bytes.Buffer
+				cmd.Stdout, cmd.Stderr = stdout, &errs
+				if err := cmd.Run(); err != nil {
+					b.Fatalf("%v: %v\n%s", bc.args, err, errs.String())
+				}
+				return cmd.ProcessState
+			}
+			var out bytes.Buffer
+			if run(&out); strings.Count(out.String(), bc.want) == 0 {
+				b.Fatalf("%v: output lacks %q:\n%.300s", bc.args, bc.want, out.String())
+			}
+			var cpu time.Duration
+			for b.Loop() {
+				ps := run(nil) // to /dev/null
+				cpu += ps.UserTime() + ps.SystemTime()
+			}
+			b.ReportMetric(float64(cpu)/float64(b.N), "client-cpu-ns/op")
+		})
+	}
+}
+
+// TestMain stops the throw-away PostgreSQL server after the tests. With
+// UNDERCOOL_CMD_CHILD=undercool the test binary is undercool itself, its
+// arguments the command line (BenchmarkPlantHistoryCommand).
 func TestMain(m *testing.M) {
+	if os.Getenv("UNDERCOOL_CMD_CHILD") == "undercool" {
+		env := &environ{stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, getenv: os.Getenv}
+		os.Exit(runMain(context.Background(), env, os.Args[1:]))
+	}
 	code := m.Run()
 	pgtest.StopShared()
 	os.Exit(code)

@@ -9,6 +9,7 @@ import (
 	"reflect"
 	"strconv"
 	"strings"
+	"sync"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
@@ -216,7 +217,7 @@ type sample struct {
 func resolve(in Input) sample {
 	s := sample{in: in, book: in.Limits}
 	if s.book == nil {
-		s.book = builtin
+		s.book = builtin()
 	}
 	s.res = s.book.Resolve(in.Alloy)
 	s.chem = chemistryOf(s.res.Entry, in.Meta)
@@ -235,8 +236,10 @@ func resolve(in Input) sample {
 	return s
 }
 
-// builtin is parsed once; Assess only reads it.
-var builtin = limits.Builtin()
+// builtin is parsed once, when first needed (not when the program
+// starts: every command would pay for it, about 2 ms); Assess only reads
+// it.
+var builtin = sync.OnceValue(limits.Builtin)
 
 func fromResult(s sample, res arrest.Result) Record {
 	in, book, alloy := s.in, s.book, s.res.Entry

@@ -39,8 +39,8 @@ func packNumbers(rec *assess.Record) []byte {
 
 var errPacked = errors.New("packed numbers are damaged")
 
-// unpackNumbers fills rec's numbers from b.
-func unpackNumbers(b []byte, rec *assess.Record) error {
+// unpackNumbers fills rec's numbers from b, their cells from c.
+func unpackNumbers(b []byte, rec *assess.Record, c *cells) error {
 	if len(b) < 9+32 || b[0] != packedFormat {
 		return errPacked
 	}
@@ -53,7 +53,7 @@ func unpackNumbers(b []byte, rec *assess.Record) error {
 	if len(b) != 8*n || n > len(points) || mask>>len(points) != 0 {
 		return errPacked
 	}
-	vals := make([]float64, n) // one allocation for all of a row's points
+	vals := take(&c.nums, n)
 	k := 0
 	for i, p := range points {
 		if mask&(1<<i) == 0 {

@@ -3,6 +3,7 @@ package store
 import (
 	"context"
 	"database/sql"
+	"encoding/binary"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -58,13 +59,45 @@ const (
 // holding every number that has a column (the characteristic points and
 // times, the metallurgy figures, samples, rate), problems and verdict; keys
 // the Record gained after schema version 1 are left zero. f.Full gives
-// everything, decoding each stored record.
+// everything, decoding each stored record. For a long history,
+// HistoryEach gives the same entries one by one, without the slice.
 func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
-	fast := !f.Full && !f.AllResults // one narrow row per sample: id, time, summary
-	var (
-		where []string
-		args  []any
-	)
+	// count first, so that the Entries (about 1.6 kB each) go straight
+	// into a slice of the right size rather than being copied as it grows
+	fast, from, args := db.historyFrom(f)
+	var n int
+	if err := db.sql.QueryRowContext(ctx, db.q("SELECT count(*)"+from), args...).Scan(&n); err != nil {
+		return nil, db.fail("reading history from", err)
+	}
+	if f.Limit > 0 && f.Limit < n {
+		n = f.Limit
+	}
+	out := make([]Entry, 0, n)
+	if err := db.historyEach(ctx, f, fast, from, args, func(e *Entry) error {
+		out = append(out, *e)
+		return nil
+	}); err != nil {
+		return nil, err
+	}
+	return out, nil
+}
+
+// HistoryEach calls fn with each entry of History in turn, and returns
+// fn's first error as it is. The Entry is reused for the next one: fn may
+// keep what it holds (strings, slices), not the Entry itself. A month of
+// plant history (30,000 rows) needs a few MB this way, not the 48 MB of a
+// slice of Entries, and no count of the rows first.
+func (db *DB) HistoryEach(ctx context.Context, f Filter, fn func(*Entry) error) error {
+	fast, from, args := db.historyFrom(f)
+	return db.historyEach(ctx, f, fast, from, args, fn)
+}
+
+// historyFrom gives the FROM and WHERE clauses of history with their
+// arguments; fast: the rows are read from the history table, one narrow
+// row per sample (id, latest result id, summary).
+func (db *DB) historyFrom(f Filter) (fast bool, from string, args []any) {
+	fast = !f.Full && !f.AllResults
+	var where []string
 	for _, c := range []struct{ col, v string }{
 		{"s.site", f.Site}, {"s.deck", f.Deck}, {"s.alloy", f.Alloy}, {"s.ladle", f.Ladle}, {"s.furnace", f.Furnace},
 	} {
@@ -85,7 +118,7 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 		}
 		where, args = append(where, col+" = ?"), append(args, f.Verdict)
 	}
-	from := " FROM samples s " + db.latestJoin()
+	from = " FROM samples s " + db.latestJoin()
 	switch {
 	case fast:
 		from = " FROM " + db.historyTable() + " s"
@@ -96,29 +129,17 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 	if len(where) > 0 {
 		from += " WHERE " + strings.Join(where, " AND ")
 	}
-	// count first, so the rows go straight into a slice of the right size
-	// (the plant database counts the fast path's rows as it sends them,
-	// count(*) OVER (), rather than reading them twice)
-	var n int
-	window := fast && db.pg
-	if !window {
-		if err := db.sql.QueryRowContext(ctx, db.q("SELECT count(*)"+from), args...).Scan(&n); err != nil {
-			return nil, db.fail("reading history from", err)
-		}
-	}
-	if f.Limit > 0 && f.Limit < n {
-		n = f.Limit
-	}
-	var q string
+	return fast, from, args
+}
+
+// historyEach runs history's query (historyFrom's clauses) for fn.
+func (db *DB) historyEach(ctx context.Context, f Filter, fast bool, from string, args []any, fn func(*Entry) error) error {
+	q := "SELECT " + summaryColumns
 	switch {
-	case window:
-		q = "SELECT s.id, s.latest_result_id, s.summary, count(*) OVER ()"
 	case fast:
 		q = "SELECT s.id, s.latest_result_id, s.summary"
 	case f.Full:
 		q = "SELECT " + fullColumns
-	default:
-		q = "SELECT " + summaryColumns
 	}
 	q += from
 	switch {
@@ -135,61 +156,112 @@ func (db *DB) History(ctx context.Context, f Filter) ([]Entry, error) {
 		q += " LIMIT ?"
 		args = append(args, f.Limit)
 	}
+	if fast {
+		return db.historyFast(ctx, db.q(q), args, fn)
+	}
 	rows, err := db.sql.QueryContext(ctx, db.q(q), args...)
 	if err != nil {
-		return nil, db.fail("reading history from", err)
+		return db.fail("reading history from", err)
 	}
 	defer rows.Close()
-	out := make([]Entry, 0, n)
-	var missing []int // rows without a summary (written before it existed)
 	sc := newScanner(f.Full)
-	var summary sql.RawBytes // decoded before the next row
-	dest := []any{nil, nil, &summary, &n}
-	if !window {
-		dest = dest[:3]
-	}
+	var e Entry
 	for rows.Next() {
-		if window && len(out) == 0 && cap(out) == 0 {
-			out = make([]Entry, 0, 1) // replaced once the first row gives the count
+		e = Entry{}
+		if err := sc.scan(rows, &e); err != nil {
+			return db.fail("reading history from", err)
 		}
-		out = append(out, Entry{})
-		e := &out[len(out)-1]
-		dest[0], dest[1] = &e.Sample.ID, &e.Result.ID
-		if !fast {
-			err = sc.scan(rows, e)
-		} else if err = rows.Scan(dest...); err == nil {
-			if window && len(out) == 1 {
-				if f.Limit > 0 && f.Limit < n {
-					n = f.Limit
-				}
-				out = append(make([]Entry, 0, n), out[0])
-				e = &out[0]
-			}
-			switch {
-			case len(summary) == 0 || summary[0] != summaryFormat: // none yet, or an earlier format
-				missing = append(missing, len(out)-1)
-			default:
-				if err = unpackSummary(summary, e); err != nil {
-					err = fmt.Errorf("sample %d: %w", e.Sample.ID, err)
-				}
-			}
-		}
-		if err != nil {
-			return nil, db.fail("reading history from", err)
+		if err := fn(&e); err != nil {
+			return err
 		}
 	}
 	if err := rows.Err(); err != nil {
-		return nil, db.fail("reading history from", err)
+		return db.fail("reading history from", err)
 	}
-	rows.Close()
-	for _, i := range missing {
-		e, err := db.latestEntry(ctx, out[i].Sample.ID)
-		if err != nil {
-			return nil, err
+	return nil
+}
+
+// historyFast runs the fast path's query q (sample id, latest result id,
+// summary) and decodes each row for fn as it arrives. A row without a
+// current summary (stored before the summary existed, or by a program
+// that writes another format) is read by a join, which cannot run while
+// the query's rows are arriving on the connection: from the first such
+// row on, the rows are kept (summaryRows) and decoded after the query.
+func (db *DB) historyFast(ctx context.Context, q string, args []any, fn func(*Entry) error) error {
+	var (
+		e     Entry
+		c     cells
+		later summaryRows // the rows from the first without a current summary
+		fnErr error       // fn's, returned as it is
+	)
+	row := func(id, resultID int64, summary []byte) error {
+		if later.len() > 0 || !current(summary) {
+			later.add(id, resultID, summary)
+			return nil
 		}
-		out[i] = e
+		e = Entry{}
+		e.Sample.ID, e.Result.ID = id, resultID
+		if err := unpackSummary(summary, &e, &c); err != nil {
+			return fmt.Errorf("sample %d: %w", id, err)
+		}
+		fnErr = fn(&e)
+		return fnErr
 	}
-	return out, nil
+	var err error
+	if db.pg {
+		err = db.rawRowsPG(ctx, q, args, func(vals [][]byte) error {
+			if len(vals) != 3 || len(vals[0]) != 8 || len(vals[1]) != 8 {
+				return errors.New("unexpected history row")
+			}
+			return row(int64(binary.BigEndian.Uint64(vals[0])), int64(binary.BigEndian.Uint64(vals[1])), vals[2])
+		})
+	} else {
+		err = db.eachRow(ctx, q, args, func(r *sql.Rows) error {
+			var id, resultID int64
+			var summary sql.RawBytes // valid until the next row
+			if err := r.Scan(&id, &resultID, &summary); err != nil {
+				return err
+			}
+			return row(id, resultID, summary)
+		})
+	}
+	switch {
+	case fnErr != nil:
+		return fnErr
+	case err != nil:
+		return db.fail("reading history from", err)
+	}
+	for i := range later.len() {
+		id, resultID, summary := later.row(i)
+		if current(summary) {
+			e = Entry{}
+			e.Sample.ID, e.Result.ID = id, resultID
+			if err := unpackSummary(summary, &e, &c); err != nil {
+				return db.fail("reading history from", fmt.Errorf("sample %d: %w", id, err))
+			}
+		} else if e, err = db.latestEntry(ctx, id); err != nil {
+			return err
+		}
+		if err := fn(&e); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// eachRow runs a query through database/sql and calls fn on each row.
+func (db *DB) eachRow(ctx context.Context, q string, args []any, fn func(*sql.Rows) error) error {
+	rows, err := db.sql.QueryContext(ctx, q, args...)
+	if err != nil {
+		return err
+	}
+	defer rows.Close()
+	for rows.Next() {
+		if err := fn(rows); err != nil {
+			return err
+		}
+	}
+	return rows.Err()
 }
 
 // latestJoin joins a sample (s) to its latest result (r): in SQLite
@@ -274,6 +346,7 @@ func (db *DB) fillSummaries(ctx context.Context) error {
 
 // scanner reads entry rows straight into the caller's Entry.
 type scanner struct {
+	cells             cells
 	reasons, problems string
 	packed            []byte
 	record, fallback  sql.NullString
@@ -298,7 +371,7 @@ func (sc *scanner) scan(rows *sql.Rows, e *Entry) error {
 		return err
 	}
 	r.SampleID = s.ID
-	r.Reasons = splitLines(sc.reasons)
+	r.Reasons = sc.cells.split(sc.reasons)
 	switch {
 	case sc.full || sc.fallback.Valid:
 		js := sc.record.String
@@ -310,8 +383,8 @@ func (sc *scanner) scan(rows *sql.Rows, e *Entry) error {
 		}
 	default:
 		rec := &r.Record
-		rec.Alloy, rec.Verdict, rec.Problems = s.Alloy, r.Verdict, splitLines(sc.problems)
-		if err := unpackNumbers(sc.packed, rec); err != nil {
+		rec.Alloy, rec.Verdict, rec.Problems = s.Alloy, r.Verdict, sc.cells.split(sc.problems)
+		if err := unpackNumbers(sc.packed, rec, &sc.cells); err != nil {
 			return fmt.Errorf("result %d: %w", r.ID, err)
 		}
 	}

@@ -181,21 +181,32 @@ var metricFields = func() []metricField {
 }()
 
 // Value returns a record's value of a metric from Metrics (the record's
-// own accessor, assess.Value); false when it is null or not a metric.
-func Value(rec assess.Record, metric string) (float64, bool) {
+// own accessor, assess.Value); false when it is null or not a metric. It
+// takes the record by pointer: it is called for every figure of every row
+// of a history or an export.
+func Value(rec *assess.Record, metric string) (float64, bool) {
 	if _, ok := metricByKey(metric); !ok {
 		return 0, false
 	}
-	return assess.Value(&rec, metric)
+	return assess.Value(rec, metric)
 }
 
-func metricByKey(key string) (metricField, bool) {
-	for _, f := range metricFields {
-		if f.key == key {
-			return f, true
-		}
+// metricIndex finds a metric's place in metricFields by its key (an
+// export looks up every metric of every row).
+var metricIndex = func() map[string]int {
+	m := make(map[string]int, len(metricFields))
+	for i, f := range metricFields {
+		m[f.key] = i
 	}
-	return metricField{}, false
+	return m
+}()
+
+func metricByKey(key string) (metricField, bool) {
+	i, ok := metricIndex[key]
+	if !ok {
+		return metricField{}, false
+	}
+	return metricFields[i], true
 }
 
 // sampleColumns are the samples columns every insert writes, in the
@@ -483,7 +494,7 @@ func recordJSON(rec assess.Record) ([]byte, error) {
 }
 
 // joinLines keeps plain-language lines one a line (a line break inside one
-// becomes a space); splitLines undoes it.
+// becomes a space); cells.split undoes it.
 func joinLines(lines []string) string {
 	var b strings.Builder
 	for i, l := range lines {
@@ -498,13 +509,6 @@ func joinLines(lines []string) string {
 		}, l))
 	}
 	return b.String()
-}
-
-func splitLines(s string) []string {
-	if s == "" {
-		return []string{}
-	}
-	return strings.Split(s, "\n")
 }
 
 // ErrNoSample is returned for a sample id that is not in the database.

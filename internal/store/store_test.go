@@ -449,6 +449,87 @@ func TestHistoryColumnsMatchRecord(t *testing.T) {
 	})
 }
 
+// TestHistoryEach checks that HistoryEach gives History's entries, in
+// History's order, for each kind of history; also when a row in the middle
+// has no summary (it, and every row after it, is read once the query is
+// done); and that fn's error stops it and comes back as it is, from either
+// part.
+func TestHistoryEach(t *testing.T) {
+	forEachEngine(t, func(t *testing.T, e *testEngine) {
+		p := e.newPlace(t, -1)
+		db, owner := p.open(t, "deck_a"), p.open(t, "undercool_owner")
+		ctx := context.Background()
+		// 600 rows: the decoded rows' numbers fill several chunks of cells
+		seedShift(t, db, time.Date(2026, 12, 1, 6, 0, 0, 0, time.UTC), 300, "grey-iron", "ductile-iron")
+		each := func(f Filter) []Entry {
+			t.Helper()
+			var out []Entry
+			if err := db.HistoryEach(ctx, f, func(e *Entry) error {
+				out = append(out, *e)
+				return nil
+			}); err != nil {
+				t.Fatal(err)
+			}
+			return out
+		}
+		for _, f := range []Filter{{}, {Oldest: true}, {Full: true}, {AllResults: true}, {Alloy: "ductile-iron", Limit: 7}} {
+			want, err := db.History(ctx, f)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got := each(f); len(want) == 0 || !reflect.DeepEqual(got, want) {
+				t.Errorf("%+v: HistoryEach's %d entries differ from History's %d", f, len(got), len(want))
+			}
+		}
+		want, _ := db.History(ctx, Filter{})
+		mid := len(want) / 2
+		if _, err := owner.sql.Exec(owner.q("UPDATE "+owner.historyTable()+" SET summary = NULL WHERE id = ?"), want[mid].Sample.ID); err != nil {
+			t.Fatal(err)
+		}
+		if got := each(Filter{}); !reflect.DeepEqual(got, want) {
+			t.Errorf("with row %d without a summary: %d entries differ from History's before", mid, len(got))
+		}
+		enough := errors.New("enough")
+		for _, stop := range []int{3, len(want) - 1} { // while the rows arrive; after the query
+			n := 0
+			err := db.HistoryEach(ctx, Filter{}, func(*Entry) error {
+				if n++; n == stop {
+					return enough
+				}
+				return nil
+			})
+			if err != enough || n != stop {
+				t.Errorf("fn failing at entry %d: HistoryEach returned %v after %d entries", stop, err, n)
+			}
+		}
+	})
+}
+
+// TestCells checks that the strings and lists handed out from shared
+// chunks stay as they were when later rows fill more chunks, and that
+// appending to a list does not write into the next one's cells.
+func TestCells(t *testing.T) {
+	var c cells
+	var got, want []string
+	for i := range 3 * chunkSize / 1000 { // strings of 1,000 bytes, over three chunks
+		b := []byte(strings.Repeat(strconv.Itoa(i%10), 1000))
+		want = append(want, string(b))
+		got = append(got, c.string(b))
+		b[0] = 'x' // the caller's buffer is its own
+	}
+	if !slices.Equal(got, want) {
+		t.Error("strings changed as later ones were copied")
+	}
+	a, b := c.split("first\nsecond"), c.split("third")
+	a = append(a, "appended")
+	if !slices.Equal(b, []string{"third"}) || !slices.Equal(a, []string{"first", "second", "appended"}) {
+		t.Errorf("lists %q and %q", a, b)
+	}
+	if none := c.split(""); none == nil || len(none) != 0 {
+		t.Errorf("split of no lines = %#v, want an empty list", none)
+	}
+}
+
 func TestReasons(t *testing.T) {
 	rec := assess.Record{Problems: []string{"too noisy", "too noisy", "no pour found"}}
 	if got := Reasons(rec); !slices.Equal(got, []string{"too noisy", "no pour found"}) {
@@ -639,10 +720,11 @@ func TestMetrics(t *testing.T) {
 			t.Errorf("Metrics() lacks %s: %v", k, m)
 		}
 	}
-	if v, ok := Value(constructedRecord("grey-iron", 1143.5, "pass"), "eutectic_min_c"); !ok || v != 1143.5 {
+	want := constructedRecord("grey-iron", 1143.5, "pass")
+	if v, ok := Value(&want, "eutectic_min_c"); !ok || v != 1143.5 {
 		t.Errorf("Value(eutectic_min_c) = %v, %v", v, ok)
 	}
-	if _, ok := Value(assess.Record{}, "eutectic_min_c"); ok {
+	if _, ok := Value(&assess.Record{}, "eutectic_min_c"); ok {
 		t.Error("Value of a null point is not false")
 	}
 	if slices.Contains(m, "verdict") || slices.Contains(m, "samples") {
