@@ -64,6 +64,12 @@ type Config struct {
 	// Channels, when not empty, limits recording to these channel ids;
 	// readings of other channels are still passed on in batches.
 	Channels []string
+	// Cups pairs channels into cups with two thermocouples: a wall
+	// channel's readings go into its centre channel's samples (a device
+	// line's wall_ch= pairs channels too, where Cups says nothing of the
+	// centre channel). A wall channel is recorded even where Channels
+	// leaves it out.
+	Cups []Cup
 	// MaxSamples stops starting new samples after this many (0 = no limit).
 	MaxSamples int
 
@@ -153,6 +159,7 @@ type Acquirer struct {
 	everConn   bool
 	wantStatus bool      // send a batch even if it holds nothing but the status
 	sentAt     time.Time // when the last batch went
+	cups       cups      // channels paired into two-thermocouple cups
 }
 
 // New returns an Acquirer that reads from what open opens.
@@ -339,6 +346,10 @@ func (a *Acquirer) setup() error {
 		a.tc, a.tcName = tc, tc.Name()
 		a.st.Thermocouple = a.tcName
 	}
+	var err error
+	if a.cups, err = newCups(a.cfg.Cups); err != nil {
+		return err
+	}
 	if a.cfg.OutPath != "" && filepath.Ext(a.cfg.OutPath) != ".csv" {
 		return fmt.Errorf("acquire: output file %s: the name must end in .csv", a.cfg.OutPath)
 	}
@@ -448,7 +459,7 @@ func (a *Acquirer) status() feed.Status {
 	now := a.cfg.Now()
 	s.Channels = make(map[string]feed.ChannelStatus, len(a.chans))
 	for id, c := range a.chans {
-		cs := feed.ChannelStatus{Recording: c.log != nil, Sample: c.n, Readings: c.readings, Faults: c.faults}
+		cs := feed.ChannelStatus{Recording: c.log != nil, Sample: c.n, Readings: c.readings, Faults: c.faults, WallOf: a.wallCentre(id)}
 		if !c.lastAt.IsZero() {
 			cs.SilentS = now.Sub(c.lastAt).Seconds()
 		}
@@ -574,13 +585,14 @@ func (a *Acquirer) info(l *protocol.Line) {
 	kv := make([]curvefile.Meta, 0, len(l.Info))
 	for _, x := range l.Info {
 		kv = append(kv, curvefile.Meta{Key: x.Key, Value: x.Value})
-		if !protocol.IsSampleKey(x.Key) && x.Key != "ch" {
+		if !protocol.IsSampleKey(x.Key) && x.Key != "ch" && !isCupKey(x.Key) {
 			a.devInfo = mergeMeta(a.devInfo, []curvefile.Meta{{Key: x.Key, Value: x.Value}})
 		}
 	}
 	if tcName := l.InfoValue("tc"); tcName != "" {
 		a.deviceTC(tcName)
 	}
+	a.deviceCup(ch, l)
 	a.item(feed.Item{Kind: feed.KindDeviceInfo, Channel: ch, TimeS: a.tb.last, Meta: kv,
 		Text: "device:" + string(protocol.AppendLine(nil, *l)[1:])})
 }
@@ -659,6 +671,9 @@ func (a *Acquirer) accept(r feed.Reading, at time.Time) error {
 	if c == nil {
 		return nil
 	}
+	if centre := a.wallCentre(c.id); centre != "" && c.log == nil {
+		return a.wallReading(c, centre, r, at)
+	}
 	return c.add(a, r, at)
 }
 
@@ -668,7 +683,7 @@ func (a *Acquirer) channel(id string) *channel {
 	if c, ok := a.chans[id]; ok {
 		return c
 	}
-	if len(a.cfg.Channels) > 0 && !slices.Contains(a.cfg.Channels, id) {
+	if len(a.cfg.Channels) > 0 && !slices.Contains(a.cfg.Channels, id) && a.wallCentre(id) == "" {
 		return nil
 	}
 	c := &channel{id: id, next: slices.Clone(a.nextMeta)}
@@ -691,6 +706,11 @@ func (a *Acquirer) control(c control) error {
 			ch.setMeta(c.sample, cleanMeta(c.meta))
 		}
 	case opStart:
+		if centre := a.wallCentre(c.ch); centre != "" {
+			a.item(feed.Item{Kind: feed.KindWarning, Channel: c.ch, TimeS: a.tb.last,
+				Text: fmt.Sprintf("channel %s is the wall thermocouple of channel %s's cup: start channel %s", c.ch, centre, centre)})
+			return nil
+		}
 		ch := a.channel(c.ch)
 		if ch == nil {
 			a.item(feed.Item{Kind: feed.KindWarning, Channel: c.ch, TimeS: a.tb.last,

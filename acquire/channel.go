@@ -52,13 +52,18 @@ func (c *channel) markGap() {
 	}
 }
 
-func (c *channel) add(a *Acquirer, r feed.Reading, at time.Time) error {
+// count counts a reading of the channel, which arrived at host time at.
+func (c *channel) count(r feed.Reading, at time.Time) {
 	c.gapBefore = false
 	c.readings++
 	if !r.Valid() {
 		c.faults++
 	}
 	c.lastAt = at
+}
+
+func (c *channel) add(a *Acquirer, r feed.Reading, at time.Time) error {
+	c.count(r, at)
 	if c.log == nil {
 		c.buffer(r, at, a.cfg.Trigger.PreS)
 		if a.cfg.Trigger.Manual || (a.cfg.MaxSamples > 0 && a.started >= a.cfg.MaxSamples) {
@@ -160,9 +165,13 @@ func (c *channel) start(a *Acquirer, why string, at float64, atHost time.Time) e
 	c.n++
 	a.started++
 	pre := slices.Clone(c.pre)
+	wall, wallPre, werr := a.startWall(c)
 	a.item(feed.Item{Kind: feed.KindStarted, Channel: c.id, TimeS: c.startT, Sample: c.n, Path: log.partial,
-		Meta: slices.Clone(log.meta), Pre: pre, StartS: c.startT,
+		Meta: slices.Clone(log.meta), Pre: pre, StartS: c.startT, Wall: wall, WallPre: wallPre,
 		Text: fmt.Sprintf("channel %s: %s; recording to %s", c.id, why, log.partial)})
+	if werr != nil {
+		return werr
+	}
 	for _, r := range pre {
 		if err := c.log.write(r, feed.FileTime(r.TimeS, c.startT)); err != nil {
 			return err
@@ -200,6 +209,7 @@ func (a *Acquirer) sampleMeta(c *channel, why string) []curvefile.Meta {
 	meta := mergeMeta(slices.Clone(a.cfg.Meta), c.next)
 	add := func(k, v string) { meta = mergeMeta(meta, []curvefile.Meta{{Key: k, Value: v}}) }
 	add("channel", c.id)
+	meta = mergeMeta(meta, a.cupMeta(c.id))
 	if a.tcName != "" {
 		add("thermocouple", a.tcName)
 	}

@@ -58,6 +58,9 @@ type rawLog struct {
 	extra          []curvefile.Meta // metadata added at the end
 	fix            []curvefile.Meta // the sample's metadata as decided after the start (sample keys), or nil
 	gapAtEnd       bool             // the port was lost after the last row so far
+	wall           string           // a two-thermocouple cup's wall channel ("" for one thermocouple)
+	walls          []wallRow        // its readings, in order
+	wallFaults     int              // of which fault readings
 	unlock         func()
 
 	stop chan struct{}
@@ -184,12 +187,13 @@ func (l *rawLog) write(r feed.Reading, rel float64) error {
 	return nil
 }
 
-// writeRow writes a reading row with the file's columns.
-func (l *rawLog) writeRow(w *curvefile.Writer, rw row) error {
+// writeRow writes a reading row with the file's columns, after the
+// values of the columns before them (the completed file's wall column).
+func (l *rawLog) writeRow(w *curvefile.Writer, rw row, before ...string) error {
 	if l.emf {
-		return w.Write(rw.time, rw.temp, rw.flags, rw.mv, rw.cj)
+		return w.Write(rw.time, rw.temp, append(before, rw.flags, rw.mv, rw.cj)...)
 	}
-	return w.Write(rw.time, rw.temp, rw.flags)
+	return w.Write(rw.time, rw.temp, append(before, rw.flags)...)
 }
 
 // finish completes the log and returns the final path.
@@ -235,13 +239,26 @@ func (l *rawLog) complete(meta, extra []curvefile.Meta) error {
 	if l.faults > 0 {
 		meta = mergeMeta(meta, []curvefile.Meta{{Key: "faults", Value: strconv.Itoa(l.faults) + " fault readings, kept as #fault lines"}})
 	}
+	cols, wall := l.cols, l.wallColumn()
+	if wall != nil {
+		cols = append([]string{curvefile.ColumnWall}, cols...)
+		if l.wallFaults > 0 {
+			meta = mergeMeta(meta, []curvefile.Meta{{Key: curvefile.KeyWallFaults, Value: strconv.Itoa(l.wallFaults) + " fault readings of the wall thermocouple, its column empty around them"}})
+		}
+	}
 	var b bytes.Buffer
-	b.Grow(len(l.rows)*24 + 512)
-	w, err := curvefile.NewWriter(&b, meta, l.cols...)
+	b.Grow(len(l.rows)*32 + 512)
+	w, err := curvefile.NewWriter(&b, meta, cols...)
 	if err != nil {
 		return fmt.Errorf("acquire: completing %s: %w", l.final, err)
 	}
+	var before []string
+	k := 0 // reading rows written
 	for j, rw := range l.rows {
+		if wall != nil && rw.fault == "" {
+			before = append(before[:0], wall[k])
+			k++
+		}
 		if rw.fault != "" {
 			b.WriteString(rw.fault)
 			b.WriteByte('\n')
@@ -254,7 +271,7 @@ func (l *rawLog) complete(meta, extra []curvefile.Meta) error {
 		if gapNext && !hasFlag(rw.flags, "gap_after") {
 			rw.flags = strings.TrimPrefix(rw.flags+"|gap_after", "|")
 		}
-		if err := l.writeRow(w, rw); err != nil {
+		if err := l.writeRow(w, rw, before...); err != nil {
 			return fmt.Errorf("acquire: completing %s: %w", l.final, err)
 		}
 	}
@@ -400,7 +417,7 @@ func readPartial(p string) (l *rawLog, torn bool, err error) {
 	if err != nil {
 		return nil, torn, fmt.Errorf("acquire: recover: %w", err)
 	}
-	l = &rawLog{partial: p, final: finalName(p), meta: c.Meta}
+	l = &rawLog{partial: p, final: finalName(p), meta: c.Meta, wall: metaValue(c.Meta, curvefile.KeyWallChannel)}
 	text := map[string][]string{}
 	for _, col := range c.Extra {
 		l.cols = append(l.cols, col.Name)
@@ -424,6 +441,10 @@ func readPartial(p string) (l *rawLog, torn bool, err error) {
 		case bytes.HasPrefix(t, []byte("#fault ")):
 			l.rows = append(l.rows, row{fault: string(t)})
 			l.faults++
+		case bytes.HasPrefix(t, []byte(wallPrefix)):
+			if err := l.readWall(t); err != nil {
+				return nil, torn, fmt.Errorf("acquire: recover %s: %w", p, err)
+			}
 		case t[0] == '#':
 		case !header:
 			header = true

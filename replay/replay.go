@@ -7,6 +7,7 @@ package replay
 
 import (
 	"context"
+	"math"
 	"sync"
 	"time"
 
@@ -28,6 +29,9 @@ type Replay struct {
 	restart bool
 	stop    string // the reason of a stop asked, "" for none
 	stopN   int    // the sample it is for (0: the one replaying)
+
+	wall   []float64 // a two-thermocouple cup's wall column (NaN: no reading), nil for one
+	wallCh string    // the channel it is replayed on
 }
 
 // New prepares a replay of curve (read from path) on channel ch ("": the
@@ -40,6 +44,15 @@ func New(curve *curvefile.Curve, path, ch string, speed float64) *Replay {
 		ch = "1"
 	}
 	r := &Replay{curve: curve, path: path, ch: ch, out: make(chan feed.Batch, 1), every: 33 * time.Millisecond}
+	if wall, err := curve.Wall(); err == nil && wall != nil {
+		// a two-thermocouple cup: its wall thermocouple on a channel of its
+		// own, as the acquirer sent it (the file's, else "wall")
+		p, _ := curvefile.PairOf(curve.Meta)
+		r.wall, r.wallCh = wall, p.WallChannel
+		if r.wallCh == "" || r.wallCh == ch {
+			r.wallCh = "wall"
+		}
+	}
 	r.SetSpeed(speed)
 	return r
 }
@@ -91,7 +104,10 @@ func (r *Replay) SkipToEnd() {
 // Batches when it returns. Its items are the acquirer's: connected, the
 // file's metadata as a device line (the tracker names the sample from
 // it), the sample's start, its readings, and its end when the tracker (or
-// the operator) stops it or the file ends. It never blocks on the
+// the operator) stops it or the file ends. A two-thermocouple cup's wall
+// column is replayed as its wall channel's readings, each after the
+// centre's reading of the same time (a fault reading where the column is
+// empty), so that the tracker puts back the column as the file holds it. It never blocks on the
 // consumer: items not taken yet go into the next batch.
 func (r *Replay) Run(ctx context.Context) error {
 	defer close(r.out)
@@ -133,7 +149,7 @@ func (r *Replay) Run(ctx context.Context) error {
 				feed.Item{Kind: feed.KindConnected, TimeS: clock, Text: "replaying " + r.path},
 				feed.Item{Kind: feed.KindDeviceInfo, Channel: r.ch, TimeS: clock, Meta: c.Meta, Text: "the file's metadata"},
 				feed.Item{Kind: feed.KindStarted, Channel: r.ch, TimeS: clock, Sample: n, Path: r.path, Meta: c.Meta,
-					StartS: c.Time[0], Text: "replaying " + r.path})
+					StartS: c.Time[0], Wall: r.wallCh, Text: "replaying " + r.path})
 		}
 		clock += r.every.Seconds() * speed
 		k := 0
@@ -141,6 +157,14 @@ func (r *Replay) Run(ctx context.Context) error {
 			rd := feed.Reading{TimeS: c.Time[i], TempC: c.Temp[i], Channel: r.ch}
 			pending.Items = append(pending.Items, feed.Item{Kind: feed.KindReading, Channel: r.ch, TimeS: rd.TimeS, Reading: rd})
 			k++
+			if r.wall != nil {
+				w := feed.Reading{TimeS: c.Time[i], TempC: r.wall[i], Channel: r.wallCh}
+				if math.IsNaN(w.TempC) {
+					w.Flags = feed.FlagFault
+				}
+				pending.Items = append(pending.Items, feed.Item{Kind: feed.KindReading, Channel: r.wallCh, TimeS: w.TimeS, Reading: w})
+				k++
+			}
 		}
 		st.Lines += k
 		st.Readings += k
@@ -155,6 +179,9 @@ func (r *Replay) Run(ctx context.Context) error {
 			cs.Recording, cs.Sample = recording, n
 			pending.Status = st
 			pending.Status.Channels = map[string]feed.ChannelStatus{r.ch: cs}
+			if r.wall != nil {
+				pending.Status.Channels[r.wallCh] = feed.ChannelStatus{WallOf: r.ch}
+			}
 			select {
 			case r.out <- pending:
 				pending = feed.Batch{}

@@ -57,9 +57,12 @@ func (c *cup) stateWord() string {
 		return "FROZEN · FINISHING"
 	case sample.Done:
 		return "DONE"
-	default:
-		return "WAITING FOR POUR"
+	case sample.Waiting:
+		if c.snap.WallOf != "" {
+			return "WALL TC OF CUP " + c.snap.WallOf // its readings go into that cup's sample
+		}
 	}
+	return "WAITING FOR POUR"
 }
 
 // reading is the big current reading and a word on faults.

@@ -235,12 +235,10 @@ func analyzeOne(ctx context.Context, i int, path, alloy string, book *limits.Boo
 	if err != nil {
 		return analyzed{index: i, err: err}
 	}
-	if alloy == "" {
-		alloy = c.Get("alloy")
-	}
-	in := assess.Input{
-		File: path, Alloy: alloy, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped,
-		Limits: book, Meta: c.Meta,
+	in, notes := assess.CurveInput(path, c) // with a two-thermocouple cup's wall column and radii
+	in.Limits = book
+	if alloy != "" {
+		in.Alloy = alloy
 	}
 	var out analyzed
 	if adv != nil {
@@ -248,7 +246,7 @@ func analyzeOne(ctx context.Context, i int, path, alloy string, book *limits.Boo
 	} else {
 		out.rec = assess.Assess(in)
 	}
-	out.rec.Warnings = append(out.rec.Warnings, c.Notes...) // what reading the file took (swapped columns, padding)
+	out.rec.Warnings = append(append(out.rec.Warnings, c.Notes...), notes...) // what reading the file took (swapped columns, padding, a wall column left out)
 	out.index = i
 	return out
 }

@@ -40,8 +40,10 @@ func runMonitor(ctx context.Context, env *environ, args []string) error {
 	data := fs.String("data", "", "data directory for curve files and the log (default: the records database's directory)")
 	dbPath := fs.String("db", "", "records database (default: $UNDERCOOL_DB, else the user's data directory; with --data, DIR/undercool.db)")
 	limitsPath := fs.String("limits", "", "limits file (default: the built-in examples)")
+	cupf := addCupFlags(fs)
 	fs.Usage = func() {
 		fmt.Fprintln(env.stderr, "usage: undercool monitor --port PATH [--baud N] [--frame 8N1] [--tc K] [--cj C] [--data DIR] [--db PATH] [--limits FILE]")
+		fmt.Fprintln(env.stderr, "        [--wall-channel [CENTRE:]WALL --wall-radius-mm R [--centre-radius-mm R]]")
 		fs.PrintDefaults()
 	}
 	if help, err := parseFlags(fs, args); help || err != nil {
@@ -55,6 +57,11 @@ func runMonitor(ctx context.Context, env *environ, args []string) error {
 		return fmt.Errorf("--baud/--frame: %w", err)
 	}
 	cfg.Port = *port
+	cups, err := cupf.cups("")
+	if err != nil {
+		return err
+	}
+	cfg.Cups = cups
 	dir, db := *data, *dbPath
 	if db == "" && dir == "" {
 		p, err := store.DefaultPath(env.getenv)

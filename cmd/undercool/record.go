@@ -35,6 +35,7 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	out := fs.String("out", "", "curve file to write, NAME.csv; it must not exist (default: a new name in --dir)")
 	dir := fs.String("dir", ".", "directory for the curve file when --out is not given")
 	channel := fs.String("channel", "", "record this channel id only (default: the first channel poured)")
+	cupf := addCupFlags(fs)
 	maxS := fs.Float64("max-s", 600, "time limit of the sample in s: recording stops then even if freezing has not ended")
 	waitS := fs.Float64("wait-s", -1, "give up when no sample has started within this many s (default: the --max-s time limit; 0: wait until interrupted)")
 	start := fs.Bool("start", false, "start recording at once instead of waiting for the pour")
@@ -49,6 +50,7 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	limitsPath := fs.String("limits", "", "limits file the finished sample is judged by (default: the built-in examples)")
 	fs.Usage = func() {
 		fmt.Fprintln(env.stderr, "usage: undercool record --port PATH [--baud N] [--frame 8N1] [--tc TYPE] [--cj C] [--out FILE] [--channel ID] [--max-s N]")
+		fmt.Fprintln(env.stderr, "        [--wall-channel [CENTRE:]WALL --wall-radius-mm R [--centre-radius-mm R]]")
 		fmt.Fprintln(env.stderr, "Waits for the pour, records one sample and prints the curve file's path when it is done.")
 		fmt.Fprintln(env.stderr, "Interrupted samples left in the output directory by a crash are recovered first.")
 		fmt.Fprintln(env.stderr, "Molten metal: follow your shop's procedures; this tool only records.")
@@ -75,6 +77,11 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	if *channel != "" {
 		cfg.Channels = []string{*channel}
 	}
+	cups, err := cupf.cups(*channel)
+	if err != nil {
+		return err
+	}
+	cfg.Cups = cups
 	// The sample's own metadata is the tracker's to decide: it writes it
 	// into the file, and judges the cup by the alloy's limits entry.
 	var meta sample.Meta

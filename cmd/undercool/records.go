@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"slices"
 	"strings"
 	"sync"
 	"time"
@@ -203,7 +204,8 @@ func (w *recordWriter) summary() string {
 
 // sampleFromCurve fills a store.Sample from a curve file's metadata (keys
 // sample, ladle, furnace, operator, channel, thermocouple, note, started,
-// simulated, interrupted) and its record; the hash is left to the caller.
+// simulated, interrupted; a two-thermocouple cup's tc_wall_channel and
+// radii) and its record; the hash is left to the caller.
 func sampleFromCurve(path string, c *curvefile.Curve, rec assess.Record) store.Sample {
 	s := store.Sample{
 		Sample: c.Get("sample"), Ladle: c.Get("ladle"), Alloy: rec.Alloy, Furnace: c.Get("furnace"),
@@ -215,6 +217,7 @@ func sampleFromCurve(path string, c *curvefile.Curve, rec assess.Record) store.S
 	if s.Alloy == "" {
 		s.Alloy = c.Get("alloy")
 	}
+	s.WallChannel, s.CentreRadiusMm, s.WallRadiusMm = thermocouplesOf(c)
 	if t, err := time.Parse(time.RFC3339Nano, c.Get("started")); err == nil {
 		s.Recorded = t
 	} else if st, err := os.Stat(path); err == nil {
@@ -229,4 +232,23 @@ func metaTrue(v string) bool {
 		return true
 	}
 	return false
+}
+
+// thermocouplesOf is what a curve file says of a cup with two
+// thermocouples, for its stored sample (docs/curve-files.md, "Two
+// thermocouples in one cup"): the wall thermocouple's channel and the two
+// radii (the centre one on the axis unless the file says otherwise; the
+// wall one nil when not given). A file with one thermocouple (no wall
+// column, no tc_wall_channel) has none.
+func thermocouplesOf(c *curvefile.Curve) (wall string, centreMm, wallMm *float64) {
+	hasColumn := slices.ContainsFunc(c.Extra, func(col curvefile.Column) bool { return strings.EqualFold(col.Name, curvefile.ColumnWall) })
+	p, err := curvefile.PairOf(c.Meta)
+	if err != nil || !hasColumn && p.WallChannel == "" {
+		return "", nil, nil
+	}
+	centreMm = &p.CentreMm
+	if p.WallMm > 0 {
+		wallMm = &p.WallMm
+	}
+	return p.WallChannel, centreMm, wallMm
 }

@@ -89,25 +89,26 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 		if c, err = columns.ReadFile(pos[0]); err != nil {
 			return err
 		}
-		a := *alloy
-		if a == "" {
-			a = c.Get("alloy")
+		in, notes := assess.CurveInput(pos[0], c) // with a two-thermocouple cup's wall column and radii
+		in.Limits = book
+		if *alloy != "" {
+			in.Alloy = *alloy
 		}
-		in := assess.Input{File: pos[0], Alloy: a, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped, Limits: book, Meta: c.Meta}
 		rec = assess.Assess(in)
-		rec.Warnings = append(rec.Warnings, c.Notes...) // what reading the file took (swapped columns, padding)
+		rec.Warnings = append(append(rec.Warnings, c.Notes...), notes...) // what reading the file took (swapped columns, padding, a wall column left out)
 		s := sampleFromCurve(pos[0], c, rec)
 		if s.CurveSHA256, err = store.HashFile(pos[0]); err != nil {
 			return err
 		}
 		info = report.Info{Sample: s.Sample, Ladle: s.Ladle, Alloy: rec.Alloy, Furnace: s.Furnace, Operator: s.Operator,
-			Time: s.Recorded, CurvePath: pos[0], CurveSHA256: s.CurveSHA256, Detect: assess.Options(in)}
+			Time: s.Recorded, CurvePath: pos[0], CurveSHA256: s.CurveSHA256, Detect: assess.Options(in), Wall: in.Wall, Radii: in.Radii}
 		if s.Simulated {
 			info.Notes = append(info.Notes, "simulated cup, not a measurement")
 		}
 	}
 	if *advise {
-		in := assess.Input{File: info.CurvePath, Alloy: rec.Alloy, Time: c.Time, Temp: c.Temp, Skipped: c.Skipped, Limits: book, Meta: c.Meta}
+		in, _ := assess.CurveInput(info.CurvePath, c)
+		in.Alloy, in.Limits = rec.Alloy, book
 		_, info.Predictions = forecast.AdviseInput(ctx, in, forecast.Options{Inoculant: *inoculant, DelayMin: -1})
 	}
 	if err := report.Write(*out, c, rec, info); err != nil {
@@ -150,5 +151,9 @@ func reportStored(ctx context.Context, env *environ, dbPath string, id int64, co
 	if s.Simulated {
 		info.Notes = append(info.Notes, "simulated cup, not a measurement")
 	}
+	// a two-thermocouple cup's page draws the Fourier path its record's
+	// figures come from: the wall column of its file
+	in, _ := assess.CurveInput(s.CurvePath, c)
+	info.Wall, info.Radii = in.Wall, in.Radii
 	return c, s.Record, info, nil
 }

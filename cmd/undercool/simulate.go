@@ -24,6 +24,7 @@ func init() {
 // simFlags are the options of `undercool simulate`.
 type simFlags struct {
 	alloy, out, fault, channels string
+	cup, walls                  string
 	inoc, mod, ce, c, si, p     float64
 	pour, hold, rate, noise     float64
 	spikes, mass                float64
@@ -56,6 +57,8 @@ func runSimulate(ctx context.Context, env *environ, args []string) error {
 	fs.BoolVar(&f.serve, "serve", false, "serve a virtual device on a pseudo-terminal instead of writing a file")
 	fs.Float64Var(&f.speed, "speed", 1, "with --serve: run this many times faster than real time")
 	fs.StringVar(&f.channels, "channels", "", "with --serve: comma-separated channel ids, each with its own stand")
+	fs.StringVar(&f.cup, "cup", "", "the cup model: lumped (the default) or radial (zones from the axis to the wall, with a second thermocouple near the wall: the wall_tc_c column)")
+	fs.StringVar(&f.walls, "wall-channel", "", "with --serve: `CENTRE:WALL[,...]`: channel CENTRE pours radial cups whose wall thermocouple is served on channel WALL")
 	fs.BoolVar(&f.checksum, "checksum", false, "with --serve: end each line with the protocol's checksum")
 	f.add.register(fs)
 	fs.Usage = func() {
@@ -94,6 +97,16 @@ func runSimulate(ctx context.Context, env *environ, args []string) error {
 		opt := sim.DeckOptions{Seed: f.seed, Speed: f.speed, RateHz: f.rate, Checksum: f.checksum, Cup: cup}
 		if f.channels != "" {
 			opt.Channels = strings.Split(f.channels, ",")
+		}
+		if f.walls != "" {
+			opt.Walls = map[string]string{}
+			for pair := range strings.SplitSeq(f.walls, ",") {
+				c, w, ok := strings.Cut(strings.TrimSpace(pair), ":")
+				if !ok || c == "" || w == "" {
+					return fmt.Errorf("--wall-channel %q: want CENTRE:WALL, e.g. 1:2", pair)
+				}
+				opt.Walls[c] = w
+			}
 		}
 		return serveDevice(ctx, env, sim.NewDeck(opt), opt)
 	}
@@ -150,6 +163,14 @@ func (f *simFlags) params(set map[string]bool) (sim.Params, error) {
 	p.Logger.RateHz, p.Logger.NoiseC = f.rate, f.noise
 	if f.spikes > 0 {
 		p.Logger.SpikeRate, p.Logger.SpikeMinC, p.Logger.SpikeMaxC = f.spikes, 10, 40
+	}
+	switch f.cup {
+	case "", "lumped":
+		p.Cup = sim.CupLumped
+	case string(sim.CupRadial):
+		p.Cup = sim.CupRadial
+	default:
+		return sim.Params{}, fmt.Errorf("--cup %q: want lumped or radial", f.cup)
 	}
 	switch sim.Fault(f.fault) {
 	case sim.FaultNone, sim.FaultOpen, sim.FaultShortPour, sim.FaultPulledEarly:

@@ -174,10 +174,45 @@ type Input struct {
 	Meta []curvefile.Meta
 
 	// Wall is the second thermocouple of a two-thermocouple cup, near its
-	// wall, at Time's readings (nil: one thermocouple; solidpath.OnTimes
-	// puts a channel logged on its own clock there); Radii place the two.
+	// wall, at Time's readings (nil: one thermocouple; curvefile.OnTimes
+	// puts a channel logged on its own clock there), NaN where it has no
+	// reading (the Fourier figures then come from the stretch it read
+	// throughout, or are not computed); Radii place the two.
 	Wall  []float64
 	Radii solidpath.Geometry
+}
+
+// CurveInput is the input for a curve file read from path: its alloy
+// ("# alloy:"), readings, skipped lines and metadata, and for a
+// two-thermocouple cup the wall thermocouple (the curvefile.ColumnWall
+// column, WithWall) (docs/curve-files.md, "Two thermocouples in one cup").
+// A wall column that cannot be read leaves the wall thermocouple out; the
+// notes say so, for the record's warnings beside the file's own Notes.
+// Limits and an alloy given by the user are the caller's to set.
+func CurveInput(path string, c *curvefile.Curve) (Input, []string) {
+	in := Input{File: path, Alloy: strings.TrimSpace(c.Get("alloy")), Time: c.Time, Temp: c.Temp, Skipped: c.Skipped, Meta: c.Meta}
+	wall, err := c.Wall()
+	if err != nil {
+		return in, []string{"the wall thermocouple is left out: " + err.Error()}
+	}
+	return in.WithWall(wall)
+}
+
+// WithWall is the input with a two-thermocouple cup's wall thermocouple,
+// °C at in.Time's readings (NaN where it has no reading), placed by the
+// radii of in.Meta (curvefile.PairOf); a nil wall leaves in as it is.
+// Radii that cannot be read leave the wall thermocouple out; the notes say
+// so, for the record's warnings.
+func (in Input) WithWall(wall []float64) (Input, []string) {
+	if wall == nil {
+		return in, nil
+	}
+	pair, err := curvefile.PairOf(in.Meta)
+	if err != nil {
+		return in, []string{fmt.Sprintf("the wall thermocouple is left out: %s: %v", in.File, err)}
+	}
+	in.Wall, in.Radii = wall, solidpath.Geometry{CentreMm: pair.CentreMm, WallMm: pair.WallMm}
+	return in, nil
 }
 
 // Assess analyses one sample and fills its record. The detector options

@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
+	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/solidpath"
 )
 
@@ -47,7 +48,16 @@ func (m *metallurgy) solidification() {
 		missingAll("the cup has not finished freezing")
 		return
 	}
-	s := solidpath.Analyze(solidCup(m.s.in, *r, c))
+	s, wall := solidOf(m.s.in, *r, c)
+	switch {
+	case wall.gaps == "":
+	case s.Fourier != nil:
+		r.Warnings = append(r.Warnings, fmt.Sprintf("the wall thermocouple has no reading at %s: the Fourier figures come from the stretch it read, %.1f–%.1f s",
+			wall.gaps, wall.fromS, wall.toS))
+	default:
+		r.Warnings = append(r.Warnings, fmt.Sprintf("the wall thermocouple has no reading at %s (a fault or a silence on its channel): the Fourier figures and the coherency point are not computed",
+			wall.gaps))
+	}
 	pure := m.s.in.Family == arrest.FamilyPure
 	latent := func(p *solidpath.Path, err error, metric string, dst **float64) {
 		switch {
@@ -119,6 +129,118 @@ func solidCup(in Input, r Record, c float64) solidpath.Cup {
 	}
 }
 
+// wallStretch is where a two-thermocouple cup's wall thermocouple read.
+type wallStretch struct {
+	gaps       string  // the readings without a wall value, in words; "" for none
+	fromS, toS float64 // the longest stretch with a wall value throughout, s
+}
+
+// solidOf works out the solidification path of the sample (solidCup). A
+// wall thermocouple with gaps (NaN: no reading there, docs/curve-files.md,
+// "Two thermocouples in one cup") does not spoil the Newtonian path of the
+// centre curve: that is worked out on the whole curve, and the Fourier
+// path and the coherency point on the longest stretch where the wall
+// thermocouple read throughout; where that stretch does not hold the
+// whole freezing, they are not computed, and their errors say why (as
+// they do when the wall thermocouple's radius is not given).
+func solidOf(in Input, r Record, c float64) (solidpath.Solidification, wallStretch) {
+	s, w := solidPaths(in, r, c)
+	if s.Fourier == nil && in.Wall != nil && in.Radii.WallMm == 0 && !errors.Is(s.FourierErr, solidpath.ErrOneThermocouple) {
+		s.FourierErr = errors.New("the wall thermocouple's radius is not given (" + curvefile.KeyWallRadius + " in the curve file)")
+	}
+	return s, w
+}
+
+// solidPaths is solidOf but for the words on a missing radius.
+func solidPaths(in Input, r Record, c float64) (solidpath.Solidification, wallStretch) {
+	cup := solidCup(in, r, c)
+	var w wallStretch
+	// centreOnly is the path of the centre curve alone, the wall's figures
+	// not computed for err
+	centreOnly := func(err error) solidpath.Solidification {
+		one := cup
+		one.Wall = nil
+		s := solidpath.Analyze(one)
+		s.FourierErr = err
+		if one.Coherency {
+			s.CoherencyErr = err
+		}
+		return s
+	}
+	if cup.Wall != nil && len(cup.Wall) != len(cup.Time) {
+		return centreOnly(fmt.Errorf("the wall thermocouple has %d readings for the centre's %d", len(cup.Wall), len(cup.Time))), w
+	}
+	lo, hi := longestRun(cup.Wall)
+	if cup.Wall == nil || hi-lo == len(cup.Wall) {
+		return solidpath.Analyze(cup), w
+	}
+	w.gaps = gapsOf(cup.Time, cup.Wall)
+	if hi-lo < 2 {
+		return centreOnly(fmt.Errorf("the wall thermocouple has no reading at %s", w.gaps)), w
+	}
+	w.fromS, w.toS = cup.Time[lo], cup.Time[hi-1]
+	why := func(err error) error {
+		if err == nil {
+			return nil
+		}
+		return fmt.Errorf("the wall thermocouple has no reading at %s; on the stretch it read, %.1f–%.1f s: %s", w.gaps, w.fromS, w.toS, reason(err))
+	}
+	part := cup
+	part.Time, part.Centre, part.Wall = cup.Time[lo:hi], cup.Centre[lo:hi], cup.Wall[lo:hi]
+	p := solidpath.Analyze(part)
+	s := centreOnly(nil)
+	s.Fourier, s.FourierErr = p.Fourier, why(p.FourierErr)
+	s.Coherency, s.CoherencyErr = p.Coherency, why(p.CoherencyErr)
+	return s, w
+}
+
+// longestRun is the longest run of readings of x that are not NaN, [lo, hi).
+func longestRun(x []float64) (lo, hi int) {
+	for i := 0; i < len(x); {
+		if math.IsNaN(x[i]) {
+			i++
+			continue
+		}
+		j := i
+		for j < len(x) && !math.IsNaN(x[j]) {
+			j++
+		}
+		if j-i > hi-lo {
+			lo, hi = i, j
+		}
+		i = j
+	}
+	return lo, hi
+}
+
+// gapsOf says where x is NaN, in s of t: "12.3–14.0 s, 299.9 s", the
+// first three runs and how many more.
+func gapsOf(t, x []float64) string {
+	var parts []string
+	runs := 0
+	for i := 0; i < len(x); i++ {
+		if !math.IsNaN(x[i]) {
+			continue
+		}
+		j := i
+		for j+1 < len(x) && math.IsNaN(x[j+1]) {
+			j++
+		}
+		if runs++; runs <= 3 {
+			if j == i {
+				parts = append(parts, fmt.Sprintf("%.1f s", t[i]))
+			} else {
+				parts = append(parts, fmt.Sprintf("%.1f–%.1f s", t[i], t[j]))
+			}
+		}
+		i = j
+	}
+	if runs > 3 {
+		parts = append(parts, fmt.Sprintf("and %d more gaps", runs-3))
+	}
+	return strings.Join(parts, ", ")
+}
+
 // pointsOf gives back the characteristic points of a record as arrest
 // points (null: not found).
 func pointsOf(r Record) arrest.Result {
@@ -148,7 +270,7 @@ func SolidPath(in Input, rec Record) (*solidpath.Path, error) {
 	if rec.SpecificHeatJPerKgK != nil {
 		c = *rec.SpecificHeatJPerKgK
 	}
-	s := solidpath.Analyze(solidCup(in, rec, c))
+	s, _ := solidOf(in, rec, c)
 	if p := s.Best(); p != nil {
 		return p, nil
 	}

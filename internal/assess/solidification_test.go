@@ -1,9 +1,14 @@
 package assess
 
 import (
+	"bytes"
+	"math"
+	"reflect"
+	"slices"
 	"strings"
 	"testing"
 
+	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sim"
 	"github.com/undercool-foundry/undercool/internal/solidpath"
@@ -124,14 +129,7 @@ func TestSolidificationSpecificHeat(t *testing.T) {
 // method's ±12 % (internal/solidpath, TestOnRadialCups), the coherency
 // point and its fs; SolidPath gives the same Fourier path.
 func TestSolidificationTwoThermocouples(t *testing.T) {
-	p, err := sim.Preset(sim.AlSi7Mg, 0.6, 5)
-	if err != nil {
-		t.Fatal(err)
-	}
-	p.Cup = sim.CupRadial
-	out := sim.Simulate(p)
-	in := Input{File: "radial.csv", Alloy: sim.AlSi7Mg, Time: out.Time, Temp: out.Temp, Meta: out.Meta,
-		Wall: out.Wall, Radii: solidpath.Geometry{WallMm: out.Truth.WallTCRadiusMm}}
+	in, out := radialInput(t, 5)
 	rec := Assess(in)
 	if rec.FSMethod != solidpath.MethodFourier {
 		t.Fatalf("fs_method %q with two thermocouples", rec.FSMethod)
@@ -154,11 +152,150 @@ func TestSolidificationTwoThermocouples(t *testing.T) {
 		t.Errorf("SolidPath: method %s, fs at the eutectic minimum %v, the record %g", path.Method, path.At(*rec.EutecticMinS), *rec.FSAtEutecticMin)
 	}
 	// A pure metal with a wall thermocouple: no Fourier figure, and why.
-	p, _ = sim.Preset(sim.PureAl, 0.5, 5)
+	p, _ := sim.Preset(sim.PureAl, 0.5, 5)
 	p.Cup = sim.CupRadial
 	out = sim.Simulate(p)
 	rec = Assess(Input{Alloy: sim.PureAl, Time: out.Time, Temp: out.Temp, Wall: out.Wall, Radii: solidpath.Geometry{WallMm: out.Truth.WallTCRadiusMm}})
 	if rec.FSMethod != solidpath.MethodNewtonian || rec.LatentHeatFourierJPerKg != nil {
 		t.Errorf("pure metal: fs_method %q, Fourier L %v", rec.FSMethod, rec.LatentHeatFourierJPerKg)
 	}
+}
+
+// radialInput is a SIMULATED radial Al-Si cup with its wall thermocouple.
+func radialInput(t *testing.T, seed uint64) (Input, sim.Output) {
+	t.Helper()
+	p, err := sim.Preset(sim.AlSi7Mg, 0.6, seed)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.Cup = sim.CupRadial
+	out := sim.Simulate(p)
+	return Input{File: "radial.csv", Alloy: sim.AlSi7Mg, Time: out.Time, Temp: out.Temp, Meta: out.Meta,
+		Wall: out.Wall, Radii: solidpath.Geometry{WallMm: out.Truth.WallTCRadiusMm}}, out
+}
+
+// withGap is the input with the wall thermocouple's readings from..to s
+// missing (NaN, as a curve file's empty wall_tc_c cells read).
+func withGap(in Input, from, to float64) Input {
+	in.Wall = slices.Clone(in.Wall)
+	for i, s := range in.Time {
+		if s >= from && s <= to {
+			in.Wall[i] = math.NaN()
+		}
+	}
+	return in
+}
+
+// A wall thermocouple that faults or goes silent does not spoil the
+// centre's figures: the Newtonian path and the points are those of the
+// cup with one thermocouple; the Fourier figures come from the stretch the
+// wall thermocouple read where that holds the whole freezing (a reading
+// missing at the very end), else they are null, and the record says why.
+func TestSolidificationWallGaps(t *testing.T) {
+	full, _ := radialInput(t, 5)
+	one := full
+	one.Wall = nil
+	centre := Assess(one)
+	two := Assess(full)
+	if two.LatentHeatFourierJPerKg == nil || two.EutecticMinS == nil {
+		t.Fatal("the cup without gaps has no Fourier latent heat")
+	}
+
+	// The last reading without a wall value (the recording stopped between
+	// the two channels' lines): the Fourier figures stay, from the stretch.
+	last := full.Time[len(full.Time)-1]
+	rec := Assess(withGap(full, last, last))
+	if rec.LatentHeatFourierJPerKg == nil || rec.FSMethod != solidpath.MethodFourier {
+		t.Fatalf("a gap at the last reading loses the Fourier path: %v", rec.Warnings)
+	}
+	near(t, "Fourier L without the last wall reading", rec.LatentHeatFourierJPerKg, *two.LatentHeatFourierJPerKg, 0.001**two.LatentHeatFourierJPerKg)
+	if !has(rec.Warnings, "the Fourier figures come from the stretch it read") {
+		t.Errorf("no warning of the stretch: %q", rec.Warnings)
+	}
+
+	// The wall thermocouple silent from halfway through the eutectic on.
+	book := limits.Builtin()
+	lo := 100e3
+	book.Alloys[sim.AlSi7Mg].Metrics["latent_heat_fourier_j_per_kg"] = &limits.Limit{PassMin: &lo}
+	gap := withGap(full, *two.EutecticMinS+10, last)
+	gap.Limits = book
+	rec = Assess(gap)
+	if rec.LatentHeatFourierJPerKg != nil || rec.CoherencyC == nil && rec.FSMethod == solidpath.MethodFourier {
+		t.Errorf("a wall thermocouple gone silent in the eutectic: Fourier L %v, fs by %s", rec.LatentHeatFourierJPerKg, rec.FSMethod)
+	}
+	if rec.FSMethod != solidpath.MethodNewtonian || !reflect.DeepEqual(rec.LatentHeatNewtonianJPerKg, centre.LatentHeatNewtonianJPerKg) ||
+		!reflect.DeepEqual(rec.FSAtEutecticMin, centre.FSAtEutecticMin) || !reflect.DeepEqual(rec.EutecticMinC, centre.EutecticMinC) {
+		t.Errorf("the centre's figures changed: fs by %s, L %v (one thermocouple %v), fs at the eutectic minimum %v (%v)",
+			rec.FSMethod, ptr(rec.LatentHeatNewtonianJPerKg), ptr(centre.LatentHeatNewtonianJPerKg), ptr(rec.FSAtEutecticMin), ptr(centre.FSAtEutecticMin))
+	}
+	if !has(rec.Warnings, "the wall thermocouple has no reading at") || !has(rec.Warnings, "are not computed") {
+		t.Errorf("no warning of the gap: %q", rec.Warnings)
+	}
+	why := ""
+	for _, c := range rec.Checks {
+		if c.Metric == "latent_heat_fourier_j_per_kg" {
+			why = c.Reason
+		}
+	}
+	if !strings.Contains(why, "the wall thermocouple has no reading at") {
+		t.Errorf("the Fourier latent heat's check says %q", why)
+	}
+
+	// No radius for the wall thermocouple: no Fourier figure, and why; the
+	// coherency point needs none.
+	norad := full
+	norad.Radii = solidpath.Geometry{}
+	norad.Limits = book
+	rec = Assess(norad)
+	why = ""
+	for _, c := range rec.Checks {
+		if c.Metric == "latent_heat_fourier_j_per_kg" {
+			why = c.Reason
+		}
+	}
+	if rec.LatentHeatFourierJPerKg != nil || !strings.Contains(why, "radius is not given (tc_wall_radius_mm") || !reflect.DeepEqual(rec.CoherencyC, two.CoherencyC) {
+		t.Errorf("no radius: Fourier L %v, reason %q, coherency %v (%v with the radius)", rec.LatentHeatFourierJPerKg, why, ptr(rec.CoherencyC), ptr(two.CoherencyC))
+	}
+}
+
+// A two-thermocouple cup read from its curve file (CurveInput: the
+// wall_tc_c column and the radii in the metadata) gives the record of the
+// same readings passed directly.
+func TestCurveInputTwoThermocouples(t *testing.T) {
+	_, out := radialInput(t, 5)
+	var b bytes.Buffer
+	if err := curvefile.WriteCurve(&b, out.Curve("radial.csv")); err != nil {
+		t.Fatal(err)
+	}
+	c, err := curvefile.Read(&b, "radial.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	in, notes := CurveInput("radial.csv", c)
+	if len(notes) > 0 || in.Wall == nil || in.Radii.WallMm != math.Round(out.Truth.WallTCRadiusMm*100)/100 || in.Alloy != sim.AlSi7Mg {
+		t.Fatalf("CurveInput: notes %q, wall %d readings, radii %+v, alloy %q", notes, len(in.Wall), in.Radii, in.Alloy)
+	}
+	direct := Input{File: "radial.csv", Alloy: sim.AlSi7Mg, Time: c.Time, Temp: c.Temp, Meta: c.Meta, Wall: in.Wall, Radii: in.Radii}
+	if got, want := Assess(in), Assess(direct); !reflect.DeepEqual(got, want) || got.LatentHeatFourierJPerKg == nil {
+		t.Errorf("from the file: Fourier L %v, coherency %v; directly: %v, %v", ptr(got.LatentHeatFourierJPerKg), ptr(got.CoherencyC),
+			ptr(want.LatentHeatFourierJPerKg), ptr(want.CoherencyC))
+	}
+	// A wall column that is not numbers leaves the wall out, and says so.
+	for i := range c.Extra {
+		if c.Extra[i].Name == curvefile.ColumnWall {
+			c.Extra[i].Values = slices.Clone(c.Extra[i].Values)
+			c.Extra[i].Values[7] = "hot"
+		}
+	}
+	in, notes = CurveInput("radial.csv", c)
+	if in.Wall != nil || len(notes) != 1 || !strings.Contains(notes[0], `reading 8 (0.7 s): "hot"`) {
+		t.Errorf("a bad wall column: wall %v, notes %q", in.Wall != nil, notes)
+	}
+}
+
+func ptr(p *float64) any {
+	if p == nil {
+		return nil
+	}
+	return *p
 }

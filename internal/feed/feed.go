@@ -126,6 +126,13 @@ type Item struct {
 	// FileTime counts (KindStarted).
 	Pre    []Reading
 	StartS float64
+	// Wall is the channel of the sample's wall thermocouple, for a cup with
+	// two thermocouples (its curve file's tc_wall_channel; "" for one
+	// thermocouple): from the start to the end of the sample, that
+	// channel's reading items are the file's wall readings, and WallPre
+	// are those it starts with (KindStarted).
+	Wall    string
+	WallPre []Reading
 	// Failed says the file could not be completed (KindEnded); Text says why.
 	Failed bool
 	// Curve is the recovered file as read back (KindRecovered).
@@ -139,6 +146,10 @@ type ChannelStatus struct {
 	Readings  int     // readings received (faults included)
 	Faults    int     // open-circuit and fault readings
 	SilentS   float64 // s since the channel's last reading (host clock)
+	// WallOf is the channel whose cup this channel's thermocouple is the
+	// wall thermocouple of ("" for a cup's own channel): its readings go
+	// into that channel's samples, and it starts none of its own.
+	WallOf string
 }
 
 // Status is the state of the source when a batch was sent. Counters run

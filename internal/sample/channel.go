@@ -38,6 +38,12 @@ type channel struct {
 	faultsIn int     // fault readings in the sample's file
 	frozenAt float64 // sample time when freezing was seen to end
 	stopped  bool    // the stop was asked
+	// a cup with two thermocouples: the wall thermocouple's channel ("" for
+	// one), its readings in the sample (s of the file, °C; NaN for a
+	// fault reading) and, once finished, its curve on the sample's times
+	wall   string
+	wt, wv []float64
+	wallV  []float64
 
 	last     feed.Reading
 	hasLast  bool
@@ -100,6 +106,13 @@ func (c *channel) start(t *Tracker, it *feed.Item) {
 	c.result, c.rec, c.faultsIn, c.frozenAt, c.stopped = arrest.Result{}, nil, 0, 0, false
 	for _, r := range it.Pre {
 		c.add(r)
+	}
+	c.wall, c.wt, c.wv, c.wallV = it.Wall, nil, nil, nil
+	if c.wall != "" {
+		t.walls[c.wall] = c.id
+		for _, r := range it.WallPre {
+			c.addWall(r)
+		}
 	}
 	c.grew = true
 	if file := MetaOf(it.Meta); !file.Equal(c.meta) {
@@ -190,13 +203,34 @@ func (c *channel) finish(t *Tracker, path, why string, announce bool) {
 	c.opt = assess.Options(in) // what Assess of the file takes (the same unless the family follows the curve)
 	c.byCurve = false
 	c.analyse(false)
+	var notes []string
+	if c.wall != "" {
+		// the wall thermocouple on the sample's times, as its file holds it
+		c.wallV = curvefile.OnTimes(c.t, c.wt, c.wv)
+		in, notes = in.WithWall(c.wallV)
+		if t.walls[c.wall] == c.id {
+			delete(t.walls, c.wall)
+		}
+	}
 	rec := t.cfg.Judge(in, c.result)
+	rec.Warnings = append(rec.Warnings, notes...)
 	c.rec, c.path, c.state = &rec, path, Done
 	if announce {
 		t.event(Event{Kind: EventDone, Channel: c.id, Sample: c.n, TimeS: c.startS + c.elapsed(), Text: why, Path: path})
 	}
 	t.out.Finished = append(t.out.Finished, Finished{Channel: c.id, Sample: c.n, Meta: c.meta, Path: path,
-		Record: rec, T: c.t, V: c.v})
+		Record: rec, T: c.t, V: c.v, Wall: c.wallV})
+}
+
+// addWall takes a reading of the sample's wall thermocouple, as its file
+// holds it.
+func (c *channel) addWall(r feed.Reading) {
+	v := r.TempC
+	if !r.Valid() {
+		v = math.NaN()
+	}
+	c.wt = append(c.wt, feed.FileTime(r.TimeS, c.startS))
+	c.wv = append(c.wv, v)
 }
 
 // finalMeta is the sample's file metadata as completed: as it started,
@@ -216,7 +250,7 @@ func (c *channel) snapshot() Snapshot {
 		Channel: c.id, State: c.state, Sample: c.n, Meta: c.meta, Next: c.next, Family: c.opt.Family,
 		T: c.t[:len(c.t):len(c.t)], V: c.v[:len(c.v):len(c.v)],
 		SlopeT: c.st[:len(c.st):len(c.st)], SlopeD: c.sd[:len(c.sd):len(c.sd)],
-		Result: c.result, Record: c.rec, Path: c.path, ElapsedS: c.elapsed(),
+		Result: c.result, Record: c.rec, Path: c.path, ElapsedS: c.elapsed(), WallChannel: c.wall, Wall: c.wallV,
 		Last: c.last, HasLast: c.hasLast, Readings: c.readings, Faults: c.faults,
 	}
 }

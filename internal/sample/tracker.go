@@ -91,6 +91,7 @@ type Tracker struct {
 	defaults Meta // the next sample's metadata on channels not seen yet
 	status   feed.Status
 	out      Update
+	walls    map[string]string // wall thermocouple channel → the channel of its cup's sample recording
 }
 
 // New makes a tracker.
@@ -107,7 +108,7 @@ func New(cfg Config) *Tracker {
 	if cfg.Judge == nil {
 		cfg.Judge = assess.FromResult
 	}
-	return &Tracker{cfg: cfg, book: cfg.Limits, chans: map[string]*channel{}, defaults: cfg.Meta}
+	return &Tracker{cfg: cfg, book: cfg.Limits, chans: map[string]*channel{}, defaults: cfg.Meta, walls: map[string]string{}}
 }
 
 // Update is what one call of the tracker made: the state of every channel
@@ -159,6 +160,15 @@ type Snapshot struct {
 	HasLast        bool
 	Readings       int // readings of the channel, faults included
 	Faults         int // fault readings of the channel
+	// WallChannel is the channel of the sample's wall thermocouple (a cup
+	// with two; "" for one), and Wall its curve on T's times once the
+	// sample is Done (NaN where it has no reading), as its file holds it.
+	WallChannel string
+	Wall        []float64
+	// WallOf is the channel whose cup this channel's thermocouple is the
+	// wall thermocouple of ("" for a cup's own channel), as the source
+	// says: it starts no sample of its own.
+	WallOf string
 }
 
 // EventKind tells what happened.
@@ -213,6 +223,7 @@ type Finished struct {
 	Path      string // its curve file
 	Record    assess.Record
 	T, V      []float64 // its curve
+	Wall      []float64 // a two-thermocouple cup's wall thermocouple on T's times (NaN: no reading); nil for one
 	Recovered bool      // completed after a crash, not recorded by this session
 }
 
@@ -326,6 +337,7 @@ func (t *Tracker) flush() Update {
 	u.Channels = make([]Snapshot, len(t.order))
 	for i, id := range t.order {
 		u.Channels[i] = t.chans[id].snapshot()
+		u.Channels[i].WallOf = t.status.Channels[id].WallOf
 	}
 	return u
 }
@@ -334,6 +346,9 @@ func (t *Tracker) item(it *feed.Item) {
 	switch it.Kind {
 	case feed.KindReading:
 		t.channel(it.Reading.Channel).reading(t, it.Reading)
+		if centre, ok := t.walls[chanID(it.Reading.Channel)]; ok {
+			t.chans[centre].addWall(it.Reading)
+		}
 	case feed.KindStarted:
 		t.channel(it.Channel).start(t, it)
 	case feed.KindEnded:
@@ -380,12 +395,13 @@ func (t *Tracker) recovered(it *feed.Item) {
 		return
 	}
 	meta := MetaOf(c.Meta)
-	in := assess.Input{File: it.Path, Alloy: strings.TrimSpace(meta.Get("alloy")), Time: c.Time, Temp: c.Temp,
-		Skipped: c.Skipped, Limits: t.book, Meta: c.Meta}
+	in, notes := assess.CurveInput(it.Path, c)
+	in.Alloy, in.Limits = strings.TrimSpace(meta.Get("alloy")), t.book
 	result := t.cfg.NewAnalyzer().Analyze(c.Time, c.Temp, assess.Options(in))
 	rec := t.cfg.Judge(in, result)
+	rec.Warnings = append(rec.Warnings, notes...)
 	t.out.Finished = append(t.out.Finished, Finished{Channel: it.Channel, Meta: meta, Path: it.Path, Record: rec,
-		T: c.Time, V: c.Temp, Recovered: true})
+		T: c.Time, V: c.Temp, Wall: in.Wall, Recovered: true})
 }
 
 // Slope is the T′ of a whole curve as the tracker shows a sample's: the

@@ -33,6 +33,13 @@ type DeckOptions struct {
 	// cups; nil gives one channel whose lines carry no ch= token ("1").
 	Channels []string
 	Checksum bool // end every line with the protocol's *XX checksum
+	// Walls gives channels of Channels a second thermocouple near the
+	// wall of their cup, served on the channel named: those channels pour
+	// radial cups (Params.Cup = CupRadial), each cup's info line pairs the
+	// two ("wall_ch=W wall_r_mm=R centre_r_mm=0", docs/line-protocol.md),
+	// and every reading of the centre is followed by the wall
+	// thermocouple's at the same device time (Output.Wall, to 0.01 °C).
+	Walls map[string]string
 	// Cup, when set, makes every ladle pour this cup (with its labels
 	// replaced and a fresh seed per cup) instead of the deck's mix.
 	Cup   *Params
@@ -226,6 +233,9 @@ type channelRun struct {
 	tail  int     // readings after the curve (pull-out and idle)
 	tailN int     // how many
 	last  float64 // last reading written, °C
+
+	wall     string  // the channel of the cup's wall thermocouple ("" for none)
+	lastWall float64 // its last reading, °C
 }
 
 // Run writes the line protocol to w until ctx is cancelled or a write
@@ -243,7 +253,7 @@ func (d *Deck) Run(ctx context.Context, w io.Writer) error {
 	}
 	chans := make([]*channelRun, len(ids))
 	for i, id := range ids {
-		chans[i] = &channelRun{id: id}
+		chans[i] = &channelRun{id: id, wall: d.opt.Walls[id]}
 	}
 	d.line(bw, protocol.Line{Kind: protocol.LineInfo, Info: []protocol.KV{{Key: "dev", Value: "undercool-sim"}, {Key: "fw", Value: "1.0"},
 		{Key: "tc", Value: "K"}, {Key: "simulated", Value: "true"}, {Key: "site", Value: "Cindermoth Iron & Light Alloy works"}}})
@@ -281,6 +291,9 @@ func (d *Deck) reading(w *bufio.Writer, c *channelRun, tagged bool, ms uint64) {
 	if c.out.Time == nil || c.tail >= c.tailN && c.k >= len(c.out.Time) {
 		c.ladle = d.Next()
 		c.ladle.Channel = c.id
+		if c.wall != "" {
+			c.ladle.Params.Cup = CupRadial
+		}
 		c.out = Simulate(c.ladle.Params)
 		c.k, c.tail = 0, 0
 		c.tailN = int(c.ladle.AfterS * d.opt.RateHz)
@@ -291,8 +304,37 @@ func (d *Deck) reading(w *bufio.Writer, c *channelRun, tagged bool, ms uint64) {
 		if tagged {
 			info.Info = append(info.Info, protocol.KV{Key: "ch", Value: c.id})
 		}
+		if c.wall != "" {
+			info.Info = append(info.Info, protocol.KV{Key: "wall_ch", Value: c.wall},
+				protocol.KV{Key: "wall_r_mm", Value: strconv.FormatFloat(math.Round(c.out.Truth.WallTCRadiusMm*100)/100, 'f', -1, 64)},
+				protocol.KV{Key: "centre_r_mm", Value: "0"})
+		}
 		d.line(w, info)
 	}
+	d.centre(w, c, tagged, ms)
+	if c.wall != "" {
+		d.wallReading(w, c, ms)
+	}
+}
+
+// wallReading writes the reading of channel c's wall thermocouple that
+// goes with its centre reading just written (k already counted).
+func (d *Deck) wallReading(w *bufio.Writer, c *channelRun, ms uint64) {
+	l := protocol.Line{Kind: protocol.LineReading, HasMS: true, MS: ms, Channel: c.wall}
+	if k := c.k - 1; c.tail == 0 && k < len(c.out.Wall) {
+		c.lastWall = c.out.Wall[k]
+	} else { // pulled out with the centre one: cooling in air as it does
+		amb := c.ladle.Params.AmbientC
+		if amb == 0 {
+			amb = 25
+		}
+		c.lastWall = amb + (c.lastWall-amb)*math.Exp(-1/(3*d.opt.RateHz)) + 0.03*d.noise.NormFloat64()
+	}
+	d.line(w, d.temp(l, c.lastWall))
+}
+
+// centre writes channel c's reading of the cup's own thermocouple.
+func (d *Deck) centre(w *bufio.Writer, c *channelRun, tagged bool, ms uint64) {
 	l := protocol.Line{Kind: protocol.LineReading, HasMS: true, MS: ms}
 	if tagged {
 		l.Channel = c.id

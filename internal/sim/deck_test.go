@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"bytes"
 	"context"
+	"math"
 	"strconv"
 	"strings"
 	"sync"
@@ -213,5 +214,49 @@ func TestDeckStopsOnCancel(t *testing.T) {
 	var b bytes.Buffer
 	if err := NewDeck(DeckOptions{Seed: 1, Clock: &fakeClock{}}).Run(ctx, &b); err != nil {
 		t.Fatalf("Run after cancel = %v, want nil", err)
+	}
+}
+
+// A deck with a wall thermocouple: its channel's cups are radial, each
+// cup's info line pairs the two channels with the wall thermocouple's
+// radius, and each reading of the centre is followed by the wall's at the
+// same device time: the cup's Output.Wall to 0.01 °C, until the pull-out.
+func TestDeckWallThermocouple(t *testing.T) {
+	opt := DeckOptions{Seed: 4, Speed: 50, RateHz: 10, Channels: []string{"1"}, Walls: map[string]string{"1": "2"}}
+	lines, _ := runDeck(t, opt, 6000)
+	plan := NewDeck(opt)
+	var out Output
+	k := -1 // the centre's reading in out
+	var centreMS string
+	for i, ln := range lines[1:] {
+		tok := parseTokens(t, ln)
+		switch {
+		case strings.HasPrefix(ln, "!"):
+			l := plan.Next()
+			l.Params.Cup = CupRadial
+			out, k = Simulate(l.Params), -1
+			if want := strconv.FormatFloat(math.Round(out.Truth.WallTCRadiusMm*100)/100, 'f', -1, 64); tok["ch"] != "1" || tok["wall_ch"] != "2" ||
+				tok["wall_r_mm"] != want || tok["centre_r_mm"] != "0" || out.Wall == nil {
+				t.Fatalf("info line %q: want the pairing with wall_r_mm=%s", ln, want)
+			}
+		case tok["ch"] == "1":
+			k++
+			centreMS = tok["ms"]
+		case tok["ch"] == "2":
+			if tok["ms"] != centreMS || !strings.Contains(lines[i], "ch=1 ") {
+				t.Fatalf("line %d %q does not follow its centre reading at ms=%s", i+1, ln, centreMS)
+			}
+			if k < len(out.Wall) {
+				want, _ := strconv.ParseFloat(strconv.FormatFloat(out.Wall[k], 'f', 2, 64), 64)
+				if got, err := strconv.ParseFloat(tok["c"], 64); err != nil || got != want {
+					t.Fatalf("wall reading %d: %q, want %v", k, tok["c"], want)
+				}
+			}
+		default:
+			t.Fatalf("line %q", ln)
+		}
+	}
+	if k < 0 {
+		t.Fatal("no readings")
 	}
 }

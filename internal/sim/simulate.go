@@ -267,6 +267,10 @@ func (p Params) meta(tr Truth) []curvefile.Meta {
 			add("sim_chill_shell", g(r.shell))
 		}
 		add("sim_wall_tc_radius_mm", g(math.Round(tr.WallTCRadiusMm*100)/100))
+		// the two thermocouples as every two-thermocouple curve file
+		// places them (docs/curve-files.md, "Two thermocouples in one cup")
+		add(curvefile.KeyCentreRadius, "0")
+		add(curvefile.KeyWallRadius, g(math.Round(tr.WallTCRadiusMm*100)/100))
 	}
 	return md
 }

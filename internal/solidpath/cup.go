@@ -2,7 +2,6 @@ package solidpath
 
 import (
 	"errors"
-	"fmt"
 	"math"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
@@ -81,8 +80,8 @@ type Cup struct {
 	Time   []float64 // s
 	Centre []float64 // the centre thermocouple, °C
 	// Wall is the thermocouple near the wall, °C, at Time's readings (nil:
-	// a one-thermocouple cup); Geometry places both (see OnTimes for a
-	// second channel logged on its own clock).
+	// a one-thermocouple cup); Geometry places both (curvefile.OnTimes
+	// puts a second channel logged on its own clock there).
 	Wall     []float64
 	Geometry Geometry
 	Events   Events
@@ -165,27 +164,4 @@ func (s Solidification) Best() *Path {
 		return s.Fourier
 	}
 	return s.Newtonian
-}
-
-// OnTimes gives the readings x of a second channel, logged at its own times
-// tx, at the times t of the first: linear interpolation between the second
-// channel's readings. It fails where t reaches beyond tx (the two channels
-// must cover the same stretch) or tx does not rise.
-func OnTimes(tx, x, t []float64) ([]float64, error) {
-	if len(tx) != len(x) || len(tx) < 2 {
-		return nil, fmt.Errorf("%w: the second channel has %d times and %d readings", ErrCurve, len(tx), len(x))
-	}
-	for i := 1; i < len(tx); i++ {
-		if !(tx[i] > tx[i-1]) {
-			return nil, fmt.Errorf("%w: the second channel's time does not rise at reading %d", ErrCurve, i)
-		}
-	}
-	if len(t) > 0 && (t[0] < tx[0] || t[len(t)-1] > tx[len(tx)-1]) {
-		return nil, fmt.Errorf("%w: the second channel covers %.1f–%.1f s, the first %.1f–%.1f s", ErrCurve, tx[0], tx[len(tx)-1], t[0], t[len(t)-1])
-	}
-	out := make([]float64, len(t))
-	for i, s := range t {
-		out[i] = interp(tx, x, s)
-	}
-	return out, nil
 }

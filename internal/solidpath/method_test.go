@@ -249,25 +249,3 @@ func TestCoherencyPoint(t *testing.T) {
 		t.Errorf("no dip: %v, want ErrNoCoherency", err)
 	}
 }
-
-// OnTimes puts a second channel on the first channel's times.
-func TestOnTimes(t *testing.T) {
-	tx := []float64{0, 1, 2, 4}
-	x := []float64{10, 12, 13, 17}
-	got, err := OnTimes(tx, x, []float64{0, 0.5, 2, 3, 4})
-	want := []float64{10, 11, 13, 15, 17}
-	if err != nil || len(got) != len(want) {
-		t.Fatalf("%v, %v", got, err)
-	}
-	for i := range want {
-		if math.Abs(got[i]-want[i]) > 1e-12 {
-			t.Errorf("reading %d: %g, want %g", i, got[i], want[i])
-		}
-	}
-	if _, err := OnTimes(tx, x, []float64{1, 5}); !errors.Is(err, ErrCurve) || !strings.Contains(err.Error(), "covers 0.0–4.0 s") {
-		t.Errorf("beyond the channel: %v", err)
-	}
-	if _, err := OnTimes([]float64{0, 2, 1}, x[:3], []float64{1}); !errors.Is(err, ErrCurve) {
-		t.Errorf("time backwards: %v", err)
-	}
-}

@@ -49,13 +49,14 @@ const (
 	summaryColumns = `s.id, s.recorded_at, s.sample, s.ladle, s.alloy, s.furnace, s.operator, s.site, s.deck, s.interrupted, s.simulated,
 	r.id, r.analysed_at, r.limits_version, r.verdict, r.reasons, r.problems, r.file, r.packed,
 	CASE WHEN r.packed IS NULL THEN r.record END`
-	fullColumns = summaryColumns + `, s.created_at, s.channel, s.thermocouple, s.note, s.curve_path, s.curve_sha256, s.uid, r.uid, r.record`
+	fullColumns = summaryColumns + `, s.created_at, s.channel, s.thermocouple, s.note, s.curve_path, s.curve_sha256, s.uid, r.uid, r.record,
+	s.tc_wall_channel, s.tc_centre_radius_mm, s.tc_wall_radius_mm`
 )
 
 // History returns the samples the filter selects, newest first unless
 // f.Oldest, each with its latest result (every result with f.AllResults).
 // Without f.Full, a row holds the sample's id, times, names and flags
-// (not its channel, thermocouple, note or curve file) and a Result.Record
+// (not its channels, thermocouple, note or curve file) and a Result.Record
 // holding every number that has a column (the characteristic points and
 // times, the metallurgy figures, samples, rate), problems and verdict; keys
 // the Record gained after schema version 1 are left zero. f.Full gives
@@ -365,7 +366,7 @@ func (sc *scanner) scan(rows *sql.Rows, e *Entry) error {
 		&r.ID, dbTime{&r.Analysed}, &r.LimitsVersion, &r.Verdict, &sc.reasons, &sc.problems, &r.Record.File, &sc.packed, &sc.fallback)
 	if sc.full {
 		sc.dest = append(sc.dest, dbTime{&s.Created}, &s.Channel, &s.Thermocouple, &s.Note, &s.CurvePath, &s.CurveSHA256,
-			&s.UID, &r.UID, &sc.record)
+			&s.UID, &r.UID, &sc.record, &s.WallChannel, &s.CentreRadiusMm, &s.WallRadiusMm)
 	}
 	if err := rows.Scan(sc.dest...); err != nil {
 		return err

@@ -51,6 +51,13 @@ type Sample struct {
 	Interrupted bool // the recording ended before freezing was done
 	Simulated   bool // from the simulator, not a real cup
 
+	// A cup with two thermocouples (Channel is the centre one's):
+	// WallChannel is the channel of the one near the wall ("" for a cup
+	// with one, or not named); CentreRadiusMm and WallRadiusMm are their
+	// distances from the cup's axis, mm (nil: not given).
+	WallChannel                  string
+	CentreRadiusMm, WallRadiusMm *float64
+
 	Record        assess.Record
 	LimitsVersion string
 }
@@ -211,12 +218,17 @@ func metricByKey(key string) (metricField, bool) {
 
 // sampleColumns are the samples columns every insert writes, in the
 // order of sampleArgs.
-const sampleColumns = "uid, site, deck, created_at, recorded_at, sample, ladle, alloy, furnace, operator, channel, thermocouple, note, curve_path, curve_sha256, interrupted, simulated"
+const sampleColumns = "uid, site, deck, created_at, recorded_at, sample, ladle, alloy, furnace, operator, channel, thermocouple, note, curve_path, curve_sha256, interrupted, simulated, " +
+	"tc_wall_channel, tc_centre_radius_mm, tc_wall_radius_mm" // migration 0007 (SQLite), 0004 (PostgreSQL)
 
 func (db *DB) sampleArgs(s *Sample) []any {
 	return []any{s.UID, s.Site, s.Deck, db.ts(s.Created), db.ts(s.Recorded), s.Sample, s.Ladle, s.Alloy, s.Furnace,
-		s.Operator, s.Channel, s.Thermocouple, s.Note, s.CurvePath, s.CurveSHA256, s.Interrupted, s.Simulated}
+		s.Operator, s.Channel, s.Thermocouple, s.Note, s.CurvePath, s.CurveSHA256, s.Interrupted, s.Simulated,
+		s.WallChannel, s.CentreRadiusMm, s.WallRadiusMm}
 }
+
+// nSampleColumns is how many sampleColumns there are.
+var nSampleColumns = strings.Count(sampleColumns, ",") + 1
 
 // resultColumns are the results columns every insert writes after the
 // engine's own (SQLite: uid, sample_id; PostgreSQL: uid, sample_uid,
@@ -247,8 +259,8 @@ func (db *DB) resultArgs(r *Result, js []byte, numbers []byte) []any {
 // written again (ON CONFLICT ... DO NOTHING): that is what makes
 // forwarding and importing idempotent.
 var (
-	sqliteInsertSample = "INSERT INTO samples(" + sampleColumns + ") VALUES (" + placeholders(17) + ") ON CONFLICT (uid) WHERE uid != '' DO NOTHING RETURNING id"
-	pgInsertSample     = "INSERT INTO samples(" + sampleColumns + ") VALUES (" + placeholders(17) + ") ON CONFLICT (uid) DO NOTHING RETURNING id"
+	sqliteInsertSample = "INSERT INTO samples(" + sampleColumns + ") VALUES (" + placeholders(nSampleColumns) + ") ON CONFLICT (uid) WHERE uid != '' DO NOTHING RETURNING id"
+	pgInsertSample     = "INSERT INTO samples(" + sampleColumns + ") VALUES (" + placeholders(nSampleColumns) + ") ON CONFLICT (uid) DO NOTHING RETURNING id"
 	sqliteInsertResult = "INSERT INTO results(uid, sample_id, " + strings.Join(resultColumns, ", ") + ") VALUES (" +
 		placeholders(2+len(resultColumns)) + ") ON CONFLICT (uid) WHERE uid != '' DO NOTHING RETURNING id"
 	pgInsertResult = "INSERT INTO results(uid, sample_uid, summary, " + strings.Join(resultColumns, ", ") + ") VALUES (" +
@@ -343,8 +355,10 @@ func (db *DB) newSample(s *Sample, now time.Time) {
 	}
 }
 
-// newResult is the result of an analysis of s stored now, with its uid.
-func newResult(s *Sample, rec assess.Record, limitsVersion string, now time.Time) (Result, []byte, error) {
+// newResult is the result of an analysis of s stored now, with its uid
+// (which names the deck that stored it: two decks that store the same cup
+// with the same limits in the same millisecond keep two results).
+func (db *DB) newResult(s *Sample, rec assess.Record, limitsVersion string, now time.Time) (Result, []byte, error) {
 	if limitsVersion == "" {
 		limitsVersion = rec.LimitsVersion
 	}
@@ -356,7 +370,7 @@ func newResult(s *Sample, rec assess.Record, limitsVersion string, now time.Time
 		return Result{}, nil, err
 	}
 	r := Result{SampleID: s.ID, Analysed: now, LimitsVersion: limitsVersion, Verdict: rec.Verdict, Reasons: Reasons(rec), Record: rec}
-	r.UID = resultUID(s.UID, formatTime(now), limitsVersion, js)
+	r.UID = hashUID("result", s.UID, db.origin.Site, db.origin.Deck, formatTime(now), limitsVersion, string(js))
 	return r, js, nil
 }
 
@@ -453,7 +467,7 @@ func (db *DB) AddSamples(ctx context.Context, ss []Sample) ([]int64, error) {
 		for i := range ss {
 			s := ss[i]
 			db.newSample(&s, now)
-			r, js, err := newResult(&s, s.Record, s.LimitsVersion, now)
+			r, js, err := db.newResult(&s, s.Record, s.LimitsVersion, now)
 			if err == nil {
 				_, err = w.put(ctx, &s, &r, js, true)
 			}
@@ -536,7 +550,7 @@ func (db *DB) addResult(ctx context.Context, tx *sql.Tx, meta *Sample, rec asses
 		return 0, err
 	}
 	defer w.Close()
-	r, js, err := newResult(meta, rec, limitsVersion, time.Now())
+	r, js, err := db.newResult(meta, rec, limitsVersion, time.Now())
 	if err != nil {
 		return 0, err
 	}
@@ -595,7 +609,7 @@ func (db *DB) Put(ctx context.Context, s Sample) (int64, PutOutcome, error) {
 			defer w.Close()
 			now := time.Now()
 			db.newSample(&s, now)
-			r, js, err := newResult(&s, s.Record, s.LimitsVersion, now)
+			r, js, err := db.newResult(&s, s.Record, s.LimitsVersion, now)
 			if err != nil {
 				return err
 			}

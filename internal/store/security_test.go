@@ -167,10 +167,7 @@ func TestMigrationWhileOlderDeckWrites(t *testing.T) {
 		if e.srv != nil {
 			p = e.newPlace(t, PlantSchemaVersion()-1)
 			older, err = openPostgres(ctx, p.target("deck_a"), PlantSchemaVersion()-1, false) // knows only the migrations before the last
-			write = func(i int) error {
-				_, err := older.AddSample(ctx, Sample{Sample: fmt.Sprintf("L-%d cup 1", 4000+i), Alloy: "grey-iron", Record: constructedRecord("grey-iron", 1146, "pass")})
-				return err
-			}
+			write = func(i int) error { return olderPGInsert(ctx, older, i) }
 		} else {
 			p = e.newPlace(t, SchemaVersion()-1)
 			older, err = open(ctx, p.path, SchemaVersion()-1)
@@ -256,4 +253,28 @@ func olderInsert(ctx context.Context, tx *sql.Tx, i int) error {
 	}
 	_, err = tx.ExecContext(ctx, `UPDATE samples SET latest_result_id = ?, latest_verdict = 'pass', summary = x'01' WHERE id = ?`, rid, id)
 	return err
+}
+
+// olderPGInsert writes a sample and its result into the plant database as
+// the program of the schema before its last migration does: the samples
+// columns of plant schema version 3 (before 0004 added the two
+// thermocouples' columns).
+func olderPGInsert(ctx context.Context, db *DB, i int) error {
+	const n = 17 // the samples columns of version 3
+	s := Sample{Sample: fmt.Sprintf("L-%d cup 1", 4000+i), Alloy: "grey-iron", Record: constructedRecord("grey-iron", 1146, "pass")}
+	return db.write(ctx, "adding", func(tx *sql.Tx) error {
+		now := time.Now()
+		db.newSample(&s, now)
+		cols := strings.Join(strings.Split(sampleColumns, ", ")[:n], ", ")
+		if _, err := tx.ExecContext(ctx, db.q("INSERT INTO samples("+cols+") VALUES ("+placeholders(n)+")"), db.sampleArgs(&s)[:n]...); err != nil {
+			return err
+		}
+		r, js, err := db.newResult(&s, s.Record, "", now)
+		if err != nil {
+			return err
+		}
+		numbers := packNumbers(&r.Record)
+		_, err = tx.ExecContext(ctx, db.q(pgInsertResult), append([]any{r.UID, s.UID, packSummary(&s, &r, numbers)}, db.resultArgs(&r, js, numbers)...)...)
+		return err
+	})
 }

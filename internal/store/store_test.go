@@ -930,7 +930,7 @@ func childKilled() int {
 		s := Sample{Sample: fmt.Sprintf("doomed %d", i), Note: note, Record: constructedRecord("grey-iron", 1146, "pass")}
 		now := time.Now()
 		db.newSample(&s, now)
-		r, js, err := newResult(&s, s.Record, "", now)
+		r, js, err := db.newResult(&s, s.Record, "", now)
 		if err == nil {
 			_, err = w.put(ctx, &s, &r, js, true)
 		}

@@ -26,7 +26,10 @@ import (
 //     creation and recording times, sample and ladle, so that every copy of
 //     an old file gets the same ids.
 //   - a result: the first 32 hex digits of the SHA-256 of its sample's
-//     uid, its analysis time (timeLayout), limits version and record JSON.
+//     uid, the site and deck that stored it, its analysis time
+//     (timeLayout), limits version and record JSON; a result of an
+//     earlier undercool's database (migration 0006) the same without the
+//     site and deck.
 
 // newSampleUID is the uid of a sample stored now.
 func newSampleUID(curveSHA256 string) string {
