@@ -70,11 +70,14 @@ func (f *fakeAmp) plug() {
 	f.mu.Unlock()
 }
 
-// unplug makes the device vanish: the pseudo-terminal is closed, the link
-// dangles.
+// unplug makes the device vanish: the link is removed and the
+// pseudo-terminal closed.
 func (f *fakeAmp) unplug() {
 	f.mu.Lock()
 	defer f.mu.Unlock()
+	// As a USB adapter pulled out: its device node goes first, so that no
+	// reopen finds the dying terminal (or a new one given the same number).
+	os.Remove(f.link)
 	if f.master != nil {
 		f.master.Close()
 		f.slave.Close()
