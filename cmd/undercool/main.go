@@ -15,6 +15,8 @@ import (
 	"runtime/pprof"
 	"sort"
 	"syscall"
+
+	"github.com/undercool-foundry/undercool/internal/escape"
 )
 
 // command is one subcommand of undercool.
@@ -85,7 +87,7 @@ func runMain(ctx context.Context, env *environ, args []string) int {
 		fmt.Fprintf(env.stderr, "undercool %s: see 'undercool %s -h'\n", c.name, c.name)
 		return 2
 	default:
-		fmt.Fprintf(env.stderr, "undercool %s: %v\n", c.name, err)
+		fmt.Fprintf(env.stderr, "undercool %s: %s\n", c.name, escape.Text(err.Error()))
 		return 1
 	}
 }

@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"github.com/undercool-foundry/undercool/acquire"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/session"
@@ -225,7 +226,7 @@ func (r *recording) update(u sample.Update) {
 			r.started, r.channel = true, e.Channel
 		}
 		if e.Text != "" {
-			fmt.Fprintf(r.env.stderr, "undercool record: %s\n", e.Text)
+			fmt.Fprintf(r.env.stderr, "undercool record: %s\n", escape.Line(e.Text))
 		}
 	}
 	for _, f := range u.Finished {

@@ -94,6 +94,11 @@ func (w *recordWriter) put(path string, rec assess.Record) {
 		if path == "" {
 			return errors.New("the sample has no curve file")
 		}
+		if strings.HasSuffix(path, ".partial.csv") {
+			// its file could not be completed: stored once it is
+			// recovered, at the next start, under its own name
+			return fmt.Errorf("%s: the curve file could not be completed; it is recovered and stored at the next start", path)
+		}
 		c, err := w.read(path) // for the metadata; the analysis is rec
 		if err != nil {
 			return err
