@@ -171,6 +171,7 @@ type Acquirer struct {
 	wantStatus bool      // send a batch even if it holds nothing but the status
 	sentAt     time.Time // when the last batch went
 	cups       cups      // channels paired into two-thermocouple cups
+	startedAt  time.Time // when Run started, by cfg.Now
 }
 
 // New returns an Acquirer that reads from what open opens.
@@ -341,6 +342,7 @@ func (a *Acquirer) Run(ctx context.Context) (err error) {
 }
 
 func (a *Acquirer) setup() error {
+	a.startedAt = a.cfg.Now()
 	a.lastIdx = map[string]int{}
 	a.chans = map[string]*channel{}
 	a.warned = map[string]bool{}
@@ -465,10 +467,12 @@ func (a *Acquirer) status() feed.Status {
 	s.Partial = int(a.fr.Partial.Load())
 	s.LF, s.CRLF, s.CR = int(a.fr.LF.Load()), int(a.fr.CRLF.Load()), int(a.fr.CR.Load())
 	s.Garbage += s.Overlong
-	if !a.lastLine.IsZero() {
-		s.SilentS = a.cfg.Now().Sub(a.lastLine).Seconds()
-	}
 	now := a.cfg.Now()
+	if !a.lastLine.IsZero() {
+		s.SilentS = now.Sub(a.lastLine).Seconds()
+	}
+	// never 0 once running: 0 means "no host clock"
+	s.HostS = max(now.Sub(a.startedAt).Seconds(), 1e-9)
 	s.Channels = make(map[string]feed.ChannelStatus, len(a.chans))
 	for id, c := range a.chans {
 		cs := feed.ChannelStatus{Recording: c.log != nil, Sample: c.n, Readings: c.readings, Faults: c.faults, WallOf: a.wallCentre(id)}
