@@ -12,6 +12,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/session"
+	"github.com/undercool-foundry/undercool/internal/store"
 )
 
 func init() {
@@ -48,6 +49,7 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	operator := fs.String("operator", "", "who took the sample")
 	dbPath := fs.String("db", "", "records database the finished sample is stored in (default $UNDERCOOL_DB or the user's data directory)")
 	noStore := fs.Bool("no-store", false, "do not store the finished sample in the records database")
+	plant := fs.String("plant", "", "the plant database's postgres:// `connection string` the stored sample is forwarded to (default $UNDERCOOL_PLANT; none: it stays queued in the deck's file)")
 	limitsPath := fs.String("limits", "", "limits file the finished sample is judged by (default: the built-in examples)")
 	fs.Usage = func() {
 		fmt.Fprintln(env.stderr, "usage: undercool record --port PATH [--baud N] [--frame 8N1] [--tc TYPE] [--cj C] [--out FILE] [--channel ID] [--max-s N]")
@@ -94,6 +96,7 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 		return err
 	}
 	var records *recordWriter
+	var fw *store.Forwarder
 	if !*noStore {
 		// Opened before the pour, so a database that cannot be written is
 		// an error now, not after the cup.
@@ -103,8 +106,14 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 		}
 		defer db.Close()
 		records = newRecordWriter(ctx, db, nil)
+		var stopFw func()
+		fw, stopFw = deckForwarding(ctx, env, db, *plant)
+		defer stopFw() // before the database closes
+		if fw != nil {
+			records.stored = fw.Kick
+		}
 	}
-	rec := &recording{env: env, port: *port, channel: *channel, waitS: *waitS, records: records}
+	rec := &recording{env: env, port: *port, channel: *channel, waitS: *waitS, records: records, fw: fw}
 	acq := acquire.New(recordOpener(*port, mode), cfg)
 	tr := sample.New(sample.Config{Limits: book, Meta: meta})
 	runErr := rec.run(ctx, acq, tr, *start)
@@ -114,6 +123,9 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 			fmt.Fprintf(env.stderr, "undercool record: %v\n", e)
 		}
 		fmt.Fprintln(env.stderr, "undercool record: "+records.summary())
+		if fw != nil {
+			fmt.Fprintln(env.stderr, "undercool record: "+forwardStored(fw, records.newResults(), 10*time.Second))
+		}
 		if runErr == nil && err != nil {
 			return exitError{1}
 		}
@@ -130,6 +142,7 @@ type recording struct {
 	channel string // the sample's channel ("" until one starts)
 	waitS   float64
 	records *recordWriter
+	fw      *store.Forwarder // nil: no plant database
 
 	started  bool
 	readings int     // of the sample's channel since it started
@@ -263,8 +276,12 @@ func (r *recording) progress() {
 	if !s.Channels[r.channel].Recording {
 		state = "done"
 	}
-	fmt.Fprintf(r.env.stderr, "undercool record: %s, %s: channel %s %s; %d readings, %.1f °C, %d faults\n",
-		r.port, conn, r.channel, state, r.readings, r.lastC, s.Faults)
+	plant := ""
+	if r.fw != nil {
+		plant = "; " + r.fw.Status().String()
+	}
+	fmt.Fprintf(r.env.stderr, "undercool record: %s, %s: channel %s %s; %d readings, %.1f °C, %d faults%s\n",
+		r.port, conn, r.channel, state, r.readings, r.lastC, s.Faults, plant)
 }
 
 // noSample explains why no sample started in --wait-s.

@@ -276,3 +276,41 @@ func TestRecordKill9(t *testing.T) {
 		t.Fatalf("stored samples %+v, want the recovered %s marked interrupted", hist, out)
 	}
 }
+
+// TestRecordForwardsToPlant: with a plant database set, record forwards
+// the sample it stored, as the dashboard does, and says how the link is.
+// Before the fix only `sync` forwarded: a deck that ran only record kept
+// every sample queued. (The plant database here is a second SQLite file,
+// which the forwarder takes as it takes a PostgreSQL server; the server
+// half is tested in internal/store.)
+func TestRecordForwardsToPlant(t *testing.T) {
+	m, name := acqPTY(t)
+	dir := t.TempDir()
+	out := filepath.Join(dir, "cup.csv")
+	plant := filepath.Join(dir, "plant.db")
+	stop := make(chan struct{})
+	var wg sync.WaitGroup
+	wg.Go(func() { acqSend(m, 0, stop) })
+	code, stdout, stderr := acqRun(t, context.Background(), "record", "--port", name, "--out", out, "--max-s", "2",
+		"--sample", "L-2419 cup 1", "--alloy", "grey-iron", "--plant", plant)
+	close(stop)
+	wg.Wait()
+	if code != 0 || strings.TrimSpace(stdout) != out {
+		t.Fatalf("exit %d, stdout %q, stderr:\n%s", code, stdout, stderr)
+	}
+	if !strings.Contains(stderr, "plant: linked, nothing queued") {
+		t.Errorf("stderr does not say the link:\n%s", stderr)
+	}
+	db, err := store.Open(context.Background(), plant)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	hist, err := db.History(context.Background(), store.Filter{Full: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(hist) != 1 || hist[0].Sample.Sample != "L-2419 cup 1" {
+		t.Fatalf("plant database holds %+v, want the sample recorded", hist)
+	}
+}
