@@ -62,19 +62,25 @@ func acqCup(i int) (ms int, temp float64) {
 }
 
 // acqSend writes the cup from line from on at 100 Hz until stop closes,
-// returning how many lines went out in all.
+// returning how many lines went out in all. Line i goes out 10·i ms after
+// the first, by the clock: when the sender was held up (a loaded machine),
+// the lines due are written at once, so that the device's time keeps up
+// with the host's as a real amplifier's does. (A ticker drops ticks under
+// load: the device time then fell behind, and record's host-clock bound on
+// the time limit ended TestRecordPTY's sample short now and then.)
 func acqSend(m *os.File, from int, stop <-chan struct{}) int {
-	tick := time.NewTicker(10 * time.Millisecond)
-	defer tick.Stop()
+	start := time.Now()
 	for i := from; ; i++ {
 		ms, c := acqCup(i)
 		if _, err := fmt.Fprintf(m, "ms=%d c=%s\n", ms, strconv.FormatFloat(c, 'f', -1, 64)); err != nil {
 			return i
 		}
+		t := time.NewTimer(time.Until(start.Add(time.Duration(i+1-from) * 10 * time.Millisecond)))
 		select {
 		case <-stop:
+			t.Stop()
 			return i + 1
-		case <-tick.C:
+		case <-t.C:
 		}
 	}
 }
