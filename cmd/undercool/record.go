@@ -113,7 +113,7 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 			records.stored = fw.Kick
 		}
 	}
-	rec := &recording{env: env, port: *port, channel: *channel, waitS: *waitS, records: records, fw: fw}
+	rec := &recording{env: env, port: *port, mode: mode, channel: *channel, waitS: *waitS, records: records, fw: fw}
 	acq := acquire.New(recordOpener(*port, mode), cfg)
 	tr := sample.New(sample.Config{Limits: book, Meta: meta})
 	runErr := rec.run(ctx, acq, tr, *start)
@@ -139,6 +139,7 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 type recording struct {
 	env     *environ
 	port    string
+	mode    acquire.PortMode
 	channel string // the sample's channel ("" until one starts)
 	waitS   float64
 	records *recordWriter
@@ -284,14 +285,21 @@ func (r *recording) progress() {
 		r.port, conn, r.channel, state, r.readings, r.lastC, s.Faults, plant)
 }
 
-// noSample explains why no sample started in --wait-s.
+// noSample explains why no sample started in --wait-s. When most lines
+// were garbage the hint is the line settings, even if a few garbage lines
+// happened to read as numbers: text read at the wrong baud rate is mostly
+// garbage, with now and then a line of digits.
 func (r *recording) noSample() error {
 	s := r.status
+	settings := fmt.Sprintf("%d baud, %s", r.mode.Baud, r.mode.Frame())
 	switch {
 	case s.Lines == 0 && s.Partial == 0 && s.Overlong == 0:
-		return fmt.Errorf("no data from %s in %g s: is the amplifier on, connected and sending? (check the cable, --baud and --frame)", r.port, r.waitS)
+		return fmt.Errorf("no data from %s in %g s: is the amplifier on, connected and sending? (check the cable, --baud and --frame; read at %s)", r.port, r.waitS, settings)
 	case s.Readings == 0:
-		return fmt.Errorf("only garbage from %s in %g s (%d lines, last %s): check --baud and --frame", r.port, r.waitS, s.Garbage, s.LastGarbage)
+		return fmt.Errorf("only garbage from %s at %s in %g s (%d lines, last %s): check --baud and --frame", r.port, settings, r.waitS, s.Garbage, s.LastGarbage)
+	case s.Garbage > s.Readings:
+		return fmt.Errorf("mostly garbage from %s at %s in %g s (%d garbage lines, %d readings, last %s): check --baud and --frame",
+			r.port, settings, r.waitS, s.Garbage, s.Readings, s.LastGarbage)
 	}
 	return fmt.Errorf("no pour seen on %s in %g s (%d readings); --start records without waiting for the pour", r.port, r.waitS, s.Readings)
 }

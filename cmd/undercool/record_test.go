@@ -182,6 +182,30 @@ func TestRecordWrongBaud(t *testing.T) {
 	}
 }
 
+// TestRecordWrongBaudWithNoise: at the wrong baud rate a few garbage
+// lines happen to read as numbers. Most lines are garbage, so the hint is
+// still the line settings, naming the port and the baud rate. Before the
+// fix the message became "no pour seen (5 readings)".
+func TestRecordWrongBaudWithNoise(t *testing.T) {
+	m, name := acqPTY(t)
+	var b strings.Builder
+	for i := range 100 {
+		if i%20 == 7 {
+			b.WriteString("7\r\n") // debris that reads as a plain-number reading
+		} else {
+			b.WriteString("\xf8\x80\xfe\x1e\x98\xe6\xe0\x80\r\n")
+		}
+	}
+	if _, err := m.Write([]byte(b.String())); err != nil {
+		t.Fatal(err)
+	}
+	code, _, stderr := acqRun(t, context.Background(), "record", "--port", name, "--baud", "9600", "--dir", t.TempDir(), "--wait-s", "0.6")
+	if code != 1 || !strings.Contains(stderr, "mostly garbage from "+name+" at 9600 baud, 8N1") || !strings.Contains(stderr, "95 garbage lines, 5 readings") ||
+		!strings.Contains(stderr, "check --baud") {
+		t.Fatalf("exit %d, stderr:\n%s", code, stderr)
+	}
+}
+
 func TestRecordUsage(t *testing.T) {
 	dir := t.TempDir()
 	for _, tt := range []struct {
