@@ -286,6 +286,11 @@ func (a *Acquirer) Run(ctx context.Context) (err error) {
 		if ferr := a.finishAll("acquisition stopped"); ferr != nil && err == nil {
 			err = ferr
 		}
+		if err != nil {
+			// said in the stream too: the screen and its log show why
+			// the feed ended, not only the command's exit
+			a.item(feed.Item{Kind: feed.KindWarning, TimeS: a.tb.last, Text: "acquisition stopped: " + err.Error()})
+		}
 		a.flushLast()
 	}()
 

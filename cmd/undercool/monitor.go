@@ -154,7 +154,11 @@ func runDashboard(ctx context.Context, env *environ, d dashboard) error {
 	defer stopAcq()
 	var wg sync.WaitGroup
 	var acqErr error
-	wg.Go(func() { acqErr = acq.Run(acqCtx) })
+	wg.Go(func() {
+		if acqErr = acq.Run(acqCtx); acqErr != nil {
+			logger.Printf("acquisition stopped: %v", acqErr)
+		}
+	})
 	wg.Go(sess.Run)
 	if d.feed != nil {
 		wg.Go(func() {
