@@ -466,7 +466,7 @@ func (m Model) titleBar() string {
 
 func (m Model) statusLine() string {
 	s := m.status
-	port := cut(s.Port, max(12, m.w/4))
+	port := cut(escape.Line(s.Port), max(12, m.w/4))
 	if port == "" {
 		port = "no port"
 	}

@@ -228,7 +228,7 @@ func (r *recording) finished(f sample.Finished) {
 func (r *recording) verdict(f sample.Finished) {
 	fmt.Fprintf(r.env.stderr, "undercool record: %s: verdict %s", filepath.Base(f.Path), f.Record.Verdict)
 	for _, why := range f.Record.Reasons {
-		fmt.Fprintf(r.env.stderr, "; %s", why)
+		fmt.Fprintf(r.env.stderr, "; %s", escape.Line(why))
 	}
 	fmt.Fprintln(r.env.stderr, " (advice only: follow the shop's written procedures)")
 }
