@@ -34,6 +34,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/forecast"
 	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/solidpath"
@@ -103,10 +104,19 @@ func Write(path string, c *curvefile.Curve, rec assess.Record, info Info) error 
 		svg := vgsvg.New(PageWidth, PageHeight)
 		vc, canvas = svg, svg
 	}
-	if err := drawPage(draw.New(canvas.(vg.CanvasSizer)), c, rec, info); err != nil {
+	if err := drawPage(draw.New(textCanvas{canvas.(vg.CanvasSizer)}), c, rec, info); err != nil {
 		return fmt.Errorf("report %s: %w", path, err)
 	}
 	return writeAtomic(path, vc.WriteTo)
+}
+
+// textCanvas writes every text with visible escapes for control
+// characters (package escape): the page shows text from curve files and
+// the records, and XML 1.0 allows no C0 control in an SVG file.
+type textCanvas struct{ vg.CanvasSizer }
+
+func (c textCanvas) FillString(f font.Face, pt vg.Point, s string) {
+	c.CanvasSizer.FillString(f, pt, escape.Line(s))
 }
 
 func writeAtomic(path string, write func(io.Writer) (int64, error)) error {
