@@ -7,10 +7,12 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"reflect"
 	"sort"
 	"strings"
 	"testing"
 
+	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/limits"
 )
@@ -170,27 +172,30 @@ func init() {
 func assessReal(t *testing.T, name string) Record {
 	t.Helper()
 	for _, c := range realCurves {
-		if c.name != name {
-			continue
+		if c.name == name {
+			return Assess(realInput(t, c))
 		}
-		path := realData(t, c.rel)
-		cv, err := c.opt.ReadFile(path)
-		if err != nil {
-			t.Fatal(err)
-		}
-		in, _ := CurveInput(path, cv)
-		in.Alloy = c.alloy
-		if c.alloy == "sn-bi" || c.alloy == "pure-bi" {
-			book, err := limits.Parse([]byte(realLimits), "realdata.toml")
-			if err != nil {
-				t.Fatal(err)
-			}
-			in.Limits = book
-		}
-		return Assess(in)
 	}
 	t.Fatalf("no measured curve %s", name)
 	return Record{}
+}
+
+// realInput reads one measured curve into the input of its alloy.
+func realInput(t *testing.T, c realCurve) Input {
+	t.Helper()
+	path := realData(t, c.rel)
+	cv, err := c.opt.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	in, _ := CurveInput(path, cv)
+	in.Alloy = c.alloy
+	if c.alloy == "sn-bi" || c.alloy == "pure-bi" {
+		if in.Limits, err = limits.Parse([]byte(realLimits), "realdata.toml"); err != nil {
+			t.Fatal(err)
+		}
+	}
+	return in
 }
 
 // pointOf is the record's value for a key of the read.
@@ -593,5 +598,47 @@ func TestRealSlowLogger(t *testing.T) {
 		}
 		e := ref.points["eutectic_max_c"]
 		t.Logf("%s: %d readings, refused: %q; the read's last arrest %.2f °C at %.0f s", ref.name, rec.Samples, rec.Problems, e.C, e.S)
+	}
+}
+
+// TestRealLiveEqualsOffline feeds every measured curve (the 20 s Pb-Sn
+// logger aside) reading by reading through one arrest.Analyzer with the
+// options a live sample gets (Options(in), Live true), as the tracker
+// does: a point once reported never changes, and the final call with Live
+// false equals the offline analysis (the contract in DEVELOPERS.md,
+// "arrest.Options{Family, Live}"), here on real logger noise, quantisation
+// and jitter instead of constructed curves.
+func TestRealLiveEqualsOffline(t *testing.T) {
+	realData(t)
+	for _, c := range realCurves {
+		if strings.HasPrefix(c.name, "PbSn_") {
+			continue
+		}
+		t.Run(c.name, func(t *testing.T) {
+			in := realInput(t, c)
+			opt := Options(in)
+			offline := arrest.Analyze(in.Time, in.Temp, opt)
+			opt.Live = true
+			var a arrest.Analyzer
+			seen := map[string]arrest.Point{}
+			for k := 1; k <= len(in.Time); k++ {
+				r := a.Analyze(in.Time[:k], in.Temp[:k], opt)
+				for name, p := range map[string]arrest.Point{"pour peak": r.PourPeak, "liquidus minimum": r.LiquidusMin, "liquidus": r.Liquidus,
+					"eutectic minimum": r.EutecticMin, "eutectic maximum": r.EutecticMax, "end of freezing": r.Solidus} {
+					old, ok := seen[name]
+					switch {
+					case ok && (!p.OK || p != old):
+						t.Fatalf("%s changed at reading %d of %d: %+v -> %+v", name, k, len(in.Time), old, p)
+					case !ok && p.OK:
+						seen[name] = p
+					}
+				}
+			}
+			opt.Live = false
+			if final := a.Analyze(in.Time, in.Temp, opt); !reflect.DeepEqual(final, offline) {
+				t.Fatalf("the final live answer differs from the offline one:\n%+v\n%+v", final, offline)
+			}
+			t.Logf("%d readings: %d points settled live, final equals offline", len(in.Time), len(seen))
+		})
 	}
 }
