@@ -324,6 +324,21 @@ func TestRealArrestsAgainstScipy(t *testing.T) {
 			for _, k := range keys {
 				checkPoint(t, ref, k, pointOf(rec, k))
 			}
+			// the eutectic recalescence, maximum − minimum, at the sum of
+			// both tolerances (not where either point is a known miss)
+			lo, hi := ref.points["eutectic_min_c"], ref.points["eutectic_max_c"]
+			_, badLo := knownWrong[ref.name+" eutectic_min_c"]
+			_, badHi := knownWrong[ref.name+" eutectic_max_c"]
+			if shoulder(ref, "eutectic_min_c") || lo.Spread > 3 || hi.Spread > 3 || badLo || badHi {
+				return
+			}
+			want, tol := hi.C-lo.C, 0.6+lo.Spread+hi.Spread
+			got := rec.RecalescenceC
+			checkKnown(t, ref.name+" recalescence_c", got != nil && math.Abs(*got-want) <= tol,
+				fmt.Sprintf("%s, the read %.2f ± %.2f", show(got), want, tol))
+			if got != nil {
+				t.Logf("%s recalescence_c: %.2f °C, the read %.2f ± %.2f", ref.name, *got, want, tol)
+			}
 		})
 	}
 }
