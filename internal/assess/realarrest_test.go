@@ -655,3 +655,43 @@ func TestRealLiveEqualsOffline(t *testing.T) {
 		})
 	}
 }
+
+// TestRealCutRecordings cuts each measured curve whose end of freezing
+// settles (the 20 s logger aside) at 30, 50 and 80 % of the way from its
+// eutectic maximum to its end of freezing, as a recording stopped on the
+// eutectic plateau would be: it must be said to have ended early and be
+// judged invalid, never fail or pass on a plateau it did not finish, and
+// the eutectic points already settled stay those of the whole curve.
+func TestRealCutRecordings(t *testing.T) {
+	realData(t)
+	cuts := 0
+	for _, c := range realCurves {
+		if strings.HasPrefix(c.name, "PbSn_") {
+			continue
+		}
+		in := realInput(t, c)
+		full := Assess(in)
+		if full.EutecticMaxS == nil || full.SolidusS == nil {
+			continue
+		}
+		for _, f := range []float64{0.3, 0.5, 0.8} {
+			at := *full.EutecticMaxS + f*(*full.SolidusS-*full.EutecticMaxS)
+			k := sort.SearchFloat64s(in.Time, at)
+			cut := in
+			cut.Time, cut.Temp = in.Time[:k], in.Temp[:k]
+			r := Assess(cut)
+			id := fmt.Sprintf("%s cut at %.0f s (%.0f %% of its plateau)", c.name, at, 100*f)
+			if r.Verdict != VerdictInvalid || !has(r.Problems, "ended before the end of freezing") || r.SolidusC != nil {
+				t.Errorf("%s: verdict %s, problems %q, end of freezing %s", id, r.Verdict, r.Problems, show(r.SolidusC))
+			}
+			if show(r.EutecticMinC) != show(full.EutecticMinC) || show(r.EutecticMaxC) != show(full.EutecticMaxC) {
+				t.Errorf("%s: eutectic %s → %s, the whole curve %s → %s", id, show(r.EutecticMinC), show(r.EutecticMaxC), show(full.EutecticMinC), show(full.EutecticMaxC))
+			}
+			cuts++
+		}
+	}
+	if cuts == 0 {
+		t.Fatal("no measured curve with a settled end of freezing to cut")
+	}
+	t.Logf("%d cut recordings, each invalid and ended early, their eutectic points kept", cuts)
+}
