@@ -21,10 +21,13 @@ The read, for each window W (seconds) and order 2:
      (so the noise of a flat plateau does not make one). Without a - to + crossing the arrest
      is the first local maximum of dT/dt in the window (a shoulder: the largest dT/dt within
      one smoothing window either side), and its minimum is its maximum;
-  5. a second arrest (the eutectic after a primary arrest) is sought only after the first.
+  5. a second arrest (the eutectic after a primary arrest) is sought only after the first;
+  6. the end of freezing is the first local minimum of dT/dt (the smallest within one window
+     either side) after the eutectic's maximum at or below half the lowest dT/dt there; null
+     when it lies within one window of the file's end (the recording stopped before it settled).
 
 Keys: alpha_min_c/alpha_c (the primary arrest: minimum and growth temperature, alpha_min_c null
-without recalescence), eutectic_min_c/eutectic_max_c, and their times (_s) on the file's own time
+without recalescence), eutectic_min_c/eutectic_max_c, solidus_c (end of freezing), and their times (_s) on the file's own time
 axis. null means not found (the window never reached, or too few readings).
 
 Usage: arrest_read.py [--windows W1,W2,W3] REALDATA_DIR
@@ -174,10 +177,19 @@ def read_curve(t0, v0, windows_s, spec):
             if end is not None:
                 # the eutectic is sought once the primary arrest has ended
                 start = end
-        mn, mx, _ = arrest(t, y, d, dt, n, *spec["eutectic"], start)
+        mn, mx, end = arrest(t, y, d, dt, n, *spec["eutectic"], start)
         if mx is not None and mn is None:
             mn = mx  # a eutectic without recalescence: its minimum is its maximum
         pts["eutectic_min"], pts["eutectic_max"] = mn, mx
+        pts["solidus"] = None
+        if end is not None:
+            # the end of freezing: the first clear minimum of dT/dt after the eutectic, unless it
+            # lies within a window of the file's end (the recording stopped before it settled)
+            half = 0.5 * float(np.min(d[end:]))
+            for k in range(end, len(d) - n):
+                if d[k] <= half and d[k] == min(d[max(0, k - n):k + n + 1]):
+                    pts["solidus"] = (float(t[k]), float(y[k]))
+                    break
         read = {}
         for k, p in pts.items():
             read[k + "_c"] = None if p is None else round(float(p[1]), 3)
