@@ -27,11 +27,12 @@ import (
 // back), or the first local maximum of dT/dt where it never crosses (a
 // shoulder); the end of freezing is the first local minimum of dT/dt after
 // the eutectic at or below half its lowest value there, null within a
-// window of the file's end. It reads every curve at three windows: 3, 5, 8 s at 5 readings
-// a second (2, 3, 5 s for the logger export, whose pour peak comes only 9 s
-// before its α-Al arrest), 5, 7, 11 s at 1 a second, 100, 140, 200 s at one
-// reading every 20 s. The reference is the middle window's value; the
-// spread is how far the three windows' values lie apart.
+// window of the file's end. It reads every curve at three windows: 3, 5,
+// 8 s at 5 readings a second (2, 3, 5 s for the logger export, whose pour
+// peak comes only 9 s before its α-Al arrest), 5, 7, 11 s at 1 a second,
+// 100, 140, 200 s at one reading every 20 s. The reference is the middle
+// window's value; the spread is how far the three windows' values lie
+// apart.
 //
 // Tolerance, what the read supports: base + spread, where base is 0.3 °C
 // at a zero crossing of dT/dt (T at a stationary point hardly depends on
