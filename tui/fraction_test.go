@@ -36,7 +36,7 @@ func radialBatches(t testing.TB) []Batch {
 		if i == 0 {
 			b.Items = append(b.Items, feed.Item{Kind: feed.KindDeviceInfo, Channel: "1", TimeS: out.Time[0], Meta: meta},
 				feed.Item{Kind: feed.KindStarted, Channel: "1", TimeS: out.Time[0], Sample: 1, StartS: out.Time[0],
-				Meta: meta, Path: "/data/L-2405-cup2.partial.csv", Wall: "2"})
+					Meta: meta, Path: "/data/L-2405-cup2.partial.csv", Wall: "2"})
 		}
 		for k := i; k < min(i+10, len(out.Time)); k++ {
 			ts := math.Round(out.Time[k]*1e6) / 1e6
