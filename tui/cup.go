@@ -21,6 +21,7 @@ import (
 type cup struct {
 	snap  sample.Snapshot
 	drawn chartCache // drawn in Update, read by View
+	fs    *fraction  // fs(t) once asked for (fraction.go); never changed, replaced
 }
 
 func newCup(s sample.Snapshot) cup { return cup{snap: s} }
@@ -356,14 +357,15 @@ type chartKey struct {
 	w, h   int
 	st     *Styles
 	state  sample.State
-	sample int // a new sample
-	marks  int // a point settled
-	n      int // readings, while there are too few for a trend to show
-	lastC  int // the reading in 10 °C steps, while no curve is drawn (it sets the scale)
+	sample int  // a new sample
+	marks  int  // a point settled
+	n      int  // readings, while there are too few for a trend to show
+	lastC  int  // the reading in 10 °C steps, while no curve is drawn (it sets the scale)
+	fs     bool // fs(t) instead of the curve
 }
 
 func (c *cup) chartKey(st *Styles, w, h int) chartKey {
-	k := chartKey{w: w, h: h, st: st, state: c.state(), sample: c.snap.Sample, marks: len(c.marks()), n: min(len(c.snap.T), 50)}
+	k := chartKey{w: w, h: h, st: st, state: c.state(), sample: c.snap.Sample, marks: len(c.marks()), n: min(len(c.snap.T), 50), fs: c.showsFraction()}
 	if r, ok := c.last(); len(c.snap.T) == 0 && ok {
 		k.lastC = int(math.Floor(r.TempC / 10))
 	}
@@ -394,6 +396,9 @@ func (c *cup) redraw(st *Styles, w, h int) {
 }
 
 func (c *cup) drawCharts(st *Styles, w, h int) string {
+	if c.showsFraction() {
+		return c.drawFraction(st, w, h)
+	}
 	// The curve comes first: the rate chart is drawn only when both get
 	// a readable height.
 	if h < 12 {

@@ -12,6 +12,7 @@ type KeyMap struct {
 	// live
 	Form, Start, Stop, Channel key.Binding
 	Faster, Slower, End        key.Binding
+	Fraction                   key.Binding // fs(t) of a finished cup (fraction.go)
 
 	// history and limits
 	Up, Down, Open, Back key.Binding
@@ -43,6 +44,8 @@ func DefaultKeys() KeyMap {
 		Faster:  b("+", "faster", "+", "="),
 		Slower:  b("-", "slower", "-", "_"),
 		End:     b("e", "to the end", "e"),
+
+		Fraction: b("f", "fs(t)", "f"),
 
 		Up:     b("↑", "up", "up", "k"),
 		Down:   b("↓", "down", "down", "j"),

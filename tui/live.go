@@ -35,6 +35,7 @@ func (p livePane) apply(snaps []sample.Snapshot) livePane {
 		for _, old := range p.cups {
 			if old.id() == s.Channel {
 				cups[i].drawn = old.drawn
+				cups[i].keepFraction(&old)
 			}
 		}
 	}
@@ -110,11 +111,11 @@ func (p livePane) View() string {
 }
 
 func (p livePane) ShortHelp() []key.Binding {
-	return []key.Binding{p.keys.Form, p.keys.Start, p.keys.Stop}
+	return append([]key.Binding{p.keys.Form, p.keys.Start, p.keys.Stop}, p.fractionKey()...)
 }
 
 func (p livePane) FullHelp() [][]key.Binding {
-	return [][]key.Binding{{p.keys.Form, p.keys.Start, p.keys.Stop, p.keys.Channel}}
+	return [][]key.Binding{append([]key.Binding{p.keys.Form, p.keys.Start, p.keys.Stop, p.keys.Channel}, p.fractionKey()...)}
 }
 
 // activeCup is the cup the form and the start/stop keys act on: the first

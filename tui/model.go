@@ -356,6 +356,8 @@ func (m Model) liveKey(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 		return m, setSpeed(pace, nextSpeed(m.speed, -1))
 	case pace != nil && key.Matches(k, m.keys.End):
 		return m, func() tea.Msg { pace.SkipToEnd(); return nil }
+	case key.Matches(k, m.keys.Fraction):
+		return m.toggleFraction(), nil
 	}
 	var cmd tea.Cmd
 	m.live, cmd = m.live.Update(k)

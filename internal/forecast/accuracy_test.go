@@ -163,22 +163,28 @@ func TestHeldOutPairs(t *testing.T) {
 		radial func(string) sim.Radial
 		tol    float64
 		// applies: the fit must predict at least 90 % of the pairs; quick:
-		// the set runs under the race detector and -short too.
-		applies, quick bool
+		// the set runs under the race detector and -short too; loose: its
+		// predictions are printed but not held to the tolerance and the
+		// stated uncertainty (a known bias, docs/advice.md "Limits").
+		applies, quick, loose bool
 	}{
-		{"grey iron, lumped cups", sim.GreyIron, iron, sim.CupLumped, nil, 1.5, true, true},
-		{"grey iron, nearly lumped radial cups (held out)", sim.GreyIron, iron, sim.CupRadial, nearly, 1.5, true, true},
-		{"grey iron, radial cups (held out)", sim.GreyIron, iron, sim.CupRadial, plain, 1.5, false, false},
-		{"ductile iron, nearly lumped radial cups (held out)", sim.DuctileIron, iron, sim.CupRadial, nearly, 1.5, true, false},
-		{"Al-Si7Mg grain refiner, nearly lumped radial cups (held out)", sim.AlSi7Mg, refiner, sim.CupRadial, nearly, 0.3, true, false},
-		{"Al-Si7Mg modifier, nearly lumped radial cups (held out)", sim.AlSi7Mg, modifier, sim.CupRadial, nearly, 1.0, true, false},
+		{"grey iron, lumped cups", sim.GreyIron, iron, sim.CupLumped, nil, 1.5, true, true, false},
+		{"grey iron, nearly lumped radial cups (held out)", sim.GreyIron, iron, sim.CupRadial, nearly, 1.5, true, true, false},
+		{"grey iron, radial cups (held out)", sim.GreyIron, iron, sim.CupRadial, plain, 1.5, true, false, false},
+		{"ductile iron, nearly lumped radial cups (held out)", sim.DuctileIron, iron, sim.CupRadial, nearly, 1.5, true, false, false},
+		{"ductile iron, radial cups (held out)", sim.DuctileIron, iron, sim.CupRadial, plain, 1.5, true, false, false},
+		{"Al-Si7Mg grain refiner, nearly lumped radial cups (held out)", sim.AlSi7Mg, refiner, sim.CupRadial, nearly, 0.3, true, false, false},
+		{"Al-Si7Mg grain refiner, radial cups (held out)", sim.AlSi7Mg, refiner, sim.CupRadial, plain, 0.3, true, false, true},
+		{"Al-Si7Mg modifier, nearly lumped radial cups (held out)", sim.AlSi7Mg, modifier, sim.CupRadial, nearly, 1.0, true, false, false},
+		{"Al-Si7Mg modifier, radial cups (held out)", sim.AlSi7Mg, modifier, sim.CupRadial, plain, 1.0, true, false, false},
+		{"grey iron, strong-gradient radial cups with a chill shell (held out)", sim.GreyIron, iron, sim.CupRadial, sim.StrongGradient, 1.5, false, false, false},
 	} {
 		if quick && !set.quick {
 			continue
 		}
 		pairs := n
-		if !set.applies {
-			pairs = max(1, n/2)
+		if !set.applies || set.radial != nil && set.radial(set.alloy) == (sim.Radial{}) {
+			pairs = max(1, n/2) // the default radial cups: two fits a cup (Fit), a slower test
 		}
 		rng := rand.New(rand.NewPCG(17, 1))
 		var errs []float64
@@ -230,7 +236,7 @@ func TestHeldOutPairs(t *testing.T) {
 			what string
 			k    int
 		}{{"within the tolerance", within}, {"within the stated uncertainty", covered}} {
-			if c.k*10 < made*9 {
+			if c.k*10 < made*9 && !set.loose {
 				t.Errorf("%s: %d of %d predictions %s, want at least 90 %%", set.name, c.k, made, c.what)
 			}
 		}

@@ -103,7 +103,10 @@ type model struct {
 	// primary says the primary phase's law is set from parLnAMu3P (a
 	// eutectic fit of a cup with a primary arrest).
 	primary bool
-	shift   float64
+	// radial, when set, is the radial cup the model runs instead of the
+	// lumped one (sim.Kinetics.Radial): the fit of a cup with a gradient.
+	radial *sim.Radial
+	shift  float64
 }
 
 // set returns the full parameter vector with the free ones taken from x.
@@ -139,6 +142,7 @@ func (m *model) params(th [numPar]float64, adds []sim.Addition) (sim.Params, sim
 	p.Additions = adds
 	k := sim.Kinetics{H: math.Exp(th[parLnH]), LagS: math.Exp(th[parLnTau]), EutecticC: th[parTE], LiquidusC: th[parTL],
 		Conductance: math.Exp(th[parLnK]), StepS: fitStepS}
+	k.Radial = m.radial
 	l := nucleation(th[parLnAMu3], th[parN], th[parLnMu])
 	if m.law == LawPrimary {
 		k.Primary = l

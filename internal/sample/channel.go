@@ -11,6 +11,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/protocol"
+	"github.com/undercool-foundry/undercool/internal/solidpath"
 )
 
 // channel is one channel's samples: the one shown (recording, or finished)
@@ -45,6 +46,7 @@ type channel struct {
 	wall   string
 	wt, wv []float64
 	wallV  []float64
+	radii  solidpath.Geometry // where the two thermocouples sit, from the file's metadata
 
 	last     feed.Reading
 	hasLast  bool
@@ -108,7 +110,7 @@ func (c *channel) start(t *Tracker, it *feed.Item) {
 	for _, r := range it.Pre {
 		c.add(r)
 	}
-	c.wall, c.wt, c.wv, c.wallV = it.Wall, nil, nil, nil
+	c.wall, c.wt, c.wv, c.wallV, c.radii = it.Wall, nil, nil, nil, solidpath.Geometry{}
 	if c.wall != "" {
 		t.walls[c.wall] = c.id
 		for _, r := range it.WallPre {
@@ -227,6 +229,7 @@ func (c *channel) finish(t *Tracker, path, why string, announce bool) {
 		// the wall thermocouple on the sample's times, as its file holds it
 		c.wallV = curvefile.OnTimes(c.t, c.wt, c.wv)
 		in, notes = in.WithWall(c.wallV)
+		c.radii = in.Radii
 		if t.walls[c.wall] == c.id {
 			delete(t.walls, c.wall)
 		}
@@ -270,6 +273,7 @@ func (c *channel) snapshot() Snapshot {
 		T: c.t[:len(c.t):len(c.t)], V: c.v[:len(c.v):len(c.v)],
 		SlopeT: c.st[:len(c.st):len(c.st)], SlopeD: c.sd[:len(c.sd):len(c.sd)],
 		Result: c.result, Record: c.rec, Path: c.path, ElapsedS: c.elapsed(), WallChannel: c.wall, Wall: c.wallV,
-		Last: c.last, HasLast: c.hasLast, Readings: c.readings, Faults: c.faults,
+		Radii: c.radii,
+		Last:  c.last, HasLast: c.hasLast, Readings: c.readings, Faults: c.faults,
 	}
 }

@@ -24,6 +24,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/solidpath"
 )
 
 // State is where a channel's sample is in its life.
@@ -167,6 +168,9 @@ type Snapshot struct {
 	// sample is Done (NaN where it has no reading), as its file holds it.
 	WallChannel string
 	Wall        []float64
+	// Radii place the two thermocouples of the finished sample (from its
+	// file's metadata, assess.Input.WithWall; zero for one thermocouple).
+	Radii solidpath.Geometry
 	// WallOf is the channel whose cup this channel's thermocouple is the
 	// wall thermocouple of ("" for a cup's own channel), as the source
 	// says: it starts no sample of its own.
