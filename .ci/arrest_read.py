@@ -11,7 +11,7 @@ The read, for each window W (seconds) and order 2:
   1. the readings are put on an even time grid at their median step (np.interp: the logger
      export steps unevenly, 0.04-1.3 s, and savgol_filter assumes even steps);
   2. T and dT/dt are savgol_filter(T, n, 2) and savgol_filter(T, n, 2, deriv=1, delta=dt),
-     n = the odd number of readings nearest W/dt (at least 5), mode='interp';
+     n = W/dt readings rounded, made odd (at least 5), mode='interp';
   3. the search starts where the smoothed curve has fallen 3 degC below its highest reading
      (the pour peak, or the start of a file that begins in the liquid);
   4. an arrest is sought among the readings inside its temperature window (given per curve):
@@ -27,8 +27,9 @@ The read, for each window W (seconds) and order 2:
      when it lies within one window of the file's end (the recording stopped before it settled).
 
 Keys: alpha_min_c/alpha_c (the primary arrest: minimum and growth temperature, alpha_min_c null
-without recalescence), eutectic_min_c/eutectic_max_c, solidus_c (end of freezing), and their times (_s) on the file's own time
-axis. null means not found (the window never reached, or too few readings).
+without recalescence), eutectic_min_c/eutectic_max_c, solidus_c (end of freezing), and their
+times (_s) on the file's own time axis. null means not found (the window never reached, too few
+readings, or the recording stopped first).
 
 Usage: arrest_read.py [--windows W1,W2,W3] REALDATA_DIR
 Run with Debian's /usr/bin/python3 and python3-scipy.
