@@ -48,8 +48,8 @@ from scipy.signal import savgol_filter
 # eutectic at or below 577 degC, Murray and McAlister 1984; Sn-Bi: Sn 231.9, Bi 271.4, eutectic
 # 139 degC) widened for this hobby-grade sensor's few kelvin of offset.
 ALSI = {"primary": (585.0, 650.0), "eutectic": (540.0, 580.0)}
-# The logger-export pair was logging from room temperature, before the pour: its pour peak comes 9 s before
-# the alpha-Al arrest, so a window of 8 s would smooth the two together; 2, 3 and 5 s there.
+# The logger-export pair logs from room temperature, before the pour: its pour peak comes 9 s
+# before the alpha-Al arrest, so a window of 8 s would smooth the two together; 2, 3 and 5 s there.
 ALSI_POURED = dict(ALSI, windows=(2.0, 3.0, 5.0))
 CURVES = [
     ("beforeA", ("temp_first", "joebee-alsi-before-after/beforeA.txt"), ALSI),
