@@ -467,3 +467,35 @@ func recordCup(t *testing.T, info ...string) ([]cupReading, *collector) {
 	k := col.stopAt(w, "1", sent, 0, 45, 35)
 	return sent[:k], col
 }
+
+// TestFlappingPortCountsEachReconnect: a port that comes back and is lost
+// again while it is being re-plugged (a loose connector, two flaps with a
+// line each) counts every opening after a loss as a reconnection: three
+// here, each with its disconnection, which is what tells a technician the
+// cable is bad. The readings of every connection are kept, in order.
+func TestFlappingPortCountsEachReconnect(t *testing.T) {
+	port := newPipePort()
+	a, col, _ := startAcq(t, port.open, Config{Dir: t.TempDir(), ReconnectMin: time.Millisecond, ReconnectMax: time.Millisecond})
+	w := port.plug()
+	w.Write([]byte("c=20\n"))
+	col.until("first reading", 5*time.Second, func() bool { return len(col.readings) == 1 })
+	w.CloseWithError(errors.New("unplugged"))
+	for i := range 2 { // two flaps: back for one line, then gone again
+		w = port.plug()
+		w.Write([]byte(fmt.Sprintf("c=%d\n", 21+i)))
+		w.CloseWithError(errors.New("flapped"))
+		col.until("the flap's reading", 5*time.Second, func() bool { return len(col.readings) == 2+i })
+	}
+	w = port.plug()
+	w.Write([]byte("c=23\n"))
+	col.until("steady again", 5*time.Second, func() bool { return len(col.readings) == 4 && col.count(feed.KindConnected) == 4 })
+	if s := col.last; s.Reconnects != 3 || col.count(feed.KindDisconnected) != 3 {
+		t.Fatalf("reconnects %d, disconnections %d: want 3 and 3", s.Reconnects, col.count(feed.KindDisconnected))
+	}
+	for i, r := range col.readings {
+		if r.TempC != float64(20+i) {
+			t.Fatalf("reading %d is %v", i, r.TempC)
+		}
+	}
+	a.Stop("1", 0, "")
+}

@@ -14,6 +14,7 @@ import (
 	"text/tabwriter"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/limits"
 )
 
@@ -87,7 +88,7 @@ func limitsCheck(env *environ, args []string) error {
 		if err != nil {
 			bad++
 			for _, line := range strings.Split(err.Error(), "\n") {
-				fmt.Fprintln(env.stderr, line)
+				fmt.Fprintln(env.stderr, escape.Line(line))
 			}
 			continue
 		}
