@@ -12,7 +12,6 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
-	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/store"
@@ -225,8 +224,8 @@ func openedCup(e Entry, st, sd []float64) cup {
 		Result: resultFromRecord(e.Record), Path: e.Path}
 	rec := e.Record
 	s.Record = &rec
-	if n := len(e.Temp); n > 0 {
-		s.Last, s.HasLast, s.ElapsedS = feed.Reading{TimeS: e.Time[n-1], TempC: e.Temp[n-1], Channel: e.Channel}, true, e.Time[n-1]
+	if n := len(e.Time); n > 0 {
+		s.ElapsedS = e.Time[n-1] // no reading "now": a stored sample has none
 	}
 	return newCup(s)
 }

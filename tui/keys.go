@@ -11,6 +11,7 @@ type KeyMap struct {
 
 	// live
 	Form, Start, Stop, Channel key.Binding
+	Verdict                    key.Binding
 	Faster, Slower, End        key.Binding
 
 	// history and limits
@@ -40,6 +41,7 @@ func DefaultKeys() KeyMap {
 		Start:   b("p", "start by hand", "p"),
 		Stop:    b("x", "stop by hand", "x"),
 		Channel: b("c", "next cups", "c"),
+		Verdict: b("v", "whole verdict", "v"),
 		Faster:  b("+", "faster", "+", "="),
 		Slower:  b("-", "slower", "-", "_"),
 		End:     b("e", "to the end", "e"),

@@ -66,7 +66,10 @@ type Model struct {
 	form     formPane
 	formOpen bool
 	showHelp bool
-	asking   bool // "quit while recording?"
+	asking   bool   // "quit while recording?"
+	stopping string // "stop the sample recording on this cup?": its channel
+	verdict  *verdictView
+	footH    int  // rows of the foot line: two for a message too long for one
 	ended    bool // the session's channel closed
 	status   feed.Status
 	flash    string
@@ -120,7 +123,8 @@ const chrome = 4
 
 func (m Model) resize(w, h int) Model {
 	m.w, m.h = w, h
-	bh := max(h-chrome, 1)
+	m.footH = m.footRows()
+	bh := m.bodyH()
 	m.live = m.live.SetSize(w, bh)
 	m.hist = m.hist.SetSize(w, bh)
 	m.lim = m.lim.SetSize(w, bh)
@@ -128,11 +132,44 @@ func (m Model) resize(w, h int) Model {
 	return m
 }
 
+// bodyH is the rows between the status line and the foot.
+func (m Model) bodyH() int { return max(m.h-chrome-(m.footH-1), 1) }
+
+// footRows is the rows the foot needs: a message longer than the screen
+// is wide takes two (an error is never cut off at 80 columns).
+func (m Model) footRows() int {
+	if m.flash != "" && lipgloss.Width(m.flash) > m.w && m.h >= 20 {
+		return 2
+	}
+	return 1
+}
+
+// foot is the message, else the keys.
+func (m Model) foot() string {
+	if m.flash == "" {
+		return clip(m.help.ShortHelpView(m.shortHelp()), m.w)
+	}
+	lines := wrapText(m.st.Muted, m.flash, m.w)
+	if len(lines) > m.footH {
+		lines = lines[:m.footH]
+		lines[m.footH-1] = m.st.Muted.Render(cut(stripStyle(lines[m.footH-1]), m.w-1) + "…")
+	}
+	return strings.Join(lines, "\n")
+}
+
 // speedMsg says the replay's pace was set.
 type speedMsg struct{ x float64 }
 
 // Update handles one message.
 func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
+	tm, cmd := m.handle(msg)
+	if nm := tm.(Model); nm.footRows() != nm.footH {
+		return nm.resize(nm.w, nm.h), cmd
+	}
+	return tm, cmd
+}
+
+func (m Model) handle(msg tea.Msg) (tea.Model, tea.Cmd) {
 	switch msg := msg.(type) {
 	case tea.WindowSizeMsg:
 		return m.resize(msg.Width, msg.Height), nil
@@ -141,6 +178,7 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 	case feedClosedMsg:
 		m.ended = true
 		m.feed = nil
+		m.live = m.live.ended()
 		return m, m.logf("feed closed")
 	case historyLoadedMsg:
 		var cmd tea.Cmd
@@ -201,7 +239,7 @@ func (m Model) update(u sample.Update) (tea.Model, tea.Cmd) {
 	var lines []string
 	for _, ev := range u.Events {
 		lines = append(lines, eventLog(ev))
-		if ev.Kind == sample.EventWarning || ev.Kind == sample.EventRecovered {
+		if ev.Kind == sample.EventWarning || ev.Kind == sample.EventRecovered || ev.Kind == sample.EventDisconnected {
 			m.flash = ev.Text
 		}
 	}
@@ -209,7 +247,7 @@ func (m Model) update(u sample.Update) (tea.Model, tea.Cmd) {
 		lines = append(lines, fmt.Sprintf("sample done: cup %s sample %q alloy %q verdict %s file %s",
 			f.Channel, f.Meta.Get("sample"), f.Record.Alloy, f.Record.Verdict, f.Path))
 	}
-	m.live = m.live.apply(u.Channels)
+	m.live = m.live.apply(u.Channels, linkOf(u.Status, m.ended))
 	cmds := []tea.Cmd{m.logLines(lines), waitUpdate(m.feed, m.pace)}
 	if len(u.Finished) > 0 {
 		cmds = append(cmds, loadHistory(m.opt.Records))
@@ -282,6 +320,33 @@ func (m Model) key(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 		}
 		return m, nil
 	}
+	if m.stopping != "" {
+		ch := m.stopping
+		switch {
+		case key.Matches(k, m.keys.Yes):
+			m.stopping = ""
+			m.flash = "stop asked for cup " + ch
+			return m, tea.Batch(m.logf("stop asked by hand for cup %s", ch), m.toFeed(func(f Feed) { f.Stop(ch) }))
+		case key.Matches(k, m.keys.No), key.Matches(k, m.keys.Quit):
+			m.stopping = ""
+		}
+		return m, nil
+	}
+	if m.verdict != nil {
+		switch {
+		case key.Matches(k, m.keys.Up), key.Matches(k, m.keys.Down):
+			v := *m.verdict // a copy: the model is a value
+			d := 1
+			if key.Matches(k, m.keys.Up) {
+				d = -1
+			}
+			v.scroll(m.st, m.w, m.bodyH(), d)
+			m.verdict = &v
+		case key.Matches(k, m.keys.Verdict), key.Matches(k, m.keys.Back), key.Matches(k, m.keys.Quit):
+			m.verdict = nil
+		}
+		return m, nil
+	}
 	if m.formOpen {
 		var cmd tea.Cmd
 		m.form, cmd = m.form.Update(k)
@@ -317,6 +382,13 @@ func (m Model) key(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 	case key.Matches(k, m.keys.Limits):
 		m.tab = tabLimits
 		return m, nil
+	case key.Matches(k, m.keys.Verdict):
+		if v := m.verdictOf(); v != nil {
+			m.verdict = v
+		} else {
+			m.flash = "no verdict yet: a sample is judged when freezing is done"
+		}
+		return m, nil
 	}
 	var cmd tea.Cmd
 	switch m.tab {
@@ -346,9 +418,12 @@ func (m Model) liveKey(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 		m.flash = "start asked for cup " + ch
 		return m, m.toFeed(func(f Feed) { f.Start(ch) })
 	case key.Matches(k, m.keys.Stop) && m.opt.Feed != nil:
-		ch := c.id()
-		m.flash = "stop asked for cup " + ch
-		return m, m.toFeed(func(f Feed) { f.Stop(ch) })
+		if !c.busy() {
+			m.flash = "cup " + c.id() + " is not recording: nothing to stop"
+			return m, nil
+		}
+		m.stopping = c.id() // asked first: x is one press from other keys
+		return m, nil
 	case pace != nil && key.Matches(k, m.keys.Faster):
 		return m, setSpeed(pace, nextSpeed(m.speed, 1))
 	case pace != nil && key.Matches(k, m.keys.Slower):
@@ -396,9 +471,17 @@ func (m Model) View() string {
 	if m.w < 40 || m.h < 10 {
 		return lipgloss.JoinVertical(lipgloss.Left, m.st.Error.Render("Make the window larger (80×24 or more)."), safety)
 	}
-	bh := m.h - chrome
+	bh := m.bodyH()
 	var body string
 	switch {
+	case m.stopping != "":
+		body = lipgloss.Place(m.w, bh, lipgloss.Center, lipgloss.Center, m.st.Dialog.Render(
+			m.st.Error.Render("Stop recording cup "+m.stopping+" now?")+"\n\n"+
+				m.st.Value.Render("The sample ends here and is judged as it stands;")+"\n"+
+				m.st.Value.Render("its readings are kept.")+"\n\n"+
+				m.st.Mark.Render("y")+m.st.Muted.Render(" stop it   ")+m.st.Mark.Render("n")+m.st.Muted.Render(" keep recording")))
+	case m.verdict != nil:
+		body = lipgloss.Place(m.w, bh, lipgloss.Center, lipgloss.Center, m.verdict.view(m.st, m.w, bh))
 	case m.asking:
 		body = lipgloss.Place(m.w, bh, lipgloss.Center, lipgloss.Center, m.st.Dialog.Render(
 			m.st.Error.Render("A sample is recording.")+"\n\n"+m.st.Value.Render("Quit anyway? The raw log is kept.")+"\n\n"+
@@ -418,14 +501,15 @@ func (m Model) View() string {
 			body = m.live.View()
 		}
 	}
-	if m.tab != tabLive || m.asking || m.formOpen || m.showHelp {
+	if m.tab != tabLive || m.dialog() {
 		body = box(body, m.w, bh) // the live pane is drawn to size already
 	}
-	foot := m.st.Muted.Render(clip(m.flash, m.w))
-	if m.flash == "" {
-		foot = m.help.ShortHelpView(m.shortHelp())
-	}
-	return strings.Join([]string{m.titleBar(), m.statusLine(), body, clip(foot, m.w), safety}, "\n")
+	return strings.Join([]string{m.titleBar(), m.statusLine(), body, m.foot(), safety}, "\n")
+}
+
+// dialog reports whether a dialog covers the pane.
+func (m Model) dialog() bool {
+	return m.asking || m.stopping != "" || m.verdict != nil || m.formOpen || m.showHelp
 }
 
 func padRight(s string, w int) string {
@@ -507,8 +591,10 @@ func (m Model) global() []key.Binding {
 func (m Model) shortHelp() []key.Binding {
 	var pane []key.Binding
 	switch {
-	case m.asking:
+	case m.asking, m.stopping != "":
 		return []key.Binding{m.keys.Yes, m.keys.No}
+	case m.verdict != nil:
+		return []key.Binding{m.keys.Up, m.keys.Down, m.keys.Back}
 	case m.formOpen:
 		pane = m.form.ShortHelp()
 		return pane

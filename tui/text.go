@@ -5,6 +5,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
@@ -32,6 +33,15 @@ func recordReasons(r *assess.Record) []string {
 		}
 	}
 	return out
+}
+
+// metricLabel is a metric in words ("carbon equivalent from the
+// liquidus"), else its key.
+func metricLabel(name string) string {
+	if m, ok := limits.Metric(name); ok {
+		return m.Label
+	}
+	return name
 }
 
 // recordAdvice is what the record suggests doing, worded as advice.
