@@ -209,6 +209,9 @@ func (c *cup) view(st *Styles, w, h int) string {
 func (c *cup) header(st *Styles, w int) string {
 	m := c.meta()
 	first := st.Title.Render("CUP " + c.id())
+	if c.snap.Simulated {
+		first += " " + st.Error.Render("[SIMULATED]") // never passed off as a measurement
+	}
 	if s := sampleName(m); s != "" {
 		first += "  " + st.Value.Render(s)
 	}

@@ -221,7 +221,7 @@ func openCurve(read CurveReader, book *limits.Book, e Entry) tea.Cmd {
 // one, from its record's points.
 func openedCup(e Entry, st, sd []float64) cup {
 	s := sample.Snapshot{Channel: e.Channel, State: sample.Done, Meta: e.Meta, T: e.Time, V: e.Temp, SlopeT: st, SlopeD: sd,
-		Result: resultFromRecord(e.Record), Path: e.Path}
+		Result: resultFromRecord(e.Record), Path: e.Path, Simulated: e.Simulated}
 	rec := e.Record
 	s.Record = &rec
 	if n := len(e.Time); n > 0 {
@@ -256,7 +256,7 @@ func (p historyPane) View() string {
 		trendH = max(7, p.h*2/5)
 	}
 	listH := p.h - 2 - trendH
-	cols := fmt.Sprintf("%-5s %-5s %-3s %-18s %-13s %-9s %8s %7s", "#", "time", "cup", "sample", "alloy", "verdict", "eut.min", "recal.")
+	cols := "  " + fmt.Sprintf("%-5s %-5s %-3s %-18s %-13s %-9s %8s %7s", "#", "time", "cup", "sample", "alloy", "verdict", "eut.min", "recal.")
 	lines := []string{head, p.st.Label.Render(clip(cols, p.w))}
 	start := 0
 	if rows := listH - 1; rows > 0 && p.sel >= rows {
@@ -267,12 +267,7 @@ func (p historyPane) View() string {
 		row := fmt.Sprintf("%-5d %-5s %-3s %-18s %-13s %-9s %8s %7s", e.ID, e.At.Format("15:04"), e.Channel,
 			cut(sampleName(e.Meta), 18), cut(e.Meta.Get("alloy"), 13), e.Record.Verdict,
 			fmtOpt(e.Record.EutecticMinC, "%.1f"), fmtOpt(e.Record.RecalescenceC, "%.1f"))
-		row = clip(row, p.w)
-		if i == p.sel {
-			row = p.st.Selected.Render(row)
-		} else {
-			row = p.st.Value.Render(row)
-		}
+		row = selectRow(p.st, row, i == p.sel, p.w)
 		lines = append(lines, row)
 	}
 	out := box(strings.Join(lines, "\n"), p.w, p.h-trendH)

@@ -226,6 +226,7 @@ func (p limitsPane) Update(msg tea.Msg) (limitsPane, tea.Cmd) {
 			p.sel = 0
 		case key.Matches(msg, p.keys.Edit) && len(rows) > 0:
 			v, _ := p.value(rows[p.sel])
+			p.input.Prompt = boundPrompt(rows[p.sel])
 			p.input.SetValue(fmtBound(v))
 			p.input.CursorEnd()
 			p.editing = true
@@ -272,6 +273,19 @@ func (p limitsPane) commit() (limitsPane, tea.Cmd) {
 	}
 }
 
+// boundPrompt names the bound being edited, in words and with its unit:
+// "eutectic recalescence, pass max (°C): ".
+func boundPrompt(r limitRow) string {
+	label, unit := r.metric, ""
+	if m, ok := limits.Metric(r.metric); ok {
+		label, unit = m.Label, m.Unit
+	}
+	if unit != "" {
+		unit = " (" + unit + ")"
+	}
+	return fmt.Sprintf("%s, %s%s: ", label, boundNames[r.b], unit)
+}
+
 func fmtBound(v *float64) string {
 	if v == nil {
 		return ""
@@ -315,12 +329,7 @@ func (p limitsPane) View() string {
 				advice = l.High
 			}
 		}
-		row := clip(fmt.Sprintf("%-24s %-13s %10s  %s", r.metric, boundNames[r.b], val, advice), p.w)
-		if i == p.sel {
-			row = p.st.Selected.Render(row)
-		} else {
-			row = p.st.Value.Render(row)
-		}
+		row := selectRow(p.st, fmt.Sprintf("%-24s %-13s %10s  %s", r.metric, boundNames[r.b], val, advice), i == p.sel, p.w)
 		lines = append(lines, row)
 	}
 	for len(lines) < p.h-3 {

@@ -527,9 +527,9 @@ func (m Model) titleBar() string {
 	parts := []string{m.st.Title.Render("UNDERCOOL ")}
 	for _, t := range tabs {
 		if t.t == m.tab {
-			parts = append(parts, m.st.TabOn.Render(t.name))
+			parts = append(parts, m.st.TabOn.Render("["+t.name+"]")) // brackets: the active tab shows without colour
 		} else {
-			parts = append(parts, m.st.Tab.Render(t.name))
+			parts = append(parts, m.st.Tab.Render(" "+t.name+" "))
 		}
 	}
 	left := strings.Join(parts, "")
@@ -600,6 +600,8 @@ func (m Model) shortHelp() []key.Binding {
 		return pane
 	case m.tab == tabHistory:
 		pane = m.hist.ShortHelp()
+	case m.tab == tabLimits && m.lim.editing:
+		return m.lim.ShortHelp() // every other key is typed into the field
 	case m.tab == tabLimits:
 		pane = m.lim.ShortHelp()
 	default:

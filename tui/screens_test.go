@@ -8,6 +8,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sample"
@@ -86,6 +87,20 @@ func faultReadings(pegged bool) []Batch {
 	return bs
 }
 
+// simulatedBatches are a sample whose device says it is simulated (the
+// virtual melt deck's simulated=true).
+func simulatedBatches() []Batch {
+	bs := slices.Clone(constructedBatches("1", 100, 10, 5)[:140])
+	for i, it := range bs[0].Items {
+		if it.Kind == feed.KindStarted {
+			it.Meta = append(slices.Clone(it.Meta), curvefile.Meta{Key: "simulated", Value: "true"})
+			bs[0].Items = slices.Clone(bs[0].Items)
+			bs[0].Items[i] = it
+		}
+	}
+	return bs
+}
+
 func TestGoldenStateScreens(t *testing.T) {
 	done := func(v string) func(t *testing.T, w, h int) Model {
 		return func(t *testing.T, w, h int) Model {
@@ -112,6 +127,8 @@ func TestGoldenStateScreens(t *testing.T) {
 		}, []string{"FAIL · DONE"}},
 		{"verdict-dialog", func(t *testing.T, w, h int) Model { return press(done(assess.VerdictInvalid)(t, w, h), "v") },
 			[]string{"Why", "Withheld", "ce", "limits version constructed-1"}},
+		{"limits-editing", plain(func() []Batch { return nil }, "3", "j", "enter"), []string{"eutectic recalescence, pass max (°C): 6", "enter done • esc back"}},
+		{"simulated", plain(simulatedBatches), []string{"[SIMULATED]"}},
 		{"stop-ask", plain(func() []Batch { return constructedBatches("1", 100, 10, 5)[:60] }, "x"), []string{"Stop recording cup 1 now?"}},
 	}
 	for _, sz := range []struct{ w, h int }{{80, 24}, {120, 40}} {

@@ -45,8 +45,8 @@ func NewStyles(r *lipgloss.Renderer) *Styles {
 	n := r.NewStyle
 	s := &Styles{
 		Title:     n().Bold(true).Foreground(colEmber),
-		Tab:       n().Foreground(colAsh).Padding(0, 1),
-		TabOn:     n().Bold(true).Foreground(colChalk).Underline(true).Padding(0, 1),
+		Tab:       n().Foreground(colAsh),
+		TabOn:     n().Bold(true).Foreground(colChalk).Underline(true),
 		Status:    n().Foreground(colAsh),
 		StatusBad: n().Bold(true).Foreground(colBad),
 		Safety:    n().Foreground(colCaution).Background(colBanner),

@@ -67,3 +67,13 @@ func resultFromRecord(r assess.Record) arrest.Result {
 	}
 	return res
 }
+
+// selectRow is a list row, the selected one marked by a glyph as well as
+// by reverse video, so that it shows without colour or attributes
+// (NO_COLOR): "▶ " before it, else two spaces; cut to w.
+func selectRow(st *Styles, row string, selected bool, w int) string {
+	if selected {
+		return st.Selected.Render(clip("▶ "+row, w))
+	}
+	return st.Value.Render(clip("  "+row, w))
+}

@@ -265,7 +265,7 @@ func (c *channel) finish(t *Tracker, path, why string, announce bool) {
 		t.event(Event{Kind: EventDone, Channel: c.id, Sample: c.n, TimeS: c.startS + c.elapsed(), Text: why, Path: path})
 	}
 	t.out.Finished = append(t.out.Finished, Finished{Channel: c.id, Sample: c.n, Meta: c.meta, Path: path,
-		Record: rec, T: c.t, V: c.v, Wall: c.wallV})
+		Record: rec, T: c.t, V: c.v, Wall: c.wallV, Simulated: c.simulated})
 }
 
 // addWall takes a reading of the sample's wall thermocouple, as its file

@@ -265,6 +265,7 @@ type Finished struct {
 	T, V      []float64 // its curve
 	Wall      []float64 // a two-thermocouple cup's wall thermocouple on T's times (NaN: no reading); nil for one
 	Recovered bool      // completed after a crash, not recorded by this session
+	Simulated bool      // its file says simulated: true (the simulator's, not a real cup)
 }
 
 // CommandKind tells what the source is asked.
@@ -448,7 +449,7 @@ func (t *Tracker) recovered(it *feed.Item) {
 	rec := t.cfg.Judge(in, result)
 	rec.Warnings = append(rec.Warnings, notes...)
 	t.out.Finished = append(t.out.Finished, Finished{Channel: it.Channel, Meta: meta, Path: it.Path, Record: rec,
-		T: c.Time, V: c.Temp, Wall: in.Wall, Recovered: true})
+		T: c.Time, V: c.Temp, Wall: in.Wall, Recovered: true, Simulated: strings.EqualFold(strings.TrimSpace(c.Get("simulated")), "true")})
 }
 
 // Slope is the T′ of a whole curve as the tracker shows a sample's: the
