@@ -17,6 +17,7 @@ type KeyMap struct {
 	// history and limits
 	Up, Down, Open, Back key.Binding
 	Alloy, Metric        key.Binding
+	MetricBack           key.Binding
 	Edit, Save           key.Binding
 
 	// form
@@ -46,14 +47,15 @@ func DefaultKeys() KeyMap {
 		Slower:  b("-", "slower", "-", "_"),
 		End:     b("e", "to the end", "e"),
 
-		Up:     b("↑", "up", "up", "k"),
-		Down:   b("↓", "down", "down", "j"),
-		Open:   b("enter", "open", "enter"),
-		Back:   b("esc", "back", "esc", "backspace"),
-		Alloy:  b("a", "alloy", "a"),
-		Metric: b("m", "metric", "m"),
-		Edit:   b("enter", "edit", "enter"),
-		Save:   b("w", "write", "w"),
+		Up:         b("↑", "up", "up", "k"),
+		Down:       b("↓", "down", "down", "j"),
+		Open:       b("enter", "open", "enter"),
+		Back:       b("esc", "back", "esc", "backspace"),
+		Alloy:      b("a", "alloy", "a"),
+		Metric:     b("m", "next metric", "m"),
+		MetricBack: b("M", "previous metric", "M"),
+		Edit:       b("enter", "edit", "enter"),
+		Save:       b("w", "write", "w"),
 
 		Next: b("tab", "next field", "tab", "down"),
 		Prev: b("shift+tab", "previous field", "shift+tab", "up"),

@@ -207,3 +207,41 @@ func TestVerdictDialogScrolls(t *testing.T) {
 		t.Fatal("esc left the verdict open")
 	}
 }
+
+// The history's selection stays on its sample when a newer one comes in
+// above it, and enter opens that sample.
+func TestHistorySelectionStays(t *testing.T) {
+	m := testModel(t, 120, 40)
+	m = play(m, constructedBatches("1", 230, 10, 5))
+	m = play(m, constructedBatchesAt("1", 300, 200, 10, 5))
+	m = press(m, "2", "down") // the older of the two
+	want := m.hist.shown()[m.hist.sel].ID
+	m = play(m, constructedBatchesAt("1", 600, 215, 10, 5))
+	if got := m.hist.shown()[m.hist.sel].ID; got != want {
+		t.Fatalf("after a new sample the selection is on #%d, want #%d", got, want)
+	}
+	m = press(m, "enter")
+	if m.hist.open == nil || m.hist.open.ID != want {
+		t.Fatalf("enter opened %+v, want #%d", m.hist.open, want)
+	}
+}
+
+// The trend's metric goes both ways through the metrics measured.
+func TestTrendMetricBothWays(t *testing.T) {
+	m := play(testModel(t, 120, 40), constructedBatches("1", 230, 10, 5))
+	m = press(m, "2")
+	first := m.hist.metricName()
+	m = press(m, "m")
+	if m.hist.metricName() == first {
+		t.Fatalf("m stayed on %s", first)
+	}
+	m = press(m, "M")
+	if m.hist.metricName() != first {
+		t.Fatalf("m then M gave %s, want %s", m.hist.metricName(), first)
+	}
+	m = press(m, "M")
+	ms := m.hist.metrics()
+	if m.hist.metricName() != ms[len(ms)-1] {
+		t.Fatalf("M from the first gave %s, want the last, %s", m.hist.metricName(), ms[len(ms)-1])
+	}
+}
