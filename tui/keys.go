@@ -16,6 +16,7 @@ type KeyMap struct {
 
 	// history and limits
 	Up, Down, Open, Back key.Binding
+	Left, Right          key.Binding
 	Alloy, Metric        key.Binding
 	MetricBack           key.Binding
 	Edit, Save           key.Binding
@@ -49,6 +50,8 @@ func DefaultKeys() KeyMap {
 
 		Up:         b("↑", "up", "up", "k"),
 		Down:       b("↓", "down", "down", "j"),
+		Left:       b("←", "left", "left", "h"),
+		Right:      b("→", "right", "right", "l"),
 		Open:       b("enter", "open", "enter"),
 		Back:       b("esc", "back", "esc", "backspace"),
 		Alloy:      b("a", "alloy", "a"),

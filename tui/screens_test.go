@@ -127,7 +127,7 @@ func TestGoldenStateScreens(t *testing.T) {
 		}, []string{"FAIL · DONE"}},
 		{"verdict-dialog", func(t *testing.T, w, h int) Model { return press(done(assess.VerdictInvalid)(t, w, h), "v") },
 			[]string{"Why", "Withheld", "ce", "limits version constructed-1"}},
-		{"limits-editing", plain(func() []Batch { return nil }, "3", "j", "enter"), []string{"eutectic recalescence, pass max (°C): 6", "enter done • esc back"}},
+		{"limits-editing", plain(func() []Batch { return nil }, "3", "l", "enter"), []string{"eutectic recalescence, pass max (°C): 6", "enter done • esc back"}},
 		{"simulated", plain(simulatedBatches), []string{"[SIMULATED]"}},
 		{"stop-ask", plain(func() []Batch { return constructedBatches("1", 100, 10, 5)[:60] }, "x"), []string{"Stop recording cup 1 now?"}},
 	}
