@@ -473,38 +473,61 @@ func (m Model) View() string {
 	}
 	bh := m.bodyH()
 	var body string
+	switch m.tab {
+	case tabHistory:
+		body = m.hist.View()
+	case tabLimits:
+		body = m.lim.View()
+	default:
+		body = m.live.View()
+	}
+	body = box(body, m.w, bh)
+	// The questions and the form sit at the foot of the pane, over it, so
+	// that the cups' big slots (and the cup being asked about) stay in
+	// sight; help and the whole verdict, which are read, in the middle.
 	switch {
 	case m.stopping != "":
-		body = lipgloss.Place(m.w, bh, lipgloss.Center, lipgloss.Center, m.st.Dialog.Render(
+		body = overlay(body, m.st.Dialog.Render(
 			m.st.Error.Render("Stop recording cup "+m.stopping+" now?")+"\n\n"+
 				m.st.Value.Render("The sample ends here and is judged as it stands;")+"\n"+
 				m.st.Value.Render("its readings are kept.")+"\n\n"+
-				m.st.Mark.Render("y")+m.st.Muted.Render(" stop it   ")+m.st.Mark.Render("n")+m.st.Muted.Render(" keep recording")))
+				m.st.Mark.Render("y")+m.st.Muted.Render(" stop it   ")+m.st.Mark.Render("n")+m.st.Muted.Render(" keep recording")), m.w, bh, true)
 	case m.verdict != nil:
-		body = lipgloss.Place(m.w, bh, lipgloss.Center, lipgloss.Center, m.verdict.view(m.st, m.w, bh))
+		body = overlay(body, m.verdict.view(m.st, m.w, bh), m.w, bh, false)
 	case m.asking:
-		body = lipgloss.Place(m.w, bh, lipgloss.Center, lipgloss.Center, m.st.Dialog.Render(
+		body = overlay(body, m.st.Dialog.Render(
 			m.st.Error.Render("A sample is recording.")+"\n\n"+m.st.Value.Render("Quit anyway? The raw log is kept.")+"\n\n"+
-				m.st.Mark.Render("y")+m.st.Muted.Render(" quit   ")+m.st.Mark.Render("n")+m.st.Muted.Render(" keep recording")))
+				m.st.Mark.Render("y")+m.st.Muted.Render(" quit   ")+m.st.Mark.Render("n")+m.st.Muted.Render(" keep recording")), m.w, bh, true)
 	case m.formOpen:
-		body = lipgloss.Place(m.w, bh, lipgloss.Center, lipgloss.Center, m.form.View())
+		body = overlay(body, m.form.View(), m.w, bh, true)
 	case m.showHelp:
-		body = lipgloss.Place(m.w, bh, lipgloss.Center, lipgloss.Center, m.st.Dialog.Render(
-			m.st.Title.Render("KEYS")+"\n\n"+m.help.FullHelpView(m.fullHelp())+"\n\n"+m.st.Muted.Render("? or esc to close")))
-	default:
-		switch m.tab {
-		case tabHistory:
-			body = m.hist.View()
-		case tabLimits:
-			body = m.lim.View()
-		default:
-			body = m.live.View()
-		}
-	}
-	if m.tab != tabLive || m.dialog() {
-		body = box(body, m.w, bh) // the live pane is drawn to size already
+		body = overlay(body, m.st.Dialog.Render(
+			m.st.Title.Render("KEYS")+"\n\n"+m.help.FullHelpView(m.fullHelp())+"\n\n"+m.st.Muted.Render("? or esc to close")), m.w, bh, false)
 	}
 	return strings.Join([]string{m.titleBar(), m.statusLine(), body, m.foot(), safety}, "\n")
+}
+
+// overlay draws the block fg over bg (exactly w×h cells), centred across;
+// at the foot of bg when low, else in its middle. A block larger than bg
+// is cut.
+func overlay(bg, fg string, w, h int, low bool) string {
+	rows := strings.Split(bg, "\n")
+	fl := strings.Split(fg, "\n")
+	if len(fl) > h {
+		fl = fl[:h]
+	}
+	fw := min(lipgloss.Width(fg), w)
+	x0 := (w - fw) / 2
+	y0 := (h - len(fl)) / 2
+	if low {
+		y0 = h - len(fl)
+	}
+	for i, l := range fl {
+		r := y0 + i
+		row := rows[r]
+		rows[r] = ansi.Truncate(row, x0, "") + fit(l, fw) + ansi.TruncateLeft(row, x0+fw, "")
+	}
+	return strings.Join(rows, "\n")
 }
 
 // dialog reports whether a dialog covers the pane.

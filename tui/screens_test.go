@@ -194,7 +194,7 @@ func TestVerdictDialogScrolls(t *testing.T) {
 	for range 30 {
 		m = press(m, "down")
 	}
-	if v := stripANSI(m.View()); !strings.Contains(v, "limits version constructed-1") || strings.Contains(v, "lines more") {
+	if v := stripANSI(m.View()); !strings.Contains(v, "limits version constructed-1") || strings.Contains(v, "↓ for") {
 		t.Fatalf("scrolled to the end, the last line is not shown:\n%s", v)
 	}
 	for range 30 {
