@@ -48,6 +48,12 @@ type channel struct {
 	wallV  []float64
 	radii  solidpath.Geometry // where the two thermocouples sit, from the file's metadata
 
+	fault     Fault   // the sample's thermocouple fault, once found
+	nowS      float64 // sample time of the last reading, a fault reading too
+	runV      float64 // the value of the latest run of identical readings
+	runFrom   float64 // and the sample time it began
+	simulated bool    // the sample's file says simulated: true
+
 	last     feed.Reading
 	hasLast  bool
 	readings int
@@ -70,6 +76,16 @@ func (c *channel) reading(t *Tracker, r feed.Reading) {
 	if !r.Valid() {
 		c.faults++
 	}
+	if c.state.Busy() {
+		c.nowS = feed.FileTime(r.TimeS, c.startS)
+	}
+	if c.state.Busy() && !r.Valid() && c.fault.Kind == FaultNone {
+		k := FaultDevice
+		if r.Flags&feed.FlagOpen != 0 {
+			k = FaultOpen
+		}
+		c.fault = Fault{Kind: k, TimeS: feed.FileTime(r.TimeS, c.startS)}
+	}
 	if c.state.Busy() && c.add(r) {
 		c.watch(t)
 	}
@@ -82,10 +98,34 @@ func (c *channel) add(r feed.Reading) bool {
 		c.faultsIn++
 		return false
 	}
-	c.t = append(c.t, feed.FileTime(r.TimeS, c.startS))
+	t := feed.FileTime(r.TimeS, c.startS)
+	c.t = append(c.t, t)
 	c.v = append(c.v, r.TempC)
 	c.grew = true
+	c.pegged(t, r.TempC)
 	return true
+}
+
+// Pegged readings: a thermocouple amplifier with up-scale burnout
+// protection reads an open circuit as the top of its range (1372 °C for
+// type K, NIST Monograph 175) and sends it as a reading (practice: up-scale
+// burnout). Metal in a cup is never that still: a run of identical
+// readings at least PeggedMinC lasting PeggedS is taken for a fault.
+const (
+	PeggedMinC = 1350 // °C
+	PeggedS    = 2    // s
+)
+
+// pegged follows the runs of identical readings and marks the sample's
+// fault where one is pegged.
+func (c *channel) pegged(t, v float64) {
+	if len(c.t) == 1 || v != c.runV {
+		c.runV, c.runFrom = v, t
+		return
+	}
+	if c.fault.Kind == FaultNone && v >= PeggedMinC && t-c.runFrom >= PeggedS-1e-6 { // (file times are whole microseconds)
+		c.fault = Fault{Kind: FaultPegged, TimeS: c.runFrom, ValueC: v}
+	}
 }
 
 // start begins a sample: the source opened its file.
@@ -107,6 +147,12 @@ func (c *channel) start(t *Tracker, it *feed.Item) {
 	c.an.Reset()
 	c.t, c.v, c.st, c.sd = make([]float64, 0, 4096), make([]float64, 0, 4096), nil, nil
 	c.result, c.rec, c.faultsIn, c.frozenAt, c.stopped = arrest.Result{}, nil, 0, 0, false
+	c.fault, c.simulated, c.nowS = Fault{}, false, 0
+	for _, m := range it.Meta {
+		if m.Key == "simulated" && strings.EqualFold(m.Value, "true") {
+			c.simulated = true
+		}
+	}
 	for _, r := range it.Pre {
 		c.add(r)
 	}
@@ -241,7 +287,7 @@ func (c *channel) finish(t *Tracker, path, why string, announce bool) {
 		t.event(Event{Kind: EventDone, Channel: c.id, Sample: c.n, TimeS: c.startS + c.elapsed(), Text: why, Path: path})
 	}
 	t.out.Finished = append(t.out.Finished, Finished{Channel: c.id, Sample: c.n, Meta: c.meta, Path: path,
-		Record: rec, T: c.t, V: c.v, Wall: c.wallV})
+		Record: rec, T: c.t, V: c.v, Wall: c.wallV, Simulated: c.simulated})
 }
 
 // addWall takes a reading of the sample's wall thermocouple, as its file
@@ -275,5 +321,6 @@ func (c *channel) snapshot() Snapshot {
 		Result: c.result, Record: c.rec, Path: c.path, ElapsedS: c.elapsed(), WallChannel: c.wall, Wall: c.wallV,
 		Radii: c.radii,
 		Last:  c.last, HasLast: c.hasLast, Readings: c.readings, Faults: c.faults,
+		Fault: c.fault, Simulated: c.simulated, NowS: c.nowS,
 	}
 }

@@ -95,6 +95,8 @@ type Tracker struct {
 	status   feed.Status
 	out      Update
 	walls    map[string]string // wall thermocouple channel → the channel of its cup's sample recording
+	// simulated: the device said simulated=true (the virtual melt deck)
+	simulated bool
 }
 
 // New makes a tracker.
@@ -158,7 +160,8 @@ type Snapshot struct {
 	Result         arrest.Result
 	Record         *assess.Record // the finished record (Done)
 	Path           string         // the curve file (in progress while recording)
-	ElapsedS       float64        // sample time of the last reading
+	ElapsedS       float64        // sample time of the last reading on the curve
+	NowS           float64        // sample time of the channel's last reading, a fault reading too (0 before the first)
 	Last           feed.Reading   // the channel's last reading, valid or not
 	HasLast        bool
 	Readings       int // readings of the channel, faults included
@@ -175,6 +178,43 @@ type Snapshot struct {
 	// wall thermocouple of ("" for a cup's own channel), as the source
 	// says: it starts no sample of its own.
 	WallOf string
+	// SilentS is how long the channel has gone without a reading, s of the
+	// source's clock (feed.ChannelStatus.SilentS; 0 for a replay).
+	SilentS float64
+	// Fault is the thermocouple fault of the sample shown, once one is
+	// found: the device reported one, or the readings pegged at one value
+	// at the top of the range. Zero while there is none.
+	Fault Fault
+	// Simulated says the sample shown (or, before the first, the device)
+	// is simulated: the file or the device line says simulated=true.
+	Simulated bool
+}
+
+// Fault is a thermocouple fault found in a sample: what it is and when.
+type Fault struct {
+	Kind   FaultKind
+	TimeS  float64 // sample time of the first fault reading, s
+	ValueC float64 // FaultPegged: the value the readings stuck at, °C
+}
+
+// FaultKind tells which thermocouple fault was found.
+type FaultKind uint8
+
+// Thermocouple faults.
+const (
+	FaultNone   FaultKind = iota
+	FaultOpen             // the device reported an open circuit
+	FaultDevice           // the device reported another fault (short, out of range)
+	FaultPegged           // the readings stuck at one value at the top of the range (up-scale burnout)
+)
+
+var faultNames = [...]string{FaultNone: "", FaultOpen: "thermocouple open", FaultDevice: "device fault", FaultPegged: "readings pegged at the top of the range"}
+
+func (k FaultKind) String() string {
+	if int(k) < len(faultNames) {
+		return faultNames[k]
+	}
+	return "fault(" + strconv.Itoa(int(k)) + ")"
 }
 
 // EventKind tells what happened.
@@ -231,6 +271,7 @@ type Finished struct {
 	T, V      []float64 // its curve
 	Wall      []float64 // a two-thermocouple cup's wall thermocouple on T's times (NaN: no reading); nil for one
 	Recovered bool      // completed after a crash, not recorded by this session
+	Simulated bool      // its file says simulated: true (the simulator's, not a real cup)
 }
 
 // CommandKind tells what the source is asked.
@@ -344,7 +385,9 @@ func (t *Tracker) flush() Update {
 	u.Channels = make([]Snapshot, len(t.order))
 	for i, id := range t.order {
 		u.Channels[i] = t.chans[id].snapshot()
-		u.Channels[i].WallOf = t.status.Channels[id].WallOf
+		cs := t.status.Channels[id]
+		u.Channels[i].WallOf, u.Channels[i].SilentS = cs.WallOf, cs.SilentS
+		u.Channels[i].Simulated = u.Channels[i].Simulated || (t.simulated && u.Channels[i].State == Waiting)
 	}
 	return u
 }
@@ -377,6 +420,11 @@ func (t *Tracker) item(it *feed.Item) {
 // its channel (a line without ch=: of every channel).
 func (t *Tracker) deviceInfo(it *feed.Item) {
 	t.event(Event{Kind: EventDeviceInfo, Channel: it.Channel, TimeS: it.TimeS, Text: it.Text, Info: it.Meta})
+	for _, kv := range it.Meta {
+		if kv.Key == "simulated" {
+			t.simulated = strings.EqualFold(kv.Value, "true")
+		}
+	}
 	m := MetaOf(it.Meta)
 	if len(m) == 0 {
 		return
@@ -408,7 +456,7 @@ func (t *Tracker) recovered(it *feed.Item) {
 	rec := t.cfg.Judge(in, result)
 	rec.Warnings = append(rec.Warnings, notes...)
 	t.out.Finished = append(t.out.Finished, Finished{Channel: it.Channel, Meta: meta, Path: it.Path, Record: rec,
-		T: c.Time, V: c.Temp, Wall: in.Wall, Recovered: true})
+		T: c.Time, V: c.Temp, Wall: in.Wall, Recovered: true, Simulated: strings.EqualFold(strings.TrimSpace(c.Get("simulated")), "true")})
 }
 
 // Slope is the T′ of a whole curve as the tracker shows a sample's: the
