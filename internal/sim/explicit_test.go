@@ -213,14 +213,7 @@ func TestCurveCoarseStep(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		for _, c := range []struct {
-			name string
-			a, b Point
-		}{{"liquidus", fineTr.Liquidus, coarse.Liquidus}, {"eutectic min", fineTr.EutecticMin, coarse.EutecticMin}, {"eutectic max", fineTr.EutecticMax, coarse.EutecticMax}} {
-			if c.a.OK != c.b.OK || math.Abs(c.a.TempC-c.b.TempC) > 0.05 || math.Abs(c.a.TimeS-c.b.TimeS) > 1.5 {
-				t.Errorf("%s %s: %+v at 5 ms, %+v at 20 ms", alloy, c.name, c.a, c.b)
-			}
-		}
+		samePoints(t, alloy, fineTr, coarse, 0.05)
 	}
 	k := kineticsOf(t, preset(t, GreyIron, 0.2))
 	k.StepS = 0.2
@@ -266,13 +259,21 @@ func TestCurveRadial(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		for _, c := range []struct {
-			name string
-			a, b Point
-		}{{"liquidus", fine.Liquidus, coarse.Liquidus}, {"eutectic min", fine.EutecticMin, coarse.EutecticMin}, {"eutectic max", fine.EutecticMax, coarse.EutecticMax}} {
-			if c.a.OK != c.b.OK || math.Abs(c.a.TempC-c.b.TempC) > 0.1 || math.Abs(c.a.TimeS-c.b.TimeS) > 1.5 {
-				t.Errorf("%s radial, 5 zones, %s: %+v at 5 ms, %+v at 20 ms", alloy, c.name, c.a, c.b)
-			}
+		samePoints(t, alloy+" radial, 5 zones", fine, coarse, 0.1)
+	}
+}
+
+// samePoints checks that the liquidus and the eutectic minimum and maximum
+// of a run at the 5 ms step (fine) and at 20 ms (coarse) agree within tolC
+// and 1.5 s.
+func samePoints(t *testing.T, what string, fine, coarse Truth, tolC float64) {
+	t.Helper()
+	for _, c := range []struct {
+		name string
+		a, b Point
+	}{{"liquidus", fine.Liquidus, coarse.Liquidus}, {"eutectic min", fine.EutecticMin, coarse.EutecticMin}, {"eutectic max", fine.EutecticMax, coarse.EutecticMax}} {
+		if c.a.OK != c.b.OK || math.Abs(c.a.TempC-c.b.TempC) > tolC || math.Abs(c.a.TimeS-c.b.TimeS) > 1.5 {
+			t.Errorf("%s %s: %+v at 5 ms, %+v at 20 ms", what, c.name, c.a, c.b)
 		}
 	}
 }
