@@ -28,6 +28,8 @@ func BenchmarkAdvise(b *testing.B) {
 		{"al-si7mg-both", sim.AlSi7Mg, "", 0.1, false},
 		{"grey-iron-radial", sim.GreyIron, "", 0.1, true},
 		{"ductile-iron-radial", sim.DuctileIron, "", 0.1, true},
+		{"al-si7mg-refiner-radial", sim.AlSi7Mg, "altib-rod", 0.1, true},
+		{"al-si7mg-modifier-radial", sim.AlSi7Mg, "alsr-master", 0.1, true},
 	} {
 		b.Run(c.name, func(b *testing.B) {
 			p := preset(b, c.alloy, c.inoc, 3)

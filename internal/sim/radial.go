@@ -420,15 +420,23 @@ func (m *cup) freezeZone(z *lump, bp, be, dt float64) float64 {
 // fraction, fp the primary solid already there and fe the eutectic
 // fraction, by Newton's method (g(T) is increasing and convex), to 1e-9 K
 // or at most six steps. It returns t0 when no primary solid would form.
+//
+// The fraction at t0 serves the first step too, and the Scheil slope is
+// taken from the same power as the fraction (fractionSlope): the Scheil
+// rule's math.Pow was most of an Al-Si radial cup's cost.
 func (m *cup) primaryTemp(t0, envelopes, fp, fe float64) float64 {
-	if envelopes*m.fraction(t0) <= fp {
+	f, df := m.fractionSlope(t0)
+	if envelopes*f <= fp {
 		return t0
 	}
 	k := m.latent * (1 - fe) / m.c
 	t := t0
-	for range 6 {
-		gv := t - t0 - k*(envelopes*m.fraction(t)-fp)
-		dg := 1 - k*envelopes*m.dfraction(t)
+	for i := range 6 {
+		if i > 0 {
+			f, df = m.fractionSlope(t)
+		}
+		gv := t - t0 - k*(envelopes*f-fp)
+		dg := 1 - k*envelopes*df
 		next := min(max(t-gv/dg, t0), m.liquidus)
 		if math.Abs(next-t) < 1e-9 {
 			return next
@@ -436,4 +444,20 @@ func (m *cup) primaryTemp(t0, envelopes, fp, fe float64) float64 {
 		t = next
 	}
 	return t
+}
+
+// fractionSlope is fraction(t) and dfraction(t) at once: for the Scheil
+// rule, with p = (Cl/C0)^e, e = 1/(k − 1), fs = 1 − p and
+// dfs/dT = e·p/(Cl·s) (one power for both).
+func (m *cup) fractionSlope(t float64) (f, df float64) {
+	if t >= m.liquidus {
+		return 0, 0
+	}
+	if m.lever {
+		return m.fraction(t), m.dfraction(t)
+	}
+	cl := (m.lineTm - t) / m.lineSlope
+	e := 1 / (m.partition - 1)
+	p := math.Pow(cl/m.c0, e)
+	return 1 - p, e * p / (cl * m.lineSlope)
 }
