@@ -110,6 +110,7 @@ const (
 	longFactor   = 2    // refinement window of a flat eutectic arrest, in SlopeS
 	shortShare   = 0.03 // see solidusPoint
 	negShare     = 0.05 // see longArrest
+	holdShare    = 0.2  // see settle
 	fallShare    = 0.04 // an arrest's fall is at least this share of |T'|min before it
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
 )
@@ -283,9 +284,21 @@ type detector struct {
 	minShown  bool    // the current arrest's minimum has been reported
 	haveFirst bool    // the first arrest has been seen (cooling rate set)
 	eutRefD   float64 // T' at the eutectic point
-	eutI      int
+	eutRecal  bool    // the eutectic recalesced
+	hold      heldArrest
+
+	eutI int
 
 	res Result
+}
+
+// heldArrest is an arrest settled but not yet classified (see settle).
+type heldArrest struct {
+	on     bool
+	lo, hi Point
+	recal  bool
+	from   int     // where it was settled
+	level  float64 // T' below this makes it short
 }
 
 const (
@@ -816,6 +829,10 @@ func (a *Analyzer) detect() {
 			e.stage = stageArrest
 			e.startArrest(j, d)
 		case stageArrest:
+			if e.hold.on {
+				a.holding(j, d)
+				continue
+			}
 			if e.j = a.quietRun(j, end, h, p); e.j == end {
 				e.j--
 				continue
@@ -828,9 +845,14 @@ func (a *Analyzer) detect() {
 			need := max(p, math.Abs(e.res.CoolingRateCps)/3)
 			dmin, dminI := e.dmin, e.dminI
 			dd, ts, confirm := a.d[:end], a.ts, a.h.ConfirmS
+			back := false
 			for ; j < end; j++ {
-				if v := dd[j]; v < dmin {
+				v := dd[j]
+				if v < dmin {
 					dmin, dminI = v, j
+				}
+				if back = a.shoulderPassed(v, dmin, h, p); back {
+					break
 				}
 				if e.eutRefD-dmin >= need && ts[j]-ts[dminI] >= confirm {
 					break
@@ -842,6 +864,10 @@ func (a *Analyzer) detect() {
 				continue
 			}
 			e.j = j
+			if back {
+				a.reopen(j, dd[j])
+				continue
+			}
 			a.solidus()
 		}
 	}
@@ -951,7 +977,7 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 		}
 		if e.sub == subRise && d < e.dmax-max(p, fallShare*math.Abs(e.dmin)) {
 			pt := a.extremum(e.dmaxI)
-			a.arrest(j, pt, pt, false, p)
+			a.settle(j, pt, pt, false, p)
 		}
 	case subPos:
 		if d > e.dmax {
@@ -969,7 +995,7 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 			e.maxPt = a.crossing(j - 1)
 		}
 		if e.cand >= 0 && (d < -h || a.sm(j) < e.maxPt.TempC-max(dropFloor, 6*(a.sigma(j)*a.gainS))) { // 6·σ_T
-			a.arrest(j, e.minPt, e.maxPt, true, p)
+			a.settle(j, e.minPt, e.maxPt, true, p)
 		}
 	}
 }
@@ -1032,34 +1058,78 @@ func (a *Analyzer) showMin(j int) {
 // zero for tens of seconds; a primary arrest a few seconds.
 func (a *Analyzer) shortArrest() float64 { return 3 * a.h.SlopeS }
 
-// longArrest tells whether the arrest settled at j is long: from where T'
-// rose halfway into it to j it lasted at least shortArrest, and its T' came
-// within max(p, negShare·|T'min|) of zero (a liquidus arrest whose T' stays
-// clearly negative is short however slowly it passes).
-func (a *Analyzer) longArrest(j int, recal bool, p float64) bool {
+// arrestSpan is where the current arrest began for its length: where T'
+// rose halfway from its minimum into it (from the minimum to zero for a
+// recalescence, to min(T'max, 0) otherwise). ok is false when the arrest
+// can never be long: its T' stayed clearly negative, below
+// −max(p, negShare·|T'min|) (a liquidus arrest whose T' stays clearly
+// negative is short however slowly it passes).
+func (a *Analyzer) arrestSpan(recal bool, p float64) (from int, ok bool) {
 	e := &a.det
 	if recal && e.sub == subPos {
-		return a.ts[j]-a.ts[e.riseI] >= a.shortArrest()
+		return e.riseI, true
 	}
 	peak := a.d[e.dmaxI]
 	if peak < -max(p, negShare*math.Abs(e.dmin)) {
-		return false
+		return 0, false
 	}
-	k := a.riseStart((e.dmin+min(peak, 0))/2, e.dmaxI)
-	return a.ts[j]-a.ts[k] >= a.shortArrest()
+	return a.riseStart((e.dmin+min(peak, 0))/2, e.dmaxI), true
+}
+
+// longArrest tells whether the arrest is long at index j: it can be
+// (arrestSpan) and has lasted shortArrest since it began.
+func (a *Analyzer) longArrest(j int, recal bool, p float64) bool {
+	from, ok := a.arrestSpan(recal, p)
+	return ok && a.ts[j]-a.ts[from] >= a.shortArrest()
+}
+
+// settle takes an arrest that has just settled at index j (lo, hi: its
+// minimum and maximum points) to arrest, unless its kind hangs on its
+// length and it is still short but may yet be long: then it is held
+// (holding) until T' falls by max(p, holdShare·|T'min|) below its top, or
+// zero after a recalescence, or back to where it began (short), or it has
+// stayed above that for shortArrest more (long): a eutectic's latent heat
+// holds T' near zero long after its top, a primary arrest's T' falls away. A small recalescence, or a near-zero
+// arrest, settles within seconds; whether it is a primary arrest or the
+// eutectic shows only in how long T' then stays near zero.
+func (a *Analyzer) settle(j int, lo, hi Point, recal bool, p float64) {
+	e := &a.det
+	from, ok := a.arrestSpan(recal, p)
+	if !ok || a.kindKnown(lo.TempC) || a.ts[j]-a.ts[from] >= a.shortArrest() {
+		a.arrest(j, lo, hi, recal, ok && a.ts[j]-a.ts[from] >= a.shortArrest())
+		return
+	}
+	// short once T' falls clearly below the arrest's top (or zero, after a
+	// recalescence), or back to where the rise into it began
+	level := max(a.d[from], min(a.d[e.dmaxI], 0)-max(p, holdShare*math.Abs(e.dmin)))
+	e.hold = heldArrest{on: true, lo: lo, hi: hi, recal: recal, from: j, level: level}
+}
+
+// holding advances a held arrest (settle) at index j, T' = d.
+func (a *Analyzer) holding(j int, d float64) {
+	e := &a.det
+	hd := e.hold
+	switch {
+	case a.ts[j]-a.ts[hd.from] >= a.shortArrest():
+		e.hold = heldArrest{}
+		a.arrest(j, hd.lo, hd.hi, hd.recal, true)
+	case d < hd.level:
+		e.hold = heldArrest{}
+		a.arrest(j, hd.lo, hd.hi, hd.recal, false)
+	}
 }
 
 // arrest classifies a settled arrest (lo, hi: the minimum and maximum points,
-// equal without recalescence) found at index j; p is the prominence
-// threshold there.
-func (a *Analyzer) arrest(j int, lo, hi Point, recal bool, p float64) {
+// equal without recalescence) found at index j; long says it is a long
+// arrest (longArrest).
+func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 	e := &a.det
 	r := &e.res
 	if !e.haveFirst {
 		e.haveFirst = true
 		r.CoolingRateCps = a.coolingRate(e)
 	}
-	if a.primary(lo.TempC, a.longArrest(j, recal, p)) {
+	if a.primary(lo.TempC, long) {
 		if !r.Liquidus.OK {
 			if !recal {
 				// a slight primary recalescence shows on the longer window
@@ -1086,9 +1156,39 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal bool, p float64) {
 	if recal {
 		e.eutRefD = 0
 	}
-	e.eutI = j
+	e.eutI, e.eutRecal = j, recal
 	e.stage = stageSolidus
 	e.dmin, e.dminI = a.d[j], j
+}
+
+// shoulderPassed tells whether T' = v, after falling to dmin since a
+// eutectic that did not recalesce, has risen beyond the hysteresis h above
+// zero: a real recalescence, which outranks the earlier arrest. That arrest
+// was a shoulder (a local maximum of T' below zero, as the cup wall
+// freezing before the centre makes), and this is the centre's own
+// eutectic. The fall between them must exceed the prominence p, so that
+// noise on a plateau is no second arrest. A pure metal's single plateau
+// (EutecticTopC +Inf) is never reopened.
+func (a *Analyzer) shoulderPassed(v, dmin, h, p float64) bool {
+	e := &a.det
+	if e.eutRecal {
+		return false // a recalescence is the eutectic: nothing outranks it
+	}
+	return !math.IsInf(a.h.EutecticTopC, 1) && v > h && e.eutRefD-dmin > p
+}
+
+// reopen takes up the arrest search again at index j (T' = d > h), in the
+// recalescence after a shoulder that had been taken for the eutectic
+// (shoulderPassed): the shoulder's points are withdrawn, and the
+// recalescence is examined as the arrest search examines one.
+func (a *Analyzer) reopen(j int, d float64) {
+	e := &a.det
+	r := &e.res
+	r.EutecticMin, r.EutecticMax = Point{}, Point{}
+	r.Recalescence, r.RecalescenceOK = 0, false
+	e.stage, e.sub, e.start = stageArrest, subRise, e.eutI
+	e.dmax, e.dmaxI, e.cand = d, j, -1
+	a.arrestStep(j, d, max(slopeFloor, 4*a.sigma(j)*a.gainD), max(promFloor, 8*a.sigma(j)*a.gainD))
 }
 
 // coolingRate is the mean slope of T over the 10 s (less when the pour is
@@ -1311,21 +1411,27 @@ func (a *Analyzer) solidus() {
 // live sample that goes on is analysed as before.
 func (a *Analyzer) cutPlateau() (Result, bool) {
 	e := &a.det
-	if e.stage != stageArrest || len(a.d) == 0 || e.j < len(a.d) || !(e.sub == subRise || e.sub == subPos && e.cand >= 0) {
+	if e.stage != stageArrest || len(a.d) == 0 || e.j < len(a.d) || !(e.hold.on || e.sub == subRise || e.sub == subPos && e.cand >= 0) {
 		return Result{}, false
 	}
 	j := len(a.d) - 1
 	p := max(promFloor, 8*a.sigma(j)*a.gainD)
-	if !a.longArrest(j, e.sub == subPos, p) {
-		return Result{}, false
-	}
 	saved := *e
 	defer func() { a.det = saved }()
-	if e.sub == subRise {
+	switch hd := e.hold; {
+	case hd.on:
+		if a.ts[j]-a.ts[hd.from] < a.shortArrest() {
+			return Result{}, false
+		}
+		e.hold = heldArrest{}
+		a.arrest(j, hd.lo, hd.hi, hd.recal, true)
+	case !a.longArrest(j, e.sub == subPos, p):
+		return Result{}, false
+	case e.sub == subRise:
 		pt := a.extremum(e.dmaxI)
-		a.arrest(j, pt, pt, false, p)
-	} else {
-		a.arrest(j, e.minPt, e.maxPt, true, p)
+		a.arrest(j, pt, pt, false, true)
+	default:
+		a.arrest(j, e.minPt, e.maxPt, true, true)
 	}
 	if e.stage != stageSolidus {
 		return Result{}, false
