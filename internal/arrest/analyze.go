@@ -111,6 +111,8 @@ const (
 	shortShare   = 0.03 // see solidusPoint
 	negShare     = 0.05 // see longArrest
 	holdShare    = 0.2  // see settle
+	flatShare    = 0.05 // see solidusPoint
+	sharpGain    = 1.1  // see solidusWindow
 	fallShare    = 0.04 // an arrest's fall is at least this share of |T'|min before it
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
 )
@@ -1315,12 +1317,16 @@ func (a *Analyzer) levelPoint(k int, v0, v1, level float64) Point {
 // for seconds and would pull the point late (and low: by T'·Δt). Without
 // noise the run is one sample and the point its parabolic vertex.
 func (a *Analyzer) solidusPoint(i, j int) Point {
-	w := min(curve.WindowSamples(a.h.SlopeS/2, a.rate, 2, 5), a.wd)
-	if a.sigma(j)*curve.SavGol(w, 2, 1).NoiseGain()/a.dt > shortShare*math.Abs(a.d[i]) {
-		w = a.wd // too noisy for the short window: keep the long one
-	}
+	w := a.solidusWindow(i, j)
 	h := w / 2
-	lo, hi := max(i-a.wd/2, h, a.det.eutI), min(j, a.xAvail(j)-h)
+	// a flat-bottomed dip (T' reaching the solid's cooling rate and staying
+	// there) is searched from where T' first came down to its bottom
+	band := max(3*a.sigma(j)*a.gainD, flatShare*math.Abs(a.d[i]))
+	k := i
+	for k > a.det.eutI && a.d[k-1] <= a.d[i]+band {
+		k--
+	}
+	lo, hi := max(k-a.wd/2, h, a.det.eutI), min(j, a.xAvail(j)-h)
 	if lo+2 > hi {
 		return a.extremum(i)
 	}
@@ -1365,9 +1371,58 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 	// beyond that a long flat run is the slow relaxation, not the dip
 	fr = min(fr, fl+float64(h))
 	mid := (fl + fr) / 2
-	k := int(math.Floor(mid))
+	k = int(math.Floor(mid))
 	f := mid - float64(k)
 	return Point{TempC: a.sm(k) + f*(a.sm(k+1)-a.sm(k)), TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]), OK: true}
+}
+
+// solidusWindow is the T' window, samples, the end of freezing (the most
+// negative T' at sample i, settled at j) is placed on: Hints.SlopeS/2, or a
+// shorter one of SlopeS/4, /8 … (at least 5 samples) where the dip is
+// sharper than the longer window resolves (its depth on the shorter window
+// at least sharpGain times the longer window's), each while its T' noise is
+// at most shortShare of the dip's depth; the T' window itself when even
+// SlopeS/2 is too noisy. A strong gradient's centre drops by several °C/s
+// within a second at the end of freezing, and only a short window puts the
+// point where it drops; a gentle dip keeps the steadier half window.
+func (a *Analyzer) solidusWindow(i, j int) int {
+	noise := a.sigma(j) / a.dt // σ_T' per unit noise gain
+	w := min(curve.WindowSamples(a.h.SlopeS/2, a.rate, 2, 5), a.wd)
+	depth := a.dipDepth(w, i, j)
+	if curve.SavGol(w, 2, 1).NoiseGain()*noise > shortShare*depth {
+		return a.wd // too noisy for the short window: keep the long one
+	}
+	for s := a.h.SlopeS / 4; w > 5; s /= 2 {
+		v := min(curve.WindowSamples(s, a.rate, 2, 5), w)
+		if v == w {
+			return w
+		}
+		dv := a.dipDepth(v, i, j)
+		if dv < sharpGain*depth || curve.SavGol(v, 2, 1).NoiseGain()*noise > shortShare*dv {
+			return w
+		}
+		w, depth = v, dv
+	}
+	return w
+}
+
+// dipDepth is −min T' on a window of w samples around the dip at sample i
+// (within half a T' window of it, and no further than xAvail(j) allows),
+// °C/s.
+func (a *Analyzer) dipDepth(w, i, j int) float64 {
+	h := w / 2
+	lo, hi := max(i-a.wd/2, h), min(i+a.wd/2, a.xAvail(j)-h)
+	if lo > hi {
+		return math.Abs(a.d[i])
+	}
+	a.sll.Reset(h)
+	a.dl = a.sll.AppendSlopes(a.dl[:0], a.x, lo, hi+1, 1/a.dt)
+	m := math.Inf(1)
+	for _, v := range a.dl {
+		m = min(m, v)
+	}
+	a.dl = a.dl[:0]
+	return -m
 }
 
 // solidus settles the end of freezing at the most negative T' and derives
