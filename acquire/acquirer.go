@@ -14,6 +14,7 @@ import (
 	"time"
 
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/mailbox"
 	"github.com/undercool-foundry/undercool/internal/protocol"
@@ -120,6 +121,15 @@ func (c Config) withDefaults() Config {
 	return c
 }
 
+// Bounds on what a device can make the acquirer keep: a device that
+// invents channel ids, device-information keys or thermocouple names
+// cannot exhaust memory. What goes beyond them is counted as garbage.
+const (
+	MaxChannels   = 64  // distinct channel ids of one port
+	MaxDeviceKeys = 64  // distinct device-information keys kept for the files' "device" line
+	maxWarnings   = 256 // distinct once-only warnings
+)
+
 // Acquirer reads one port, parses the line protocol, converts raw EMF,
 // watches each channel for the pour, keeps the crash-safe raw logs and hands
 // everything over as one ordered stream of items per batch (package feed).
@@ -151,6 +161,7 @@ type Acquirer struct {
 	lastLine   time.Time
 	silentSaid bool
 	warned     map[string]bool
+	seen       map[string]bool // channel ids seen, at most MaxChannels
 	lastOpen   string
 	garbageAt  time.Time
 	garbageN   int
@@ -160,6 +171,7 @@ type Acquirer struct {
 	wantStatus bool      // send a batch even if it holds nothing but the status
 	sentAt     time.Time // when the last batch went
 	cups       cups      // channels paired into two-thermocouple cups
+	startedAt  time.Time // when Run started, by cfg.Now
 }
 
 // New returns an Acquirer that reads from what open opens.
@@ -274,6 +286,11 @@ func (a *Acquirer) Run(ctx context.Context) (err error) {
 		if ferr := a.finishAll("acquisition stopped"); ferr != nil && err == nil {
 			err = ferr
 		}
+		if err != nil {
+			// said in the stream too: the screen and its log show why
+			// the feed ended, not only the command's exit
+			a.item(feed.Item{Kind: feed.KindWarning, TimeS: a.tb.last, Text: "acquisition stopped: " + err.Error()})
+		}
 		a.flushLast()
 	}()
 
@@ -330,9 +347,11 @@ func (a *Acquirer) Run(ctx context.Context) (err error) {
 }
 
 func (a *Acquirer) setup() error {
+	a.startedAt = a.cfg.Now()
 	a.lastIdx = map[string]int{}
 	a.chans = map[string]*channel{}
 	a.warned = map[string]bool{}
+	a.seen = map[string]bool{}
 	a.st.Port = a.cfg.Port
 	a.st.ColdJunctionC = math.NaN()
 	if a.cfg.ColdJunctionSet {
@@ -453,10 +472,12 @@ func (a *Acquirer) status() feed.Status {
 	s.Partial = int(a.fr.Partial.Load())
 	s.LF, s.CRLF, s.CR = int(a.fr.LF.Load()), int(a.fr.CRLF.Load()), int(a.fr.CR.Load())
 	s.Garbage += s.Overlong
-	if !a.lastLine.IsZero() {
-		s.SilentS = a.cfg.Now().Sub(a.lastLine).Seconds()
-	}
 	now := a.cfg.Now()
+	if !a.lastLine.IsZero() {
+		s.SilentS = now.Sub(a.lastLine).Seconds()
+	}
+	// never 0 once running: 0 means "no host clock"
+	s.HostS = max(now.Sub(a.startedAt).Seconds(), 1e-9)
 	s.Channels = make(map[string]feed.ChannelStatus, len(a.chans))
 	for id, c := range a.chans {
 		cs := feed.ChannelStatus{Recording: c.log != nil, Sample: c.n, Readings: c.readings, Faults: c.faults, WallOf: a.wallCentre(id)}
@@ -483,9 +504,15 @@ func (a *Acquirer) flushLast() {
 
 func (a *Acquirer) item(it feed.Item) { a.pending.Items = append(a.pending.Items, it) }
 
-// warn emits a warning once per key.
+// warn emits a warning once per key. Beyond maxWarnings distinct keys (a
+// device that makes up a new thermocouple name on every line) a warning is
+// counted as garbage instead.
 func (a *Acquirer) warn(key, text string) {
 	if a.warned[key] {
+		return
+	}
+	if len(a.warned) >= maxWarnings {
+		a.st.Garbage++
 		return
 	}
 	a.warned[key] = true
@@ -554,6 +581,13 @@ func (a *Acquirer) line(it *item) error {
 		return nil
 	}
 	a.st.Lines++
+	if !a.seen[l.Channel] {
+		if len(a.seen) >= MaxChannels {
+			a.garbage(it.line, fmt.Errorf("channel %s would be channel number %d of %s; at most %d are read", l.Channel, MaxChannels+1, a.portName(), MaxChannels))
+			return nil
+		}
+		a.seen[l.Channel] = true
+	}
 	r := a.reading(&l, it.at)
 	return a.accept(r, it.at)
 }
@@ -566,7 +600,7 @@ func (a *Acquirer) garbage(b []byte, err error) {
 	if len(b) > 60 {
 		b = b[:60]
 	}
-	a.st.LastGarbage = fmt.Sprintf("%q: %v", b, err)
+	a.st.LastGarbage = escape.Line(fmt.Sprintf("%q: %v", b, err))
 	now := a.cfg.Now()
 	if !a.garbageAt.IsZero() && now.Sub(a.garbageAt) < 10*time.Second {
 		return
@@ -586,6 +620,11 @@ func (a *Acquirer) info(l *protocol.Line) {
 	for _, x := range l.Info {
 		kv = append(kv, curvefile.Meta{Key: x.Key, Value: x.Value})
 		if !protocol.IsSampleKey(x.Key) && x.Key != "ch" && !isCupKey(x.Key) {
+			if len(a.devInfo) >= MaxDeviceKeys && metaIndex(a.devInfo, x.Key) < 0 {
+				a.st.Garbage++
+				a.warn("devkeys", fmt.Sprintf("%s announces more than %d device keys; the others are not kept (counted as garbage)", a.portName(), MaxDeviceKeys))
+				continue
+			}
 			a.devInfo = mergeMeta(a.devInfo, []curvefile.Meta{{Key: x.Key, Value: x.Value}})
 		}
 	}
@@ -600,7 +639,9 @@ func (a *Acquirer) info(l *protocol.Line) {
 func (a *Acquirer) deviceTC(name string) {
 	tc, err := thermocouple.Lookup(name)
 	if err != nil {
-		a.warn("devtc:"+name, fmt.Sprintf("the device announces thermocouple %q: %v", name, err))
+		// once: a device making up a name on every line must not fill the
+		// warnings
+		a.warn("devtc", fmt.Sprintf("the device announces thermocouple %q: %v", name, err))
 		return
 	}
 	switch {

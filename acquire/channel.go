@@ -153,15 +153,32 @@ func (c *channel) start(a *Acquirer, why string, at float64, atHost time.Time) e
 	}
 	now := a.cfg.Now()
 	emf := slices.ContainsFunc(c.pre, func(r feed.Reading) bool { return r.Flags&feed.FlagEMF != 0 })
-	path, err := a.newPath(c.id, metaValue(c.next, "sample"), now)
-	if err != nil {
-		return err
+	id := metaValue(c.next, "sample")
+	if s := slug(id); len(s) > MaxNamePart {
+		a.warn("longid:"+c.id+":"+id, fmt.Sprintf("channel %s: the sample id is %d bytes long; the curve file's name keeps its first %d (its metadata keeps it whole)",
+			c.id, len(id), MaxNamePart))
 	}
-	log, err := createLog(path, a.sampleMeta(c, why), emf, a.cfg.SyncEvery)
-	if err != nil {
-		return err
+	path, err := a.newPath(c.id, id, now)
+	if err == nil {
+		var log *rawLog
+		if log, err = createLog(path, a.sampleMeta(c, why), emf, a.cfg.SyncEvery); err == nil {
+			c.log = log
+		}
 	}
-	c.log = log
+	if err != nil {
+		if a.cfg.OutPath != "" && a.started == 0 {
+			return err // record's one file: the command says why
+		}
+		// One channel's file problem is that channel's: the others go
+		// on; this one waits for its next pour (the readings before
+		// this one are dropped so that the same rise does not start it
+		// again at once).
+		c.pre, c.preAt = c.pre[:0], c.preAt[:0]
+		a.item(feed.Item{Kind: feed.KindWarning, Channel: c.id, TimeS: a.tb.last,
+			Text: fmt.Sprintf("channel %s: %s, but the sample cannot be recorded: %v", c.id, why, err)})
+		return nil
+	}
+	log := c.log
 	c.n++
 	a.started++
 	pre := slices.Clone(c.pre)
@@ -193,9 +210,11 @@ func (c *channel) finish(a *Acquirer, reason string) error {
 	log.extra = mergeMeta(log.extra, []curvefile.Meta{{Key: "ended", Value: reason}})
 	path, err := log.finish()
 	if err != nil {
+		// The channel's problem: said, and the other channels go on. The
+		// readings stay in the partial file, completed at the next start.
 		a.item(feed.Item{Kind: feed.KindEnded, Channel: c.id, TimeS: a.tb.last, Sample: c.n, Path: log.partial, Failed: true,
-			Text: fmt.Sprintf("channel %s: %v (the readings stay in %s)", c.id, err, log.partial)})
-		return err
+			Text: fmt.Sprintf("channel %s: %v (the readings stay in %s and are recovered at the next start)", c.id, err, log.partial)})
+		return nil
 	}
 	a.st.SamplesDone++
 	a.item(feed.Item{Kind: feed.KindEnded, Channel: c.id, TimeS: a.tb.last, Sample: c.n, Path: path,
@@ -253,8 +272,8 @@ func (a *Acquirer) newPath(ch, sample string, now time.Time) (string, error) {
 		}
 		return a.cfg.OutPath, nil
 	}
-	base := now.Format("20060102-150405") + "-ch" + slug(ch)
-	if s := slug(sample); s != "" {
+	base := now.Format("20060102-150405") + "-ch" + cutName(slug(ch))
+	if s := cutName(slug(sample)); s != "" {
 		base += "-" + s
 	}
 	dir := a.outDir()
@@ -275,6 +294,21 @@ func exists(p string) bool {
 	return err == nil
 }
 
+// MaxNamePart is the most bytes of a channel id or a sample id that go
+// into a curve file's name. With the time, the numbering, ".partial.csv"
+// and the temporary name of the atomic write (".NAME.tmpNNNNNNNNNN") the
+// name stays well below the 255 bytes of Linux, macOS and Windows file
+// systems (NAME_MAX).
+const MaxNamePart = 64
+
+// cutName cuts a slug to MaxNamePart bytes (a slug is ASCII).
+func cutName(s string) string {
+	if len(s) > MaxNamePart {
+		s = strings.TrimRight(s[:MaxNamePart], "-")
+	}
+	return s
+}
+
 // slug keeps letters, digits, '-' and '_' of s and turns the rest into '-'.
 func slug(s string) string {
 	b := []byte(s)
@@ -290,14 +324,18 @@ func slug(s string) string {
 // there and appending new keys.
 func mergeMeta(m, add []curvefile.Meta) []curvefile.Meta {
 	for _, x := range add {
-		i := slices.IndexFunc(m, func(y curvefile.Meta) bool { return y.Key == x.Key })
-		if i >= 0 {
+		if i := metaIndex(m, x.Key); i >= 0 {
 			m[i].Value = x.Value
 		} else {
 			m = append(m, x)
 		}
 	}
 	return m
+}
+
+// metaIndex is the index of key in m, or -1.
+func metaIndex(m []curvefile.Meta, key string) int {
+	return slices.IndexFunc(m, func(y curvefile.Meta) bool { return y.Key == key })
 }
 
 func metaValue(m []curvefile.Meta, key string) string {

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"syscall"
 	"testing"
@@ -96,6 +97,12 @@ wait:
 	}
 	if _, err := os.Stat(partial); err != nil {
 		t.Fatalf("the raw log is gone after the full disk: %v", err)
+	}
+	// the stream says why it ends (the dashboard showed only FEED ENDED)
+	if !slices.ContainsFunc(col.events, func(it feed.Item) bool {
+		return it.Kind == feed.KindWarning && strings.Contains(it.Text, "acquisition stopped: ") && strings.Contains(it.Text, "no space left")
+	}) {
+		t.Errorf("no warning saying why acquisition stopped: %v", col.eventTexts())
 	}
 
 	// Recovery, with space again.

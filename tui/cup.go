@@ -11,6 +11,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/sample"
 )
@@ -130,10 +131,10 @@ func (c *cup) header(st *Styles, w int) string {
 	}
 	var parts []string
 	if a := m.Get("alloy"); a != "" {
-		parts = append(parts, st.Value.Render(a))
+		parts = append(parts, st.Value.Render(escape.Line(a)))
 	}
 	if o := m.Get("operator"); o != "" {
-		parts = append(parts, st.Muted.Render(o))
+		parts = append(parts, st.Muted.Render(escape.Line(o)))
 	}
 	second := strings.Join(parts, st.Muted.Render(" · "))
 	if second == "" {

@@ -12,6 +12,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sample"
@@ -266,7 +267,7 @@ func (p historyPane) View() string {
 	for i := start; i < len(es) && len(lines) < listH+1; i++ {
 		e := es[i]
 		row := fmt.Sprintf("%-5d %-5s %-3s %-18s %-13s %-9s %8s %7s", e.ID, e.At.Format("15:04"), e.Channel,
-			cut(sampleName(e.Meta), 18), cut(e.Meta.Get("alloy"), 13), e.Record.Verdict,
+			cut(sampleName(e.Meta), 18), cut(escape.Line(e.Meta.Get("alloy")), 13), e.Record.Verdict,
 			fmtOpt(e.Record.EutecticMinC, "%.1f"), fmtOpt(e.Record.RecalescenceC, "%.1f"))
 		row = clip(row, p.w)
 		if i == p.sel {

@@ -14,6 +14,7 @@ import (
 	"github.com/charmbracelet/lipgloss"
 	"github.com/charmbracelet/x/ansi"
 
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sample"
@@ -226,7 +227,7 @@ func eventLog(ev sample.Event) string {
 func (m Model) logf(format string, args ...any) tea.Cmd {
 	l, line := m.log, fmt.Sprintf(format, args...)
 	return func() tea.Msg {
-		l.Print(line)
+		l.Print(escape.Text(line))
 		return nil
 	}
 }
@@ -239,7 +240,7 @@ func (m Model) logLines(lines []string) tea.Cmd {
 	l := m.log
 	return func() tea.Msg {
 		for _, s := range lines {
-			l.Print(s)
+			l.Print(escape.Text(s))
 		}
 		return nil
 	}
@@ -421,7 +422,7 @@ func (m Model) View() string {
 	if m.tab != tabLive || m.asking || m.formOpen || m.showHelp {
 		body = box(body, m.w, bh) // the live pane is drawn to size already
 	}
-	foot := m.st.Muted.Render(clip(m.flash, m.w))
+	foot := m.st.Muted.Render(clip(escape.Line(m.flash), m.w))
 	if m.flash == "" {
 		foot = m.help.ShortHelpView(m.shortHelp())
 	}
@@ -465,7 +466,7 @@ func (m Model) titleBar() string {
 
 func (m Model) statusLine() string {
 	s := m.status
-	port := cut(s.Port, max(12, m.w/4))
+	port := cut(escape.Line(s.Port), max(12, m.w/4))
 	if port == "" {
 		port = "no port"
 	}

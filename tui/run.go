@@ -10,6 +10,7 @@ import (
 
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
@@ -53,7 +54,7 @@ func Lines(ctx context.Context, opt Options, w io.Writer, maxSamples int) error 
 		}
 		for _, ev := range u.Events {
 			if line := eventLine(ev); line != "" {
-				fmt.Fprintln(w, line)
+				fmt.Fprintln(w, escape.Line(line))
 			}
 		}
 		for _, sn := range u.Channels {
@@ -70,7 +71,7 @@ func Lines(ctx context.Context, opt Options, w io.Writer, maxSamples int) error 
 			fmt.Fprintf(w, "cup %s  t=%7.1f s  %s °C  %s %s\n", c.id(), sn.Last.TimeS, strings.TrimSpace(big), strings.ToLower(c.stateWord()), note)
 		}
 		for _, f := range u.Finished {
-			fmt.Fprint(w, resultLines(f))
+			fmt.Fprint(w, escape.Text(resultLines(f)))
 			if f.Recovered {
 				continue
 			}

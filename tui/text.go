@@ -5,6 +5,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
@@ -15,9 +16,9 @@ func ansiTruncate(s string, w int) string { return ansi.Truncate(s, w, "") }
 // ladle.
 func sampleName(m sample.Meta) string {
 	if s := m.Get("sample"); s != "" {
-		return s
+		return escape.Line(s)
 	}
-	return m.Get("ladle")
+	return escape.Line(m.Get("ladle"))
 }
 
 // recordReasons is why the record has its verdict: the problems found and
@@ -28,14 +29,20 @@ func recordReasons(r *assess.Record) []string {
 	for _, s := range append(append([]string(nil), r.Problems...), r.Reasons...) {
 		if s != "" && !seen[s] {
 			seen[s] = true
-			out = append(out, s)
+			out = append(out, escape.Line(s))
 		}
 	}
 	return out
 }
 
 // recordAdvice is what the record suggests doing, worded as advice.
-func recordAdvice(r *assess.Record) []string { return r.Advice }
+func recordAdvice(r *assess.Record) []string {
+	out := make([]string, len(r.Advice))
+	for i, s := range r.Advice {
+		out[i] = escape.Line(s)
+	}
+	return out
+}
 
 // resultFromRecord gives back the points of a stored record, for drawing.
 func resultFromRecord(r assess.Record) arrest.Result {

@@ -17,6 +17,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/forecast"
 	"github.com/undercool-foundry/undercool/internal/limits"
 )
@@ -154,7 +155,7 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 		defer func() {
 			records.Close()
 			for _, err := range records.Errors() {
-				fmt.Fprintf(env.stderr, "undercool analyze: %v\n", err)
+				fmt.Fprintf(env.stderr, "undercool analyze: %s\n", escape.Text(err.Error()))
 			}
 			fmt.Fprintln(env.stderr, records.summary())
 		}()
@@ -295,7 +296,7 @@ func (o *analyzeOutput) start() {
 	o.details = make([]*analyzed, len(o.files))
 	o.fileW, o.alloyW = len("file"), len("alloy")
 	for _, f := range o.files {
-		o.fileW = max(o.fileW, len([]rune(f)))
+		o.fileW = max(o.fileW, len([]rune(escape.Line(f))))
 	}
 	o.alloyW = max(o.alloyW, len("ductile-iron"))
 	fmt.Fprintf(o.env.stdout, "%-*s  %-*s  %7s  %8s  %8s  %8s  %6s  %8s  %s\n",
@@ -311,9 +312,9 @@ func (o *analyzeOutput) result(a analyzed) error {
 	switch {
 	case a.err != nil:
 		o.failed++
-		fmt.Fprintf(o.env.stderr, "undercool analyze: %v\n", a.err)
+		fmt.Fprintf(o.env.stderr, "undercool analyze: %s\n", escape.Text(a.err.Error()))
 		if !o.json {
-			_, err = fmt.Fprintf(o.env.stdout, "%-*s  %-*s  %s\n", o.fileW, o.files[a.index], o.alloyW, "", "unreadable (see the error above)")
+			_, err = fmt.Fprintf(o.env.stdout, "%-*s  %-*s  %s\n", o.fileW, escape.Line(o.files[a.index]), o.alloyW, "", "unreadable (see the error above)")
 		}
 	case o.json:
 		out := advisedRecord{Record: a.rec}
@@ -334,7 +335,7 @@ func (o *analyzeOutput) result(a analyzed) error {
 		r := &a.rec
 		o.details[a.index] = &a
 		_, err = fmt.Fprintf(o.env.stdout, "%-*s  %-*s  %7d  %8s  %8s  %8s  %6s  %8s  %s\n",
-			o.fileW, r.File, o.alloyW, orDash(r.Alloy), r.Samples,
+			o.fileW, escape.Line(r.File), o.alloyW, escape.Line(orDash(r.Alloy)), r.Samples,
 			cell(r.LiquidusC, 1), cell(r.EutecticMinC, 1), cell(r.EutecticMaxC, 1), cell(r.RecalescenceC, 1),
 			cell(r.SolidusC, 1), r.Verdict)
 	}
@@ -361,7 +362,7 @@ func (o *analyzeOutput) finish() error {
 		if len(r.Problems)+len(r.Reasons)+len(r.Advice)+len(r.Warnings)+len(a.preds) == 0 {
 			continue
 		}
-		fmt.Fprintf(w, "\n%s (%s): %s\n", r.File, orDash(r.Alloy), r.Verdict)
+		fmt.Fprintf(w, "\n%s (%s): %s\n", escape.Line(r.File), escape.Line(orDash(r.Alloy)), r.Verdict)
 		notes(w, "problem", r.Problems)
 		notes(w, "reason", r.Reasons)
 		notes(w, "warning", r.Warnings)
@@ -389,7 +390,7 @@ func (o *analyzeOutput) finish() error {
 
 func notes(w io.Writer, label string, lines []string) {
 	for _, l := range lines {
-		fmt.Fprintf(w, "  %-8s %s\n", label+":", l)
+		fmt.Fprintf(w, "  %-8s %s\n", label+":", escape.Line(l))
 	}
 }
 

@@ -11,7 +11,9 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
 	"testing"
+	"time"
 
 	"github.com/creack/pty"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
@@ -343,21 +345,50 @@ func TestAnalyzeProgressOnTerminal(t *testing.T) {
 	dir := t.TempDir()
 	a := writeText(t, dir, "a.csv", flatCup())
 	b := writeText(t, dir, "b.csv", flatCup())
-	got := make(chan string)
+	// The terminal's side is read as it comes, and the slave is closed
+	// only once the last line cleared: on Linux a master read returns EIO
+	// once the slave is closed, even with output still in the buffer
+	// (closing at once lost the end now and then under load).
+	var mu sync.Mutex
+	var seen []byte
+	arrived := make(chan struct{}, 1)
 	go func() {
-		all, _ := io.ReadAll(ptm) // ends with EIO once pts is closed
-		got <- string(all)
+		buf := make([]byte, 4096)
+		for {
+			n, err := ptm.Read(buf)
+			mu.Lock()
+			seen = append(seen, buf[:n]...)
+			mu.Unlock()
+			select {
+			case arrived <- struct{}{}:
+			default:
+			}
+			if err != nil {
+				return
+			}
+		}
 	}()
 	var out bytes.Buffer
 	env := &environ{stdin: strings.NewReader(""), stdout: &out, stderr: pts, getenv: func(string) string { return "" }}
 	code := runMain(t.Context(), env, []string{"analyze", "--json", a, b})
-	pts.Close()
-	tty := <-got
-	if code != 0 {
-		t.Fatalf("exit %d: %s", code, tty)
+	tty := func() string { mu.Lock(); defer mu.Unlock(); return string(seen) }
+	deadline := time.After(10 * time.Second)
+	for done := false; !done; {
+		if s := tty(); strings.Contains(s, "analysed 2 of 2 files") && strings.HasSuffix(s, "\r\x1b[K") {
+			break
+		}
+		select {
+		case <-arrived:
+		case <-deadline:
+			done = true
+		}
 	}
-	if !strings.Contains(tty, "analysed 2 of 2 files") || !strings.HasSuffix(tty, "\r\x1b[K") {
-		t.Errorf("terminal got %q", tty)
+	pts.Close()
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, tty())
+	}
+	if s := tty(); !strings.Contains(s, "analysed 2 of 2 files") || !strings.HasSuffix(s, "\r\x1b[K") {
+		t.Errorf("terminal got %q", s)
 	}
 	if len(jsonLines(t, out.String())) != 2 {
 		t.Errorf("stdout %q", out.String())

@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"github.com/undercool-foundry/undercool/internal/atomicfile"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/store"
 )
 
@@ -187,7 +188,10 @@ func (c *recordsCSV) end(string) error {
 
 // csvText keeps a spreadsheet from taking text for a formula (OWASP, "CSV
 // injection"): text starting with = + - @ (or a tab or CR) gets a leading '.
+// Control characters are written as visible escapes (package escape), line
+// breaks and tabs kept.
 func csvText(s string) string {
+	s = escape.Text(s)
 	if s != "" && strings.ContainsRune("=+-@\t\r", rune(s[0])) {
 		return "'" + s
 	}

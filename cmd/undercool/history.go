@@ -15,6 +15,7 @@ import (
 	"time"
 
 	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/store"
 )
 
@@ -426,7 +427,7 @@ func dash(s string) string {
 	if s == "" {
 		return "–"
 	}
-	return s
+	return escape.Line(s)
 }
 
 // recordLine is one sample as a JSON line (history --json, export --json).

@@ -14,7 +14,10 @@ import (
 	"os/signal"
 	"runtime/pprof"
 	"sort"
+	"sync"
 	"syscall"
+
+	"github.com/undercool-foundry/undercool/internal/escape"
 )
 
 // command is one subcommand of undercool.
@@ -52,13 +55,53 @@ func (e exitError) Error() string { return fmt.Sprintf("exit status %d", e.code)
 var errUsage = errors.New("usage")
 
 func main() {
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := interruptContext(os.Stderr)
 	env := &environ{stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, getenv: os.Getenv}
 	stopProfile := startProfile(env)
 	code := runMain(ctx, env, os.Args[1:])
 	stopProfile()
 	stop()
 	os.Exit(code)
+}
+
+// interruptContext is the program's context: the first Ctrl-C (SIGINT) or
+// SIGTERM cancels it, asking for a clean stop (a sample being recorded is
+// completed and stored, as much as is recorded); a second one ends the
+// program at once, with the status a shell gives a process killed by that
+// signal (130 for SIGINT, 143 for SIGTERM), saying so on stderr. What is
+// recorded is safe even then: the raw log of a sample is recovered at the
+// next start.
+func interruptContext(stderr io.Writer) (context.Context, context.CancelFunc) {
+	ctx, cancel := context.WithCancel(context.Background())
+	sigs := make(chan os.Signal, 2)
+	signal.Notify(sigs, os.Interrupt, syscall.SIGTERM)
+	done := make(chan struct{})
+	go func() {
+		select {
+		case <-sigs:
+			cancel()
+		case <-done:
+			return
+		}
+		select {
+		case s := <-sigs:
+			fmt.Fprintf(stderr, "undercool: %v again: stopping at once (a sample being recorded is recovered at the next start)\n", s)
+			code := 130
+			if s == syscall.SIGTERM {
+				code = 143
+			}
+			os.Exit(code)
+		case <-done:
+		}
+	}()
+	var once sync.Once
+	return ctx, func() {
+		once.Do(func() {
+			signal.Stop(sigs)
+			close(done)
+			cancel()
+		})
+	}
 }
 
 func runMain(ctx context.Context, env *environ, args []string) int {
@@ -85,7 +128,7 @@ func runMain(ctx context.Context, env *environ, args []string) int {
 		fmt.Fprintf(env.stderr, "undercool %s: see 'undercool %s -h'\n", c.name, c.name)
 		return 2
 	default:
-		fmt.Fprintf(env.stderr, "undercool %s: %v\n", c.name, err)
+		fmt.Fprintf(env.stderr, "undercool %s: %s\n", c.name, escape.Text(err.Error()))
 		return 1
 	}
 }

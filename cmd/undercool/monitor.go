@@ -40,6 +40,7 @@ func runMonitor(ctx context.Context, env *environ, args []string) error {
 	data := fs.String("data", "", "data directory for curve files and the log (default: the records database's directory)")
 	dbPath := fs.String("db", "", "records database (default: $UNDERCOOL_DB, else the user's data directory; with --data, DIR/undercool.db)")
 	limitsPath := fs.String("limits", "", "limits file (default: the built-in examples)")
+	plant := fs.String("plant", "", "the plant database's postgres:// `connection string` stored samples are forwarded to (default $UNDERCOOL_PLANT; none: they stay queued in the deck's file)")
 	cupf := addCupFlags(fs)
 	fs.Usage = func() {
 		fmt.Fprintln(env.stderr, "usage: undercool monitor --port PATH [--baud N] [--frame 8N1] [--tc K] [--cj C] [--data DIR] [--db PATH] [--limits FILE]")
@@ -75,7 +76,7 @@ func runMonitor(ctx context.Context, env *environ, args []string) error {
 	}
 	return runDashboard(ctx, env, dashboard{
 		dir: dir, db: db, limitsPath: *limitsPath, title: "monitor · " + *port,
-		open: acquire.SerialOpener(*port, mode), cfg: cfg,
+		open: acquire.SerialOpener(*port, mode), cfg: cfg, forward: true, plant: *plant,
 	})
 }
 
@@ -92,6 +93,10 @@ type dashboard struct {
 	// feed, when set, runs beside the acquirer (the simulated deck) until
 	// the session ends.
 	feed func(ctx context.Context) error
+	// forward: stored samples are forwarded to the plant database, plant
+	// or else $UNDERCOOL_PLANT, when one is set (a real deck, not the demo)
+	forward bool
+	plant   string
 }
 
 // isTerminal reports whether both ends are a terminal.
@@ -134,12 +139,26 @@ func runDashboard(ctx context.Context, env *environ, d dashboard) error {
 	acq := acquire.New(d.open, d.cfg)
 	logger := log.New(logf, "", log.LstdFlags)
 	records := newRecordWriter(ctx, db, func(err error) { logger.Print(err) })
+	if d.forward {
+		fw, stopFw := deckForwarding(ctx, env, db, d.plant)
+		defer stopFw() // before the database closes
+		if fw != nil {
+			records.stored = fw.Kick
+			lctx, stopLog := context.WithCancel(context.WithoutCancel(ctx))
+			defer stopLog()
+			go logLink(lctx, fw, logger)
+		}
+	}
 	sess := session.New(acq, sample.New(sample.Config{Limits: book}), session.Options{Finished: records.Finished})
 	acqCtx, stopAcq := context.WithCancel(context.WithoutCancel(ctx))
 	defer stopAcq()
 	var wg sync.WaitGroup
 	var acqErr error
-	wg.Go(func() { acqErr = acq.Run(acqCtx) })
+	wg.Go(func() {
+		if acqErr = acq.Run(acqCtx); acqErr != nil {
+			logger.Printf("acquisition stopped: %v", acqErr)
+		}
+	})
 	wg.Go(sess.Run)
 	if d.feed != nil {
 		wg.Go(func() {

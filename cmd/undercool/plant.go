@@ -6,6 +6,7 @@ import (
 	"flag"
 	"fmt"
 	"sync"
+	"time"
 
 	"github.com/undercool-foundry/undercool/internal/store"
 )
@@ -149,6 +150,65 @@ func startForwarding(ctx context.Context, local *store.DB, plant string) (fw *st
 		fw.Run(ctx)
 	}()
 	return fw, func() { cancel(); wg.Wait() }
+}
+
+// deckForwarding starts forwarding db's queue to the plant database in
+// the background when one is set (plantFlag, else $UNDERCOOL_PLANT) and db
+// is a deck's own file, as record and the dashboard do; fw is nil when
+// there is nothing to forward to. The forwarding runs on after ctx is
+// interrupted, until stop: what a deck stores is sent up if it can be.
+func deckForwarding(ctx context.Context, env *environ, db *store.DB, plantFlag string) (fw *store.Forwarder, stop func()) {
+	plant := plantFlag
+	if plant == "" {
+		plant = env.getenv("UNDERCOOL_PLANT")
+	}
+	if plant == "" || store.IsServer(db.Path()) {
+		return nil, func() {}
+	}
+	return startForwarding(context.WithoutCancel(ctx), db, plant)
+}
+
+// forwardStored waits, up to limit, until the forwarder has sent the
+// results stored (the count since it started) or finds the link down; it
+// returns the link's status in words. A link already known to be down is
+// not waited for: the results stay queued and go up later.
+func forwardStored(fw *store.Forwarder, stored int, limit time.Duration) string {
+	fw.Kick()
+	if st := fw.Status(); !st.Up && !st.Since.IsZero() {
+		return st.String()
+	}
+	deadline := time.NewTimer(limit)
+	defer deadline.Stop()
+	for {
+		ch := fw.Changed()
+		st := fw.Status()
+		if st.Up && st.Queued == 0 && st.Sent >= stored || !st.Up && !st.Since.IsZero() {
+			return st.String()
+		}
+		select {
+		case <-ch:
+		case <-deadline.C:
+			return fw.Status().String()
+		}
+	}
+}
+
+// logLink writes each change of the link's state to the log (the
+// dashboard's), until ctx ends.
+func logLink(ctx context.Context, fw *store.Forwarder, logger interface{ Print(...any) }) {
+	last := ""
+	for {
+		ch := fw.Changed()
+		if s := fw.Status().String(); s != last {
+			logger.Print(s)
+			last = s
+		}
+		select {
+		case <-ctx.Done():
+			return
+		case <-ch:
+		}
+	}
 }
 
 // watchForwarding is sync --watch: forwarding in the background, each

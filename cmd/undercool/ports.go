@@ -10,6 +10,7 @@ import (
 	"strings"
 
 	"github.com/undercool-foundry/undercool/acquire"
+	"github.com/undercool-foundry/undercool/internal/escape"
 )
 
 func init() {
@@ -87,13 +88,13 @@ type portJSON struct {
 
 // describePort is one line: the name, then what the system knows of it.
 func describePort(p acquire.PortInfo) string {
-	parts := []string{p.Name}
+	parts := []string{escape.Line(p.Name)}
 	if !p.USB {
-		return p.Name
+		return parts[0]
 	}
 	parts = append(parts, "USB")
 	add := func(label, v string) {
-		if v = strings.TrimSpace(v); v != "" {
+		if v = escape.Line(strings.TrimSpace(v)); v != "" {
 			parts = append(parts, label+v)
 		}
 	}

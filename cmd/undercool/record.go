@@ -8,9 +8,11 @@ import (
 	"time"
 
 	"github.com/undercool-foundry/undercool/acquire"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/session"
+	"github.com/undercool-foundry/undercool/internal/store"
 )
 
 func init() {
@@ -47,6 +49,7 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 	operator := fs.String("operator", "", "who took the sample")
 	dbPath := fs.String("db", "", "records database the finished sample is stored in (default $UNDERCOOL_DB or the user's data directory)")
 	noStore := fs.Bool("no-store", false, "do not store the finished sample in the records database")
+	plant := fs.String("plant", "", "the plant database's postgres:// `connection string` the stored sample is forwarded to (default $UNDERCOOL_PLANT; none: it stays queued in the deck's file)")
 	limitsPath := fs.String("limits", "", "limits file the finished sample is judged by (default: the built-in examples)")
 	fs.Usage = func() {
 		fmt.Fprintln(env.stderr, "usage: undercool record --port PATH [--baud N] [--frame 8N1] [--tc TYPE] [--cj C] [--out FILE] [--channel ID] [--max-s N]")
@@ -93,6 +96,7 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 		return err
 	}
 	var records *recordWriter
+	var fw *store.Forwarder
 	if !*noStore {
 		// Opened before the pour, so a database that cannot be written is
 		// an error now, not after the cup.
@@ -102,8 +106,14 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 		}
 		defer db.Close()
 		records = newRecordWriter(ctx, db, nil)
+		var stopFw func()
+		fw, stopFw = deckForwarding(ctx, env, db, *plant)
+		defer stopFw() // before the database closes
+		if fw != nil {
+			records.stored = fw.Kick
+		}
 	}
-	rec := &recording{env: env, port: *port, channel: *channel, waitS: *waitS, records: records}
+	rec := &recording{env: env, port: *port, mode: mode, channel: *channel, waitS: *waitS, records: records, fw: fw}
 	acq := acquire.New(recordOpener(*port, mode), cfg)
 	tr := sample.New(sample.Config{Limits: book, Meta: meta})
 	runErr := rec.run(ctx, acq, tr, *start)
@@ -113,6 +123,9 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 			fmt.Fprintf(env.stderr, "undercool record: %v\n", e)
 		}
 		fmt.Fprintln(env.stderr, "undercool record: "+records.summary())
+		if fw != nil {
+			fmt.Fprintln(env.stderr, "undercool record: "+forwardStored(fw, records.newResults(), 10*time.Second))
+		}
 		if runErr == nil && err != nil {
 			return exitError{1}
 		}
@@ -126,9 +139,11 @@ func runRecord(ctx context.Context, env *environ, args []string) error {
 type recording struct {
 	env     *environ
 	port    string
+	mode    acquire.PortMode
 	channel string // the sample's channel ("" until one starts)
 	waitS   float64
 	records *recordWriter
+	fw      *store.Forwarder // nil: no plant database
 
 	started  bool
 	readings int     // of the sample's channel since it started
@@ -213,7 +228,7 @@ func (r *recording) finished(f sample.Finished) {
 func (r *recording) verdict(f sample.Finished) {
 	fmt.Fprintf(r.env.stderr, "undercool record: %s: verdict %s", filepath.Base(f.Path), f.Record.Verdict)
 	for _, why := range f.Record.Reasons {
-		fmt.Fprintf(r.env.stderr, "; %s", why)
+		fmt.Fprintf(r.env.stderr, "; %s", escape.Line(why))
 	}
 	fmt.Fprintln(r.env.stderr, " (advice only: follow the shop's written procedures)")
 }
@@ -225,7 +240,7 @@ func (r *recording) update(u sample.Update) {
 			r.started, r.channel = true, e.Channel
 		}
 		if e.Text != "" {
-			fmt.Fprintf(r.env.stderr, "undercool record: %s\n", e.Text)
+			fmt.Fprintf(r.env.stderr, "undercool record: %s\n", escape.Line(e.Text))
 		}
 	}
 	for _, f := range u.Finished {
@@ -262,18 +277,29 @@ func (r *recording) progress() {
 	if !s.Channels[r.channel].Recording {
 		state = "done"
 	}
-	fmt.Fprintf(r.env.stderr, "undercool record: %s, %s: channel %s %s; %d readings, %.1f °C, %d faults\n",
-		r.port, conn, r.channel, state, r.readings, r.lastC, s.Faults)
+	plant := ""
+	if r.fw != nil {
+		plant = "; " + r.fw.Status().String()
+	}
+	fmt.Fprintf(r.env.stderr, "undercool record: %s, %s: channel %s %s; %d readings, %.1f °C, %d faults%s\n",
+		r.port, conn, r.channel, state, r.readings, r.lastC, s.Faults, plant)
 }
 
-// noSample explains why no sample started in --wait-s.
+// noSample explains why no sample started in --wait-s. When most lines
+// were garbage the hint is the line settings, even if a few garbage lines
+// happened to read as numbers: text read at the wrong baud rate is mostly
+// garbage, with now and then a line of digits.
 func (r *recording) noSample() error {
 	s := r.status
+	settings := fmt.Sprintf("%d baud, %s", r.mode.Baud, r.mode.Frame())
 	switch {
 	case s.Lines == 0 && s.Partial == 0 && s.Overlong == 0:
-		return fmt.Errorf("no data from %s in %g s: is the amplifier on, connected and sending? (check the cable, --baud and --frame)", r.port, r.waitS)
+		return fmt.Errorf("no data from %s in %g s: is the amplifier on, connected and sending? (check the cable, --baud and --frame; read at %s)", r.port, r.waitS, settings)
 	case s.Readings == 0:
-		return fmt.Errorf("only garbage from %s in %g s (%d lines, last %s): check --baud and --frame", r.port, r.waitS, s.Garbage, s.LastGarbage)
+		return fmt.Errorf("only garbage from %s at %s in %g s (%d lines, last %s): check --baud and --frame", r.port, settings, r.waitS, s.Garbage, s.LastGarbage)
+	case s.Garbage > s.Readings:
+		return fmt.Errorf("mostly garbage from %s at %s in %g s (%d garbage lines, %d readings, last %s): check --baud and --frame",
+			r.port, settings, r.waitS, s.Garbage, s.Readings, s.LastGarbage)
 	}
 	return fmt.Errorf("no pour seen on %s in %g s (%d readings); --start records without waiting for the pour", r.port, r.waitS, s.Readings)
 }

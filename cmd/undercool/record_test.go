@@ -62,19 +62,25 @@ func acqCup(i int) (ms int, temp float64) {
 }
 
 // acqSend writes the cup from line from on at 100 Hz until stop closes,
-// returning how many lines went out in all.
+// returning how many lines went out in all. Line i goes out 10·i ms after
+// the first, by the clock: when the sender was held up (a loaded machine),
+// the lines due are written at once, so that the device's time keeps up
+// with the host's as a real amplifier's does. (A ticker drops ticks under
+// load: the device time then fell behind, and record's host-clock bound on
+// the time limit ended TestRecordPTY's sample short now and then.)
 func acqSend(m *os.File, from int, stop <-chan struct{}) int {
-	tick := time.NewTicker(10 * time.Millisecond)
-	defer tick.Stop()
+	start := time.Now()
 	for i := from; ; i++ {
 		ms, c := acqCup(i)
 		if _, err := fmt.Fprintf(m, "ms=%d c=%s\n", ms, strconv.FormatFloat(c, 'f', -1, 64)); err != nil {
 			return i
 		}
+		t := time.NewTimer(time.Until(start.Add(time.Duration(i+1-from) * 10 * time.Millisecond)))
 		select {
 		case <-stop:
+			t.Stop()
 			return i + 1
-		case <-tick.C:
+		case <-t.C:
 		}
 	}
 }
@@ -172,6 +178,30 @@ func TestRecordWrongBaud(t *testing.T) {
 	}()
 	code, _, stderr := acqRun(t, context.Background(), "record", "--port", name, "--dir", t.TempDir(), "--wait-s", "0.6")
 	if code != 1 || !strings.Contains(stderr, "only garbage from "+name) || !strings.Contains(stderr, "--baud") {
+		t.Fatalf("exit %d, stderr:\n%s", code, stderr)
+	}
+}
+
+// TestRecordWrongBaudWithNoise: at the wrong baud rate a few garbage
+// lines happen to read as numbers. Most lines are garbage, so the hint is
+// still the line settings, naming the port and the baud rate. Before the
+// fix the message became "no pour seen (5 readings)".
+func TestRecordWrongBaudWithNoise(t *testing.T) {
+	m, name := acqPTY(t)
+	var b strings.Builder
+	for i := range 100 {
+		if i%20 == 7 {
+			b.WriteString("7\r\n") // debris that reads as a plain-number reading
+		} else {
+			b.WriteString("\xf8\x80\xfe\x1e\x98\xe6\xe0\x80\r\n")
+		}
+	}
+	if _, err := m.Write([]byte(b.String())); err != nil {
+		t.Fatal(err)
+	}
+	code, _, stderr := acqRun(t, context.Background(), "record", "--port", name, "--baud", "9600", "--dir", t.TempDir(), "--wait-s", "0.6")
+	if code != 1 || !strings.Contains(stderr, "mostly garbage from "+name+" at 9600 baud, 8N1") || !strings.Contains(stderr, "95 garbage lines, 5 readings") ||
+		!strings.Contains(stderr, "check --baud") {
 		t.Fatalf("exit %d, stderr:\n%s", code, stderr)
 	}
 }
@@ -274,5 +304,43 @@ func TestRecordKill9(t *testing.T) {
 	}
 	if len(hist) != 1 || hist[0].Sample.CurvePath != out || !hist[0].Sample.Interrupted {
 		t.Fatalf("stored samples %+v, want the recovered %s marked interrupted", hist, out)
+	}
+}
+
+// TestRecordForwardsToPlant: with a plant database set, record forwards
+// the sample it stored, as the dashboard does, and says how the link is.
+// Before the fix only `sync` forwarded: a deck that ran only record kept
+// every sample queued. (The plant database here is a second SQLite file,
+// which the forwarder takes as it takes a PostgreSQL server; the server
+// half is tested in internal/store.)
+func TestRecordForwardsToPlant(t *testing.T) {
+	m, name := acqPTY(t)
+	dir := t.TempDir()
+	out := filepath.Join(dir, "cup.csv")
+	plant := filepath.Join(dir, "plant.db")
+	stop := make(chan struct{})
+	var wg sync.WaitGroup
+	wg.Go(func() { acqSend(m, 0, stop) })
+	code, stdout, stderr := acqRun(t, context.Background(), "record", "--port", name, "--out", out, "--max-s", "2",
+		"--sample", "L-2419 cup 1", "--alloy", "grey-iron", "--plant", plant)
+	close(stop)
+	wg.Wait()
+	if code != 0 || strings.TrimSpace(stdout) != out {
+		t.Fatalf("exit %d, stdout %q, stderr:\n%s", code, stdout, stderr)
+	}
+	if !strings.Contains(stderr, "plant: linked, nothing queued") {
+		t.Errorf("stderr does not say the link:\n%s", stderr)
+	}
+	db, err := store.Open(context.Background(), plant)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	hist, err := db.History(context.Background(), store.Filter{Full: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(hist) != 1 || hist[0].Sample.Sample != "L-2419 cup 1" {
+		t.Fatalf("plant database holds %+v, want the sample recorded", hist)
 	}
 }

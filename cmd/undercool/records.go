@@ -42,6 +42,9 @@ type recordWriter struct {
 	errs    []error // every sample not stored
 	unread  []error // failures not yet said by List
 	onError func(error)
+	// stored, when set (before the first Add), hears of each sample
+	// stored, on the writer's goroutine: the plant forwarder's Kick.
+	stored func()
 }
 
 // writeJob is one curve file to store with its record, or (flushed) a
@@ -94,6 +97,11 @@ func (w *recordWriter) put(path string, rec assess.Record) {
 		if path == "" {
 			return errors.New("the sample has no curve file")
 		}
+		if strings.HasSuffix(path, ".partial.csv") {
+			// its file could not be completed: stored once it is
+			// recovered, at the next start, under its own name
+			return fmt.Errorf("%s: the curve file could not be completed; it is recovered and stored at the next start", path)
+		}
 		c, err := w.read(path) // for the metadata; the analysis is rec
 		if err != nil {
 			return err
@@ -109,6 +117,9 @@ func (w *recordWriter) put(path string, rec assess.Record) {
 		w.mu.Lock()
 		w.counts[outcome]++
 		w.mu.Unlock()
+		if w.stored != nil {
+			w.stored()
+		}
 		return nil
 	}()
 	if err == nil {
@@ -192,6 +203,14 @@ func (w *recordWriter) Errors() []error {
 	w.mu.Lock()
 	defer w.mu.Unlock()
 	return append([]error(nil), w.errs...)
+}
+
+// newResults is how many results were stored (new samples and new
+// results of samples already there).
+func (w *recordWriter) newResults() int {
+	w.mu.Lock()
+	defer w.mu.Unlock()
+	return w.counts[store.PutNewSample] + w.counts[store.PutNewResult]
 }
 
 // summary says what was stored, for analyze --store and record.

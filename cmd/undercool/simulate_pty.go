@@ -6,6 +6,7 @@ import (
 	"context"
 	"fmt"
 	"os"
+	"time"
 
 	"github.com/charmbracelet/x/term"
 	"github.com/creack/pty"
@@ -69,7 +70,16 @@ func (w *dropWriter) Write(p []byte) (int, error) {
 	return len(p), nil
 }
 
+// Close ends the writer. It waits for the bytes handed over for at most a
+// second: a write to a pseudo-terminal that nobody reads blocks until
+// someone does, and closing the file does not wake it (before this bound,
+// simulate --serve with nobody reading was deaf to Ctrl-C and SIGTERM).
 func (w *dropWriter) Close() {
 	close(w.ch)
-	<-w.done
+	t := time.NewTimer(time.Second)
+	defer t.Stop()
+	select {
+	case <-w.done:
+	case <-t.C:
+	}
 }

@@ -1061,8 +1061,8 @@ func (a *Analyzer) showMin(j int) {
 func (a *Analyzer) shortArrest() float64 { return 3 * a.h.SlopeS }
 
 // arrestSpan is where the current arrest began for its length: where T'
-// rose halfway from its minimum into it (from the minimum to zero for a
-// recalescence, to min(T'max, 0) otherwise). ok is false when the arrest
+// rose halfway into it (for a recalescence from T'min to zero, else from
+// the cooling before it to min(T'max, 0)). ok is false when the arrest
 // can never be long: its T' stayed clearly negative, below
 // −max(p, negShare·|T'min|) (a liquidus arrest whose T' stays clearly
 // negative is short however slowly it passes).
@@ -1075,7 +1075,13 @@ func (a *Analyzer) arrestSpan(recal bool, p float64) (from int, ok bool) {
 	if peak < -max(p, negShare*math.Abs(e.dmin)) {
 		return 0, false
 	}
-	return a.riseStart((e.dmin+min(peak, 0))/2, e.dmaxI), true
+	// halfway from the cooling it rose out of: T'min since the search began
+	// may lie just after the pour, far steeper than the liquid's cooling
+	// just before the arrest, so the lowest T' over the shortArrest before
+	// that first rise is taken instead
+	top := min(peak, 0)
+	k := a.riseStart((e.dmin+top)/2, e.dmaxI)
+	return a.riseStart((a.slopeBefore(k)+top)/2, e.dmaxI), true
 }
 
 // longArrest tells whether the arrest is long at index j: it can be
@@ -1088,8 +1094,9 @@ func (a *Analyzer) longArrest(j int, recal bool, p float64) bool {
 // settle takes an arrest that has just settled at index j (lo, hi: its
 // minimum and maximum points) to arrest, unless its kind hangs on its
 // length and it is still short but may yet be long: then it is held
-// (holding) until T' falls by max(p, holdShare·|T'min|) below its top, or
-// zero after a recalescence, or back to where it began (short), or it has
+// (holding) until T' falls by max(p, holdShare·(top − T'before)) below its
+// top (zero after a recalescence; T'before the lowest T' over the
+// shortArrest before the top), or back to where it began (short), or it has
 // stayed above that for shortArrest more (long): a eutectic's latent heat
 // holds T' near zero long after its top, a primary arrest's T' falls away. A small recalescence, or a near-zero
 // arrest, settles within seconds; whether it is a primary arrest or the
@@ -1103,8 +1110,19 @@ func (a *Analyzer) settle(j int, lo, hi Point, recal bool, p float64) {
 	}
 	// short once T' falls clearly below the arrest's top (or zero, after a
 	// recalescence), or back to where the rise into it began
-	level := max(a.d[from], min(a.d[e.dmaxI], 0)-max(p, holdShare*math.Abs(e.dmin)))
+	top := min(a.d[e.dmaxI], 0)
+	level := max(a.d[from], top-max(p, holdShare*(top-a.slopeBefore(e.dmaxI))))
 	e.hold = heldArrest{on: true, lo: lo, hi: hi, recal: recal, from: j, level: level}
+}
+
+// slopeBefore is the lowest T' over the shortArrest before index i (not
+// before the arrest search's start): the cooling the arrest rose out of.
+func (a *Analyzer) slopeBefore(i int) float64 {
+	m := a.d[i]
+	for k := i; k > a.det.start && a.ts[i]-a.ts[k] <= a.shortArrest(); k-- {
+		m = min(m, a.d[k])
+	}
+	return m
 }
 
 // holding advances a held arrest (settle) at index j, T' = d.

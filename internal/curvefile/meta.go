@@ -2,6 +2,7 @@ package curvefile
 
 import (
 	"fmt"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"strings"
 	"unicode/utf8"
 )
@@ -77,18 +78,9 @@ func plain(s string) bool {
 }
 
 // isControl reports the characters above ASCII that CleanValue escapes:
-// C1 controls, bidirectional-text controls, line and paragraph separators.
-func isControl(r rune) bool {
-	switch {
-	case r >= 0x80 && r <= 0x9f,
-		r == 0x061c, r == 0x200e, r == 0x200f,
-		r >= 0x202a && r <= 0x202e,
-		r >= 0x2066 && r <= 0x2069,
-		r == 0x2028, r == 0x2029:
-		return true
-	}
-	return false
-}
+// C1 controls, bidirectional-text controls, line and paragraph separators
+// (escape.Unsafe).
+func isControl(r rune) bool { return r >= 0x80 && escape.Unsafe(r) }
 
 // metaKey is a metadata key as Read gives it back (trimmed, lower case),
 // or an error where Read would not take it as a key.

@@ -165,11 +165,17 @@ type Status struct {
 	Reconnects   int     // successful reconnections after a loss
 	Channels     map[string]ChannelStatus
 
-	Partial       int     // lines cut off by a disconnection, dropped
-	Overlong      int     // lines longer than the protocol allows, dropped (also in Garbage)
-	Blank         int     // empty lines, ignored
-	LF, CRLF, CR  int     // lines by terminator
-	SilentS       float64 // s since the last line arrived (0 before the first)
+	Partial      int     // lines cut off by a disconnection, dropped
+	Overlong     int     // lines longer than the protocol allows, dropped (also in Garbage)
+	Blank        int     // empty lines, ignored
+	LF, CRLF, CR int     // lines by terminator
+	SilentS      float64 // s since the last line arrived (0 before the first)
+	// HostS is when the batch was sent, s since the source started by
+	// the computer's monotonic clock; 0 for a source without one (a
+	// replay). The tracker ends a sample's margin after freezing by it
+	// too, so that a device whose clock stalls or that falls silent
+	// cannot hold a sample open.
+	HostS         float64
 	Readings      int     // readings accepted
 	SamplesDone   int     // samples completed
 	LastGarbage   string  // the last garbage line and why, for the operator

@@ -268,7 +268,7 @@ func newProblem(s Sample, law Law, needRec bool) (*problem, error) {
 			th[parTE] = pts.EutecticMax.TempC + 1
 		}
 	default:
-		th[parTE] = sim.StableEutecticC(def.Si, def.P)
+		th[parTE], _ = sim.IronEutecticsC(s.Alloy, def.Si, def.P)
 		if pts.EutecticMax.OK {
 			th[parTE] = pts.EutecticMax.TempC + 4
 		}

@@ -120,13 +120,13 @@ func TestAdviseSaysWhyNot(t *testing.T) {
 // than the shop allows, which the model then expects to pass with a margin,
 // and a wait no longer than the fade allows.
 func TestAdviseSearch(t *testing.T) {
-	good := preset(t, sim.GreyIron, 0.8, 2)
+	good := preset(t, sim.GreyIron, 0.9, 2)
 	in, res, _ := cup(t, good, "grey-iron")
 	ps := Advise(context.Background(), in, res, Options{DelayMin: -1})
 	if p := ps[0]; !p.Applies || p.AdditionPct == nil || *p.AdditionPct != 0 || p.Verdict != "pass" || !strings.Contains(p.Text, "no fesi75-ca-ba needed") {
 		t.Errorf("well inoculated cup: %s (%+v)", p.Text, p)
 	}
-	poor := preset(t, sim.GreyIron, 0.1, 2)
+	poor := preset(t, sim.GreyIron, 0.7, 2)
 	poor.HoldMin = 20
 	in, res, _ = cup(t, poor, "grey-iron")
 	p := Advise(context.Background(), in, res, Options{DelayMin: -1})[0]

@@ -2,42 +2,23 @@ package limits
 
 import (
 	"fmt"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"reflect"
 	"slices"
 	"strings"
 	"unicode"
 )
 
-// unsafeRune reports whether r may not appear in limits text: C0 controls,
-// DEL, C1 controls and the Unicode bidirectional controls (U+061C, U+200E,
-// U+200F, U+202A–U+202E, U+2066–U+2069). Printed raw, such characters move
-// the cursor, retitle the terminal or reorder what the operator reads;
-// limits text reaches the dashboard, reports and logs.
-func unsafeRune(r rune) bool {
-	switch {
-	case r < 0x20, r == 0x7f, r >= 0x80 && r <= 0x9f:
-		return true
-	case r == 0x061c, r == 0x200e, r == 0x200f, r >= 0x202a && r <= 0x202e, r >= 0x2066 && r <= 0x2069:
-		return true
-	}
-	return false
-}
+// unsafeRune reports whether r may not appear in limits text: the
+// characters package escape shows as escapes (C0 controls, DEL, C1
+// controls, the Unicode bidirectional controls, the line and paragraph
+// separators). Printed raw, such characters move the cursor, retitle the
+// terminal or reorder what the operator reads; limits text reaches the
+// dashboard, reports and logs.
+func unsafeRune(r rune) bool { return escape.Unsafe(r) }
 
-// visible writes every unsafe character of s as a \uXXXX escape.
-func visible(s string) string {
-	if !strings.ContainsFunc(s, unsafeRune) {
-		return s
-	}
-	var b strings.Builder
-	for _, r := range s {
-		if unsafeRune(r) {
-			fmt.Fprintf(&b, `\u%04X`, r)
-		} else {
-			b.WriteRune(r)
-		}
-	}
-	return b.String()
-}
+// visible writes every unsafe character of s as a visible escape.
+func visible(s string) string { return escape.Text(s) }
 
 // runeName names a character for an error: "U+001B (control)".
 func runeName(r rune) string {

@@ -14,6 +14,8 @@ import (
 	"strconv"
 	"strings"
 	"sync/atomic"
+
+	"github.com/undercool-foundry/undercool/internal/escape"
 )
 
 // MaxLineLen is the longest line the framer passes on, terminator excluded.
@@ -244,7 +246,7 @@ func parseReading(b []byte, l Line) (Line, error) {
 		}
 		key, val := tok[:eq], tok[eq+1:]
 		if len(val) == 0 {
-			return l, fmt.Errorf("key %s: %w", key, errEmptyValue)
+			return l, fmt.Errorf("key %q: %w", key, errEmptyValue)
 		}
 		var bit uint8
 		var err error
@@ -335,10 +337,8 @@ func parseInfo(b []byte, l Line) (Line, error) {
 				return l, fmt.Errorf("device info: key %s: stray quote in %q", key, val)
 			}
 		}
-		for _, c := range val {
-			if c < ' ' || c == 0x7f {
-				return l, fmt.Errorf("device info: key %s: control character in value", key)
-			}
+		if !escape.Safe(string(val)) {
+			return l, fmt.Errorf("device info: key %s: value %q holds a control character or is not UTF-8 text", key, val)
 		}
 		l.Info = append(l.Info, KV{Key: string(key), Value: string(val)})
 		b = trimSpace(b)

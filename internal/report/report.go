@@ -34,6 +34,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/forecast"
 	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/solidpath"
@@ -103,10 +104,19 @@ func Write(path string, c *curvefile.Curve, rec assess.Record, info Info) error 
 		svg := vgsvg.New(PageWidth, PageHeight)
 		vc, canvas = svg, svg
 	}
-	if err := drawPage(draw.New(canvas.(vg.CanvasSizer)), c, rec, info); err != nil {
+	if err := drawPage(draw.New(textCanvas{canvas.(vg.CanvasSizer)}), c, rec, info); err != nil {
 		return fmt.Errorf("report %s: %w", path, err)
 	}
 	return writeAtomic(path, vc.WriteTo)
+}
+
+// textCanvas writes every text with visible escapes for control
+// characters (package escape): the page shows text from curve files and
+// the records, and XML 1.0 allows no C0 control in an SVG file.
+type textCanvas struct{ vg.CanvasSizer }
+
+func (c textCanvas) FillString(f font.Face, pt vg.Point, s string) {
+	c.CanvasSizer.FillString(f, pt, escape.Line(s))
 }
 
 func writeAtomic(path string, write func(io.Writer) (int64, error)) error {
@@ -375,9 +385,9 @@ func curvePlots(c *curvefile.Curve, rec assess.Record, detect arrest.Options) (*
 	tp.Y.Min, tp.Y.Max = tempRange(c, rec)
 
 	dp := plot.New()
-	dp.Title.Text = "Cooling rate dT/dt"
+	dp.Title.Text = "Cooling rate dT/dt (as analysed, despiked)"
 	dp.X.Label.Text = "time, s"
-	dp.Y.Label.Text = "dT/dt, °C/s (as analysed, despiked)"
+	dp.Y.Label.Text = "dT/dt, °C/s"
 	dp.Add(plotter.NewGrid())
 	if detect == (arrest.Options{}) {
 		detect.Family = arrest.Family(rec.Family)
@@ -605,7 +615,7 @@ func drawResults(dc draw.Canvas, left, right, y vg.Length, rec assess.Record, in
 	}
 	y -= vg.Length(half)*line + 3*vg.Millimeter
 
-	// reasons, advice, problems, warnings, notes: as many lines as fit
+	// problems, reasons, the estimate, advice, warnings, notes: as many lines as fit
 	bottom := dc.Min.Y + margin + 8*vg.Millimeter
 	label := style(9, true)
 	var estimates []string
@@ -619,8 +629,10 @@ func drawResults(dc draw.Canvas, left, right, y vg.Length, rec assess.Record, in
 		name  string
 		lines []string
 	}{
-		{"Problems", rec.Problems}, {"Reasons", rec.Reasons}, {"Advice", rec.Advice},
-		{"Estimate", estimates}, {"Warnings", rec.Warnings}, {"Notes", info.Notes},
+		// the model's estimate for this ladle before the general advice:
+		// it is what the page was asked for (--advise)
+		{"Problems", rec.Problems}, {"Reasons", rec.Reasons}, {"Estimate", estimates},
+		{"Advice", rec.Advice}, {"Warnings", rec.Warnings}, {"Notes", info.Notes},
 	} {
 		for i, l := range sec.lines {
 			// The line, wrapped, must end above the bottom with room for

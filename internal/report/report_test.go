@@ -21,7 +21,7 @@ import (
 // internal/sim, assessed with the shipped example limits.
 func simulatedCup(t *testing.T) (*curvefile.Curve, assess.Record) {
 	t.Helper()
-	p, err := sim.Preset("grey-iron", 0.3, 2417)
+	p, err := sim.Preset("grey-iron", 0.9, 2417)
 	if err != nil {
 		t.Fatal(err)
 	}

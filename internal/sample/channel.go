@@ -22,22 +22,23 @@ type channel struct {
 	meta  Meta // the sample shown
 	next  Meta // the next sample's
 
-	in       assess.Input   // the sample as assess sees it: alloy, limits, the file's metadata
-	opt      arrest.Options // the detector options, assess.Options(in)
-	byCurve  bool           // no alloy named: the options follow the curve's highest reading
-	peak     float64        // the highest reading the options were made for
-	an       Analyzer
-	fileMeta []curvefile.Meta // the file's metadata as it started
-	path     string
-	startS   float64   // acquisition time of the file's first reading
-	t, v     []float64 // the curve: a new array for every sample, only appended to
-	st, sd   []float64 // T′ copied from the analyser, likewise
-	result   arrest.Result
-	rec      *assess.Record
-	grew     bool
-	faultsIn int     // fault readings in the sample's file
-	frozenAt float64 // sample time when freezing was seen to end
-	stopped  bool    // the stop was asked
+	in         assess.Input   // the sample as assess sees it: alloy, limits, the file's metadata
+	opt        arrest.Options // the detector options, assess.Options(in)
+	byCurve    bool           // no alloy named: the options follow the curve's highest reading
+	peak       float64        // the highest reading the options were made for
+	an         Analyzer
+	fileMeta   []curvefile.Meta // the file's metadata as it started
+	path       string
+	startS     float64   // acquisition time of the file's first reading
+	t, v       []float64 // the curve: a new array for every sample, only appended to
+	st, sd     []float64 // T′ copied from the analyser, likewise
+	result     arrest.Result
+	rec        *assess.Record
+	grew       bool
+	faultsIn   int     // fault readings in the sample's file
+	frozenAt   float64 // sample time when freezing was seen to end
+	frozenHost float64 // the source's host clock then (feed.Status.HostS; 0: none)
+	stopped    bool    // the stop was asked
 	// a cup with two thermocouples: the wall thermocouple's channel ("" for
 	// one), its readings in the sample (s of the file, °C; NaN for a
 	// fault reading) and, once finished, its curve on the sample's times
@@ -136,11 +137,29 @@ func (c *channel) watch(t *Tracker) {
 		if !c.result.Complete {
 			return
 		}
-		c.state, c.frozenAt = Frozen, end
+		c.state, c.frozenAt, c.frozenHost = Frozen, end, t.status.HostS
 		t.event(Event{Kind: EventFrozen, Channel: c.id, Sample: c.n, TimeS: c.startS + end,
 			Text: fmt.Sprintf("channel %s: freezing has ended at %.1f s; recording %g s more", c.id, end, t.cfg.FreezeMarginS)})
 	}
-	if !c.stopped && end-c.frozenAt >= t.cfg.FreezeMarginS {
+	if end-c.frozenAt >= t.cfg.FreezeMarginS {
+		c.stop(t)
+	}
+}
+
+// overdue stops a frozen sample whose margin has passed by the source's
+// host clock (feed.Status.HostS), readings or not: a device that falls
+// silent, or whose clock stalls, after freezing cannot hold the sample
+// open until its time limit.
+func (c *channel) overdue(t *Tracker) {
+	if c.state == Frozen && c.frozenHost > 0 && t.status.HostS-c.frozenHost >= t.cfg.FreezeMarginS {
+		c.stop(t)
+	}
+}
+
+// stop asks the source, once, to end the sample: freezing is done and the
+// margin after it recorded.
+func (c *channel) stop(t *Tracker) {
+	if !c.stopped {
 		c.stopped = true
 		t.command(Command{Kind: CommandStop, Channel: c.id, Sample: c.n, Reason: "freezing done"})
 	}

@@ -70,7 +70,9 @@ type Config struct {
 	// says otherwise (e.g. `record --alloy --sample --operator`).
 	Meta Meta
 	// FreezeMarginS is how long the source goes on recording after freezing
-	// has ended, s of sample time; 0 takes 15 s.
+	// has ended, s; 0 takes 15 s. The sample is stopped once that much
+	// sample time has been recorded, or that much time has passed by the
+	// source's host clock (feed.Status.HostS), whichever comes first.
 	FreezeMarginS float64
 	// NewAnalyzer makes a channel's analyser; nil makes an arrest.Analyzer.
 	NewAnalyzer func() Analyzer
@@ -267,6 +269,7 @@ func (t *Tracker) Apply(b feed.Batch) Update {
 	}
 	for _, id := range t.order {
 		t.chans[id].settle()
+		t.chans[id].overdue(t)
 	}
 	return t.flush()
 }

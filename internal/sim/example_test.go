@@ -20,6 +20,6 @@ func ExampleSimulate() {
 			inoc, tr.EutecticMin.TempC, tr.Recalescence, tr.Liquidus.OK)
 	}
 	// Output:
-	// inoculation 0.1: eutectic min 1150 °C, recalescence 7 °C, liquidus found true
-	// inoculation 0.9: eutectic min 1158 °C, recalescence 2 °C, liquidus found true
+	// inoculation 0.1: eutectic min 1138 °C, recalescence 6 °C, liquidus found true
+	// inoculation 0.9: eutectic min 1145 °C, recalescence 2 °C, liquidus found true
 }

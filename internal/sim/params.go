@@ -157,6 +157,28 @@ const (
 // unverified).
 func StableEutecticC(si, p float64) float64 { return 1153 + 5.25*si - 14.88*p }
 
+// Grey irons freeze their eutectics below the values the formulas above
+// give from chemistry: measured Tst runs 14.4 °C and Tmst 8.3 °C lower
+// (Riposan et al., Metals 10 (2020) 993, grey irons; recalled), the
+// offsets the shipped limits book applies (docs/metallurgy.md). The model's
+// grey iron freezes at that measured basis, so that its undercooling below
+// the Tst the analysis computes is the undercooling of its kinetics.
+const (
+	GreyStableOffsetC     = 14.4
+	GreyMetastableOffsetC = 8.3
+)
+
+// IronEutecticsC are the model's own graphite and cementite eutectic
+// temperatures of an iron alloy (°C; wt % Si and P): the formulas, less
+// the measured-basis offsets for grey iron.
+func IronEutecticsC(alloy string, si, p float64) (tst, tmst float64) {
+	tst, tmst = StableEutecticC(si, p), MetastableEutecticC(si)
+	if alloy == GreyIron {
+		tst, tmst = tst-GreyStableOffsetC, tmst-GreyMetastableOffsetC
+	}
+	return tst, tmst
+}
+
 // MetastableEutecticC is the cementite eutectic temperature,
 // Tmst ≈ 1148 − 15·Si (memory, unverified).
 func MetastableEutecticC(si float64) float64 { return 1148 - 15*si }

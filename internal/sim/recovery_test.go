@@ -90,8 +90,9 @@ func drawCase(r *rand.Rand, alloy string) Params {
 	switch alloy {
 	case GreyIron, DuctileIron, WhiteIron:
 		p.Si, p.P = uniform(r, 1.6, 2.8), uniform(r, 0.01, 0.08)
-		ceLine := (ironLiquidusIntercept - StableEutecticC(p.Si, p.P)) / ironLiquidusSlope // eutectic CEL
-		cel := ceLine - uniform(r, 10, 40)/ironLiquidusSlope                               // hypoeutectic, liquidus 10–40 °C above Tst
+		tst, _ := IronEutecticsC(alloy, p.Si, p.P)
+		ceLine := (ironLiquidusIntercept - tst) / ironLiquidusSlope // eutectic CEL
+		cel := ceLine - uniform(r, 10, 40)/ironLiquidusSlope        // hypoeutectic, liquidus 10–40 °C above Tst
 		if alloy != WhiteIron && r.Float64() < 0.3 {
 			cel = ceLine + uniform(r, 0.08, 0.3) // hypereutectic: no liquidus arrest
 		}

@@ -31,7 +31,8 @@ func simCase(alloy string, seed uint64) sim.Params {
 		// to the eutectic is a case for the point finder, not for these
 		// methods).
 		p.Si, p.P = u(1.6, 2.8), u(0.01, 0.08)
-		tl := sim.StableEutecticC(p.Si, p.P) + u(10, 40)
+		tst, _ := sim.IronEutecticsC(alloy, p.Si, p.P)
+		tl := tst + u(10, 40)
 		p.C = (1669-tl)/124 - p.Si/4 - p.P/2 // Heine's TL = 1669 − 124·CEL, as the simulator uses
 		p.PourC = u(1300, 1420)
 		p.HoldMin = u(0, 20)
