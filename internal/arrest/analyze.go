@@ -43,6 +43,10 @@ type Range struct {
 // Open reports whether the window sets no bounds.
 func (r Range) Open() bool { return r == Range{} }
 
+// Holds reports whether c, °C, lies in the window (always, when it is
+// open).
+func (r Range) Holds(c float64) bool { return r.Open() || c >= r.LoC && c <= r.HiC }
+
 // Hints are the family's expectations the detector uses. They steer, they
 // never make a point: every point still comes from the curve's own T'.
 type Hints struct {
@@ -62,17 +66,29 @@ type Hints struct {
 }
 
 // FamilyHints returns the hints for a family (the zero Family is iron).
-// Temperature windows (practice and field notes, memory): the iron graphite
-// eutectic sits near 1130–1160 °C and hypoeutectic liquidus arrests above it;
-// the white (cementite) eutectic near 1100–1148 °C; the Al-Si eutectic at
-// 577 °C binary (Murray & McAlister 1984), 560–577 °C in casting alloys, with
-// α-Al liquidus arrests near 600–640 °C; a pure metal freezes on one plateau.
+// Temperature windows (practice, memory): the iron graphite eutectic sits
+// near 1130–1160 °C and hypoeutectic liquidus arrests above it; the white
+// (cementite) eutectic near 1100–1148 °C; the Al-Si eutectic at 577 °C
+// binary (Murray and McAlister, Bull. Alloy Phase Diagrams 5 (1984) 74;
+// recalled), 560–577 °C in casting alloys, with α-Al liquidus arrests near
+// 600–640 °C; a pure metal freezes on one plateau.
+//
+// The eutectic windows (Hints.Eutectic) are what no eutectic of the
+// family can lie outside: Al-Si at or below the binary eutectic, 577 °C,
+// and above 545 °C, below a strongly modified melt's depressed eutectic
+// (Sr or Na lower it by up to about 10 K, and the undercooled minimum lies
+// a few kelvin lower again; measured modified A356-class cups freeze their
+// eutectic near 559–565 °C, docs/analysis.md); iron 1070–1180 °C and white
+// iron 1050–1160 °C, around the stable (graphite) and metastable
+// (cementite) eutectics of 1 to 3.5 % Si, until limits.Resolution
+// WithChemistry narrows them to the sample's own Tst and Tmst
+// (internal/metal).
 func FamilyHints(f Family) Hints {
 	switch f {
 	case FamilyWhite:
-		return Hints{MinPourC: 1000, EutecticTopC: 1160, SmoothS: 2, SlopeS: 4, ConfirmS: 8}
+		return Hints{MinPourC: 1000, EutecticTopC: 1160, SmoothS: 2, SlopeS: 4, ConfirmS: 8, Eutectic: Range{1050, 1160}}
 	case FamilyAluminum:
-		return Hints{MinPourC: 560, EutecticTopC: 590, SmoothS: 3, SlopeS: 6, ConfirmS: 10}
+		return Hints{MinPourC: 560, EutecticTopC: 590, SmoothS: 3, SlopeS: 6, ConfirmS: 10, Eutectic: Range{AlSiEutecticLowC, AlSiEutecticC}}
 	case FamilyPure:
 		return Hints{MinPourC: 150, EutecticTopC: math.Inf(1), SmoothS: 2, SlopeS: 4, ConfirmS: 8}
 	case FamilyEutectic:
@@ -80,9 +96,17 @@ func FamilyHints(f Family) Hints {
 		// is taken for the eutectic, as for a pure metal.
 		return Hints{MinPourC: 150, EutecticTopC: math.Inf(1), SmoothS: 2, SlopeS: 4, ConfirmS: 8}
 	default:
-		return Hints{MinPourC: 1000, EutecticTopC: 1170, SmoothS: 2, SlopeS: 4, ConfirmS: 8}
+		return Hints{MinPourC: 1000, EutecticTopC: 1170, SmoothS: 2, SlopeS: 4, ConfirmS: 8, Eutectic: Range{1070, 1180}}
 	}
 }
+
+// The Al-Si eutectic window: the binary eutectic (Murray and McAlister
+// 1984, recalled) and the lowest eutectic minimum of a strongly modified
+// casting alloy (see FamilyHints), °C.
+const (
+	AlSiEutecticC    = 577
+	AlSiEutecticLowC = 545
+)
 
 // hints are the options' own hints, or the family's.
 func (o Options) hints() Hints {
@@ -126,6 +150,9 @@ const (
 	CodeTimeOrder  = "time-order"
 	CodeNoisy      = "too-noisy"
 	CodeRate       = "odd-rate"
+	// CodeEutecticWindow: the arrest taken for the eutectic lies outside
+	// the alloy's eutectic window (Hints.Eutectic).
+	CodeEutecticWindow = "eutectic-window"
 )
 
 // Analyze finds the characteristic points of the curve temp(t), t in s and
@@ -1038,20 +1065,28 @@ func (a *Analyzer) kindKnown(loC float64) bool {
 
 // showMin reports the minimum of a recalescing arrest (index j in its
 // positive phase) as soon as its kind is settled: at once when the
-// temperature alone decides, else once T' has been up for shortArrest.
+// temperature alone decides, else once T' has been up for shortArrest. It
+// is shown provisional unless the temperature settles its kind for good
+// (with a eutectic window, a maximum still to come above the window would
+// make it a primary arrest), and confirmed or withdrawn when the arrest is
+// classified (arrest).
 func (a *Analyzer) showMin(j int) {
 	e := &a.det
 	lo := e.minPt.TempC
-	if !a.kindKnown(lo) && a.ts[j]-a.ts[e.riseI] < a.shortArrest() {
+	byTemp := a.kindKnown(lo)
+	known := byTemp && (a.h.Eutectic.Open() || lo > a.h.Eutectic.HiC)
+	if !byTemp && a.ts[j]-a.ts[e.riseI] < a.shortArrest() {
 		return
 	}
 	e.minShown = true
 	r := &e.res
+	pt := e.minPt
+	pt.Provisional = !known
 	switch {
 	case !a.primary(lo, true):
-		r.EutecticMin = e.minPt
+		r.EutecticMin = pt
 	case !r.Liquidus.OK:
-		r.LiquidusMin = e.minPt
+		r.LiquidusMin = pt
 	}
 }
 
@@ -1149,17 +1184,27 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 		e.haveFirst = true
 		r.CoolingRateCps = a.coolingRate(e)
 	}
-	if a.primary(lo.TempC, long) {
-		if !r.Liquidus.OK {
+	w := a.h.Eutectic
+	if !w.Open() && hi.TempC > w.HiC || a.primary(lo.TempC, long) {
+		// an arrest reaching above the eutectic window is a primary one,
+		// and only inside the liquidus window (where one is set) the
+		// liquidus
+		if r.EutecticMin.Provisional {
+			r.EutecticMin = Point{} // shown early, and not the eutectic after all
+		}
+		if !r.Liquidus.OK && a.h.Liquidus.Holds(hi.TempC) {
 			if !recal {
 				// a slight primary recalescence shows on the longer window
 				lo, hi, recal = a.refineMax(e.dminI, j, e.dmaxI, false)
 			}
 			r.Liquidus = hi
+			r.LiquidusMin = Point{}
 			if recal {
 				r.LiquidusMin = lo
 				r.LiquidusRecalescence = hi.TempC - lo.TempC
 			}
+		} else if r.LiquidusMin.Provisional {
+			r.LiquidusMin = Point{}
 		}
 		e.startArrest(j, a.d[j])
 		return
@@ -1167,6 +1212,17 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 	if !recal {
 		lo, hi, recal = a.refineMax(e.dminI, j, e.dmaxI, true)
 	}
+	if r.LiquidusMin.Provisional {
+		r.LiquidusMin = Point{} // shown early, and the eutectic after all
+	}
+	if !w.Holds(lo.TempC) {
+		r.EutecticMin = Point{}
+		a.outsideWindow(j, lo, hi)
+		return
+	}
+	// a eutectic without recalescence may yet turn out a shoulder
+	// (shoulderPassed): provisional until the end of freezing settles
+	lo.Provisional, hi.Provisional = !recal, !recal
 	r.EutecticMin, r.EutecticMax = lo, hi
 	r.Recalescence, r.RecalescenceOK = hi.TempC-lo.TempC, true
 	if !recal {
@@ -1179,6 +1235,24 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 	e.eutI, e.eutRecal = j, recal
 	e.stage = stageSolidus
 	e.dmin, e.dminI = a.d[j], j
+}
+
+// outsideWindow ends the analysis at index j on an arrest taken for the
+// eutectic (lo, hi: its minimum and maximum) that lies outside the alloy's
+// eutectic window (Hints.Eutectic): no eutectic of the alloy freezes there,
+// so its points stay null and a fatal problem says why; the end of
+// freezing, searched only after the eutectic, stays null too.
+func (a *Analyzer) outsideWindow(j int, lo, hi Point) {
+	e := &a.det
+	w := a.h.Eutectic
+	at := fmt.Sprintf("%.1f °C", lo.TempC)
+	if hi.TempC != lo.TempC {
+		at = fmt.Sprintf("%.1f–%.1f °C", lo.TempC, hi.TempC)
+	}
+	a.problem(j, CodeEutecticWindow, fmt.Sprintf("the eutectic arrest at %s (%.0f s) lies outside this alloy's eutectic window, %.1f–%.1f °C: no eutectic of the alloy freezes there, so the eutectic and the end of freezing are left out (is the alloy right?)", at, lo.TimeS, w.LoC, w.HiC), true)
+	e.res.Complete = true
+	e.stage = stageDone
+	a.limit = a.xAvail(j) + 2
 }
 
 // shoulderPassed tells whether T' = v, after falling to dmin since a
@@ -1449,6 +1523,7 @@ func (a *Analyzer) solidus() {
 	e := &a.det
 	r := &e.res
 	r.Solidus = a.solidusPoint(e.dminI, e.j)
+	r.EutecticMin.Provisional, r.EutecticMax.Provisional = false, false
 	// end of the plateau: where T' has fallen halfway from the eutectic's
 	// value to its minimum
 	half := (e.eutRefD + e.dmin) / 2
@@ -1521,6 +1596,9 @@ func (a *Analyzer) result(live bool) Result {
 		if cut, ok := a.cutPlateau(); ok {
 			r = cut
 		}
+	}
+	if !live || a.stopped {
+		r.confirm() // no reading will follow: every point is final
 	}
 	r.Samples = a.nIn - a.badTime
 	r.RateHz = a.rate
