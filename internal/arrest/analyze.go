@@ -43,6 +43,10 @@ type Range struct {
 // Open reports whether the window sets no bounds.
 func (r Range) Open() bool { return r == Range{} }
 
+// Holds reports whether c, °C, lies in the window (always, when it is
+// open).
+func (r Range) Holds(c float64) bool { return r.Open() || c >= r.LoC && c <= r.HiC }
+
 // Hints are the family's expectations the detector uses. They steer, they
 // never make a point: every point still comes from the curve's own T'.
 type Hints struct {
@@ -62,17 +66,29 @@ type Hints struct {
 }
 
 // FamilyHints returns the hints for a family (the zero Family is iron).
-// Temperature windows (practice and field notes, memory): the iron graphite
-// eutectic sits near 1130–1160 °C and hypoeutectic liquidus arrests above it;
-// the white (cementite) eutectic near 1100–1148 °C; the Al-Si eutectic at
-// 577 °C binary (Murray & McAlister 1984), 560–577 °C in casting alloys, with
-// α-Al liquidus arrests near 600–640 °C; a pure metal freezes on one plateau.
+// Temperature windows (practice, memory): the iron graphite eutectic sits
+// near 1130–1160 °C and hypoeutectic liquidus arrests above it; the white
+// (cementite) eutectic near 1100–1148 °C; the Al-Si eutectic at 577 °C
+// binary (Murray and McAlister, Bull. Alloy Phase Diagrams 5 (1984) 74;
+// recalled), 560–577 °C in casting alloys, with α-Al liquidus arrests near
+// 600–640 °C; a pure metal freezes on one plateau.
+//
+// The eutectic windows (Hints.Eutectic) are what no eutectic of the
+// family can lie outside: Al-Si at or below the binary eutectic, 577 °C,
+// and above 545 °C, below a strongly modified melt's depressed eutectic
+// (Sr or Na lower it by up to about 10 K, and the undercooled minimum lies
+// a few kelvin lower again; measured modified A356-class cups freeze their
+// eutectic near 559–565 °C, docs/analysis.md); iron 1070–1180 °C and white
+// iron 1050–1160 °C, around the stable (graphite) and metastable
+// (cementite) eutectics of 1 to 3.5 % Si, until limits.Resolution
+// WithChemistry narrows them to the sample's own Tst and Tmst
+// (internal/metal).
 func FamilyHints(f Family) Hints {
 	switch f {
 	case FamilyWhite:
-		return Hints{MinPourC: 1000, EutecticTopC: 1160, SmoothS: 2, SlopeS: 4, ConfirmS: 8}
+		return Hints{MinPourC: 1000, EutecticTopC: 1160, SmoothS: 2, SlopeS: 4, ConfirmS: 8, Eutectic: Range{1050, 1160}}
 	case FamilyAluminum:
-		return Hints{MinPourC: 560, EutecticTopC: 590, SmoothS: 3, SlopeS: 6, ConfirmS: 10}
+		return Hints{MinPourC: 560, EutecticTopC: 590, SmoothS: 3, SlopeS: 6, ConfirmS: 10, Eutectic: Range{AlSiEutecticLowC, AlSiEutecticC}}
 	case FamilyPure:
 		return Hints{MinPourC: 150, EutecticTopC: math.Inf(1), SmoothS: 2, SlopeS: 4, ConfirmS: 8}
 	case FamilyEutectic:
@@ -80,9 +96,17 @@ func FamilyHints(f Family) Hints {
 		// is taken for the eutectic, as for a pure metal.
 		return Hints{MinPourC: 150, EutecticTopC: math.Inf(1), SmoothS: 2, SlopeS: 4, ConfirmS: 8}
 	default:
-		return Hints{MinPourC: 1000, EutecticTopC: 1170, SmoothS: 2, SlopeS: 4, ConfirmS: 8}
+		return Hints{MinPourC: 1000, EutecticTopC: 1170, SmoothS: 2, SlopeS: 4, ConfirmS: 8, Eutectic: Range{1070, 1180}}
 	}
 }
+
+// The Al-Si eutectic window: the binary eutectic (Murray and McAlister
+// 1984, recalled) and the lowest eutectic minimum of a strongly modified
+// casting alloy (see FamilyHints), °C.
+const (
+	AlSiEutecticC    = 577
+	AlSiEutecticLowC = 545
+)
 
 // hints are the options' own hints, or the family's.
 func (o Options) hints() Hints {
@@ -110,6 +134,9 @@ const (
 	longFactor   = 2    // refinement window of a flat eutectic arrest, in SlopeS
 	shortShare   = 0.03 // see solidusPoint
 	negShare     = 0.05 // see longArrest
+	holdShare    = 0.2  // see settle
+	flatShare    = 0.05 // see solidusPoint
+	sharpGain    = 1.1  // see solidusWindow
 	fallShare    = 0.04 // an arrest's fall is at least this share of |T'|min before it
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
 )
@@ -123,6 +150,9 @@ const (
 	CodeTimeOrder  = "time-order"
 	CodeNoisy      = "too-noisy"
 	CodeRate       = "odd-rate"
+	// CodeEutecticWindow: the arrest taken for the eutectic lies outside
+	// the alloy's eutectic window (Hints.Eutectic).
+	CodeEutecticWindow = "eutectic-window"
 )
 
 // Analyze finds the characteristic points of the curve temp(t), t in s and
@@ -283,9 +313,21 @@ type detector struct {
 	minShown  bool    // the current arrest's minimum has been reported
 	haveFirst bool    // the first arrest has been seen (cooling rate set)
 	eutRefD   float64 // T' at the eutectic point
-	eutI      int
+	eutRecal  bool    // the eutectic recalesced
+	hold      heldArrest
+
+	eutI int
 
 	res Result
+}
+
+// heldArrest is an arrest settled but not yet classified (see settle).
+type heldArrest struct {
+	on     bool
+	lo, hi Point
+	recal  bool
+	from   int     // where it was settled
+	level  float64 // T' below this makes it short
 }
 
 const (
@@ -816,6 +858,10 @@ func (a *Analyzer) detect() {
 			e.stage = stageArrest
 			e.startArrest(j, d)
 		case stageArrest:
+			if e.hold.on {
+				a.holding(j, d)
+				continue
+			}
 			if e.j = a.quietRun(j, end, h, p); e.j == end {
 				e.j--
 				continue
@@ -828,9 +874,14 @@ func (a *Analyzer) detect() {
 			need := max(p, math.Abs(e.res.CoolingRateCps)/3)
 			dmin, dminI := e.dmin, e.dminI
 			dd, ts, confirm := a.d[:end], a.ts, a.h.ConfirmS
+			back := false
 			for ; j < end; j++ {
-				if v := dd[j]; v < dmin {
+				v := dd[j]
+				if v < dmin {
 					dmin, dminI = v, j
+				}
+				if back = a.shoulderPassed(v, dmin, h, p); back {
+					break
 				}
 				if e.eutRefD-dmin >= need && ts[j]-ts[dminI] >= confirm {
 					break
@@ -842,6 +893,10 @@ func (a *Analyzer) detect() {
 				continue
 			}
 			e.j = j
+			if back {
+				a.reopen(j, dd[j])
+				continue
+			}
 			a.solidus()
 		}
 	}
@@ -951,7 +1006,7 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 		}
 		if e.sub == subRise && d < e.dmax-max(p, fallShare*math.Abs(e.dmin)) {
 			pt := a.extremum(e.dmaxI)
-			a.arrest(j, pt, pt, false, p)
+			a.settle(j, pt, pt, false, p)
 		}
 	case subPos:
 		if d > e.dmax {
@@ -969,7 +1024,7 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 			e.maxPt = a.crossing(j - 1)
 		}
 		if e.cand >= 0 && (d < -h || a.sm(j) < e.maxPt.TempC-max(dropFloor, 6*(a.sigma(j)*a.gainS))) { // 6·σ_T
-			a.arrest(j, e.minPt, e.maxPt, true, p)
+			a.settle(j, e.minPt, e.maxPt, true, p)
 		}
 	}
 }
@@ -1010,20 +1065,28 @@ func (a *Analyzer) kindKnown(loC float64) bool {
 
 // showMin reports the minimum of a recalescing arrest (index j in its
 // positive phase) as soon as its kind is settled: at once when the
-// temperature alone decides, else once T' has been up for shortArrest.
+// temperature alone decides, else once T' has been up for shortArrest. It
+// is shown provisional unless the temperature settles its kind for good
+// (with a eutectic window, a maximum still to come above the window would
+// make it a primary arrest), and confirmed or withdrawn when the arrest is
+// classified (arrest).
 func (a *Analyzer) showMin(j int) {
 	e := &a.det
 	lo := e.minPt.TempC
-	if !a.kindKnown(lo) && a.ts[j]-a.ts[e.riseI] < a.shortArrest() {
+	byTemp := a.kindKnown(lo)
+	known := byTemp && (a.h.Eutectic.Open() || lo > a.h.Eutectic.HiC)
+	if !byTemp && a.ts[j]-a.ts[e.riseI] < a.shortArrest() {
 		return
 	}
 	e.minShown = true
 	r := &e.res
+	pt := e.minPt
+	pt.Provisional = !known
 	switch {
 	case !a.primary(lo, true):
-		r.EutecticMin = e.minPt
+		r.EutecticMin = pt
 	case !r.Liquidus.OK:
-		r.LiquidusMin = e.minPt
+		r.LiquidusMin = pt
 	}
 }
 
@@ -1032,44 +1095,116 @@ func (a *Analyzer) showMin(j int) {
 // zero for tens of seconds; a primary arrest a few seconds.
 func (a *Analyzer) shortArrest() float64 { return 3 * a.h.SlopeS }
 
-// longArrest tells whether the arrest settled at j is long: from where T'
-// rose halfway into it to j it lasted at least shortArrest, and its T' came
-// within max(p, negShare·|T'min|) of zero (a liquidus arrest whose T' stays
-// clearly negative is short however slowly it passes).
-func (a *Analyzer) longArrest(j int, recal bool, p float64) bool {
+// arrestSpan is where the current arrest began for its length: where T'
+// rose halfway into it (for a recalescence from T'min to zero, else from
+// the cooling before it to min(T'max, 0)). ok is false when the arrest
+// can never be long: its T' stayed clearly negative, below
+// −max(p, negShare·|T'min|) (a liquidus arrest whose T' stays clearly
+// negative is short however slowly it passes).
+func (a *Analyzer) arrestSpan(recal bool, p float64) (from int, ok bool) {
 	e := &a.det
 	if recal && e.sub == subPos {
-		return a.ts[j]-a.ts[e.riseI] >= a.shortArrest()
+		return e.riseI, true
 	}
 	peak := a.d[e.dmaxI]
 	if peak < -max(p, negShare*math.Abs(e.dmin)) {
-		return false
+		return 0, false
 	}
-	k := a.riseStart((e.dmin+min(peak, 0))/2, e.dmaxI)
-	return a.ts[j]-a.ts[k] >= a.shortArrest()
+	// halfway from the cooling it rose out of: T'min since the search began
+	// may lie just after the pour, far steeper than the liquid's cooling
+	// just before the arrest, so the lowest T' over the shortArrest before
+	// that first rise is taken instead
+	top := min(peak, 0)
+	k := a.riseStart((e.dmin+top)/2, e.dmaxI)
+	return a.riseStart((a.slopeBefore(k)+top)/2, e.dmaxI), true
+}
+
+// longArrest tells whether the arrest is long at index j: it can be
+// (arrestSpan) and has lasted shortArrest since it began.
+func (a *Analyzer) longArrest(j int, recal bool, p float64) bool {
+	from, ok := a.arrestSpan(recal, p)
+	return ok && a.ts[j]-a.ts[from] >= a.shortArrest()
+}
+
+// settle takes an arrest that has just settled at index j (lo, hi: its
+// minimum and maximum points) to arrest, unless its kind hangs on its
+// length and it is still short but may yet be long: then it is held
+// (holding) until T' falls by max(p, holdShare·(top − T'before)) below its
+// top (zero after a recalescence; T'before the lowest T' over the
+// shortArrest before the top), or back to where it began (short), or it has
+// stayed above that for shortArrest more (long): a eutectic's latent heat
+// holds T' near zero long after its top, a primary arrest's T' falls away. A small recalescence, or a near-zero
+// arrest, settles within seconds; whether it is a primary arrest or the
+// eutectic shows only in how long T' then stays near zero.
+func (a *Analyzer) settle(j int, lo, hi Point, recal bool, p float64) {
+	e := &a.det
+	from, ok := a.arrestSpan(recal, p)
+	if !ok || a.kindKnown(lo.TempC) || a.ts[j]-a.ts[from] >= a.shortArrest() {
+		a.arrest(j, lo, hi, recal, ok && a.ts[j]-a.ts[from] >= a.shortArrest())
+		return
+	}
+	// short once T' falls clearly below the arrest's top (or zero, after a
+	// recalescence), or back to where the rise into it began
+	top := min(a.d[e.dmaxI], 0)
+	level := max(a.d[from], top-max(p, holdShare*(top-a.slopeBefore(e.dmaxI))))
+	e.hold = heldArrest{on: true, lo: lo, hi: hi, recal: recal, from: j, level: level}
+}
+
+// slopeBefore is the lowest T' over the shortArrest before index i (not
+// before the arrest search's start): the cooling the arrest rose out of.
+func (a *Analyzer) slopeBefore(i int) float64 {
+	m := a.d[i]
+	for k := i; k > a.det.start && a.ts[i]-a.ts[k] <= a.shortArrest(); k-- {
+		m = min(m, a.d[k])
+	}
+	return m
+}
+
+// holding advances a held arrest (settle) at index j, T' = d.
+func (a *Analyzer) holding(j int, d float64) {
+	e := &a.det
+	hd := e.hold
+	switch {
+	case a.ts[j]-a.ts[hd.from] >= a.shortArrest():
+		e.hold = heldArrest{}
+		a.arrest(j, hd.lo, hd.hi, hd.recal, true)
+	case d < hd.level:
+		e.hold = heldArrest{}
+		a.arrest(j, hd.lo, hd.hi, hd.recal, false)
+	}
 }
 
 // arrest classifies a settled arrest (lo, hi: the minimum and maximum points,
-// equal without recalescence) found at index j; p is the prominence
-// threshold there.
-func (a *Analyzer) arrest(j int, lo, hi Point, recal bool, p float64) {
+// equal without recalescence) found at index j; long says it is a long
+// arrest (longArrest).
+func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 	e := &a.det
 	r := &e.res
 	if !e.haveFirst {
 		e.haveFirst = true
 		r.CoolingRateCps = a.coolingRate(e)
 	}
-	if a.primary(lo.TempC, a.longArrest(j, recal, p)) {
-		if !r.Liquidus.OK {
+	w := a.h.Eutectic
+	if !w.Open() && hi.TempC > w.HiC || a.primary(lo.TempC, long) {
+		// an arrest reaching above the eutectic window is a primary one,
+		// and only inside the liquidus window (where one is set) the
+		// liquidus
+		if r.EutecticMin.Provisional {
+			r.EutecticMin = Point{} // shown early, and not the eutectic after all
+		}
+		if !r.Liquidus.OK && a.h.Liquidus.Holds(hi.TempC) {
 			if !recal {
 				// a slight primary recalescence shows on the longer window
 				lo, hi, recal = a.refineMax(e.dminI, j, e.dmaxI, false)
 			}
 			r.Liquidus = hi
+			r.LiquidusMin = Point{}
 			if recal {
 				r.LiquidusMin = lo
 				r.LiquidusRecalescence = hi.TempC - lo.TempC
 			}
+		} else if r.LiquidusMin.Provisional {
+			r.LiquidusMin = Point{}
 		}
 		e.startArrest(j, a.d[j])
 		return
@@ -1077,6 +1212,17 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal bool, p float64) {
 	if !recal {
 		lo, hi, recal = a.refineMax(e.dminI, j, e.dmaxI, true)
 	}
+	if r.LiquidusMin.Provisional {
+		r.LiquidusMin = Point{} // shown early, and the eutectic after all
+	}
+	if !w.Holds(lo.TempC) {
+		r.EutecticMin = Point{}
+		a.outsideWindow(j, lo, hi)
+		return
+	}
+	// a eutectic without recalescence may yet turn out a shoulder
+	// (shoulderPassed): provisional until the end of freezing settles
+	lo.Provisional, hi.Provisional = !recal, !recal
 	r.EutecticMin, r.EutecticMax = lo, hi
 	r.Recalescence, r.RecalescenceOK = hi.TempC-lo.TempC, true
 	if !recal {
@@ -1086,9 +1232,57 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal bool, p float64) {
 	if recal {
 		e.eutRefD = 0
 	}
-	e.eutI = j
+	e.eutI, e.eutRecal = j, recal
 	e.stage = stageSolidus
 	e.dmin, e.dminI = a.d[j], j
+}
+
+// outsideWindow ends the analysis at index j on an arrest taken for the
+// eutectic (lo, hi: its minimum and maximum) that lies outside the alloy's
+// eutectic window (Hints.Eutectic): no eutectic of the alloy freezes there,
+// so its points stay null and a fatal problem says why; the end of
+// freezing, searched only after the eutectic, stays null too.
+func (a *Analyzer) outsideWindow(j int, lo, hi Point) {
+	e := &a.det
+	w := a.h.Eutectic
+	at := fmt.Sprintf("%.1f °C", lo.TempC)
+	if hi.TempC != lo.TempC {
+		at = fmt.Sprintf("%.1f–%.1f °C", lo.TempC, hi.TempC)
+	}
+	a.problem(j, CodeEutecticWindow, fmt.Sprintf("the eutectic arrest at %s (%.0f s) lies outside this alloy's eutectic window, %.1f–%.1f °C: no eutectic of the alloy freezes there, so the eutectic and the end of freezing are left out (is the alloy right?)", at, lo.TimeS, w.LoC, w.HiC), true)
+	e.res.Complete = true
+	e.stage = stageDone
+	a.limit = a.xAvail(j) + 2
+}
+
+// shoulderPassed tells whether T' = v, after falling to dmin since a
+// eutectic that did not recalesce, has risen beyond the hysteresis h above
+// zero: a real recalescence, which outranks the earlier arrest. That arrest
+// was a shoulder (a local maximum of T' below zero, as the cup wall
+// freezing before the centre makes), and this is the centre's own
+// eutectic. The fall between them must exceed the prominence p, so that
+// noise on a plateau is no second arrest. A pure metal's single plateau
+// (EutecticTopC +Inf) is never reopened.
+func (a *Analyzer) shoulderPassed(v, dmin, h, p float64) bool {
+	e := &a.det
+	if e.eutRecal {
+		return false // a recalescence is the eutectic: nothing outranks it
+	}
+	return !math.IsInf(a.h.EutecticTopC, 1) && v > h && e.eutRefD-dmin > p
+}
+
+// reopen takes up the arrest search again at index j (T' = d > h), in the
+// recalescence after a shoulder that had been taken for the eutectic
+// (shoulderPassed): the shoulder's points are withdrawn, and the
+// recalescence is examined as the arrest search examines one.
+func (a *Analyzer) reopen(j int, d float64) {
+	e := &a.det
+	r := &e.res
+	r.EutecticMin, r.EutecticMax = Point{}, Point{}
+	r.Recalescence, r.RecalescenceOK = 0, false
+	e.stage, e.sub, e.start = stageArrest, subRise, e.eutI
+	e.dmax, e.dmaxI, e.cand = d, j, -1
+	a.arrestStep(j, d, max(slopeFloor, 4*a.sigma(j)*a.gainD), max(promFloor, 8*a.sigma(j)*a.gainD))
 }
 
 // coolingRate is the mean slope of T over the 10 s (less when the pour is
@@ -1215,12 +1409,16 @@ func (a *Analyzer) levelPoint(k int, v0, v1, level float64) Point {
 // for seconds and would pull the point late (and low: by T'·Δt). Without
 // noise the run is one sample and the point its parabolic vertex.
 func (a *Analyzer) solidusPoint(i, j int) Point {
-	w := min(curve.WindowSamples(a.h.SlopeS/2, a.rate, 2, 5), a.wd)
-	if a.sigma(j)*curve.SavGol(w, 2, 1).NoiseGain()/a.dt > shortShare*math.Abs(a.d[i]) {
-		w = a.wd // too noisy for the short window: keep the long one
-	}
+	w := a.solidusWindow(i, j)
 	h := w / 2
-	lo, hi := max(i-a.wd/2, h, a.det.eutI), min(j, a.xAvail(j)-h)
+	// a flat-bottomed dip (T' reaching the solid's cooling rate and staying
+	// there) is searched from where T' first came down to its bottom
+	band := max(3*a.sigma(j)*a.gainD, flatShare*math.Abs(a.d[i]))
+	k := i
+	for k > a.det.eutI && a.d[k-1] <= a.d[i]+band {
+		k--
+	}
+	lo, hi := max(k-a.wd/2, h, a.det.eutI), min(j, a.xAvail(j)-h)
 	if lo+2 > hi {
 		return a.extremum(i)
 	}
@@ -1265,9 +1463,58 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 	// beyond that a long flat run is the slow relaxation, not the dip
 	fr = min(fr, fl+float64(h))
 	mid := (fl + fr) / 2
-	k := int(math.Floor(mid))
+	k = int(math.Floor(mid))
 	f := mid - float64(k)
 	return Point{TempC: a.sm(k) + f*(a.sm(k+1)-a.sm(k)), TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]), OK: true}
+}
+
+// solidusWindow is the T' window, samples, the end of freezing (the most
+// negative T' at sample i, settled at j) is placed on: Hints.SlopeS/2, or a
+// shorter one of SlopeS/4, /8 … (at least 5 samples) where the dip is
+// sharper than the longer window resolves (its depth on the shorter window
+// at least sharpGain times the longer window's), each while its T' noise is
+// at most shortShare of the dip's depth; the T' window itself when even
+// SlopeS/2 is too noisy. A strong gradient's centre drops by several °C/s
+// within a second at the end of freezing, and only a short window puts the
+// point where it drops; a gentle dip keeps the steadier half window.
+func (a *Analyzer) solidusWindow(i, j int) int {
+	noise := a.sigma(j) / a.dt // σ_T' per unit noise gain
+	w := min(curve.WindowSamples(a.h.SlopeS/2, a.rate, 2, 5), a.wd)
+	depth := a.dipDepth(w, i, j)
+	if curve.SavGol(w, 2, 1).NoiseGain()*noise > shortShare*depth {
+		return a.wd // too noisy for the short window: keep the long one
+	}
+	for s := a.h.SlopeS / 4; w > 5; s /= 2 {
+		v := min(curve.WindowSamples(s, a.rate, 2, 5), w)
+		if v == w {
+			return w
+		}
+		dv := a.dipDepth(v, i, j)
+		if dv < sharpGain*depth || curve.SavGol(v, 2, 1).NoiseGain()*noise > shortShare*dv {
+			return w
+		}
+		w, depth = v, dv
+	}
+	return w
+}
+
+// dipDepth is −min T' on a window of w samples around the dip at sample i
+// (within half a T' window of it, and no further than xAvail(j) allows),
+// °C/s.
+func (a *Analyzer) dipDepth(w, i, j int) float64 {
+	h := w / 2
+	lo, hi := max(i-a.wd/2, h), min(i+a.wd/2, a.xAvail(j)-h)
+	if lo > hi {
+		return math.Abs(a.d[i])
+	}
+	a.sll.Reset(h)
+	a.dl = a.sll.AppendSlopes(a.dl[:0], a.x, lo, hi+1, 1/a.dt)
+	m := math.Inf(1)
+	for _, v := range a.dl {
+		m = min(m, v)
+	}
+	a.dl = a.dl[:0]
+	return -m
 }
 
 // solidus settles the end of freezing at the most negative T' and derives
@@ -1276,6 +1523,7 @@ func (a *Analyzer) solidus() {
 	e := &a.det
 	r := &e.res
 	r.Solidus = a.solidusPoint(e.dminI, e.j)
+	r.EutecticMin.Provisional, r.EutecticMax.Provisional = false, false
 	// end of the plateau: where T' has fallen halfway from the eutectic's
 	// value to its minimum
 	half := (e.eutRefD + e.dmin) / 2
@@ -1311,21 +1559,27 @@ func (a *Analyzer) solidus() {
 // live sample that goes on is analysed as before.
 func (a *Analyzer) cutPlateau() (Result, bool) {
 	e := &a.det
-	if e.stage != stageArrest || len(a.d) == 0 || e.j < len(a.d) || !(e.sub == subRise || e.sub == subPos && e.cand >= 0) {
+	if e.stage != stageArrest || len(a.d) == 0 || e.j < len(a.d) || !(e.hold.on || e.sub == subRise || e.sub == subPos && e.cand >= 0) {
 		return Result{}, false
 	}
 	j := len(a.d) - 1
 	p := max(promFloor, 8*a.sigma(j)*a.gainD)
-	if !a.longArrest(j, e.sub == subPos, p) {
-		return Result{}, false
-	}
 	saved := *e
 	defer func() { a.det = saved }()
-	if e.sub == subRise {
+	switch hd := e.hold; {
+	case hd.on:
+		if a.ts[j]-a.ts[hd.from] < a.shortArrest() {
+			return Result{}, false
+		}
+		e.hold = heldArrest{}
+		a.arrest(j, hd.lo, hd.hi, hd.recal, true)
+	case !a.longArrest(j, e.sub == subPos, p):
+		return Result{}, false
+	case e.sub == subRise:
 		pt := a.extremum(e.dmaxI)
-		a.arrest(j, pt, pt, false, p)
-	} else {
-		a.arrest(j, e.minPt, e.maxPt, true, p)
+		a.arrest(j, pt, pt, false, true)
+	default:
+		a.arrest(j, e.minPt, e.maxPt, true, true)
 	}
 	if e.stage != stageSolidus {
 		return Result{}, false
@@ -1342,6 +1596,9 @@ func (a *Analyzer) result(live bool) Result {
 		if cut, ok := a.cutPlateau(); ok {
 			r = cut
 		}
+	}
+	if !live || a.stopped {
+		r.confirm() // no reading will follow: every point is final
 	}
 	r.Samples = a.nIn - a.badTime
 	r.RateHz = a.rate

@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"reflect"
 	"testing"
+
+	"github.com/undercool-foundry/undercool/internal/sim"
 )
 
 // livePoints lists a result's settled values by name, for the
@@ -18,9 +20,10 @@ func livePoints(r *Result) map[string]Point {
 // Live use: every prefix (two curves) or every 7th prefix (the others) of
 // noisy constructed curves through one
 // Analyzer (incremental) and, for every 50th, through a fresh Analyze. A
-// point once reported never changes (exactly: the same arithmetic on the
-// same readings), the incremental and fresh answers agree, and the final
-// live answer deep-equals the offline one.
+// point once reported confirmed (not Provisional) never changes (exactly:
+// the same arithmetic on the same readings) nor becomes provisional again,
+// the incremental and fresh answers agree, and the final live answer
+// deep-equals the offline one.
 func TestLiveSettledPointsNeverChange(t *testing.T) {
 	sh := shapes()
 	for c := range 2 * len(sh) {
@@ -47,9 +50,9 @@ func TestLiveSettledPointsNeverChange(t *testing.T) {
 				switch {
 				case ok && !p.OK:
 					t.Fatalf("%s: %s vanished at reading %d", label, name, k)
-				case ok && (p.TempC != old.TempC || p.TimeS != old.TimeS):
+				case ok && p != old:
 					t.Fatalf("%s: %s changed at reading %d: %+v -> %+v", label, name, k, old, p)
-				case !ok && p.OK:
+				case !ok && p.OK && !p.Provisional:
 					seen[name] = p
 				}
 			}
@@ -101,4 +104,65 @@ func TestAnalyzerRestartsOnNewCurve(t *testing.T) {
 	if want := Analyze(t2, v3, Options{Family: sh[4].family}); !reflect.DeepEqual(got, want) {
 		t.Fatalf("changed reading not picked up")
 	}
+}
+
+// Live use on simulated radial cups (internal/sim, simulated, not
+// measured), strong gradient and nearly lumped, where the wall freezing
+// first puts a shoulder before the centre's eutectic: every 3rd prefix
+// through one Analyzer. A point shown provisional may move or vanish; a
+// confirmed one never changes; the final answer equals the offline one and
+// has no provisional point.
+func TestLiveRadialCups(t *testing.T) {
+	provisional := 0
+	for i, c := range []struct {
+		alloy      string
+		inoc, modf float64
+		strong     bool
+	}{{sim.GreyIron, 0.1, 0, true}, {sim.GreyIron, 0.2, 0, true}, {sim.DuctileIron, 0.5, 0, true}, {sim.AlSi7Mg, 0.1, 0.8, true},
+		{sim.WhiteIron, 0.5, 0, true}, {sim.GreyIron, 0.5, 0, false}, {sim.AlSi7Mg, 0.5, 0.3, false}} {
+		p, err := sim.Preset(c.alloy, c.inoc, uint64(40+i))
+		if err != nil {
+			t.Fatal(err)
+		}
+		p.Modification, p.Cup, p.Radial = c.modf, sim.CupRadial, sim.NearlyLumped(c.alloy)
+		if c.strong {
+			p.Radial = sim.StrongGradient(c.alloy)
+		}
+		p.Logger.RateHz, p.Logger.NoiseC = []float64{5, 10, 20}[i%3], 0.1
+		out := sim.Simulate(p)
+		opt := Options{Family: familyOf(c.alloy)}
+		label := fmt.Sprintf("%s inoc %.1f radial strong=%v", c.alloy, c.inoc, c.strong)
+		offline := Analyze(out.Time, out.Temp, opt)
+		var a Analyzer
+		seen := map[string]Point{}
+		live := opt
+		live.Live = true
+		for k := 1; k <= len(out.Time); k += 3 {
+			r := a.Analyze(out.Time[:k], out.Temp[:k], live)
+			for name, pt := range livePoints(&r) {
+				old, ok := seen[name]
+				switch {
+				case ok && pt != old:
+					t.Fatalf("%s: confirmed %s changed at reading %d: %+v -> %+v", label, name, k, old, pt)
+				case !ok && pt.OK && !pt.Provisional:
+					seen[name] = pt
+				case pt.Provisional:
+					provisional++
+				}
+			}
+		}
+		final := a.Analyze(out.Time, out.Temp, opt)
+		if !reflect.DeepEqual(final, offline) {
+			t.Fatalf("%s: final live answer differs from offline:\n%+v\n%+v", label, final, offline)
+		}
+		for name, pt := range livePoints(&final) {
+			if pt.Provisional {
+				t.Errorf("%s: offline %s is provisional", label, name)
+			}
+		}
+		if !offline.Complete || offline.Invalid() {
+			t.Errorf("%s: offline not complete or invalid: %v", label, offline.Problems)
+		}
+	}
+	t.Logf("%d provisional points shown along the way", provisional)
 }

@@ -25,10 +25,19 @@ const (
 // Point is one characteristic point of a curve. A point that was not found
 // has OK false; its other fields are then meaningless and it is reported as
 // null, never as a guess.
+//
+// On a growing curve (Options.Live) a point may be shown before the shape
+// of its arrest is complete: it is then Provisional, and may still move or
+// vanish (an arrest without recalescence taken for the eutectic may turn
+// out a shoulder before the centre's own recalescence; a recalescence's
+// minimum may turn out a primary arrest's). Once a point is shown without
+// Provisional it never changes. The offline answer (Live false) has no
+// provisional point.
 type Point struct {
-	TempC float64 // smoothed temperature at the point, °C
-	TimeS float64 // time of the point, s, on the curve's own time axis
-	OK    bool
+	TempC       float64 // smoothed temperature at the point, °C
+	TimeS       float64 // time of the point, s, on the curve's own time axis
+	OK          bool
+	Provisional bool // live only: shown before its arrest's shape is complete
 }
 
 // Problem is a plain-language finding that may make a curve untrustworthy.
@@ -82,4 +91,11 @@ func (r *Result) Invalid() bool {
 		}
 	}
 	return false
+}
+
+// confirm clears every point's Provisional mark.
+func (r *Result) confirm() {
+	for _, p := range []*Point{&r.PourPeak, &r.LiquidusMin, &r.Liquidus, &r.EutecticMin, &r.EutecticMax, &r.Solidus} {
+		p.Provisional = false
+	}
 }

@@ -12,22 +12,77 @@ import (
 )
 
 // The analysis core's main regression suite: internal/arrest on SIMULATED
-// cups of every family and many logger qualities, against the truth read
-// off the noiseless model. Accuracy: eutectic minimum, maximum and
-// recalescence within 0.6 °C, liquidus within 1.5 °C, end of freezing
-// within 4 °C, with white noise ≤ 0.3 °C, one-in-500 spikes of
-// 10–40 °C, quantisation to 0.25 °C and 4–50 Hz; a point is null exactly
-// where the truth is null.
+// cups of every family, both cup kinds and many logger qualities, against
+// the truth read off the noiseless centre curve (docs/analysis.md's
+// definitions, Truth). The lumped cup is the two-lump model; the radial cup
+// (CupRadial) ranges from nearly lumped to a strong gradient (10–20 °C from
+// the wall to the centre while freezing, the wall freezing first, so the
+// centre's T' may show a shoulder before its own eutectic). Accuracy
+// (issue 12): eutectic minimum, maximum and recalescence within 0.6 °C,
+// liquidus within 1.5 °C, end of freezing within 4 °C, with white noise
+// ≤ 0.3 °C, one-in-500 spikes of 10–40 °C, quantisation to 0.25 °C and
+// 4–50 Hz; a point is null exactly where the truth is null, and every cup
+// whose recording a fault cuts short (open thermocouple, pulled early) is
+// invalid. A short pour is a check on the cup that the limits make
+// (sample_check, docs/faults.md), not the detector.
 
 const recoveryCases = 240
+
+// radialEnforced says the radial cups' checks fail the test; until the
+// detector picks each arrest by what it is (issue 12) they are measured
+// and logged only.
+const radialEnforced = false
 
 // recoveryAlloys are the alloys the suite draws from.
 var recoveryAlloys = []string{GreyIron, DuctileIron, AlSi7Mg, WhiteIron, PureAl, PureZn}
 
-// recoveryCase draws one seeded cup and logger.
+// recoveryCase draws one seeded lumped cup and logger.
 func recoveryCase(i int) Params {
-	r := rand.New(rand.NewPCG(2026, uint64(i)))
+	return drawCase(rand.New(rand.NewPCG(2026, uint64(i))), recoveryAlloys[i%len(recoveryAlloys)])
+}
+
+// radialCase draws one seeded radial cup and logger (its own seeds): a
+// third nearly lumped, a third strong gradient, a third in between
+// (radialBetween).
+func radialCase(i int) Params {
+	r := rand.New(rand.NewPCG(2027, uint64(i)))
 	alloy := recoveryAlloys[i%len(recoveryAlloys)]
+	u := r.Float64()
+	switch r.IntN(3) {
+	case 0:
+		u = 0
+	case 1:
+		u = 1
+	}
+	p := drawCase(r, alloy)
+	p.Cup, p.Radial = CupRadial, radialBetween(alloy, u)
+	return p
+}
+
+// radialBetween interpolates the radial cup from NearlyLumped (u = 0) to
+// StrongGradient (u = 1): geometrically in the wall's heat-transfer
+// coefficient, the conductivities and the wall's nuclei factor, linearly
+// in the chill shell's thickness.
+func radialBetween(alloy string, u float64) Radial {
+	n, s := NearlyLumped(alloy), StrongGradient(alloy)
+	m := Params{Alloy: alloy}.material()
+	geo := func(a, b float64) float64 { return a * math.Pow(b/a, u) }
+	r := Radial{
+		Zones:      defaultZones,
+		WallHW:     geo(m.h, s.WallHW),
+		LiquidK:    geo(n.LiquidK, s.LiquidK),
+		SolidK:     geo(n.SolidK, s.SolidK),
+		WallNuclei: geo(1, s.WallNuclei),
+		ShellFrac:  u * s.ShellFrac,
+	}
+	if u >= 0.5 {
+		r.Zones = s.Zones
+	}
+	return r
+}
+
+// drawCase draws the melt, cup and logger of one case from r.
+func drawCase(r *rand.Rand, alloy string) Params {
 	p, err := Preset(alloy, r.Float64(), r.Uint64())
 	if err != nil {
 		panic(err)
@@ -93,12 +148,13 @@ type pointCheck struct {
 	tol   float64 // °C; 0: logged, not checked
 	truth func(*Truth) (float64, bool)
 	got   func(*arrest.Result) (float64, bool)
-	errs  []float64
-	nulls int // null where the truth has a value, or a value where the truth is null
+	errs  []float64 // arrest − truth, °C
+	nulls int       // null where the truth has a value, or a value where the truth is null
 }
 
-func TestRecoveryOfSimulatedTruth(t *testing.T) {
-	checks := []*pointCheck{
+// recoveryChecks are the points the suite compares, with their tolerances.
+func recoveryChecks() []*pointCheck {
+	return []*pointCheck{
 		{name: "pour_peak", truth: func(t *Truth) (float64, bool) { return t.PourPeak.TempC, t.PourPeak.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.PourPeak.TempC, r.PourPeak.OK }},
 		{name: "liquidus_min", truth: func(t *Truth) (float64, bool) { return t.LiquidusMin.TempC, t.LiquidusMin.OK },
@@ -114,65 +170,105 @@ func TestRecoveryOfSimulatedTruth(t *testing.T) {
 		{name: "solidus", tol: 4, truth: func(t *Truth) (float64, bool) { return t.Solidus.TempC, t.Solidus.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.Solidus.TempC, r.Solidus.OK }},
 	}
-	var failures []string
-	var az arrest.Analyzer
-	notBuilt, n, stride := 0, 0, 1
+}
+
+func TestRecoveryOfSimulatedTruth(t *testing.T) {
+	stride := 1
 	if raceBuild || testing.Short() {
 		stride = 5 // all families still (6 alloys, 5 coprime); the full 240 run without -race and -short
 	}
-	for i := 0; i < recoveryCases; i += stride {
-		n++
-		p := recoveryCase(i)
-		out := Simulate(p)
-		if err := soundTruth(p, out.Truth); err != "" {
-			t.Errorf("case %d %s %s: the simulated truth itself is unsound: %s", i, p.Alloy, p.Fault, err)
-		}
-		tm, temp := out.Time, out.Temp
-		if out.Open != nil { // the logger's open-circuit readings never reach the core
-			k := slices.Index(out.Open, true)
-			tm, temp = tm[:k], temp[:k]
-		}
-		res := az.Analyze(tm, temp, arrest.Options{Family: arrestFamily(p.Alloy)})
-		for _, pr := range res.Problems {
-			if pr.Code == "not-analysed" {
-				notBuilt++
-			}
-		}
-		for _, c := range checks {
-			want, wok := c.truth(&out.Truth)
-			got, gok := c.got(&res)
-			desc := fmt.Sprintf("case %d %s inoc %.2f mod %.2f %s %g Hz noise %.2f q %g spikes %g lag %.2f:", i, p.Alloy, p.Inoculation, p.Modification, p.Fault, p.Logger.RateHz, p.Logger.NoiseC, p.Logger.QuantC, p.Logger.SpikeRate, p.Logger.LagS)
-			switch {
-			case wok && gok:
-				e := math.Abs(got - want)
-				c.errs = append(c.errs, e)
-				if c.tol > 0 && e > c.tol {
-					failures = append(failures, fmt.Sprintf("%s %s %.2f, truth %.2f (|error| %.2f > %.1f)", desc, c.name, got, want, e, c.tol))
+	for _, kind := range []struct {
+		name string
+		draw func(int) Params
+	}{{"lumped", recoveryCase}, {"radial", radialCase}} {
+		t.Run(kind.name, func(t *testing.T) {
+			checks := recoveryChecks()
+			var failures []string
+			var az arrest.Analyzer
+			n, faults := 0, 0
+			for i := 0; i < recoveryCases; i += stride {
+				n++
+				p := kind.draw(i)
+				out := Simulate(p)
+				if err := soundTruth(p, out.Truth); err != "" {
+					t.Errorf("case %d %s %s: the simulated truth itself is unsound: %s", i, p.Alloy, p.Fault, err)
 				}
-			case wok != gok:
-				c.nulls++
-				if c.tol > 0 {
-					failures = append(failures, fmt.Sprintf("%s %s found=%v (%.2f), truth found=%v (%.2f)", desc, c.name, gok, got, wok, want))
+				tm, temp := out.Time, out.Temp
+				if out.Open != nil { // the logger's open-circuit readings never reach the core
+					k := slices.Index(out.Open, true)
+					tm, temp = tm[:k], temp[:k]
+				}
+				az.Reset()
+				res := az.Analyze(tm, temp, arrest.Options{Family: arrestFamily(p.Alloy)})
+				desc := fmt.Sprintf("%s case %d %s inoc %.2f mod %.2f %s %g Hz noise %.2f q %g spikes %g lag %.2f%s:", kind.name, i, p.Alloy, p.Inoculation, p.Modification, p.Fault, p.Logger.RateHz, p.Logger.NoiseC, p.Logger.QuantC, p.Logger.SpikeRate, p.Logger.LagS, radialDesc(p))
+				if p.Fault == FaultOpen || p.Fault == FaultPulledEarly {
+					faults++
+					if !res.Invalid() {
+						failures = append(failures, fmt.Sprintf("%s a faulty cup not flagged invalid (problems %v)", desc, res.Problems))
+					}
+				}
+				// a recording that stops while the eutectic is unsettled has
+				// no maximum (or no eutectic) in the truth; from the noisy
+				// readings the detector may settle one (cutPlateau), and the
+				// result is invalid either way
+				cut := !out.Truth.EutecticMax.OK
+				for _, c := range checks {
+					want, wok := c.truth(&out.Truth)
+					got, gok := c.got(&res)
+					switch {
+					case wok && gok:
+						e := got - want
+						c.errs = append(c.errs, e)
+						if c.tol > 0 && math.Abs(e) > c.tol {
+							failures = append(failures, fmt.Sprintf("%s %s %.2f, truth %.2f (|error| %.2f > %.1f)", desc, c.name, got, want, math.Abs(e), c.tol))
+						}
+					case wok != gok:
+						c.nulls++
+						if c.tol > 0 && !(cut && !wok && strings.HasPrefix(c.name, "eutectic") || cut && c.name == "recalescence") {
+							failures = append(failures, fmt.Sprintf("%s %s found=%v (%.2f), truth found=%v (%.2f)", desc, c.name, gok, got, wok, want))
+						}
+					}
 				}
 			}
-		}
+			logErrors(t, fmt.Sprintf("%d SIMULATED %s cups (%d cut short by a fault)", n, kind.name, faults), checks)
+			if len(failures) > 0 && kind.name == "radial" && !radialEnforced {
+				t.Logf("%d checks outside the tolerances on %d radial cups (not yet enforced)", len(failures), n)
+				return
+			}
+			if len(failures) > 0 {
+				show := failures[:min(len(failures), 25)]
+				t.Errorf("%d failed checks on %d %s cups; first %d:\n%s", len(failures), n, kind.name, len(show), strings.Join(show, "\n"))
+			}
+		})
 	}
-	t.Logf("%d SIMULATED cases; |arrest − truth| in °C:", n)
-	t.Logf("%-13s %6s %8s %8s %8s %8s %6s", "point", "n", "median", "p95", "max", "limit", "null≠")
+}
+
+// radialDesc describes a radial cup's parameters for a failure message.
+func radialDesc(p Params) string {
+	if p.Cup != CupRadial {
+		return ""
+	}
+	r := p.Radial
+	return fmt.Sprintf(" radial zones %d wall h %.0f k %.0f/%.0f nuclei %.3g shell %.2f", r.Zones, r.WallHW, r.LiquidK, r.SolidK, r.WallNuclei, r.ShellFrac)
+}
+
+// logErrors prints the distribution of arrest − truth per point: the
+// median and 95th percentile of |error|, the extremes of the signed error
+// and the nulls that disagree.
+func logErrors(t *testing.T, title string, checks []*pointCheck) {
+	t.Helper()
+	t.Logf("%s; arrest − truth in °C:", title)
+	t.Logf("%-13s %5s %8s %8s %8s %8s %8s %6s", "point", "n", "|e| med", "|e| p95", "|e| max", "min e", "max e", "null≠")
 	for _, c := range checks {
-		med, p95, mx := quantile(c.errs, 0.5), quantile(c.errs, 0.95), quantile(c.errs, 1)
+		abs := make([]float64, len(c.errs))
+		for k, e := range c.errs {
+			abs[k] = math.Abs(e)
+		}
 		lim := "-"
 		if c.tol > 0 {
-			lim = fmt.Sprintf("%.1f", c.tol)
+			lim = fmt.Sprintf("±%.1f", c.tol)
 		}
-		t.Logf("%-13s %6d %8.3f %8.3f %8.3f %8s %6d", c.name, len(c.errs), med, p95, mx, lim, c.nulls)
-	}
-	if notBuilt == n {
-		t.Logf("internal/arrest reports %q on every case: the detector is not built yet", "not-analysed")
-	}
-	if len(failures) > 0 {
-		show := failures[:min(len(failures), 25)]
-		t.Errorf("%d of %d point checks outside the foundation accuracy; first %d:\n%s", len(failures), n*5, len(show), strings.Join(show, "\n"))
+		t.Logf("%-13s %5d %8.3f %8.3f %8.3f %8.3f %8.3f %6d  (limit %s)", c.name, len(c.errs), quantile(abs, 0.5), quantile(abs, 0.95), quantile(abs, 1), quantile(c.errs, 0), quantile(c.errs, 1), c.nulls, lim)
 	}
 }
 
@@ -188,15 +284,18 @@ func quantile(xs []float64, q float64) float64 {
 }
 
 // soundTruth checks that a case's truth is what its physics promises:
-// a pour peak and a eutectic always, a liquidus exactly where the chemistry
-// is hypoeutectic, and an end of freezing unless the recording stops early.
+// a pour peak always, a eutectic unless the recording stops while it is
+// still unsettled (recalescing, or T' above zero by less than the rise that
+// makes a recalescence), a liquidus exactly where the
+// chemistry is hypoeutectic, and an end of freezing unless the recording
+// stops early.
 func soundTruth(p Params, tr Truth) string {
 	hypo := tr.EquilibriumLiquidusC != 0
 	stops := p.Fault == FaultOpen || p.Fault == FaultPulledEarly
 	switch {
 	case !tr.PourPeak.OK:
 		return "no pour peak"
-	case !tr.EutecticMin.OK || !tr.EutecticMax.OK:
+	case !stops && (!tr.EutecticMin.OK || !tr.EutecticMax.OK):
 		return "no eutectic"
 	case tr.Liquidus.OK != hypo:
 		return fmt.Sprintf("liquidus %v for a hypoeutectic alloy %v", tr.Liquidus.OK, hypo)

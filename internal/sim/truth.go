@@ -288,7 +288,13 @@ func (f *fine) points(n int, tr *Truth) {
 	for i > 0 && i < n-1 {
 		k := downCross(i+1, n)
 		if k < 0 {
-			break // still recalescing where the recording ends
+			// still recalescing where the recording ends: the minimum is
+			// known once T has risen by recalMinC, the maximum is not
+			if x[n-1]-f.tc[i] >= recalMinC {
+				tr.EutecticMin = f.crossing(d, i)
+				eutMin = i - 1
+			}
+			break
 		}
 		if f.tc[k]-f.tc[i] >= recalMinC {
 			tr.EutecticMin = f.crossing(d, i)
