@@ -95,8 +95,8 @@ const fitStepS = 0.02
 
 // fitRadialStepS is an iron cup's integration step in a radial fit, s:
 // the sim's coarsest; the 5-zone cup's points move by under 0.04 °C from
-// the 5 ms step (internal/sim TestCurveRadial holds them to 0.1 °C), at
-// two fifths of the cost of fitStepS. An Al-Si cup keeps fitStepS: at
+// the 5 ms step (internal/sim TestCurveRadialCoarseStep holds them to
+// 0.1 °C), at two fifths of the cost of fitStepS. An Al-Si cup keeps fitStepS: at
 // 50 ms its χ² is rough enough that 6 of 20 modifier fits on radial cups
 // ran out of iterations, against 2 of 20 at 20 ms (TestHeldOutPairs).
 const fitRadialStepS = 0.05
