@@ -154,7 +154,9 @@ func TestHeldOutPairs(t *testing.T) {
 	refiner := builtin.InoculantTables["altib-rod"]
 	modifier := builtin.InoculantTables["alsr-master"]
 	nearly := func(a string) sim.Radial { return sim.NearlyLumped(a) }
-	var predicted, asked, agreed, judged int
+	// outside: predictions whose verdict range (from the stated
+	// uncertainty) does not hold the measured verdict
+	var predicted, asked, agreed, judged, outside int
 	plain := func(string) sim.Radial { return sim.Radial{} }
 	for _, set := range []struct {
 		name   string
@@ -223,6 +225,8 @@ func TestHeldOutPairs(t *testing.T) {
 			}
 			if o.vPred == o.vMeas {
 				agree++
+			} else if !slices.Contains(o.verdictRange, o.vMeas) {
+				outside++
 			}
 			lines = append(lines, fmt.Sprintf("  %s: predicted %.2f ± %.2f, measured %.2f, error %+.2f; verdict %s (range %v) vs %s",
 				c.label, o.pred, o.u, o.meas, e, o.vPred, o.verdictRange, o.vMeas))
@@ -253,7 +257,12 @@ func TestHeldOutPairs(t *testing.T) {
 	if predicted*10 < asked*9 {
 		t.Errorf("only %d of %d pairs got a prediction where the model applies, want at least 90 %%", predicted, asked)
 	}
-	if agreed*10 < judged*9 {
+	switch {
+	case judged >= 10 && agreed*10 < judged*9:
 		t.Errorf("the verdict agrees in %d of %d predictions, want at least 90 %%", agreed, judged)
+	case judged < 10 && outside > 0:
+		// a handful of pairs (the race detector, -short) cannot test a
+		// rate; each verdict that differs must then lie in the predicted range
+		t.Errorf("%d of %d predicted verdicts differ from the measured one beyond their stated range", outside, judged)
 	}
 }
