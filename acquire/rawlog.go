@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -194,6 +195,42 @@ func (l *rawLog) writeRow(w *curvefile.Writer, rw row, before ...string) error {
 		return w.Write(rw.time, rw.temp, append(before, rw.flags, rw.mv, rw.cj)...)
 	}
 	return w.Write(rw.time, rw.temp, append(before, rw.flags)...)
+}
+
+// cutAfter leaves out of the completed file the readings after atS (s in
+// the file) and the wall readings after the first one beyond it (which the
+// last centre reading's wall value is taken with), as the tracker leaves
+// them out of the sample (sample.Command.AtS). The partial file keeps
+// them until it is completed.
+func (l *rawLog) cutAfter(atS float64) {
+	k := len(l.rows)
+	for k > 0 && l.rows[k-1].time > atS {
+		k--
+	}
+	if k < len(l.rows) {
+		first := l.rows[k]
+		l.gapAtEnd = hasFlag(first.flags, "gap_before") || strings.Contains(first.fault, "gap_before")
+		l.rows = l.rows[:k]
+		l.faults = 0
+		for _, rw := range l.rows {
+			if rw.fault != "" {
+				l.faults++
+			}
+		}
+	}
+	j := 0
+	for j < len(l.walls) && l.walls[j].time <= atS {
+		j++
+	}
+	if j+1 < len(l.walls) {
+		l.walls = l.walls[:j+1]
+		l.wallFaults = 0
+		for _, w := range l.walls {
+			if math.IsNaN(w.temp) {
+				l.wallFaults++
+			}
+		}
+	}
 }
 
 // finish completes the log and returns the final path.
