@@ -499,3 +499,38 @@ func TestFlappingPortCountsEachReconnect(t *testing.T) {
 	}
 	a.Stop("1", 0, "")
 }
+
+// TestStopAtLeavesLaterReadingsOut: the tracker's word to stop after the
+// margin names the sample time it ends at; readings the acquirer took
+// before the word arrived (a loaded machine, a burst) are left out of the
+// completed file, so that the file does not depend on how long the word
+// took. Before, the file ran on to wherever the word arrived: under load
+// TestTwoThermocoupleCupRecorded got 24 s more of tail, and a Fourier
+// latent heat 4.6 times the model's.
+func TestStopAtLeavesLaterReadingsOut(t *testing.T) {
+	port := newPipePort()
+	a, col, _ := startAcq(t, port.open, Config{Dir: t.TempDir()})
+	sent := cupCurve(10, 3, 40)
+	w := port.plug()
+	for _, r := range sent {
+		w.Write([]byte(r.line("1")))
+	}
+	col.until("every reading", 10*time.Second, func() bool { return len(col.readings) == len(sent) })
+	st := col.has(feed.KindStarted, "1")
+	if st == nil {
+		t.Fatal("no sample started")
+	}
+	atS := 20.0 // s in the file; readings up to 36 s have been taken
+	a.StopAt("1", st.Sample, atS, "freezing done")
+	col.until("sample done", 10*time.Second, func() bool { return col.has(feed.KindEnded, "1") != nil })
+	c, err := curvefile.ReadFile(col.has(feed.KindEnded, "1").Path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if last := c.Time[len(c.Time)-1]; last > atS || last < atS-0.1 {
+		t.Fatalf("the file ends at %v s, want %v", last, atS)
+	}
+	if c.Get("ended") != "freezing done" {
+		t.Errorf("ended %q", c.Get("ended"))
+	}
+}

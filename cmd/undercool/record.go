@@ -282,7 +282,7 @@ func (r *recording) progress() {
 	}
 	plant := ""
 	if r.fw != nil {
-		plant = "; " + r.fw.Status().String()
+		plant = "; " + escape.Line(r.fw.Status().String())
 	}
 	fmt.Fprintf(r.env.stderr, "undercool record: %s, %s: channel %s %s; %d readings, %.1f °C, %d faults%s\n",
 		r.port, conn, r.channel, state, r.readings, r.lastC, s.Faults, plant)

@@ -39,6 +39,7 @@ type channel struct {
 	faultsIn   int     // fault readings in the sample's file
 	frozenAt   float64 // sample time when freezing was seen to end
 	frozenHost float64 // the source's host clock then (feed.Status.HostS; 0: none)
+	stopAt     float64 // once stopped: the sample time it ends at (Command.AtS)
 	stopped    bool    // the stop was asked
 	// a cup with two thermocouples: the wall thermocouple's channel ("" for
 	// one), its readings in the sample (s of the file, °C; NaN for a
@@ -86,23 +87,26 @@ func (c *channel) reading(t *Tracker, r feed.Reading) {
 		}
 		c.fault = Fault{Kind: k, TimeS: feed.FileTime(r.TimeS, c.startS)}
 	}
-	if c.state.Busy() && c.add(r) {
+	if c.state.Busy() && c.add(t, r) {
 		c.watch(t)
 	}
 }
 
 // add takes a reading of the sample into its curve, as its file holds it;
 // false for a fault reading (kept in the file as a #fault line only).
-func (c *channel) add(r feed.Reading) bool {
+func (c *channel) add(t *Tracker, r feed.Reading) bool {
+	ft := feed.FileTime(r.TimeS, c.startS)
+	if t.endAtStop && c.stopped && ft > c.stopAt {
+		return false // after the end the tracker asked for
+	}
 	if !r.Valid() {
 		c.faultsIn++
 		return false
 	}
-	t := feed.FileTime(r.TimeS, c.startS)
-	c.t = append(c.t, t)
+	c.t = append(c.t, ft)
 	c.v = append(c.v, r.TempC)
 	c.grew = true
-	c.pegged(t, r.TempC)
+	c.pegged(ft, r.TempC)
 	return true
 }
 
@@ -154,13 +158,13 @@ func (c *channel) start(t *Tracker, it *feed.Item) {
 		}
 	}
 	for _, r := range it.Pre {
-		c.add(r)
+		c.add(t, r)
 	}
 	c.wall, c.wt, c.wv, c.wallV, c.radii = it.Wall, nil, nil, nil, solidpath.Geometry{}
 	if c.wall != "" {
 		t.walls[c.wall] = c.id
 		for _, r := range it.WallPre {
-			c.addWall(r)
+			c.addWall(t, r)
 		}
 	}
 	c.grew = true
@@ -208,8 +212,8 @@ func (c *channel) overdue(t *Tracker) {
 // margin after it recorded.
 func (c *channel) stop(t *Tracker) {
 	if !c.stopped {
-		c.stopped = true
-		t.command(Command{Kind: CommandStop, Channel: c.id, Sample: c.n, Reason: "freezing done"})
+		c.stopped, c.stopAt = true, c.elapsed()
+		t.command(Command{Kind: CommandStop, Channel: c.id, Sample: c.n, Reason: "freezing done", AtS: c.stopAt})
 	}
 }
 
@@ -292,7 +296,10 @@ func (c *channel) finish(t *Tracker, path, why string, announce bool) {
 
 // addWall takes a reading of the sample's wall thermocouple, as its file
 // holds it.
-func (c *channel) addWall(r feed.Reading) {
+func (c *channel) addWall(t *Tracker, r feed.Reading) {
+	if n := len(c.wt); t.endAtStop && c.stopped && n > 0 && c.wt[n-1] > c.stopAt {
+		return // the first wall reading after the end is kept, for the last centre one
+	}
 	v := r.TempC
 	if !r.Valid() {
 		v = math.NaN()

@@ -94,7 +94,10 @@ type Tracker struct {
 	defaults Meta // the next sample's metadata on channels not seen yet
 	status   feed.Status
 	out      Update
-	walls    map[string]string // wall thermocouple channel → the channel of its cup's sample recording
+	// endAtStop: readings after a stop's AtS are not the sample's
+	// (EndAtStop)
+	endAtStop bool
+	walls     map[string]string // wall thermocouple channel → the channel of its cup's sample recording
 	// simulated: the device said simulated=true (the virtual melt deck)
 	simulated bool
 }
@@ -296,6 +299,13 @@ type Command struct {
 	Sample  int
 	Reason  string
 	Meta    Meta
+	// AtS (CommandStop) is the sample time, s from the file's first
+	// reading, the sample ends at: its last reading the tracker took.
+	// Readings after it that reach the source before the command are not
+	// the sample's: the tracker leaves them out, and a source that can
+	// (acquire.Acquirer.StopAt) leaves them out of the file, so that the
+	// sample does not depend on how long the command took to arrive.
+	AtS float64
 }
 
 // Initial is the update before any item: the metadata the source is to
@@ -336,6 +346,14 @@ func (t *Tracker) SetForm(ch string, m Meta) Update {
 	c.setNext(t, next)
 	return t.flush()
 }
+
+// EndAtStop says that the source ends a sample at its stop command's AtS,
+// leaving out of the file the readings after it that it took before the
+// command arrived (acquire.Acquirer.StopAt): the tracker then leaves them
+// out of the sample too, so that the record is the file's. Without it
+// (a replay, whose file is the sample) every reading until the source
+// says the sample ended is the sample's. The session calls it.
+func (t *Tracker) EndAtStop() { t.endAtStop = true }
 
 // SetLimits takes a new limits book (saved from the editor): samples that
 // start from now on are resolved and judged by it.
@@ -397,7 +415,7 @@ func (t *Tracker) item(it *feed.Item) {
 	case feed.KindReading:
 		t.channel(it.Reading.Channel).reading(t, it.Reading)
 		if centre, ok := t.walls[chanID(it.Reading.Channel)]; ok {
-			t.chans[centre].addWall(it.Reading)
+			t.chans[centre].addWall(t, it.Reading)
 		}
 	case feed.KindStarted:
 		t.channel(it.Channel).start(t, it)
