@@ -12,15 +12,17 @@ import (
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/feed"
+	"github.com/undercool-foundry/undercool/internal/forecast"
 	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
 // cup is one channel as the dashboard shows it: the tracker's snapshot
 // (a value: its slices are never changed) and its charts as last drawn.
 type cup struct {
-	snap  sample.Snapshot
-	link  link       // the source's connection, as of the snapshot
-	drawn chartCache // drawn in Update, read by View
+	snap   sample.Snapshot
+	link   link                  // the source's connection, as of the snapshot
+	advice []forecast.Prediction // the cup model's advice on the finished sample, once it came
+	drawn  chartCache            // drawn in Update, read by View
 }
 
 // link is the state of the source's connection as a cup shows it.
@@ -395,6 +397,9 @@ func (c *cup) verdictLines(st *Styles, w int) []string {
 	}
 	for _, a := range recordAdvice(rec) {
 		lines = append(lines, wrapText(st.Value, "→ "+a, w)...)
+	}
+	if e, ok := estimateLine(rec, c.advice); ok {
+		lines = append(lines, wrapText(st.Muted, "≈ "+e, w)...)
 	}
 	return lines
 }

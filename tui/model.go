@@ -35,9 +35,12 @@ type Options struct {
 	// SaveLimits writes an edited book; nil makes the limits read-only.
 	SaveLimits LimitsSaver
 	ReadCurve  CurveReader // opens a stored sample's curve file
-	Styles     *Styles     // nil builds them for lipgloss's default renderer
-	Clock      func() time.Time
-	Log        io.Writer // the log file; nil discards. Written by commands only.
+	// Advise gives the cup model's advice on each finished sample (nil:
+	// none); ForecastAdvice is the commands'.
+	Advise Adviser
+	Styles *Styles // nil builds them for lipgloss's default renderer
+	Clock  func() time.Time
+	Log    io.Writer // the log file; nil discards. Written by commands only.
 }
 
 type tab int
@@ -191,6 +194,9 @@ func (m Model) handle(msg tea.Msg) (tea.Model, tea.Cmd) {
 	case curveLoadedMsg:
 		m.hist, _ = m.hist.Update(msg)
 		return m, nil
+	case adviceMsg:
+		m.live = m.live.setAdvice(msg)
+		return m, nil
 	case limitsSavedMsg:
 		var cmd tea.Cmd
 		if msg.err != nil {
@@ -249,6 +255,11 @@ func (m Model) update(u sample.Update) (tea.Model, tea.Cmd) {
 	}
 	m.live = m.live.apply(u.Channels, linkOf(u.Status, m.ended))
 	cmds := []tea.Cmd{m.logLines(lines), waitUpdate(m.feed, m.pace)}
+	for _, f := range u.Finished {
+		if m.opt.Advise != nil && !f.Recovered {
+			cmds = append(cmds, advise(m.opt.Advise, f, m.opt.Limits))
+		}
+	}
 	if len(u.Finished) > 0 {
 		cmds = append(cmds, loadHistory(m.opt.Records))
 	}

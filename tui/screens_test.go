@@ -1,6 +1,7 @@
 package tui
 
 import (
+	"context"
 	"slices"
 	"strconv"
 	"strings"
@@ -10,6 +11,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/feed"
+	"github.com/undercool-foundry/undercool/internal/forecast"
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sample"
 )
@@ -243,5 +245,27 @@ func TestTrendMetricBothWays(t *testing.T) {
 	ms := m.hist.metrics()
 	if m.hist.metricName() != ms[len(ms)-1] {
 		t.Fatalf("M from the first gave %s, want the last, %s", m.hist.metricName(), ms[len(ms)-1])
+	}
+}
+
+// The cup model's advice on a finished sample, when the adviser gives one
+// that applies, shows at DONE as a model estimate, and in the whole
+// verdict with its caution; a prediction that does not apply shows nothing.
+func TestDoneShowsModelEstimate(t *testing.T) {
+	for _, applies := range []bool{true, false} {
+		m := testModelJudged(t, judgeAs(assess.VerdictFail), 120, 40)
+		m.opt.Advise = func(_ context.Context, f sample.Finished, _ *limits.Book) []forecast.Prediction {
+			// CONSTRUCTED: a stand-in for the fit (internal/forecast is tested on its own)
+			return []forecast.Prediction{{ModelEstimate: true, Applies: applies, Inoculant: "FeSi75",
+				Text: "constructed estimate: consider adding 0.10 % FeSi75 and re-sampling, per the shop's practice", Caution: forecast.Caution}}
+		}
+		m = play(m, constructedBatches("1", 230, 10, 5))
+		v := stripANSI(m.View())
+		if got := strings.Contains(v, "≈ model estimate, not a measurement:") && strings.Contains(v, "constructed estimate"); got != applies {
+			t.Fatalf("applies %v: estimate on screen %v:\n%s", applies, got, v)
+		}
+		if d := stripANSI(press(m, "v").View()); applies && !strings.Contains(d, "Model estimate") {
+			t.Fatalf("the whole verdict lacks the estimate:\n%s", d)
+		}
 	}
 }
