@@ -2,6 +2,7 @@ package tui
 
 import (
 	"context"
+	"strings"
 
 	tea "github.com/charmbracelet/bubbletea"
 
@@ -46,6 +47,9 @@ func estimateLine(rec *assess.Record, ps []forecast.Prediction) (string, bool) {
 	p, ok := forecast.Headline(*rec, ps)
 	if !ok || !p.Applies || p.Text == "" {
 		return "", false
+	}
+	if strings.HasPrefix(strings.ToLower(p.Text), "model estimate") {
+		return p.Text + " (not a measurement)", true // the forecast's own words say what it is
 	}
 	return "model estimate, not a measurement: " + p.Text, true
 }

@@ -609,12 +609,16 @@ func (m Model) statusLine() string {
 		m.st.Status.Render(fmt.Sprintf("garbage %d", s.Garbage)),
 		m.st.Status.Render(fmt.Sprintf("reconnects %d", s.Reconnects)),
 	}
-	line := strings.Join(parts, m.st.Muted.Render(" · "))
-	if lipgloss.Width(line) > m.w {
+	// The wording is chosen by the screen's width with room for four-digit
+	// counts, never by the counts of the moment, so that line 2 does not
+	// flip between its long and short form as they change.
+	room := lipgloss.Width(port) + len("NOT CONNECTED") + // the widest wording of the connection
+		len(" · 9999 readings/s · faults 9999 · garbage 9999 · reconnects 9999 · ")
+	if room > m.w {
 		parts[2] = m.st.Status.Render(fmt.Sprintf("%.0f/s", s.ReadingsPerS))
 		parts[5] = m.st.Status.Render(fmt.Sprintf("reconn. %d", s.Reconnects))
-		line = strings.Join(parts, m.st.Muted.Render(" · "))
 	}
+	line := strings.Join(parts, m.st.Muted.Render(" · "))
 	return clip(line, m.w)
 }
 

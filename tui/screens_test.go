@@ -261,11 +261,25 @@ func TestDoneShowsModelEstimate(t *testing.T) {
 		}
 		m = play(m, constructedBatches("1", 230, 10, 5))
 		v := stripANSI(m.View())
-		if got := strings.Contains(v, "≈ model estimate, not a measurement:") && strings.Contains(v, "constructed estimate"); got != applies {
+		if got := strings.Contains(v, "≈ model estimate") && strings.Contains(v, "constructed estimate"); got != applies {
 			t.Fatalf("applies %v: estimate on screen %v:\n%s", applies, got, v)
 		}
 		if d := stripANSI(press(m, "v").View()); applies && !strings.Contains(d, "Model estimate") {
 			t.Fatalf("the whole verdict lacks the estimate:\n%s", d)
+		}
+	}
+}
+
+// Line 2 keeps its wording as the counts change: the long or short form
+// is chosen by the screen's width, not by the numbers of the moment.
+func TestStatusLineKeepsItsWording(t *testing.T) {
+	for _, w := range []int{80, 120} {
+		m := testModel(t, w, 24)
+		m.status = feed.Status{Port: "/dev/ttyUSB0", Connected: true, ReadingsPerS: 9}
+		short := strings.Contains(stripANSI(m.statusLine()), "reconn.")
+		m.status.ReadingsPerS, m.status.Faults, m.status.Garbage, m.status.Reconnecting = 1000, 120, 3400, true
+		if again := strings.Contains(stripANSI(m.statusLine()), "reconn."); again != short {
+			t.Errorf("at %d columns the status line changed its wording with the counts", w)
 		}
 	}
 }
