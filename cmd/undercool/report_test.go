@@ -63,20 +63,27 @@ func TestReportFromCurveFile(t *testing.T) {
 	}
 }
 
-func TestReportFromStoreNotesChangedCurve(t *testing.T) {
-	dir := t.TempDir()
-	curve := reportCurveFile(t, dir)
+// reportStoreSample is the simulated cup of reportCurveFile in dir, its
+// record (assess.Assess) and its stored sample as sampleFromCurve makes it,
+// with an open records database for it.
+func reportStoreSample(t *testing.T, dir string) (curve, dbPath string, db *store.DB, rec assess.Record, s store.Sample) {
+	t.Helper()
+	curve = reportCurveFile(t, dir)
 	c, err := curvefile.ReadFile(curve)
 	if err != nil {
 		t.Fatal(err)
 	}
-	dbPath := filepath.Join(dir, "records.db")
-	db, err := store.Open(context.Background(), dbPath)
-	if err != nil {
+	dbPath = filepath.Join(dir, "records.db")
+	if db, err = store.Open(context.Background(), dbPath); err != nil {
 		t.Fatal(err)
 	}
-	rec := assess.Assess(assess.Input{File: curve, Alloy: c.Get("alloy"), Time: c.Time, Temp: c.Temp, Meta: c.Meta})
-	s := sampleFromCurve(curve, c, rec)
+	rec = assess.Assess(assess.Input{File: curve, Alloy: c.Get("alloy"), Time: c.Time, Temp: c.Temp, Meta: c.Meta})
+	return curve, dbPath, db, rec, sampleFromCurve(curve, c, rec)
+}
+
+func TestReportFromStoreNotesChangedCurve(t *testing.T) {
+	dir := t.TempDir()
+	curve, dbPath, db, _, s := reportStoreSample(t, dir)
 	if s.Recorded.Format("15:04") != "07:40" || s.Furnace != "holder H3" || !s.Simulated || s.Operator != "Odile Flintcaster" {
 		t.Fatalf("sample from the curve's metadata: %+v", s)
 	}
@@ -174,18 +181,7 @@ func TestAnalyzeStore(t *testing.T) {
 // record, with a note naming the file and line that fail.
 func TestReportPageRecordsWhatHappened(t *testing.T) {
 	dir := t.TempDir()
-	curve := reportCurveFile(t, dir)
-	c, err := curvefile.ReadFile(curve)
-	if err != nil {
-		t.Fatal(err)
-	}
-	dbPath := filepath.Join(dir, "records.db")
-	db, err := store.Open(context.Background(), dbPath)
-	if err != nil {
-		t.Fatal(err)
-	}
-	rec := assess.Assess(assess.Input{File: curve, Alloy: c.Get("alloy"), Time: c.Time, Temp: c.Temp, Meta: c.Meta})
-	s := sampleFromCurve(curve, c, rec)
+	curve, dbPath, db, rec, s := reportStoreSample(t, dir)
 	if want := "2026-12-01T07:40:00Z"; rec.PourPeakS == nil || !s.Recorded.Equal(mustTime(t, want).Add(time.Duration(*rec.PourPeakS*float64(time.Second)))) {
 		t.Fatalf("pour time %v, want %s plus the pour peak's %v s", s.Recorded, want, rec.PourPeakS)
 	}
