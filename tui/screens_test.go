@@ -34,6 +34,7 @@ func judgeAs(v string) sample.Judge {
 			rec.Reasons = []string{"constructed reason: pour superheat 12 °C is below its 40 °C limit (a check on the sample)"}
 			rec.Advice = []string{"The cup was filled cold: the arrests may be distorted. Consider re-sampling with hotter metal and a pre-heated, dry spoon, per the shop's practice."}
 			rec.Withheld = []assess.WithheldFigure{{Metric: "ce", Value: 4.31, Why: "pour superheat below its limit"}}
+			rec.CE = nil // withheld: null in the record, as assess leaves it
 		case assess.VerdictUnchecked:
 			rec.Reasons, rec.Advice = []string{"no limits are set for alloy grey-iron"}, nil
 		}
