@@ -268,7 +268,14 @@ func (m Model) update(u sample.Update) (tea.Model, tea.Cmd) {
 
 // eventLog is an event as a log line.
 func eventLog(ev sample.Event) string {
-	return fmt.Sprintf("%s: cup %q at %.1f s: %s %v %s", ev.Kind, ev.Channel, ev.TimeS, ev.Text, ev.Info, ev.Path)
+	line := fmt.Sprintf("%s: cup %q at %.1f s: %s", ev.Kind, ev.Channel, ev.TimeS, ev.Text)
+	if len(ev.Info) > 0 {
+		line += " " + pairsText(ev.Info)
+	}
+	if ev.Path != "" {
+		line += " " + ev.Path
+	}
+	return line
 }
 
 // logf is the command that writes a line to the log.

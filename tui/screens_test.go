@@ -284,3 +284,15 @@ func TestStatusLineKeepsItsWording(t *testing.T) {
 		}
 	}
 }
+
+// The log says a device line's pairs as the line gave them, never as a Go
+// value's dump (map[…], {…}).
+func TestLogLinesWithoutDumps(t *testing.T) {
+	ev := sample.Event{Kind: sample.EventDeviceInfo, Channel: "1", TimeS: 2, Text: "device line",
+		Info: []curvefile.Meta{{Key: "sample", Value: "L-2405 cup 1"}, {Key: "alloy", Value: "grey-iron"}}}
+	for _, line := range []string{eventLog(ev), eventLine(ev)} {
+		if !strings.Contains(line, `sample="L-2405 cup 1" alloy=grey-iron`) || strings.ContainsAny(line, "{}[") {
+			t.Errorf("log line %q", line)
+		}
+	}
+}
