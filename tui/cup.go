@@ -13,16 +13,19 @@ import (
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/feed"
+	"github.com/undercool-foundry/undercool/internal/forecast"
+	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
 // cup is one channel as the dashboard shows it: the tracker's snapshot
 // (a value: its slices are never changed) and its charts as last drawn.
 type cup struct {
-	snap  sample.Snapshot
-	link  link       // the source's connection, as of the snapshot
-	drawn chartCache // drawn in Update, read by View
-	fs    *fraction  // fs(t) once asked for (fraction.go); never changed, replaced
+	snap   sample.Snapshot
+	link   link                  // the source's connection, as of the snapshot
+	advice []forecast.Prediction // the cup model's advice on the finished sample, once it came
+	drawn  chartCache            // drawn in Update, read by View
+	fs     *fraction             // fs(t) once asked for (fraction.go); never changed, replaced
 }
 
 // link is the state of the source's connection as a cup shows it.
@@ -173,16 +176,74 @@ type pointRow struct {
 	p     arrest.Point
 }
 
-func (c *cup) points() []pointRow { return pointsOf(c.snap.Result) }
+func (c *cup) points() []pointRow { return pointsOfFamily(c.snap.Result, c.snap.Family) }
 
-func pointsOf(r arrest.Result) []pointRow {
+func pointsOf(r arrest.Result) []pointRow { return pointsOfFamily(r, "") }
+
+// pointsOfFamily are the points in the words of the cup's family: a check
+// cup of a pure metal has a plateau, not a eutectic.
+func pointsOfFamily(r arrest.Result, f arrest.Family) []pointRow {
+	u, m := "eutectic min", "eutectic max"
+	if f == arrest.FamilyPure {
+		u, m = "min before plateau", "plateau"
+	}
 	return []pointRow{
 		{'P', "pour peak", r.PourPeak},
 		{'A', "liquidus", r.Liquidus},
-		{'U', "eutectic min", r.EutecticMin},
-		{'R', "eutectic max", r.EutecticMax},
+		{'U', u, r.EutecticMin},
+		{'R', m, r.EutecticMax},
 		{'S', "end of freezing", r.Solidus},
 	}
+}
+
+// decisionMetrics are the figures the deck decides on, per family
+// (practice): for iron the carbon equivalent, the eutectic undercooling and
+// the chill margin; for the tellurium cup its carbon, silicon and carbon
+// equivalent (the point of that cup); for Al-Si the α-Al nucleation
+// undercooling and recalescence and the eutectic depression (grain
+// refinement and modification); for a check cup the plateau and its offset
+// from the ITS-90 fixed point.
+var decisionMetrics = map[arrest.Family][]string{
+	arrest.FamilyIron:     {"ce", "undercooling_c", "chill_margin_c"},
+	arrest.FamilyWhite:    {"c_pct", "si_pct", "ce"},
+	arrest.FamilyAluminum: {"alpha_undercooling_c", "alpha_recalescence_c", "eutectic_depression_c"},
+	arrest.FamilyPure:     {"plateau_c", "fixed_point_error_c"},
+}
+
+// decisionLines are the record's decision figures in words with units, a
+// figure withheld said so, wrapped to w.
+func decisionLines(st *Styles, rec *assess.Record, w int) []string {
+	var parts []string
+	for _, name := range decisionMetrics[arrest.Family(rec.Family)] {
+		mi, ok := limits.Metric(name)
+		if !ok {
+			continue
+		}
+		label := mi.Label
+		if name == "ce" {
+			label = "CE"
+		}
+		if name == "fixed_point_error_c" {
+			label = "offset from the fixed point"
+		}
+		switch v, ok := assess.Value(rec, name); {
+		case ok:
+			parts = append(parts, st.Label.Render(label+" ")+st.Value.Render(mi.Format(v)))
+		case withheld(rec, name):
+			parts = append(parts, st.Label.Render(label+" ")+st.Muted.Render("withheld"))
+		}
+	}
+	return wrapParts(parts, " · ", w)
+}
+
+// withheld reports whether the record withheld metric name.
+func withheld(rec *assess.Record, name string) bool {
+	for _, w := range rec.Withheld {
+		if w.Metric == name {
+			return true
+		}
+	}
+	return false
 }
 
 func (c *cup) marks() []mark {
@@ -389,6 +450,7 @@ func (c *cup) verdictLines(st *Styles, w int) []string {
 	if a := recordAdvice(rec); len(a) > 0 {
 		lines = append(lines, st.Mark.Render(cut("→ "+shortAdvice(a[0]), w)))
 	}
+	lines = append(lines, decisionLines(st, rec, w)...)
 	for _, r := range recordReasons(rec) {
 		lines = append(lines, wrapText(st.Value, "• "+r, w)...)
 	}
@@ -397,6 +459,9 @@ func (c *cup) verdictLines(st *Styles, w int) []string {
 	}
 	for _, a := range recordAdvice(rec) {
 		lines = append(lines, wrapText(st.Value, "→ "+a, w)...)
+	}
+	if e, ok := estimateLine(rec, c.advice); ok {
+		lines = append(lines, wrapText(st.Muted, "≈ "+e, w)...)
 	}
 	return lines
 }
@@ -665,12 +730,10 @@ func (c *cup) tallTop(st *Styles, w int) []string {
 // tallBottom is the points and the verdict's first lines, at most four.
 func (c *cup) tallBottom(st *Styles, w int) []string {
 	var bottom []string
-	if rec := c.rec(); rec != nil {
-		v := c.verdictLines(st, w)
-		bottom = append(bottom, v[0])
-		bottom = append(bottom, c.compactPoints(st, w)...)
-		bottom = append(bottom, v[1:]...)
-		return strings.Split(moreHint(st, bottom, 4, true), "\n")
+	if c.rec() != nil {
+		// once done: the advice and the figures decided on; the points are
+		// marked on the chart, the rest is behind v
+		return strings.Split(moreHint(st, c.verdictLines(st, w), 4, true), "\n")
 	}
 	bottom = append(c.compactPoints(st, w), c.verdictLines(st, w)...)
 	if len(bottom) > 4 {

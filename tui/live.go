@@ -13,11 +13,14 @@ import (
 // livePane shows one or two cups side by side: the tracker's snapshots,
 // in the order the channels were first seen.
 type livePane struct {
-	st    *Styles
-	keys  *KeyMap
-	cups  []cup
-	first int // index of the first cup shown
-	w, h  int
+	st   *Styles
+	keys *KeyMap
+	cups []cup
+	// advice is the model's advice on each channel's last finished sample,
+	// as it came (replaced, never changed: the pane is a value)
+	advice map[string]adviceMsg
+	first  int // index of the first cup shown
+	w, h   int
 }
 
 func newLivePane(st *Styles, keys *KeyMap) livePane { return livePane{st: st, keys: keys} }
@@ -34,6 +37,9 @@ func (p livePane) apply(snaps []sample.Snapshot, l link) livePane {
 	for i, s := range snaps {
 		cups[i] = newCup(s)
 		cups[i].link = l
+		if a, ok := p.advice[s.Channel]; ok && a.sample == s.Sample && s.State == sample.Done {
+			cups[i].advice = a.preds
+		}
 		for _, old := range p.cups {
 			if old.id() == s.Channel {
 				cups[i].drawn = old.drawn
@@ -43,6 +49,24 @@ func (p livePane) apply(snaps []sample.Snapshot, l link) livePane {
 	}
 	p.cups = cups
 	return p.redraw()
+}
+
+// setAdvice takes the model's advice on a finished sample.
+func (p livePane) setAdvice(a adviceMsg) livePane {
+	adv := make(map[string]adviceMsg, len(p.advice)+1)
+	for k, v := range p.advice {
+		adv[k] = v
+	}
+	adv[a.channel] = a
+	p.advice = adv
+	cups := append([]cup(nil), p.cups...)
+	for i := range cups {
+		if c := &cups[i]; c.id() == a.channel && c.snap.Sample == a.sample && c.state() == sample.Done {
+			c.advice = a.preds
+		}
+	}
+	p.cups = cups
+	return p
 }
 
 // ended marks the session ended: no reading will come.

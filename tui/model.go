@@ -36,9 +36,12 @@ type Options struct {
 	// SaveLimits writes an edited book; nil makes the limits read-only.
 	SaveLimits LimitsSaver
 	ReadCurve  CurveReader // opens a stored sample's curve file
-	Styles     *Styles     // nil builds them for lipgloss's default renderer
-	Clock      func() time.Time
-	Log        io.Writer // the log file; nil discards. Written by commands only.
+	// Advise gives the cup model's advice on each finished sample (nil:
+	// none); ForecastAdvice is the commands'.
+	Advise Adviser
+	Styles *Styles // nil builds them for lipgloss's default renderer
+	Clock  func() time.Time
+	Log    io.Writer // the log file; nil discards. Written by commands only.
 }
 
 type tab int
@@ -192,6 +195,9 @@ func (m Model) handle(msg tea.Msg) (tea.Model, tea.Cmd) {
 	case curveLoadedMsg:
 		m.hist, _ = m.hist.Update(msg)
 		return m, nil
+	case adviceMsg:
+		m.live = m.live.setAdvice(msg)
+		return m, nil
 	case limitsSavedMsg:
 		var cmd tea.Cmd
 		if msg.err != nil {
@@ -250,6 +256,11 @@ func (m Model) update(u sample.Update) (tea.Model, tea.Cmd) {
 	}
 	m.live = m.live.apply(u.Channels, linkOf(u.Status, m.ended))
 	cmds := []tea.Cmd{m.logLines(lines), waitUpdate(m.feed, m.pace)}
+	for _, f := range u.Finished {
+		if m.opt.Advise != nil && !f.Recovered {
+			cmds = append(cmds, advise(m.opt.Advise, f, m.opt.Limits))
+		}
+	}
 	if len(u.Finished) > 0 {
 		cmds = append(cmds, loadHistory(m.opt.Records))
 	}
@@ -258,7 +269,14 @@ func (m Model) update(u sample.Update) (tea.Model, tea.Cmd) {
 
 // eventLog is an event as a log line.
 func eventLog(ev sample.Event) string {
-	return fmt.Sprintf("%s: cup %q at %.1f s: %s %v %s", ev.Kind, ev.Channel, ev.TimeS, ev.Text, ev.Info, ev.Path)
+	line := fmt.Sprintf("%s: cup %q at %.1f s: %s", ev.Kind, ev.Channel, ev.TimeS, ev.Text)
+	if len(ev.Info) > 0 {
+		line += " " + pairsText(ev.Info)
+	}
+	if ev.Path != "" {
+		line += " " + ev.Path
+	}
+	return line
 }
 
 // logf is the command that writes a line to the log.
@@ -601,12 +619,16 @@ func (m Model) statusLine() string {
 		m.st.Status.Render(fmt.Sprintf("garbage %d", s.Garbage)),
 		m.st.Status.Render(fmt.Sprintf("reconnects %d", s.Reconnects)),
 	}
-	line := strings.Join(parts, m.st.Muted.Render(" · "))
-	if lipgloss.Width(line) > m.w {
+	// The wording is chosen by the screen's width with room for four-digit
+	// counts, never by the counts of the moment, so that line 2 does not
+	// flip between its long and short form as they change.
+	room := lipgloss.Width(port) + len("NOT CONNECTED") + // the widest wording of the connection
+		len(" · 9999 readings/s · faults 9999 · garbage 9999 · reconnects 9999 · ")
+	if room > m.w {
 		parts[2] = m.st.Status.Render(fmt.Sprintf("%.0f/s", s.ReadingsPerS))
 		parts[5] = m.st.Status.Render(fmt.Sprintf("reconn. %d", s.Reconnects))
-		line = strings.Join(parts, m.st.Muted.Render(" · "))
 	}
+	line := strings.Join(parts, m.st.Muted.Render(" · "))
 	return clip(line, m.w)
 }
 

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strconv"
 	"strings"
 
 	tea "github.com/charmbracelet/bubbletea"
@@ -87,7 +88,7 @@ func Lines(ctx context.Context, opt Options, w io.Writer, maxSamples int) error 
 func eventLine(ev sample.Event) string {
 	switch ev.Kind {
 	case sample.EventDeviceInfo:
-		return fmt.Sprintf("= device info cup %q: %v", ev.Channel, infoMap(ev.Info))
+		return fmt.Sprintf("= device info cup %q: %s", ev.Channel, pairsText(ev.Info))
 	case sample.EventStarted, sample.EventFrozen, sample.EventDone, sample.EventRecovered:
 		return fmt.Sprintf("= %s: cup %s at %.1f s %s", ev.Kind, ev.Channel, ev.TimeS, ev.Path)
 	case sample.EventConnected, sample.EventDisconnected, sample.EventWarning:
@@ -96,13 +97,18 @@ func eventLine(ev sample.Event) string {
 	return ""
 }
 
-// infoMap is a device line's pairs as a map, for printing.
-func infoMap(kv []curvefile.Meta) map[string]string {
-	m := make(map[string]string, len(kv))
+// pairsText is a device line's pairs as the line gives them, key=value in
+// its order, values with spaces quoted (never a Go map's dump).
+func pairsText(kv []curvefile.Meta) string {
+	parts := make([]string, 0, len(kv))
 	for _, x := range kv {
-		m[x.Key] = x.Value
+		v := x.Value
+		if v == "" || strings.ContainsAny(v, " \t\"=") {
+			v = strconv.Quote(v)
+		}
+		parts = append(parts, x.Key+"="+v)
 	}
-	return m
+	return strings.Join(parts, " ")
 }
 
 // resultLines is a finished sample's verdict, points, reasons and advice.

@@ -5,6 +5,7 @@ import (
 	"strings"
 
 	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/forecast"
 )
 
 // verdictView is the whole verdict of one sample in a dialog (key v):
@@ -13,7 +14,8 @@ import (
 type verdictView struct {
 	title string
 	rec   assess.Record
-	top   int // the first line shown
+	preds []forecast.Prediction // the cup model's advice, where it came
+	top   int                   // the first line shown
 }
 
 // verdictOf is the verdict the v key opens: the opened history sample's,
@@ -32,7 +34,7 @@ func (m Model) verdictOf() *verdictView {
 		if n := sampleName(c.snap.Meta); n != "" {
 			title += " · " + n
 		}
-		return &verdictView{title: title, rec: *rec}
+		return &verdictView{title: title, rec: *rec, preds: c.advice}
 	}
 	return nil
 }
@@ -53,6 +55,16 @@ func (v *verdictView) lines(st *Styles, w int) []string {
 	section("Why", recordReasons(r), "• ")
 	section("Withheld (a check on the sample failed; not to be acted on)", withheldText(r), "✗ ")
 	section("Advice (the shop's procedures and its metallurgist decide)", recordAdvice(r), "→ ")
+	var est []string
+	for _, p := range v.preds {
+		if p.Applies && p.Text != "" {
+			est = append(est, p.Text)
+		}
+	}
+	if len(est) > 0 {
+		est = append(est, forecast.Caution)
+	}
+	section("Model estimate (the cup model, not a measurement)", est, "≈ ")
 	section("Caveats", r.Warnings, "· ")
 	lim := r.LimitsVersion
 	if lim == "" {

@@ -89,7 +89,7 @@ func runCmds(m Model, cmd tea.Cmd) Model {
 					m = runCmds(m, c)
 				}
 			}
-		case historyLoadedMsg, limitsSavedMsg, formDoneMsg, formClosedMsg, curveLoadedMsg, speedMsg:
+		case historyLoadedMsg, limitsSavedMsg, formDoneMsg, formClosedMsg, curveLoadedMsg, speedMsg, adviceMsg:
 			tm, c := m.Update(msg)
 			m = runCmds(tm.(Model), c)
 		}

@@ -93,6 +93,9 @@ func runAnalyze(ctx context.Context, env *environ, args []string) error {
 	fs.Float64Var(&aopt.DelayMin, "delay-min", -1, "with --advise: minutes from the addition to the pour (default: the table's delay_min)")
 	files, err := parseLimitsArgs(fs, args)
 	if err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return nil // -h: the usage, exit 0
+		}
 		return errUsage
 	}
 	if err := checkColumns(env, "analyze", columns); err != nil {

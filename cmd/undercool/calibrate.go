@@ -72,6 +72,9 @@ func runCalibrate(ctx context.Context, env *environ, args []string) error {
 	inoc.register(fs)
 	pos, err := parseLimitsArgs(fs, args)
 	if err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return nil // -h: the usage, exit 0
+		}
 		return errUsage
 	}
 	if len(pos) != 1 {

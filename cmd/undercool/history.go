@@ -9,6 +9,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"strconv"
 	"strings"
@@ -238,6 +239,13 @@ func readRecords(ctx context.Context, env *environ, dbFlag string) (*store.DB, e
 	path, err := recordsPath(env, dbFlag)
 	if err != nil {
 		return nil, err
+	}
+	if !store.IsServer(path) {
+		// a command that reads never creates a database: a mistyped --db
+		// would otherwise make an empty one and report no samples
+		if _, serr := os.Stat(path); errors.Is(serr, fs.ErrNotExist) {
+			return nil, fmt.Errorf("records database %s does not exist (check --db or $UNDERCOOL_DB; a database is made by the commands that store samples)", path)
+		}
 	}
 	db, err := store.Open(ctx, path)
 	if err == nil || !errors.Is(err, store.ErrNotWritable) || store.IsServer(path) {

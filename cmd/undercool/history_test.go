@@ -6,6 +6,7 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"os"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -175,9 +176,11 @@ func TestHistoryUsageErrors(t *testing.T) {
 			t.Errorf("%v: status %d, stderr %q; want 2 and a message", args, code, errs)
 		}
 	}
-	code, _, errs := recordsRun(t, "", "history", "--db", filepath.Join(t.TempDir(), "f", "x.db"), "--alloy", "grey-iron")
-	if code != 0 {
-		t.Errorf("a new empty database: status %d %s", code, errs)
+	// a mistyped --db: refused with its path, and no database made
+	typo := filepath.Join(t.TempDir(), "x.db")
+	code, _, errs := recordsRun(t, "", "history", "--db", typo, "--alloy", "grey-iron")
+	if _, err := os.Stat(typo); code != 1 || !strings.Contains(errs, typo+" does not exist") || err == nil {
+		t.Errorf("history --db of no database: status %d %q, stat %v; want 1, the path named, no file made", code, errs, err)
 	}
 }
 

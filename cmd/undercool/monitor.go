@@ -169,7 +169,7 @@ func runDashboard(ctx context.Context, env *environ, d dashboard) error {
 	}
 	opt := tui.Options{
 		Feed: sess, Title: d.title, Limits: book, SaveLimits: saver,
-		Records: records, ReadCurve: curvefile.ReadFile, Log: logf,
+		Records: records, ReadCurve: curvefile.ReadFile, Log: logf, Advise: tui.ForecastAdvice,
 	}
 	if isTerminal(env) {
 		err = tui.Run(ctx, opt, env.stdin, env.stdout)

@@ -4,7 +4,6 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"os"
 	"slices"
 	"strings"
 	"sync"
@@ -237,12 +236,26 @@ func sampleFromCurve(path string, c *curvefile.Curve, rec assess.Record) store.S
 		s.Alloy = c.Get("alloy")
 	}
 	s.WallChannel, s.CentreRadiusMm, s.WallRadiusMm = thermocouplesOf(c)
-	if t, err := time.Parse(time.RFC3339Nano, c.Get("started")); err == nil {
-		s.Recorded = t
-	} else if st, err := os.Stat(path); err == nil {
-		s.Recorded = st.ModTime() // no start time in the file: when it was last written
-	}
+	s.Recorded, _ = pourTime(c, rec)
 	return s
+}
+
+// pourTime is when the sample was poured: the file's start (`# started:`,
+// its first reading) plus the time of its pour peak, the end of the pour
+// (the start alone where no pour peak was found); false when the file
+// does not say when it started. The store then records the time it was
+// stored, and the report page says the file gives no pour time: a file's
+// modification time says when it was last copied, not when the metal was
+// poured.
+func pourTime(c *curvefile.Curve, rec assess.Record) (time.Time, bool) {
+	t, err := time.Parse(time.RFC3339Nano, strings.TrimSpace(c.Get("started")))
+	if err != nil {
+		return time.Time{}, false
+	}
+	if rec.PourPeakS != nil {
+		t = t.Add(time.Duration(*rec.PourPeakS * float64(time.Second)))
+	}
+	return t, true
 }
 
 func metaTrue(v string) bool {

@@ -89,7 +89,7 @@ func runReplay(ctx context.Context, env *environ, args []string) error {
 	wg.Go(func() { src.Run(srcCtx) })
 	wg.Go(sess.Run)
 	opt := tui.Options{Feed: sess, Pace: src, Title: "replay · " + filepath.Base(path), Limits: book, SaveLimits: saver,
-		Records: mem, ReadCurve: columns.ReadFile}
+		Records: mem, ReadCurve: columns.ReadFile, Advise: tui.ForecastAdvice}
 	if isTerminal(env) {
 		err = tui.Run(ctx, opt, env.stdin, env.stdout)
 	} else {

@@ -4,6 +4,7 @@ import (
 	"context"
 	"flag"
 	"fmt"
+	"sort"
 	"strconv"
 
 	"github.com/undercool-foundry/undercool/internal/assess"
@@ -101,7 +102,11 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 			return err
 		}
 		info = report.Info{Sample: s.Sample, Ladle: s.Ladle, Alloy: rec.Alloy, Furnace: s.Furnace, Operator: s.Operator,
-			Time: s.Recorded, CurvePath: pos[0], CurveSHA256: s.CurveSHA256, Detect: assess.Options(in), Wall: in.Wall, Radii: in.Radii}
+			Time: s.Recorded, CurvePath: pos[0], CurveSHA256: s.CurveSHA256, Detect: assess.Options(in), Wall: in.Wall, Radii: in.Radii,
+			Simulated: s.Simulated}
+		if s.Recorded.IsZero() {
+			info.Notes = append(info.Notes, pos[0]+" does not say when the sample was poured (no '# started:' line)")
+		}
 		if s.Simulated {
 			info.Notes = append(info.Notes, "simulated cup, not a measurement")
 		}
@@ -118,6 +123,28 @@ func runReport(ctx context.Context, env *environ, args []string) error {
 	return nil
 }
 
+// pointsCurve is a curve through a record's characteristic points in time
+// order, for a stored sample whose file can no longer be read; false with
+// fewer than two.
+func pointsCurve(path string, r assess.Record) (*curvefile.Curve, bool) {
+	type pt struct{ t, c float64 }
+	var pts []pt
+	for _, p := range [][2]*float64{{r.PourPeakS, r.PourPeakC}, {r.LiquidusMinS, r.LiquidusMinC}, {r.LiquidusS, r.LiquidusC},
+		{r.EutecticMinS, r.EutecticMinC}, {r.EutecticMaxS, r.EutecticMaxC}, {r.SolidusS, r.SolidusC}} {
+		if p[0] != nil && p[1] != nil {
+			pts = append(pts, pt{*p[0], *p[1]})
+		}
+	}
+	sort.Slice(pts, func(i, j int) bool { return pts[i].t < pts[j].t })
+	c := &curvefile.Curve{Name: path}
+	for _, p := range pts {
+		if n := len(c.Time); n == 0 || p.t > c.Time[n-1] {
+			c.Time, c.Temp = append(c.Time, p.t), append(c.Temp, p.c)
+		}
+	}
+	return c, len(c.Time) >= 2
+}
+
 // reportStored loads a stored sample and its curve file; a curve file that
 // changed since it was stored is drawn as it is now, with a note.
 func reportStored(ctx context.Context, env *environ, dbPath string, id int64, columns *curvefile.Options) (*curvefile.Curve, assess.Record, report.Info, error) {
@@ -131,13 +158,25 @@ func reportStored(ctx context.Context, env *environ, dbPath string, id int64, co
 		return nil, assess.Record{}, report.Info{}, err
 	}
 	info := report.Info{Sample: s.Sample, Ladle: s.Ladle, Alloy: s.Alloy, Furnace: s.Furnace, Operator: s.Operator,
-		Time: s.Recorded, StoreID: s.ID, CurvePath: s.CurvePath, CurveSHA256: s.CurveSHA256, LimitsVersion: s.LimitsVersion}
+		Time: s.Recorded, StoreID: s.ID, CurvePath: s.CurvePath, CurveSHA256: s.CurveSHA256, LimitsVersion: s.LimitsVersion,
+		Simulated: s.Simulated}
+	if s.Simulated {
+		info.Notes = append(info.Notes, "simulated cup, not a measurement")
+	}
 	if s.CurvePath == "" {
 		return nil, s.Record, info, fmt.Errorf("sample %d has no curve file to draw", id)
 	}
 	c, err := columns.ReadFile(s.CurvePath)
 	if err != nil {
-		return nil, s.Record, info, fmt.Errorf("sample %d: %w", id, err)
+		// the record stands without its file: drawn from its points, said so
+		pc, ok := pointsCurve(s.CurvePath, s.Record)
+		if !ok {
+			return nil, s.Record, info, fmt.Errorf("sample %d: %w (and its record has too few points to draw)", id, err)
+		}
+		note := fmt.Sprintf("The curve file cannot be read (%v): the page is drawn from the stored record; the line joins its characteristic points and is NOT the measured curve.", err)
+		info.Notes = append(info.Notes, note)
+		fmt.Fprintf(env.stderr, "undercool report: warning: sample %d: %s\n", id, note)
+		return pc, s.Record, info, nil
 	}
 	if sum, err := store.HashFile(s.CurvePath); err == nil && s.CurveSHA256 != "" && sum != s.CurveSHA256 {
 		note := fmt.Sprintf("The curve file has CHANGED since it was stored (sha256 now %.16s…): the curve is drawn as it is now, the results are those stored.", sum)
@@ -147,9 +186,6 @@ func reportStored(ctx context.Context, env *environ, dbPath string, id int64, co
 	if len(results) > 1 {
 		info.Notes = append(info.Notes, fmt.Sprintf("Latest of %d analyses of this sample (first %s).", len(results),
 			results[0].Analysed.UTC().Format("2006-01-02 15:04 UTC")))
-	}
-	if s.Simulated {
-		info.Notes = append(info.Notes, "simulated cup, not a measurement")
 	}
 	// a two-thermocouple cup's page draws the Fourier path its record's
 	// figures come from: the wall column of its file

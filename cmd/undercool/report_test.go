@@ -8,6 +8,7 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
@@ -62,20 +63,27 @@ func TestReportFromCurveFile(t *testing.T) {
 	}
 }
 
-func TestReportFromStoreNotesChangedCurve(t *testing.T) {
-	dir := t.TempDir()
-	curve := reportCurveFile(t, dir)
+// reportStoreSample is the simulated cup of reportCurveFile in dir, its
+// record (assess.Assess) and its stored sample as sampleFromCurve makes it,
+// with an open records database for it.
+func reportStoreSample(t *testing.T, dir string) (curve, dbPath string, db *store.DB, rec assess.Record, s store.Sample) {
+	t.Helper()
+	curve = reportCurveFile(t, dir)
 	c, err := curvefile.ReadFile(curve)
 	if err != nil {
 		t.Fatal(err)
 	}
-	dbPath := filepath.Join(dir, "records.db")
-	db, err := store.Open(context.Background(), dbPath)
-	if err != nil {
+	dbPath = filepath.Join(dir, "records.db")
+	if db, err = store.Open(context.Background(), dbPath); err != nil {
 		t.Fatal(err)
 	}
-	rec := assess.Assess(assess.Input{File: curve, Alloy: c.Get("alloy"), Time: c.Time, Temp: c.Temp, Meta: c.Meta})
-	s := sampleFromCurve(curve, c, rec)
+	rec = assess.Assess(assess.Input{File: curve, Alloy: c.Get("alloy"), Time: c.Time, Temp: c.Temp, Meta: c.Meta})
+	return curve, dbPath, db, rec, sampleFromCurve(curve, c, rec)
+}
+
+func TestReportFromStoreNotesChangedCurve(t *testing.T) {
+	dir := t.TempDir()
+	curve, dbPath, db, _, s := reportStoreSample(t, dir)
 	if s.Recorded.Format("15:04") != "07:40" || s.Furnace != "holder H3" || !s.Simulated || s.Operator != "Odile Flintcaster" {
 		t.Fatalf("sample from the curve's metadata: %+v", s)
 	}
@@ -119,7 +127,7 @@ func TestReportErrors(t *testing.T) {
 		{[]string{"report"}, 2, "usage"},
 		{[]string{"report", "x.csv"}, 2, "usage"},
 		{[]string{"report", filepath.Join(dir, "none.csv"), "--out", filepath.Join(dir, "p.png")}, 1, "none.csv"},
-		{[]string{"report", "99", "--out", filepath.Join(dir, "p.png"), "--db", filepath.Join(dir, "r.db")}, 1, "sample 99"},
+		{[]string{"report", "99", "--out", filepath.Join(dir, "p.png"), "--db", filepath.Join(dir, "r.db")}, 1, "r.db does not exist"},
 	} {
 		code, _, errs := recordsRun(t, "", tc.args...)
 		if code != tc.code || !strings.Contains(errs, tc.want) {
@@ -164,4 +172,65 @@ func TestAnalyzeStore(t *testing.T) {
 		all[0].Sample.Ladle != "L-2418" || !all[0].Sample.Simulated {
 		t.Fatalf("stored: %+v", all)
 	}
+}
+
+// The page says what happened: when the cup was poured, a SIMULATED banner
+// for a simulated cup, the curve file's SHA-256 in full, and it is written
+// readable by the group as the umask allows (0644 under umask 022). A
+// stored sample whose curve file no longer parses is still drawn, from its
+// record, with a note naming the file and line that fail.
+func TestReportPageRecordsWhatHappened(t *testing.T) {
+	dir := t.TempDir()
+	curve, dbPath, db, rec, s := reportStoreSample(t, dir)
+	if want := "2026-12-01T07:40:00Z"; rec.PourPeakS == nil || !s.Recorded.Equal(mustTime(t, want).Add(time.Duration(*rec.PourPeakS*float64(time.Second)))) {
+		t.Fatalf("pour time %v, want %s plus the pour peak's %v s", s.Recorded, want, rec.PourPeakS)
+	}
+	s.CurveSHA256, _ = store.HashFile(curve)
+	id, err := db.AddSample(context.Background(), s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	db.Close()
+
+	page := filepath.Join(dir, "page.svg")
+	if code, _, errs := recordsRun(t, dbPath, "report", strconv.FormatInt(id, 10), "--out", page); code != 0 {
+		t.Fatalf("status %d: %s", code, errs)
+	}
+	svg, _ := os.ReadFile(page)
+	for _, want := range []string{"SIMULATED", s.CurveSHA256, "poured 2026-12-01 07:4"} {
+		if !strings.Contains(string(svg), want) {
+			t.Errorf("page lacks %q", want)
+		}
+	}
+	if strings.Contains(string(svg), "-0.0 ") || strings.Contains(string(svg), "−0.0") {
+		t.Error("page writes a negative zero")
+	}
+	probe := filepath.Join(dir, "probe")
+	f, err := os.OpenFile(probe, os.O_CREATE|os.O_WRONLY, 0o644)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f.Close()
+	pst, _ := os.Stat(probe)
+	if st, _ := os.Stat(page); st.Mode().Perm() != pst.Mode().Perm() {
+		t.Errorf("page mode %v, want %v (0644 less the umask)", st.Mode().Perm(), pst.Mode().Perm())
+	}
+
+	os.WriteFile(curve, []byte("time_s,temp_c\n0,1200\n1,not a number\n"), 0o644)
+	code, _, errs := recordsRun(t, dbPath, "report", strconv.FormatInt(id, 10), "--out", page)
+	if code != 0 || !strings.Contains(errs, curve+":3") || !strings.Contains(errs, "NOT the measured curve") {
+		t.Fatalf("unparseable curve: status %d: %s", code, errs)
+	}
+	if svg, _ = os.ReadFile(page); !strings.Contains(string(svg), "NOT the measured curve") {
+		t.Error("the page drawn from the record does not say so")
+	}
+}
+
+func mustTime(t *testing.T, s string) time.Time {
+	t.Helper()
+	v, err := time.Parse(time.RFC3339, s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return v
 }

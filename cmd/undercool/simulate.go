@@ -5,6 +5,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"os"
 	"strconv"
 	"strings"
 
@@ -193,6 +194,13 @@ func (f *simFlags) params(set map[string]bool) (sim.Params, error) {
 
 // writeSimulated writes the curve file and FILE.truth.json beside it.
 func writeSimulated(p sim.Params, path string) error {
+	// as record does, never over an existing file (a measured curve could
+	// be lost under a simulated one)
+	for _, f := range []string{path, path + ".truth.json"} {
+		if _, err := os.Lstat(f); err == nil {
+			return fmt.Errorf("simulate --out %s: %s exists; give a new name or remove it first", path, f)
+		}
+	}
 	out := sim.Simulate(p)
 	c := out.Curve(path)
 	js, err := out.TruthJSON()

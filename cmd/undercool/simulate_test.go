@@ -57,7 +57,7 @@ func TestSimulateWritesCurveAndTruth(t *testing.T) {
 		{[]string{"--alloy", "al-si7mg", "--modification", "1", "--rate", "20", "--hold-min", "10"}, "al-si7mg", 20, true},
 		{[]string{"--alloy", "pure-zn", "--noise", "0"}, "pure-zn", 10, false},
 	} {
-		path := filepath.Join(dir, c.alloy+strconv.Itoa(len(c.args))+".csv")
+		path := filepath.Join(dir, c.alloy+strconv.Itoa(len(c.args))+"-"+c.args[len(c.args)-1]+".csv")
 		env, _, errb := simEnv()
 		if code := runMain(context.Background(), env, append([]string{"simulate", "--out", path}, c.args...)); code != 0 {
 			t.Fatalf("%v: exit %d: %s", c.args, code, errb)
@@ -205,5 +205,20 @@ func TestSimulateServeOnPseudoTerminal(t *testing.T) {
 		}
 	case <-time.After(5 * time.Second):
 		t.Fatal("serve did not stop on cancel")
+	}
+}
+
+// simulate --out never writes over a file (a measured curve could be
+// lost under a simulated one): refused with the name, the file unchanged.
+func TestSimulateRefusesToOverwrite(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "cup.csv")
+	if err := os.WriteFile(path, []byte("measured\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	env, _, errb := simEnv()
+	code := runMain(context.Background(), env, []string{"simulate", "--alloy", "grey-iron", "--out", path})
+	b, _ := os.ReadFile(path)
+	if code != 1 || !strings.Contains(errb.String(), path+" exists") || string(b) != "measured\n" {
+		t.Fatalf("exit %d, stderr %q, file %q; want 1, the file named, the file unchanged", code, errb, b)
 	}
 }

@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"flag"
 	"fmt"
 
@@ -43,6 +44,9 @@ func runTC(ctx context.Context, env *environ, args []string) error {
 	asJSON := fs.Bool("json", false, "print one JSON object")
 	pos, err := parseLimitsArgs(fs, args)
 	if err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return nil // -h: the usage, exit 0
+		}
 		return errUsage
 	}
 	set := map[string]bool{}

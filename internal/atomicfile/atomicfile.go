@@ -7,18 +7,23 @@ package atomicfile
 
 import (
 	"bufio"
+	"errors"
 	"fmt"
 	"io"
+	"io/fs"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"strconv"
 )
 
 // Write writes what write produces to path, replacing any file there. The
 // temporary file ".NAME.tmp*" is removed when anything fails; perm is the
-// new file's mode.
+// new file's mode less what the process's umask takes away, as for any
+// file a program creates (0644 under the usual umask 022).
 func Write(path string, perm os.FileMode, write func(io.Writer) error) error {
 	dir := filepath.Dir(path)
-	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp*")
+	f, err := createTemp(dir, "."+filepath.Base(path)+".tmp", perm)
 	if err != nil {
 		return fmt.Errorf("writing %s: %w", path, err)
 	}
@@ -33,9 +38,6 @@ func Write(path string, perm os.FileMode, write func(io.Writer) error) error {
 	}
 	if cerr := f.Close(); err == nil {
 		err = cerr
-	}
-	if err == nil {
-		err = os.Chmod(tmp, perm)
 	}
 	if err == nil {
 		err = os.Rename(tmp, path)
@@ -63,4 +65,19 @@ func syncDir(dir string) {
 		d.Sync()
 		d.Close()
 	}
+}
+
+// createTemp creates a new file dir/prefixNNNN with mode perm (the umask
+// applies, unlike os.CreateTemp's fixed 0600).
+func createTemp(dir, prefix string, perm os.FileMode) (*os.File, error) {
+	var err error
+	for range 100 {
+		name := filepath.Join(dir, prefix+strconv.FormatUint(rand.Uint64(), 36))
+		var f *os.File
+		f, err = os.OpenFile(name, os.O_RDWR|os.O_CREATE|os.O_EXCL, perm)
+		if !errors.Is(err, fs.ErrExist) {
+			return f, err
+		}
+	}
+	return nil, err
 }

@@ -9,15 +9,14 @@
 package report
 
 import (
-	"bufio"
 	"fmt"
 	"image/color"
 	"io"
 	"math"
-	"os"
 	"path/filepath"
 	"slices"
 	"sort"
+	"strconv"
 	"strings"
 	"time"
 
@@ -33,9 +32,11 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/atomicfile"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/forecast"
+	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/solidpath"
 )
@@ -59,6 +60,9 @@ type Info struct {
 	// Notes are extra lines for the text block, e.g. that the curve file
 	// changed since the sample was stored.
 	Notes []string
+	// Simulated marks a sample from the simulator: the page carries a
+	// SIMULATED banner, so that it is never taken for a measurement.
+	Simulated bool
 	// Detect are the detector options the sample was analysed with
 	// (assess.Options); the zero value takes the record's family. The
 	// dT/dt panel is the analyser's T′ under them.
@@ -107,7 +111,12 @@ func Write(path string, c *curvefile.Curve, rec assess.Record, info Info) error 
 	if err := drawPage(draw.New(textCanvas{canvas.(vg.CanvasSizer)}), c, rec, info); err != nil {
 		return fmt.Errorf("report %s: %w", path, err)
 	}
-	return writeAtomic(path, vc.WriteTo)
+	// whole or not at all, readable by the group as any document is (0644
+	// less what the user's umask takes away)
+	if err := atomicfile.Write(path, 0o644, func(w io.Writer) error { _, err := vc.WriteTo(w); return err }); err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	return nil
 }
 
 // textCanvas writes every text with visible escapes for control
@@ -117,29 +126,6 @@ type textCanvas struct{ vg.CanvasSizer }
 
 func (c textCanvas) FillString(f font.Face, pt vg.Point, s string) {
 	c.CanvasSizer.FillString(f, pt, escape.Line(s))
-}
-
-func writeAtomic(path string, write func(io.Writer) (int64, error)) error {
-	tmp, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*")
-	if err != nil {
-		return fmt.Errorf("report %s: %w", path, err)
-	}
-	defer os.Remove(tmp.Name())
-	bw := bufio.NewWriter(tmp)
-	_, err = write(bw)
-	if err == nil {
-		err = bw.Flush()
-	}
-	if cerr := tmp.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(tmp.Name(), path)
-	}
-	if err != nil {
-		return fmt.Errorf("report %s: %w", path, err)
-	}
-	return nil
 }
 
 // page layout, from the top
@@ -184,7 +170,7 @@ func drawPage(dc draw.Canvas, c *curvefile.Curve, rec assess.Record, info Info) 
 		}
 	}
 	if !info.Time.IsZero() {
-		facts = append(facts, "taken "+info.Time.UTC().Format("2006-01-02 15:04 UTC"))
+		facts = append(facts, "poured "+info.Time.UTC().Format("2006-01-02 15:04 UTC"))
 	}
 	mid := style(10.5, false)
 	y := top - big.Font.Size - 7*vg.Millimeter
@@ -198,11 +184,16 @@ func drawPage(dc draw.Canvas, c *curvefile.Curve, rec assess.Record, info Info) 
 	if info.CurvePath != "" {
 		src = append(src, "curve "+info.CurvePath)
 	}
-	if info.CurveSHA256 != "" {
-		src = append(src, "sha256 "+info.CurveSHA256[:min(16, len(info.CurveSHA256))]+"…")
-	}
 	if len(src) > 0 {
 		dc.FillText(small, vg.Point{X: left, Y: y}, strings.Join(src, "  ·  "))
+	}
+	if info.CurveSHA256 != "" {
+		// in full, in small type: what a later check of the file compares
+		tiny := style(6.5, false)
+		dc.FillText(tiny, vg.Point{X: left, Y: y - 3.8*vg.Millimeter}, "curve file SHA-256 "+info.CurveSHA256)
+	}
+	if info.Simulated {
+		drawBanner(dc, right, top, "SIMULATED — not a measurement")
 	}
 
 	// the two panels
@@ -244,6 +235,20 @@ func drawPage(dc draw.Canvas, c *curvefile.Curve, rec assess.Record, info Info) 
 	}
 	return nil
 }
+
+// drawBanner writes text in bold in a red frame at the top right corner.
+func drawBanner(dc draw.Canvas, right, top vg.Length, text string) {
+	st := style(12, true)
+	st.Color = bannerColour
+	w, h := st.Width(text), st.Font.Size
+	pad := 2 * vg.Millimeter
+	x0, y1 := right-w-2*pad, top+pad
+	box := []vg.Point{{X: x0, Y: y1}, {X: right, Y: y1}, {X: right, Y: y1 - h - 2*pad}, {X: x0, Y: y1 - h - 2*pad}, {X: x0, Y: y1}}
+	dc.StrokeLines(draw.LineStyle{Color: bannerColour, Width: vg.Points(1.5)}, box)
+	dc.FillText(st, vg.Point{X: x0 + pad, Y: y1 - pad - h*0.8}, text)
+}
+
+var bannerColour = color.RGBA{R: 0xB3, G: 0x26, B: 0x1E, A: 0xFF}
 
 // pathPlot draws fs(T), the fraction solid against the centre
 // temperature, falling temperature to the right as the cup freezes; an
@@ -422,7 +427,7 @@ func curvePlots(c *curvefile.Curve, rec assess.Record, detect arrest.Options) (*
 		labels := make([]string, len(ms))
 		for i, m := range ms {
 			xy[i] = plotter.XY{X: *m.t, Y: *m.c}
-			labels[i] = fmt.Sprintf("%s %.1f °C", m.name, *m.c)
+			labels[i] = fmt.Sprintf("%s %s °C", m.name, fixed(*m.c, 1))
 		}
 		sc, err := plotter.NewScatter(xy)
 		if err != nil {
@@ -511,7 +516,13 @@ func (niceTicks) Ticks(lo, hi float64) []plot.Tick {
 	return ts
 }
 
-func strconvG(v float64) string { return fmt.Sprintf("%.6g", v) }
+func strconvG(v float64) string {
+	s := fmt.Sprintf("%.6g", v)
+	if s == "-0" {
+		return "0"
+	}
+	return s
+}
 
 // tempRange gives the y range of the curve panel: from a little below the
 // lowest reading after the pour peak (or the lowest point found) to a
@@ -577,9 +588,26 @@ func resultLines(rec assess.Record) []result {
 	return rs
 }
 
+// fixed writes v with d decimals; a value that rounds to zero is "0.0",
+// never "-0.0".
+func fixed(v float64, d int) string {
+	s := strconv.FormatFloat(v, 'f', d, 64)
+	if strings.Trim(s, "-0.") == "" {
+		return strings.TrimPrefix(s, "-")
+	}
+	return s
+}
+
+// verdictWords are the verdicts as the page writes them.
+var verdictWords = map[string]string{assess.VerdictPass: "PASS", assess.VerdictMarginal: "MARGINAL", assess.VerdictFail: "FAIL",
+	assess.VerdictInvalid: "INVALID · RE-SAMPLE", assess.VerdictUnchecked: "NO LIMITS SET"}
+
 func drawResults(dc draw.Canvas, left, right, y vg.Length, rec assess.Record, info Info) {
 	head := style(13, true)
-	verdict := strings.ToUpper(rec.Verdict)
+	verdict := verdictWords[rec.Verdict]
+	if verdict == "" {
+		verdict = strings.ToUpper(rec.Verdict)
+	}
 	if verdict == "" {
 		verdict = "NONE"
 	}
@@ -615,12 +643,20 @@ func drawResults(dc draw.Canvas, left, right, y vg.Length, rec assess.Record, in
 	}
 	y -= vg.Length(half)*line + 3*vg.Millimeter
 
-	// problems, reasons, the estimate, advice, warnings, notes: as many lines as fit
+	// notes, problems, reasons, withheld, the estimate, advice, warnings: as many lines as fit
 	bottom := dc.Min.Y + margin + 8*vg.Millimeter
 	label := style(9, true)
 	var estimates []string
 	for _, p := range info.Predictions {
 		estimates = append(estimates, p.Text)
+	}
+	var withheld []string
+	for _, w := range rec.Withheld {
+		name := w.Metric
+		if m, ok := limits.Metric(w.Metric); ok {
+			name = m.Label
+		}
+		withheld = append(withheld, fmt.Sprintf("%s: %s as computed, withheld (not to be acted on): %s", name, fixed(w.Value, 2), w.Why))
 	}
 	if len(estimates) > 0 {
 		bottom += cautionLine
@@ -629,10 +665,12 @@ func drawResults(dc draw.Canvas, left, right, y vg.Length, rec assess.Record, in
 		name  string
 		lines []string
 	}{
-		// the model's estimate for this ladle before the general advice:
-		// it is what the page was asked for (--advise)
-		{"Problems", rec.Problems}, {"Reasons", rec.Reasons}, {"Estimate", estimates},
-		{"Advice", rec.Advice}, {"Warnings", rec.Warnings}, {"Notes", info.Notes},
+		// the notes first (what the page was drawn from: a curve file
+		// changed since it was stored, a simulated cup), and the model's
+		// estimate for this ladle before the general advice (it is what
+		// the page was asked for, --advise)
+		{"Notes", info.Notes}, {"Problems", rec.Problems}, {"Reasons", rec.Reasons}, {"Withheld", withheld},
+		{"Estimate", estimates}, {"Advice", rec.Advice}, {"Warnings", rec.Warnings},
 	} {
 		for i, l := range sec.lines {
 			// The line, wrapped, must end above the bottom with room for

@@ -22,6 +22,7 @@ type channel struct {
 	n     int  // the source's number of the sample shown
 	meta  Meta // the sample shown
 	next  Meta // the next sample's
+	typed Meta // what the operator typed into the form, standing over the device's values
 
 	in         assess.Input   // the sample as assess sees it: alloy, limits, the file's metadata
 	opt        arrest.Options // the detector options, assess.Options(in)
@@ -175,6 +176,7 @@ func (c *channel) start(t *Tracker, it *feed.Item) {
 	}
 	t.event(Event{Kind: EventStarted, Channel: c.id, Sample: c.n, TimeS: it.StartS, Text: it.Text, Path: it.Path})
 	c.setNext(t, c.meta.carried())
+	c.typed = c.typed.carried() // a typed cup id names one cup only
 }
 
 // watch decides, reading by reading (however the source batches them),

@@ -2,6 +2,7 @@ package sample
 
 import (
 	"slices"
+	"strings"
 	"testing"
 
 	"github.com/undercool-foundry/undercool/internal/curvefile"
@@ -88,5 +89,36 @@ func TestSilentAndSimulated(t *testing.T) {
 	s.pour("1", nil)
 	if !s.snap("1").Simulated {
 		t.Fatal("a sample whose file says simulated: true is not marked simulated")
+	}
+}
+
+// Who names the sample: what the operator typed into the form stands over
+// a later device line (which is said in a warning) and the device fills
+// the keys the form left empty; a typed cup id names one cup only, so the
+// device names the cup after it.
+func TestTypedSampleIDComesFirst(t *testing.T) {
+	s := newSource(t, Config{})
+	s.feedCurve("1", idle(2), 2)
+	s.obey(s.tr.SetForm("1", meta("sample", "L-2405 cup 1", "operator", "Pell Brasswick")))
+	u := s.apply(feed.Item{Kind: feed.KindDeviceInfo, Channel: "1", Meta: []curvefile.Meta{{Key: "sample", Value: "L-2406 cup 1"}, {Key: "alloy", Value: "grey-iron"}}})
+	next := s.snap("1").Next
+	if next.Get("sample") != "L-2405 cup 1" || next.Get("alloy") != "grey-iron" || next.Get("operator") != "Pell Brasswick" {
+		t.Fatalf("next sample %v: want the typed id, the device's alloy, the typed operator", next)
+	}
+	warned := false
+	for _, ev := range u.Events {
+		warned = warned || ev.Kind == EventWarning && strings.Contains(ev.Text, "sample=L-2406 cup 1") && strings.Contains(ev.Text, "L-2405 cup 1 is kept")
+	}
+	if !warned {
+		t.Fatalf("no warning that the device's id was set aside: %+v", u.Events)
+	}
+	if got := s.nextMeta("1").Get("sample"); got != "L-2405 cup 1" {
+		t.Fatalf("the source is to write sample %q into the next file", got)
+	}
+	s.pour("1", nil)
+	s.apply(feed.Item{Kind: feed.KindDeviceInfo, Channel: "1", Meta: []curvefile.Meta{{Key: "sample", Value: "L-2406 cup 1"}, {Key: "operator", Value: "Tobin Quenchmoor"}}})
+	next = s.snap("1").Next
+	if next.Get("sample") != "L-2406 cup 1" || next.Get("operator") != "Pell Brasswick" {
+		t.Fatalf("after the pour the next sample is %v: want the device's cup id, the typed operator still", next)
 	}
 }

@@ -16,6 +16,7 @@
 package sample
 
 import (
+	"fmt"
 	"strconv"
 	"strings"
 
@@ -340,8 +341,12 @@ func FormKeys() []string { return []string{"sample", "alloy", "operator", "note"
 func (t *Tracker) SetForm(ch string, m Meta) Update {
 	c := t.channel(ch)
 	next := c.next
+	c.typed = nil
 	for _, k := range FormKeys() {
 		next = next.With(k, m.Get(k))
+		if v := m.Get(k); v != "" {
+			c.typed = c.typed.With(k, v)
+		}
 	}
 	c.setNext(t, next)
 	return t.flush()
@@ -354,6 +359,27 @@ func (t *Tracker) SetForm(ch string, m Meta) Update {
 // (a replay, whose file is the sample) every reading until the source
 // says the sample ended is the sample's. The session calls it.
 func (t *Tracker) EndAtStop() { t.endAtStop = true }
+
+// fromDevice merges a device line's sample keys into channel c's next
+// sample, under the precedence of docs/dashboard.md ("Who names the
+// sample"): a value the operator typed into the form stands over the
+// device's until the operator changes or clears it; the device fills every
+// key the form left empty. A device value set aside is said in a warning.
+func (t *Tracker) fromDevice(c *channel, m Meta, timeS float64) {
+	next := c.next
+	for _, x := range m {
+		if typed := c.typed.Get(x.Key); typed != "" {
+			if typed != x.Value {
+				t.event(Event{Kind: EventWarning, Channel: c.id, TimeS: timeS,
+					Text: fmt.Sprintf("cup %s: the device says %s=%s; the form's %s=%s is kept (what the operator typed comes first; clear it in the form to take the device's)",
+						c.id, x.Key, x.Value, x.Key, typed)})
+			}
+			continue
+		}
+		next = next.With(x.Key, x.Value)
+	}
+	c.setNext(t, next)
+}
 
 // SetLimits takes a new limits book (saved from the editor): samples that
 // start from now on are resolved and judged by it.
@@ -448,15 +474,13 @@ func (t *Tracker) deviceInfo(it *feed.Item) {
 		return
 	}
 	if it.Channel != "" {
-		c := t.channel(it.Channel)
-		c.setNext(t, c.next.Merge(m))
+		t.fromDevice(t.channel(it.Channel), m, it.TimeS)
 		return
 	}
 	t.defaults = t.defaults.Merge(m)
 	t.command(Command{Kind: CommandMeta, Meta: t.defaults})
 	for _, id := range t.order {
-		c := t.chans[id]
-		c.setNext(t, c.next.Merge(m))
+		t.fromDevice(t.chans[id], m, it.TimeS)
 	}
 }
 

@@ -78,52 +78,56 @@ func presetOr(alloy string, inoc float64) Params {
 	return p
 }
 
+// deckScenarios are the deck's cups and how often it pours each: mostly
+// good ladles, now and then a bad one, as on a deck that runs well (about
+// three in four pass against the shipped examples; DeckVerdictMix in the
+// tests measures it).
 var deckScenarios = []scenario{
-	{3, "well inoculated", func(r *rand.Rand) Params {
+	{6, "well inoculated", func(r *rand.Rand) Params {
 		p := presetOr(GreyIron, uniform(r, 0.75, 1))
-		p.C, p.Si = uniform(r, 3.2, 3.45), uniform(r, 1.8, 2.3)
+		p.C, p.Si = uniform(r, 3.3, 3.45), uniform(r, 1.9, 2.3) // CE 3.93–4.22: within the examples' band
 		return p
 	}},
-	{2, "poorly inoculated", func(r *rand.Rand) Params {
+	{0.8, "poorly inoculated", func(r *rand.Rand) Params {
 		p := presetOr(GreyIron, uniform(r, 0, 0.3))
 		p.C, p.Si = uniform(r, 3.2, 3.45), uniform(r, 1.8, 2.3)
 		return p
 	}},
-	{1, "faded (held too long)", func(r *rand.Rand) Params {
+	{0.4, "faded (held too long)", func(r *rand.Rand) Params {
 		p := presetOr(GreyIron, 1)
 		p.HoldMin = uniform(r, 15, 30)
 		return p
 	}},
-	{1.5, "ductile, well inoculated", func(r *rand.Rand) Params { return presetOr(DuctileIron, uniform(r, 0.7, 1)) }},
-	{1, "ductile, poorly inoculated", func(r *rand.Rand) Params { return presetOr(DuctileIron, uniform(r, 0, 0.3)) }},
-	{1.5, "refined and modified", func(r *rand.Rand) Params {
+	{3, "ductile, well inoculated", func(r *rand.Rand) Params { return presetOr(DuctileIron, uniform(r, 0.7, 1)) }},
+	{0.4, "ductile, poorly inoculated", func(r *rand.Rand) Params { return presetOr(DuctileIron, uniform(r, 0, 0.3)) }},
+	{3, "refined and modified", func(r *rand.Rand) Params {
 		p := presetOr(AlSi7Mg, uniform(r, 0.7, 1))
 		p.Modification = uniform(r, 0.7, 1)
 		return p
 	}},
-	{1, "unrefined", func(r *rand.Rand) Params {
+	{0.4, "unrefined", func(r *rand.Rand) Params {
 		p := presetOr(AlSi7Mg, uniform(r, 0, 0.2))
 		p.Modification = uniform(r, 0.6, 1)
 		return p
 	}},
-	{1, "unmodified", func(r *rand.Rand) Params {
+	{0.4, "unmodified", func(r *rand.Rand) Params {
 		p := presetOr(AlSi7Mg, uniform(r, 0.6, 1))
 		p.Modification = uniform(r, 0, 0.15)
 		return p
 	}},
 	{0.7, "tellurium cup", func(r *rand.Rand) Params { return presetOr(WhiteIron, 0) }},
 	{0.3, "pure aluminium check cup", func(r *rand.Rand) Params { return presetOr(PureAl, 0) }},
-	{0.35, "open thermocouple", func(r *rand.Rand) Params {
+	{0.25, "open thermocouple", func(r *rand.Rand) Params {
 		p := presetOr(GreyIron, 0.8)
 		p.Fault = FaultOpen
 		return p
 	}},
-	{0.35, "short, cold pour", func(r *rand.Rand) Params {
+	{0.25, "short, cold pour", func(r *rand.Rand) Params {
 		p := presetOr(GreyIron, 0.8)
 		p.Fault = FaultShortPour
 		return p
 	}},
-	{0.35, "cup pulled early", func(r *rand.Rand) Params {
+	{0.25, "cup pulled early", func(r *rand.Rand) Params {
 		p := presetOr(AlSi7Mg, 0.8)
 		p.Modification = 0.8
 		p.Fault = FaultPulledEarly

@@ -2,7 +2,9 @@
 # Smoke test of the dashboard in a real terminal: builds undercool, starts
 # `undercool demo` (the SIMULATED melt deck) in a detached tmux session,
 # reads the screen, checks the safety line and a temperature are shown,
-# presses q and checks the program has left.
+# waits for the first sample's DONE and checks its verdict (and, unless it
+# is a PASS, its advice) is on screen, presses q and checks the program
+# has left.
 # Usage: tui/testdata/smoke.sh            (from anywhere in the repository)
 set -euo pipefail
 cd "$(dirname "$0")/../.."
@@ -31,6 +33,22 @@ check_screen() { # cols rows
 	grep -q "Molten metal" <<<"$screen" || { echo "smoke: the safety line is not on screen"; exit 1; }
 	grep -Eq "[0-9]{3,4}│" <<<"$screen" || { echo "smoke: no temperature axis on screen"; exit 1; }
 	grep -q "█" <<<"$screen" || { echo "smoke: no big reading on screen"; exit 1; }
+	# the first sample's verdict: the state line says it in words
+	# ("MARGINAL · DONE 212 s …"), the reasons (•) and advice (→) follow
+	local done=""
+	for _ in $(seq 1 120); do
+		sleep 0.5
+		done=$(tmux capture-pane -p -t "$session")
+		if grep -Eq "(PASS|MARGINAL|FAIL|INVALID · RE-SAMPLE|NO LIMITS SET) · DONE" <<<"$done"; then
+			break
+		fi
+	done
+	echo "---- DONE at ${cols}x${rows}"
+	echo "$done"
+	grep -Eq "(PASS|MARGINAL|FAIL|INVALID · RE-SAMPLE|NO LIMITS SET) · DONE" <<<"$done" || { echo "smoke: no verdict on screen at DONE"; exit 1; }
+	if ! grep -q "PASS · DONE" <<<"$done"; then
+		grep -Eq "^→ |→ [A-Z]" <<<"$done" || { echo "smoke: the verdict's advice is not on screen at DONE"; exit 1; }
+	fi
 	# q quits at once unless a sample is recording; then it asks, y confirms.
 	tmux send-keys -t "$session" q
 	sleep 0.5
