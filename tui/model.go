@@ -39,6 +39,9 @@ type Options struct {
 	// Advise gives the cup model's advice on each finished sample (nil:
 	// none); ForecastAdvice is the commands'.
 	Advise Adviser
+	// Plant watches the link to the plant database (nil: none); the
+	// status line shows its state and the log each change.
+	Plant  PlantWatch
 	Styles *Styles // nil builds them for lipgloss's default renderer
 	Clock  func() time.Time
 	Log    io.Writer // the log file; nil discards. Written by commands only.
@@ -76,6 +79,7 @@ type Model struct {
 	footH    int  // rows of the foot line: two for a message too long for one
 	ended    bool // the session's channel closed
 	status   feed.Status
+	plant    PlantLink // the plant link's state, when Options.Plant is set
 	flash    string
 	w, h     int
 }
@@ -119,7 +123,7 @@ func New(opt Options) Model {
 
 // Init starts waiting for the first update and loads the history.
 func (m Model) Init() tea.Cmd {
-	return tea.Batch(waitUpdate(m.feed, m.pace), loadHistory(m.opt.Records))
+	return tea.Batch(waitUpdate(m.feed, m.pace), loadHistory(m.opt.Records), watchPlant(m.opt.Plant, nil))
 }
 
 // chrome is the rows taken by the title, status, help and safety lines.
@@ -177,6 +181,13 @@ func (m Model) handle(msg tea.Msg) (tea.Model, tea.Cmd) {
 	switch msg := msg.(type) {
 	case tea.WindowSizeMsg:
 		return m.resize(msg.Width, msg.Height), nil
+	case plantMsg:
+		var logged tea.Cmd
+		if msg.link != m.plant {
+			logged = m.logf("%s", msg.link.Text) // commands write the log, never Update itself
+		}
+		m.plant = msg.link
+		return m, tea.Batch(logged, watchPlant(m.opt.Plant, msg.next))
 	case updateMsg:
 		return m.update(msg.u)
 	case feedClosedMsg:
@@ -619,14 +630,27 @@ func (m Model) statusLine() string {
 		m.st.Status.Render(fmt.Sprintf("garbage %d", s.Garbage)),
 		m.st.Status.Render(fmt.Sprintf("reconnects %d", s.Reconnects)),
 	}
+	if p := m.plantPart(false); p != "" {
+		parts = append(parts[:2], append([]string{p}, parts[2:]...)...) // beside the connection, before the counts
+	}
 	// The wording is chosen by the screen's width with room for four-digit
 	// counts, never by the counts of the moment, so that line 2 does not
 	// flip between its long and short form as they change.
 	room := lipgloss.Width(port) + len("NOT CONNECTED") + // the widest wording of the connection
 		len(" · 9999 readings/s · faults 9999 · garbage 9999 · reconnects 9999 · ")
+	if m.opt.Plant != nil {
+		room += len("PLANT DOWN 9999 queued · ")
+	}
 	if room > m.w {
-		parts[2] = m.st.Status.Render(fmt.Sprintf("%.0f/s", s.ReadingsPerS))
-		parts[5] = m.st.Status.Render(fmt.Sprintf("reconn. %d", s.Reconnects))
+		n := len(parts)
+		parts[n-4] = m.st.Status.Render(fmt.Sprintf("%.0f/s", s.ReadingsPerS))
+		parts[n-1] = m.st.Status.Render(fmt.Sprintf("reconn. %d", s.Reconnects))
+		if m.opt.Plant != nil { // the plant's word needs the room: the shortest forms
+			parts[2] = m.plantPart(true)
+			parts[n-3] = strings.Replace(parts[n-3], "faults", "flt", 1)
+			parts[n-2] = strings.Replace(parts[n-2], "garbage", "garb", 1)
+			parts[n-1] = m.st.Status.Render(fmt.Sprintf("reconn %d", s.Reconnects))
+		}
 	}
 	line := strings.Join(parts, m.st.Muted.Render(" · "))
 	return clip(line, m.w)

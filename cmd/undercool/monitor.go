@@ -139,14 +139,18 @@ func runDashboard(ctx context.Context, env *environ, d dashboard) error {
 	acq := acquire.New(d.open, d.cfg)
 	logger := log.New(logf, "", log.LstdFlags)
 	records := newRecordWriter(ctx, db, func(err error) { logger.Print(err) })
+	var plant tui.PlantWatch
 	if d.forward {
 		fw, stopFw := deckForwarding(ctx, env, db, d.plant)
 		defer stopFw() // before the database closes
 		if fw != nil {
 			records.stored = fw.Kick
-			lctx, stopLog := context.WithCancel(context.WithoutCancel(ctx))
-			defer stopLog()
-			go logLink(lctx, fw, logger)
+			plant = plantWatch(fw) // the dashboard shows the link and logs its changes
+			if !isTerminal(env) {
+				lctx, stopLog := context.WithCancel(context.WithoutCancel(ctx))
+				defer stopLog()
+				go logLink(lctx, fw, logger)
+			}
 		}
 	}
 	sess := session.New(acq, sample.New(sample.Config{Limits: book}), session.Options{Finished: records.Finished})
@@ -169,7 +173,7 @@ func runDashboard(ctx context.Context, env *environ, d dashboard) error {
 	}
 	opt := tui.Options{
 		Feed: sess, Title: d.title, Limits: book, SaveLimits: saver,
-		Records: records, ReadCurve: curvefile.ReadFile, Log: logf, Advise: tui.ForecastAdvice,
+		Records: records, ReadCurve: curvefile.ReadFile, Log: logf, Advise: tui.ForecastAdvice, Plant: plant,
 	}
 	if isTerminal(env) {
 		err = tui.Run(ctx, opt, env.stdin, env.stdout)

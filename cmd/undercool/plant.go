@@ -10,6 +10,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/store"
+	"github.com/undercool-foundry/undercool/tui"
 )
 
 func init() {
@@ -191,6 +192,15 @@ func forwardStored(fw *store.Forwarder, stored int, limit time.Duration) string 
 		case <-deadline.C:
 			return escape.Line(fw.Status().String())
 		}
+	}
+}
+
+// plantWatch is the dashboard's view of the forwarder's link.
+func plantWatch(fw *store.Forwarder) tui.PlantWatch {
+	return func() (tui.PlantLink, <-chan struct{}) {
+		ch := fw.Changed() // before the status, so that no change is missed
+		st := fw.Status()
+		return tui.PlantLink{Tried: !st.Since.IsZero(), Up: st.Up, Queued: st.Queued, Text: st.String()}, ch
 	}
 }
 
