@@ -94,6 +94,7 @@ func pointsOf(r arrest.Result) []pointRow {
 	return []pointRow{
 		{'P', "pour peak", r.PourPeak},
 		{'A', "liquidus", r.Liquidus},
+		{'B', "eutectic start", r.EutecticStart},
 		{'U', "eutectic min", r.EutecticMin},
 		{'R', "eutectic max", r.EutecticMax},
 		{'S', "end of freezing", r.Solidus},

@@ -1224,6 +1224,7 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 	// (shoulderPassed): provisional until the end of freezing settles
 	lo.Provisional, hi.Provisional = !recal, !recal
 	r.EutecticMin, r.EutecticMax = lo, hi
+	r.EutecticStart = a.eutecticStart(lo)
 	r.Recalescence, r.RecalescenceOK = hi.TempC-lo.TempC, true
 	if !recal {
 		r.Recalescence = 0
@@ -1235,6 +1236,51 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 	e.eutI, e.eutRecal = j, recal
 	e.stage = stageSolidus
 	e.dmin, e.dminI = a.d[j], j
+}
+
+// eutecticStart is the start of eutectic freezing before the eutectic
+// minimum lo: T at the largest T” on the rise of T' into the eutectic
+// arrest, searched from the last local minimum of T' before lo (a minimum
+// by the hysteresis h, so that noise makes none) to lo; T” is the central
+// difference of T' over half a T' window. Where T” still rises at the
+// minimum, the start is the minimum itself. The definition
+// (docs/analysis.md) is that of computer-aided cooling-curve analysis: the
+// inflection where the first latent heat of the eutectic slows the
+// cooling, the maximum of d²T/dt² before the arrest.
+func (a *Analyzer) eutecticStart(lo Point) Point {
+	e, _ := slices.BinarySearch(a.ts, lo.TimeS)
+	e = min(e, len(a.d)-1)
+	step := max(1, a.wd/4)
+	h := max(slopeFloor, 4*a.sigma(e)*a.gainD)
+	// the last local minimum of T' before the eutectic minimum
+	m := e
+	for k := e - 1; k > max(a.det.start, step); k-- {
+		if a.d[k] < a.d[m] {
+			m = k
+		}
+		if a.d[k] > a.d[m]+h {
+			break
+		}
+	}
+	dd := func(i int) float64 { return a.d[i+step] - a.d[i-step] }
+	best, bi := math.Inf(-1), -1
+	for i := max(m, step+1); i <= e && i+step+1 < len(a.d); i++ {
+		if v := dd(i); v > best {
+			best, bi = v, i
+		}
+	}
+	if bi < 0 {
+		return Point{}
+	}
+	pt := a.at(bi)
+	if bi > m && bi < e {
+		pt = a.vertex(bi, dd(bi-1), best, dd(bi+1))
+	}
+	if pt.TimeS > lo.TimeS || bi == e {
+		pt = lo // T'' still rising at the minimum
+	}
+	pt.Provisional = lo.Provisional
+	return pt
 }
 
 // outsideWindow ends the analysis at index j on an arrest taken for the
@@ -1278,7 +1324,7 @@ func (a *Analyzer) shoulderPassed(v, dmin, h, p float64) bool {
 func (a *Analyzer) reopen(j int, d float64) {
 	e := &a.det
 	r := &e.res
-	r.EutecticMin, r.EutecticMax = Point{}, Point{}
+	r.EutecticStart, r.EutecticMin, r.EutecticMax = Point{}, Point{}, Point{}
 	r.Recalescence, r.RecalescenceOK = 0, false
 	e.stage, e.sub, e.start = stageArrest, subRise, e.eutI
 	e.dmax, e.dmaxI, e.cand = d, j, -1
@@ -1523,7 +1569,7 @@ func (a *Analyzer) solidus() {
 	e := &a.det
 	r := &e.res
 	r.Solidus = a.solidusPoint(e.dminI, e.j)
-	r.EutecticMin.Provisional, r.EutecticMax.Provisional = false, false
+	r.EutecticStart.Provisional, r.EutecticMin.Provisional, r.EutecticMax.Provisional = false, false, false
 	// end of the plateau: where T' has fallen halfway from the eutectic's
 	// value to its minimum
 	half := (e.eutRefD + e.dmin) / 2

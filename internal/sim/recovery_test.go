@@ -161,6 +161,8 @@ func recoveryChecks() []*pointCheck {
 			got: func(r *arrest.Result) (float64, bool) { return r.LiquidusMin.TempC, r.LiquidusMin.OK }},
 		{name: "liquidus", tol: 1.5, truth: func(t *Truth) (float64, bool) { return t.Liquidus.TempC, t.Liquidus.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.Liquidus.TempC, r.Liquidus.OK }},
+		{name: "eutectic_start", truth: func(t *Truth) (float64, bool) { return t.EutecticStart.TempC, t.EutecticStart.OK },
+			got: func(r *arrest.Result) (float64, bool) { return r.EutecticStart.TempC, r.EutecticStart.OK }},
 		{name: "eutectic_min", tol: 0.6, truth: func(t *Truth) (float64, bool) { return t.EutecticMin.TempC, t.EutecticMin.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.EutecticMin.TempC, r.EutecticMin.OK }},
 		{name: "eutectic_max", tol: 0.6, truth: func(t *Truth) (float64, bool) { return t.EutecticMax.TempC, t.EutecticMax.OK },
