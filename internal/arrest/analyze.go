@@ -160,7 +160,7 @@ const (
 // sample it reports only the points already settled by then; fed the whole
 // curve it gives the offline answer.
 //
-// The method (point definitions in design.md and DEVELOPERS.md):
+// The method (point definitions in docs/analysis.md):
 //   - readings whose time does not increase are dropped ("time-order");
 //     a reading that is NaN, infinite, above MaxValidC or below MinValidC, or
 //     a jump of more than StepFaultC that outlasts the spike test after the
@@ -246,29 +246,28 @@ var analyzers = sync.Pool{New: func() any { return new(Analyzer) }}
 
 // Analyzer holds reusable work space and the state of a growing curve, so
 // that repeated live calls do not allocate and do not redo settled work:
-// each call processes only the readings added since the previous one. It
-// starts afresh when the curve is not the previous one extended (a shorter
-// slice, or a different first, middle or last reading of those it has seen:
-// call Reset for a new curve that might agree in those) or when the options
-// other than Live change. The readings passed must not change afterwards.
-// The zero value is ready to use; it is not safe for concurrent use.
+// each call processes only the readings added since the previous one.
+// Which curve it analyses is said, not guessed: Reset starts a new curve,
+// and Extend (Analyze) takes the same curve grown, whose first readings are
+// those passed before, unchanged. It starts afresh by itself only where
+// that contract cannot hold: other options than Live, or fewer readings
+// than it has seen. The zero value is ready to use; it is not safe for
+// concurrent use.
 type Analyzer struct {
 	opt     Options
 	h       Hints
 	reserve int
 	ready   bool
 
-	nIn          int     // input readings consumed
-	first, mid   float64 // t[0] and temp[nIn/2] of the readings seen
-	lastT, lastV float64
-	goodT        int     // readings whose time was in order
-	lastGoodT    float64 // time of the last of them
-	badTime      int
-	limit        int   // once done: the last reading the result depends on
-	probAt       []int // reading index (accepted) of each problem
-	spikes       []int // indices of the despiked readings
-	stopped      bool  // a fault or noise ended the usable data
-	end          int   // raw readings usable (when stopped)
+	nIn       int     // input readings consumed
+	goodT     int     // readings whose time was in order
+	lastGoodT float64 // time of the last of them
+	badTime   int
+	limit     int   // once done: the last reading the result depends on
+	probAt    []int // reading index (accepted) of each problem
+	spikes    []int // indices of the despiked readings
+	stopped   bool  // a fault or noise ended the usable data
+	end       int   // raw readings usable (when stopped)
 
 	ts, raw       []float64 // accepted readings: views of the caller's slices until one is dropped
 	own           bool      // ts and raw are copies in tsBuf, rawBuf
@@ -280,7 +279,6 @@ type Analyzer struct {
 	rate, dt        float64
 	ws, wd          int
 	ks, kd          *curve.Kernel
-	sld, sll        curve.Sliding
 	dl              []float64 // work space: T' over a longer window
 	gainS, gainD    float64   // noise gains of T and T' (per °C of σ)
 	block           int       // noise block length, readings
@@ -299,8 +297,8 @@ type Analyzer struct {
 // detector is the state of the point finder over the settled indices.
 type detector struct {
 	j     int // next index to examine
-	stage int
-	sub   int
+	stage stage
+	sub   phase
 	start int // first index of the current arrest search
 
 	dmin, dmax   float64
@@ -330,29 +328,68 @@ type heldArrest struct {
 	level  float64 // T' below this makes it short
 }
 
-const (
-	stagePour = iota
-	stageArrest
-	stageSolidus
-	stageDone
-)
+// stage is where the point finder is on the curve. Each transition has one
+// rule, made in one place:
+//
+//	stagePour → stageArrest     the pour peak is confirmed and T' no longer reaches
+//	                            back over it (detect)
+//	stageArrest → stageArrest   a primary arrest is classified; the search starts
+//	                            again after it (arrest)
+//	stageArrest → stageSolidus  an arrest is classified as the eutectic (arrest)
+//	stageArrest → stageDone     the eutectic lies outside the alloy's window
+//	                            (outsideWindow)
+//	stageSolidus → stageArrest  T' rises beyond the hysteresis after a eutectic
+//	                            that did not recalesce: it was a shoulder (reopen,
+//	                            shoulderPassed)
+//	stageSolidus → stageDone    the end of freezing settles (solidus)
+//	any → stageDone             too noisy to trust (detect)
+type stage uint8
 
 const (
-	subValley = iota
-	subRise
-	subPos
+	stagePour    stage = iota // looking for the pour peak
+	stageArrest               // looking for the next arrest (phase says where in it)
+	stageSolidus              // the eutectic found: looking for the end of freezing
+	stageDone                 // nothing more to find
 )
 
-// Analyze is the package-level Analyze reusing the Analyzer's work space.
+// phase is where the arrest search is within one arrest. Its transitions
+// (arrestStep, with quietRun skipping the readings that change nothing):
+//
+//	phaseValley → phaseRise  T' rises max(p, promShare·|T'min|) above its minimum
+//	phaseValley, phaseRise → phasePos
+//	                         T' passes +h: a recalescence
+//	phaseRise → settled      T' falls max(p, fallShare·|T'min|) below its maximum
+//	phasePos → settled       after the + → − crossing, T' < −h or T has fallen
+//	                         max(dropFloor, 6σ_T) below the maximum
+//
+// A settled arrest is classified at once, or held (heldArrest, settle)
+// while its kind hangs on a length not yet seen.
+type phase uint8
+
+const (
+	phaseValley phase = iota // T' falling to the minimum before an arrest
+	phaseRise                // T' rising into an arrest, below +h
+	phasePos                 // T' has passed +h: recalescing
+)
+
+// Analyze is Extend, under the name the sample tracker's analyser
+// interface uses.
+func (a *Analyzer) Analyze(t, temp []float64, opt Options) Result { return a.Extend(t, temp, opt) }
+
+// Extend analyses the curve t (s), temp (°C) of the previous call grown by
+// the readings after those it was given then (which must be the first of
+// these, unchanged: call Reset for another curve), or the first curve after
+// Reset. Only the new readings are processed. With opt.Live the problems
+// only the end of a recording establishes are left out (see Options).
 // Result.Problems may share storage with the Analyzer; the elements already
 // returned are never changed.
-func (a *Analyzer) Analyze(t, temp []float64, opt Options) Result {
+func (a *Analyzer) Extend(t, temp []float64, opt Options) Result {
 	if len(temp) < len(t) {
 		t = t[:len(temp)]
 	}
 	live := opt.Live
 	opt.Live = false
-	if !a.ready || opt != a.opt || len(t) < a.nIn || a.nIn > 0 && (t[0] != a.first || !same(temp[a.nIn/2], a.mid) || t[a.nIn-1] != a.lastT || !same(temp[a.nIn-1], a.lastV)) {
+	if !a.ready || opt != a.opt || len(t) < a.nIn {
 		a.reset(opt, len(t))
 	}
 	// The readings are taken ingestStep at a time and analysed as they
@@ -409,12 +446,9 @@ func (a *Analyzer) run() {
 	}
 }
 
-// Reset makes the next call start afresh. Analyze notices a different
-// curve by its first, middle and last readings; call Reset when a different
-// curve could agree with the previous one in those.
+// Reset starts a new curve: the next Extend takes its readings from the
+// first.
 func (a *Analyzer) Reset() { a.ready = false }
-
-func same(a, b float64) bool { return a == b || math.IsNaN(a) && math.IsNaN(b) }
 
 func (a *Analyzer) reset(opt Options, n int) {
 	r := a.reserve
@@ -544,9 +578,6 @@ func (a *Analyzer) ingest(t, temp []float64) {
 	if a.own {
 		a.tsBuf, a.rawBuf = ts, raw
 	}
-	if n := len(t); n > 0 {
-		a.first, a.mid, a.lastT, a.lastV = t[0], temp[n/2], t[n-1], temp[n-1]
-	}
 }
 
 // inOrder is the number of leading times of t that increase strictly from
@@ -588,7 +619,6 @@ func (a *Analyzer) setRate() {
 	a.ws = curve.WindowSamples(h.SmoothS, a.rate, 2, 5)
 	a.wd = curve.WindowSamples(h.SlopeS, a.rate, 2, 5)
 	a.ks, a.kd = curve.SavGol(a.ws, 2, 0), curve.SavGol(a.wd, 2, 1)
-	a.sld.Reset(a.wd / 2)
 	a.gainS = a.ks.NoiseGain()
 	a.gainD = a.kd.NoiseGain() / a.dt
 	a.block = max(16, int(math.Round(2*a.rate)))
@@ -758,9 +788,17 @@ func (a *Analyzer) filter(upto int) {
 		d = append(d, math.NaN())
 	}
 	if j := len(d); j+hm < len(x) {
-		d = a.sld.AppendSlopes(d, x, j, len(x)-hm, 1/a.dt)
+		d = a.appendSlopes(d, a.kd, j, len(x)-hm)
 	}
 	a.d = d
+}
+
+// appendSlopes appends to dst the first derivative of the despiked
+// readings by kernel k (quadratic Savitzky–Golay, curve.SavGol(w, 2, 1)) at
+// samples from … to−1, °C/s; every one of them must have its whole window
+// (from ≥ w/2, to−1+w/2 < len(a.x)).
+func (a *Analyzer) appendSlopes(dst []float64, k *curve.Kernel, from, to int) []float64 {
+	return k.AppendGrowing(dst, a.x, from, to, a.dt)
 }
 
 // crossing interpolates the zero crossing of T' between indices k and k+1.
@@ -913,7 +951,7 @@ func (a *Analyzer) quietRun(j, end int, h, p float64) int {
 	e := &a.det
 	d := a.d[:end]
 	switch e.sub {
-	case subValley:
+	case phaseValley:
 		dmin, dminI := e.dmin, e.dminI
 		rise := dmin + max(p, promShare*math.Abs(dmin))
 		for ; j < end; j++ {
@@ -927,7 +965,7 @@ func (a *Analyzer) quietRun(j, end int, h, p float64) int {
 			}
 		}
 		e.dmin, e.dminI = dmin, dminI
-	case subRise:
+	case phaseRise:
 		dmax, dmaxI := e.dmax, e.dmaxI
 		fall := dmax - max(p, fallShare*math.Abs(e.dmin))
 		for ; j < end; j++ {
@@ -941,7 +979,7 @@ func (a *Analyzer) quietRun(j, end int, h, p float64) int {
 			}
 		}
 		e.dmax, e.dmaxI = dmax, dmaxI
-	case subPos:
+	case phasePos:
 		if !e.minShown || e.cand >= 0 {
 			return j
 		}
@@ -964,7 +1002,7 @@ func (a *Analyzer) quietRun(j, end int, h, p float64) int {
 }
 
 func (e *detector) startArrest(j int, d float64) {
-	e.sub, e.start = subValley, j
+	e.sub, e.start = phaseValley, j
 	e.dmin, e.dminI = d, j
 	e.cand = -1
 }
@@ -972,8 +1010,8 @@ func (e *detector) startArrest(j int, d float64) {
 func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 	e := &a.det
 	switch e.sub {
-	case subValley, subRise:
-		if e.sub == subValley {
+	case phaseValley, phaseRise:
+		if e.sub == phaseValley {
 			if d < e.dmin {
 				e.dmin, e.dminI = d, j
 			}
@@ -991,7 +1029,7 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 			} else {
 				e.minPt = a.crossing(k)
 			}
-			e.sub, e.lastAbove, e.cand = subPos, j, -1
+			e.sub, e.lastAbove, e.cand = phasePos, j, -1
 			e.dmax, e.dmaxI = d, j
 			e.riseI = a.riseStart(e.dmin/2, j)
 			e.minShown = false
@@ -1000,15 +1038,15 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 		}
 		// the rise into an arrest must also stand out against the cooling
 		// rate before it; the fall after it only against the noise
-		if e.sub == subValley && d > e.dmin+max(p, promShare*math.Abs(e.dmin)) {
-			e.sub, e.dmax, e.dmaxI = subRise, d, j
+		if e.sub == phaseValley && d > e.dmin+max(p, promShare*math.Abs(e.dmin)) {
+			e.sub, e.dmax, e.dmaxI = phaseRise, d, j
 			return
 		}
-		if e.sub == subRise && d < e.dmax-max(p, fallShare*math.Abs(e.dmin)) {
+		if e.sub == phaseRise && d < e.dmax-max(p, fallShare*math.Abs(e.dmin)) {
 			pt := a.extremum(e.dmaxI)
 			a.settle(j, pt, pt, false, p)
 		}
-	case subPos:
+	case phasePos:
 		if d > e.dmax {
 			e.dmax, e.dmaxI = d, j
 		}
@@ -1103,7 +1141,7 @@ func (a *Analyzer) shortArrest() float64 { return 3 * a.h.SlopeS }
 // negative is short however slowly it passes).
 func (a *Analyzer) arrestSpan(recal bool, p float64) (from int, ok bool) {
 	e := &a.det
-	if recal && e.sub == subPos {
+	if recal && e.sub == phasePos {
 		return e.riseI, true
 	}
 	peak := a.d[e.dmaxI]
@@ -1326,7 +1364,7 @@ func (a *Analyzer) reopen(j int, d float64) {
 	r := &e.res
 	r.EutecticStart, r.EutecticMin, r.EutecticMax = Point{}, Point{}, Point{}
 	r.Recalescence, r.RecalescenceOK = 0, false
-	e.stage, e.sub, e.start = stageArrest, subRise, e.eutI
+	e.stage, e.sub, e.start = stageArrest, phaseRise, e.eutI
 	e.dmax, e.dmaxI, e.cand = d, j, -1
 	a.arrestStep(j, d, max(slopeFloor, 4*a.sigma(j)*a.gainD), max(promFloor, 8*a.sigma(j)*a.gainD))
 }
@@ -1336,7 +1374,7 @@ func (a *Analyzer) reopen(j int, d float64) {
 // to its value at the first arrest, °C/s.
 func (a *Analyzer) coolingRate(e *detector) float64 {
 	peak := e.dmax
-	if e.sub == subPos {
+	if e.sub == phasePos {
 		peak = 0
 	}
 	half := (e.dmin + peak) / 2
@@ -1380,14 +1418,9 @@ func (a *Analyzer) refineMax(lo, j, fallback int, firstReach bool) (Point, Point
 		p := a.extremum(fallback)
 		return p, p, false
 	}
-	a.sll.Reset(h)
-	if need := hi - lo + 1; cap(a.dl) < need {
-		a.dl = make([]float64, 0, max(need, 2*cap(a.dl)))
-	}
-	dl := a.sll.AppendSlopes(a.dl[:0], a.x, lo, hi+1, 1)
+	dl := a.appendSlopes(a.dl[:0], curve.SavGol(w, 2, 1), lo, hi+1)
 	best, bi := math.Inf(-1), lo
 	for k := range dl {
-		dl[k] /= a.dt
 		if dl[k] > best {
 			best, bi = dl[k], lo+k
 		}
@@ -1468,14 +1501,9 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 	if lo+2 > hi {
 		return a.extremum(i)
 	}
-	a.sll.Reset(h)
-	if need := hi - lo + 1; cap(a.dl) < need {
-		a.dl = make([]float64, 0, max(need, 2*cap(a.dl)))
-	}
-	ds := a.sll.AppendSlopes(a.dl[:0], a.x, lo, hi+1, 1)
+	ds := a.appendSlopes(a.dl[:0], curve.SavGol(w, 2, 1), lo, hi+1)
 	m := lo
 	for k := range ds {
-		ds[k] /= a.dt
 		if ds[k] < ds[m-lo] {
 			m = lo + k
 		}
@@ -1553,8 +1581,7 @@ func (a *Analyzer) dipDepth(w, i, j int) float64 {
 	if lo > hi {
 		return math.Abs(a.d[i])
 	}
-	a.sll.Reset(h)
-	a.dl = a.sll.AppendSlopes(a.dl[:0], a.x, lo, hi+1, 1/a.dt)
+	a.dl = a.appendSlopes(a.dl[:0], curve.SavGol(w, 2, 1), lo, hi+1)
 	m := math.Inf(1)
 	for _, v := range a.dl {
 		m = min(m, v)
@@ -1605,7 +1632,7 @@ func (a *Analyzer) solidus() {
 // live sample that goes on is analysed as before.
 func (a *Analyzer) cutPlateau() (Result, bool) {
 	e := &a.det
-	if e.stage != stageArrest || len(a.d) == 0 || e.j < len(a.d) || !(e.hold.on || e.sub == subRise || e.sub == subPos && e.cand >= 0) {
+	if e.stage != stageArrest || len(a.d) == 0 || e.j < len(a.d) || !(e.hold.on || e.sub == phaseRise || e.sub == phasePos && e.cand >= 0) {
 		return Result{}, false
 	}
 	j := len(a.d) - 1
@@ -1619,9 +1646,9 @@ func (a *Analyzer) cutPlateau() (Result, bool) {
 		}
 		e.hold = heldArrest{}
 		a.arrest(j, hd.lo, hd.hi, hd.recal, true)
-	case !a.longArrest(j, e.sub == subPos, p):
+	case !a.longArrest(j, e.sub == phasePos, p):
 		return Result{}, false
-	case e.sub == subRise:
+	case e.sub == phaseRise:
 		pt := a.extremum(e.dmaxI)
 		a.arrest(j, pt, pt, false, true)
 	default:
