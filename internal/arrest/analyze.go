@@ -136,6 +136,7 @@ const (
 	negShare     = 0.05 // see longArrest
 	holdShare    = 0.2  // see settle
 	flatShare    = 0.05 // see solidusPoint
+	belowWindowC = 10   // see noDistinctEnd, °C
 	sharpGain    = 1.1  // see solidusWindow
 	fallShare    = 0.04 // an arrest's fall is at least this share of |T'|min before it
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
@@ -153,6 +154,9 @@ const (
 	// CodeEutecticWindow: the arrest taken for the eutectic lies outside
 	// the alloy's eutectic window (Hints.Eutectic).
 	CodeEutecticWindow = "eutectic-window"
+	// CodeNoEnd: the curve cooled well below the eutectic window without a
+	// distinct end of freezing (not fatal).
+	CodeNoEnd = "no-end-of-freezing"
 )
 
 // Analyze finds the characteristic points of the curve temp(t), t in s and
@@ -912,7 +916,11 @@ func (a *Analyzer) detect() {
 			need := max(p, math.Abs(e.res.CoolingRateCps)/3)
 			dmin, dminI := e.dmin, e.dminI
 			dd, ts, confirm := a.d[:end], a.ts, a.h.ConfirmS
-			back := false
+			floor := math.Inf(-1) // see noDistinctEnd
+			if w := a.h.Eutectic; !w.Open() {
+				floor = w.LoC - belowWindowC
+			}
+			back, below := false, false
 			for ; j < end; j++ {
 				v := dd[j]
 				if v < dmin {
@@ -924,6 +932,9 @@ func (a *Analyzer) detect() {
 				if e.eutRefD-dmin >= need && ts[j]-ts[dminI] >= confirm {
 					break
 				}
+				if below = a.x[j] < floor && e.eutRefD-dmin < need; below {
+					break
+				}
 			}
 			e.dmin, e.dminI = dmin, dminI
 			if j == end {
@@ -931,8 +942,12 @@ func (a *Analyzer) detect() {
 				continue
 			}
 			e.j = j
-			if back {
+			switch {
+			case back:
 				a.reopen(j, dd[j])
+				continue
+			case below:
+				a.noDistinctEnd(j)
 				continue
 			}
 			a.solidus()
@@ -1319,6 +1334,22 @@ func (a *Analyzer) eutecticStart(lo Point) Point {
 	}
 	pt.Provisional = lo.Provisional
 	return pt
+}
+
+// noDistinctEnd ends the analysis at index j, where the curve has cooled
+// belowWindowC below the bottom of the alloy's eutectic window without the
+// dip in T' that settles the end of freezing (a dip deep enough but not
+// yet confirmed still waits for its confirmation) (a weak eutectic, as in an
+// alloy with little of it, freezes out without one): the end of freezing
+// stays null, and a problem, not fatal, says why; the recording did not
+// end early.
+func (a *Analyzer) noDistinctEnd(j int) {
+	e := &a.det
+	a.problem(j, CodeNoEnd, fmt.Sprintf("no distinct end of freezing: the curve cooled to %.0f °C, below the alloy's eutectic window, without the dip in dT/dt that marks it; the end of freezing and the freezing times are left out", a.x[j]), false)
+	e.res.EutecticStart.Provisional, e.res.EutecticMin.Provisional, e.res.EutecticMax.Provisional = false, false, false
+	e.res.Complete = true
+	e.stage = stageDone
+	a.limit = a.xAvail(j) + 2
 }
 
 // outsideWindow ends the analysis at index j on an arrest taken for the
