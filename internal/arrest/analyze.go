@@ -208,17 +208,43 @@ const (
 //     EutecticTopC or short, is the liquidus arrest, and once a liquidus is
 //     found the next long arrest is the eutectic whatever its temperature.
 //     An arrest is long when T' came within max(P, 0.05·|T'min|) of zero and
-//     stayed above halfway from T'min to min(T'max, 0) for 3·Hints.SlopeS (a
+//     stayed above halfway from the cooling before it (the lowest T' over
+//     3·Hints.SlopeS before its rise) to min(T'max, 0) for 3·Hints.SlopeS (a
 //     eutectic's large latent heat holds T' near zero for tens of seconds; a
 //     grey-iron liquidus 10–40 °C above the eutectic, inside the hint
-//     window, lasts a few seconds or keeps T' clearly negative). The minimum
-//     of a recalescing arrest is reported as soon as its kind is settled.
-//     Liquidus is null when no arrest precedes the eutectic;
+//     window, lasts a few seconds or keeps T' clearly negative). An arrest
+//     whose kind hangs on its length and that settles sooner is held
+//     (settle): long if T' then stays within max(P, 0.2·(top − cooling
+//     before)) of its top (zero after a recalescence) for 3·Hints.SlopeS,
+//     short once it falls below that. Liquidus is null when no arrest
+//     precedes the eutectic;
+//   - the alloy's windows (Hints.Eutectic, Hints.Liquidus): an arrest
+//     reaching above the eutectic window is a primary arrest, the liquidus
+//     only inside the liquidus window; an arrest taken for the eutectic
+//     whose minimum lies below the window leaves the eutectic null with a
+//     fatal "eutectic-window" problem, and the analysis ends there;
+//   - a real recalescence outranks an earlier shoulder: after a eutectic
+//     without recalescence, T' that falls by more than P and then rises past
+//     +h reopens the search (shoulderPassed, reopen), and the recalescence
+//     becomes the eutectic; a eutectic without recalescence is therefore
+//     provisional until the end of freezing settles;
+//   - the start of eutectic freezing is T at the largest T″ (the central
+//     difference of T' over half a T' window) between the last local
+//     minimum of T' (by the hysteresis h) before the eutectic minimum and the
+//     minimum (eutecticStart);
 //   - the end of freezing is T at the most negative T' after the eutectic,
 //     settled when no lower T' has followed for Hints.ConfirmS seconds and
 //     the drop below the plateau's T' is at least P and a third of the
-//     liquid's cooling rate; it is placed on a half-length T' window when
-//     the noise allows (solidusPoint);
+//     liquid's cooling rate; it is placed on the shortest window, down from
+//     half the T' window, on which the dip is sharper and the noise small
+//     against it (solidusWindow), and on a flat-bottomed dip from where T'
+//     first reached the bottom (solidusPoint). A curve that cools 10 °C
+//     below the eutectic window without such a dip has no distinct end of
+//     freezing ("no-end-of-freezing", not fatal);
+//   - a point shown live before its arrest's shape is complete is
+//     Point.Provisional (the minimum of a recalescence whose kind a window
+//     may still change, a eutectic without recalescence); once confirmed it
+//     never changes, and the offline answer has no provisional point;
 //   - where the usable data end (the recording stops, or a fault) on a long
 //     eutectic plateau before T' has fallen, the eutectic is settled from
 //     the data seen, as if T' fell at the last reading examined; its
@@ -1292,10 +1318,10 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 }
 
 // eutecticStart is the start of eutectic freezing before the eutectic
-// minimum lo: T at the largest T” on the rise of T' into the eutectic
+// minimum lo: T at the largest T″ on the rise of T' into the eutectic
 // arrest, searched from the last local minimum of T' before lo (a minimum
-// by the hysteresis h, so that noise makes none) to lo; T” is the central
-// difference of T' over half a T' window. Where T” still rises at the
+// by the hysteresis h, so that noise makes none) to lo; T″ is the central
+// difference of T' over half a T' window. Where T″ still rises at the
 // minimum, the start is the minimum itself. The definition
 // (docs/analysis.md) is that of computer-aided cooling-curve analysis: the
 // inflection where the first latent heat of the eutectic slows the
@@ -1330,7 +1356,7 @@ func (a *Analyzer) eutecticStart(lo Point) Point {
 		pt = a.vertex(bi, dd(bi-1), best, dd(bi+1))
 	}
 	if pt.TimeS > lo.TimeS || bi == e {
-		pt = lo // T'' still rising at the minimum
+		pt = lo // T″ still rising at the minimum
 	}
 	pt.Provisional = lo.Provisional
 	return pt

@@ -59,7 +59,7 @@ type Result struct {
 	LiquidusMin Point // primary undercooling minimum (only when the primary arrest recalesces)
 	Liquidus    Point // liquidus arrest (growth temperature when it recalesces)
 	// EutecticStart is the start of eutectic freezing: T at the largest
-	// T'' on the rise of T' into the eutectic arrest (docs/analysis.md).
+	// T″ on the rise of T' into the eutectic arrest (docs/analysis.md).
 	EutecticStart Point
 	EutecticMin   Point // undercooled eutectic
 	EutecticMax   Point // eutectic maximum after recalescence
