@@ -1555,6 +1555,11 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 		k--
 	}
 	lo, hi := max(k-a.wd/2, h, a.det.eutI), min(j, a.xAvail(j)-h)
+	if w == 5 {
+		if pt, ok := a.steepestStep(i, j, lo, hi); ok {
+			return pt
+		}
+	}
 	if lo+2 > hi {
 		return a.extremum(i)
 	}
@@ -1597,6 +1602,29 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 	k = int(math.Floor(mid))
 	f := mid - float64(k)
 	return Point{TempC: a.sm(k) + f*(a.sm(k+1)-a.sm(k)), TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]), OK: true}
+}
+
+// steepestStep places an end of freezing too sharp even for a 5-sample
+// window (a strong gradient's centre logged at a few readings a second
+// drops 10–25 °C between two readings) between the two readings of the
+// steepest step among lo … hi: at the middle of that step, T their mean. It
+// does so only where the steps' own noise, σ·√2 per interval, is at most
+// shortShare of the step's slope and the step is sharpGain times steeper
+// than the 5-sample T' there; ok false otherwise.
+func (a *Analyzer) steepestStep(i, j, lo, hi int) (Point, bool) {
+	if lo+2 > hi {
+		return Point{}, false
+	}
+	best, bk := 0.0, -1
+	for k := lo; k < hi; k++ {
+		if v := (a.x[k+1] - a.x[k]) / (a.ts[k+1] - a.ts[k]); v < best {
+			best, bk = v, k
+		}
+	}
+	if bk < 0 || math.Sqrt2*a.sigma(j)/a.dt > shortShare*-best || -best < sharpGain*a.dipDepth(5, i, j) {
+		return Point{}, false
+	}
+	return Point{TempC: (a.x[bk] + a.x[bk+1]) / 2, TimeS: (a.ts[bk] + a.ts[bk+1]) / 2, OK: true}, true
 }
 
 // solidusWindow is the T' window, samples, the end of freezing (the most
