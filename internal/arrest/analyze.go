@@ -138,6 +138,7 @@ const (
 	flatShare    = 0.05 // see solidusPoint
 	belowWindowC = 10   // see noDistinctEnd, °C
 	sharpGain    = 1.1  // see solidusWindow
+	stepShare    = 0.1  // see steepestStep
 	fallShare    = 0.04 // an arrest's fall is at least this share of |T'|min before it
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
 )
@@ -1609,7 +1610,8 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 // drops 10–25 °C between two readings) between the two readings of the
 // steepest step among lo … hi: at the middle of that step, T their mean. It
 // does so only where the steps' own noise, σ·√2 per interval, is at most
-// shortShare of the step's slope and the step is sharpGain times steeper
+// stepShare of the step's slope (a neighbouring step the noise may pick
+// instead lies on the same cliff) and the step is sharpGain times steeper
 // than the 5-sample T' there; ok false otherwise.
 func (a *Analyzer) steepestStep(i, j, lo, hi int) (Point, bool) {
 	if lo+2 > hi {
@@ -1621,7 +1623,7 @@ func (a *Analyzer) steepestStep(i, j, lo, hi int) (Point, bool) {
 			best, bk = v, k
 		}
 	}
-	if bk < 0 || math.Sqrt2*a.sigma(j)/a.dt > shortShare*-best || -best < sharpGain*a.dipDepth(5, i, j) {
+	if bk < 0 || math.Sqrt2*a.sigma(j)/a.dt > stepShare*-best || -best < sharpGain*a.dipDepth(5, i, j) {
 		return Point{}, false
 	}
 	return Point{TempC: (a.x[bk] + a.x[bk+1]) / 2, TimeS: (a.ts[bk] + a.ts[bk+1]) / 2, OK: true}, true
