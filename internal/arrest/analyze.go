@@ -135,7 +135,7 @@ const (
 	shortShare   = 0.03 // see solidusPoint
 	negShare     = 0.05 // see longArrest
 	holdShare    = 0.2  // see settle
-	flatShare    = 0.05 // see solidusPoint
+	flatShare    = 0.2 // see solidusPoint
 	belowWindowC = 10   // see noDistinctEnd, °C
 	sharpGain    = 1.1  // see solidusWindow
 	stepShare    = 0.1  // see steepestStep
