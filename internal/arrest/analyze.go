@@ -135,7 +135,7 @@ const (
 	shortShare   = 0.03 // see solidusPoint
 	negShare     = 0.05 // see longArrest
 	holdShare    = 0.2  // see settle
-	flatShare    = 0.2 // see solidusPoint
+	flatShare    = 0.2  // see solidusPoint
 	belowWindowC = 10   // see noDistinctEnd, °C
 	sharpGain    = 1.1  // see solidusWindow
 	stepShare    = 0.1  // see steepestStep
@@ -1532,11 +1532,16 @@ func (a *Analyzer) levelPoint(k int, v0, v1, level float64) Point {
 }
 
 // solidusPoint places the end of freezing at the most negative T' (found
-// at sample i, settled at j), located again on a derivative window half as
-// long (Hints.SlopeS/2) unless the noise of that derivative exceeds
-// shortShare of the depth of the dip: the drop into the end of freezing is sharp and the
+// at sample i, settled at j), located again on the window solidusWindow
+// picks (half the T' window or shorter, as sharp as the dip and its noise
+// allow; the steepest step between two readings for a cliff too sharp for
+// five, steepestStep): the drop into the end of freezing is sharp and the
 // relaxation after it slow, and a long window would move the minimum toward
-// the slow side. On a noisy curve the bottom of the dip is the run of
+// the slow side. The search starts where T' first came within
+// max(3σ_T', flatShare·|T'min|) of its minimum, so that on a flat-bottomed
+// dip (T' reaching the solid's cooling rate and staying there) the point
+// is where the bottom is first reached, not wherever noise puts its lowest
+// sample. On a noisy curve the bottom of the dip is the run of
 // samples within 2σ of the minimum, from the first sample that reaches that
 // level to the last of the unbroken run after the minimum, and the point is
 // the middle of that run (between interpolated level crossings), steadier
