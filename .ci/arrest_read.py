@@ -11,7 +11,7 @@ The read, for each window W (seconds) and order 2:
   1. the readings are put on an even time grid at their median step (np.interp: the logger
      export steps unevenly, 0.04-1.3 s, and savgol_filter assumes even steps);
   2. T and dT/dt are savgol_filter(T, n, 2) and savgol_filter(T, n, 2, deriv=1, delta=dt),
-     n = the odd number of readings nearest W/dt (at least 5), mode='interp';
+     n = W/dt readings rounded, made odd (at least 5), mode='interp';
   3. the search starts where the smoothed curve has fallen 3 degC below its highest reading
      (the pour peak, or the start of a file that begins in the liquid);
   4. an arrest is sought among the readings inside its temperature window (given per curve):
@@ -27,8 +27,9 @@ The read, for each window W (seconds) and order 2:
      when it lies within one window of the file's end (the recording stopped before it settled).
 
 Keys: alpha_min_c/alpha_c (the primary arrest: minimum and growth temperature, alpha_min_c null
-without recalescence), eutectic_min_c/eutectic_max_c, solidus_c (end of freezing), and their times (_s) on the file's own time
-axis. null means not found (the window never reached, or too few readings).
+without recalescence), eutectic_min_c/eutectic_max_c, solidus_c (end of freezing), and their
+times (_s) on the file's own time axis. null means not found (the window never reached, too few
+readings, or the recording stopped first).
 
 Usage: arrest_read.py [--windows W1,W2,W3] REALDATA_DIR
 Run with Debian's /usr/bin/python3 and python3-scipy.
@@ -47,8 +48,8 @@ from scipy.signal import savgol_filter
 # eutectic at or below 577 degC, Murray and McAlister 1984; Sn-Bi: Sn 231.9, Bi 271.4, eutectic
 # 139 degC) widened for this hobby-grade sensor's few kelvin of offset.
 ALSI = {"primary": (585.0, 650.0), "eutectic": (540.0, 580.0)}
-# The logger-export pair is poured into the cup while logging: its pour peak comes only 9 s before
-# the alpha-Al arrest, so a window of 8 s would smooth the two together; 2, 3 and 5 s there.
+# The logger-export pair logs from room temperature, before the pour: its pour peak comes 9 s
+# before the alpha-Al arrest, so a window of 8 s would smooth the two together; 2, 3 and 5 s there.
 ALSI_POURED = dict(ALSI, windows=(2.0, 3.0, 5.0))
 CURVES = [
     ("beforeA", ("temp_first", "joebee-alsi-before-after/beforeA.txt"), ALSI),

@@ -199,6 +199,15 @@ func (a *Acquirer) Stop(ch string, sample int, reason string) {
 	a.ctl.Push(control{op: opStop, ch: ch, sample: sample, reason: reason})
 }
 
+// StopAt is Stop with the sample time (s from the file's first reading) the
+// sample ends at: readings after it, taken before the word arrived, are
+// left out of the completed file (they stay in nothing: the sample ended
+// before them). The tracker's stop after freezing uses it, so that a file
+// does not depend on how long the word took.
+func (a *Acquirer) StopAt(ch string, sample int, atS float64, reason string) {
+	a.ctl.Push(control{op: opStop, ch: ch, sample: sample, reason: reason, atS: atS, cut: true})
+}
+
 // SetMeta sets the sample metadata (the sample keys of the line protocol:
 // sample, alloy, operator, ...) of sample number sample of channel ch.
 // With sample 0 it is for the channel's next sample file (ch "": for
@@ -223,6 +232,8 @@ type control struct {
 	sample int
 	reason string
 	meta   []curvefile.Meta
+	atS    float64 // opStop with cut: the sample time it ends at
+	cut    bool
 }
 
 type itemKind uint8
@@ -766,6 +777,9 @@ func (a *Acquirer) control(c control) error {
 			reason := c.reason
 			if reason == "" {
 				reason = "stopped by hand"
+			}
+			if c.cut {
+				ch.log.cutAfter(c.atS)
 			}
 			return ch.finish(a, reason)
 		}

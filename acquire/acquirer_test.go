@@ -467,3 +467,70 @@ func recordCup(t *testing.T, info ...string) ([]cupReading, *collector) {
 	k := col.stopAt(w, "1", sent, 0, 45, 35)
 	return sent[:k], col
 }
+
+// TestFlappingPortCountsEachReconnect: a port that comes back and is lost
+// again while it is being re-plugged (a loose connector, two flaps with a
+// line each) counts every opening after a loss as a reconnection: three
+// here, each with its disconnection, which is what tells a technician the
+// cable is bad. The readings of every connection are kept, in order.
+func TestFlappingPortCountsEachReconnect(t *testing.T) {
+	port := newPipePort()
+	a, col, _ := startAcq(t, port.open, Config{Dir: t.TempDir(), ReconnectMin: time.Millisecond, ReconnectMax: time.Millisecond})
+	w := port.plug()
+	w.Write([]byte("c=20\n"))
+	col.until("first reading", 5*time.Second, func() bool { return len(col.readings) == 1 })
+	w.CloseWithError(errors.New("unplugged"))
+	for i := range 2 { // two flaps: back for one line, then gone again
+		w = port.plug()
+		w.Write([]byte(fmt.Sprintf("c=%d\n", 21+i)))
+		w.CloseWithError(errors.New("flapped"))
+		col.until("the flap's reading", 5*time.Second, func() bool { return len(col.readings) == 2+i })
+	}
+	w = port.plug()
+	w.Write([]byte("c=23\n"))
+	col.until("steady again", 5*time.Second, func() bool { return len(col.readings) == 4 && col.count(feed.KindConnected) == 4 })
+	if s := col.last; s.Reconnects != 3 || col.count(feed.KindDisconnected) != 3 {
+		t.Fatalf("reconnects %d, disconnections %d: want 3 and 3", s.Reconnects, col.count(feed.KindDisconnected))
+	}
+	for i, r := range col.readings {
+		if r.TempC != float64(20+i) {
+			t.Fatalf("reading %d is %v", i, r.TempC)
+		}
+	}
+	a.Stop("1", 0, "")
+}
+
+// TestStopAtLeavesLaterReadingsOut: the tracker's word to stop after the
+// margin names the sample time it ends at; readings the acquirer took
+// before the word arrived (a loaded machine, a burst) are left out of the
+// completed file, so that the file does not depend on how long the word
+// took. Before, the file ran on to wherever the word arrived: under load
+// TestTwoThermocoupleCupRecorded got 24 s more of tail, and a Fourier
+// latent heat 4.6 times the model's.
+func TestStopAtLeavesLaterReadingsOut(t *testing.T) {
+	port := newPipePort()
+	a, col, _ := startAcq(t, port.open, Config{Dir: t.TempDir()})
+	sent := cupCurve(10, 3, 40)
+	w := port.plug()
+	for _, r := range sent {
+		w.Write([]byte(r.line("1")))
+	}
+	col.until("every reading", 10*time.Second, func() bool { return len(col.readings) == len(sent) })
+	st := col.has(feed.KindStarted, "1")
+	if st == nil {
+		t.Fatal("no sample started")
+	}
+	atS := 20.0 // s in the file; readings up to 36 s have been taken
+	a.StopAt("1", st.Sample, atS, "freezing done")
+	col.until("sample done", 10*time.Second, func() bool { return col.has(feed.KindEnded, "1") != nil })
+	c, err := curvefile.ReadFile(col.has(feed.KindEnded, "1").Path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if last := c.Time[len(c.Time)-1]; last > atS || last < atS-0.1 {
+		t.Fatalf("the file ends at %v s, want %v", last, atS)
+	}
+	if c.Get("ended") != "freezing done" {
+		t.Errorf("ended %q", c.Get("ended"))
+	}
+}

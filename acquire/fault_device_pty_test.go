@@ -183,4 +183,10 @@ func TestFaultOneChannelsFileProblem(t *testing.T) {
 	if c2, err := curvefile.ReadFile(partial2); err != nil || len(c2.Time) != 11 {
 		t.Fatalf("channel 2's readings not kept in %s: %v", partial2, err)
 	}
+	// the next start completes them under a name of their own, beside
+	// the file that took theirs
+	recs, err := recoverDir(dir, time.Now())
+	if err != nil || len(recs) != 1 || recs[0].Rows != 11 || !strings.HasSuffix(recs[0].Path, "-recovered.csv") {
+		t.Fatalf("recovery of channel 2: %+v %v", recs, err)
+	}
 }

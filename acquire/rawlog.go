@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -196,6 +197,42 @@ func (l *rawLog) writeRow(w *curvefile.Writer, rw row, before ...string) error {
 	return w.Write(rw.time, rw.temp, append(before, rw.flags)...)
 }
 
+// cutAfter leaves out of the completed file the readings after atS (s in
+// the file) and the wall readings after the first one beyond it (which the
+// last centre reading's wall value is taken with), as the tracker leaves
+// them out of the sample (sample.Command.AtS). The partial file keeps
+// them until it is completed.
+func (l *rawLog) cutAfter(atS float64) {
+	k := len(l.rows)
+	for k > 0 && l.rows[k-1].time > atS {
+		k--
+	}
+	if k < len(l.rows) {
+		first := l.rows[k]
+		l.gapAtEnd = hasFlag(first.flags, "gap_before") || strings.Contains(first.fault, "gap_before")
+		l.rows = l.rows[:k]
+		l.faults = 0
+		for _, rw := range l.rows {
+			if rw.fault != "" {
+				l.faults++
+			}
+		}
+	}
+	j := 0
+	for j < len(l.walls) && l.walls[j].time <= atS {
+		j++
+	}
+	if j+1 < len(l.walls) {
+		l.walls = l.walls[:j+1]
+		l.wallFaults = 0
+		for _, w := range l.walls {
+			if math.IsNaN(w.temp) {
+				l.wallFaults++
+			}
+		}
+	}
+}
+
 // finish completes the log and returns the final path.
 func (l *rawLog) finish() (string, error) {
 	close(l.stop)
@@ -384,13 +421,18 @@ func recoverOne(p string, now time.Time) (Recovered, bool, error) {
 	if !keepOpenWhileCompleting {
 		f.Close()
 	}
-	final := finalName(p)
-	if exists(final) {
-		return Recovered{}, false, os.Remove(p)
-	}
 	l, torn, err := readPartial(p)
 	if err != nil {
 		return Recovered{}, false, err
+	}
+	if exists(l.final) {
+		if completedForm(l.final, l.meta) {
+			// the crash came after completing: the file is there
+			return Recovered{}, false, os.Remove(p)
+		}
+		// another file took the name (the reason completing failed):
+		// the readings go to a name of their own, the other file is left
+		l.final = freeName(strings.TrimSuffix(l.final, ".csv") + "-recovered")
 	}
 	extra := []curvefile.Meta{
 		{Key: "interrupted", Value: "true"},
@@ -399,7 +441,43 @@ func recoverOne(p string, now time.Time) (Recovered, bool, error) {
 	if err := l.complete(l.meta, extra); err != nil {
 		return Recovered{}, false, err
 	}
-	return Recovered{Path: final, Channel: metaValue(l.meta, "channel"), Rows: len(l.rows) - l.faults, Torn: torn}, true, nil
+	return Recovered{Path: l.final, Channel: metaValue(l.meta, "channel"), Rows: len(l.rows) - l.faults, Torn: torn}, true, nil
+}
+
+// completedForm reports whether the curve file final is the completed form
+// of a raw log that started with meta: it holds every key of meta that is
+// not a sample key (those may be changed on completing) with the same
+// value, and meta has at least one such key.
+func completedForm(final string, meta []curvefile.Meta) bool {
+	c, err := curvefile.ReadFile(final)
+	if err != nil {
+		return false
+	}
+	n := 0
+	for _, m := range meta {
+		if protocol.IsSampleKey(m.Key) {
+			continue
+		}
+		if c.Get(m.Key) != m.Value {
+			return false
+		}
+		n++
+	}
+	return n > 0
+}
+
+// freeName is base.csv, or base-2.csv, base-3.csv... the first name taken
+// by no file and no partial file.
+func freeName(base string) string {
+	for i := 1; ; i++ {
+		p := base + ".csv"
+		if i > 1 {
+			p = base + "-" + strconv.Itoa(i) + ".csv"
+		}
+		if !exists(p) && !exists(partialName(p)) {
+			return p
+		}
+	}
 }
 
 // readPartial reads an interrupted raw log back (with the curve reader;

@@ -90,14 +90,40 @@ func TestRecoverLeavesLiveLog(t *testing.T) {
 func TestRecoverAfterCompleting(t *testing.T) {
 	dir := t.TempDir()
 	final := filepath.Join(dir, "s.csv")
-	os.WriteFile(final, []byte("# ended: freezing done\ntime_s,temp_c,flags\n0,1,\n"), 0o644)
+	// the completed form: the partial's metadata (its sample id as the
+	// tracker decided it), the end
+	os.WriteFile(final, []byte("# sample: L-2417 cup 4\n# channel: 1\n# ended: freezing done\ntime_s,temp_c,flags\n0,1,\n"), 0o644)
 	os.WriteFile(partialName(final), []byte(tornPartial), 0o644)
 	if recs, err := recoverDir(dir, time.Now()); err != nil || len(recs) != 0 {
 		t.Fatalf("Recover: %v %v", recs, err)
 	}
 	b, _ := os.ReadFile(final)
-	if !strings.HasPrefix(string(b), "# ended: freezing done") || exists(partialName(final)) {
+	if !strings.HasPrefix(string(b), "# sample: L-2417 cup 4") || exists(partialName(final)) {
 		t.Fatalf("final %q, partial left %v", b, exists(partialName(final)))
+	}
+}
+
+// TestRecoverBesideAnotherFile: the final name of an interrupted sample is
+// taken by a file that is not its completed form (another program's, or
+// the reason completing failed): the readings are completed under a name
+// of their own and the other file is left as it is. Before, the partial
+// file was removed as if completed, and its readings were lost.
+func TestRecoverBesideAnotherFile(t *testing.T) {
+	dir := t.TempDir()
+	final := filepath.Join(dir, "s.csv")
+	os.WriteFile(final, []byte("taken\n"), 0o644)
+	os.WriteFile(partialName(final), []byte(tornPartial), 0o644)
+	recs, err := recoverDir(dir, time.Now())
+	want := filepath.Join(dir, "s-recovered.csv")
+	if err != nil || len(recs) != 1 || recs[0].Path != want || recs[0].Rows != 5 {
+		t.Fatalf("Recover: %+v %v", recs, err)
+	}
+	if b, _ := os.ReadFile(final); string(b) != "taken\n" || exists(partialName(final)) {
+		t.Fatalf("the other file %q; partial left %v", b, exists(partialName(final)))
+	}
+	c, err := curvefile.ReadFile(want)
+	if err != nil || len(c.Time) != 5 || c.Get("interrupted") != "true" {
+		t.Fatalf("recovered file: %v %v", c, err)
 	}
 }
 

@@ -47,3 +47,57 @@ func bigText(s string) string {
 	}
 	return strings.Join(out, "\n")
 }
+
+// bigLetters are block-character capitals, five rows tall, for the words
+// that take the big slot (a verdict, a fault). Most are three cells wide,
+// M and N wider, so that MARGINAL fits a cup's facts column.
+var bigLetters = map[rune][bigHeight]string{
+	'A': {"███", "█ █", "███", "█ █", "█ █"},
+	'C': {"███", "█  ", "█  ", "█  ", "███"},
+	'D': {"██ ", "█ █", "█ █", "█ █", "██ "},
+	'E': {"███", "█  ", "██ ", "█  ", "███"},
+	'F': {"███", "█  ", "██ ", "█  ", "█  "},
+	'G': {"███", "█  ", "█ █", "█ █", "███"},
+	'H': {"█ █", "█ █", "███", "█ █", "█ █"},
+	'I': {"███", " █ ", " █ ", " █ ", "███"},
+	'K': {"█ █", "█ █", "██ ", "█ █", "█ █"},
+	'L': {"█  ", "█  ", "█  ", "█  ", "███"},
+	'M': {"█   █", "██ ██", "█ █ █", "█   █", "█   █"},
+	'N': {"█  █", "██ █", "█ ██", "█  █", "█  █"},
+	'O': {"███", "█ █", "█ █", "█ █", "███"},
+	'P': {"███", "█ █", "███", "█  ", "█  "},
+	'R': {"███", "█ █", "██ ", "█ █", "█ █"},
+	'S': {"███", "█  ", "███", "  █", "███"},
+	'T': {"███", " █ ", " █ ", " █ ", " █ "},
+	'U': {"█ █", "█ █", "█ █", "█ █", "███"},
+	'V': {"█ █", "█ █", "█ █", "█ █", " █ "},
+	'?': {"███", "  █", " ██", "   ", " █ "},
+	' ': {" ", " ", " ", " ", " "},
+}
+
+// bigWord renders an upper-case word in bigLetters, one column between
+// letters; ok is false when a letter has no glyph or the word is wider
+// than w cells (the caller then shows it in ordinary letters).
+func bigWord(s string, w int) (string, bool) {
+	var rows [bigHeight]strings.Builder
+	for i, r := range []rune(s) {
+		g, ok := bigLetters[r]
+		if !ok {
+			return "", false
+		}
+		for k := range rows {
+			if i > 0 {
+				rows[k].WriteByte(' ')
+			}
+			rows[k].WriteString(g[k])
+		}
+	}
+	if len([]rune(rows[0].String())) > w {
+		return "", false
+	}
+	out := make([]string, bigHeight)
+	for i := range rows {
+		out[i] = rows[i].String()
+	}
+	return strings.Join(out, "\n"), true
+}

@@ -20,7 +20,29 @@ import (
 // (a value: its slices are never changed) and its charts as last drawn.
 type cup struct {
 	snap  sample.Snapshot
+	link  link       // the source's connection, as of the snapshot
 	drawn chartCache // drawn in Update, read by View
+	fs    *fraction  // fs(t) once asked for (fraction.go); never changed, replaced
+}
+
+// link is the state of the source's connection as a cup shows it.
+type link uint8
+
+const (
+	linkUp    link = iota // connected (a replay always is)
+	linkLost              // the port is lost or not open
+	linkEnded             // the session has ended
+)
+
+// linkOf is the connection a status describes.
+func linkOf(s feed.Status, ended bool) link {
+	switch {
+	case ended:
+		return linkEnded
+	case s.Reconnecting || !s.Connected:
+		return linkLost
+	}
+	return linkUp
 }
 
 func newCup(s sample.Snapshot) cup { return cup{snap: s} }
@@ -81,6 +103,69 @@ func (c *cup) reading() (big, note string) {
 	return fmt.Sprintf("%6.1f", r.TempC), ""
 }
 
+// staleAfterS is how long a channel may go without a reading before its
+// last one leaves the big slot: readings come several times a second, so
+// three seconds of silence is a fault, not a pause.
+const staleAfterS = 3
+
+// alarm is what the big slot says instead of the temperature when none can
+// be trusted: a word for big letters and the lines that explain it; ""
+// while the reading stands. No reading for staleAfterS (or the port lost,
+// or the session ended), the device reporting a fault, or the readings
+// pegged at the top of the range (sample.FaultPegged) is each an alarm.
+func (c *cup) alarm() (word string, lines []string) {
+	r, ok := c.last()
+	if !ok {
+		return "", nil // no reading yet: the dashes and "no reading yet"
+	}
+	silent := c.snap.SilentS
+	switch {
+	case c.link != linkUp || silent >= staleAfterS:
+		why := map[link]string{linkLost: "the port is lost; reconnecting", linkEnded: "the session has ended",
+			linkUp: "the port is open but nothing arrives"}[c.link]
+		at := r.TimeS
+		if c.state() != sample.Waiting {
+			at = c.elapsed()
+		}
+		last := "last reading: a fault"
+		if r.Valid() {
+			last = fmt.Sprintf("last reading %.1f °C at %.0f s", r.TempC, at)
+		}
+		lines = []string{fmt.Sprintf("no reading for %.0f s", silent), last, why}
+		if c.link != linkEnded {
+			lines = append(lines, "check cable, port and amplifier")
+		}
+		return "NO DATA", lines
+	case r.Flags&feed.FlagOpen != 0:
+		return "TC OPEN", []string{"open circuit" + c.faultSince(), "check the thermocouple and its plug"}
+	case r.Flags&feed.FlagFault != 0:
+		return "TC FAULT", []string{"the device reports a fault (short or out of range)" + c.faultSince()}
+	case c.snap.Fault.Kind == sample.FaultPegged && r.TempC == c.snap.Fault.ValueC:
+		return "TC FAULT", []string{fmt.Sprintf("stuck at %.1f °C%s", r.TempC, c.faultSince()),
+			"an open thermocouple? (up-scale burnout)", "check the thermocouple and its plug"}
+	}
+	return "", nil
+}
+
+// faultSince is when the sample's thermocouple fault began, as text.
+func (c *cup) faultSince() string {
+	if f := c.snap.Fault; f.Kind != sample.FaultNone && c.state() != sample.Waiting {
+		return fmt.Sprintf(" since %.0f s", f.TimeS)
+	}
+	return ""
+}
+
+// shownElapsed is the sample's time as the state line gives it: the time
+// of its last reading, and while the readings have stopped, the silence
+// after it too (the metal goes on freezing).
+func (c *cup) shownElapsed() float64 {
+	at := max(c.elapsed(), c.snap.NowS) // fault readings are not on the curve, but time passes
+	if c.state().Busy() && c.link != linkEnded {
+		return at + c.snap.SilentS
+	}
+	return at
+}
+
 // pointRow is one characteristic point for the list beside the curve.
 type pointRow struct {
 	sym   rune
@@ -94,10 +179,10 @@ func pointsOf(r arrest.Result) []pointRow {
 	return []pointRow{
 		{'P', "pour peak", r.PourPeak},
 		{'A', "liquidus", r.Liquidus},
-		{'B', "eutectic start", r.EutecticStart},
 		{'U', "eutectic min", r.EutecticMin},
 		{'R', "eutectic max", r.EutecticMax},
 		{'S', "end of freezing", r.Solidus},
+		{'B', "eutectic start", r.EutecticStart},
 	}
 }
 
@@ -127,6 +212,9 @@ func (c *cup) view(st *Styles, w, h int) string {
 func (c *cup) header(st *Styles, w int) string {
 	m := c.meta()
 	first := st.Title.Render("CUP " + c.id())
+	if c.snap.Simulated {
+		first += " " + st.Error.Render("[SIMULATED]") // never passed off as a measurement
+	}
 	if s := sampleName(m); s != "" {
 		first += "  " + st.Value.Render(s)
 	}
@@ -147,18 +235,85 @@ func (c *cup) header(st *Styles, w int) string {
 	return clip(first, w) + "\n" + clip(second, w)
 }
 
-func (c *cup) bigBlock(st *Styles) string {
-	big, note := c.reading()
-	digits := st.Big.Render(bigText(strings.TrimSpace(big)))
-	unit := st.Value.Render("°C")
-	stateLine := st.State.Render(c.stateWord())
+// bigBlock is the big slot and the state line under it: the verdict once
+// the sample is done, else the alarm when no temperature can be trusted,
+// else the current reading.
+func (c *cup) bigBlock(st *Styles, w int) string {
+	word, why := c.alarm()
+	var out []string
+	switch {
+	case c.rec() != nil:
+		out = append(out, c.verdictBig(st, w), c.stateLine(st, w))
+		if word != "" {
+			out = append(out, wrapText(st.Error, "⚠ "+word+": "+strings.Join(why, "; "), w)...)
+		}
+	case word != "":
+		out = append(out, faultBox(st, word, w))
+		for _, l := range why {
+			out = append(out, wrapText(st.Error, "⚠ "+l, w)...)
+		}
+		out = append(out, c.stateLine(st, w))
+	default:
+		big, note := c.reading()
+		digits := st.Big.Render(bigText(strings.TrimSpace(big)))
+		line := c.stateLine(st, w)
+		if note != "" {
+			line = st.Error.Render(note) + "  " + line
+		}
+		out = append(out, lipgloss.JoinHorizontal(lipgloss.Bottom, digits, " ", st.Value.Render("°C")), line)
+	}
+	return strings.Join(out, "\n")
+}
+
+// stateLine is the sample's state and time; once done, its verdict in
+// words (the big letters' text, and RE-SAMPLE for an invalid sample) and
+// the reading now where it fits in w.
+func (c *cup) stateLine(st *Styles, w int) string {
+	line := st.State.Render(c.stateWord())
 	if c.state() != sample.Waiting {
-		stateLine += st.Muted.Render(fmt.Sprintf("  %3.0f s", c.elapsed()))
+		line += st.Muted.Render(fmt.Sprintf(" %3.0f s", c.shownElapsed()))
 	}
-	if note != "" {
-		stateLine = st.Error.Render(note) + "  " + stateLine
+	if rec := c.rec(); rec != nil {
+		line = st.verdictStyle(rec.Verdict).Render(verdictWord(rec.Verdict)) + st.Muted.Render(" · ") + line
+		if r, ok := c.last(); ok && r.Valid() {
+			if now := st.Muted.Render(fmt.Sprintf(" · %.1f °C now", r.TempC)); lipgloss.Width(line+now) <= w {
+				line += now
+			}
+		}
 	}
-	return lipgloss.JoinVertical(lipgloss.Left, lipgloss.JoinHorizontal(lipgloss.Bottom, digits, " ", unit), stateLine)
+	return line
+}
+
+// faultBox is an alarm word in big letters in the fault frame (plain
+// letters where w is too narrow for big ones).
+func faultBox(st *Styles, word string, w int) string {
+	if big, ok := bigWord(word, w-st.Fault.GetHorizontalFrameSize()); ok {
+		return st.Fault.Render(big)
+	}
+	return st.Fault.Render(word)
+}
+
+// bigVerdict is the verdict's word for big letters.
+func bigVerdict(v string) string {
+	switch v {
+	case assess.VerdictInvalid:
+		return "INVALID" // the state line says RE-SAMPLE
+	case assess.VerdictUnchecked:
+		return "NO LIMITS"
+	}
+	return verdictWord(v)
+}
+
+// verdictBig is the verdict in big letters in its colour and border shape,
+// or where w is too narrow for them, in a solid bar of its colour inside
+// the same border.
+func (c *cup) verdictBig(st *Styles, w int) string {
+	v := c.rec().Verdict
+	frame := st.verdictBox(v).Padding(0)
+	if big, ok := bigWord(bigVerdict(v), w-frame.GetHorizontalFrameSize()); ok {
+		return frame.Render(st.verdictStyle(v).Render(big))
+	}
+	return st.verdictBox(v).Render(st.verdictStyle(v).Reverse(true).Padding(0, 1).Render(verdictWord(v)))
 }
 
 func fmtPoint(p arrest.Point) string {
@@ -220,9 +375,10 @@ func wrapParts(parts []string, sep string, w int) []string {
 	return lines
 }
 
-// verdictLines is the verdict with its reasons and advice, or what the
-// cup is waiting for.
-func (c *cup) verdictLines(st *Styles, w int, boxed bool) []string {
+// verdictLines are what the verdict rests on, under the big verdict: the
+// first advice in short form, the reasons, the figures withheld and the
+// advice in full; or what the cup is waiting for.
+func (c *cup) verdictLines(st *Styles, w int) []string {
 	rec := c.rec()
 	if rec == nil {
 		if c.state() == sample.Waiting {
@@ -230,20 +386,47 @@ func (c *cup) verdictLines(st *Styles, w int, boxed bool) []string {
 		}
 		return []string{st.Muted.Render("Verdict when freezing is done.")}
 	}
-	v := rec.Verdict
-	lines := []string{st.verdictStyle(v).Render("VERDICT  " + verdictWord(v))}
-	if boxed {
-		// A solid bar of the verdict's colour inside its own border shape:
-		// readable across the deck; the word and the border stay without colour.
-		lines = strings.Split(st.verdictBox(v).Render(st.verdictStyle(v).Reverse(true).Padding(0, 1).Render(verdictWord(v))), "\n")
+	var lines []string
+	if a := recordAdvice(rec); len(a) > 0 {
+		lines = append(lines, st.Mark.Render(cut("→ "+shortAdvice(a[0]), w)))
 	}
 	for _, r := range recordReasons(rec) {
 		lines = append(lines, wrapText(st.Value, "• "+r, w)...)
+	}
+	for _, x := range withheldLines(rec) {
+		lines = append(lines, wrapText(st.Muted, x, w)...)
 	}
 	for _, a := range recordAdvice(rec) {
 		lines = append(lines, wrapText(st.Value, "→ "+a, w)...)
 	}
 	return lines
+}
+
+// shortAdvice is an advice line in short form: from its first "consider"
+// to the end of that clause, else its first sentence. The advice in full
+// follows it on screen.
+func shortAdvice(a string) string {
+	s := a
+	if i := strings.Index(strings.ToLower(a), "consider"); i >= 0 {
+		s = strings.ToUpper(a[i:i+1]) + a[i+1:]
+	}
+	end := len(s)
+	for _, stop := range []string{". ", "; ", ", per ", ", following ", ", then ", ": "} {
+		if i := strings.Index(s, stop); i > 0 && i < end {
+			end = i
+		}
+	}
+	return strings.TrimSuffix(s[:end], ".")
+}
+
+// withheldLines are the figures a failed check on the sample withheld
+// (assess.Record.Withheld): shown as withheld, never as figures to act on.
+func withheldLines(rec *assess.Record) []string {
+	var out []string
+	for _, w := range rec.Withheld {
+		out = append(out, fmt.Sprintf("✗ %s withheld (%s)", metricLabel(w.Metric), w.Why))
+	}
+	return out
 }
 
 // verdictWord is the verdict as shown: our words, upper case.
@@ -287,13 +470,25 @@ func peakS(t, v []float64) float64 {
 	return at
 }
 
+// beforeFault is the curve up to the sample's thermocouple fault (all of
+// it when there is none): a pegged reading must not set the chart's scale.
+func (c *cup) beforeFault() (t, v []float64) {
+	s := &c.snap
+	if s.Fault.Kind != sample.FaultPegged {
+		return s.T, s.V
+	}
+	n := sort.SearchFloat64s(s.T, s.Fault.TimeS)
+	return s.T[:n], s.V[:n]
+}
+
 func (c *cup) tempPlot(st *Styles, w, h int) plot {
 	s := &c.snap
 	x1 := math.Max(60, s.ElapsedS*1.05)
-	tr := traceOf(s.T, s.V)
+	ft, fv := c.beforeFault()
+	tr := traceOf(ft, fv)
 	// The scale follows the metal from the pour peak on; the rise from room
 	// temperature runs off the bottom rather than squash the arrests.
-	lo, hi, ok := tr.bounds(peakS(s.T, s.V))
+	lo, hi, ok := tr.bounds(peakS(ft, fv))
 	if !ok {
 		lo, hi = 0, 1400
 		if r, has := c.last(); has && r.Valid() {
@@ -309,8 +504,13 @@ func (c *cup) tempPlot(st *Styles, w, h int) plot {
 // each point marked where it sits on T′: the crossings of zero.
 func (c *cup) ratePlot(st *Styles, w, h int, x1 float64) plot {
 	s := &c.snap
-	tr := traceOf(s.SlopeT, s.SlopeD)
-	lo, hi, ok := tr.bounds(peakS(s.T, s.V) + 3)
+	st0, sd0 := s.SlopeT, s.SlopeD
+	if s.Fault.Kind == sample.FaultPegged {
+		n := sort.SearchFloat64s(st0, s.Fault.TimeS)
+		st0, sd0 = st0[:n], sd0[:n]
+	}
+	tr := traceOf(st0, sd0)
+	lo, hi, ok := tr.bounds(peakS(c.beforeFault()) + 3)
 	if !ok {
 		lo, hi = -5, 1
 	}
@@ -357,14 +557,15 @@ type chartKey struct {
 	w, h   int
 	st     *Styles
 	state  sample.State
-	sample int // a new sample
-	marks  int // a point settled
-	n      int // readings, while there are too few for a trend to show
-	lastC  int // the reading in 10 °C steps, while no curve is drawn (it sets the scale)
+	sample int  // a new sample
+	marks  int  // a point settled
+	n      int  // readings, while there are too few for a trend to show
+	lastC  int  // the reading in 10 °C steps, while no curve is drawn (it sets the scale)
+	fs     bool // fs(t) instead of the curve
 }
 
 func (c *cup) chartKey(st *Styles, w, h int) chartKey {
-	k := chartKey{w: w, h: h, st: st, state: c.state(), sample: c.snap.Sample, marks: len(c.marks()), n: min(len(c.snap.T), 50)}
+	k := chartKey{w: w, h: h, st: st, state: c.state(), sample: c.snap.Sample, marks: len(c.marks()), n: min(len(c.snap.T), 50), fs: c.showsFraction()}
 	if r, ok := c.last(); len(c.snap.T) == 0 && ok {
 		k.lastC = int(math.Floor(r.TempC / 10))
 	}
@@ -395,6 +596,9 @@ func (c *cup) redraw(st *Styles, w, h int) {
 }
 
 func (c *cup) drawCharts(st *Styles, w, h int) string {
+	if c.showsFraction() {
+		return c.drawFraction(st, w, h)
+	}
 	// The curve comes first: the rate chart is drawn only when both get
 	// a readable height.
 	if h < 12 {
@@ -426,23 +630,50 @@ func (c *cup) layout(st *Styles, w, h int) (cw, ch int, ok bool) {
 	return 0, 0, false
 }
 
-// wideLeft is the width of the facts column of a wide cup.
-const wideLeft = 35
+// wideLeft is the width of the facts column of a wide cup: MARGINAL in
+// big letters in its border fits.
+const wideLeft = 37
 
 // viewWide: facts on the left, charts on the right.
 func (c *cup) viewWide(st *Styles, w, h int) string {
-	left := []string{c.header(st, wideLeft), c.bigBlock(st), ""}
-	left = append(left, c.pointList(st)...)
-	left = append(left, c.verdictLines(st, wideLeft, true)...)
-	leftS := box(strings.Join(left, "\n"), wideLeft, h)
+	left := []string{c.header(st, wideLeft), c.bigBlock(st, wideLeft), ""}
+	verdict := c.verdictLines(st, wideLeft)
+	used := lipgloss.Height(strings.Join(left, "\n"))
+	if pl := c.pointList(st); c.rec() == nil || h-used >= len(pl)+len(verdict) {
+		left = append(left, pl...)
+	} else {
+		// once done the verdict's reasons come before the points' detail
+		left = append(left, c.compactPoints(st, wideLeft)...)
+	}
+	left = append(left, verdict...)
+	leftS := box(moreHint(st, strings.Split(strings.Join(left, "\n"), "\n"), h, c.rec() != nil), wideLeft, h)
 	return lipgloss.JoinHorizontal(lipgloss.Top, leftS, " ", c.charts(st, w-wideLeft-1, h))
 }
 
-func (c *cup) tallTop(st *Styles, w int) []string { return []string{c.header(st, w), c.bigBlock(st)} }
+// moreHint cuts lines to h, the last saying where the rest is (the
+// verdict's key) when some of a verdict is cut off.
+func moreHint(st *Styles, lines []string, h int, verdict bool) string {
+	if len(lines) > h && verdict && h > 1 {
+		lines = append(lines[:h-1:h-1], st.Mark.Render(fmt.Sprintf("▼ v: the whole verdict (%d lines more)", len(lines)-h+1)))
+	}
+	return strings.Join(lines, "\n")
+}
 
+func (c *cup) tallTop(st *Styles, w int) []string {
+	return []string{c.header(st, w), c.bigBlock(st, w)}
+}
+
+// tallBottom is the points and the verdict's first lines, at most four.
 func (c *cup) tallBottom(st *Styles, w int) []string {
-	bottom := c.compactPoints(st, w)
-	bottom = append(bottom, c.verdictLines(st, w, false)...)
+	var bottom []string
+	if rec := c.rec(); rec != nil {
+		v := c.verdictLines(st, w)
+		bottom = append(bottom, v[0])
+		bottom = append(bottom, c.compactPoints(st, w)...)
+		bottom = append(bottom, v[1:]...)
+		return strings.Split(moreHint(st, bottom, 4, true), "\n")
+	}
+	bottom = append(c.compactPoints(st, w), c.verdictLines(st, w)...)
 	if len(bottom) > 4 {
 		bottom = bottom[:4]
 	}

@@ -123,7 +123,7 @@ func (a *constructedAnalyzer) Analyze(t, v []float64, opt arrest.Options) arrest
 // points of the result, a marginal verdict and made-up reason and advice
 // lines (the real judgement is tested in internal/assess).
 func constructedJudge(in assess.Input, res arrest.Result) assess.Record {
-	rec := assess.FromResult(assess.Input{File: in.File, Alloy: in.Alloy, Family: in.Family}, res)
+	rec := assess.FromResult(assess.Input{File: in.File, Alloy: in.Alloy, Family: in.Family, Limits: in.Limits}, res)
 	rec.Verdict = assess.VerdictMarginal
 	rec.Problems = nil
 	rec.Reasons = []string{"constructed reason: recalescence 4.0 °C is near its limit"}

@@ -13,7 +13,6 @@ import (
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/escape"
-	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/store"
@@ -125,6 +124,10 @@ func (p historyPane) metricName() string {
 }
 
 func (p *historyPane) setEntries(es []Entry) {
+	var selID int64 = -1
+	if old := p.shown(); p.sel < len(old) {
+		selID = old[p.sel].ID
+	}
 	p.all = es
 	p.vals = make(map[int64]map[string]float64, len(es))
 	for _, e := range es {
@@ -141,6 +144,12 @@ func (p *historyPane) setEntries(es []Entry) {
 		p.alloys = append(p.alloys, a)
 	}
 	sort.Strings(p.alloys)
+	// the selection stays on its sample when newer ones come in above it
+	for i, e := range p.shown() {
+		if e.ID == selID {
+			p.sel = i
+		}
+	}
 	if n := len(p.shown()); p.sel >= n {
 		p.sel = max(0, n-1)
 	}
@@ -186,6 +195,8 @@ func (p historyPane) Update(msg tea.Msg) (historyPane, tea.Cmd) {
 			p.sel = 0
 		case key.Matches(msg, p.keys.Metric):
 			p.metric++
+		case key.Matches(msg, p.keys.MetricBack):
+			p.metric += max(len(p.metrics()), 1) - 1
 		case key.Matches(msg, p.keys.Open) && n > 0:
 			e := p.shown()[p.sel]
 			p.open, p.opened = &e, cup{}
@@ -223,22 +234,18 @@ func openCurve(read CurveReader, book *limits.Book, e Entry) tea.Cmd {
 // one, from its record's points.
 func openedCup(e Entry, st, sd []float64) cup {
 	s := sample.Snapshot{Channel: e.Channel, State: sample.Done, Meta: e.Meta, T: e.Time, V: e.Temp, SlopeT: st, SlopeD: sd,
-		Result: resultFromRecord(e.Record), Path: e.Path}
+		Result: resultFromRecord(e.Record), Path: e.Path, Simulated: e.Simulated}
 	rec := e.Record
 	s.Record = &rec
-	if n := len(e.Temp); n > 0 {
-		s.Last, s.HasLast, s.ElapsedS = feed.Reading{TimeS: e.Time[n-1], TempC: e.Temp[n-1], Channel: e.Channel}, true, e.Time[n-1]
+	if n := len(e.Time); n > 0 {
+		s.ElapsedS = e.Time[n-1] // no reading "now": a stored sample has none
 	}
 	return newCup(s)
 }
 
 func (p historyPane) View() string {
 	if p.open != nil {
-		c := p.opened
-		if len(c.snap.T) == 0 {
-			return box(p.st.Muted.Render("Reading "+p.open.Path+" …")+"\n"+p.st.Error.Render(p.errText), p.w, p.h)
-		}
-		return c.view(p.st, p.w, p.h)
+		return p.detail()
 	}
 	es := p.shown()
 	filter := "all alloys"
@@ -258,7 +265,7 @@ func (p historyPane) View() string {
 		trendH = max(7, p.h*2/5)
 	}
 	listH := p.h - 2 - trendH
-	cols := fmt.Sprintf("%-5s %-5s %-3s %-18s %-13s %-9s %8s %7s", "#", "time", "cup", "sample", "alloy", "verdict", "eut.min", "recal.")
+	cols := "  " + fmt.Sprintf("%-5s %-5s %-3s %-18s %-13s %-9s %8s %7s", "#", "time", "cup", "sample", "alloy", "verdict", "eut.min", "recal.")
 	lines := []string{head, p.st.Label.Render(clip(cols, p.w))}
 	start := 0
 	if rows := listH - 1; rows > 0 && p.sel >= rows {
@@ -269,17 +276,82 @@ func (p historyPane) View() string {
 		row := fmt.Sprintf("%-5d %-5s %-3s %-18s %-13s %-9s %8s %7s", e.ID, e.At.Format("15:04"), e.Channel,
 			cut(sampleName(e.Meta), 18), cut(escape.Line(e.Meta.Get("alloy")), 13), e.Record.Verdict,
 			fmtOpt(e.Record.EutecticMinC, "%.1f"), fmtOpt(e.Record.RecalescenceC, "%.1f"))
-		row = clip(row, p.w)
-		if i == p.sel {
-			row = p.st.Selected.Render(row)
-		} else {
-			row = p.st.Value.Render(row)
-		}
+		row = selectRow(p.st, row, i == p.sel, p.w)
 		lines = append(lines, row)
 	}
 	out := box(strings.Join(lines, "\n"), p.w, p.h-trendH)
 	if trendH > 0 {
 		out += "\n" + p.trend(es, trendH)
+	}
+	return out
+}
+
+// detail is an opened sample as its record holds it: when it was taken,
+// by whom, its figures with their units, its verdict in big letters with
+// the reasons and advice, and the limits version it was judged by; its
+// curve and T′ beside it once read (wide screens).
+func (p historyPane) detail() string {
+	e := *p.open
+	c := p.opened
+	if len(c.snap.T) == 0 {
+		c = openedCup(e, nil, nil)
+	}
+	w := p.w
+	wide := p.w >= 72 && p.h >= 16
+	if wide {
+		w = wideLeft
+	}
+	st := p.st
+	title := st.Title.Render("SAMPLE ") + st.Value.Render(sampleName(e.Meta))
+	if e.Simulated {
+		title += " " + st.Error.Render("[SIMULATED]")
+	}
+	lines := []string{clip(title, w)}
+	lines = append(lines, clip(st.Label.Render("taken ")+st.Value.Render(e.At.Format("2006-01-02 15:04"))+st.Muted.Render(" · cup "+e.Channel), w))
+	var who []string
+	for _, k := range []string{"alloy", "operator", "furnace"} {
+		if v := e.Meta.Get(k); v != "" {
+			who = append(who, escape.Line(v))
+		}
+	}
+	lines = append(lines, wrapText(st.Value, strings.Join(who, " · "), w)...)
+	lines = append(lines, strings.Split(c.verdictBig(st, w), "\n")...)
+	lim := escape.Line(e.Record.LimitsVersion)
+	if lim == "" {
+		lim = "none"
+	}
+	lines = append(lines, st.verdictStyle(e.Record.Verdict).Render(verdictWord(e.Record.Verdict))+st.Muted.Render(clip(" · limits "+lim, w-lipgloss.Width(verdictWord(e.Record.Verdict)))))
+	lines = append(lines, figureLines(st, &e.Record, w)...)
+	lines = append(lines, c.verdictLines(st, w)...)
+	left := box(moreHint(st, strings.Split(strings.Join(lines, "\n"), "\n"), p.h, true), w, p.h)
+	if !wide {
+		return left
+	}
+	var right string
+	switch {
+	case len(p.opened.snap.T) > 0:
+		right = p.opened.charts(st, p.w-wideLeft-1, p.h)
+	case p.errText != "":
+		right = box(strings.Join(wrapText(st.Error, "The curve cannot be drawn: "+p.errText, p.w-wideLeft-1), "\n")+"\n"+
+			st.Muted.Render("The figures are the record's, as stored."), p.w-wideLeft-1, p.h)
+	default:
+		right = box(st.Muted.Render("Reading "+e.Path+" …"), p.w-wideLeft-1, p.h)
+	}
+	return lipgloss.JoinHorizontal(lipgloss.Top, left, " ", right)
+}
+
+// figureLines are the record's figures, one a line, in words with their
+// units (the metric registry's labels and decimals).
+func figureLines(st *Styles, r *assess.Record, w int) []string {
+	var out []string
+	for _, m := range assess.Metrics() {
+		v, ok := m.Value(r)
+		if !ok {
+			continue
+		}
+		val := m.Format(v)
+		lw := max(w-len([]rune(val))-1, 4)
+		out = append(out, st.Label.Render(fmt.Sprintf("%-*s", lw, cut(m.Label, lw)))+" "+st.Value.Render(val))
 	}
 	return out
 }
@@ -311,7 +383,14 @@ func (p historyPane) trend(es []Entry, h int) string {
 			ys = append(ys, v)
 		}
 	}
-	title := p.st.Label.Render("trend: ") + p.st.Value.Render(name) + p.st.Muted.Render("  (m: next metric, a: alloy)")
+	label := name
+	if mi, ok := limits.Metric(name); ok {
+		label = mi.Label
+		if mi.Unit != "" {
+			label += " (" + mi.Unit + ")"
+		}
+	}
+	title := p.st.Label.Render("trend: ") + p.st.Value.Render(label) + p.st.Muted.Render("  (m/M: next/previous metric, a: alloy)")
 	if len(ys) == 0 {
 		return box(title+"\n"+p.st.Muted.Render("no values"), p.w, h)
 	}
@@ -343,8 +422,9 @@ func (p historyPane) trend(es []Entry, h int) string {
 	// Drawn only where the chart has rows enough to place the lines.
 	if alloy != "" && len(ys) >= 3 && h-1 >= 10 {
 		if spc := store.ComputeSPC(ys); !math.IsNaN(spc.UCL) {
-			levels = append(levels, level{y: spc.Mean, r: '╌', style: p.st.Muted},
-				level{y: spc.UCL, r: '┄', style: p.st.Muted}, level{y: spc.LCL, r: '┄', style: p.st.Muted})
+			// drawn first, so that a limit on the same row stays on top
+			levels = append([]level{{y: spc.Mean, r: '╌', style: p.st.Muted},
+				{y: spc.UCL, r: '┄', style: p.st.Muted}, {y: spc.LCL, r: '┄', style: p.st.Muted}}, levels...)
 			lo, hi = math.Min(lo, spc.LCL), math.Max(hi, spc.UCL)
 			if note := p.st.Muted.Render(fmt.Sprintf("  SPC mean %.1f ╌, limits %.1f…%.1f ┄", spc.Mean, spc.LCL, spc.UCL)); lipgloss.Width(title+note) <= p.w {
 				title += note
@@ -364,13 +444,13 @@ func (p historyPane) trend(es []Entry, h int) string {
 
 func (p historyPane) ShortHelp() []key.Binding {
 	if p.open != nil {
-		return []key.Binding{p.keys.Back}
+		return []key.Binding{p.keys.Back, p.keys.Verdict}
 	}
-	return []key.Binding{p.keys.Open, p.keys.Alloy, p.keys.Metric}
+	return []key.Binding{p.keys.Open, p.keys.Alloy, p.keys.Metric, p.keys.MetricBack}
 }
 
 func (p historyPane) FullHelp() [][]key.Binding {
-	return [][]key.Binding{{p.keys.Up, p.keys.Down, p.keys.Open, p.keys.Back}, {p.keys.Alloy, p.keys.Metric}}
+	return [][]key.Binding{{p.keys.Up, p.keys.Down, p.keys.Open, p.keys.Back}, {p.keys.Alloy, p.keys.Metric, p.keys.MetricBack}}
 }
 
 // metricValues gives a record's value of every metric of the registry

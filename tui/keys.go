@@ -11,11 +11,15 @@ type KeyMap struct {
 
 	// live
 	Form, Start, Stop, Channel key.Binding
+	Verdict                    key.Binding
 	Faster, Slower, End        key.Binding
+	Fraction                   key.Binding // fs(t) of a finished cup (fraction.go)
 
 	// history and limits
 	Up, Down, Open, Back key.Binding
+	Left, Right          key.Binding
 	Alloy, Metric        key.Binding
+	MetricBack           key.Binding
 	Edit, Save           key.Binding
 
 	// form
@@ -40,18 +44,24 @@ func DefaultKeys() KeyMap {
 		Start:   b("p", "start by hand", "p"),
 		Stop:    b("x", "stop by hand", "x"),
 		Channel: b("c", "next cups", "c"),
+		Verdict: b("v", "whole verdict", "v"),
 		Faster:  b("+", "faster", "+", "="),
 		Slower:  b("-", "slower", "-", "_"),
 		End:     b("e", "to the end", "e"),
 
-		Up:     b("↑", "up", "up", "k"),
-		Down:   b("↓", "down", "down", "j"),
-		Open:   b("enter", "open", "enter"),
-		Back:   b("esc", "back", "esc", "backspace"),
-		Alloy:  b("a", "alloy", "a"),
-		Metric: b("m", "metric", "m"),
-		Edit:   b("enter", "edit", "enter"),
-		Save:   b("w", "write", "w"),
+		Fraction: b("f", "fs(t)", "f"),
+
+		Up:         b("↑", "up", "up", "k"),
+		Down:       b("↓", "down", "down", "j"),
+		Left:       b("←", "left", "left", "h"),
+		Right:      b("→", "right", "right", "l"),
+		Open:       b("enter", "open", "enter"),
+		Back:       b("esc", "back", "esc", "backspace"),
+		Alloy:      b("a", "alloy", "a"),
+		Metric:     b("m", "next metric", "m"),
+		MetricBack: b("M", "previous metric", "M"),
+		Edit:       b("enter", "edit", "enter"),
+		Save:       b("w", "write", "w"),
 
 		Next: b("tab", "next field", "tab", "down"),
 		Prev: b("shift+tab", "previous field", "shift+tab", "up"),

@@ -216,16 +216,31 @@ func (p limitsPane) Update(msg tea.Msg) (limitsPane, tea.Cmd) {
 			}
 			return p, nil
 		}
+		// one screen row per metric, its four bounds across it: ↑ ↓ move
+		// between metrics, ← → between bounds
 		switch {
 		case key.Matches(msg, p.keys.Up):
-			p.sel = max(0, p.sel-1)
+			if p.sel >= boundsPerMetric {
+				p.sel -= boundsPerMetric
+			}
 		case key.Matches(msg, p.keys.Down):
-			p.sel = min(max(len(rows)-1, 0), p.sel+1)
+			if p.sel+boundsPerMetric < len(rows) {
+				p.sel += boundsPerMetric
+			}
+		case key.Matches(msg, p.keys.Left):
+			if p.sel%boundsPerMetric > 0 {
+				p.sel--
+			}
+		case key.Matches(msg, p.keys.Right):
+			if p.sel%boundsPerMetric < boundsPerMetric-1 && p.sel+1 < len(rows) {
+				p.sel++
+			}
 		case key.Matches(msg, p.keys.Alloy):
 			p.alloy = (p.alloy + 1) % max(1, len(p.alloys))
 			p.sel = 0
 		case key.Matches(msg, p.keys.Edit) && len(rows) > 0:
 			v, _ := p.value(rows[p.sel])
+			p.input.Prompt = boundPrompt(rows[p.sel])
 			p.input.SetValue(fmtBound(v))
 			p.input.CursorEnd()
 			p.editing = true
@@ -272,6 +287,19 @@ func (p limitsPane) commit() (limitsPane, tea.Cmd) {
 	}
 }
 
+// boundPrompt names the bound being edited, in words and with its unit:
+// "eutectic recalescence, pass max (°C): ".
+func boundPrompt(r limitRow) string {
+	label, unit := r.metric, ""
+	if m, ok := limits.Metric(r.metric); ok {
+		label, unit = m.Label, m.Unit
+	}
+	if unit != "" {
+		unit = " (" + unit + ")"
+	}
+	return fmt.Sprintf("%s, %s%s: ", label, boundNames[r.b], unit)
+}
+
 func fmtBound(v *float64) string {
 	if v == nil {
 		return ""
@@ -279,62 +307,98 @@ func fmtBound(v *float64) string {
 	return strconv.FormatFloat(*v, 'g', -1, 64)
 }
 
+// boundsPerMetric is the bounds of a metric: pass min and max, marginal
+// min and max (rows holds them in that order, metric by metric).
+const boundsPerMetric = 4
+
+// limitsCell is the width of a bound's column.
+const limitsCell = 10
+
 func (p limitsPane) View() string {
 	src := p.book.Source
 	if src == "" {
 		src = "built-in examples"
 	}
-	head := p.st.Title.Render("LIMITS ") + p.st.Value.Render(p.alloyName()) + p.st.Muted.Render("  from "+src)
-	lines := []string{clip(head, p.w), p.st.Muted.Render(clip("Examples only until your metallurgist sets them. Empty = no bound.", p.w)), ""}
+	st := p.st
+	head := st.Title.Render("LIMITS ") + st.Value.Render(p.alloyName()) + st.Muted.Render("  from "+src+"  (a: next alloy)")
+	lines := []string{clip(head, p.w), st.Muted.Render(clip("Examples only until your metallurgist sets them. Empty: no bound. *: not written.", p.w))}
 	rows := p.rows()
 	if len(rows) == 0 {
-		lines = append(lines, p.st.Muted.Render("This alloy has no metric limits."))
+		lines = append(lines, "", st.Muted.Render("This alloy has no metric limits."))
+		return box(strings.Join(lines, "\n"), p.w, p.h)
 	}
-	bodyH := p.h - len(lines) - 3
-	start := 0
-	if bodyH > 0 && p.sel >= bodyH {
-		start = p.sel - bodyH + 1
+	lw := max(p.w-2-boundsPerMetric*limitsCell, 12)
+	cols := "  " + fmt.Sprintf("%-*s", lw, "metric")
+	for _, n := range []string{"pass min", "pass max", "marg. min", "marg. max"} {
+		cols += fmt.Sprintf("%*s", limitsCell, n)
 	}
-	for i := start; i < len(rows) && i-start < bodyH; i++ {
-		r := rows[i]
-		v, changed := p.value(r)
-		val := fmtBound(v)
-		if val == "" {
-			val = "—"
-		}
-		if changed {
-			val += " *"
-		}
-		al, _ := p.book.Alloy(p.alloyName())
-		advice := ""
-		if l := al.Metrics[r.metric]; l != nil {
-			switch r.b {
-			case passMin:
-				advice = l.Low
-			case passMax:
-				advice = l.High
+	lines = append(lines, st.Label.Render(clip(cols, p.w)))
+	// below the table: the selected metric's advice in full, the prompt
+	// and the message
+	al, _ := p.book.Alloy(p.alloyName())
+	cur := rows[min(p.sel, len(rows)-1)]
+	var advice []string
+	if l := al.Metrics[cur.metric]; l != nil {
+		for _, a := range [][2]string{{"when low: ", l.Low}, {"when high: ", l.High}, {"when missing: ", l.Missing}} {
+			if a[1] != "" {
+				advice = append(advice, wrapText(st.Value, a[0]+a[1], p.w)...)
 			}
 		}
-		row := clip(fmt.Sprintf("%-24s %-13s %10s  %s", r.metric, boundNames[r.b], val, advice), p.w)
-		if i == p.sel {
-			row = p.st.Selected.Render(row)
-		} else {
-			row = p.st.Value.Render(row)
-		}
-		lines = append(lines, row)
 	}
-	for len(lines) < p.h-3 {
+	foot := 2 // the prompt and the message
+	metrics := len(rows) / boundsPerMetric
+	tableH := max(min(metrics, p.h-len(lines)-foot-1-min(len(advice), 3)), 1)
+	start := 0
+	if at := p.sel / boundsPerMetric; at >= tableH {
+		start = at - tableH + 1
+	}
+	for k := start; k < metrics && k-start < tableH; k++ {
+		r0 := rows[k*boundsPerMetric]
+		name := r0.metric
+		if mi, ok := limits.Metric(name); ok {
+			name = mi.Label
+			if mi.Unit != "" {
+				name += " (" + mi.Unit + ")"
+			}
+		}
+		row := fmt.Sprintf("%-*s", lw, cut(name, lw))
+		for b := range boundsPerMetric {
+			i := k*boundsPerMetric + b
+			v, changed := p.value(rows[i])
+			val := fmtBound(v)
+			if val == "" {
+				val = "—"
+			}
+			if changed {
+				val += " *"
+			}
+			if i == p.sel {
+				val = "[" + val + "]" // the bound being edited: marked without colour too
+			}
+			row += fmt.Sprintf("%*s", limitsCell, val)
+		}
+		lines = append(lines, selectRow(st, row, k == p.sel/boundsPerMetric, p.w))
+	}
+	room := p.h - len(lines) - foot - 1
+	if len(advice) > room {
+		advice = append(advice[:max(room-1, 0):max(room-1, 0)], st.Muted.Render("…"))
+	}
+	if room > 0 {
+		lines = append(lines, "")
+		lines = append(lines, advice...)
+	}
+	for len(lines) < p.h-foot {
 		lines = append(lines, "")
 	}
 	if p.editing {
 		lines = append(lines, p.input.View())
 	} else {
-		lines = append(lines, "")
+		lines = append(lines, st.Muted.Render(clip("enter: edit "+strings.TrimSuffix(boundPrompt(cur), ": "), p.w)))
 	}
 	if p.msgBad {
-		lines = append(lines, p.st.Error.Render(clip(p.msg, p.w)))
+		lines = append(lines, st.Error.Render(clip(p.msg, p.w)))
 	} else {
-		lines = append(lines, p.st.Muted.Render(clip(p.msg, p.w)))
+		lines = append(lines, st.Muted.Render(clip(p.msg, p.w)))
 	}
 	return box(strings.Join(lines, "\n"), p.w, p.h)
 }
@@ -347,5 +411,5 @@ func (p limitsPane) ShortHelp() []key.Binding {
 }
 
 func (p limitsPane) FullHelp() [][]key.Binding {
-	return [][]key.Binding{{p.keys.Up, p.keys.Down, p.keys.Edit, p.keys.Save, p.keys.Alloy}}
+	return [][]key.Binding{{p.keys.Up, p.keys.Down, p.keys.Left, p.keys.Right, p.keys.Edit, p.keys.Save, p.keys.Alloy}}
 }

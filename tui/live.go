@@ -27,19 +27,32 @@ func (p livePane) SetSize(w, h int) livePane {
 	return p.redraw()
 }
 
-// apply takes the tracker's latest snapshots.
-func (p livePane) apply(snaps []sample.Snapshot) livePane {
+// apply takes the tracker's latest snapshots and the state of the
+// source's connection.
+func (p livePane) apply(snaps []sample.Snapshot, l link) livePane {
 	cups := make([]cup, len(snaps))
 	for i, s := range snaps {
 		cups[i] = newCup(s)
+		cups[i].link = l
 		for _, old := range p.cups {
 			if old.id() == s.Channel {
 				cups[i].drawn = old.drawn
+				cups[i].keepFraction(&old)
 			}
 		}
 	}
 	p.cups = cups
 	return p.redraw()
+}
+
+// ended marks the session ended: no reading will come.
+func (p livePane) ended() livePane {
+	cups := append([]cup(nil), p.cups...)
+	for i := range cups {
+		cups[i].link = linkEnded
+	}
+	p.cups = cups
+	return p
 }
 
 // shown is the indices of the cups on screen: at most two.
@@ -110,11 +123,11 @@ func (p livePane) View() string {
 }
 
 func (p livePane) ShortHelp() []key.Binding {
-	return []key.Binding{p.keys.Form, p.keys.Start, p.keys.Stop}
+	return append([]key.Binding{p.keys.Form, p.keys.Start, p.keys.Stop}, p.fractionKey()...)
 }
 
 func (p livePane) FullHelp() [][]key.Binding {
-	return [][]key.Binding{{p.keys.Form, p.keys.Start, p.keys.Stop, p.keys.Channel}}
+	return [][]key.Binding{append([]key.Binding{p.keys.Form, p.keys.Start, p.keys.Stop, p.keys.Channel, p.keys.Verdict}, p.fractionKey()...)}
 }
 
 // activeCup is the cup the form and the start/stop keys act on: the first

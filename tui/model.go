@@ -67,7 +67,10 @@ type Model struct {
 	form     formPane
 	formOpen bool
 	showHelp bool
-	asking   bool // "quit while recording?"
+	asking   bool   // "quit while recording?"
+	stopping string // "stop the sample recording on this cup?": its channel
+	verdict  *verdictView
+	footH    int  // rows of the foot line: two for a message too long for one
 	ended    bool // the session's channel closed
 	status   feed.Status
 	flash    string
@@ -121,7 +124,8 @@ const chrome = 4
 
 func (m Model) resize(w, h int) Model {
 	m.w, m.h = w, h
-	bh := max(h-chrome, 1)
+	m.footH = m.footRows()
+	bh := m.bodyH()
 	m.live = m.live.SetSize(w, bh)
 	m.hist = m.hist.SetSize(w, bh)
 	m.lim = m.lim.SetSize(w, bh)
@@ -129,11 +133,44 @@ func (m Model) resize(w, h int) Model {
 	return m
 }
 
+// bodyH is the rows between the status line and the foot.
+func (m Model) bodyH() int { return max(m.h-chrome-(m.footH-1), 1) }
+
+// footRows is the rows the foot needs: a message longer than the screen
+// is wide takes two (an error is never cut off at 80 columns).
+func (m Model) footRows() int {
+	if m.flash != "" && lipgloss.Width(escape.Line(m.flash)) > m.w && m.h >= 20 {
+		return 2
+	}
+	return 1
+}
+
+// foot is the message, else the keys.
+func (m Model) foot() string {
+	if m.flash == "" {
+		return clip(m.help.ShortHelpView(m.shortHelp()), m.w)
+	}
+	lines := wrapText(m.st.Muted, escape.Line(m.flash), m.w)
+	if len(lines) > m.footH {
+		lines = lines[:m.footH]
+		lines[m.footH-1] = m.st.Muted.Render(cut(stripStyle(lines[m.footH-1]), m.w-1) + "…")
+	}
+	return strings.Join(lines, "\n")
+}
+
 // speedMsg says the replay's pace was set.
 type speedMsg struct{ x float64 }
 
 // Update handles one message.
 func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
+	tm, cmd := m.handle(msg)
+	if nm := tm.(Model); nm.footRows() != nm.footH {
+		return nm.resize(nm.w, nm.h), cmd
+	}
+	return tm, cmd
+}
+
+func (m Model) handle(msg tea.Msg) (tea.Model, tea.Cmd) {
 	switch msg := msg.(type) {
 	case tea.WindowSizeMsg:
 		return m.resize(msg.Width, msg.Height), nil
@@ -142,6 +179,7 @@ func (m Model) Update(msg tea.Msg) (tea.Model, tea.Cmd) {
 	case feedClosedMsg:
 		m.ended = true
 		m.feed = nil
+		m.live = m.live.ended()
 		return m, m.logf("feed closed")
 	case historyLoadedMsg:
 		var cmd tea.Cmd
@@ -202,7 +240,7 @@ func (m Model) update(u sample.Update) (tea.Model, tea.Cmd) {
 	var lines []string
 	for _, ev := range u.Events {
 		lines = append(lines, eventLog(ev))
-		if ev.Kind == sample.EventWarning || ev.Kind == sample.EventRecovered {
+		if ev.Kind == sample.EventWarning || ev.Kind == sample.EventRecovered || ev.Kind == sample.EventDisconnected {
 			m.flash = ev.Text
 		}
 	}
@@ -210,7 +248,7 @@ func (m Model) update(u sample.Update) (tea.Model, tea.Cmd) {
 		lines = append(lines, fmt.Sprintf("sample done: cup %s sample %q alloy %q verdict %s file %s",
 			f.Channel, f.Meta.Get("sample"), f.Record.Alloy, f.Record.Verdict, f.Path))
 	}
-	m.live = m.live.apply(u.Channels)
+	m.live = m.live.apply(u.Channels, linkOf(u.Status, m.ended))
 	cmds := []tea.Cmd{m.logLines(lines), waitUpdate(m.feed, m.pace)}
 	if len(u.Finished) > 0 {
 		cmds = append(cmds, loadHistory(m.opt.Records))
@@ -283,6 +321,33 @@ func (m Model) key(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 		}
 		return m, nil
 	}
+	if m.stopping != "" {
+		ch := m.stopping
+		switch {
+		case key.Matches(k, m.keys.Yes):
+			m.stopping = ""
+			m.flash = "stop asked for cup " + ch
+			return m, tea.Batch(m.logf("stop asked by hand for cup %s", ch), m.toFeed(func(f Feed) { f.Stop(ch) }))
+		case key.Matches(k, m.keys.No), key.Matches(k, m.keys.Quit):
+			m.stopping = ""
+		}
+		return m, nil
+	}
+	if m.verdict != nil {
+		switch {
+		case key.Matches(k, m.keys.Up), key.Matches(k, m.keys.Down):
+			v := *m.verdict // a copy: the model is a value
+			d := 1
+			if key.Matches(k, m.keys.Up) {
+				d = -1
+			}
+			v.scroll(m.st, m.w, m.bodyH(), d)
+			m.verdict = &v
+		case key.Matches(k, m.keys.Verdict), key.Matches(k, m.keys.Back), key.Matches(k, m.keys.Quit):
+			m.verdict = nil
+		}
+		return m, nil
+	}
 	if m.formOpen {
 		var cmd tea.Cmd
 		m.form, cmd = m.form.Update(k)
@@ -318,6 +383,13 @@ func (m Model) key(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 	case key.Matches(k, m.keys.Limits):
 		m.tab = tabLimits
 		return m, nil
+	case key.Matches(k, m.keys.Verdict):
+		if v := m.verdictOf(); v != nil {
+			m.verdict = v
+		} else {
+			m.flash = "no verdict yet: a sample is judged when freezing is done"
+		}
+		return m, nil
 	}
 	var cmd tea.Cmd
 	switch m.tab {
@@ -347,15 +419,20 @@ func (m Model) liveKey(k tea.KeyMsg) (tea.Model, tea.Cmd) {
 		m.flash = "start asked for cup " + ch
 		return m, m.toFeed(func(f Feed) { f.Start(ch) })
 	case key.Matches(k, m.keys.Stop) && m.opt.Feed != nil:
-		ch := c.id()
-		m.flash = "stop asked for cup " + ch
-		return m, m.toFeed(func(f Feed) { f.Stop(ch) })
+		if !c.busy() {
+			m.flash = "cup " + c.id() + " is not recording: nothing to stop"
+			return m, nil
+		}
+		m.stopping = c.id() // asked first: x is one press from other keys
+		return m, nil
 	case pace != nil && key.Matches(k, m.keys.Faster):
 		return m, setSpeed(pace, nextSpeed(m.speed, 1))
 	case pace != nil && key.Matches(k, m.keys.Slower):
 		return m, setSpeed(pace, nextSpeed(m.speed, -1))
 	case pace != nil && key.Matches(k, m.keys.End):
 		return m, func() tea.Msg { pace.SkipToEnd(); return nil }
+	case key.Matches(k, m.keys.Fraction):
+		return m.toggleFraction(), nil
 	}
 	var cmd tea.Cmd
 	m.live, cmd = m.live.Update(k)
@@ -397,36 +474,68 @@ func (m Model) View() string {
 	if m.w < 40 || m.h < 10 {
 		return lipgloss.JoinVertical(lipgloss.Left, m.st.Error.Render("Make the window larger (80×24 or more)."), safety)
 	}
-	bh := m.h - chrome
+	bh := m.bodyH()
 	var body string
-	switch {
-	case m.asking:
-		body = lipgloss.Place(m.w, bh, lipgloss.Center, lipgloss.Center, m.st.Dialog.Render(
-			m.st.Error.Render("A sample is recording.")+"\n\n"+m.st.Value.Render("Quit anyway? The raw log is kept.")+"\n\n"+
-				m.st.Mark.Render("y")+m.st.Muted.Render(" quit   ")+m.st.Mark.Render("n")+m.st.Muted.Render(" keep recording")))
-	case m.formOpen:
-		body = lipgloss.Place(m.w, bh, lipgloss.Center, lipgloss.Center, m.form.View())
-	case m.showHelp:
-		body = lipgloss.Place(m.w, bh, lipgloss.Center, lipgloss.Center, m.st.Dialog.Render(
-			m.st.Title.Render("KEYS")+"\n\n"+m.help.FullHelpView(m.fullHelp())+"\n\n"+m.st.Muted.Render("? or esc to close")))
+	switch m.tab {
+	case tabHistory:
+		body = m.hist.View()
+	case tabLimits:
+		body = m.lim.View()
 	default:
-		switch m.tab {
-		case tabHistory:
-			body = m.hist.View()
-		case tabLimits:
-			body = m.lim.View()
-		default:
-			body = m.live.View()
-		}
+		body = m.live.View()
 	}
-	if m.tab != tabLive || m.asking || m.formOpen || m.showHelp {
-		body = box(body, m.w, bh) // the live pane is drawn to size already
+	body = box(body, m.w, bh)
+	// The questions and the form sit at the foot of the pane, over it, so
+	// that the cups' big slots (and the cup being asked about) stay in
+	// sight; help and the whole verdict, which are read, in the middle.
+	switch {
+	case m.stopping != "":
+		body = overlay(body, m.st.Dialog.Render(
+			m.st.Error.Render("Stop recording cup "+m.stopping+" now?")+"\n\n"+
+				m.st.Value.Render("The sample ends here and is judged as it stands;")+"\n"+
+				m.st.Value.Render("its readings are kept.")+"\n\n"+
+				m.st.Mark.Render("y")+m.st.Muted.Render(" stop it   ")+m.st.Mark.Render("n")+m.st.Muted.Render(" keep recording")), m.w, bh, true)
+	case m.verdict != nil:
+		body = overlay(body, m.verdict.view(m.st, m.w, bh), m.w, bh, false)
+	case m.asking:
+		body = overlay(body, m.st.Dialog.Render(
+			m.st.Error.Render("A sample is recording.")+"\n\n"+m.st.Value.Render("Quit anyway? The raw log is kept.")+"\n\n"+
+				m.st.Mark.Render("y")+m.st.Muted.Render(" quit   ")+m.st.Mark.Render("n")+m.st.Muted.Render(" keep recording")), m.w, bh, true)
+	case m.formOpen:
+		body = overlay(body, m.form.View(), m.w, bh, true)
+	case m.showHelp:
+		body = overlay(body, m.st.Dialog.Render(
+			m.st.Title.Render("KEYS")+"\n\n"+m.help.FullHelpView(m.fullHelp())+"\n\n"+m.st.Muted.Render("? or esc to close")), m.w, bh, false)
 	}
-	foot := m.st.Muted.Render(clip(escape.Line(m.flash), m.w))
-	if m.flash == "" {
-		foot = m.help.ShortHelpView(m.shortHelp())
+	return strings.Join([]string{m.titleBar(), m.statusLine(), body, m.foot(), safety}, "\n")
+}
+
+// overlay draws the block fg over bg (exactly w×h cells), centred across;
+// at the foot of bg when low, else in its middle. A block larger than bg
+// is cut.
+func overlay(bg, fg string, w, h int, low bool) string {
+	rows := strings.Split(bg, "\n")
+	fl := strings.Split(fg, "\n")
+	if len(fl) > h {
+		fl = fl[:h]
 	}
-	return strings.Join([]string{m.titleBar(), m.statusLine(), body, clip(foot, m.w), safety}, "\n")
+	fw := min(lipgloss.Width(fg), w)
+	x0 := (w - fw) / 2
+	y0 := (h - len(fl)) / 2
+	if low {
+		y0 = h - len(fl)
+	}
+	for i, l := range fl {
+		r := y0 + i
+		row := rows[r]
+		rows[r] = ansi.Truncate(row, x0, "") + fit(l, fw) + ansi.TruncateLeft(row, x0+fw, "")
+	}
+	return strings.Join(rows, "\n")
+}
+
+// dialog reports whether a dialog covers the pane.
+func (m Model) dialog() bool {
+	return m.asking || m.stopping != "" || m.verdict != nil || m.formOpen || m.showHelp
 }
 
 func padRight(s string, w int) string {
@@ -444,9 +553,9 @@ func (m Model) titleBar() string {
 	parts := []string{m.st.Title.Render("UNDERCOOL ")}
 	for _, t := range tabs {
 		if t.t == m.tab {
-			parts = append(parts, m.st.TabOn.Render(t.name))
+			parts = append(parts, m.st.TabOn.Render("["+t.name+"]")) // brackets: the active tab shows without colour
 		} else {
-			parts = append(parts, m.st.Tab.Render(t.name))
+			parts = append(parts, m.st.Tab.Render(" "+t.name+" "))
 		}
 	}
 	left := strings.Join(parts, "")
@@ -508,13 +617,17 @@ func (m Model) global() []key.Binding {
 func (m Model) shortHelp() []key.Binding {
 	var pane []key.Binding
 	switch {
-	case m.asking:
+	case m.asking, m.stopping != "":
 		return []key.Binding{m.keys.Yes, m.keys.No}
+	case m.verdict != nil:
+		return []key.Binding{m.keys.Up, m.keys.Down, m.keys.Back}
 	case m.formOpen:
 		pane = m.form.ShortHelp()
 		return pane
 	case m.tab == tabHistory:
 		pane = m.hist.ShortHelp()
+	case m.tab == tabLimits && m.lim.editing:
+		return m.lim.ShortHelp() // every other key is typed into the field
 	case m.tab == tabLimits:
 		pane = m.lim.ShortHelp()
 	default:

@@ -21,6 +21,8 @@ type Entry struct {
 	Path    string    // the sample's curve file, "" when none was written
 	Time    []float64 // the curve, s; may be nil for a stored sample (read from Path on opening)
 	Temp    []float64 // °C
+	// Simulated says the sample came from the simulator, not a real cup.
+	Simulated bool
 }
 
 // Records is where the history comes from: the records database, through
@@ -48,7 +50,7 @@ func (m *Memory) Add(f sample.Finished) {
 		at = m.Clock
 	}
 	m.entries = append(m.entries, Entry{ID: int64(len(m.entries) + 1), At: at(), Channel: f.Channel, Meta: f.Meta,
-		Record: f.Record, Path: f.Path, Time: f.T, Temp: f.V})
+		Record: f.Record, Path: f.Path, Time: f.T, Temp: f.V, Simulated: f.Simulated})
 }
 
 // List implements Records.

@@ -33,6 +33,7 @@ type Styles struct {
 	Dialog                  lipgloss.Style
 	Selected                lipgloss.Style
 	Error                   lipgloss.Style
+	Fault                   lipgloss.Style            // the big slot's frame when no temperature can be trusted
 	Verdict                 map[string]lipgloss.Style // by assess verdict value
 	verdictBorder           map[string]lipgloss.Border
 	renderer                *lipgloss.Renderer
@@ -44,8 +45,8 @@ func NewStyles(r *lipgloss.Renderer) *Styles {
 	n := r.NewStyle
 	s := &Styles{
 		Title:     n().Bold(true).Foreground(colEmber),
-		Tab:       n().Foreground(colAsh).Padding(0, 1),
-		TabOn:     n().Bold(true).Foreground(colChalk).Underline(true).Padding(0, 1),
+		Tab:       n().Foreground(colAsh),
+		TabOn:     n().Bold(true).Foreground(colChalk).Underline(true),
 		Status:    n().Foreground(colAsh),
 		StatusBad: n().Bold(true).Foreground(colBad),
 		Safety:    n().Foreground(colCaution).Background(colBanner),
@@ -60,7 +61,8 @@ func NewStyles(r *lipgloss.Renderer) *Styles {
 		Mark:      n().Bold(true).Foreground(colChalk),
 		Limit:     n().Foreground(colBorder),
 		Pane:      n().Border(lipgloss.RoundedBorder()).BorderForeground(colAsh).Padding(0, 1),
-		Dialog:    n().Border(lipgloss.DoubleBorder()).BorderForeground(colEmber).Padding(0, 2),
+		Dialog:    n().Border(dialogBorder).BorderForeground(colEmber).Padding(0, 2),
+		Fault:     n().Border(faultBorder).BorderForeground(colBad).Foreground(colBad).Bold(true).Padding(0, 1),
 		Selected:  n().Bold(true).Reverse(true),
 		Error:     n().Bold(true).Foreground(colBad),
 		renderer:  r,
@@ -84,6 +86,17 @@ func NewStyles(r *lipgloss.Renderer) *Styles {
 	s.chartStyles()
 	return s
 }
+
+// The shapes of the two frames that are not verdicts: a fault in the big
+// slot is framed in hazard stripes, a dialog (help, the sample form, a
+// question) in a dashed line. Neither is a verdict's border, so a frame's
+// shape alone never says a verdict it does not mean.
+var (
+	faultBorder = lipgloss.Border{Top: "▞", Bottom: "▞", Left: "▞", Right: "▞",
+		TopLeft: "▞", TopRight: "▞", BottomLeft: "▞", BottomRight: "▞"}
+	dialogBorder = lipgloss.Border{Top: "╌", Bottom: "╌", Left: "┆", Right: "┆",
+		TopLeft: "┌", TopRight: "┐", BottomLeft: "└", BottomRight: "┘"}
+)
 
 // verdictStyle is the style for a verdict word.
 func (s *Styles) verdictStyle(v string) lipgloss.Style {

@@ -6,6 +6,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/assess"
 	"github.com/undercool-foundry/undercool/internal/escape"
+	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
@@ -33,6 +34,15 @@ func recordReasons(r *assess.Record) []string {
 		}
 	}
 	return out
+}
+
+// metricLabel is a metric in words ("carbon equivalent from the
+// liquidus"), else its key.
+func metricLabel(name string) string {
+	if m, ok := limits.Metric(name); ok {
+		return m.Label
+	}
+	return name
 }
 
 // recordAdvice is what the record suggests doing, worded as advice.
@@ -63,4 +73,14 @@ func resultFromRecord(r assess.Record) arrest.Result {
 		res.Recalescence, res.RecalescenceOK = *r.RecalescenceC, true
 	}
 	return res
+}
+
+// selectRow is a list row, the selected one marked by a glyph as well as
+// by reverse video, so that it shows without colour or attributes
+// (NO_COLOR): "▶ " before it, else two spaces; cut to w.
+func selectRow(st *Styles, row string, selected bool, w int) string {
+	if selected {
+		return st.Selected.Render(clip("▶ "+row, w))
+	}
+	return st.Value.Render(clip("  "+row, w))
 }

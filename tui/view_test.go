@@ -210,20 +210,23 @@ func TestGoldenScreens(t *testing.T) {
 	}
 }
 
-// The limits shown are the book's: the grey-iron recalescence bound of the
-// built-in examples appears in the limits screen.
+// The limits shown are the book's: every metric of the first alloy of the
+// built-in examples has its row, in words, on the limits screen, at 120×40
+// and at 80×24.
 func TestLimitsScreenShowsBook(t *testing.T) {
 	b := limits.Builtin()
-	m := New(Options{Styles: asciiStyles(), Limits: b, Clock: fixedClock}).resize(120, 40)
-	m = press(m, "3")
-	v := stripANSI(m.View())
-	al, ok := b.Alloy(m.lim.alloyName())
-	if !ok {
-		t.Fatalf("alloy %q not in the book", m.lim.alloyName())
-	}
-	for name := range al.Metrics {
-		if !strings.Contains(v, name) {
-			t.Errorf("metric %s of %s not shown:\n%s", name, al.Name, v)
+	for _, sz := range [][2]int{{120, 40}, {80, 24}} {
+		m := New(Options{Styles: asciiStyles(), Limits: b, Clock: fixedClock}).resize(sz[0], sz[1])
+		m = press(m, "3")
+		v := stripANSI(m.View())
+		al, ok := b.Alloy(m.lim.alloyName())
+		if !ok {
+			t.Fatalf("alloy %q not in the book", m.lim.alloyName())
+		}
+		for name := range al.Metrics {
+			if !strings.Contains(v, metricLabel(name)) {
+				t.Errorf("metric %s (%s) of %s not shown at %v:\n%s", name, metricLabel(name), al.Name, sz, v)
+			}
 		}
 	}
 }

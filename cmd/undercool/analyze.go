@@ -330,7 +330,7 @@ func (o *analyzeOutput) result(a analyzed) error {
 			fmt.Fprintf(o.env.stderr, "undercool analyze: %s: cannot encode the result: %v\n", a.rec.File, jerr)
 			break
 		}
-		_, err = o.env.stdout.Write(append(b, '\n'))
+		_, err = o.env.stdout.Write(append(escape.JSON(b), '\n'))
 	default:
 		r := &a.rec
 		o.details[a.index] = &a

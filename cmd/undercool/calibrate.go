@@ -16,6 +16,7 @@ import (
 	"text/tabwriter"
 	"time"
 
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/limits"
 )
 
@@ -95,7 +96,7 @@ func runCalibrate(ctx context.Context, env *environ, args []string) error {
 	cal.Fitted = time.Now().UTC().Format(time.RFC3339)
 	if cal.Liquidus == nil && cal.Silicon == nil && cal.Carbon == nil {
 		for _, r := range reps {
-			fmt.Fprintf(env.stderr, "%s: %s\n", r.Name, r.Skipped)
+			fmt.Fprintf(env.stderr, "%s: %s\n", escape.Line(r.Name), escape.Line(r.Skipped))
 		}
 		return fmt.Errorf("%s: no regression could be fitted from %d pairs", path, len(pairs))
 	}

@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"context"
+	"encoding/json"
 	"encoding/xml"
 	"errors"
 	"io"
@@ -66,6 +67,14 @@ func TestFaultHostileTextInRecords(t *testing.T) {
 	code, out, errs := recordsRun(t, dbPath, "history")
 	if code != 0 || !strings.Contains(out, `L-2405\x1b]0;pwned`) || rawControl(out+errs) {
 		t.Errorf("history: status %d, raw control text or no escapes:\n%q\n%q", code, out, errs)
+	}
+	code, out, _ = recordsRun(t, dbPath, "history", "--json")
+	var line struct {
+		Sample string `json:"sample"`
+	}
+	// escaped as JSON escapes, which decode back to the stored text
+	if code != 0 || rawControl(out) || json.Unmarshal([]byte(out), &line) != nil || line.Sample != hostile {
+		t.Errorf("history --json: status %d, %q", code, out)
 	}
 	csvPath := filepath.Join(dir, "out.csv")
 	if code, _, errs := recordsRun(t, dbPath, "export", "--csv", "--out", csvPath); code != 0 {

@@ -462,7 +462,7 @@ type recordLine struct {
 type recordLines struct{ enc *json.Encoder }
 
 func newRecordLines(w io.Writer) *recordLines {
-	enc := json.NewEncoder(w)
+	enc := json.NewEncoder(escape.JSONWriter(w))
 	enc.SetEscapeHTML(false)
 	return &recordLines{enc}
 }

@@ -7,11 +7,14 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"maps"
 	"os"
+	"slices"
 	"strings"
 	"text/tabwriter"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/limits"
 )
 
@@ -85,7 +88,7 @@ func limitsCheck(env *environ, args []string) error {
 		if err != nil {
 			bad++
 			for _, line := range strings.Split(err.Error(), "\n") {
-				fmt.Fprintln(env.stderr, line)
+				fmt.Fprintln(env.stderr, escape.Line(line))
 			}
 			continue
 		}
@@ -131,7 +134,14 @@ func limitsShow(env *environ, args []string) error {
 			a := book.Alloys[n]
 			fmt.Fprintf(tw, "%s\t%s\t%d\t%s\n", n, a.Family, len(a.Metrics), a.Description)
 		}
-		return tw.Flush()
+		if err := tw.Flush(); err != nil {
+			return err
+		}
+		var all []*limits.Inoculant
+		for _, n := range slices.Sorted(maps.Keys(book.InoculantTables)) {
+			all = append(all, book.InoculantTables[n])
+		}
+		return showInoculants(env.stdout, all)
 	}
 	a, ok := book.Alloy(pos[0])
 	if !ok {
@@ -218,6 +228,37 @@ func showAlloy(w io.Writer, book *limits.Book, a *limits.Alloy) error {
 			return limits.FormatBand(mi, b) + " " + mi.Unit
 		}
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\n", c.Metric, band(c.Pass), band(c.Marginal), req, strings.Join(advice, " | "))
+	}
+	if err := tw.Flush(); err != nil {
+		return err
+	}
+	return showInoculants(w, book.Inoculants(a.Name))
+}
+
+// showInoculants lists [inoculant.NAME] tables (docs/limits.md,
+// "Inoculants"): what a fresh 0.01 % of the ladle does, the fade
+// half-life, the largest addition the advice may propose, the usual delay
+// to the pour, with the standard uncertainties calibrate fitted. Nothing
+// for none.
+func showInoculants(w io.Writer, ins []*limits.Inoculant) error {
+	if len(ins) == 0 {
+		return nil
+	}
+	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
+	fmt.Fprintln(tw, "\nINOCULANT\tEFFECT\tPER 0.01 %\tFADE HALF-LIFE\tLARGEST ADDITION\tDELAY\tALLOYS\tCALIBRATED\tDESCRIPTION")
+	withU := func(v, u float64, unit string) string {
+		if u > 0 {
+			return fmt.Sprintf("%g ± %.2g%s", v, u, unit)
+		}
+		return fmt.Sprintf("%g%s", v, unit)
+	}
+	for _, in := range ins {
+		gain := "nucleation constant × " + withU(in.Gain, in.GainU, "")
+		if in.Effect == limits.EffectEutecticDepression {
+			gain = "eutectic − " + withU(in.Gain, in.GainU, " °C")
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\n", in.Name, in.Effect, gain, withU(in.HalfLifeMin, in.HalfLifeU, " min"),
+			fmt.Sprintf("%g %%", in.MaxPct), fmt.Sprintf("%g min", in.DelayMin), strings.Join(in.Alloys, ", "), cmp.Or(in.Calibrated, "-"), in.Description)
 	}
 	return tw.Flush()
 }

@@ -73,3 +73,53 @@ func TestLimitsCheckErrors(t *testing.T) {
 		t.Errorf("no action: exit %d", code)
 	}
 }
+
+// limits show lists the [inoculant.NAME] tables (docs/limits.md, "The
+// shop's inoculants"): every table for the book, the alloy's own for an
+// alloy, with the uncertainties and the stamp a calibration wrote. The
+// expected figures are those of the file written here.
+func TestLimitsShowInoculants(t *testing.T) {
+	base, err := os.ReadFile(filepath.Join("..", "..", "internal", "limits", "shipped", "limits.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	shop := string(base) + `
+[inoculant.cindermoth-late-stream]
+description = "Late stream inoculant at Cindermoth (constructed test values)."
+effect = "eutectic-nuclei"
+alloys = ["ductile-iron"]
+gain_per_0_01_pct = 1.9
+gain_u = 0.12
+fade_half_life_min = 6.5
+fade_half_life_u_min = 0.8
+max_addition_pct = 0.15
+delay_min = 1.0
+calibrated = "12 pairs, 2026-03-01"
+`
+	p := filepath.Join(t.TempDir(), "shop.toml")
+	if err := os.WriteFile(p, []byte(shop), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, out, errs := decisionRun(t, "limits", "show", "--limits", p)
+	if code != 0 {
+		t.Fatalf("show: exit %d %s", code, errs)
+	}
+	for _, want := range []string{
+		"INOCULANT", "PER 0.01 %", "FADE HALF-LIFE", "LARGEST ADDITION",
+		"fesi75-ca-ba", "nucleation constant × 1.6", "8 min", "0.3 %", "grey-iron, ductile-iron",
+		"alsr-master", "eutectic − 0.2 °C", "120 min", "0.4 %",
+		"cindermoth-late-stream", "nucleation constant × 1.9 ± 0.12", "6.5 ± 0.8 min", "0.15 %", "12 pairs, 2026-03-01",
+	} {
+		if !strings.Contains(out, want) {
+			t.Errorf("show lacks %q:\n%s", want, out)
+		}
+	}
+	code, out, _ = decisionRun(t, "limits", "show", "ductile-iron", "--limits", p)
+	if code != 0 || !strings.Contains(out, "cindermoth-late-stream") || !strings.Contains(out, "fesi75-ca-ba") || strings.Contains(out, "altib-rod") {
+		t.Errorf("show ductile-iron: the alloy's own inoculants (exit %d):\n%s", code, out)
+	}
+	code, out, _ = decisionRun(t, "limits", "show", "pure-zn", "--limits", p)
+	if code != 0 || strings.Contains(out, "INOCULANT") {
+		t.Errorf("show pure-zn: no inoculant table expected (exit %d):\n%s", code, out)
+	}
+}

@@ -8,6 +8,7 @@ import (
 	"sync"
 	"time"
 
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/store"
 )
 
@@ -88,7 +89,7 @@ func runSync(ctx context.Context, env *environ, args []string) error {
 	pdb, err := store.Open(ctx, plant)
 	if err != nil {
 		if *status {
-			fmt.Fprintf(env.stdout, "the plant database cannot be reached: %v\n", err)
+			fmt.Fprintf(env.stdout, "the plant database cannot be reached: %s\n", escape.Text(err.Error()))
 			return exitError{1}
 		}
 		return fmt.Errorf("nothing forwarded, %s: %w", queueText(q), err)
@@ -175,7 +176,7 @@ func deckForwarding(ctx context.Context, env *environ, db *store.DB, plantFlag s
 func forwardStored(fw *store.Forwarder, stored int, limit time.Duration) string {
 	fw.Kick()
 	if st := fw.Status(); !st.Up && !st.Since.IsZero() {
-		return st.String()
+		return escape.Line(st.String())
 	}
 	deadline := time.NewTimer(limit)
 	defer deadline.Stop()
@@ -183,12 +184,12 @@ func forwardStored(fw *store.Forwarder, stored int, limit time.Duration) string 
 		ch := fw.Changed()
 		st := fw.Status()
 		if st.Up && st.Queued == 0 && st.Sent >= stored || !st.Up && !st.Since.IsZero() {
-			return st.String()
+			return escape.Line(st.String())
 		}
 		select {
 		case <-ch:
 		case <-deadline.C:
-			return fw.Status().String()
+			return escape.Line(fw.Status().String())
 		}
 	}
 }
@@ -200,7 +201,7 @@ func logLink(ctx context.Context, fw *store.Forwarder, logger interface{ Print(.
 	for {
 		ch := fw.Changed()
 		if s := fw.Status().String(); s != last {
-			logger.Print(s)
+			logger.Print(escape.Line(s))
 			last = s
 		}
 		select {
@@ -220,7 +221,7 @@ func watchForwarding(ctx context.Context, env *environ, local *store.DB, plant s
 	for {
 		ch := fw.Changed()
 		if s := fw.Status().String(); s != last {
-			fmt.Fprintln(env.stdout, s)
+			fmt.Fprintln(env.stdout, escape.Line(s))
 			last = s
 		}
 		select {
@@ -277,7 +278,7 @@ func runImport(ctx context.Context, env *environ, args []string) error {
 		}
 		from, err := readRecords(ctx, env, f)
 		if err != nil {
-			fmt.Fprintf(env.stderr, "undercool import: %v\n", err)
+			fmt.Fprintf(env.stderr, "undercool import: %s\n", escape.Text(err.Error()))
 			failed++
 			continue
 		}
@@ -285,7 +286,7 @@ func runImport(ctx context.Context, env *environ, args []string) error {
 		from.Close()
 		fmt.Fprintf(env.stdout, "%s: %d results copied to %s, %d of them new there\n", f, sent.Results, to.Path(), sent.New)
 		if err != nil {
-			fmt.Fprintf(env.stderr, "undercool import: %s: %v (what was copied before it is kept; run the import again)\n", f, err)
+			fmt.Fprintf(env.stderr, "undercool import: %s: %s (what was copied before it is kept; run the import again)\n", escape.Line(f), escape.Text(err.Error()))
 			failed++
 		}
 	}

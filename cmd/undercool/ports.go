@@ -57,7 +57,7 @@ func runPorts(ctx context.Context, env *environ, args []string) error {
 	}
 	sort.Slice(ports, func(i, j int) bool { return ports[i].Name < ports[j].Name })
 	if *asJSON {
-		enc := json.NewEncoder(env.stdout)
+		enc := json.NewEncoder(escape.JSONWriter(env.stdout))
 		for _, p := range ports {
 			if err := enc.Encode(portJSON{Name: p.Name, USB: p.USB, VID: p.VID, PID: p.PID,
 				Serial: p.Serial, Product: p.Product, Manufacturer: p.Manufacturer}); err != nil {

@@ -5,6 +5,7 @@ import (
 	"flag"
 	"fmt"
 	"path/filepath"
+	"strings"
 	"time"
 
 	"github.com/undercool-foundry/undercool/acquire"
@@ -202,6 +203,8 @@ func (r *recording) run(ctx context.Context, a *acquire.Acquirer, tr *sample.Tra
 		return runErr
 	case giveUp != nil:
 		return giveUp
+	case strings.HasSuffix(r.path, ".partial.csv"):
+		return fmt.Errorf("the curve file could not be completed (the reason is above); the readings are kept in %s and are recovered at the next start", r.path)
 	case r.path != "" && ctx.Err() != nil:
 		fmt.Fprintln(r.env.stdout, r.path)
 		fmt.Fprintf(r.env.stderr, "undercool record: interrupted; the sample so far is complete in %s\n", r.path)
@@ -279,7 +282,7 @@ func (r *recording) progress() {
 	}
 	plant := ""
 	if r.fw != nil {
-		plant = "; " + r.fw.Status().String()
+		plant = "; " + escape.Line(r.fw.Status().String())
 	}
 	fmt.Fprintf(r.env.stderr, "undercool record: %s, %s: channel %s %s; %d readings, %.1f °C, %d faults%s\n",
 		r.port, conn, r.channel, state, r.readings, r.lastC, s.Faults, plant)

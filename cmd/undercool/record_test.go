@@ -331,16 +331,44 @@ func TestRecordForwardsToPlant(t *testing.T) {
 	if !strings.Contains(stderr, "plant: linked, nothing queued") {
 		t.Errorf("stderr does not say the link:\n%s", stderr)
 	}
-	db, err := store.Open(context.Background(), plant)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer db.Close()
-	hist, err := db.History(context.Background(), store.Filter{Full: true})
-	if err != nil {
-		t.Fatal(err)
-	}
-	if len(hist) != 1 || hist[0].Sample.Sample != "L-2419 cup 1" {
+	if hist := storedSamples(t, plant); len(hist) != 1 || hist[0].Sample.Sample != "L-2419 cup 1" {
 		t.Fatalf("plant database holds %+v, want the sample recorded", hist)
+	}
+}
+
+// TestRecordFileNotCompleted: the curve file cannot be completed (another
+// program took its name meanwhile); record exits 1 naming the partial
+// file, which keeps the readings, and stores nothing until it is
+// recovered.
+func TestRecordFileNotCompleted(t *testing.T) {
+	m, name := acqPTY(t)
+	dir := t.TempDir()
+	out := filepath.Join(dir, "cup.csv")
+	stop := make(chan struct{})
+	var wg sync.WaitGroup
+	wg.Go(func() { acqSend(m, 0, stop) })
+	wg.Go(func() {
+		for { // once the sample records, its final name is taken
+			if _, err := os.Stat(filepath.Join(dir, "cup.partial.csv")); err == nil {
+				os.WriteFile(out, []byte("taken\n"), 0o644)
+				return
+			}
+			select {
+			case <-stop:
+				return
+			case <-time.After(10 * time.Millisecond):
+			}
+		}
+	})
+	code, _, stderr := acqRun(t, context.Background(), "record", "--port", name, "--out", out, "--max-s", "2")
+	close(stop)
+	wg.Wait()
+	partial := filepath.Join(dir, "cup.partial.csv")
+	if code != 1 || !strings.Contains(stderr, "already exists") || !strings.Contains(stderr, "kept in "+partial) {
+		t.Fatalf("exit %d, stderr:\n%s", code, stderr)
+	}
+	acqCheckRows(t, partial, 150)
+	if n := len(storedSamples(t, acqDB(t))); n != 0 {
+		t.Errorf("%d samples stored from a file that was not completed", n)
 	}
 }

@@ -169,7 +169,7 @@ func (w *recordWriter) List(ctx context.Context, alloy string, n int) ([]tui.Ent
 			{"furnace", sm.Furnace}, {"note", sm.Note}} {
 			meta = meta.With(kv[0], kv[1])
 		}
-		out = append(out, tui.Entry{ID: sm.ID, At: sm.Recorded, Channel: sm.Channel, Path: sm.CurvePath, Record: r.Result.Record, Meta: meta})
+		out = append(out, tui.Entry{ID: sm.ID, At: sm.Recorded, Channel: sm.Channel, Path: sm.CurvePath, Record: r.Result.Record, Meta: meta, Simulated: sm.Simulated})
 	}
 	w.mu.Lock()
 	unread := w.unread

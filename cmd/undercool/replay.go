@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"sync"
 
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/sample"
 	"github.com/undercool-foundry/undercool/internal/session"
 	"github.com/undercool-foundry/undercool/replay"
@@ -63,7 +64,7 @@ func runReplay(ctx context.Context, env *environ, args []string) error {
 		return err
 	}
 	for _, n := range curve.Notes { // what reading the file took (swapped columns, padding)
-		fmt.Fprintf(env.stderr, "undercool replay: note: %s\n", n)
+		fmt.Fprintf(env.stderr, "undercool replay: note: %s\n", escape.Line(n))
 	}
 	if len(curve.Time) == 0 {
 		return fmt.Errorf("%s: no readings to replay", path)

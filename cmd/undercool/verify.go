@@ -5,6 +5,7 @@ import (
 	"flag"
 	"fmt"
 
+	"github.com/undercool-foundry/undercool/internal/escape"
 	"github.com/undercool-foundry/undercool/internal/store"
 )
 
@@ -48,11 +49,11 @@ func runVerify(ctx context.Context, env *environ, args []string) error {
 		switch c.State {
 		case store.CurveChanged:
 			fmt.Fprintf(env.stdout, "CHANGED     sample %d %q: %s\n            stored sha256 %s\n            now    sha256 %s\n",
-				c.SampleID, c.Sample, c.Path, c.Want, c.Got)
+				c.SampleID, c.Sample, escape.Line(c.Path), c.Want, c.Got)
 		case store.CurveMissing:
-			fmt.Fprintf(env.stdout, "MISSING     sample %d %q: %s\n", c.SampleID, c.Sample, c.Path)
+			fmt.Fprintf(env.stdout, "MISSING     sample %d %q: %s\n", c.SampleID, c.Sample, escape.Line(c.Path))
 		case store.CurveUnreadable:
-			fmt.Fprintf(env.stdout, "UNREADABLE  sample %d %q: %v\n", c.SampleID, c.Sample, c.Err)
+			fmt.Fprintf(env.stdout, "UNREADABLE  sample %d %q: %s\n", c.SampleID, c.Sample, escape.Line(fmt.Sprint(c.Err)))
 		}
 	}
 	bad := counts[store.CurveChanged] + counts[store.CurveMissing] + counts[store.CurveUnreadable]

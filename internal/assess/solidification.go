@@ -24,6 +24,9 @@ var fsMetrics = []struct {
 	{solidpath.KeyEndOfFreezing, "fs_at_end_of_freezing", func(r *Record) **float64 { return &r.FSAtEndOfFreezing }},
 }
 
+// errPureFourier says why a pure metal's cup has no Fourier figures.
+var errPureFourier = errors.New("the Fourier method does not apply to a pure metal, which freezes from the wall inward")
+
 // solidification fills the solidification path's figures
 // (docs/solidification.md): the Newtonian path from the centre curve, the
 // Fourier path and, for aluminium, the coherency point where the sample
@@ -72,7 +75,7 @@ func (m *metallurgy) solidification() {
 	latent(s.Newtonian, s.NewtonianErr, "latent_heat_newtonian_j_per_kg", &r.LatentHeatNewtonianJPerKg)
 	fourierErr := s.FourierErr
 	if pure && m.s.in.Wall != nil {
-		fourierErr = errors.New("the Fourier method does not apply to a pure metal, which freezes from the wall inward")
+		fourierErr = errPureFourier
 	}
 	latent(s.Fourier, fourierErr, "latent_heat_fourier_j_per_kg", &r.LatentHeatFourierJPerKg)
 
@@ -264,6 +267,19 @@ func pointsOf(r Record) arrest.Result {
 // record's family the rules. For fs(t) on the dashboard and fs(T) on the
 // report page.
 func SolidPath(in Input, rec Record) (*solidpath.Path, error) {
+	s := SolidPaths(in, rec)
+	if p := s.Best(); p != nil {
+		return p, nil
+	}
+	return nil, fmt.Errorf("assess: solidification path of %s: %w", in.File, s.NewtonianErr)
+}
+
+// SolidPaths is SolidPath by every method the sample's thermocouples
+// allow, as the record's figures were worked out: the Newtonian path and,
+// for a two-thermocouple cup, the Fourier path (and for aluminium the
+// coherency point), each nil with its error beside it. For fs(t) of both
+// methods on the dashboard.
+func SolidPaths(in Input, rec Record) solidpath.Solidification {
 	if in.Family == "" {
 		in.Family = arrest.Family(rec.Family)
 	}
@@ -272,10 +288,10 @@ func SolidPath(in Input, rec Record) (*solidpath.Path, error) {
 		c = *rec.SpecificHeatJPerKgK
 	}
 	s, _ := solidOf(in, rec, c)
-	if p := s.Best(); p != nil {
-		return p, nil
+	if in.Family == arrest.FamilyPure && in.Wall != nil && s.Fourier == nil {
+		s.FourierErr = errPureFourier
 	}
-	return nil, fmt.Errorf("assess: solidification path of %s: %w", in.File, s.NewtonianErr)
+	return s
 }
 
 // specificHeat is the c of the alloy's limits entry, else the family's

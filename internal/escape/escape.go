@@ -23,6 +23,7 @@
 package escape
 
 import (
+	"io"
 	"strings"
 	"unicode/utf8"
 )
@@ -101,4 +102,57 @@ func escape(s string, keepBreaks bool) string {
 		i += n
 	}
 	return b.String()
+}
+
+// JSON is JSON text b with every C1 control and bidirectional control
+// written as a \uXXXX escape (encoding/json writes C0 controls, U+2028
+// and U+2029 escaped already, and invalid UTF-8 as U+FFFD). Such
+// characters stand only inside strings in JSON, where the escape means
+// the same character (RFC 8259, section 7): a decoder reads back exactly
+// what was encoded, and a terminal shows JSON lines without acting on
+// them. b is returned as it is when it holds none.
+func JSON(b []byte) []byte {
+	i := 0
+	for i < len(b) && b[i] < 0x80 {
+		i++
+	}
+	if i == len(b) {
+		return b
+	}
+	const hex = "0123456789abcdef"
+	var out []byte
+	last := 0
+	for i < len(b) {
+		if b[i] < 0x80 {
+			i++
+			continue
+		}
+		r, n := utf8.DecodeRune(b[i:])
+		if r >= 0x80 && Unsafe(r) {
+			if out == nil {
+				out = make([]byte, 0, len(b)+16)
+			}
+			out = append(out, b[last:i]...)
+			out = append(out, '\\', 'u', hex[r>>12&15], hex[r>>8&15], hex[r>>4&15], hex[r&15])
+			last = i + n
+		}
+		i += n
+	}
+	if out == nil {
+		return b
+	}
+	return append(out, b[last:]...)
+}
+
+// JSONWriter is w with each write rewritten by JSON: for a json.Encoder,
+// which writes one whole value a call.
+func JSONWriter(w io.Writer) io.Writer { return jsonWriter{w} }
+
+type jsonWriter struct{ w io.Writer }
+
+func (j jsonWriter) Write(p []byte) (int, error) {
+	if _, err := j.w.Write(JSON(p)); err != nil {
+		return 0, err
+	}
+	return len(p), nil
 }

@@ -1,6 +1,8 @@
 package escape
 
 import (
+	"encoding/json"
+	"maps"
 	"math/rand/v2"
 	"strings"
 	"testing"
@@ -62,5 +64,27 @@ func TestLineProperties(t *testing.T) {
 		if !utf8.ValidString(txt) || strings.ContainsFunc(txt, func(r rune) bool { return Unsafe(r) && r != '\n' && r != '\t' }) {
 			t.Fatalf("Text(%q) = %q still holds unsafe text", s, txt)
 		}
+	}
+}
+
+// TestJSON: C1 and bidirectional controls in JSON strings become \u
+// escapes (RFC 8259, section 7) and decode back to the same strings.
+func TestJSON(t *testing.T) {
+	in := map[string]string{"sample": "L-2405\u202e1\u009b2J", "note": "1250 °C, é", "esc": "\x1b]0;x\x07"}
+	b, err := json.Marshal(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := JSON(b)
+	if strings.ContainsFunc(string(got), Unsafe) || !strings.Contains(string(got), `\u202e`) || !strings.Contains(string(got), "°C, é") {
+		t.Fatalf("JSON(%s) = %s", b, got)
+	}
+	var back map[string]string
+	if err := json.Unmarshal(got, &back); err != nil || !maps.Equal(back, in) {
+		t.Fatalf("decodes to %q (%v), want %q", back, err, in)
+	}
+	plain := []byte(`{"a":"b"}`)
+	if g := JSON(plain); &g[0] != &plain[0] {
+		t.Error("plain JSON copied")
 	}
 }

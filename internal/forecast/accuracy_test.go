@@ -146,14 +146,17 @@ func TestHeldOutPairs(t *testing.T) {
 	if quick {
 		n = 2
 	}
+	sweep := false // a larger sweep by hand: every set gets n pairs
 	if v, err := strconv.Atoi(os.Getenv("UNDERCOOL_ADVICE_PAIRS")); err == nil && v > 0 {
-		n = v
+		n, sweep = v, true
 	}
 	iron := builtin.InoculantTables["fesi75-ca-ba"]
 	refiner := builtin.InoculantTables["altib-rod"]
 	modifier := builtin.InoculantTables["alsr-master"]
 	nearly := func(a string) sim.Radial { return sim.NearlyLumped(a) }
-	var predicted, asked, agreed, judged int
+	// outside: predictions whose verdict range (from the stated
+	// uncertainty) does not hold the measured verdict
+	var predicted, asked, agreed, judged, outside int
 	plain := func(string) sim.Radial { return sim.Radial{} }
 	for _, set := range []struct {
 		name   string
@@ -163,22 +166,31 @@ func TestHeldOutPairs(t *testing.T) {
 		radial func(string) sim.Radial
 		tol    float64
 		// applies: the fit must predict at least 90 % of the pairs; quick:
-		// the set runs under the race detector and -short too.
-		applies, quick bool
+		// the set runs under the race detector and -short too; loose: its
+		// predictions are printed but not held to the tolerance and the
+		// stated uncertainty (a known bias, docs/advice.md "Limits").
+		applies, quick, loose bool
 	}{
-		{"grey iron, lumped cups", sim.GreyIron, iron, sim.CupLumped, nil, 1.5, true, true},
-		{"grey iron, nearly lumped radial cups (held out)", sim.GreyIron, iron, sim.CupRadial, nearly, 1.5, true, true},
-		{"grey iron, radial cups (held out)", sim.GreyIron, iron, sim.CupRadial, plain, 1.5, false, false},
-		{"ductile iron, nearly lumped radial cups (held out)", sim.DuctileIron, iron, sim.CupRadial, nearly, 1.5, true, false},
-		{"Al-Si7Mg grain refiner, nearly lumped radial cups (held out)", sim.AlSi7Mg, refiner, sim.CupRadial, nearly, 0.3, true, false},
-		{"Al-Si7Mg modifier, nearly lumped radial cups (held out)", sim.AlSi7Mg, modifier, sim.CupRadial, nearly, 1.0, true, false},
+		{"grey iron, lumped cups", sim.GreyIron, iron, sim.CupLumped, nil, 1.5, true, true, false},
+		{"grey iron, nearly lumped radial cups (held out)", sim.GreyIron, iron, sim.CupRadial, nearly, 1.5, true, true, false},
+		{"grey iron, radial cups (held out)", sim.GreyIron, iron, sim.CupRadial, plain, 1.5, true, false, false},
+		{"ductile iron, nearly lumped radial cups (held out)", sim.DuctileIron, iron, sim.CupRadial, nearly, 1.5, true, false, false},
+		{"ductile iron, radial cups (held out)", sim.DuctileIron, iron, sim.CupRadial, plain, 1.5, true, false, false},
+		{"Al-Si7Mg grain refiner, nearly lumped radial cups (held out)", sim.AlSi7Mg, refiner, sim.CupRadial, nearly, 0.3, true, false, false},
+		{"Al-Si7Mg grain refiner, radial cups (held out)", sim.AlSi7Mg, refiner, sim.CupRadial, plain, 0.3, true, false, true},
+		{"Al-Si7Mg modifier, nearly lumped radial cups (held out)", sim.AlSi7Mg, modifier, sim.CupRadial, nearly, 1.0, true, false, false},
+		{"Al-Si7Mg modifier, radial cups (held out)", sim.AlSi7Mg, modifier, sim.CupRadial, plain, 1.0, true, false, false},
+		{"grey iron, strong-gradient radial cups with a chill shell (held out)", sim.GreyIron, iron, sim.CupRadial, sim.StrongGradient, 1.5, false, false, false},
 	} {
 		if quick && !set.quick {
 			continue
 		}
 		pairs := n
-		if !set.applies {
+		switch {
+		case !set.applies:
 			pairs = max(1, n/2)
+		case !sweep && set.radial != nil && set.radial(set.alloy) == (sim.Radial{}):
+			pairs = max(1, n/2) // the default radial cups: two fits a cup (Fit), a slower test
 		}
 		rng := rand.New(rand.NewPCG(17, 1))
 		var errs []float64
@@ -213,6 +225,8 @@ func TestHeldOutPairs(t *testing.T) {
 			}
 			if o.vPred == o.vMeas {
 				agree++
+			} else if !slices.Contains(o.verdictRange, o.vMeas) {
+				outside++
 			}
 			lines = append(lines, fmt.Sprintf("  %s: predicted %.2f ± %.2f, measured %.2f, error %+.2f; verdict %s (range %v) vs %s",
 				c.label, o.pred, o.u, o.meas, e, o.vPred, o.verdictRange, o.vMeas))
@@ -230,7 +244,7 @@ func TestHeldOutPairs(t *testing.T) {
 			what string
 			k    int
 		}{{"within the tolerance", within}, {"within the stated uncertainty", covered}} {
-			if c.k*10 < made*9 {
+			if c.k*10 < made*9 && !set.loose {
 				t.Errorf("%s: %d of %d predictions %s, want at least 90 %%", set.name, c.k, made, c.what)
 			}
 		}
@@ -243,7 +257,12 @@ func TestHeldOutPairs(t *testing.T) {
 	if predicted*10 < asked*9 {
 		t.Errorf("only %d of %d pairs got a prediction where the model applies, want at least 90 %%", predicted, asked)
 	}
-	if agreed*10 < judged*9 {
+	switch {
+	case judged >= 10 && agreed*10 < judged*9:
 		t.Errorf("the verdict agrees in %d of %d predictions, want at least 90 %%", agreed, judged)
+	case judged < 10 && outside > 0:
+		// a handful of pairs (the race detector, -short) cannot test a
+		// rate; each verdict that differs must then lie in the predicted range
+		t.Errorf("%d of %d predicted verdicts differ from the measured one beyond their stated range", outside, judged)
 	}
 }

@@ -83,6 +83,7 @@ type PredictedMetric struct {
 // FitSummary is how the cup model fitted the measured curve.
 type FitSummary struct {
 	Method       string  `json:"method"`
+	Model        string  `json:"model"` // "lumped" or "radial" (a cup with a gradient), see Fit
 	Law          string  `json:"law"`
 	Converged    bool    `json:"converged"`
 	Status       string  `json:"status"`
@@ -97,7 +98,7 @@ type FitSummary struct {
 }
 
 // Method says how the fit is made (the FitSummary's method).
-const Method = "weighted least squares of the lumped cup model (internal/sim) to the readings from the pour to 20 s after the arrest; gonum optimize.Newton with the Gauss–Newton Hessian and a backtracking line search; covariance s²(JᵀWJ)⁻¹ inflated for autocorrelated residuals"
+const Method = "weighted least squares of the cup model (internal/sim; the lumped cup, or the radial cup of 5 zones where the lumped one misfits the arrest) to the readings from the pour to 20 s after the arrest; gonum optimize.Newton with the Gauss–Newton Hessian and a backtracking line search; covariance s²(JᵀWJ)⁻¹ inflated for autocorrelated residuals"
 
 // Caution is the safety note every prediction carries.
 const Caution = "Model estimate, not a measurement: it never replaces the shop's written practice, its metallurgist, or a re-sample before pouring."
@@ -261,7 +262,7 @@ func advise(f *Fitted, t Treatment, in assess.Input, res arrest.Result, askPct, 
 }
 
 func summary(f *Fitted) *FitSummary {
-	return &FitSummary{Method: Method, Law: string(f.Law), Converged: f.Converged, Status: f.Status,
+	return &FitSummary{Method: Method, Model: f.Model, Law: string(f.Law), Converged: f.Converged, Status: f.Status,
 		Iterations: f.Iterations, ModelRuns: f.Evaluations, Readings: f.Readings, RMSC: round(f.RMSC, 4),
 		ArrestRMSC: round(f.EutecticRMSC, 4), NoiseC: round(f.NoiseC, 4), Parameters: f.Params,
 		ParamsFormat: "standard uncertainty; of ln(value) for a, mu, h, tau"}

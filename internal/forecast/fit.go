@@ -38,6 +38,9 @@ type Fitted struct {
 	// RMSC is the root-mean-square residual of the fit over its window, °C;
 	// NoiseC the curve's own noise estimate, °C.
 	RMSC, NoiseC float64
+	// Model is the cup model fitted: ModelLumped, or ModelRadial (FitZones
+	// zones) for a cup the lumped model misfits.
+	Model string
 	// EutecticRMSC is the RMS residual over the arrest the law shapes (from
 	// 10 s before its minimum to the end of the window), °C.
 	EutecticRMSC float64
@@ -103,11 +106,65 @@ var ErrFit = errors.New("the cup model could not be fitted")
 // (1 + ρ)/(1 − ρ) for the lag-one autocorrelation ρ of the residuals
 // (correlated misfit carries less information than white noise). See
 // docs/advice.md.
+//
+// The model is first the lumped two-lump cup (fast); where that fit is too
+// poor to predict from (quality: it misfits the arrest, does not converge
+// or misses the arrest's points) or cannot be made at all, the cup is
+// fitted again with the radial cup of FitZones zones
+// (sim.Kinetics.Radial): a cup whose wall froze first shapes its centre's
+// arrest with the wall's latent heat, which two lumps sharing one count of
+// nuclei cannot make (docs/advice.md, "Cups with a gradient"). The fit
+// good enough to predict from is returned, else the one that misfits the
+// arrest less; Fitted.Model says which model it is.
 func Fit(ctx context.Context, s Sample, law Law) (*Fitted, error) {
+	f, err := fitModel(ctx, s, law, nil)
+	if err == nil && quality(f, s.Points) == "" {
+		return f, nil
+	}
+	if cerr := ctx.Err(); cerr != nil {
+		return nil, cerr
+	}
+	if err != nil && !errors.Is(err, ErrFit) {
+		return nil, err
+	}
+	g, gerr := fitModel(ctx, s, law, &sim.Radial{Zones: FitZones})
+	switch {
+	case gerr != nil && ctx.Err() != nil:
+		return nil, gerr
+	case gerr != nil && err != nil:
+		return nil, err // the lumped model's reason comes first
+	case gerr != nil:
+		return f, nil
+	case err != nil:
+		return g, nil
+	}
+	runs := f.Evaluations + g.Evaluations // every model run of the sample
+	if quality(g, s.Points) == "" || g.EutecticRMSC < f.EutecticRMSC {
+		f = g
+	}
+	f.Evaluations = runs
+	return f, nil
+}
+
+// FitZones is the number of zones of the radial cup a cup with a gradient
+// is fitted with: the radial simulator's fewest, about 3 ms a run for the
+// window of an iron cup (docs/performance.md, "The model's advice").
+const FitZones = 5
+
+// Models named in Fitted.Model.
+const (
+	ModelLumped = "lumped"
+	ModelRadial = "radial"
+)
+
+// fitModel is Fit with one model: the lumped cup (radial nil) or the
+// radial cup of those parameters.
+func fitModel(ctx context.Context, s Sample, law Law, radial *sim.Radial) (*Fitted, error) {
 	pb, err := newProblem(s, law, true)
 	if err != nil {
 		return nil, err
 	}
+	pb.m.radial = radial
 	if err := pb.start(ctx); err != nil {
 		return nil, err
 	}
@@ -562,7 +619,10 @@ func (pb *problem) minimise(ctx context.Context) (*Fitted, error) {
 	if res == nil {
 		return nil, err
 	}
-	f := &Fitted{Law: m.law, m: *m, times: pb.times, Iterations: res.MajorIterations, Status: res.Status.String()}
+	f := &Fitted{Law: m.law, m: *m, times: pb.times, Iterations: res.MajorIterations, Status: res.Status.String(), Model: ModelLumped}
+	if m.radial != nil {
+		f.Model = ModelRadial
+	}
 	if err != nil {
 		f.Status += ": " + err.Error()
 	}

@@ -1,6 +1,9 @@
 package limits
 
-import "strconv"
+import (
+	"strconv"
+	"strings"
+)
 
 // MetricInfo describes a metric that a limit can be set on. The list of
 // them (Metrics) is the project's one registry of metrics: limits checks
@@ -72,6 +75,9 @@ func Metrics() []MetricInfo { return append([]MetricInfo(nil), metricList...) }
 // Format writes v with the metric's decimals and unit: "1139.2 °C", "4.21".
 func (m MetricInfo) Format(v float64) string {
 	s := strconv.FormatFloat(v, 'f', m.Decimals, 64)
+	if strings.Trim(s, "-0.") == "" {
+		s = strings.TrimPrefix(s, "-") // a value that rounds to zero is "0.0", never "-0.0"
+	}
 	if m.Unit == "" {
 		return s
 	}

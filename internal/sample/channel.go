@@ -11,6 +11,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/protocol"
+	"github.com/undercool-foundry/undercool/internal/solidpath"
 )
 
 // channel is one channel's samples: the one shown (recording, or finished)
@@ -38,6 +39,7 @@ type channel struct {
 	faultsIn   int     // fault readings in the sample's file
 	frozenAt   float64 // sample time when freezing was seen to end
 	frozenHost float64 // the source's host clock then (feed.Status.HostS; 0: none)
+	stopAt     float64 // once stopped: the sample time it ends at (Command.AtS)
 	stopped    bool    // the stop was asked
 	// a cup with two thermocouples: the wall thermocouple's channel ("" for
 	// one), its readings in the sample (s of the file, °C; NaN for a
@@ -45,6 +47,13 @@ type channel struct {
 	wall   string
 	wt, wv []float64
 	wallV  []float64
+	radii  solidpath.Geometry // where the two thermocouples sit, from the file's metadata
+
+	fault     Fault   // the sample's thermocouple fault, once found
+	nowS      float64 // sample time of the last reading, a fault reading too
+	runV      float64 // the value of the latest run of identical readings
+	runFrom   float64 // and the sample time it began
+	simulated bool    // the sample's file says simulated: true
 
 	last     feed.Reading
 	hasLast  bool
@@ -68,22 +77,59 @@ func (c *channel) reading(t *Tracker, r feed.Reading) {
 	if !r.Valid() {
 		c.faults++
 	}
-	if c.state.Busy() && c.add(r) {
+	if c.state.Busy() {
+		c.nowS = feed.FileTime(r.TimeS, c.startS)
+	}
+	if c.state.Busy() && !r.Valid() && c.fault.Kind == FaultNone {
+		k := FaultDevice
+		if r.Flags&feed.FlagOpen != 0 {
+			k = FaultOpen
+		}
+		c.fault = Fault{Kind: k, TimeS: feed.FileTime(r.TimeS, c.startS)}
+	}
+	if c.state.Busy() && c.add(t, r) {
 		c.watch(t)
 	}
 }
 
 // add takes a reading of the sample into its curve, as its file holds it;
 // false for a fault reading (kept in the file as a #fault line only).
-func (c *channel) add(r feed.Reading) bool {
+func (c *channel) add(t *Tracker, r feed.Reading) bool {
+	ft := feed.FileTime(r.TimeS, c.startS)
+	if t.endAtStop && c.stopped && ft > c.stopAt {
+		return false // after the end the tracker asked for
+	}
 	if !r.Valid() {
 		c.faultsIn++
 		return false
 	}
-	c.t = append(c.t, feed.FileTime(r.TimeS, c.startS))
+	c.t = append(c.t, ft)
 	c.v = append(c.v, r.TempC)
 	c.grew = true
+	c.pegged(ft, r.TempC)
 	return true
+}
+
+// Pegged readings: a thermocouple amplifier with up-scale burnout
+// protection reads an open circuit as the top of its range (1372 °C for
+// type K, NIST Monograph 175) and sends it as a reading (practice: up-scale
+// burnout). Metal in a cup is never that still: a run of identical
+// readings at least PeggedMinC lasting PeggedS is taken for a fault.
+const (
+	PeggedMinC = 1350 // °C
+	PeggedS    = 2    // s
+)
+
+// pegged follows the runs of identical readings and marks the sample's
+// fault where one is pegged.
+func (c *channel) pegged(t, v float64) {
+	if len(c.t) == 1 || v != c.runV {
+		c.runV, c.runFrom = v, t
+		return
+	}
+	if c.fault.Kind == FaultNone && v >= PeggedMinC && t-c.runFrom >= PeggedS-1e-6 { // (file times are whole microseconds)
+		c.fault = Fault{Kind: FaultPegged, TimeS: c.runFrom, ValueC: v}
+	}
 }
 
 // start begins a sample: the source opened its file.
@@ -105,14 +151,20 @@ func (c *channel) start(t *Tracker, it *feed.Item) {
 	c.an.Reset()
 	c.t, c.v, c.st, c.sd = make([]float64, 0, 4096), make([]float64, 0, 4096), nil, nil
 	c.result, c.rec, c.faultsIn, c.frozenAt, c.stopped = arrest.Result{}, nil, 0, 0, false
-	for _, r := range it.Pre {
-		c.add(r)
+	c.fault, c.simulated, c.nowS = Fault{}, false, 0
+	for _, m := range it.Meta {
+		if m.Key == "simulated" && strings.EqualFold(m.Value, "true") {
+			c.simulated = true
+		}
 	}
-	c.wall, c.wt, c.wv, c.wallV = it.Wall, nil, nil, nil
+	for _, r := range it.Pre {
+		c.add(t, r)
+	}
+	c.wall, c.wt, c.wv, c.wallV, c.radii = it.Wall, nil, nil, nil, solidpath.Geometry{}
 	if c.wall != "" {
 		t.walls[c.wall] = c.id
 		for _, r := range it.WallPre {
-			c.addWall(r)
+			c.addWall(t, r)
 		}
 	}
 	c.grew = true
@@ -160,8 +212,8 @@ func (c *channel) overdue(t *Tracker) {
 // margin after it recorded.
 func (c *channel) stop(t *Tracker) {
 	if !c.stopped {
-		c.stopped = true
-		t.command(Command{Kind: CommandStop, Channel: c.id, Sample: c.n, Reason: "freezing done"})
+		c.stopped, c.stopAt = true, c.elapsed()
+		t.command(Command{Kind: CommandStop, Channel: c.id, Sample: c.n, Reason: "freezing done", AtS: c.stopAt})
 	}
 }
 
@@ -227,6 +279,7 @@ func (c *channel) finish(t *Tracker, path, why string, announce bool) {
 		// the wall thermocouple on the sample's times, as its file holds it
 		c.wallV = curvefile.OnTimes(c.t, c.wt, c.wv)
 		in, notes = in.WithWall(c.wallV)
+		c.radii = in.Radii
 		if t.walls[c.wall] == c.id {
 			delete(t.walls, c.wall)
 		}
@@ -238,12 +291,15 @@ func (c *channel) finish(t *Tracker, path, why string, announce bool) {
 		t.event(Event{Kind: EventDone, Channel: c.id, Sample: c.n, TimeS: c.startS + c.elapsed(), Text: why, Path: path})
 	}
 	t.out.Finished = append(t.out.Finished, Finished{Channel: c.id, Sample: c.n, Meta: c.meta, Path: path,
-		Record: rec, T: c.t, V: c.v, Wall: c.wallV})
+		Record: rec, T: c.t, V: c.v, Wall: c.wallV, Simulated: c.simulated})
 }
 
 // addWall takes a reading of the sample's wall thermocouple, as its file
 // holds it.
-func (c *channel) addWall(r feed.Reading) {
+func (c *channel) addWall(t *Tracker, r feed.Reading) {
+	if n := len(c.wt); t.endAtStop && c.stopped && n > 0 && c.wt[n-1] > c.stopAt {
+		return // the first wall reading after the end is kept, for the last centre one
+	}
 	v := r.TempC
 	if !r.Valid() {
 		v = math.NaN()
@@ -270,6 +326,8 @@ func (c *channel) snapshot() Snapshot {
 		T: c.t[:len(c.t):len(c.t)], V: c.v[:len(c.v):len(c.v)],
 		SlopeT: c.st[:len(c.st):len(c.st)], SlopeD: c.sd[:len(c.sd):len(c.sd)],
 		Result: c.result, Record: c.rec, Path: c.path, ElapsedS: c.elapsed(), WallChannel: c.wall, Wall: c.wallV,
-		Last: c.last, HasLast: c.hasLast, Readings: c.readings, Faults: c.faults,
+		Radii: c.radii,
+		Last:  c.last, HasLast: c.hasLast, Readings: c.readings, Faults: c.faults,
+		Fault: c.fault, Simulated: c.simulated, NowS: c.nowS,
 	}
 }

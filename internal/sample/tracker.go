@@ -24,6 +24,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/feed"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/solidpath"
 )
 
 // State is where a channel's sample is in its life.
@@ -93,7 +94,12 @@ type Tracker struct {
 	defaults Meta // the next sample's metadata on channels not seen yet
 	status   feed.Status
 	out      Update
-	walls    map[string]string // wall thermocouple channel → the channel of its cup's sample recording
+	// endAtStop: readings after a stop's AtS are not the sample's
+	// (EndAtStop)
+	endAtStop bool
+	walls     map[string]string // wall thermocouple channel → the channel of its cup's sample recording
+	// simulated: the device said simulated=true (the virtual melt deck)
+	simulated bool
 }
 
 // New makes a tracker.
@@ -157,7 +163,8 @@ type Snapshot struct {
 	Result         arrest.Result
 	Record         *assess.Record // the finished record (Done)
 	Path           string         // the curve file (in progress while recording)
-	ElapsedS       float64        // sample time of the last reading
+	ElapsedS       float64        // sample time of the last reading on the curve
+	NowS           float64        // sample time of the channel's last reading, a fault reading too (0 before the first)
 	Last           feed.Reading   // the channel's last reading, valid or not
 	HasLast        bool
 	Readings       int // readings of the channel, faults included
@@ -167,10 +174,50 @@ type Snapshot struct {
 	// sample is Done (NaN where it has no reading), as its file holds it.
 	WallChannel string
 	Wall        []float64
+	// Radii place the two thermocouples of the finished sample (from its
+	// file's metadata, assess.Input.WithWall; zero for one thermocouple).
+	Radii solidpath.Geometry
 	// WallOf is the channel whose cup this channel's thermocouple is the
 	// wall thermocouple of ("" for a cup's own channel), as the source
 	// says: it starts no sample of its own.
 	WallOf string
+	// SilentS is how long the channel has gone without a reading, s of the
+	// source's clock (feed.ChannelStatus.SilentS; 0 for a replay).
+	SilentS float64
+	// Fault is the thermocouple fault of the sample shown, once one is
+	// found: the device reported one, or the readings pegged at one value
+	// at the top of the range. Zero while there is none.
+	Fault Fault
+	// Simulated says the sample shown (or, before the first, the device)
+	// is simulated: the file or the device line says simulated=true.
+	Simulated bool
+}
+
+// Fault is a thermocouple fault found in a sample: what it is and when.
+type Fault struct {
+	Kind   FaultKind
+	TimeS  float64 // sample time of the first fault reading, s
+	ValueC float64 // FaultPegged: the value the readings stuck at, °C
+}
+
+// FaultKind tells which thermocouple fault was found.
+type FaultKind uint8
+
+// Thermocouple faults.
+const (
+	FaultNone   FaultKind = iota
+	FaultOpen             // the device reported an open circuit
+	FaultDevice           // the device reported another fault (short, out of range)
+	FaultPegged           // the readings stuck at one value at the top of the range (up-scale burnout)
+)
+
+var faultNames = [...]string{FaultNone: "", FaultOpen: "thermocouple open", FaultDevice: "device fault", FaultPegged: "readings pegged at the top of the range"}
+
+func (k FaultKind) String() string {
+	if int(k) < len(faultNames) {
+		return faultNames[k]
+	}
+	return "fault(" + strconv.Itoa(int(k)) + ")"
 }
 
 // EventKind tells what happened.
@@ -227,6 +274,7 @@ type Finished struct {
 	T, V      []float64 // its curve
 	Wall      []float64 // a two-thermocouple cup's wall thermocouple on T's times (NaN: no reading); nil for one
 	Recovered bool      // completed after a crash, not recorded by this session
+	Simulated bool      // its file says simulated: true (the simulator's, not a real cup)
 }
 
 // CommandKind tells what the source is asked.
@@ -251,6 +299,13 @@ type Command struct {
 	Sample  int
 	Reason  string
 	Meta    Meta
+	// AtS (CommandStop) is the sample time, s from the file's first
+	// reading, the sample ends at: its last reading the tracker took.
+	// Readings after it that reach the source before the command are not
+	// the sample's: the tracker leaves them out, and a source that can
+	// (acquire.Acquirer.StopAt) leaves them out of the file, so that the
+	// sample does not depend on how long the command took to arrive.
+	AtS float64
 }
 
 // Initial is the update before any item: the metadata the source is to
@@ -291,6 +346,14 @@ func (t *Tracker) SetForm(ch string, m Meta) Update {
 	c.setNext(t, next)
 	return t.flush()
 }
+
+// EndAtStop says that the source ends a sample at its stop command's AtS,
+// leaving out of the file the readings after it that it took before the
+// command arrived (acquire.Acquirer.StopAt): the tracker then leaves them
+// out of the sample too, so that the record is the file's. Without it
+// (a replay, whose file is the sample) every reading until the source
+// says the sample ended is the sample's. The session calls it.
+func (t *Tracker) EndAtStop() { t.endAtStop = true }
 
 // SetLimits takes a new limits book (saved from the editor): samples that
 // start from now on are resolved and judged by it.
@@ -340,7 +403,9 @@ func (t *Tracker) flush() Update {
 	u.Channels = make([]Snapshot, len(t.order))
 	for i, id := range t.order {
 		u.Channels[i] = t.chans[id].snapshot()
-		u.Channels[i].WallOf = t.status.Channels[id].WallOf
+		cs := t.status.Channels[id]
+		u.Channels[i].WallOf, u.Channels[i].SilentS = cs.WallOf, cs.SilentS
+		u.Channels[i].Simulated = u.Channels[i].Simulated || (t.simulated && u.Channels[i].State == Waiting)
 	}
 	return u
 }
@@ -350,7 +415,7 @@ func (t *Tracker) item(it *feed.Item) {
 	case feed.KindReading:
 		t.channel(it.Reading.Channel).reading(t, it.Reading)
 		if centre, ok := t.walls[chanID(it.Reading.Channel)]; ok {
-			t.chans[centre].addWall(it.Reading)
+			t.chans[centre].addWall(t, it.Reading)
 		}
 	case feed.KindStarted:
 		t.channel(it.Channel).start(t, it)
@@ -373,6 +438,11 @@ func (t *Tracker) item(it *feed.Item) {
 // its channel (a line without ch=: of every channel).
 func (t *Tracker) deviceInfo(it *feed.Item) {
 	t.event(Event{Kind: EventDeviceInfo, Channel: it.Channel, TimeS: it.TimeS, Text: it.Text, Info: it.Meta})
+	for _, kv := range it.Meta {
+		if kv.Key == "simulated" {
+			t.simulated = strings.EqualFold(kv.Value, "true")
+		}
+	}
 	m := MetaOf(it.Meta)
 	if len(m) == 0 {
 		return
@@ -404,7 +474,7 @@ func (t *Tracker) recovered(it *feed.Item) {
 	rec := t.cfg.Judge(in, result)
 	rec.Warnings = append(rec.Warnings, notes...)
 	t.out.Finished = append(t.out.Finished, Finished{Channel: it.Channel, Meta: meta, Path: it.Path, Record: rec,
-		T: c.Time, V: c.Temp, Wall: in.Wall, Recovered: true})
+		T: c.Time, V: c.Temp, Wall: in.Wall, Recovered: true, Simulated: strings.EqualFold(strings.TrimSpace(c.Get("simulated")), "true")})
 }
 
 // Slope is the T′ of a whole curve as the tracker shows a sample's: the

@@ -31,6 +31,13 @@ type Source interface {
 	SetMeta(ch string, sample int, meta []curvefile.Meta)
 }
 
+// stopperAt is a source that can end a sample at a given sample time,
+// leaving out of its file the readings after it that it took before the
+// command arrived (*acquire.Acquirer).
+type stopperAt interface {
+	StopAt(ch string, sample int, atS float64, reason string)
+}
+
 // Options configure a session.
 type Options struct {
 	// Finished is given every finished sample, in order, on the session's
@@ -59,6 +66,9 @@ type control struct {
 func New(src Source, tr *sample.Tracker, opt Options) *Session {
 	if opt.Finished == nil {
 		opt.Finished = func(sample.Finished) {}
+	}
+	if _, ok := src.(stopperAt); ok {
+		tr.EndAtStop() // the source's files end where the tracker says
 	}
 	return &Session{src: src, tr: tr, opt: opt, out: make(chan sample.Update), ctl: mailbox.New[control]()}
 }
@@ -95,7 +105,11 @@ func (s *Session) Run() {
 		for _, c := range u.Commands {
 			switch c.Kind {
 			case sample.CommandStop:
-				s.src.Stop(c.Channel, c.Sample, c.Reason)
+				if at, ok := s.src.(stopperAt); ok {
+					at.StopAt(c.Channel, c.Sample, c.AtS, c.Reason)
+				} else {
+					s.src.Stop(c.Channel, c.Sample, c.Reason)
+				}
 			case sample.CommandMeta:
 				s.src.SetMeta(c.Channel, c.Sample, c.Meta)
 			}

@@ -39,6 +39,11 @@ type Kinetics struct {
 	// and liquid alike (0: 1): below 1 the centre lags the wall more, as
 	// in a cup with a stronger gradient.
 	Conductance float64
+	// Radial, when set, runs the radial cup with these parameters instead
+	// of the lumped one: H is
+	// then the side wall's coefficient as well unless Radial.WallHW sets
+	// it, and Conductance multiplies both conductivities.
+	Radial *Radial
 	// StepS is the integration step, s (0: the simulator's own 5 ms; at
 	// most 50 ms). Iron and Al-Si cups, whose kinetics are slow, give the
 	// same points to about 0.02 °C at 20 ms, four times faster; pure metals
@@ -102,6 +107,9 @@ func Curve(p Params, k Kinetics, times []float64) ([]float64, Truth, error) {
 	p = p.withDefaults()
 	p.Fault = FaultNone
 	p.Cup = CupLumped
+	if k.Radial != nil {
+		p.Cup, p.Radial = CupRadial, *k.Radial
+	}
 	p.Logger.LagS = k.LagS
 	p.kinetics = &k
 	last := times[len(times)-1]
@@ -220,7 +228,7 @@ const maxStepS = 0.05
 func (p Params) adjust(m *cup) {
 	m.step = stepS
 	if k := p.kinetics; k != nil {
-		if k.StepS > 0 && m.radial == nil {
+		if k.StepS > 0 {
 			m.step = k.StepS
 		}
 		if l := k.Eutectic; l != nil {
@@ -233,6 +241,15 @@ func (p Params) adjust(m *cup) {
 		if k.Conductance > 0 {
 			m.kSolid *= k.Conductance
 			m.kLiquid *= k.Conductance
+		}
+		if r := m.radial; r != nil && k.Radial != nil {
+			if k.Radial.WallHW == 0 {
+				r.wallH = k.H
+			}
+			if k.Conductance > 0 {
+				r.kL *= k.Conductance
+				r.kS *= k.Conductance
+			}
 		}
 		if k.EutecticC > 0 {
 			m.eutectic = k.EutecticC

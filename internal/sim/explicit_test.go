@@ -17,12 +17,22 @@ func kineticsOf(t *testing.T, p Params) Kinetics {
 
 // Curve is Simulate's noiseless view of the same model: with the kinetics
 // set on the parameters, Simulate's clean curve and Curve agree reading for
-// reading (to rounding), and the truth is the same.
+// reading (to rounding), and the truth is the same; with Kinetics.Radial,
+// likewise for the radial cup.
 func TestCurveIsSimulatesModel(t *testing.T) {
-	for _, alloy := range []string{GreyIron, AlSi7Mg} {
+	for _, c := range []struct {
+		alloy  string
+		radial bool
+	}{{GreyIron, false}, {AlSi7Mg, false}, {GreyIron, true}, {DuctileIron, true}, {AlSi7Mg, true}} {
+		alloy := c.alloy
 		p := preset(t, alloy, 0.3)
 		k := kineticsOf(t, p)
 		q := p
+		if c.radial {
+			alloy += " radial"
+			k.Radial = &Radial{}
+			q.Cup, q.Radial = CupRadial, Radial{}
+		}
 		q.kinetics = &k
 		q.DurationS = 200
 		out := Simulate(q)
@@ -213,14 +223,7 @@ func TestCurveCoarseStep(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		for _, c := range []struct {
-			name string
-			a, b Point
-		}{{"liquidus", fineTr.Liquidus, coarse.Liquidus}, {"eutectic min", fineTr.EutecticMin, coarse.EutecticMin}, {"eutectic max", fineTr.EutecticMax, coarse.EutecticMax}} {
-			if c.a.OK != c.b.OK || math.Abs(c.a.TempC-c.b.TempC) > 0.05 || math.Abs(c.a.TimeS-c.b.TimeS) > 1.5 {
-				t.Errorf("%s %s: %+v at 5 ms, %+v at 20 ms", alloy, c.name, c.a, c.b)
-			}
-		}
+		samePoints(t, alloy, fineTr, coarse, 0.05)
 	}
 	k := kineticsOf(t, preset(t, GreyIron, 0.2))
 	k.StepS = 0.2
@@ -229,17 +232,67 @@ func TestCurveCoarseStep(t *testing.T) {
 	}
 }
 
+// At 20 ms and at the 50 ms step a radial fit runs with, the points of the
+// fit's 5-zone radial cup move by at most 0.1 °C from the simulator's 5 ms
+// step (grey and ductile iron, Al-Si7Mg; a tolerance of our own, a fifth of
+// the fit's 0.5 °C test of the points).
+func TestCurveRadialCoarseStep(t *testing.T) {
+	for _, alloy := range []string{GreyIron, DuctileIron, AlSi7Mg} {
+		p := preset(t, alloy, 0.2)
+		k := kineticsOf(t, p)
+		k.Radial = &Radial{Zones: 5}
+		times := []float64{0, 300}
+		_, fine, err := Curve(p, k, times)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, step := range []float64{0.02, 0.05} {
+			k.StepS = step
+			_, coarse, err := Curve(p, k, times)
+			if err != nil {
+				t.Fatal(err)
+			}
+			samePoints(t, fmt.Sprintf("%s radial, 5 zones, step %g s", alloy, step), fine, coarse, 0.1)
+		}
+	}
+}
+
+// samePoints checks that the liquidus and the eutectic minimum and maximum
+// of a run at the 5 ms step (fine) and at a coarser one agree within tolC
+// and 1.5 s.
+func samePoints(t *testing.T, what string, fine, coarse Truth, tolC float64) {
+	t.Helper()
+	for _, c := range []struct {
+		name string
+		a, b Point
+	}{{"liquidus", fine.Liquidus, coarse.Liquidus}, {"eutectic min", fine.EutecticMin, coarse.EutecticMin}, {"eutectic max", fine.EutecticMax, coarse.EutecticMax}} {
+		if c.a.OK != c.b.OK || math.Abs(c.a.TempC-c.b.TempC) > tolC || math.Abs(c.a.TimeS-c.b.TimeS) > 1.5 {
+			t.Errorf("%s %s: %+v at 5 ms, %+v at the coarser step", what, c.name, c.a, c.b)
+		}
+	}
+}
+
 // BenchmarkCurve is one run of the fit's model: a grey-iron cup's first
-// 150 s, at the simulator's 5 ms step and at the fit's 20 ms.
+// 150 s, at the simulator's 5 ms step and at the fit's 20 ms, lumped and
+// as the radial cup of 5 zones a cup with a gradient is fitted with (at
+// 50 ms in the fit).
 func BenchmarkCurve(b *testing.B) {
 	p, err := Preset(GreyIron, 0.1, 1)
 	if err != nil {
 		b.Fatal(err)
 	}
 	m := p.withDefaults().model()
-	for _, step := range []float64{0, 0.02} {
-		k := Kinetics{Eutectic: &Nucleation{A: m.eutecticLaw.A, N: 2, Mu: m.eutecticLaw.Mu}, H: m.h, LagS: 0.5, StepS: step}
-		b.Run(fmt.Sprintf("step-%gms", 1000*max(step, stepS)), func(b *testing.B) {
+	for _, c := range []struct {
+		step  float64
+		zones int
+	}{{0, 0}, {0.02, 0}, {0, 5}, {0.02, 5}, {0.05, 5}} {
+		k := Kinetics{Eutectic: &Nucleation{A: m.eutecticLaw.A, N: 2, Mu: m.eutecticLaw.Mu}, H: m.h, LagS: 0.5, StepS: c.step}
+		name := fmt.Sprintf("step-%gms", 1000*max(c.step, stepS))
+		if c.zones > 0 {
+			k.Radial = &Radial{Zones: c.zones}
+			name = fmt.Sprintf("radial-%d-zones-%s", c.zones, name)
+		}
+		b.Run(name, func(b *testing.B) {
 			for b.Loop() {
 				if _, _, err := Curve(p, k, []float64{0, 150}); err != nil {
 					b.Fatal(err)

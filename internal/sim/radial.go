@@ -228,7 +228,7 @@ func (m *cup) zoneLoss(g *rings, i int, w, temp float64) float64 {
 	return q
 }
 
-// substeps is how many equal steps one stepS takes so that explicit Euler
+// substeps is how many equal steps one m.step takes so that explicit Euler
 // on the conduction stays stable with room to spare: a zone's heat
 // capacity over the conductance to its neighbours (at the larger of the two
 // conductivities) must exceed 2.5 steps (derived: stable below 2).
@@ -245,7 +245,7 @@ func (m *cup) substeps(g *rings) int {
 		}
 		worst = min(worst, g.mass[i]*m.c/gsum)
 	}
-	return max(1, int(math.Ceil(2.5*stepS/worst)))
+	return max(1, int(math.Ceil(2.5*m.step/worst)))
 }
 
 // radialState is the radial cup's own state besides what state reports.
@@ -261,7 +261,7 @@ type radialState struct {
 
 // integrateRadial runs the radial cup from the pour for durS seconds (or,
 // when durS is 0, until 40 s after the end of freezing, at most 1800 s) and
-// calls emit after each step of stepS with the state: core is the centre
+// calls emit after each step of m.step with the state: core is the centre
 // zone (the thermocouple's), shell the wall zone, wallTC the wall
 // thermocouple, primOn and eutOn the first nuclei of the centre zone. Each
 // zone i of mass m_i obeys
@@ -289,20 +289,20 @@ func (m *cup) integrateRadial(durS, fillS, lagS float64, emit func(*state)) {
 	m.rings = &g
 	s := state{core: rs.zones[0], shell: rs.zones[n-1], tc: m.ambient, wallTC: m.ambient, wall: 1, primOn: -1, eutOn: -1, endT: -1}
 	sub := m.substeps(&g)
-	dt := stepS / float64(sub)
+	dt := m.step / float64(sub)
 	wallStep := math.Exp(-dt / wallS)
 	maxS := durS
 	if maxS == 0 {
 		maxS = 1800
 	}
-	full := -math.Expm1(-stepS / lagS)
+	full := -math.Expm1(-m.step / lagS)
 	emit(&s)
-	for s.t < maxS-stepS/2 {
+	for s.t < maxS-m.step/2 {
 		for range sub {
 			m.radialStep(&g, &rs, &s, dt)
 			s.wall *= wallStep
 		}
-		s.t += stepS
+		s.t += m.step
 		var fs float64
 		for i := range rs.zones {
 			fs += g.mass[i] * rs.zones[i].fs
@@ -313,15 +313,15 @@ func (m *cup) integrateRadial(durS, fillS, lagS float64, emit func(*state)) {
 		}
 		c := &rs.zones[0]
 		if s.primOn < 0 && c.prim.m0 > 0 {
-			s.primOn = s.t - stepS
+			s.primOn = s.t - m.step
 		}
 		if s.eutOn < 0 && c.eut.m0 > 0 {
-			s.eutOn = s.t - stepS
+			s.eutOn = s.t - m.step
 		}
 		// Thermocouples: wetting rises linearly while the cup fills.
 		a := full
 		if s.t < fillS {
-			a = -math.Expm1(-s.t / fillS * stepS / lagS)
+			a = -math.Expm1(-s.t / fillS * m.step / lagS)
 		}
 		s.tc += (c.temp - s.tc) * a
 		s.wallTC += (rs.zones[g.wallTC].temp - s.wallTC) * a
@@ -420,15 +420,23 @@ func (m *cup) freezeZone(z *lump, bp, be, dt float64) float64 {
 // fraction, fp the primary solid already there and fe the eutectic
 // fraction, by Newton's method (g(T) is increasing and convex), to 1e-9 K
 // or at most six steps. It returns t0 when no primary solid would form.
+//
+// The fraction at t0 serves the first step too, and the Scheil slope is
+// taken from the same power as the fraction (fractionSlope): the Scheil
+// rule's math.Pow was most of an Al-Si radial cup's cost.
 func (m *cup) primaryTemp(t0, envelopes, fp, fe float64) float64 {
-	if envelopes*m.fraction(t0) <= fp {
+	f, df := m.fractionSlope(t0)
+	if envelopes*f <= fp {
 		return t0
 	}
 	k := m.latent * (1 - fe) / m.c
 	t := t0
-	for range 6 {
-		gv := t - t0 - k*(envelopes*m.fraction(t)-fp)
-		dg := 1 - k*envelopes*m.dfraction(t)
+	for i := range 6 {
+		if i > 0 {
+			f, df = m.fractionSlope(t)
+		}
+		gv := t - t0 - k*(envelopes*f-fp)
+		dg := 1 - k*envelopes*df
 		next := min(max(t-gv/dg, t0), m.liquidus)
 		if math.Abs(next-t) < 1e-9 {
 			return next
@@ -436,4 +444,20 @@ func (m *cup) primaryTemp(t0, envelopes, fp, fe float64) float64 {
 		t = next
 	}
 	return t
+}
+
+// fractionSlope is fraction(t) and dfraction(t) at once: for the Scheil
+// rule, with p = (Cl/C0)^e, e = 1/(k − 1), fs = 1 − p and
+// dfs/dT = e·p/(Cl·s) (one power for both).
+func (m *cup) fractionSlope(t float64) (f, df float64) {
+	if t >= m.liquidus {
+		return 0, 0
+	}
+	if m.lever {
+		return m.fraction(t), m.dfraction(t)
+	}
+	cl := (m.lineTm - t) / m.lineSlope
+	e := 1 / (m.partition - 1)
+	p := math.Pow(cl/m.c0, e)
+	return 1 - p, e * p / (cl * m.lineSlope)
 }
