@@ -193,6 +193,7 @@ func pointsOfFamily(r arrest.Result, f arrest.Family) []pointRow {
 		{'U', u, r.EutecticMin},
 		{'R', m, r.EutecticMax},
 		{'S', "end of freezing", r.Solidus},
+		{'B', "eutectic start", r.EutecticStart},
 	}
 }
 

@@ -135,8 +135,10 @@ const (
 	shortShare   = 0.03 // see solidusPoint
 	negShare     = 0.05 // see longArrest
 	holdShare    = 0.2  // see settle
-	flatShare    = 0.05 // see solidusPoint
+	flatShare    = 0.2  // see solidusPoint
+	belowWindowC = 10   // see noDistinctEnd, °C
 	sharpGain    = 1.1  // see solidusWindow
+	stepShare    = 0.1  // see steepestStep
 	fallShare    = 0.04 // an arrest's fall is at least this share of |T'|min before it
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
 )
@@ -153,6 +155,9 @@ const (
 	// CodeEutecticWindow: the arrest taken for the eutectic lies outside
 	// the alloy's eutectic window (Hints.Eutectic).
 	CodeEutecticWindow = "eutectic-window"
+	// CodeNoEnd: the curve cooled well below the eutectic window without a
+	// distinct end of freezing (not fatal).
+	CodeNoEnd = "no-end-of-freezing"
 )
 
 // Analyze finds the characteristic points of the curve temp(t), t in s and
@@ -160,7 +165,7 @@ const (
 // sample it reports only the points already settled by then; fed the whole
 // curve it gives the offline answer.
 //
-// The method (point definitions in design.md and DEVELOPERS.md):
+// The method (point definitions in docs/analysis.md):
 //   - readings whose time does not increase are dropped ("time-order");
 //     a reading that is NaN, infinite, above MaxValidC or below MinValidC, or
 //     a jump of more than StepFaultC that outlasts the spike test after the
@@ -204,17 +209,43 @@ const (
 //     EutecticTopC or short, is the liquidus arrest, and once a liquidus is
 //     found the next long arrest is the eutectic whatever its temperature.
 //     An arrest is long when T' came within max(P, 0.05·|T'min|) of zero and
-//     stayed above halfway from T'min to min(T'max, 0) for 3·Hints.SlopeS (a
+//     stayed above halfway from the cooling before it (the lowest T' over
+//     3·Hints.SlopeS before its rise) to min(T'max, 0) for 3·Hints.SlopeS (a
 //     eutectic's large latent heat holds T' near zero for tens of seconds; a
 //     grey-iron liquidus 10–40 °C above the eutectic, inside the hint
-//     window, lasts a few seconds or keeps T' clearly negative). The minimum
-//     of a recalescing arrest is reported as soon as its kind is settled.
-//     Liquidus is null when no arrest precedes the eutectic;
+//     window, lasts a few seconds or keeps T' clearly negative). An arrest
+//     whose kind hangs on its length and that settles sooner is held
+//     (settle): long if T' then stays within max(P, 0.2·(top − cooling
+//     before)) of its top (zero after a recalescence) for 3·Hints.SlopeS,
+//     short once it falls below that. Liquidus is null when no arrest
+//     precedes the eutectic;
+//   - the alloy's windows (Hints.Eutectic, Hints.Liquidus): an arrest
+//     reaching above the eutectic window is a primary arrest, the liquidus
+//     only inside the liquidus window; an arrest taken for the eutectic
+//     whose minimum lies below the window leaves the eutectic null with a
+//     fatal "eutectic-window" problem, and the analysis ends there;
+//   - a real recalescence outranks an earlier shoulder: after a eutectic
+//     without recalescence, T' that falls by more than P and then rises past
+//     +h reopens the search (shoulderPassed, reopen), and the recalescence
+//     becomes the eutectic; a eutectic without recalescence is therefore
+//     provisional until the end of freezing settles;
+//   - the start of eutectic freezing is T at the largest T″ (the central
+//     difference of T' over half a T' window) between the last local
+//     minimum of T' (by the hysteresis h) before the eutectic minimum and the
+//     minimum (eutecticStart);
 //   - the end of freezing is T at the most negative T' after the eutectic,
 //     settled when no lower T' has followed for Hints.ConfirmS seconds and
 //     the drop below the plateau's T' is at least P and a third of the
-//     liquid's cooling rate; it is placed on a half-length T' window when
-//     the noise allows (solidusPoint);
+//     liquid's cooling rate; it is placed on the shortest window, down from
+//     half the T' window, on which the dip is sharper and the noise small
+//     against it (solidusWindow), and on a flat-bottomed dip from where T'
+//     first reached the bottom (solidusPoint). A curve that cools 10 °C
+//     below the eutectic window without such a dip has no distinct end of
+//     freezing ("no-end-of-freezing", not fatal);
+//   - a point shown live before its arrest's shape is complete is
+//     Point.Provisional (the minimum of a recalescence whose kind a window
+//     may still change, a eutectic without recalescence); once confirmed it
+//     never changes, and the offline answer has no provisional point;
 //   - where the usable data end (the recording stops, or a fault) on a long
 //     eutectic plateau before T' has fallen, the eutectic is settled from
 //     the data seen, as if T' fell at the last reading examined; its
@@ -246,29 +277,28 @@ var analyzers = sync.Pool{New: func() any { return new(Analyzer) }}
 
 // Analyzer holds reusable work space and the state of a growing curve, so
 // that repeated live calls do not allocate and do not redo settled work:
-// each call processes only the readings added since the previous one. It
-// starts afresh when the curve is not the previous one extended (a shorter
-// slice, or a different first, middle or last reading of those it has seen:
-// call Reset for a new curve that might agree in those) or when the options
-// other than Live change. The readings passed must not change afterwards.
-// The zero value is ready to use; it is not safe for concurrent use.
+// each call processes only the readings added since the previous one.
+// Which curve it analyses is said, not guessed: Reset starts a new curve,
+// and Extend (Analyze) takes the same curve grown, whose first readings are
+// those passed before, unchanged. It starts afresh by itself only where
+// that contract cannot hold: other options than Live, or fewer readings
+// than it has seen. The zero value is ready to use; it is not safe for
+// concurrent use.
 type Analyzer struct {
 	opt     Options
 	h       Hints
 	reserve int
 	ready   bool
 
-	nIn          int     // input readings consumed
-	first, mid   float64 // t[0] and temp[nIn/2] of the readings seen
-	lastT, lastV float64
-	goodT        int     // readings whose time was in order
-	lastGoodT    float64 // time of the last of them
-	badTime      int
-	limit        int   // once done: the last reading the result depends on
-	probAt       []int // reading index (accepted) of each problem
-	spikes       []int // indices of the despiked readings
-	stopped      bool  // a fault or noise ended the usable data
-	end          int   // raw readings usable (when stopped)
+	nIn       int     // input readings consumed
+	goodT     int     // readings whose time was in order
+	lastGoodT float64 // time of the last of them
+	badTime   int
+	limit     int   // once done: the last reading the result depends on
+	probAt    []int // reading index (accepted) of each problem
+	spikes    []int // indices of the despiked readings
+	stopped   bool  // a fault or noise ended the usable data
+	end       int   // raw readings usable (when stopped)
 
 	ts, raw       []float64 // accepted readings: views of the caller's slices until one is dropped
 	own           bool      // ts and raw are copies in tsBuf, rawBuf
@@ -280,7 +310,6 @@ type Analyzer struct {
 	rate, dt        float64
 	ws, wd          int
 	ks, kd          *curve.Kernel
-	sld, sll        curve.Sliding
 	dl              []float64 // work space: T' over a longer window
 	gainS, gainD    float64   // noise gains of T and T' (per °C of σ)
 	block           int       // noise block length, readings
@@ -299,8 +328,8 @@ type Analyzer struct {
 // detector is the state of the point finder over the settled indices.
 type detector struct {
 	j     int // next index to examine
-	stage int
-	sub   int
+	stage stage
+	sub   phase
 	start int // first index of the current arrest search
 
 	dmin, dmax   float64
@@ -330,29 +359,68 @@ type heldArrest struct {
 	level  float64 // T' below this makes it short
 }
 
-const (
-	stagePour = iota
-	stageArrest
-	stageSolidus
-	stageDone
-)
+// stage is where the point finder is on the curve. Each transition has one
+// rule, made in one place:
+//
+//	stagePour → stageArrest     the pour peak is confirmed and T' no longer reaches
+//	                            back over it (detect)
+//	stageArrest → stageArrest   a primary arrest is classified; the search starts
+//	                            again after it (arrest)
+//	stageArrest → stageSolidus  an arrest is classified as the eutectic (arrest)
+//	stageArrest → stageDone     the eutectic lies outside the alloy's window
+//	                            (outsideWindow)
+//	stageSolidus → stageArrest  T' rises beyond the hysteresis after a eutectic
+//	                            that did not recalesce: it was a shoulder (reopen,
+//	                            shoulderPassed)
+//	stageSolidus → stageDone    the end of freezing settles (solidus)
+//	any → stageDone             too noisy to trust (detect)
+type stage uint8
 
 const (
-	subValley = iota
-	subRise
-	subPos
+	stagePour    stage = iota // looking for the pour peak
+	stageArrest               // looking for the next arrest (phase says where in it)
+	stageSolidus              // the eutectic found: looking for the end of freezing
+	stageDone                 // nothing more to find
 )
 
-// Analyze is the package-level Analyze reusing the Analyzer's work space.
+// phase is where the arrest search is within one arrest. Its transitions
+// (arrestStep, with quietRun skipping the readings that change nothing):
+//
+//	phaseValley → phaseRise  T' rises max(p, promShare·|T'min|) above its minimum
+//	phaseValley, phaseRise → phasePos
+//	                         T' passes +h: a recalescence
+//	phaseRise → settled      T' falls max(p, fallShare·|T'min|) below its maximum
+//	phasePos → settled       after the + → − crossing, T' < −h or T has fallen
+//	                         max(dropFloor, 6σ_T) below the maximum
+//
+// A settled arrest is classified at once, or held (heldArrest, settle)
+// while its kind hangs on a length not yet seen.
+type phase uint8
+
+const (
+	phaseValley phase = iota // T' falling to the minimum before an arrest
+	phaseRise                // T' rising into an arrest, below +h
+	phasePos                 // T' has passed +h: recalescing
+)
+
+// Analyze is Extend, under the name the sample tracker's analyser
+// interface uses.
+func (a *Analyzer) Analyze(t, temp []float64, opt Options) Result { return a.Extend(t, temp, opt) }
+
+// Extend analyses the curve t (s), temp (°C) of the previous call grown by
+// the readings after those it was given then (which must be the first of
+// these, unchanged: call Reset for another curve), or the first curve after
+// Reset. Only the new readings are processed. With opt.Live the problems
+// only the end of a recording establishes are left out (see Options).
 // Result.Problems may share storage with the Analyzer; the elements already
 // returned are never changed.
-func (a *Analyzer) Analyze(t, temp []float64, opt Options) Result {
+func (a *Analyzer) Extend(t, temp []float64, opt Options) Result {
 	if len(temp) < len(t) {
 		t = t[:len(temp)]
 	}
 	live := opt.Live
 	opt.Live = false
-	if !a.ready || opt != a.opt || len(t) < a.nIn || a.nIn > 0 && (t[0] != a.first || !same(temp[a.nIn/2], a.mid) || t[a.nIn-1] != a.lastT || !same(temp[a.nIn-1], a.lastV)) {
+	if !a.ready || opt != a.opt || len(t) < a.nIn {
 		a.reset(opt, len(t))
 	}
 	// The readings are taken ingestStep at a time and analysed as they
@@ -409,12 +477,9 @@ func (a *Analyzer) run() {
 	}
 }
 
-// Reset makes the next call start afresh. Analyze notices a different
-// curve by its first, middle and last readings; call Reset when a different
-// curve could agree with the previous one in those.
+// Reset starts a new curve: the next Extend takes its readings from the
+// first.
 func (a *Analyzer) Reset() { a.ready = false }
-
-func same(a, b float64) bool { return a == b || math.IsNaN(a) && math.IsNaN(b) }
 
 func (a *Analyzer) reset(opt Options, n int) {
 	r := a.reserve
@@ -544,9 +609,6 @@ func (a *Analyzer) ingest(t, temp []float64) {
 	if a.own {
 		a.tsBuf, a.rawBuf = ts, raw
 	}
-	if n := len(t); n > 0 {
-		a.first, a.mid, a.lastT, a.lastV = t[0], temp[n/2], t[n-1], temp[n-1]
-	}
 }
 
 // inOrder is the number of leading times of t that increase strictly from
@@ -588,7 +650,6 @@ func (a *Analyzer) setRate() {
 	a.ws = curve.WindowSamples(h.SmoothS, a.rate, 2, 5)
 	a.wd = curve.WindowSamples(h.SlopeS, a.rate, 2, 5)
 	a.ks, a.kd = curve.SavGol(a.ws, 2, 0), curve.SavGol(a.wd, 2, 1)
-	a.sld.Reset(a.wd / 2)
 	a.gainS = a.ks.NoiseGain()
 	a.gainD = a.kd.NoiseGain() / a.dt
 	a.block = max(16, int(math.Round(2*a.rate)))
@@ -758,9 +819,17 @@ func (a *Analyzer) filter(upto int) {
 		d = append(d, math.NaN())
 	}
 	if j := len(d); j+hm < len(x) {
-		d = a.sld.AppendSlopes(d, x, j, len(x)-hm, 1/a.dt)
+		d = a.appendSlopes(d, a.kd, j, len(x)-hm)
 	}
 	a.d = d
+}
+
+// appendSlopes appends to dst the first derivative of the despiked
+// readings by kernel k (quadratic Savitzky–Golay, curve.SavGol(w, 2, 1)) at
+// samples from … to−1, °C/s; every one of them must have its whole window
+// (from ≥ w/2, to−1+w/2 < len(a.x)).
+func (a *Analyzer) appendSlopes(dst []float64, k *curve.Kernel, from, to int) []float64 {
+	return k.AppendGrowing(dst, a.x, from, to, a.dt)
 }
 
 // crossing interpolates the zero crossing of T' between indices k and k+1.
@@ -874,7 +943,11 @@ func (a *Analyzer) detect() {
 			need := max(p, math.Abs(e.res.CoolingRateCps)/3)
 			dmin, dminI := e.dmin, e.dminI
 			dd, ts, confirm := a.d[:end], a.ts, a.h.ConfirmS
-			back := false
+			floor := math.Inf(-1) // see noDistinctEnd
+			if w := a.h.Eutectic; !w.Open() {
+				floor = w.LoC - belowWindowC
+			}
+			back, below := false, false
 			for ; j < end; j++ {
 				v := dd[j]
 				if v < dmin {
@@ -886,6 +959,9 @@ func (a *Analyzer) detect() {
 				if e.eutRefD-dmin >= need && ts[j]-ts[dminI] >= confirm {
 					break
 				}
+				if below = a.x[j] < floor && e.eutRefD-dmin < need; below {
+					break
+				}
 			}
 			e.dmin, e.dminI = dmin, dminI
 			if j == end {
@@ -893,8 +969,12 @@ func (a *Analyzer) detect() {
 				continue
 			}
 			e.j = j
-			if back {
+			switch {
+			case back:
 				a.reopen(j, dd[j])
+				continue
+			case below:
+				a.noDistinctEnd(j)
 				continue
 			}
 			a.solidus()
@@ -913,7 +993,7 @@ func (a *Analyzer) quietRun(j, end int, h, p float64) int {
 	e := &a.det
 	d := a.d[:end]
 	switch e.sub {
-	case subValley:
+	case phaseValley:
 		dmin, dminI := e.dmin, e.dminI
 		rise := dmin + max(p, promShare*math.Abs(dmin))
 		for ; j < end; j++ {
@@ -927,7 +1007,7 @@ func (a *Analyzer) quietRun(j, end int, h, p float64) int {
 			}
 		}
 		e.dmin, e.dminI = dmin, dminI
-	case subRise:
+	case phaseRise:
 		dmax, dmaxI := e.dmax, e.dmaxI
 		fall := dmax - max(p, fallShare*math.Abs(e.dmin))
 		for ; j < end; j++ {
@@ -941,7 +1021,7 @@ func (a *Analyzer) quietRun(j, end int, h, p float64) int {
 			}
 		}
 		e.dmax, e.dmaxI = dmax, dmaxI
-	case subPos:
+	case phasePos:
 		if !e.minShown || e.cand >= 0 {
 			return j
 		}
@@ -964,7 +1044,7 @@ func (a *Analyzer) quietRun(j, end int, h, p float64) int {
 }
 
 func (e *detector) startArrest(j int, d float64) {
-	e.sub, e.start = subValley, j
+	e.sub, e.start = phaseValley, j
 	e.dmin, e.dminI = d, j
 	e.cand = -1
 }
@@ -972,8 +1052,8 @@ func (e *detector) startArrest(j int, d float64) {
 func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 	e := &a.det
 	switch e.sub {
-	case subValley, subRise:
-		if e.sub == subValley {
+	case phaseValley, phaseRise:
+		if e.sub == phaseValley {
 			if d < e.dmin {
 				e.dmin, e.dminI = d, j
 			}
@@ -991,7 +1071,7 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 			} else {
 				e.minPt = a.crossing(k)
 			}
-			e.sub, e.lastAbove, e.cand = subPos, j, -1
+			e.sub, e.lastAbove, e.cand = phasePos, j, -1
 			e.dmax, e.dmaxI = d, j
 			e.riseI = a.riseStart(e.dmin/2, j)
 			e.minShown = false
@@ -1000,15 +1080,15 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 		}
 		// the rise into an arrest must also stand out against the cooling
 		// rate before it; the fall after it only against the noise
-		if e.sub == subValley && d > e.dmin+max(p, promShare*math.Abs(e.dmin)) {
-			e.sub, e.dmax, e.dmaxI = subRise, d, j
+		if e.sub == phaseValley && d > e.dmin+max(p, promShare*math.Abs(e.dmin)) {
+			e.sub, e.dmax, e.dmaxI = phaseRise, d, j
 			return
 		}
-		if e.sub == subRise && d < e.dmax-max(p, fallShare*math.Abs(e.dmin)) {
+		if e.sub == phaseRise && d < e.dmax-max(p, fallShare*math.Abs(e.dmin)) {
 			pt := a.extremum(e.dmaxI)
 			a.settle(j, pt, pt, false, p)
 		}
-	case subPos:
+	case phasePos:
 		if d > e.dmax {
 			e.dmax, e.dmaxI = d, j
 		}
@@ -1103,7 +1183,7 @@ func (a *Analyzer) shortArrest() float64 { return 3 * a.h.SlopeS }
 // negative is short however slowly it passes).
 func (a *Analyzer) arrestSpan(recal bool, p float64) (from int, ok bool) {
 	e := &a.det
-	if recal && e.sub == subPos {
+	if recal && e.sub == phasePos {
 		return e.riseI, true
 	}
 	peak := a.d[e.dmaxI]
@@ -1224,6 +1304,7 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 	// (shoulderPassed): provisional until the end of freezing settles
 	lo.Provisional, hi.Provisional = !recal, !recal
 	r.EutecticMin, r.EutecticMax = lo, hi
+	r.EutecticStart = a.eutecticStart(lo)
 	r.Recalescence, r.RecalescenceOK = hi.TempC-lo.TempC, true
 	if !recal {
 		r.Recalescence = 0
@@ -1235,6 +1316,67 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 	e.eutI, e.eutRecal = j, recal
 	e.stage = stageSolidus
 	e.dmin, e.dminI = a.d[j], j
+}
+
+// eutecticStart is the start of eutectic freezing before the eutectic
+// minimum lo: T at the largest T″ on the rise of T' into the eutectic
+// arrest, searched from the last local minimum of T' before lo (a minimum
+// by the hysteresis h, so that noise makes none) to lo; T″ is the central
+// difference of T' over half a T' window. Where T″ still rises at the
+// minimum, the start is the minimum itself. The definition
+// (docs/analysis.md) is that of computer-aided cooling-curve analysis: the
+// inflection where the first latent heat of the eutectic slows the
+// cooling, the maximum of d²T/dt² before the arrest.
+func (a *Analyzer) eutecticStart(lo Point) Point {
+	e, _ := slices.BinarySearch(a.ts, lo.TimeS)
+	e = min(e, len(a.d)-1)
+	step := max(1, a.wd/4)
+	h := max(slopeFloor, 4*a.sigma(e)*a.gainD)
+	// the last local minimum of T' before the eutectic minimum
+	m := e
+	for k := e - 1; k > max(a.det.start, step); k-- {
+		if a.d[k] < a.d[m] {
+			m = k
+		}
+		if a.d[k] > a.d[m]+h {
+			break
+		}
+	}
+	dd := func(i int) float64 { return a.d[i+step] - a.d[i-step] }
+	best, bi := math.Inf(-1), -1
+	for i := max(m, step+1); i <= e && i+step+1 < len(a.d); i++ {
+		if v := dd(i); v > best {
+			best, bi = v, i
+		}
+	}
+	if bi < 0 {
+		return Point{}
+	}
+	pt := a.at(bi)
+	if bi > m && bi < e {
+		pt = a.vertex(bi, dd(bi-1), best, dd(bi+1))
+	}
+	if pt.TimeS > lo.TimeS || bi == e {
+		pt = lo // T″ still rising at the minimum
+	}
+	pt.Provisional = lo.Provisional
+	return pt
+}
+
+// noDistinctEnd ends the analysis at index j, where the curve has cooled
+// belowWindowC below the bottom of the alloy's eutectic window without the
+// dip in T' that settles the end of freezing (a dip deep enough but not
+// yet confirmed still waits for its confirmation) (a weak eutectic, as in an
+// alloy with little of it, freezes out without one): the end of freezing
+// stays null, and a problem, not fatal, says why; the recording did not
+// end early.
+func (a *Analyzer) noDistinctEnd(j int) {
+	e := &a.det
+	a.problem(j, CodeNoEnd, fmt.Sprintf("no distinct end of freezing: the curve cooled to %.0f °C, below the alloy's eutectic window, without the dip in dT/dt that marks it; the end of freezing and the freezing times are left out", a.x[j]), false)
+	e.res.EutecticStart.Provisional, e.res.EutecticMin.Provisional, e.res.EutecticMax.Provisional = false, false, false
+	e.res.Complete = true
+	e.stage = stageDone
+	a.limit = a.xAvail(j) + 2
 }
 
 // outsideWindow ends the analysis at index j on an arrest taken for the
@@ -1278,9 +1420,9 @@ func (a *Analyzer) shoulderPassed(v, dmin, h, p float64) bool {
 func (a *Analyzer) reopen(j int, d float64) {
 	e := &a.det
 	r := &e.res
-	r.EutecticMin, r.EutecticMax = Point{}, Point{}
+	r.EutecticStart, r.EutecticMin, r.EutecticMax = Point{}, Point{}, Point{}
 	r.Recalescence, r.RecalescenceOK = 0, false
-	e.stage, e.sub, e.start = stageArrest, subRise, e.eutI
+	e.stage, e.sub, e.start = stageArrest, phaseRise, e.eutI
 	e.dmax, e.dmaxI, e.cand = d, j, -1
 	a.arrestStep(j, d, max(slopeFloor, 4*a.sigma(j)*a.gainD), max(promFloor, 8*a.sigma(j)*a.gainD))
 }
@@ -1290,7 +1432,7 @@ func (a *Analyzer) reopen(j int, d float64) {
 // to its value at the first arrest, °C/s.
 func (a *Analyzer) coolingRate(e *detector) float64 {
 	peak := e.dmax
-	if e.sub == subPos {
+	if e.sub == phasePos {
 		peak = 0
 	}
 	half := (e.dmin + peak) / 2
@@ -1334,14 +1476,9 @@ func (a *Analyzer) refineMax(lo, j, fallback int, firstReach bool) (Point, Point
 		p := a.extremum(fallback)
 		return p, p, false
 	}
-	a.sll.Reset(h)
-	if need := hi - lo + 1; cap(a.dl) < need {
-		a.dl = make([]float64, 0, max(need, 2*cap(a.dl)))
-	}
-	dl := a.sll.AppendSlopes(a.dl[:0], a.x, lo, hi+1, 1)
+	dl := a.appendSlopes(a.dl[:0], curve.SavGol(w, 2, 1), lo, hi+1)
 	best, bi := math.Inf(-1), lo
 	for k := range dl {
-		dl[k] /= a.dt
 		if dl[k] > best {
 			best, bi = dl[k], lo+k
 		}
@@ -1395,11 +1532,16 @@ func (a *Analyzer) levelPoint(k int, v0, v1, level float64) Point {
 }
 
 // solidusPoint places the end of freezing at the most negative T' (found
-// at sample i, settled at j), located again on a derivative window half as
-// long (Hints.SlopeS/2) unless the noise of that derivative exceeds
-// shortShare of the depth of the dip: the drop into the end of freezing is sharp and the
+// at sample i, settled at j), located again on the window solidusWindow
+// picks (half the T' window or shorter, as sharp as the dip and its noise
+// allow; the steepest step between two readings for a cliff too sharp for
+// five, steepestStep): the drop into the end of freezing is sharp and the
 // relaxation after it slow, and a long window would move the minimum toward
-// the slow side. On a noisy curve the bottom of the dip is the run of
+// the slow side. The search starts where T' first came within
+// max(3σ_T', flatShare·|T'min|) of its minimum, so that on a flat-bottomed
+// dip (T' reaching the solid's cooling rate and staying there) the point
+// is where the bottom is first reached, not wherever noise puts its lowest
+// sample. On a noisy curve the bottom of the dip is the run of
 // samples within 2σ of the minimum, from the first sample that reaches that
 // level to the last of the unbroken run after the minimum, and the point is
 // the middle of that run (between interpolated level crossings), steadier
@@ -1419,17 +1561,17 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 		k--
 	}
 	lo, hi := max(k-a.wd/2, h, a.det.eutI), min(j, a.xAvail(j)-h)
+	if w == 5 {
+		if pt, ok := a.steepestStep(i, j, lo, hi); ok {
+			return pt
+		}
+	}
 	if lo+2 > hi {
 		return a.extremum(i)
 	}
-	a.sll.Reset(h)
-	if need := hi - lo + 1; cap(a.dl) < need {
-		a.dl = make([]float64, 0, max(need, 2*cap(a.dl)))
-	}
-	ds := a.sll.AppendSlopes(a.dl[:0], a.x, lo, hi+1, 1)
+	ds := a.appendSlopes(a.dl[:0], curve.SavGol(w, 2, 1), lo, hi+1)
 	m := lo
 	for k := range ds {
-		ds[k] /= a.dt
 		if ds[k] < ds[m-lo] {
 			m = lo + k
 		}
@@ -1466,6 +1608,30 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 	k = int(math.Floor(mid))
 	f := mid - float64(k)
 	return Point{TempC: a.sm(k) + f*(a.sm(k+1)-a.sm(k)), TimeS: a.ts[k] + f*(a.ts[k+1]-a.ts[k]), OK: true}
+}
+
+// steepestStep places an end of freezing too sharp even for a 5-sample
+// window (a strong gradient's centre logged at a few readings a second
+// drops 10–25 °C between two readings) between the two readings of the
+// steepest step among lo … hi: at the middle of that step, T their mean. It
+// does so only where the steps' own noise, σ·√2 per interval, is at most
+// stepShare of the step's slope (a neighbouring step the noise may pick
+// instead lies on the same cliff) and the step is sharpGain times steeper
+// than the 5-sample T' there; ok false otherwise.
+func (a *Analyzer) steepestStep(i, j, lo, hi int) (Point, bool) {
+	if lo+2 > hi {
+		return Point{}, false
+	}
+	best, bk := 0.0, -1
+	for k := lo; k < hi; k++ {
+		if v := (a.x[k+1] - a.x[k]) / (a.ts[k+1] - a.ts[k]); v < best {
+			best, bk = v, k
+		}
+	}
+	if bk < 0 || math.Sqrt2*a.sigma(j)/a.dt > stepShare*-best || -best < sharpGain*a.dipDepth(5, i, j) {
+		return Point{}, false
+	}
+	return Point{TempC: (a.x[bk] + a.x[bk+1]) / 2, TimeS: (a.ts[bk] + a.ts[bk+1]) / 2, OK: true}, true
 }
 
 // solidusWindow is the T' window, samples, the end of freezing (the most
@@ -1507,8 +1673,7 @@ func (a *Analyzer) dipDepth(w, i, j int) float64 {
 	if lo > hi {
 		return math.Abs(a.d[i])
 	}
-	a.sll.Reset(h)
-	a.dl = a.sll.AppendSlopes(a.dl[:0], a.x, lo, hi+1, 1/a.dt)
+	a.dl = a.appendSlopes(a.dl[:0], curve.SavGol(w, 2, 1), lo, hi+1)
 	m := math.Inf(1)
 	for _, v := range a.dl {
 		m = min(m, v)
@@ -1523,7 +1688,7 @@ func (a *Analyzer) solidus() {
 	e := &a.det
 	r := &e.res
 	r.Solidus = a.solidusPoint(e.dminI, e.j)
-	r.EutecticMin.Provisional, r.EutecticMax.Provisional = false, false
+	r.EutecticStart.Provisional, r.EutecticMin.Provisional, r.EutecticMax.Provisional = false, false, false
 	// end of the plateau: where T' has fallen halfway from the eutectic's
 	// value to its minimum
 	half := (e.eutRefD + e.dmin) / 2
@@ -1559,7 +1724,7 @@ func (a *Analyzer) solidus() {
 // live sample that goes on is analysed as before.
 func (a *Analyzer) cutPlateau() (Result, bool) {
 	e := &a.det
-	if e.stage != stageArrest || len(a.d) == 0 || e.j < len(a.d) || !(e.hold.on || e.sub == subRise || e.sub == subPos && e.cand >= 0) {
+	if e.stage != stageArrest || len(a.d) == 0 || e.j < len(a.d) || !(e.hold.on || e.sub == phaseRise || e.sub == phasePos && e.cand >= 0) {
 		return Result{}, false
 	}
 	j := len(a.d) - 1
@@ -1573,9 +1738,9 @@ func (a *Analyzer) cutPlateau() (Result, bool) {
 		}
 		e.hold = heldArrest{}
 		a.arrest(j, hd.lo, hd.hi, hd.recal, true)
-	case !a.longArrest(j, e.sub == subPos, p):
+	case !a.longArrest(j, e.sub == phasePos, p):
 		return Result{}, false
-	case e.sub == subRise:
+	case e.sub == phaseRise:
 		pt := a.extremum(e.dmaxI)
 		a.arrest(j, pt, pt, false, true)
 	default:

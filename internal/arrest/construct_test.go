@@ -13,7 +13,7 @@ import (
 // closed form: ∫₀¹ S = 1/2 and ∫₀ᵘ S = u³ − u⁴/2. Time 0 is the pour peak;
 // before it the reading sits at 25 °C and rises to the peak over 3 s along
 // the same smoothstep. The true points follow from the definitions in
-// design.md applied to this exact T' (see truth), independently of the
+// docs/analysis.md applied to this exact T' (see truth), independently of the
 // detector.
 
 type knot struct{ t, v float64 } // T' = v °C/s at t s after the pour peak
@@ -98,7 +98,7 @@ func (sh *shape) zero(a, b float64) float64 {
 	return (a + b) / 2
 }
 
-// truth applies the definitions of design.md to the exact curve.
+// truth applies the definitions of docs/analysis.md to the exact curve.
 func (sh *shape) truth() Result {
 	var r Result
 	pt := func(t float64) Point { return Point{TempC: sh.temp(t), TimeS: t, OK: true} }

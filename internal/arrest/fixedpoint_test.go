@@ -10,7 +10,7 @@ import (
 
 // ITS-90 freezing points, °C: Preston-Thomas, "The International
 // Temperature Scale of 1990 (ITS-90)", Metrologia 27 (1990) 3, Table 1
-// (source; also restated in the project's field notes).
+// (source).
 const (
 	its90AlC = 660.323 // aluminium freezing point
 	its90ZnC = 419.527 // zinc freezing point

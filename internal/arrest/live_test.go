@@ -86,23 +86,36 @@ func TestLiveSettledPointsNeverChange(t *testing.T) {
 	}
 }
 
-// The Analyzer starts afresh when the slice is not the previous one grown.
-func TestAnalyzerRestartsOnNewCurve(t *testing.T) {
+// Reset starts a new curve, and an Analyzer reused for it answers as a
+// fresh one; so it does, without Reset, for other options or a curve
+// shorter than the one it has seen.
+func TestAnalyzerResetStartsANewCurve(t *testing.T) {
 	sh := shapes()
 	t1, v1 := sh[0].sample(sampling{rate: 10, noise: 0.1, seed: 1})
 	t2, v2 := sh[4].sample(sampling{rate: 10, noise: 0.1, seed: 2})
 	var a Analyzer
-	a.Analyze(t1, v1, Options{Family: sh[0].family})
-	got := a.Analyze(t2, v2, Options{Family: sh[4].family})
+	a.Extend(t1, v1, Options{Family: sh[0].family})
+	a.Reset()
+	got := a.Extend(t2, v2, Options{Family: sh[4].family})
 	if want := Analyze(t2, v2, Options{Family: sh[4].family}); !reflect.DeepEqual(got, want) {
 		t.Fatalf("reused Analyzer differs from a fresh one:\n%+v\n%+v", got, want)
 	}
-	// same length, one earlier reading changed
+	// the same length, one earlier reading changed: a new curve, said so
 	v3 := append([]float64(nil), v2...)
-	v3[len(v3)/2] += 0.5 // the middle reading is among those compared
-	got = a.Analyze(t2, v3, Options{Family: sh[4].family})
+	v3[len(v3)/2] += 0.5
+	a.Reset()
+	got = a.Extend(t2, v3, Options{Family: sh[4].family})
 	if want := Analyze(t2, v3, Options{Family: sh[4].family}); !reflect.DeepEqual(got, want) {
-		t.Fatalf("changed reading not picked up")
+		t.Fatalf("changed reading not picked up after Reset")
+	}
+	// other options, and a shorter curve, start afresh by themselves
+	got = a.Extend(t2, v3, Options{Family: sh[0].family})
+	if want := Analyze(t2, v3, Options{Family: sh[0].family}); !reflect.DeepEqual(got, want) {
+		t.Fatalf("new options did not start afresh")
+	}
+	got = a.Extend(t1[:500], v1[:500], Options{Family: sh[0].family})
+	if want := Analyze(t1[:500], v1[:500], Options{Family: sh[0].family}); !reflect.DeepEqual(got, want) {
+		t.Fatalf("a shorter curve did not start afresh")
 	}
 }
 

@@ -1,6 +1,7 @@
 // Package arrest finds the characteristic points of a thermal-analysis cup
 // curve: pour peak, liquidus arrest, eutectic minimum and maximum,
-// recalescence and end of freezing (definitions in DEVELOPERS.md).
+// recalescence, start of eutectic freezing and end of freezing
+// (definitions in docs/analysis.md).
 //
 // The package is pure: slices of seconds and degrees Celsius in, a Result
 // out. It never touches a file, port, clock or terminal, so the same call
@@ -57,9 +58,12 @@ type Result struct {
 	PourPeak    Point // highest reading of the pour transient
 	LiquidusMin Point // primary undercooling minimum (only when the primary arrest recalesces)
 	Liquidus    Point // liquidus arrest (growth temperature when it recalesces)
-	EutecticMin Point // undercooled eutectic
-	EutecticMax Point // eutectic maximum after recalescence
-	Solidus     Point // end of freezing
+	// EutecticStart is the start of eutectic freezing: T at the largest
+	// T″ on the rise of T' into the eutectic arrest (docs/analysis.md).
+	EutecticStart Point
+	EutecticMin   Point // undercooled eutectic
+	EutecticMax   Point // eutectic maximum after recalescence
+	Solidus       Point // end of freezing
 
 	// Recalescence is EutecticMax − EutecticMin, 0 where there is none;
 	// valid only when RecalescenceOK.
@@ -95,7 +99,7 @@ func (r *Result) Invalid() bool {
 
 // confirm clears every point's Provisional mark.
 func (r *Result) confirm() {
-	for _, p := range []*Point{&r.PourPeak, &r.LiquidusMin, &r.Liquidus, &r.EutecticMin, &r.EutecticMax, &r.Solidus} {
+	for _, p := range []*Point{&r.PourPeak, &r.LiquidusMin, &r.Liquidus, &r.EutecticStart, &r.EutecticMin, &r.EutecticMax, &r.Solidus} {
 		p.Provisional = false
 	}
 }

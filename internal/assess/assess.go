@@ -35,12 +35,16 @@ type Record struct {
 	Samples int     `json:"samples"`
 	RateHz  float64 `json:"rate_hz"`
 
-	PourPeakC      *float64 `json:"pour_peak_c"`
-	PourPeakS      *float64 `json:"pour_peak_s"`
-	LiquidusMinC   *float64 `json:"liquidus_min_c"`
-	LiquidusMinS   *float64 `json:"liquidus_min_s"`
-	LiquidusC      *float64 `json:"liquidus_c"`
-	LiquidusS      *float64 `json:"liquidus_s"`
+	PourPeakC    *float64 `json:"pour_peak_c"`
+	PourPeakS    *float64 `json:"pour_peak_s"`
+	LiquidusMinC *float64 `json:"liquidus_min_c"`
+	LiquidusMinS *float64 `json:"liquidus_min_s"`
+	LiquidusC    *float64 `json:"liquidus_c"`
+	LiquidusS    *float64 `json:"liquidus_s"`
+	// EutecticStartC, EutecticStartS: the start of eutectic freezing
+	// (docs/analysis.md), null where not found.
+	EutecticStartC *float64 `json:"eutectic_start_c"`
+	EutecticStartS *float64 `json:"eutectic_start_s"`
 	EutecticMinC   *float64 `json:"eutectic_min_c"`
 	EutecticMinS   *float64 `json:"eutectic_min_s"`
 	EutecticMaxC   *float64 `json:"eutectic_max_c"`
@@ -289,6 +293,7 @@ func fromResult(s sample, res arrest.Result) Record {
 	r.PourPeakC, r.PourPeakS = point(res.PourPeak)
 	r.LiquidusMinC, r.LiquidusMinS = point(res.LiquidusMin)
 	r.LiquidusC, r.LiquidusS = point(res.Liquidus)
+	r.EutecticStartC, r.EutecticStartS = point(res.EutecticStart)
 	r.EutecticMinC, r.EutecticMinS = point(res.EutecticMin)
 	r.EutecticMaxC, r.EutecticMaxS = point(res.EutecticMax)
 	r.SolidusC, r.SolidusS = point(res.Solidus)

@@ -255,7 +255,8 @@ func pointsOf(r Record) arrest.Result {
 	}
 	return arrest.Result{
 		PourPeak: p(r.PourPeakC, r.PourPeakS), LiquidusMin: p(r.LiquidusMinC, r.LiquidusMinS), Liquidus: p(r.LiquidusC, r.LiquidusS),
-		EutecticMin: p(r.EutecticMinC, r.EutecticMinS), EutecticMax: p(r.EutecticMaxC, r.EutecticMaxS), Solidus: p(r.SolidusC, r.SolidusS),
+		EutecticStart: p(r.EutecticStartC, r.EutecticStartS),
+		EutecticMin:   p(r.EutecticMinC, r.EutecticMinS), EutecticMax: p(r.EutecticMaxC, r.EutecticMaxS), Solidus: p(r.SolidusC, r.SolidusS),
 	}
 }
 

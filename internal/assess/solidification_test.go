@@ -46,8 +46,12 @@ func TestSolidificationOneThermocouple(t *testing.T) {
 	if rec.FSAtEutecticMin != nil && rec.FSAtEutecticMax != nil && *rec.FSAtEutecticMax < *rec.FSAtEutecticMin {
 		t.Errorf("fs falls from %g at the eutectic minimum to %g at its maximum", *rec.FSAtEutecticMin, *rec.FSAtEutecticMax)
 	}
-	if rec.LatentHeatFourierJPerKg != nil || rec.CoherencyC != nil || rec.FSAtCoherency != nil || rec.FSAtEutecticStart != nil {
-		t.Errorf("two-thermocouple figures from one thermocouple: %v %v %v; eutectic start %v", rec.LatentHeatFourierJPerKg, rec.CoherencyC, rec.FSAtCoherency, rec.FSAtEutecticStart)
+	if rec.LatentHeatFourierJPerKg != nil || rec.CoherencyC != nil || rec.FSAtCoherency != nil {
+		t.Errorf("two-thermocouple figures from one thermocouple: %v %v %v", rec.LatentHeatFourierJPerKg, rec.CoherencyC, rec.FSAtCoherency)
+	}
+	// the eutectic start comes before the minimum: fs no higher there
+	if rec.FSAtEutecticStart == nil || rec.FSAtEutecticMin == nil || *rec.FSAtEutecticStart > *rec.FSAtEutecticMin {
+		t.Errorf("fs at the eutectic start %v, at the minimum %v: want both, the start no higher", rec.FSAtEutecticStart, rec.FSAtEutecticMin)
 	}
 	// The path behind the figures, worked out again from the curve and the
 	// record, gives the same fs (at the record's resolution, round.go).

@@ -236,6 +236,21 @@ func (k *Kernel) AtGrowing(x []float64, i int, dt float64) float64 {
 	return v / math.Pow(dt, float64(k.Deriv))
 }
 
+// AppendGrowing appends AtGrowing(x, i, dt) for i = from … to−1 to dst and
+// returns it (x must reach to−1+Window/2).
+func (k *Kernel) AppendGrowing(dst, x []float64, from, to int, dt float64) []float64 {
+	inv := 1 / math.Pow(dt, float64(k.Deriv))
+	h, c := k.half, k.rows[k.half]
+	for i := from; i < to; i++ {
+		if i < h {
+			dst = append(dst, dot(k.rows[i], x[:k.Window])*inv)
+			continue
+		}
+		dst = append(dst, dot(c, x[i-h:i+h+1])*inv)
+	}
+	return dst
+}
+
 // Apply filters x, sampled every dt seconds, into dst and returns it (nil
 // allocates; dst may not alias x). Outputs are in the units of x per
 // s^Deriv. It panics if x is shorter than the window or dst is too short.

@@ -106,31 +106,6 @@ func TestKernelAtMatchesApply(t *testing.T) {
 	}
 }
 
-// The running-sum filter agrees with the convolution kernels of the same
-// window to 1e-9 °C (and °C per sample).
-func TestSlidingMatchesKernel(t *testing.T) {
-	x := constructedCurve(5000, 10, 0.3, 3)
-	for _, half := range []int{2, 5, 20, 100} {
-		w := 2*half + 1
-		ks, kd := SavGol(w, 2, 0), SavGol(w, 2, 1)
-		var s, d Sliding
-		s.Reset(half)
-		d.Reset(half)
-		for c := half; c < len(x)-half; c++ {
-			sm, sl := s.At(x, c)
-			if e := math.Abs(sm - ks.At(x, c, 1)); e > 1e-9 {
-				t.Fatalf("half %d c %d: smooth off by %g", half, c, e)
-			}
-			if e := math.Abs(sl - kd.At(x, c, 1)); e > 1e-9 {
-				t.Fatalf("half %d c %d: slope off by %g", half, c, e)
-			}
-			if e := math.Abs(d.SlopeAt(x, c) - kd.At(x, c, 1)); e > 1e-9 {
-				t.Fatalf("half %d c %d: SlopeAt off by %g", half, c, e)
-			}
-		}
-	}
-}
-
 // constructedCurve is a constructed cooling curve (not measured): an
 // exponential fall from 1350 °C with a bump, white noise of sd °C, n samples
 // at rate Hz.
@@ -159,30 +134,19 @@ func TestWindowSamples(t *testing.T) {
 	}
 }
 
-// AppendSlopes gives SlopeAt in a loop times the scale, bit for bit, in
-// pieces of any length (across the re-anchoring every 128 centres) and
-// after a jump of the centre.
-func TestAppendSlopesIsSlopeAt(t *testing.T) {
+// AppendGrowing gives AtGrowing in a loop, bit for bit, at the start edge
+// and in the interior.
+func TestAppendGrowingIsAtGrowing(t *testing.T) {
 	x := constructedCurve(2000, 10, 0.3, 21)
-	r := rand.New(rand.NewPCG(3, 4))
-	for _, half := range []int{2, 10, 20} {
-		var one, run Sliding
-		one.Reset(half)
-		run.Reset(half)
-		var want, got []float64
-		for c := half; c < len(x)-half; {
-			to := min(len(x)-half, c+1+r.IntN(300))
-			for k := c; k < to; k++ {
-				want = append(want, one.SlopeAt(x, k)*0.1)
-			}
-			got = run.AppendSlopes(got, x, c, to, 0.1)
-			c = to
-			if r.IntN(5) == 0 {
-				c = min(len(x)-half, c+r.IntN(40)) // skip some centres
-			}
+	for _, w := range []int{5, 21, 41} {
+		k := SavGol(w, 2, 1)
+		var want []float64
+		for c := 0; c < len(x)-w/2; c++ {
+			want = append(want, k.AtGrowing(x, c, 0.1))
 		}
+		got := k.AppendGrowing(nil, x, 0, len(x)-w/2, 0.1)
 		if !slices.Equal(got, want) {
-			t.Fatalf("half %d: AppendSlopes differs from SlopeAt", half)
+			t.Fatalf("window %d: AppendGrowing differs from AtGrowing", w)
 		}
 	}
 }

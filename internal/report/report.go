@@ -358,6 +358,7 @@ func marks(rec assess.Record) []mark {
 		{"pour peak", rec.PourPeakS, rec.PourPeakC, true},
 		{"liquidus min", rec.LiquidusMinS, rec.LiquidusMinC, false},
 		{"liquidus", rec.LiquidusS, rec.LiquidusC, true},
+		{"eutectic start", rec.EutecticStartS, rec.EutecticStartC, true},
 		{"eutectic min", rec.EutecticMinS, rec.EutecticMinC, false},
 		{"eutectic max", rec.EutecticMaxS, rec.EutecticMaxC, true},
 		{"end of freezing", rec.SolidusS, rec.SolidusC, false},

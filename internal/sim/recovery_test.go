@@ -28,10 +28,13 @@ import (
 
 const recoveryCases = 240
 
-// radialEnforced says the radial cups' checks fail the test; until the
-// detector picks each arrest by what it is (issue 12) they are measured
-// and logged only.
-const radialEnforced = false
+// radialBudget is how many checks on the radial cups may lie outside
+// their tolerances: the count measured when the detector learnt to pick
+// each arrest by what it is (issue 12; 176 before), so that the suite
+// fails on any regression while the rest are worked off. They are listed
+// with -v; docs/analysis.md ("Accuracy on simulated cups") says what they
+// are.
+const radialBudget = 27
 
 // recoveryAlloys are the alloys the suite draws from.
 var recoveryAlloys = []string{GreyIron, DuctileIron, AlSi7Mg, WhiteIron, PureAl, PureZn}
@@ -161,6 +164,8 @@ func recoveryChecks() []*pointCheck {
 			got: func(r *arrest.Result) (float64, bool) { return r.LiquidusMin.TempC, r.LiquidusMin.OK }},
 		{name: "liquidus", tol: 1.5, truth: func(t *Truth) (float64, bool) { return t.Liquidus.TempC, t.Liquidus.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.Liquidus.TempC, r.Liquidus.OK }},
+		{name: "eutectic_start", truth: func(t *Truth) (float64, bool) { return t.EutecticStart.TempC, t.EutecticStart.OK },
+			got: func(r *arrest.Result) (float64, bool) { return r.EutecticStart.TempC, r.EutecticStart.OK }},
 		{name: "eutectic_min", tol: 0.6, truth: func(t *Truth) (float64, bool) { return t.EutecticMin.TempC, t.EutecticMin.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.EutecticMin.TempC, r.EutecticMin.OK }},
 		{name: "eutectic_max", tol: 0.6, truth: func(t *Truth) (float64, bool) { return t.EutecticMax.TempC, t.EutecticMax.OK },
@@ -231,8 +236,11 @@ func TestRecoveryOfSimulatedTruth(t *testing.T) {
 				}
 			}
 			logErrors(t, fmt.Sprintf("%d SIMULATED %s cups (%d cut short by a fault)", n, kind.name, faults), checks)
-			if len(failures) > 0 && kind.name == "radial" && !radialEnforced {
-				t.Logf("%d checks outside the tolerances on %d radial cups (not yet enforced)", len(failures), n)
+			if kind.name == "radial" && len(failures) <= radialBudget {
+				t.Logf("%d checks outside the tolerances on %d radial cups (budget %d):", len(failures), n, radialBudget)
+				for _, f := range failures {
+					t.Log(f)
+				}
 				return
 			}
 			if len(failures) > 0 {

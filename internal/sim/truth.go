@@ -174,6 +174,10 @@ type fine struct {
 	endT   float64   // model time fs reached 0.9999, s (−1: never)
 }
 
+// startSpanS is the half-span of the second difference that locates the
+// start of eutectic freezing, s (see eutecticStart).
+const startSpanS = 0.25
+
 // recalMinC is the smallest rise of T while T' is above zero that counts
 // as a recalescence, °C (docs/analysis.md).
 const recalMinC = 0.05
@@ -190,17 +194,19 @@ func (f *fine) at(i int) Point {
 }
 
 // eutecticStart is the start of eutectic freezing: T at the largest
-// T” = (x[i+1] − 2x[i] + x[i−1])/Δt² between the last local minimum of T'
+// T″ = (x[i+k] − 2x[i] + x[i−k])/(kΔt)² between the last local minimum of T'
 // before index e (the eutectic minimum) and e, searched no further back than
-// index from.
+// index from. k spans startSpanS: on the integration step itself T″ shows
+// the model's own step-to-step kinks, which no thermocouple records.
 func (f *fine) eutecticStart(d []float64, from, e int) Point {
 	lo := e - 1
 	for lo > from && !(d[lo] < d[lo-1] && d[lo] <= d[lo+1]) {
 		lo--
 	}
+	k := max(1, int(math.Round(startSpanS/f.step)))
 	best, bi := math.Inf(-1), -1
-	for i := max(lo, 1); i <= e && i+1 < len(f.tc); i++ {
-		if v := f.tc[i+1] - 2*f.tc[i] + f.tc[i-1]; v > best {
+	for i := max(lo, k); i <= e && i+k < len(f.tc); i++ {
+		if v := f.tc[i+k] - 2*f.tc[i] + f.tc[i-k]; v > best {
 			best, bi = v, i
 		}
 	}

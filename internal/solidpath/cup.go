@@ -23,11 +23,8 @@ const (
 // minimum), the eutectic minimum as the end of the primary freezing, the
 // end of freezing (solidus point), and as marks the liquidus, the eutectic
 // minimum and maximum and the end of freezing. A point not found is left
-// out (its event NaN).
-//
-// arrest.Result has no eutectic start yet; once it does, it is both the
-// first arrest of a hypereutectic cup (before the minimum) and
-// Events.EutecticS, marked as KeyEutecticStart.
+// out (its event NaN). The start of eutectic freezing is marked
+// (KeyEutecticStart); the events stay those of the minimum.
 func EventsOf(r arrest.Result) Events {
 	ev := Events{PourS: math.NaN(), ArrestS: math.NaN(), EutecticS: math.NaN(), EndS: math.NaN()}
 	at := func(p arrest.Point) float64 {
@@ -49,7 +46,7 @@ func EventsOf(r arrest.Result) Events {
 		key string
 		p   arrest.Point
 	}{
-		{KeyLiquidus, r.Liquidus}, {KeyEutecticMin, r.EutecticMin}, {KeyEutecticMax, r.EutecticMax}, {KeyEndOfFreezing, r.Solidus},
+		{KeyLiquidus, r.Liquidus}, {KeyEutecticStart, r.EutecticStart}, {KeyEutecticMin, r.EutecticMin}, {KeyEutecticMax, r.EutecticMax}, {KeyEndOfFreezing, r.Solidus},
 	} {
 		if m.p.OK {
 			ev.Marks = append(ev.Marks, Mark{Key: m.key, TimeS: m.p.TimeS})
