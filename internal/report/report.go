@@ -430,12 +430,16 @@ func curvePlots(c *curvefile.Curve, rec assess.Record, detect arrest.Options) (*
 		sc.GlyphStyle = draw.GlyphStyle{Color: markColour, Radius: vg.Points(3.2), Shape: draw.CircleGlyph{}}
 		tp.Add(sc)
 		// maxima are labelled above their point, minima below, so that
-		// neighbouring points (eutectic min and max) do not overprint
-		for _, above := range []bool{true, false} {
+		// neighbouring points (eutectic min and max) do not overprint; a
+		// point in the last quarter of the time axis has its label to its
+		// left, so that it never runs off the panel
+		tEnd := c.Time[0] + 0.75*(c.Time[len(c.Time)-1]-c.Time[0])
+		for _, side := range [][2]bool{{true, false}, {false, false}, {true, true}, {false, true}} {
+			above, left := side[0], side[1]
 			var lxy plotter.XYs
 			var ltext []string
 			for i, m := range ms {
-				if m.above == above {
+				if m.above == above && (*m.t > tEnd) == left {
 					lxy, ltext = append(lxy, xy[i]), append(ltext, labels[i])
 				}
 			}
@@ -449,8 +453,14 @@ func curvePlots(c *curvefile.Curve, rec assess.Record, detect arrest.Options) (*
 			for i := range lb.TextStyle {
 				lb.TextStyle[i] = style(8, false)
 				lb.TextStyle[i].Color = markColour
+				if left {
+					lb.TextStyle[i].XAlign = draw.XRight
+				}
 			}
 			lb.Offset = vg.Point{X: vg.Points(5), Y: vg.Points(5)}
+			if left {
+				lb.Offset.X = -vg.Points(5)
+			}
 			if !above {
 				lb.Offset.Y = -vg.Points(13)
 			}
