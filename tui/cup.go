@@ -24,8 +24,13 @@ type cup struct {
 	snap   sample.Snapshot
 	link   link                  // the source's connection, as of the snapshot
 	advice []forecast.Prediction // the cup model's advice on the finished sample, once it came
-	drawn  chartCache            // drawn in Update, read by View
-	fs     *fraction             // fs(t) once asked for (fraction.go); never changed, replaced
+	// soFar is the record of a recording sample's points so far (the
+	// figures the deck decides on, before the verdict), made when a point
+	// settles; soFarPoints the points it was made from
+	soFar       *assess.Record
+	soFarPoints int
+	drawn       chartCache // drawn in Update, read by View
+	fs          *fraction  // fs(t) once asked for (fraction.go); never changed, replaced
 }
 
 // link is the state of the source's connection as a cup shows it.
@@ -445,7 +450,11 @@ func (c *cup) verdictLines(st *Styles, w int) []string {
 		if c.state() == sample.Waiting {
 			return []string{st.Muted.Render("Press s to fill in the sample form.")}
 		}
-		return []string{st.Muted.Render("Verdict when freezing is done.")}
+		lines := []string{st.Muted.Render("Verdict when freezing is done.")}
+		if c.soFar != nil {
+			lines = append(decisionLines(st, c.soFar, w), lines...)
+		}
+		return lines
 	}
 	var lines []string
 	if a := recordAdvice(rec); len(a) > 0 {

@@ -7,6 +7,8 @@ import (
 	tea "github.com/charmbracelet/bubbletea"
 	"github.com/charmbracelet/lipgloss"
 
+	"github.com/undercool-foundry/undercool/internal/assess"
+	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sample"
 )
 
@@ -16,6 +18,7 @@ type livePane struct {
 	st   *Styles
 	keys *KeyMap
 	cups []cup
+	book *limits.Book // judges the figures shown while a sample records
 	// advice is the model's advice on each channel's last finished sample,
 	// as it came (replaced, never changed: the pane is a value)
 	advice map[string]adviceMsg
@@ -23,7 +26,9 @@ type livePane struct {
 	w, h   int
 }
 
-func newLivePane(st *Styles, keys *KeyMap) livePane { return livePane{st: st, keys: keys} }
+func newLivePane(st *Styles, keys *KeyMap, book *limits.Book) livePane {
+	return livePane{st: st, keys: keys, book: book}
+}
 
 func (p livePane) SetSize(w, h int) livePane {
 	p.w, p.h = w, h
@@ -37,6 +42,7 @@ func (p livePane) apply(snaps []sample.Snapshot, l link) livePane {
 	for i, s := range snaps {
 		cups[i] = newCup(s)
 		cups[i].link = l
+		cups[i].soFar, cups[i].soFarPoints = p.soFar(s)
 		if a, ok := p.advice[s.Channel]; ok && a.sample == s.Sample && s.State == sample.Done {
 			cups[i].advice = a.preds
 		}
@@ -50,6 +56,37 @@ func (p livePane) apply(snaps []sample.Snapshot, l link) livePane {
 	p.cups = cups
 	return p.redraw()
 }
+
+// soFar is the record of a recording sample's points so far, for the
+// figures the deck decides on (CE from a settled liquidus, the eutectic
+// undercooling from a settled minimum): worked out again only when a
+// point settles, kept from the last snapshot otherwise; nil when the sample
+// is not recording or has no point yet.
+func (p livePane) soFar(s sample.Snapshot) (*assess.Record, int) {
+	if !s.State.Busy() {
+		return nil, 0
+	}
+	n := 0
+	for _, pt := range pointsOf(s.Result) {
+		if pt.p.OK {
+			n++
+		}
+	}
+	if n == 0 {
+		return nil, 0
+	}
+	for _, old := range p.cups {
+		if old.id() == s.Channel && old.snap.Sample == s.Sample && old.soFar != nil && old.soFarPoints == n {
+			return old.soFar, n
+		}
+	}
+	in := assess.Input{Alloy: strings.TrimSpace(s.Meta.Get("alloy")), Limits: p.book, Family: s.Family}
+	rec := assess.FromResult(in, s.Result)
+	return &rec, n
+}
+
+// setBook takes a saved limits book.
+func (p livePane) setBook(b *limits.Book) livePane { p.book = b; return p }
 
 // setAdvice takes the model's advice on a finished sample.
 func (p livePane) setAdvice(a adviceMsg) livePane {

@@ -114,7 +114,7 @@ func New(opt Options) Model {
 	m.help.Styles.FullDesc = m.st.Value
 	m.help.Styles.ShortSeparator = m.st.Muted
 	m.help.Styles.FullSeparator = m.st.Muted
-	m.live = newLivePane(m.st, &m.keys)
+	m.live = newLivePane(m.st, &m.keys, opt.Limits)
 	m.hist = newHistoryPane(m.st, &m.keys, opt.Limits, opt.ReadCurve)
 	m.lim = newLimitsPane(m.st, &m.keys, opt.Limits, opt.SaveLimits)
 	m.form = newFormPane(m.st, &m.keys, opt.Limits.Names())
@@ -219,6 +219,7 @@ func (m Model) handle(msg tea.Msg) (tea.Model, tea.Cmd) {
 			cmd = tea.Batch(m.logf("limits saved to %s", msg.where), m.setLimits(msg.book))
 			m.opt.Limits = msg.book
 			m.hist = m.hist.setBook(msg.book)
+			m.live = m.live.setBook(msg.book)
 			m.form = m.form.setAlloys(msg.book.Names())
 		}
 		m.lim, _ = m.lim.Update(msg)

@@ -2,6 +2,7 @@ package tui
 
 import (
 	"context"
+	"fmt"
 	"slices"
 	"strconv"
 	"strings"
@@ -294,5 +295,24 @@ func TestLogLinesWithoutDumps(t *testing.T) {
 		if !strings.Contains(line, `sample="L-2405 cup 1" alloy=grey-iron`) || strings.ContainsAny(line, "{}[") {
 			t.Errorf("log line %q", line)
 		}
+	}
+}
+
+// While a sample freezes, the figures the deck decides on show as their
+// points settle: the carbon equivalent once the liquidus has (worked out
+// by assess from the points so far), none before any point.
+func TestFiguresSoFarWhileRecording(t *testing.T) {
+	m := testModel(t, 80, 24)
+	early := play(m, constructedBatches("1", 100, 10, 5)[:4])
+	if v := stripANSI(early.View()); strings.Contains(v, "CE ") {
+		t.Fatalf("a figure before any point:\n%s", v)
+	}
+	m = play(testModel(t, 80, 24), constructedBatches("1", 100, 10, 5)[:140])
+	c := m.live.activeCup()
+	if c.soFar == nil || c.soFar.CE == nil {
+		t.Fatal("no record of the points so far after the liquidus")
+	}
+	if v := stripANSI(m.View()); !strings.Contains(v, fmt.Sprintf("CE %.2f", *c.soFar.CE)) {
+		t.Fatalf("CE %.2f not on screen:\n%s", *c.soFar.CE, v)
 	}
 }

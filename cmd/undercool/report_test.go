@@ -197,7 +197,7 @@ func TestReportPageRecordsWhatHappened(t *testing.T) {
 		t.Fatalf("status %d: %s", code, errs)
 	}
 	svg, _ := os.ReadFile(page)
-	for _, want := range []string{"SIMULATED", s.CurveSHA256, "poured 2026-12-01 07:4"} {
+	for _, want := range []string{"SIMULATED", s.CurveSHA256, "poured 2026-12-01 07:4", "the figures use C "} {
 		if !strings.Contains(string(svg), want) {
 			t.Errorf("page lacks %q", want)
 		}

@@ -187,13 +187,16 @@ func drawPage(dc draw.Canvas, c *curvefile.Curve, rec assess.Record, info Info) 
 	if len(src) > 0 {
 		dc.FillText(small, vg.Point{X: left, Y: y}, strings.Join(src, "  ·  "))
 	}
+	tiny := style(6.5, false)
 	if info.CurveSHA256 != "" {
 		// in full, in small type: what a later check of the file compares
-		tiny := style(6.5, false)
 		dc.FillText(tiny, vg.Point{X: left, Y: y - 3.8*vg.Millimeter}, "curve file SHA-256 "+info.CurveSHA256)
 	}
+	if ch := chemistryLine(rec); ch != "" {
+		dc.FillText(tiny, vg.Point{X: left, Y: y - 7.3*vg.Millimeter}, ch)
+	}
 	if info.Simulated {
-		drawBanner(dc, right, top, "SIMULATED — not a measurement")
+		drawBanner(dc, right, dc.Max.Y-3*vg.Millimeter, "SIMULATED — not a measurement") // in the top margin, clear of the title
 	}
 
 	// the two panels
@@ -236,13 +239,14 @@ func drawPage(dc draw.Canvas, c *curvefile.Curve, rec assess.Record, info Info) 
 	return nil
 }
 
-// drawBanner writes text in bold in a red frame at the top right corner.
+// drawBanner writes text in bold in a red frame whose top right corner is
+// at (right, top).
 func drawBanner(dc draw.Canvas, right, top vg.Length, text string) {
 	st := style(12, true)
 	st.Color = bannerColour
 	w, h := st.Width(text), st.Font.Size
 	pad := 2 * vg.Millimeter
-	x0, y1 := right-w-2*pad, top+pad
+	x0, y1 := right-w-2*pad, top
 	box := []vg.Point{{X: x0, Y: y1}, {X: right, Y: y1}, {X: right, Y: y1 - h - 2*pad}, {X: x0, Y: y1 - h - 2*pad}, {X: x0, Y: y1}}
 	dc.StrokeLines(draw.LineStyle{Color: bannerColour, Width: vg.Points(1.5)}, box)
 	dc.FillText(st, vg.Point{X: x0 + pad, Y: y1 - pad - h*0.8}, text)
@@ -437,12 +441,16 @@ func curvePlots(c *curvefile.Curve, rec assess.Record, detect arrest.Options) (*
 		sc.GlyphStyle = draw.GlyphStyle{Color: markColour, Radius: vg.Points(3.2), Shape: draw.CircleGlyph{}}
 		tp.Add(sc)
 		// maxima are labelled above their point, minima below, so that
-		// neighbouring points (eutectic min and max) do not overprint
-		for _, above := range []bool{true, false} {
+		// neighbouring points (eutectic min and max) do not overprint; a
+		// point in the last quarter of the time axis has its label to its
+		// left, so that it never runs off the panel
+		tEnd := c.Time[0] + 0.75*(c.Time[len(c.Time)-1]-c.Time[0])
+		for _, side := range [][2]bool{{true, false}, {false, false}, {true, true}, {false, true}} {
+			above, left := side[0], side[1]
 			var lxy plotter.XYs
 			var ltext []string
 			for i, m := range ms {
-				if m.above == above {
+				if m.above == above && (*m.t > tEnd) == left {
 					lxy, ltext = append(lxy, xy[i]), append(ltext, labels[i])
 				}
 			}
@@ -456,8 +464,14 @@ func curvePlots(c *curvefile.Curve, rec assess.Record, detect arrest.Options) (*
 			for i := range lb.TextStyle {
 				lb.TextStyle[i] = style(8, false)
 				lb.TextStyle[i].Color = markColour
+				if left {
+					lb.TextStyle[i].XAlign = draw.XRight
+				}
 			}
 			lb.Offset = vg.Point{X: vg.Points(5), Y: vg.Points(5)}
+			if left {
+				lb.Offset.X = -vg.Points(5)
+			}
 			if !above {
 				lb.Offset.Y = -vg.Points(13)
 			}
@@ -690,6 +704,34 @@ func drawResults(dc draw.Canvas, left, right, y vg.Length, rec assess.Record, in
 			}
 		}
 	}
+}
+
+// chemistryLine says the analysis the figures were worked out with and
+// where each element came from (the curve file's own analysis, the alloy's
+// nominal one, the tellurium cup's estimate): "C 3.40 % (nominal) · Si
+// 2.10 % (curve)".
+func chemistryLine(rec assess.Record) string {
+	els := make([]string, 0, len(rec.Chemistry))
+	for el := range rec.Chemistry {
+		els = append(els, el)
+	}
+	sort.Strings(els)
+	var parts []string
+	for _, el := range els {
+		name := strings.TrimSuffix(el, "_pct")
+		if len(name) > 0 {
+			name = strings.ToUpper(name[:1]) + name[1:]
+		}
+		part := fmt.Sprintf("%s %s %%", name, fixed(rec.Chemistry[el], 2))
+		if src := rec.ChemistrySource[el]; src != "" {
+			part += " (" + src + ")"
+		}
+		parts = append(parts, part)
+	}
+	if len(parts) == 0 {
+		return ""
+	}
+	return "the figures use " + strings.Join(parts, " · ")
 }
 
 func paren(s string) string {

@@ -161,25 +161,32 @@ func NewDeck(opt DeckOptions) *Deck {
 		noise: rand.New(rand.NewPCG(opt.Seed, 0x4e4f4953)), next: 2401}
 }
 
-// Next plans the next ladle sample. Run takes its cups from Next too, in
-// the order channels come free.
-func (d *Deck) Next() Ladle {
+// scenario draws the next cup's kind by the scenarios' weights.
+func (d *Deck) scenario() scenario {
 	total := 0.0
 	for _, s := range deckScenarios {
 		total += s.weight
 	}
 	x := d.rng.Float64() * total
-	sc := deckScenarios[len(deckScenarios)-1]
 	for _, s := range deckScenarios {
 		if x < s.weight {
-			sc = s
-			break
+			return s
 		}
 		x -= s.weight
 	}
-	p := sc.make(d.rng)
+	return deckScenarios[len(deckScenarios)-1]
+}
+
+// Next plans the next ladle sample. Run takes its cups from Next too, in
+// the order channels come free.
+func (d *Deck) Next() Ladle {
+	var p Params
+	label := "as asked"
 	if d.opt.Cup != nil {
-		p, sc.label = *d.opt.Cup, "as asked"
+		p = *d.opt.Cup // the cup asked for: no scenario is drawn
+	} else {
+		sc := d.scenario()
+		p, label = sc.make(d.rng), sc.label
 	}
 	p.Seed = d.rng.Uint64()
 	p.PourAtS = uniform(d.rng, 4, 8)
@@ -207,7 +214,7 @@ func (d *Deck) Next() Ladle {
 	l := Ladle{
 		Ladle:    fmt.Sprintf("L-%d", d.next-1),
 		Operator: deckOperators[d.rng.IntN(len(deckOperators))],
-		Label:    sc.label,
+		Label:    label,
 		AfterS:   uniform(d.rng, 8, 15),
 	}
 	cup := "cup " + strconv.Itoa(d.count)
