@@ -97,39 +97,25 @@ var scipyRead = []realRead{
 // curves, each with what it reports: the check is made and printed, not
 // failed. An entry is removed (the check switched on) once the detector
 // gets the point right; a listed point that is right is printed as such.
-var knownWrong = map[string]string{
-	// Sn90 (10 wt % Bi): the file starts in the cooling liquid at 346 °C
-	// (no pour peak recorded); the detector takes its start for the
-	// liquidus, above the entry's liquidus window, and the primary
-	// arrest's recalescence for the eutectic, below it.
-	"Sn90 alpha_c":     "the first readings (331 °C at 11 s) taken for the liquidus, above the entry's window 137–265 °C",
-	"Sn90 alpha_min_c": "null: the primary recalescence 213.0 → 215.6 °C is reported as the eutectic",
-	// The read's eutectic here is a weak shoulder (the author reads 128 °C
-	// by eye): either would do; the primary arrest does not.
-	"Sn90 eutectic_min_c": "the primary arrest's minimum, 213.0 °C, outside the entry's eutectic window 120–140 °C",
-	"Sn90 eutectic_max_c": "the primary arrest's maximum, 215.6 °C, outside the entry's eutectic window 120–140 °C",
-	// Sn47 (53 wt % Bi): the primary arrest recalesces 139.2 → 141.8 °C,
-	// 7 °C above the eutectic, inside both windows; the detector takes it
-	// for the eutectic and misses the eutectic's recalescence
-	// 131.6 → 134.6 °C after it.
-	"Sn47 alpha_c":        "null: the primary arrest is reported as the eutectic",
-	"Sn47 alpha_min_c":    "null: the primary arrest is reported as the eutectic",
-	"Sn47 eutectic_min_c": "the primary arrest's minimum, 139.2 °C, 7.6 °C above the eutectic minimum",
-	"Sn47 eutectic_max_c": "the primary arrest's maximum, 141.8 °C, above the entry's eutectic window 120–140 °C",
-	// Sn90 and Sn40 run on to 108 and 99 °C, far below their eutectic,
-	// and are still said to have ended before the end of freezing.
-	"Sn90 ended-early": "said to end before the end of freezing (verdict invalid)",
-	"Sn40 ended-early": "said to end before the end of freezing (verdict invalid)",
-	"Sn90 solidus_c":   "null: said to end before the end of freezing",
-	"Sn40 solidus_c":   "null: said to end before the end of freezing",
-	// beforeB's dT/dt reaches its minimum at the end of freezing (547 °C,
-	// 1760 s) and stays flat there (−1.27 to −1.29 °C/s) for 20 s: the
-	// detector takes the lowest value along that flat bottom, 534.1 °C at
-	// 1770 s, 12.8 °C below the knee.
-	"beforeB solidus_c": "534.10 °C at 1770 s: the lowest dT/dt along a flat bottom, not where it is first reached",
-	// Sn40 starts in the cooling liquid at 343 °C: its first readings
-	// (320 °C at 11 s) are taken for a liquidus.
-	"Sn40 liquidus null": "the first readings, 320 °C at 11 s, taken for the liquidus",
+// Empty since the detector of issue 12: the misses it had (Sn90's first
+// readings taken for a liquidus and its primary arrest for the eutectic,
+// Sn47's primary arrest taken for the eutectic, Sn40's liquidus from its
+// first readings, Sn90 and Sn40 said to end early, beforeB's end of
+// freezing at the lowest dT/dt of a flat bottom, 534.1 °C instead of
+// 546.9 °C) are checked like every other point.
+var knownWrong = map[string]string{}
+
+// disputed are the points where undercool and the independent read
+// disagree and the curve does not say which is right: printed, not
+// checked, with why.
+var disputed = map[string]string{
+	// Sn90 and Sn40 cool on at −0.3 to −0.5 °C/s after their eutectic with
+	// no sharp fall of dT/dt: undercool reports no distinct end of
+	// freezing (null, "no-end-of-freezing"); the read takes a shallow
+	// minimum of dT/dt (Sn90 −0.41 °C/s at 412 s against −0.38 around
+	// it; Sn40 −0.48 °C/s at 468 s, −0.41 to −0.46 after it).
+	"Sn90 solidus_c": "dT/dt has no distinct dip after the eutectic",
+	"Sn40 solidus_c": "dT/dt has no distinct dip after the eutectic",
 }
 
 // realLimits names the Sn-Bi curves' alloys: an alloy entry with its own
@@ -392,6 +378,10 @@ func checkPoint(t *testing.T, ref realRead, key string, got *float64) {
 			t.Logf("%s: %.2f °C, the read %.2f ± %.2f", id, *got, p.C, tol)
 		}
 	}
+	if why, ok := disputed[id]; ok && bad != "" {
+		t.Logf("DISPUTED %s: %s; not checked: %s", id, bad, why)
+		return
+	}
 	known, isKnown := knownWrong[id]
 	switch {
 	case bad != "" && isKnown:
@@ -577,6 +567,15 @@ func TestRealSnBiAgainstAuthor(t *testing.T) {
 	checkKnown(t, "Sn40 liquidus null", rec.LiquidusC == nil || math.Abs(*rec.LiquidusC-author["Sn40"][0]) <= 1,
 		fmt.Sprintf("liquidus %s, the author reads one arrest at %.2f °C", show(rec.LiquidusC), author["Sn40"][0]))
 
+	// Sn90 and Sn40 cool on after their eutectic with no distinct dip of
+	// dT/dt (disputed above): no end of freezing, said so, not fatal.
+	for _, name := range []string{"Sn90", "Sn40"} {
+		rec := assessReal(t, name)
+		if rec.SolidusC != nil || !has(rec.Problems, "no distinct end of freezing") || rec.Verdict == VerdictInvalid {
+			t.Errorf("%s: end of freezing %s, verdict %s, problems %q: want null, said, not invalid", name, show(rec.SolidusC), rec.Verdict, rec.Problems)
+		}
+	}
+
 	// Pure bismuth as a check cup (pure tin: TestRealTinCheckCup). The
 	// undercooling below the plateau against the independent read's
 	// recalescence, 266.71 → 269.70 °C, at the sum of its points'
@@ -659,7 +658,7 @@ func TestRealLiveEqualsOffline(t *testing.T) {
 			for k := 1; k <= len(in.Time); k++ {
 				r := a.Analyze(in.Time[:k], in.Temp[:k], opt)
 				for name, p := range map[string]arrest.Point{"pour peak": r.PourPeak, "liquidus minimum": r.LiquidusMin, "liquidus": r.Liquidus,
-					"eutectic minimum": r.EutecticMin, "eutectic maximum": r.EutecticMax, "end of freezing": r.Solidus} {
+					"eutectic start": r.EutecticStart, "eutectic minimum": r.EutecticMin, "eutectic maximum": r.EutecticMax, "end of freezing": r.Solidus} {
 					old, ok := seen[name]
 					switch {
 					case ok && (!p.OK || p != old):
