@@ -92,15 +92,7 @@ func TestFractionScreens(t *testing.T) {
 				before := m.View()
 				m = press(m, "f")
 				v := m.View()
-				lines := strings.Split(v, "\n")
-				if len(lines) != sz.h {
-					t.Errorf("view has %d lines, want %d", len(lines), sz.h)
-				}
-				for i, l := range lines {
-					if w := len([]rune(stripANSI(l))); w > sz.w {
-						t.Errorf("line %d is %d cells wide, more than %d", i+1, w, sz.w)
-					}
-				}
+				checkFits(t, v, sz.w, sz.h)
 				if !strings.Contains(v, "fs against s · Newtonian") {
 					t.Errorf("no Newtonian fs(t):\n%s", stripANSI(v))
 				}
