@@ -5,6 +5,7 @@ import (
 	"math"
 	"sort"
 	"strings"
+	"unicode"
 
 	"github.com/charmbracelet/lipgloss"
 	"github.com/charmbracelet/x/ansi"
@@ -256,10 +257,28 @@ func (c *cup) marks() []mark {
 	var ms []mark
 	for _, p := range c.points() {
 		if p.p.OK {
-			ms = append(ms, mark{x: p.p.TimeS, y: p.p.TempC, r: p.sym})
+			ms = append(ms, mark{x: p.p.TimeS, y: p.p.TempC, r: p.mark()})
 		}
 	}
 	return ms
+}
+
+// mark is the point's letter on a chart: lower case while it is
+// provisional (its arrest's shape not yet complete, it may still move),
+// the capital once confirmed.
+func (p pointRow) mark() rune {
+	if p.p.Provisional {
+		return unicode.ToLower(p.sym)
+	}
+	return p.sym
+}
+
+// provisional is what follows a provisional point's value in a list.
+func (p pointRow) provisional() string {
+	if p.p.OK && p.p.Provisional {
+		return "?"
+	}
+	return ""
 }
 
 // view draws the cup in w×h cells.
@@ -392,7 +411,7 @@ func fmtPoint(p arrest.Point) string {
 func (c *cup) pointList(st *Styles) []string {
 	var lines []string
 	for _, p := range c.points() {
-		lines = append(lines, st.Mark.Render(string(p.sym))+" "+st.Label.Render(fmt.Sprintf("%-16s", p.label))+st.Value.Render(fmtPoint(p.p)))
+		lines = append(lines, st.Mark.Render(string(p.mark()))+" "+st.Label.Render(fmt.Sprintf("%-16s", p.label))+st.Value.Render(fmtPoint(p.p))+st.Muted.Render(p.provisional()))
 	}
 	rc := "   —"
 	if r := c.res(); r.RecalescenceOK {
@@ -408,9 +427,9 @@ func (c *cup) compactPoints(st *Styles, w int) []string {
 	for _, p := range c.points() {
 		v := "—"
 		if p.p.OK {
-			v = fmt.Sprintf("%.1f", p.p.TempC)
+			v = fmt.Sprintf("%.1f", p.p.TempC) + p.provisional()
 		}
-		parts = append(parts, st.Mark.Render(string(p.sym))+" "+st.Value.Render(v))
+		parts = append(parts, st.Mark.Render(string(p.mark()))+" "+st.Value.Render(v))
 	}
 	rc := "—"
 	if r := c.res(); r.RecalescenceOK {
@@ -593,7 +612,7 @@ func (c *cup) ratePlot(st *Styles, w, h int, x1 float64) plot {
 	var ms []mark
 	for _, p := range c.points() {
 		if v, ok := valueAt(s.SlopeT, s.SlopeD, p.p.TimeS); p.p.OK && ok {
-			ms = append(ms, mark{x: p.p.TimeS, y: v, r: p.sym})
+			ms = append(ms, mark{x: p.p.TimeS, y: v, r: p.mark()})
 		}
 	}
 	return plot{w: w, h: h, x0: 0, x1: x1, y0: lo, y1: hi, yFmt: "%+6.1f", xFmt: "%.0fs", line: st.Rate, tr: &tr,

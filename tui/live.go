@@ -68,7 +68,7 @@ func (p livePane) soFar(s sample.Snapshot) (*assess.Record, int) {
 	}
 	n := 0
 	for _, pt := range pointsOf(s.Result) {
-		if pt.p.OK {
+		if pt.p.OK && !pt.p.Provisional { // the figures follow confirmed points only
 			n++
 		}
 	}
