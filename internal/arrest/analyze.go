@@ -643,8 +643,11 @@ func (a *Analyzer) setRate() {
 	slices.Sort(iv[:])
 	a.dt = iv[len(iv)/2]
 	a.rate = 1 / a.dt
-	if a.rate < MinRateHz || a.rate > MaxRateHz {
-		a.stop(0, 0, CodeRate, fmt.Sprintf("the readings are %.4g s apart (%.4g per second); cup curves are logged at %g to %g readings per second: is the time column in seconds?", a.dt, a.rate, float64(MinRateHz), float64(MaxRateHz)))
+	switch {
+	case a.rate < MinRateHz:
+		a.stop(0, 0, CodeRate, fmt.Sprintf("the readings are %.4g s apart (%.4g per second); a cup's arrests need at least %g readings per second to be found: if the time column is not in seconds, give its unit (--time-unit); a logger this slow cannot be analysed", a.dt, a.rate, float64(MinRateHz)))
+	case a.rate > MaxRateHz:
+		a.stop(0, 0, CodeRate, fmt.Sprintf("the readings are %.4g s apart (%.4g per second); cup curves are logged at %g to %g readings per second: is the time column in seconds? (if not, give its unit: --time-unit)", a.dt, a.rate, float64(MinRateHz), float64(MaxRateHz)))
 	}
 	h := a.h
 	a.ws = curve.WindowSamples(h.SmoothS, a.rate, 2, 5)
