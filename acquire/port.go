@@ -6,8 +6,10 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"os"
 	"strconv"
 	"strings"
+	"sync"
 	"time"
 
 	"go.bug.st/serial"
@@ -116,8 +118,47 @@ func SerialOpener(path string, mode PortMode) Opener {
 		if err != nil {
 			return nil, fmt.Errorf("serial port %s: %s: %w", path, openHint(err), err)
 		}
-		return p, nil
+		if err := p.SetReadTimeout(portPoll); err != nil {
+			p.Close()
+			return nil, fmt.Errorf("serial port %s: %w", path, err)
+		}
+		return &serialPort{p: p}, nil
 	}
+}
+
+// portPoll is how long one read of a serial port waits for data before it
+// returns empty (waitForData reads again): how long a Close may wait.
+const portPoll = 50 * time.Millisecond
+
+// serialPort is a serial port whose Close never runs while a Read is using
+// its descriptor. go.bug.st/serial closes the descriptor before it wakes a
+// pending read, so a file opened in that gap (a curve file being
+// completed) could take the descriptor's number and be read as the device,
+// and moved under its writer. Reads wait at most portPoll, so Close waits
+// no longer than that.
+type serialPort struct {
+	p      serial.Port
+	mu     sync.Mutex // held by Read while it uses the port, and by Close
+	closed bool
+}
+
+func (s *serialPort) Read(b []byte) (int, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	if s.closed {
+		return 0, os.ErrClosed
+	}
+	return s.p.Read(b)
+}
+
+func (s *serialPort) Close() error {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	if s.closed {
+		return nil
+	}
+	s.closed = true
+	return s.p.Close()
 }
 
 func openHint(err error) string {
