@@ -92,7 +92,7 @@ func TestFractionScreens(t *testing.T) {
 				before := m.View()
 				m = press(m, "f")
 				v := m.View()
-				checkFits(t, v, sz.w, sz.h)
+				checkScreen(t, v, sz.w, sz.h)
 				if !strings.Contains(v, "fs against s · Newtonian") {
 					t.Errorf("no Newtonian fs(t):\n%s", stripANSI(v))
 				}

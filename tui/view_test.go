@@ -192,10 +192,7 @@ func TestGoldenScreens(t *testing.T) {
 			t.Run(name, func(t *testing.T) {
 				m := sc.make(testModel(t, sz.w, sz.h))
 				v := m.View()
-				checkFits(t, v, sz.w, sz.h)
-				if !strings.Contains(v, "Molten metal") {
-					t.Error("the safety line is missing")
-				}
+				checkScreen(t, v, sz.w, sz.h)
 				checkGolden(t, name, v)
 			})
 		}
@@ -219,20 +216,6 @@ func TestLimitsScreenShowsBook(t *testing.T) {
 			if !strings.Contains(v, metricLabel(name)) {
 				t.Errorf("metric %s (%s) of %s not shown at %v:\n%s", name, metricLabel(name), al.Name, sz, v)
 			}
-		}
-	}
-}
-
-// checkFits: the view fills exactly h lines, none wider than w cells.
-func checkFits(t *testing.T, v string, w, h int) {
-	t.Helper()
-	lines := strings.Split(v, "\n")
-	if len(lines) != h {
-		t.Errorf("view has %d lines, want %d", len(lines), h)
-	}
-	for i, l := range lines {
-		if n := len([]rune(stripANSI(l))); n > w {
-			t.Errorf("line %d is %d cells wide, more than %d", i+1, n, w)
 		}
 	}
 }
