@@ -115,6 +115,11 @@ func (p *parser) lineAt(b []byte) (int, error) {
 
 var errInvalidUTF8 = errors.New("invalid UTF-8 text; save the file as UTF-8")
 
+// errNUL is a NUL byte in a text field kept from the file: no text a
+// curve file carries has one (the Writer refuses them), so the file is
+// binary or torn.
+var errNUL = errors.New("a NUL byte in a text field (a binary or damaged file?)")
+
 // comment keeps a "# key: value" line as metadata and counts any other
 // '#' line as skipped.
 func (p *parser) comment(body []byte) {

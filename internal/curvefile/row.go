@@ -222,6 +222,9 @@ func (p *parser) otherField(b []byte, i, k int) (int, error) {
 			return 0, errInvalidUTF8
 		}
 		if r == roleExtra {
+			if bytes.IndexByte(f, 0) >= 0 {
+				return 0, errNUL
+			}
 			p.extra[p.cols[k].extra].add(f)
 		}
 	default:
