@@ -118,6 +118,9 @@ func Parse(data []byte, name string) (*Book, error) {
 			b.Alloys[n] = a
 		}
 		a.Name = n
+		if len(a.Chemistry) == 0 {
+			a.Chemistry = nil // an empty [chemistry] table says what leaving it out says
+		}
 		for _, l := range a.Metrics {
 			if l != nil && len(l.Spoils) == 0 {
 				l.Spoils = nil // "spoils = []" says what leaving it out says
