@@ -69,13 +69,22 @@ func acqCup(i int) (ms int, temp float64) {
 // load: the device time then fell behind, and record's host-clock bound on
 // the time limit ended TestRecordPTY's sample short now and then.)
 func acqSend(m *os.File, from int, stop <-chan struct{}) int {
+	return acqSendEvery(m, from, 10*time.Millisecond, stop)
+}
+
+// acqSendEvery is acqSend with one line every `every` of host time. A
+// test that records to a --max-s limit sends faster than real time: the
+// limit is reached in device time while the host-clock stop (--max-s + 2 s
+// after the file's first reading arrived, for a device that goes silent)
+// is still seconds away, however long the test waits for the CPU.
+func acqSendEvery(m *os.File, from int, every time.Duration, stop <-chan struct{}) int {
 	start := time.Now()
 	for i := from; ; i++ {
 		ms, c := acqCup(i)
 		if _, err := fmt.Fprintf(m, "ms=%d c=%s\n", ms, strconv.FormatFloat(c, 'f', -1, 64)); err != nil {
 			return i
 		}
-		t := time.NewTimer(time.Until(start.Add(time.Duration(i+1-from) * 10 * time.Millisecond)))
+		t := time.NewTimer(time.Until(start.Add(time.Duration(i+1-from) * every)))
 		select {
 		case <-stop:
 			t.Stop()
@@ -110,7 +119,7 @@ func TestRecordPTY(t *testing.T) {
 	out := filepath.Join(t.TempDir(), "cup.csv")
 	stop := make(chan struct{})
 	var wg sync.WaitGroup
-	wg.Go(func() { acqSend(m, 0, stop) })
+	wg.Go(func() { acqSendEvery(m, 0, 2500*time.Microsecond, stop) })
 	code, stdout, stderr := acqRun(t, context.Background(), "record", "--port", name, "--out", out, "--max-s", "2",
 		"--sample", "L-2417 cup 1", "--operator", "Odile Flintcaster", "--alloy", "grey-iron")
 	close(stop)
@@ -320,7 +329,7 @@ func TestRecordForwardsToPlant(t *testing.T) {
 	plant := filepath.Join(dir, "plant.db")
 	stop := make(chan struct{})
 	var wg sync.WaitGroup
-	wg.Go(func() { acqSend(m, 0, stop) })
+	wg.Go(func() { acqSendEvery(m, 0, 2500*time.Microsecond, stop) })
 	code, stdout, stderr := acqRun(t, context.Background(), "record", "--port", name, "--out", out, "--max-s", "2",
 		"--sample", "L-2419 cup 1", "--alloy", "grey-iron", "--plant", plant)
 	close(stop)
