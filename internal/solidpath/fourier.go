@@ -134,7 +134,42 @@ func fourier(t []float64, lc, lw smoothed, g Geometry, ev Events, o Options) (Pa
 		return Path{}, err
 	}
 	p.Method, p.Zero = MethodFourier, z
+	p.Zero.Inflow = inflow(t, lc.value, zeros, index(t, p.StartS), index(t, p.EndS), ev.EutecticS)
 	return p, nil
+}
+
+// MaxInflow is the largest Zero.Inflow at which the Fourier fs is taken to
+// hold: above it the parabolic field failed for long enough before the
+// eutectic to carry the fs there off by more than 0.05 (measured on the
+// simulated radial cups, docs/solidification.md).
+const MaxInflow = 0.01
+
+// inflow is the check of where the parabola holds. A cup loses its heat
+// through its surface, so a parabolic field that cools it has the wall
+// thermocouple below the centre; where it reads above the centre while the
+// cup freezes (∇²T > 0, Z > 0: the two readings say conduction heats the
+// centre), the metal between them releases heat faster than the centre
+// (a chill shell recalescing first) and the field has its maximum between
+// the centre and the surface: no parabola through the two readings
+// describes it. inflow is ∫max(Z, 0)dt from the start of the release
+// (reading is) to the eutectic (eutS; the release's end ie where it is not
+// known), over the whole release's area T(t_e) − T(t_s) − ∫Z dt: the share
+// of the centre's latent heat that the failed parabola moves, 0 where the
+// wall stays below the centre.
+func inflow(t, sm, zeros []float64, is, ie int, eutS float64) float64 {
+	stop := ie
+	if !math.IsNaN(eutS) {
+		stop = min(max(index(t, eutS), is), ie)
+	}
+	var in, z float64
+	for i := is + 1; i <= ie; i++ {
+		zi := 0.5 * (zeros[i] + zeros[i-1]) * (t[i] - t[i-1])
+		z += zi
+		if i <= stop {
+			in += max(zi, 0)
+		}
+	}
+	return in / (sm[ie] - sm[is] - z)
 }
 
 // zeroRMS is the scatter of T' about a·∇²T over the single-phase
