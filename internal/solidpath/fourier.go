@@ -137,13 +137,7 @@ func fourier(t []float64, lc, lw smoothed, g Geometry, ev Events, o Options) (Pa
 		return Path{}, err
 	}
 	p.Method, p.Zero = MethodFourier, z
-	eut := ev.EutecticS
-	for _, m := range ev.Marks {
-		if m.Key == KeyEutecticStart && !math.IsNaN(m.TimeS) {
-			eut = m.TimeS
-		}
-	}
-	p.Zero.Inflow = inflow(t, lc.value, zeros, index(t, p.StartS), index(t, p.EndS), eut)
+	p.Zero.Inflow = inflow(t, lc.value, zeros, index(t, p.StartS), index(t, p.EndS), ev.EutecticS)
 	return p, nil
 }
 
@@ -161,8 +155,9 @@ const MaxInflow = 0.01
 // (a chill shell recalescing first) and the field has its maximum between
 // the centre and the surface: no parabola through the two readings
 // describes it. inflow is ∫max(Z, 0)dt from the start of the release
-// (reading is) to the eutectic (eutS: the eutectic-start mark, else
-// Events.EutecticS; the release's end ie where neither is known), over the
+// (reading is) to the end of the primary freezing (eutS, Events.EutecticS:
+// the eutectic minimum with EventsOf; the release's end ie where it is not
+// known), over the
 // whole release's area T(t_e) − T(t_s) − ∫Z dt: the share
 // of the centre's latent heat that the failed parabola moves, 0 where the
 // wall stays below the centre.

@@ -1,7 +1,9 @@
 package solidpath
 
 import (
+	"maps"
 	"math"
+	"slices"
 	"testing"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
@@ -39,7 +41,10 @@ import (
 //     it fails on the strong-gradient grey and ductile iron cups whose
 //     shell recalesces before the centre's eutectic (9 of 12; Inflow
 //     0.034–0.047, fs 0.06–0.115 low) and passes on every other cup
-//     (Inflow ≤ 0.0043; fs −0.049 … +0.044).
+//     (Inflow ≤ 0.0043; fs −0.049 … +0.044). The same cups are also run
+//     with the point finder's events (the record's pipeline, whose end of
+//     the primary freezing is the eutectic minimum) and the Fourier fs at
+//     its eutectic start and minimum printed, split by the check.
 func TestOnRadialCups(t *testing.T) {
 	kinds := []struct {
 		name   string
@@ -52,6 +57,7 @@ func TestOnRadialCups(t *testing.T) {
 	const seeds = 6
 	for _, k := range kinds {
 		var eN, eF, dF, dN, inPass, inFail, dPass, dFail []float64
+		byFinder := map[string][]float64{}
 		for _, alloy := range []string{sim.GreyIron, sim.DuctileIron, sim.AlSi7Mg, sim.WhiteIron} {
 			for seed := range uint64(seeds) {
 				p := simCase(alloy, seed)
@@ -80,6 +86,22 @@ func TestOnRadialCups(t *testing.T) {
 				if strong {
 					nLo, nHi = -0.15, 0.03
 				}
+				// The whole pipeline as the record runs it: the point finder's
+				// events, whose end of the primary freezing is the eutectic
+				// minimum; printed, split by its own check.
+				pf := Analyze(Cup{Time: out.Time, Centre: out.Temp, Wall: out.Wall, Geometry: Geometry{WallMm: tr.WallTCRadiusMm},
+					Events: EventsOf(arrest.Analyze(out.Time, out.Temp, arrest.Options{Family: family(alloy)})), Options: Options{SpecificHeat: tr.SpecificHeatJPerKgK, AmbientC: p.AmbientC}})
+				if pf.Fourier == nil {
+					t.Errorf("%s, %s seed %d, the point finder's events: %v", k.name, alloy, seed, pf.FourierErr)
+				} else {
+					for _, pt := range pf.Fourier.Points {
+						if pt.Key == KeyEutecticStart || pt.Key == KeyEutecticMin {
+							e := pt.FS - interp(out.Time, out.CentreFractionSolid, pt.TimeS)
+							key := pt.Key + map[bool]string{true: ", check fails", false: ", check passes"}[pf.Fourier.Zero.Inflow > MaxInflow]
+							byFinder[key] = append(byFinder[key], e)
+						}
+					}
+				}
 				if in := s.Fourier.Zero.Inflow; in > MaxInflow {
 					fsTol, inFail, dFail = 0.15, append(inFail, in), append(dFail, d)
 					if !strong {
@@ -105,6 +127,9 @@ func TestOnRadialCups(t *testing.T) {
 		t.Logf("%-15s Newtonian fs at the eutectic start − the whole cup's: %s", k.name, spread(dN))
 		t.Logf("%-15s parabola check passes: inflow %s; Fourier fs error there %s", k.name, spread(inPass), spread(dPass))
 		t.Logf("%-15s parabola check fails:  inflow %s; Fourier fs error there %s", k.name, spread(inFail), spread(dFail))
+		for _, key := range slices.Sorted(maps.Keys(byFinder)) {
+			t.Logf("%-15s point finder's events, Fourier fs error at the %s: %s", k.name, key, spread(byFinder[key]))
+		}
 	}
 }
 
