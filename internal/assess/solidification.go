@@ -85,6 +85,10 @@ func (m *metallurgy) solidification() {
 		return
 	}
 	r.FSMethod = best.Method
+	if best.Method == solidpath.MethodFourier && best.Zero.Inflow > solidpath.MaxInflow {
+		r.Warnings = append(r.Warnings, fmt.Sprintf("the wall thermocouple read above the centre before the eutectic (a shell near the wall freezing first; %.1f %% of the centre's heat taken as flowing in): the two-thermocouple fs up to the eutectic may read low, by 0.04–0.11 on simulated cups (docs/solidification.md)",
+			100*best.Zero.Inflow))
+	}
 	for _, f := range fsMetrics {
 		i := -1
 		for k, p := range best.Points {

@@ -303,3 +303,47 @@ func ptr(p *float64) any {
 	}
 	return *p
 }
+
+// The Fourier method's parabola check reaches the record: a SIMULATED
+// strong-gradient grey-iron cup (a chill shell at the wall,
+// sim.StrongGradient) whose shell recalesces before the centre's eutectic
+// gets the warning that its two-thermocouple fs up to the eutectic may read
+// low, exactly when the path's Zero.Inflow is above solidpath.MaxInflow; a
+// sand cup does not (docs/solidification.md). Poorly and well inoculated
+// melts, two seeds each: the check must fire on at least one.
+func TestSolidificationParabolaCheck(t *testing.T) {
+	const warning = "the wall thermocouple read above the centre before the eutectic"
+	fired := 0
+	for _, inoc := range []float64{0.1, 0.9} {
+		for seed := range uint64(2) {
+			p, err := sim.Preset(sim.GreyIron, inoc, seed)
+			if err != nil {
+				t.Fatal(err)
+			}
+			p.Cup, p.Radial = sim.CupRadial, sim.StrongGradient(sim.GreyIron)
+			out := sim.Simulate(p)
+			in := Input{File: "chill.csv", Alloy: sim.GreyIron, Time: out.Time, Temp: out.Temp, Meta: out.Meta,
+				Wall: out.Wall, Radii: solidpath.Geometry{WallMm: out.Truth.WallTCRadiusMm}}
+			rec := Assess(in)
+			path, err := SolidPath(in, rec)
+			if err != nil || path.Method != solidpath.MethodFourier {
+				t.Fatalf("inoculation %.1f seed %d: %v (%v)", inoc, seed, err, path)
+			}
+			fails := path.Zero.Inflow > solidpath.MaxInflow
+			if fails {
+				fired++
+			}
+			if has(rec.Warnings, warning) != fails {
+				t.Errorf("inoculation %.1f seed %d: inflow %.4f (limit %.2f), warnings %q", inoc, seed, path.Zero.Inflow, solidpath.MaxInflow, rec.Warnings)
+			}
+			t.Logf("inoculation %.1f seed %d: inflow %.4f, warned %v", inoc, seed, path.Zero.Inflow, fails)
+		}
+	}
+	if fired == 0 {
+		t.Error("the check fired on no chill-shell cup")
+	}
+	in, _ := radialInput(t, 1)
+	if rec := Assess(in); has(rec.Warnings, warning) {
+		t.Errorf("a sand cup warned: %q", rec.Warnings)
+	}
+}

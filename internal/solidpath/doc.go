@@ -25,7 +25,11 @@
 //     (Fraś, Kapturkiewicz, Burbielko and López, AFS Trans. 101 (1993) 505;
 //     memory). Its fs is the centre's. Known bias: the parabola and the
 //     radial-only heat flow; L within about ±10 % on simulated sand cups,
-//     high where a chill shell holds the wall thermocouple; where the cup
+//     high where a chill shell holds the wall thermocouple, and where that
+//     shell recalesces before the centre's eutectic the fs up to the
+//     eutectic reads low, which the method's parabola check
+//     (Zero.Inflow > MaxInflow: the wall reading above the centre while
+//     the cup freezes) flags; where the cup
 //     freezes from the wall inward with a liquid pool at the centre (a pure
 //     metal) the method does not apply.
 //   - Dendrite coherency (aluminium, two thermocouples): the minimum of

@@ -100,6 +100,14 @@ type Zero struct {
 	// the liquid cooled faster than the law found on the solid, as in a cup
 	// whose cold wall first soaks up heat.
 	LiquidMisfit float64
+	// Inflow is, for the Fourier method, the check of where its parabolic
+	// field holds: the share of the centre's released heat that the zero
+	// curve credits as conduction INTO the centre (the wall thermocouple
+	// reading above the centre while the cup freezes) before the
+	// eutectic, 0–1; 0 where the wall stays below the centre. Above
+	// MaxInflow the Fourier fs at and before the eutectic reads low (a
+	// chill shell recalescing before the centre; docs/solidification.md).
+	Inflow float64
 }
 
 // Zero-curve forms.
