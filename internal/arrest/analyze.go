@@ -137,7 +137,8 @@ const (
 	holdShare    = 0.2  // see settle
 	flatShare    = 0.2  // see solidusPoint
 	belowWindowC = 10   // see noDistinctEnd, °C
-	sharpGain    = 1.1  // see solidusWindow
+	sharpGain    = 1.1  // see steepestStep
+	dipSigmas    = 3    // see solidusWindow
 	stepShare    = 0.1  // see steepestStep
 	fallShare    = 0.04 // an arrest's fall is at least this share of |T'|min before it
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
@@ -187,8 +188,15 @@ const (
 //     last half-window of a curve is never used for a point, so a point is
 //     only reported once no further reading can change it;
 //   - the pour peak is the highest despiked reading once the curve has
-//     stayed pourDropC below it for 0.5 s (and it reached Hints.MinPourC);
-//     the arrest search begins once T' no longer reaches back over the peak;
+//     stayed pourDropC below it for 0.5 s, or has not risen above it for
+//     shortArrest (and it reached Hints.MinPourC): a cup poured barely above
+//     its first arrest (a short or cold pour, a pure metal poured within a
+//     few kelvin of its freezing point) falls from the peak straight onto
+//     that arrest and never drops pourDropC until the arrest is over, while
+//     no pour transient (filling takes seconds, practice) stays below its
+//     highest reading for three T' windows; the arrest search begins half a
+//     T' window after the peak (where T' no longer reaches back over it),
+//     going back there when the peak is confirmed later;
 //   - an arrest is a local maximum of T' that rises max(P, 0.15·|T'min|)
 //     above the minimum T'min before it and falls max(P, 0.04·|T'min|) after
 //     it, P = max(0.05 °C/s, 8σ_T');
@@ -780,7 +788,9 @@ func (a *Analyzer) filter(upto int) {
 			}
 			// the fall must last half a second (at least 3 readings): a
 			// spike on the steep rise is no peak
-			if a.pourBelow >= pourRun {
+			// or the reading has stayed below the peak for shortArrest
+			// (see Analyze: a pour barely above the first arrest)
+			if a.pourBelow >= pourRun || a.xmax >= a.h.MinPourC && a.ts[k]-a.ts[a.xmaxI] >= a.shortArrest() {
 				a.pourConf = k
 			}
 		}
@@ -922,7 +932,9 @@ func (a *Analyzer) detect() {
 				e.j = len(a.d) - 1 // not confirmed in the readings filtered so far
 				continue
 			}
-			if start := max(a.pourConf, a.xmaxI+a.wd/2+2); j < start {
+			if start := a.xmaxI + a.wd/2 + 2; j != start {
+				// from half a T' window after the peak, going back to it
+				// where the peak was confirmed later
 				e.j = min(start, len(a.d)) - 1
 				continue
 			}
@@ -1641,11 +1653,17 @@ func (a *Analyzer) steepestStep(i, j, lo, hi int) (Point, bool) {
 // negative T' at sample i, settled at j) is placed on: Hints.SlopeS/2, or a
 // shorter one of SlopeS/4, /8 … (at least 5 samples) where the dip is
 // sharper than the longer window resolves (its depth on the shorter window
-// at least sharpGain times the longer window's), each while its T' noise is
-// at most shortShare of the dip's depth; the T' window itself when even
-// SlopeS/2 is too noisy. A strong gradient's centre drops by several °C/s
-// within a second at the end of freezing, and only a short window puts the
-// point where it drops; a gentle dip keeps the steadier half window.
+// exceeds the longer window's by more than dipSigmas times the shorter
+// window's T' noise, so that noise alone, which deepens the lowest sample
+// of a noisier T' by a sigma or two, cannot make the step), each while its
+// T' noise is at most shortShare of the dip's depth; the T' window itself
+// when even SlopeS/2 is too noisy. A strong gradient's centre drops by
+// several °C/s within a second at the end of freezing and then relaxes
+// slowly: a window longer than that drop averages it with the relaxation
+// after it and puts the point late by up to half its length, so the
+// shortest window that still resolves a deeper dip is taken; a gentle dip,
+// which a shorter window does not deepen beyond its noise, keeps the
+// steadier half window.
 func (a *Analyzer) solidusWindow(i, j int) int {
 	noise := a.sigma(j) / a.dt // σ_T' per unit noise gain
 	w := min(curve.WindowSamples(a.h.SlopeS/2, a.rate, 2, 5), a.wd)
@@ -1659,7 +1677,7 @@ func (a *Analyzer) solidusWindow(i, j int) int {
 			return w
 		}
 		dv := a.dipDepth(v, i, j)
-		if dv < sharpGain*depth || curve.SavGol(v, 2, 1).NoiseGain()*noise > shortShare*dv {
+		if vn := curve.SavGol(v, 2, 1).NoiseGain() * noise; dv-depth < dipSigmas*vn || vn > shortShare*dv {
 			return w
 		}
 		w, depth = v, dv
