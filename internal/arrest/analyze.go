@@ -137,7 +137,8 @@ const (
 	holdShare    = 0.2  // see settle
 	flatShare    = 0.2  // see solidusPoint
 	belowWindowC = 10   // see noDistinctEnd, °C
-	sharpGain    = 1.1  // see solidusWindow
+	sharpGain    = 1.1  // see steepestStep
+	dipSigmas    = 3    // see solidusWindow
 	stepShare    = 0.1  // see steepestStep
 	fallShare    = 0.04 // an arrest's fall is at least this share of |T'|min before it
 	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
@@ -187,8 +188,15 @@ const (
 //     last half-window of a curve is never used for a point, so a point is
 //     only reported once no further reading can change it;
 //   - the pour peak is the highest despiked reading once the curve has
-//     stayed pourDropC below it for 0.5 s (and it reached Hints.MinPourC);
-//     the arrest search begins once T' no longer reaches back over the peak;
+//     stayed pourDropC below it for 0.5 s, or has not risen above it for
+//     shortArrest (and it reached Hints.MinPourC): a cup poured barely above
+//     its first arrest (a short or cold pour, a pure metal poured within a
+//     few kelvin of its freezing point) falls from the peak straight onto
+//     that arrest and never drops pourDropC until the arrest is over, while
+//     no pour transient (filling takes seconds, practice) stays below its
+//     highest reading for three T' windows; the arrest search begins half a
+//     T' window after the peak (where T' no longer reaches back over it),
+//     going back there when the peak is confirmed later;
 //   - an arrest is a local maximum of T' that rises max(P, 0.15·|T'min|)
 //     above the minimum T'min before it and falls max(P, 0.04·|T'min|) after
 //     it, P = max(0.05 °C/s, 8σ_T');
@@ -227,8 +235,13 @@ const (
 //   - a real recalescence outranks an earlier shoulder: after a eutectic
 //     without recalescence, T' that falls by more than P and then rises past
 //     +h reopens the search (shoulderPassed, reopen), and the recalescence
-//     becomes the eutectic; a eutectic without recalescence is therefore
-//     provisional until the end of freezing settles;
+//     becomes the eutectic; after a eutectic with recalescence the same
+//     reopens it too, and the next recalescence becomes the eutectic only
+//     if its minimum lies below the earlier one's and it rises more than
+//     twice as much (outranks: the earlier was the wall's arrest lifting
+//     the centre's T' just above zero), else the earlier is restored; the
+//     eutectic is therefore provisional until the end of freezing settles
+//     (not on a pure metal, whose single plateau is never reopened);
 //   - the start of eutectic freezing is T at the largest T″ (the central
 //     difference of T' over half a T' window) between the last local
 //     minimum of T' (by the hysteresis h) before the eutectic minimum and the
@@ -244,8 +257,9 @@ const (
 //     freezing ("no-end-of-freezing", not fatal);
 //   - a point shown live before its arrest's shape is complete is
 //     Point.Provisional (the minimum of a recalescence whose kind a window
-//     may still change, a eutectic without recalescence); once confirmed it
-//     never changes, and the offline answer has no provisional point;
+//     may still change, the eutectic until the end of freezing settles);
+//     once confirmed it never changes, and the offline answer has no
+//     provisional point;
 //   - where the usable data end (the recording stops, or a fault) on a long
 //     eutectic plateau before T' has fallen, the eutectic is settled from
 //     the data seen, as if T' fell at the last reading examined; its
@@ -347,7 +361,21 @@ type detector struct {
 
 	eutI int
 
+	// prev is the recalescing eutectic a reopened search may outrank
+	// (outranks), kept until the next arrest settles
+	prev outrankable
+
 	res Result
+}
+
+// outrankable is a recalescing eutectic under review: the search reopened
+// after it (shoulderPassed), and the next arrest either outranks it or it
+// is restored.
+type outrankable struct {
+	on      bool
+	res     Result
+	eutI    int
+	eutRefD float64
 }
 
 // heldArrest is an arrest settled but not yet classified (see settle).
@@ -369,9 +397,12 @@ type heldArrest struct {
 //	stageArrest → stageSolidus  an arrest is classified as the eutectic (arrest)
 //	stageArrest → stageDone     the eutectic lies outside the alloy's window
 //	                            (outsideWindow)
-//	stageSolidus → stageArrest  T' rises beyond the hysteresis after a eutectic
-//	                            that did not recalesce: it was a shoulder (reopen,
-//	                            shoulderPassed)
+//	stageSolidus → stageArrest  T' rises beyond the hysteresis after falling from
+//	                            the eutectic: a eutectic that did not recalesce
+//	                            was a shoulder, one that did is under review
+//	                            (reopen, shoulderPassed)
+//	stageArrest → stageSolidus  (under review) the next arrest does not outrank
+//	                            the eutectic, which is restored (arrest, outranks)
 //	stageSolidus → stageDone    the end of freezing settles (solidus)
 //	any → stageDone             too noisy to trust (detect)
 type stage uint8
@@ -780,7 +811,9 @@ func (a *Analyzer) filter(upto int) {
 			}
 			// the fall must last half a second (at least 3 readings): a
 			// spike on the steep rise is no peak
-			if a.pourBelow >= pourRun {
+			// or the reading has stayed below the peak for shortArrest
+			// (see Analyze: a pour barely above the first arrest)
+			if a.pourBelow >= pourRun || a.xmax >= a.h.MinPourC && a.ts[k]-a.ts[a.xmaxI] >= a.shortArrest() {
 				a.pourConf = k
 			}
 		}
@@ -922,7 +955,9 @@ func (a *Analyzer) detect() {
 				e.j = len(a.d) - 1 // not confirmed in the readings filtered so far
 				continue
 			}
-			if start := max(a.pourConf, a.xmaxI+a.wd/2+2); j < start {
+			if start := a.xmaxI + a.wd/2 + 2; j != start {
+				// from half a T' window after the peak, going back to it
+				// where the peak was confirmed later
 				e.j = min(start, len(a.d)) - 1
 				continue
 			}
@@ -1155,6 +1190,12 @@ func (a *Analyzer) kindKnown(loC float64) bool {
 // classified (arrest).
 func (a *Analyzer) showMin(j int) {
 	e := &a.det
+	if e.prev.on {
+		// a recalescence that may outrank the eutectic shown: nothing is
+		// shown until it settles (arrest)
+		e.minShown = true
+		return
+	}
 	lo := e.minPt.TempC
 	byTemp := a.kindKnown(lo)
 	known := byTemp && (a.h.Eutectic.Open() || lo > a.h.Eutectic.HiC)
@@ -1167,6 +1208,7 @@ func (a *Analyzer) showMin(j int) {
 	pt.Provisional = !known
 	switch {
 	case !a.primary(lo, true):
+		pt.Provisional = pt.Provisional || a.reopens() // may be outranked (outranks)
 		r.EutecticMin = pt
 	case !r.Liquidus.OK:
 		r.LiquidusMin = pt
@@ -1222,7 +1264,7 @@ func (a *Analyzer) longArrest(j int, recal bool, p float64) bool {
 func (a *Analyzer) settle(j int, lo, hi Point, recal bool, p float64) {
 	e := &a.det
 	from, ok := a.arrestSpan(recal, p)
-	if !ok || a.kindKnown(lo.TempC) || a.ts[j]-a.ts[from] >= a.shortArrest() {
+	if !ok || e.prev.on || a.kindKnown(lo.TempC) || a.ts[j]-a.ts[from] >= a.shortArrest() {
 		a.arrest(j, lo, hi, recal, ok && a.ts[j]-a.ts[from] >= a.shortArrest())
 		return
 	}
@@ -1268,7 +1310,19 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 		r.CoolingRateCps = a.coolingRate(e)
 	}
 	w := a.h.Eutectic
-	if !w.Open() && hi.TempC > w.HiC || a.primary(lo.TempC, long) {
+	if e.prev.on {
+		// the search reopened on a recalescing eutectic: this arrest, below
+		// it, is no primary arrest; it is the eutectic if it outranks the
+		// earlier one, else the earlier one is restored
+		pv := e.prev
+		e.prev = outrankable{}
+		if !outranks(&pv.res, lo, hi, recal) {
+			e.res, e.eutI, e.eutRefD, e.eutRecal = pv.res, pv.eutI, pv.eutRefD, true
+			e.stage = stageSolidus
+			e.dmin, e.dminI = a.d[j], j
+			return
+		}
+	} else if !w.Open() && hi.TempC > w.HiC || a.primary(lo.TempC, long) {
 		// an arrest reaching above the eutectic window is a primary one,
 		// and only inside the liquidus window (where one is set) the
 		// liquidus
@@ -1304,8 +1358,9 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 		return
 	}
 	// a eutectic without recalescence may yet turn out a shoulder
-	// (shoulderPassed): provisional until the end of freezing settles
-	lo.Provisional, hi.Provisional = !recal, !recal
+	// (shoulderPassed), one with recalescence be outranked (outranks):
+	// provisional until the end of freezing settles
+	lo.Provisional, hi.Provisional = !recal || a.reopens(), !recal || a.reopens()
 	r.EutecticMin, r.EutecticMax = lo, hi
 	r.EutecticStart = a.eutecticStart(lo)
 	r.Recalescence, r.RecalescenceOK = hi.TempC-lo.TempC, true
@@ -1408,23 +1463,55 @@ func (a *Analyzer) outsideWindow(j int, lo, hi Point) {
 // eutectic. The fall between them must exceed the prominence p, so that
 // noise on a plateau is no second arrest. A pure metal's single plateau
 // (EutecticTopC +Inf) is never reopened.
+//
+// After a eutectic that did recalesce, the same rise reopens the search
+// too, but the recalescence that follows becomes the eutectic only if it
+// outranks the earlier one (outranks); else the earlier is restored.
 func (a *Analyzer) shoulderPassed(v, dmin, h, p float64) bool {
-	e := &a.det
-	if e.eutRecal {
-		return false // a recalescence is the eutectic: nothing outranks it
-	}
-	return !math.IsInf(a.h.EutecticTopC, 1) && v > h && e.eutRefD-dmin > p
+	return a.reopens() && v > h && a.det.eutRefD-dmin > p
 }
+
+// reopens tells whether a later arrest may take the eutectic's place
+// (shoulderPassed): not on a pure metal's single plateau (EutecticTopC
+// +Inf).
+func (a *Analyzer) reopens() bool { return !math.IsInf(a.h.EutecticTopC, 1) }
+
+// outranks tells whether a recalescing arrest (lo, hi) found after the
+// search reopened on a recalescing eutectic (pr) outranks it: its
+// minimum lies below the earlier minimum, so the curve fell back after the
+// earlier rise, and it rises more than recalOutrank times as much. A cup
+// wall that freezes before the centre can lift the centre's T' just above
+// zero some tens of seconds before the centre's own eutectic, whose
+// recalescence, once the curve has fallen below that shoulder, is several
+// times larger (in the radial cup model the centre's own solid fraction
+// grows by under 0.2 % during such a shoulder and by 10–17 % during its own
+// recalescence); two recalescences of like size, a plateau wobbling about
+// zero, keep the first.
+func outranks(pr *Result, lo, hi Point, recal bool) bool {
+	return recal && lo.TempC < pr.EutecticMin.TempC && hi.TempC-lo.TempC > recalOutrank*pr.Recalescence
+}
+
+// recalOutrank: see outranks.
+const recalOutrank = 2
 
 // reopen takes up the arrest search again at index j (T' = d > h), in the
 // recalescence after a shoulder that had been taken for the eutectic
 // (shoulderPassed): the shoulder's points are withdrawn, and the
-// recalescence is examined as the arrest search examines one.
+// recalescence is examined as the arrest search examines one. A eutectic
+// that recalesced is kept, shown, under review (det.prev) until that
+// recalescence settles: arrest then takes it for the eutectic if it
+// outranks the earlier one, or restores the earlier one.
 func (a *Analyzer) reopen(j int, d float64) {
 	e := &a.det
 	r := &e.res
-	r.EutecticStart, r.EutecticMin, r.EutecticMax = Point{}, Point{}, Point{}
-	r.Recalescence, r.RecalescenceOK = 0, false
+	if e.eutRecal {
+		// a recalescing eutectic stays, shown, until the next arrest
+		// outranks it (outranks) or not
+		e.prev = outrankable{on: true, res: *r, eutI: e.eutI, eutRefD: e.eutRefD}
+	} else {
+		r.EutecticStart, r.EutecticMin, r.EutecticMax = Point{}, Point{}, Point{}
+		r.Recalescence, r.RecalescenceOK = 0, false
+	}
 	e.stage, e.sub, e.start = stageArrest, phaseRise, e.eutI
 	e.dmax, e.dmaxI, e.cand = d, j, -1
 	a.arrestStep(j, d, max(slopeFloor, 4*a.sigma(j)*a.gainD), max(promFloor, 8*a.sigma(j)*a.gainD))
@@ -1641,11 +1728,17 @@ func (a *Analyzer) steepestStep(i, j, lo, hi int) (Point, bool) {
 // negative T' at sample i, settled at j) is placed on: Hints.SlopeS/2, or a
 // shorter one of SlopeS/4, /8 … (at least 5 samples) where the dip is
 // sharper than the longer window resolves (its depth on the shorter window
-// at least sharpGain times the longer window's), each while its T' noise is
-// at most shortShare of the dip's depth; the T' window itself when even
-// SlopeS/2 is too noisy. A strong gradient's centre drops by several °C/s
-// within a second at the end of freezing, and only a short window puts the
-// point where it drops; a gentle dip keeps the steadier half window.
+// exceeds the longer window's by more than dipSigmas times the shorter
+// window's T' noise, so that noise alone, which deepens the lowest sample
+// of a noisier T' by a sigma or two, cannot make the step), each while its
+// T' noise is at most shortShare of the dip's depth; the T' window itself
+// when even SlopeS/2 is too noisy. A strong gradient's centre drops by
+// several °C/s within a second at the end of freezing and then relaxes
+// slowly: a window longer than that drop averages it with the relaxation
+// after it and puts the point late by up to half its length, so the
+// shortest window that still resolves a deeper dip is taken; a gentle dip,
+// which a shorter window does not deepen beyond its noise, keeps the
+// steadier half window.
 func (a *Analyzer) solidusWindow(i, j int) int {
 	noise := a.sigma(j) / a.dt // σ_T' per unit noise gain
 	w := min(curve.WindowSamples(a.h.SlopeS/2, a.rate, 2, 5), a.wd)
@@ -1659,7 +1752,7 @@ func (a *Analyzer) solidusWindow(i, j int) int {
 			return w
 		}
 		dv := a.dipDepth(v, i, j)
-		if dv < sharpGain*depth || curve.SavGol(v, 2, 1).NoiseGain()*noise > shortShare*dv {
+		if vn := curve.SavGol(v, 2, 1).NoiseGain() * noise; dv-depth < dipSigmas*vn || vn > shortShare*dv {
 			return w
 		}
 		w, depth = v, dv

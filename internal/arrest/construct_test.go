@@ -191,18 +191,22 @@ func matched(dBefore, aBefore, aAfter float64) float64 {
 	return dBefore * math.Sqrt(math.Abs(aAfter/aBefore))
 }
 
+// knotSeq lists the knots from the pour peak (0, 0) and start, each step
+// {Δt, T'} after the one before.
+func knotSeq(start knot, steps ...[2]float64) []knot {
+	ks := []knot{{0, 0}, start}
+	for _, s := range steps {
+		last := ks[len(ks)-1]
+		ks = append(ks, knot{last.t + s[0], s[1]})
+	}
+	return ks
+}
+
 // shapes are the constructed curves of the accuracy tests: cast iron hypo-
 // and hypereutectic, with and without eutectic recalescence, a white
 // (tellurium-cup) flat arrest, Al-Si with and without α-Al recalescence.
 func shapes() []*shape {
-	seq := func(start knot, steps ...[2]float64) []knot {
-		ks := []knot{{0, 0}, start}
-		for _, s := range steps {
-			last := ks[len(ks)-1]
-			ks = append(ks, knot{last.t + s[0], s[1]})
-		}
-		return ks
-	}
+	seq := knotSeq
 	return []*shape{
 		{name: "grey iron, hypoeutectic, eutectic recalescence (constructed)", family: FamilyIron, anchorT: 95, anchorC: 1146, pre: 5,
 			knots: seq(knot{4, -3.2}, [2]float64{26, -2.6}, [2]float64{12, -0.4}, [2]float64{matched(12, 2.2, 0.9), -1.3}, [2]float64{24, -1.2},

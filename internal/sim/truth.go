@@ -182,6 +182,18 @@ const startSpanS = 0.25
 // as a recalescence, °C (docs/analysis.md).
 const recalMinC = 0.05
 
+// recalOutrank: a later recalescence whose minimum lies below the one
+// taken for the eutectic and whose rise is more than recalOutrank times
+// that one's outranks it (docs/analysis.md, "What counts as the
+// eutectic"): a cup wall freezing before the centre can lift the centre's
+// T' just above zero some tens of seconds before the centre's own
+// eutectic, whose recalescence, once the curve has fallen below that
+// shoulder, is several times larger (in the radial model the centre's own
+// solid fraction grows by under 0.2 % during the shoulder, by 10–17 %
+// during its own recalescence). Two recalescences of like size, a plateau
+// wobbling about zero, keep the first.
+const recalOutrank = 2
+
 // crossing returns the point where d crosses zero between i−1 and i,
 // interpolated linearly.
 func (f *fine) crossing(d []float64, i int) Point {
@@ -289,29 +301,33 @@ func (f *fine) points(n int, tr *Truth) {
 	plateauEnd, eutMin := -1, -1
 	// the eutectic recalesces where T' crosses − → + and T then rises by at
 	// least recalMinC before T' falls again; a smaller excursion is an
-	// arrest at zero, and the search goes on after it
+	// arrest at zero, and the search goes on after it. A later
+	// recalescence outranks the one taken (outranks) where T first fell
+	// below that one's minimum and then rises by more than recalOutrank
+	// times as much: the earlier was the wall's arrest conducted in.
 	i := upCross(start, n)
 	for i > 0 && i < n-1 {
 		k := downCross(i+1, n)
 		if k < 0 {
 			// still recalescing where the recording ends: the minimum is
 			// known once T has risen by recalMinC, the maximum is not
-			if x[n-1]-f.tc[i] >= recalMinC {
-				tr.EutecticMin = f.crossing(d, i)
-				eutMin = i - 1
+			if x[n-1]-f.tc[i] >= recalMinC && (eutMin < 0 || x[n-1]-f.tc[i] > recalOutrank*tr.Recalescence && f.tc[i] < tr.EutecticMin.TempC) {
+				tr.EutecticMin, tr.EutecticMax, tr.Recalescence = f.crossing(d, i), Point{}, 0
+				eutMin, plateauEnd = i-1, -1
 			}
 			break
 		}
-		if f.tc[k]-f.tc[i] >= recalMinC {
-			tr.EutecticMin = f.crossing(d, i)
-			tr.EutecticMax = f.crossing(d, k)
-			tr.Recalescence = tr.EutecticMax.TempC - tr.EutecticMin.TempC
-			plateauEnd, eutMin = k, i-1 // the last step before the crossing
-			break
+		if rise := f.tc[k] - f.tc[i]; rise >= recalMinC {
+			if eutMin < 0 || rise > recalOutrank*tr.Recalescence && f.tc[i] < tr.EutecticMin.TempC {
+				tr.EutecticMin = f.crossing(d, i)
+				tr.EutecticMax = f.crossing(d, k)
+				tr.Recalescence = tr.EutecticMax.TempC - tr.EutecticMin.TempC
+				plateauEnd, eutMin = k, i-1 // the last step before the crossing
+			}
 		}
 		i = upCross(k+1, n)
 	}
-	if i < 0 {
+	if i < 0 && eutMin < 0 {
 		if j := localMax(start, n); j > 0 {
 			tr.EutecticMin = f.at(j)
 			tr.EutecticMax = tr.EutecticMin
