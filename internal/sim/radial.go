@@ -438,7 +438,12 @@ func (m *cup) primaryTemp(a *scheilAnchor, t0, envelopes, fp, fe float64) (temp,
 		}
 		gv := t - t0 - k*(envelopes*f-fp)
 		dg := 1 - k*envelopes*df
-		next := min(max(t-gv/dg, t0), m.liquidus)
+		next := t - gv/dg
+		if next < t0 {
+			next = t0
+		} else if next > m.liquidus {
+			next = m.liquidus
+		}
 		if math.Abs(next-t) < 1e-9 {
 			return next, f + df*(next-t) // the rest of f's Taylor series is below 1e-17
 		}
