@@ -433,10 +433,8 @@ func sumSq(r []float64) float64 {
 // recalescence falls as A·μ³ grows, so a bracketed regula falsi (Illinois)
 // in ln(A·μ³) finds it in a few runs.
 func (pb *problem) start(ctx context.Context) error {
-	if n := pb.liquidEnd; n > 20 {
-		if _, err := pb.gaussNewton(ctx, []int{parLnH, parLnTau, parPour, parPourAt}, n, 5); err != nil {
-			return err
-		}
+	if err := pb.liquidFit(ctx); err != nil {
+		return err
 	}
 	pts := pb.s.Points
 	primary := func(tr sim.Truth) (rec, top float64, ok bool) {
@@ -454,6 +452,22 @@ func (pb *problem) start(ctx context.Context) error {
 		}
 	}
 	return pb.match(ctx, parLnAMu3, parTE, pts.Recalescence, pts.EutecticMax.TempC, eutectic)
+}
+
+// liquidFit fits the thermal parameters (h, τ, the pour temperature and
+// time) to the liquid cooling before the first arrest, where there are
+// more than 20 readings of it: the first step of a fit's start. A line
+// search that stops short (the minimum within the model's roughness, see
+// minLineStep) leaves them where it stopped; that is no error.
+func (pb *problem) liquidFit(ctx context.Context) error {
+	n := pb.liquidEnd
+	if n <= 20 {
+		return nil
+	}
+	if res, err := pb.gaussNewton(ctx, []int{parLnH, parLnTau, parPour, parPourAt}, n, 5); res == nil {
+		return err
+	}
+	return nil
 }
 
 // match sets the law's ln(A·μ³) (theta[lnA]) so that the model's
