@@ -218,10 +218,8 @@ func refit(ctx context.Context, before *Fitted, s Sample, t Treatment, k int, st
 	m.primary = before.m.primary
 	m.radial = before.m.radial // the same kind of cup
 	pb.free = []int{k, parLnH, parLnTau, parPour, parPourAt}
-	if n := pb.liquidEnd; n > 20 {
-		if _, err := pb.gaussNewton(ctx, []int{parLnH, parLnTau, parPour, parPourAt}, n, 5); err != nil {
-			return nil, err
-		}
+	if err := pb.liquidFit(ctx); err != nil {
+		return nil, err
 	}
 	pts := s.Points
 	switch {

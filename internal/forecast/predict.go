@@ -97,18 +97,41 @@ type predictor struct {
 	rec   assess.Record // the measured record
 	entry *limits.Alloy
 	// span is the model's run: the fit's window and a minute more (a
-	// modifier's eutectic comes later).
+	// modifier's eutectic comes later), for a primary law 10 s more.
 	span   []float64
 	before [2]float64 // the fitted model's own points (no addition)
 	// dBefore[i] are the model's points with parameter i stepped.
 	dBefore [][2]float64
 	runs    int
+	// seen holds every run's points by its parameters and remaining
+	// effect: the searches and estimates ask for the same runs again (the
+	// no-addition runs of newPredictor, the coarse scan of each edge
+	// search), and the model is deterministic.
+	seen map[pointsKey]pointsRun
+}
+
+// pointsKey and pointsRun are one run of predictor.points.
+type pointsKey struct {
+	th [numPar]float64
+	r  float64
+}
+
+type pointsRun struct {
+	p  [2]float64
+	ok bool
 }
 
 // newPredictor prepares predictions for the fitted sample.
 func newPredictor(f *Fitted, t Treatment, in assess.Input, res arrest.Result) (*predictor, error) {
 	pr := &predictor{f: f, t: t, in: in, res: res, rec: assess.FromResult(in, res)}
-	pr.span = []float64{f.times[0], f.times[len(f.times)-1] + 60}
+	more := 60.0 // a modifier's eutectic comes later
+	if f.Law == LawPrimary {
+		// the primary arrest comes earlier, not later, with more nuclei,
+		// and the window already runs 20 s past it: the model is causal,
+		// so the points are those of the longer run
+		more = 10
+	}
+	pr.span = []float64{f.times[0], f.times[len(f.times)-1] + more}
 	book := in.Limits
 	if book == nil {
 		book = builtin
@@ -138,13 +161,21 @@ func newPredictor(f *Fitted, t Treatment, in assess.Input, res arrest.Result) (*
 // the two points the law shapes: the eutectic minimum and maximum, or the
 // primary arrest's minimum and growth temperature.
 func (pr *predictor) points(th [numPar]float64, r float64) ([2]float64, bool) {
-	pr.runs++
-	_, tr, err := pr.f.m.curve(th, pr.t.addition(r), pr.span)
-	if err != nil {
-		return [2]float64{}, false
+	key := pointsKey{th, r}
+	if run, ok := pr.seen[key]; ok {
+		return run.p, run.ok
 	}
-	lo, top, ok := arrestPoints(pr.f.Law, tr)
-	return [2]float64{lo, top}, ok
+	pr.runs++
+	var run pointsRun
+	if _, tr, err := pr.f.m.curve(th, pr.t.addition(r), pr.span); err == nil {
+		lo, top, ok := arrestPoints(pr.f.Law, tr)
+		run = pointsRun{[2]float64{lo, top}, ok}
+	}
+	if pr.seen == nil {
+		pr.seen = map[pointsKey]pointsRun{}
+	}
+	pr.seen[key] = run
+	return run.p, run.ok
 }
 
 // result is the measured Result moved by the model's change of the two

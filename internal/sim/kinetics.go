@@ -246,6 +246,7 @@ func (p Params) model() cup {
 		m.eutRange = alSiEutecticRange
 	}
 	m.primary = m.liquidus > m.eutectic && m.lineSlope > 0
+	m.scheilExp = 1 / (m.partition - 1)
 	m.mass, m.rho, m.c, m.latent, m.h, m.eps = p.CupMassKg, mat.rho, mat.c, mat.latent, mat.h, mat.eps
 	// A cylinder as high as wide: V = πD³/4, A = 1.5πD², A_top = πD²/4.
 	d := math.Cbrt(4 * p.CupMassKg / mat.rho / math.Pi)

@@ -391,8 +391,8 @@ func (m *cup) freezeZone(z *lump, bp, be, dt float64) float64 {
 	if m.primary && z.eut.frac < 1 {
 		z.prim.step(&m.primaryLaw, bp, m.liquidus-z.temp, dt)
 		if z.prim.frac > 0 {
-			t := m.primaryTemp(z.temp, z.prim.frac, z.fp, z.eut.frac)
-			if fp := z.prim.frac * m.fraction(t); fp > z.fp {
+			t, f := m.primaryTemp(&z.scheil, z.temp, z.prim.frac, z.fp, z.eut.frac)
+			if fp := z.prim.frac * f; fp > z.fp {
 				d := (fp - z.fp) * (1 - z.eut.frac)
 				released += m.latent * d
 				z.fp, z.fs, z.temp = fp, z.fs+d, t
@@ -419,45 +419,35 @@ func (m *cup) freezeZone(z *lump, bp, be, dt float64) float64 {
 // c·(T − t0) = L·(1 − fe)·(F·fraction(T) − fp), with F the envelopes'
 // fraction, fp the primary solid already there and fe the eutectic
 // fraction, by Newton's method (g(T) is increasing and convex), to 1e-9 K
-// or at most six steps. It returns t0 when no primary solid would form.
+// or at most six steps. It returns t0 when no primary solid would form,
+// and the equilibrium fraction at the temperature returned.
 //
-// The fraction at t0 serves the first step too, and the Scheil slope is
-// taken from the same power as the fraction (fractionSlope): the Scheil
-// rule's math.Pow was most of an Al-Si radial cup's cost.
-func (m *cup) primaryTemp(t0, envelopes, fp, fe float64) float64 {
-	f, df := m.fractionSlope(t0)
+// Fraction and slope come from the zone's Scheil anchor (fractionAt): the
+// Scheil rule's math.Pow in every zone, every step and every Newton step
+// was most of an Al-Si radial cup's cost.
+func (m *cup) primaryTemp(a *scheilAnchor, t0, envelopes, fp, fe float64) (temp, frac float64) {
+	f, df := m.fractionAt(a, t0)
 	if envelopes*f <= fp {
-		return t0
+		return t0, f
 	}
 	k := m.latent * (1 - fe) / m.c
 	t := t0
 	for i := range 6 {
 		if i > 0 {
-			f, df = m.fractionSlope(t)
+			f, df = m.fractionAt(a, t)
 		}
 		gv := t - t0 - k*(envelopes*f-fp)
 		dg := 1 - k*envelopes*df
-		next := min(max(t-gv/dg, t0), m.liquidus)
+		next := t - gv/dg
+		if next < t0 {
+			next = t0
+		} else if next > m.liquidus {
+			next = m.liquidus
+		}
 		if math.Abs(next-t) < 1e-9 {
-			return next
+			return next, f + df*(next-t) // the rest of f's Taylor series is below 1e-17
 		}
 		t = next
 	}
-	return t
-}
-
-// fractionSlope is fraction(t) and dfraction(t) at once: for the Scheil
-// rule, with p = (Cl/C0)^e, e = 1/(k − 1), fs = 1 − p and
-// dfs/dT = e·p/(Cl·s) (one power for both).
-func (m *cup) fractionSlope(t float64) (f, df float64) {
-	if t >= m.liquidus {
-		return 0, 0
-	}
-	if m.lever {
-		return m.fraction(t), m.dfraction(t)
-	}
-	cl := (m.lineTm - t) / m.lineSlope
-	e := 1 / (m.partition - 1)
-	p := math.Pow(cl/m.c0, e)
-	return 1 - p, e * p / (cl * m.lineSlope)
+	return t, f
 }

@@ -2,6 +2,7 @@ package sim
 
 import (
 	"math"
+	"math/rand/v2"
 	"slices"
 	"testing"
 )
@@ -257,5 +258,54 @@ func TestEutecticStartBeforeMinimum(t *testing.T) {
 				t.Errorf("%s (%v): eutectic start %+v, after %+v, eutectic min %+v", alloy, r != nil, es, after, tr.EutecticMin)
 			}
 		}
+	}
+}
+
+// The radial cup takes the Scheil fraction and its slope from a zone's
+// anchor and a binomial series (fractionAt); along a zone's cooling path,
+// with the small steps and the jumps of a recalescence, it must equal the
+// closed form fs = 1 − (Cl/C0)^(1/(k−1)) and its derivative (fraction,
+// dfraction: the Scheil equation as published, Scheil, Z. Metallkd. 34
+// (1942) 70, recalled) to 1e-14 relative, i.e. to rounding (tolerance of
+// our own: a few units of a double's 1.1e-16 carried through the series).
+func TestScheilAnchorIsTheClosedForm(t *testing.T) {
+	p, err := Preset(AlSi7Mg, 0.2, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := p.withDefaults().model()
+	rng := rand.New(rand.NewPCG(7, 7))
+	var a scheilAnchor
+	temp, worst, anchors := m.liquidus+0.5, 0.0, 0
+	for i := range 100_000 {
+		switch {
+		case i%5000 == 4999: // a recalescence: up by up to 2 K
+			temp += 2 * rng.Float64()
+		default: // cooling by up to 0.05 K a step
+			temp -= 0.05 * rng.Float64()
+		}
+		if temp < m.eutectic-5 {
+			temp = m.liquidus + 0.5
+		}
+		before := a
+		f, df := m.fractionAt(&a, temp)
+		if a != before {
+			anchors++
+		}
+		g, dg := m.fraction(temp), m.dfraction(temp)
+		if temp >= m.liquidus {
+			if f != 0 || df != 0 {
+				t.Fatalf("above the liquidus at %g °C: fraction %g, slope %g", temp, f, df)
+			}
+			continue
+		}
+		worst = math.Max(worst, math.Max(math.Abs(f-g)/(1-g), math.Abs(df-dg)/math.Abs(dg)))
+	}
+	if worst > 1e-14 {
+		t.Errorf("the anchored Scheil fraction departs from the closed form by %.3g relative, want ≤ 1e-14", worst)
+	}
+	t.Logf("worst relative difference %.3g, %d anchors for 100000 evaluations", worst, anchors)
+	if anchors > 50_000 {
+		t.Errorf("%d anchors (math.Pow) for 100000 evaluations: the anchor is not reused", anchors)
 	}
 }
