@@ -3,6 +3,7 @@ package curvefile
 import (
 	"bytes"
 	"fmt"
+	"github.com/undercool-foundry/undercool/internal/cpuclock"
 	"math"
 	"os"
 	"path/filepath"
@@ -44,14 +45,14 @@ func BenchmarkRead(b *testing.B) {
 		b.Run(c.name, func(b *testing.B) {
 			b.SetBytes(int64(len(c.data)))
 			b.ReportAllocs()
-			cpu0 := cpuTime()
+			cpu0 := cpuclock.Used()
 			for b.Loop() {
 				cv, err := Read(bytes.NewReader(c.data), "bench.csv")
 				if err != nil || len(cv.Time) == 0 {
 					b.Fatal(err)
 				}
 			}
-			if cpu := cpuTime() - cpu0; cpu0 >= 0 && cpu > 0 {
+			if cpu := cpuclock.Used() - cpu0; cpu > 0 {
 				b.ReportMetric(float64(b.N)*float64(len(c.data))/1e6/cpu.Seconds(), "MB/cpu-s")
 			}
 		})

@@ -2,6 +2,7 @@ package forecast
 
 import (
 	"context"
+	"github.com/undercool-foundry/undercool/internal/cpuclock"
 	"testing"
 
 	"github.com/undercool-foundry/undercool/internal/sim"
@@ -40,7 +41,7 @@ func BenchmarkAdvise(b *testing.B) {
 			}
 			in, res, _ := cup(b, p, c.alloy)
 			runs := 0
-			cpu0 := cpuTime()
+			cpu0 := cpuclock.Used()
 			for b.Loop() {
 				for _, pr := range Advise(context.Background(), in, res, Options{Inoculant: c.inoculant, DelayMin: -1}) {
 					if !pr.Applies {
@@ -49,7 +50,7 @@ func BenchmarkAdvise(b *testing.B) {
 					runs += pr.Fit.ModelRuns
 				}
 			}
-			if cpu := cpuTime() - cpu0; cpu0 >= 0 && cpu > 0 {
+			if cpu := cpuclock.Used() - cpu0; cpu > 0 {
 				b.ReportMetric(cpu.Seconds()/float64(b.N), "cpu-s/op")
 			}
 			b.ReportMetric(float64(runs)/float64(b.N), "fit-runs/op")

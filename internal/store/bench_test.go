@@ -3,6 +3,7 @@ package store
 import (
 	"context"
 	"fmt"
+	"github.com/undercool-foundry/undercool/internal/cpuclock"
 	"path/filepath"
 	"strconv"
 	"testing"
@@ -45,13 +46,13 @@ func BenchmarkAddSamples10k(b *testing.B) {
 			b.Fatal(err)
 		}
 		b.StartTimer()
-		c0 := cpuTime()
+		c0 := cpuclock.Used()
 		for j := 0; j < len(ss); j += 1000 {
 			if _, err := db.AddSamples(ctx, ss[j:j+1000]); err != nil {
 				b.Fatal(err)
 			}
 		}
-		cpu += cpuTime() - c0
+		cpu += cpuclock.Used() - c0
 		b.StopTimer()
 		db.Close()
 		b.StartTimer()
@@ -87,7 +88,7 @@ func BenchmarkHistoryMonth(b *testing.B) {
 		b.Fatal(err)
 	}
 	since := end.Add(-30 * 24 * time.Hour)
-	cpu := cpuTime()
+	cpu := cpuclock.Used()
 	for b.Loop() {
 		h, err := db.History(ctx, Filter{Since: since})
 		if err != nil {
@@ -99,7 +100,7 @@ func BenchmarkHistoryMonth(b *testing.B) {
 	}
 	// CPU time as well as wall time: on a shared, loaded machine the
 	// wall time says more about the neighbours than about the query
-	b.ReportMetric(float64(cpuTime()-cpu)/float64(b.N), "cpu-ns/op")
+	b.ReportMetric(float64(cpuclock.Used()-cpu)/float64(b.N), "cpu-ns/op")
 }
 
 // plantMonth fills a plant database with a month of twenty decks (150
@@ -152,7 +153,7 @@ func BenchmarkPlantHistoryMonth(b *testing.B) {
 				continue
 			}
 			b.Run(table.name+"/"+read, func(b *testing.B) {
-				cpu := cpuTime()
+				cpu := cpuclock.Used()
 				for b.Loop() {
 					n := 0
 					var err error
@@ -170,7 +171,7 @@ func BenchmarkPlantHistoryMonth(b *testing.B) {
 						b.Fatalf("%d rows, want 30000", n)
 					}
 				}
-				b.ReportMetric(float64(cpuTime()-cpu)/float64(b.N), "client-cpu-ns/op")
+				b.ReportMetric(float64(cpuclock.Used()-cpu)/float64(b.N), "client-cpu-ns/op")
 			})
 		}
 	}
