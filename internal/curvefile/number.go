@@ -22,120 +22,153 @@ type numReader struct {
 }
 
 // read reads the fields of a row at b[i:] as numbers into out, at most
-// len(out) of them, while each holds a number and ends where its
-// field ends: blanks may follow (spaces, and tabs where sep is not a
-// tab), then sep or the line end; with sep ' ' (runs of blanks separate
-// the fields) a run of blanks ends it. After a separator, blanks before
-// the next field are passed over. b must hold a line end ('\n' or '\r')
-// after i. It returns how many numbers it read, the index of the first
-// field it did not read (or of the line end after the last), and eol,
-// whether that last number ended the line. A field it did not read is
-// left to the caller: text, a quoted field, a blank, or something that is
-// not a number.
+// len(out) of them, while each holds a number of the usual shape and ends
+// where its field ends: blanks may follow (spaces, and tabs where sep is
+// not a tab), then sep or the line end; with sep ' ' (runs of blanks
+// separate the fields) a run of blanks ends it. After a separator, blanks
+// before the next field are passed over. b must hold a line end ('\n' or
+// '\r') after i. It returns how many numbers it read, the index of the
+// first field it did not read (or of the line end after the last), and
+// eol, whether that last number ended the line. A field it did not read is
+// left to the caller: text, a quoted field, a blank, something that is not
+// a number, or a number of another shape (parseNumIn reads those).
 //
-// A number is [+-]digits[.digits][(e|E)[+-]digits] with at least one digit
-// before the exponent (dec counting as '.'), and its value a finite
-// float64 (NaN, infinities and hexadecimal are never numbers here). One
-// of at most 15 digits (whose digits make an integer m < 2^53), with a
-// decimal exponent e within ±22, is converted as m·10^e or m/10^−e by one
-// floating-point operation on two exact operands, so its one rounding is
-// the correct one (Clinger's fast path: W. D. Clinger, "How to read
-// floating point numbers accurately", PLDI 1990); every other number goes
-// to strconv.ParseFloat. Each value is thus the float64 nearest to the
-// text, bit for bit what strconv.ParseFloat gives for the same text with
-// '.' as its decimal mark (FuzzParseNum).
+// The usual shape is a logger's: [+-]digits[.digits], dec counting as
+// '.', with 1 to 15 digits and no exponent. Its digits make an integer
+// m < 10^15 < 2^53 and its f digits after the mark are at most 15, so m
+// and 10^f are both exactly float64s (every power of ten up to 10^22 is)
+// and m/10^f, one correctly rounded division of exact operands, is the
+// float64 nearest to the text (Clinger's fast path: W. D. Clinger, "How to
+// read floating point numbers accurately", PLDI 1990): bit for bit what
+// strconv.ParseFloat gives (FuzzParseNum).
 //
-// This is the reader's inner loop: it calls nothing for the usual number
-// and allocates nothing, and it keeps few values live so that they stay
-// in registers.
+// This is the reader's inner loop. It calls nothing, so that its values
+// stay in registers, and allocates nothing.
 func (r *numReader) read(b []byte, i int, out []float64) (n, next int, eol bool) {
-	for ; n < len(out); n++ {
+	for n < len(out) {
 		start := i
 		if c := b[i]; c == '-' || c == '+' {
 			i++
 		}
-		var m uint64 // the digits as an integer; wraps beyond 19 digits, and is then not used
 		from := i
-		for ; b[i]-'0' <= 9; i++ {
-			m = m*10 + uint64(b[i]-'0')
+		var m uint64
+		m, i = digitsAt(b, i, 0)
+		digits, frac := i-from, 0
+		if c := b[i]; c == '.' || c == r.dec {
+			from = i + 1
+			m, i = digitsAt(b, from, m)
+			frac = i - from
+			digits += frac
 		}
-		digits := i - from
-		exp := 0
 		c := b[i]
-		if c == '.' || c == r.dec {
-			i++
-			from = i
-			for ; b[i]-'0' <= 9; i++ {
-				m = m*10 + uint64(b[i]-'0')
-			}
-			exp = from - i
-			digits -= exp
-			c = b[i]
+		if uint(digits-1) >= 15 || c|0x20 == 'e' {
+			return n, start, false // no digits, or not the usual shape
 		}
-		if digits == 0 {
-			return n, start, false
+		v := float64(int64(m)) / pow10[frac&15] // frac <= 15: the mask only tells the compiler so
+		if b[start] == '-' {
+			v = -v
 		}
-		if c|0x20 == 'e' {
-			e, j := exponent(b, i+1)
-			if j < 0 {
-				return n, start, false // an exponent without digits
-			}
-			exp += e
-			i = j
-			c = b[i]
-		}
-		var v float64
-		if digits <= 15 && uint(exp+22) <= 44 { // m < 10^15 < 2^53, exactly a float64
-			v = float64(int64(m))
-			if exp < 0 {
-				v /= pow10[-exp]
-			} else {
-				v *= pow10[exp]
-			}
-			if b[start] == '-' {
-				v = -v
-			}
-		} else {
-			var ok bool
-			if v, ok = r.slow(b[start:i]); !ok {
-				return n, start, false
-			}
-		}
-		// The field must end here: the separator, or the line end, or
+		// The field must end here: the line end, or the separator, or
 		// blanks and then one of them.
-		switch {
-		case c == '\n' || c == '\r':
+		if c == '\n' || c == '\r' {
 			out[n] = v
 			return n + 1, i, true
-		case c == r.sep && c != ' ':
-			out[n] = v
-			i++
-			for b[i] == ' ' || b[i] == '\t' {
-				i++
-			}
-			continue
 		}
-		j := i
-		for b[j] == ' ' || b[j] == '\t' && r.sep != '\t' {
-			j++
-		}
-		switch c = b[j]; {
-		case c == '\n' || c == '\r':
-			out[n] = v
-			return n + 1, j, true
-		case c == r.sep && c != ' ':
-			j++
-			for b[j] == ' ' || b[j] == '\t' {
+		if c != r.sep || c == ' ' {
+			j := i
+			for b[j] == ' ' || b[j] == '\t' && r.sep != '\t' {
 				j++
 			}
-		case r.sep == ' ' && j > i:
-		default:
-			return n, start, false // text after the number
+			switch c = b[j]; {
+			case c == '\n' || c == '\r':
+				out[n] = v
+				return n + 1, j, true
+			case c == r.sep && c != ' ':
+				i = j
+			case r.sep == ' ' && j > i:
+				out[n] = v
+				n++
+				i = j
+				continue
+			default:
+				return n, start, false // text after the number
+			}
 		}
-		out[n] = v
-		i = j
+		out[n] = v // c is the separator
+		n++
+		i++
+		for b[i] == ' ' || b[i] == '\t' {
+			i++
+		}
 	}
 	return n, i, false
+}
+
+// digitsAt reads the decimal digits at b[i:] onto m (m·10 + digit, for
+// each) and returns m and the index after the last digit. b must hold a
+// byte other than a digit after i. m wraps beyond 19 digits; the callers
+// count the digits and use m only for 15 at most.
+func digitsAt(b []byte, i int, m uint64) (uint64, int) {
+	for {
+		d := uint64(b[i]) - '0'
+		if d > 9 {
+			return m, i
+		}
+		m = m*10 + d
+		i++
+	}
+}
+
+// number reads the number at b[i:], of any shape read does not take too
+// (see numReader.read): [+-]digits[.digits][(e|E)[+-]digits] with at least
+// one digit before the exponent, and a finite value. b must hold a line
+// end after i. A number of at most 15 digits with a decimal exponent e
+// within ±22 is converted as m·10^e or m/10^−e, one rounding of exact
+// operands (Clinger's fast path, as in read); any other goes to
+// strconv.ParseFloat. It returns the value and the index after the number;
+// ok is false where b[i:] starts with no number.
+func (r *numReader) number(b []byte, i int) (v float64, end int, ok bool) {
+	start := i
+	if c := b[i]; c == '-' || c == '+' {
+		i++
+	}
+	from := i
+	var m uint64
+	m, i = digitsAt(b, i, 0)
+	digits, exp := i-from, 0
+	if c := b[i]; c == '.' || c == r.dec {
+		from = i + 1
+		m, i = digitsAt(b, from, m)
+		exp = from - i
+		digits -= exp
+	}
+	if digits == 0 {
+		return 0, 0, false
+	}
+	if b[i]|0x20 == 'e' {
+		e, j := exponent(b, i+1)
+		if j < 0 {
+			return 0, 0, false // an exponent without digits
+		}
+		exp += e
+		i = j
+	}
+	if digits <= 15 && uint(exp+22) <= 44 { // m < 10^15 < 2^53, exactly a float64
+		v = float64(int64(m))
+		if exp < 0 {
+			v /= pow10[-exp]
+		} else {
+			v *= pow10[exp]
+		}
+		if b[start] == '-' {
+			v = -v
+		}
+		return v, i, true
+	}
+	if v, ok = r.slow(b[start:i]); !ok {
+		return 0, 0, false
+	}
+	return v, i, true
 }
 
 // slow converts the number text b with strconv.ParseFloat, a decimal
@@ -185,14 +218,16 @@ func exponent(b []byte, i int) (e, j int) {
 	return e, i
 }
 
-// parseNum reads b as one whole number (see numReader.read), with ','
-// as a decimal mark too where comma is true.
+// parseNum reads b as one whole number (numReader.read's usual shape or
+// numReader.number's), with ',' as a decimal mark too where comma is true.
 func parseNum(b []byte, comma bool) (float64, bool) {
 	var buf []byte
 	return parseNumIn(b, comma, &buf)
 }
 
-// parseNumIn is parseNum with a buffer for b and its line end.
+// parseNumIn is parseNum with a buffer for b and its line end. It tries
+// numReader.read first, as the rows' numbers are read, then
+// numReader.number.
 func parseNumIn(b []byte, comma bool, buf *[]byte) (float64, bool) {
 	if len(b) == 0 || bytes.IndexAny(b, "\r\n") >= 0 || b[len(b)-1] == ' ' || b[len(b)-1] == '\t' {
 		return 0, false
@@ -203,8 +238,9 @@ func parseNumIn(b []byte, comma bool, buf *[]byte) (float64, bool) {
 	}
 	*buf = append(append((*buf)[:0], b...), '\n')
 	var out [1]float64
-	if n, _, eol := r.read(*buf, 0, out[:]); n != 1 || !eol {
-		return 0, false
+	if n, _, _ := r.read(*buf, 0, out[:]); n == 1 {
+		return out[0], true
 	}
-	return out[0], true
+	v, end, ok := r.number(*buf, 0)
+	return v, ok && end == len(b)
 }

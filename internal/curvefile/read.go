@@ -287,7 +287,7 @@ type parser struct {
 	pad        padding
 	rs         rowState  // the row being read
 	num        numReader // the numbers of a row, into rs.v
-	numBuf     []byte    // a quoted number and its line end
+	numBuf     []byte    // a number otherField reads, and its line end
 	quote      []byte    // a quoted field with doubled quotes, unquoted
 }
 

@@ -180,9 +180,10 @@ func (p *parser) skipRest(b []byte, i, k int) (n, end int, err error) {
 	return n, e, nil
 }
 
-// otherField reads the field of column k at b[i] that numbers did not: a
-// text field (extra, ignored or beyond the header), a quoted field
-// (perhaps a number), or a numeric field without a number, which is the
+// otherField reads the field of column k at b[i] that numReader.read did
+// not: a text field (extra, ignored or beyond the header), a quoted field
+// (perhaps a number), a number of another shape than read's (an exponent,
+// more than 15 digits), or a numeric field without a number, which is the
 // row's error, or (blank or NaN) perhaps padding. It returns the index
 // after the field.
 func (p *parser) otherField(b []byte, i, k int) (int, error) {
@@ -207,6 +208,12 @@ func (p *parser) otherField(b []byte, i, k int) (int, error) {
 	} else {
 		i = p.textEnd(b, start)
 		f = trimRightBlanks(b[start:i])
+		if r >= roleTime && len(f) > 0 { // a number of a shape numReader.read leaves
+			if v, ok := parseNumIn(f, p.dec == ',', &p.numBuf); ok {
+				p.rs.v[k] = v
+				return i, nil
+			}
+		}
 	}
 	rs := &p.rs
 	switch {
