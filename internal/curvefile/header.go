@@ -415,7 +415,11 @@ func (p *parser) setColumns(cols []column, width int) error {
 	}
 	p.rs.v = make([]float64, len(p.cols))
 	p.num = numReader{sep: p.sep, dec: p.dec}
-	p.plain = !p.emf
+	p.lead = p.rs.v[:p.run[0]]
+	p.fast = p.width
+	if p.emf || p.timeScale != 1 || p.tempUnit != unitC {
+		p.fast = -1
+	}
 	return nil
 }
 

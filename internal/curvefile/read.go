@@ -190,9 +190,9 @@ func (p *parser) presize(rest []byte) bool {
 }
 
 // lines reads the whole lines in the input buffer. The usual reading
-// line (its first columns numbers, read by numReader.read, up to its line
-// end) is taken here; the rest of a line that is not all numbers goes on in
-// row from where the numbers stopped; other lines go to lineAt.
+// line (numbers only, read by numReader.read in one call, in s and °C) is
+// taken here; the rest of a line that is not all numbers goes on in row
+// from where the numbers stopped; other lines go to lineAt.
 func (p *parser) lines() error {
 	in := &p.in
 	b := in.buf[in.pos:in.lim]
@@ -200,29 +200,22 @@ func (p *parser) lines() error {
 	if p.unsized && p.cols != nil {
 		p.unsized = !p.presize(b)
 	}
+	for i < len(b) && p.cols == nil { // up to the header
+		p.line++
+		n, err := p.lineAt(b[i:])
+		if err != nil {
+			return err
+		}
+		if i += n; p.cols != nil && p.size > 0 {
+			p.unsized = !p.presize(b[i:])
+		}
+	}
 	for i < len(b) {
 		p.line++
-		if p.cols == nil {
-			n, err := p.lineAt(b[i:])
-			if err != nil {
-				return err
-			}
-			if i += n; p.cols != nil && p.size > 0 {
-				p.unsized = !p.presize(b[i:])
-			}
-			continue
-		}
-		k, j, eol := p.num.read(b, i, p.rs.v[:p.run[0]])
-		if eol && k == p.width && p.plain && len(p.time) < MaxReadings {
-			t := p.rs.v[p.timeCol]
-			if p.timeScale != 1 {
-				t /= p.timeScale
-			}
-			p.time = append(p.time, t)
-			p.temp = append(p.temp, p.tempUnit.toC(p.rs.v[p.tempCol]))
-			if j-i > MaxLine {
-				return fmt.Errorf("line longer than %d bytes (1 MiB)", MaxLine)
-			}
+		k, j, eol := p.num.read(b, i, p.lead)
+		if k == p.fast && eol && j-i <= MaxLine && len(p.time) < MaxReadings {
+			p.time = append(p.time, p.lead[p.timeCol])
+			p.temp = append(p.temp, p.lead[p.tempCol])
 			if i = j + 1; b[j] == '\r' && i < len(b) && b[i] == '\n' {
 				i++
 			}
@@ -280,15 +273,20 @@ type parser struct {
 	emf        bool // converting an EMF column
 	tc         thermocouple.Type
 	cjMeta     float64
-	cjCol      int   // the cold-junction column of an EMF file, or -1
-	plain      bool  // no EMF to convert, no padding run open: rows take the short way in lines
-	metaLines  []int // the line of each of c.Meta
-	swapCheck  bool  // headerless two columns: see whether they are swapped
-	pad        padding
-	rs         rowState  // the row being read
-	num        numReader // the numbers of a row, into rs.v
-	numBuf     []byte    // a number otherField reads, and its line end
-	quote      []byte    // a quoted field with doubled quotes, unquoted
+	cjCol      int // the cold-junction column of an EMF file, or -1
+	// fast is the width of a row that lines takes on its own, all numbers
+	// read by one call of numReader.read into lead: p.width where the
+	// time is in s and the temperature in °C (nothing to convert) and no
+	// padding run is open; else -1 (every row goes to row and endRow).
+	fast      int
+	lead      []float64 // rs.v[:run[0]]: the numbers at the start of a row
+	metaLines []int     // the line of each of c.Meta
+	swapCheck bool      // headerless two columns: see whether they are swapped
+	pad       padding
+	rs        rowState  // the row being read
+	num       numReader // the numbers of a row, into rs.v
+	numBuf    []byte    // a number otherField reads, and its line end
+	quote     []byte    // a quoted field with doubled quotes, unquoted
 }
 
 func (p *parser) note(format string, args ...any) {

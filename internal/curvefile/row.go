@@ -105,7 +105,7 @@ func (p *parser) endRow(b []byte, e, n int) (int, error) {
 	if rs.hasBad { // padding: no temperature in this row
 		if p.pad.rows == 0 {
 			p.pad = padding{first: p.line, err: p.fieldError(&rs.bad)}
-			p.plain = false
+			p.fast = -1
 		}
 		p.pad.rows++
 		p.pad.last = p.line
