@@ -414,7 +414,8 @@ func (p *parser) setColumns(cols []column, width int) error {
 		}
 	}
 	p.rs.v = make([]float64, len(p.cols))
-	p.num = numReader{sep: p.sep, dec: p.dec}
+	p.num.sep, p.num.dec = p.sep, p.dec
+	p.num.rows, p.num.timeCol, p.num.tempCol = -1, p.timeCol, p.tempCol
 	p.lead = p.rs.v[:p.run[0]]
 	p.fast = p.width
 	if p.emf || p.timeScale != 1 || p.tempUnit != unitC {

@@ -14,11 +14,18 @@ var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
 
 // numReader reads the numbers of a row (numReader.read): the separator
-// and decimal mark of its file.
+// and decimal mark of its file, and the readings it keeps where it reads
+// on from row to row.
 type numReader struct {
 	sep     byte   // the separator (' ': runs of blanks)
 	dec     byte   // a decimal mark besides '.': ',' for a decimal comma, '.' for none
 	scratch []byte // number text for strconv
+
+	time, temp []float64 // the readings so far (the file's, in s and °C)
+	rows       int       // the fields of a row read takes whole as a reading (parser.fast), or -1 (read reads one row)
+	timeCol    int       // the time column
+	tempCol    int       // the temperature column
+	row        int       // the start of the row read stopped at
 }
 
 // read reads the fields of a row at b[i:] as numbers into out, at most
@@ -42,9 +49,19 @@ type numReader struct {
 // read floating point numbers accurately", PLDI 1990): bit for bit what
 // strconv.ParseFloat gives (FuzzParseNum).
 //
+// Where rows is the width of a row (lines sets it), read reads on from
+// row to row: each row of rows numbers, no longer than MaxLine, is a
+// reading while time and temp have room for one (their capacity, and
+// MaxReadings): its time and temperature are appended to them, and read
+// goes on with the next line. It stops at the first row it does not take,
+// or at the end of b; row is then that row's start, and the results are as
+// above for that row (n = 0 and next = len(b) at the end of b). Where rows
+// is -1 it reads the one row at i.
+//
 // This is the reader's inner loop. It calls nothing, so that its values
 // stay in registers, and allocates nothing.
 func (r *numReader) read(b []byte, i int, out []float64) (n, next int, eol bool) {
+	r.row = i
 	for n < len(out) {
 		start := i
 		if c := b[i]; c == '-' || c == '+' {
@@ -70,19 +87,14 @@ func (r *numReader) read(b []byte, i int, out []float64) (n, next int, eol bool)
 		}
 		// The field must end here: the line end, or the separator, or
 		// blanks and then one of them.
-		if c == '\n' || c == '\r' {
-			out[n] = v
-			return n + 1, i, true
-		}
-		if c != r.sep || c == ' ' {
+		if c != '\n' && c != '\r' && (c != r.sep || c == ' ') {
 			j := i
 			for b[j] == ' ' || b[j] == '\t' && r.sep != '\t' {
 				j++
 			}
 			switch c = b[j]; {
 			case c == '\n' || c == '\r':
-				out[n] = v
-				return n + 1, j, true
+				i = j
 			case c == r.sep && c != ' ':
 				i = j
 			case r.sep == ' ' && j > i:
@@ -94,9 +106,26 @@ func (r *numReader) read(b []byte, i int, out []float64) (n, next int, eol bool)
 				return n, start, false // text after the number
 			}
 		}
-		out[n] = v // c is the separator
+		out[n] = v
 		n++
-		i++
+		if c == '\n' || c == '\r' {
+			k := len(r.time)
+			if n != r.rows || i-r.row > MaxLine || k >= cap(r.time) || k >= cap(r.temp) || k >= MaxReadings {
+				return n, i, true
+			}
+			r.time = r.time[:k+1] // within the room presize made: no call here
+			r.temp = r.temp[:k+1]
+			r.time[k], r.temp[k] = out[r.timeCol], out[r.tempCol]
+			if i++; c == '\r' && i < len(b) && b[i] == '\n' {
+				i++
+			}
+			if r.row = i; i >= len(b) {
+				return 0, i, false
+			}
+			n = 0
+			continue
+		}
+		i++ // c is the separator
 		for b[i] == ' ' || b[i] == '\t' {
 			i++
 		}
@@ -232,7 +261,7 @@ func parseNumIn(b []byte, comma bool, buf *[]byte) (float64, bool) {
 	if len(b) == 0 || bytes.IndexAny(b, "\r\n") >= 0 || b[len(b)-1] == ' ' || b[len(b)-1] == '\t' {
 		return 0, false
 	}
-	r := numReader{sep: '\n', dec: '.'}
+	r := numReader{sep: '\n', dec: '.', rows: -1}
 	if comma {
 		r.dec = ','
 	}

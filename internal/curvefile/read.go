@@ -182,9 +182,9 @@ func (p *parser) presize(rest []byte) bool {
 	if n == 0 {
 		return false
 	}
-	if n = min(p.size/max(n, 12)+16, MaxReadings); n > cap(p.time) {
-		p.time = append(make([]float64, 0, n), p.time...)
-		p.temp = append(make([]float64, 0, n), p.temp...)
+	if n = min(p.size/max(n, 12)+16, MaxReadings); n > cap(p.num.time) {
+		p.num.time = append(make([]float64, 0, n), p.num.time...)
+		p.num.temp = append(make([]float64, 0, n), p.num.temp...)
 	}
 	return true
 }
@@ -211,21 +211,23 @@ func (p *parser) lines() error {
 		}
 	}
 	for i < len(b) {
-		p.line++
+		// The rows numReader.read takes whole (all of them, usually), then
+		// the one it stops at.
+		before := len(p.num.time)
+		p.num.rows = p.fast
 		k, j, eol := p.num.read(b, i, p.lead)
-		if k == p.fast && eol && j-i <= MaxLine && len(p.time) < MaxReadings {
-			p.time = append(p.time, p.lead[p.timeCol])
-			p.temp = append(p.temp, p.lead[p.tempCol])
-			if i = j + 1; b[j] == '\r' && i < len(b) && b[i] == '\n' {
-				i++
-			}
-			continue
+		p.num.rows = -1 // row's calls read one row
+		row := p.num.row
+		if p.line += len(p.num.time) - before; row >= len(b) {
+			i = row
+			break
 		}
-		n, err := p.row(b[i:], k, j-i, eol)
+		p.line++
+		n, err := p.row(b[row:], k, j-row, eol)
 		if err != nil {
 			return err
 		}
-		i += n
+		i = row + n
 	}
 	in.pos += i
 	return nil
@@ -257,7 +259,6 @@ type parser struct {
 	c          *Curve
 	opt        Options
 	in         input
-	time, temp []float64 // readings so far (moved into c at the end)
 	line       int
 	headerLine int
 	sep        byte // '\t', ';', ',' or ' ' (runs of blanks)
@@ -301,9 +302,9 @@ func (p *parser) finish() (*Curve, error) {
 		return nil, &ParseError{File: c.Name, Line: 1, Err: errors.New("empty file")}
 	case p.cols == nil:
 		return nil, &ParseError{File: c.Name, Line: p.line, Err: errors.New("no header and no readings")}
-	case len(p.time) == 0 && p.pad.rows > 0:
+	case len(p.num.time) == 0 && p.pad.rows > 0:
 		return nil, &ParseError{File: c.Name, Line: p.pad.first, Err: p.pad.err}
-	case len(p.time) == 0:
+	case len(p.num.time) == 0:
 		return nil, &ParseError{File: c.Name, Line: p.headerLine, Err: errors.New("a header but no readings after it")}
 	}
 	if p.pad.rows > 0 {
@@ -316,11 +317,11 @@ func (p *parser) finish() (*Curve, error) {
 		}
 		p.note("%s:%d-%d: the last %d rows have no temperature in column %q (blank or NaN: padding), not read", c.Name, p.pad.first, p.pad.last, p.pad.rows, name)
 	}
-	if p.swapCheck && swapped(p.time, p.temp) {
-		p.time, p.temp = p.temp, p.time
+	if p.swapCheck && swapped(p.num.time, p.num.temp) {
+		p.num.time, p.num.temp = p.num.temp, p.num.time
 		p.note("%s:%d: no header, and the first column goes back while the second only rises: read the second column as the time (s) and the first as the temperature (°C) (--time-column and --temp-column name them otherwise)", c.Name, p.headerLine)
 	}
-	c.Time, c.Temp = p.time, p.temp
+	c.Time, c.Temp = p.num.time, p.num.temp
 	for i := range p.extra {
 		x := &p.extra[i]
 		ends := x.ends[:min(len(x.ends), len(c.Time))] // padding rows dropped

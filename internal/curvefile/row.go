@@ -133,11 +133,11 @@ func (p *parser) endRow(b []byte, e, n int) (int, error) {
 	} else {
 		temp = p.tempUnit.toC(rs.v[p.tempCol])
 	}
-	if len(p.time) == MaxReadings {
+	if len(p.num.time) == MaxReadings {
 		return 0, fmt.Errorf("more than %d readings: a cup's curve is minutes long; split the file", MaxReadings)
 	}
-	p.time = append(p.time, t)
-	p.temp = append(p.temp, temp)
+	p.num.time = append(p.num.time, t)
+	p.num.temp = append(p.num.temp, temp)
 	return lineEnd(b, e), nil
 }
 
