@@ -62,6 +62,7 @@ type numReader struct {
 // stay in registers, and allocates nothing.
 func (r *numReader) read(b []byte, i int, out []float64) (n, next int, eol bool) {
 	r.row = i
+fields:
 	for n < len(out) {
 		start := i
 		if c := b[i]; c == '-' || c == '+' {
@@ -77,60 +78,66 @@ func (r *numReader) read(b []byte, i int, out []float64) (n, next int, eol bool)
 			frac = i - from
 			digits += frac
 		}
-		c := b[i]
-		if uint(digits-1) >= 15 || c|0x20 == 'e' {
-			return n, start, false // no digits, or not the usual shape
+		if uint(digits-1) >= 15 {
+			if digits == 0 && n > 0 && (b[start] == ' ' || b[start] == '\t') {
+				i = skipBlanks(b, start) // blanks after a separator
+				continue
+			}
+			return n, start, false // no number, or more than 15 digits
 		}
 		v := float64(int64(m)) / pow10[frac&15] // frac <= 15: the mask only tells the compiler so
 		if b[start] == '-' {
 			v = -v
 		}
 		// The field must end here: the line end, or the separator, or
-		// blanks and then one of them.
-		if c != '\n' && c != '\r' && (c != r.sep || c == ' ') {
-			j := i
-			for b[j] == ' ' || b[j] == '\t' && r.sep != '\t' {
-				j++
-			}
-			switch c = b[j]; {
+		// blanks and then one of them. Anything else (an exponent, text)
+		// is left to the caller.
+		for c := b[i]; ; c = b[i] {
+			switch {
 			case c == '\n' || c == '\r':
-				i = j
-			case c == r.sep && c != ' ':
-				i = j
-			case r.sep == ' ' && j > i:
 				out[n] = v
 				n++
-				i = j
-				continue
+				k := len(r.time)
+				if n != r.rows || i-r.row > MaxLine || k >= cap(r.time) || k >= cap(r.temp) || k >= MaxReadings {
+					return n, i, true
+				}
+				r.time = r.time[:k+1] // within the room presize made: no call here
+				r.temp = r.temp[:k+1]
+				r.time[k], r.temp[k] = out[r.timeCol], out[r.tempCol]
+				if i++; c == '\r' && i < len(b) && b[i] == '\n' {
+					i++
+				}
+				if r.row = i; i >= len(b) {
+					return 0, i, false
+				}
+				n = 0
+				continue fields
+			case c == r.sep && c != ' ':
+				out[n] = v
+				n++
+				i++
+				continue fields
+			case c == ' ' || c == '\t' && r.sep != '\t':
+				j := i + 1
+				for b[j] == ' ' || b[j] == '\t' && r.sep != '\t' {
+					j++
+				}
+				if c = b[j]; c != '\n' && c != '\r' && (c != r.sep || c == ' ') {
+					if r.sep != ' ' {
+						return n, start, false // text after the number
+					}
+					out[n] = v // the run of blanks was the separator
+					n++
+					i = j
+					continue fields
+				}
+				i = j // the line end or the separator after blanks
 			default:
 				return n, start, false // text after the number
 			}
 		}
-		out[n] = v
-		n++
-		if c == '\n' || c == '\r' {
-			k := len(r.time)
-			if n != r.rows || i-r.row > MaxLine || k >= cap(r.time) || k >= cap(r.temp) || k >= MaxReadings {
-				return n, i, true
-			}
-			r.time = r.time[:k+1] // within the room presize made: no call here
-			r.temp = r.temp[:k+1]
-			r.time[k], r.temp[k] = out[r.timeCol], out[r.tempCol]
-			if i++; c == '\r' && i < len(b) && b[i] == '\n' {
-				i++
-			}
-			if r.row = i; i >= len(b) {
-				return 0, i, false
-			}
-			n = 0
-			continue
-		}
-		i++ // c is the separator
-		for b[i] == ' ' || b[i] == '\t' {
-			i++
-		}
 	}
-	return n, i, false
+	return n, skipBlanks(b, i), false // the field after a separator starts after its blanks
 }
 
 // digitsAt reads the decimal digits at b[i:] onto m (m·10 + digit, for

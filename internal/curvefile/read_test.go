@@ -105,6 +105,17 @@ func TestReadDialects(t *testing.T) {
 			time: []float64{0.1, math.Copysign(0, -1)}, temp: []float64{1234.5678901234567, -40},
 		},
 		{
+			name: "blanks around fields, before a text column and after the last number",
+			in:   "time_s, temp_c , note\n0,  1300 ,  pour here\n 0.5\t,1299.5,\tx \n1 , 1299  ,y\n",
+			time: []float64{0, 0.5, 1}, temp: []float64{1300, 1299.5, 1299},
+			extra: []Column{{"note", []string{"pour here", "x", "y"}}},
+		},
+		{
+			name: "tab separated with spaces beside the tabs",
+			in:   "time_s\ttemp_c\n0 \t 1300\n0.5\t  1299.5  \n",
+			time: []float64{0, 0.5}, temp: []float64{1300, 1299.5},
+		},
+		{
 			name: "quoted names with doubled quotes",
 			in:   "time_s,temp_c,\"say \"\"hi\"\"\"\n0,1,\" a,b \"\n",
 			time: []float64{0}, temp: []float64{1},
