@@ -26,6 +26,7 @@ type numReader struct {
 	timeCol    int       // the time column
 	tempCol    int       // the temperature column
 	row        int       // the start of the row read stopped at
+	out        []float64 // read's out
 }
 
 // read reads the fields of a row at b[i:] as numbers into out, at most
@@ -50,7 +51,9 @@ type numReader struct {
 // strconv.ParseFloat gives (FuzzParseNum).
 //
 // Where rows is the width of a row (lines sets it), read reads on from
-// row to row: each row of rows numbers, no longer than MaxLine, is a
+// row to row: each row of rows numbers, no longer than MaxLine (only runs
+// of blanks can make it so: a number of the usual shape and its
+// separator take at most 18 bytes, and a row has at most MaxColumns), is a
 // reading while time and temp have room for one (their capacity, and
 // MaxReadings): its time and temperature are appended to them, and read
 // goes on with the next line. It stops at the first row it does not take,
@@ -61,9 +64,9 @@ type numReader struct {
 // This is the reader's inner loop. It calls nothing, so that its values
 // stay in registers, and allocates nothing.
 func (r *numReader) read(b []byte, i int, out []float64) (n, next int, eol bool) {
-	r.row = i
+	r.row, r.out = i, out // out in r, not in registers: the digits' loops need them
 fields:
-	for n < len(out) {
+	for n < len(r.out) {
 		start := i
 		if c := b[i]; c == '-' || c == '+' {
 			i++
@@ -80,8 +83,10 @@ fields:
 		}
 		if uint(digits-1) >= 15 {
 			if digits == 0 && n > 0 && (b[start] == ' ' || b[start] == '\t') {
-				i = skipBlanks(b, start) // blanks after a separator
-				continue
+				if i = skipBlanks(b, start); i-r.row > MaxLine {
+					return n, i, false // row and endRow tell
+				}
+				continue // blanks after a separator
 			}
 			return n, start, false // no number, or more than 15 digits
 		}
@@ -95,15 +100,15 @@ fields:
 		for c := b[i]; ; c = b[i] {
 			switch {
 			case c == '\n' || c == '\r':
-				out[n] = v
+				r.out[n] = v
 				n++
 				k := len(r.time)
-				if n != r.rows || i-r.row > MaxLine || k >= cap(r.time) || k >= cap(r.temp) || k >= MaxReadings {
+				if n != r.rows || k >= cap(r.time) || k >= cap(r.temp) || k >= MaxReadings {
 					return n, i, true
 				}
 				r.time = r.time[:k+1] // within the room presize made: no call here
 				r.temp = r.temp[:k+1]
-				r.time[k], r.temp[k] = out[r.timeCol], out[r.tempCol]
+				r.time[k], r.temp[k] = r.out[r.timeCol], r.out[r.tempCol]
 				if i++; c == '\r' && i < len(b) && b[i] == '\n' {
 					i++
 				}
@@ -113,7 +118,7 @@ fields:
 				n = 0
 				continue fields
 			case c == r.sep && c != ' ':
-				out[n] = v
+				r.out[n] = v
 				n++
 				i++
 				continue fields
@@ -122,11 +127,14 @@ fields:
 				for b[j] == ' ' || b[j] == '\t' && r.sep != '\t' {
 					j++
 				}
+				if j-r.row > MaxLine {
+					return n, start, false // row and endRow tell
+				}
 				if c = b[j]; c != '\n' && c != '\r' && (c != r.sep || c == ' ') {
 					if r.sep != ' ' {
 						return n, start, false // text after the number
 					}
-					out[n] = v // the run of blanks was the separator
+					r.out[n] = v // the run of blanks was the separator
 					n++
 					i = j
 					continue fields
