@@ -90,6 +90,7 @@ fields:
 			}
 			return n, start, false // no number, or more than 15 digits
 		}
+		m -= zeros[digits&15]                   // digits <= 15
 		v := float64(int64(m)) / pow10[frac&15] // frac <= 15: the mask only tells the compiler so
 		if b[start] == '-' {
 			v = -v
@@ -154,14 +155,22 @@ fields:
 // count the digits and use m only for 15 at most.
 func digitsAt(b []byte, i int, m uint64) (uint64, int) {
 	for {
-		d := uint64(b[i]) - '0'
-		if d > 9 {
+		c := b[i]
+		if c-'0' > 9 {
 			return m, i
 		}
-		m = m*10 + d
+		m = m*10 + uint64(c)
 		i++
 	}
 }
+
+// zeros[k] is what k digits' '0's add to digitsAt's m: '0'·(10^k − 1)/9.
+var zeros = func() (z [16]uint64) {
+	for k := 1; k < len(z); k++ {
+		z[k] = z[k-1]*10 + '0'
+	}
+	return z
+}()
 
 // number reads the number at b[i:], of any shape read does not take too
 // (see numReader.read): [+-]digits[.digits][(e|E)[+-]digits] with at least
@@ -198,7 +207,7 @@ func (r *numReader) number(b []byte, i int) (v float64, end int, ok bool) {
 		i = j
 	}
 	if digits <= 15 && uint(exp+22) <= 44 { // m < 10^15 < 2^53, exactly a float64
-		v = float64(int64(m))
+		v = float64(int64(m - zeros[digits]))
 		if exp < 0 {
 			v /= pow10[-exp]
 		} else {
