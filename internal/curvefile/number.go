@@ -68,12 +68,10 @@ func (r *numReader) read(b []byte, i int, out []float64) (n, next int, eol bool)
 fields:
 	for n < len(r.out) {
 		start := i
-		if c := b[i]; c == '-' || c == '+' {
-			i++
-		}
-		from := i
+		sign := b[i]
+		from := i + int(signs[sign]) // the first digit
 		var m uint64
-		m, i = digitsAt(b, i, 0)
+		m, i = digitsAt(b, from, 0)
 		digits, frac := i-from, 0
 		if c := b[i]; c == '.' || c == r.dec {
 			from = i + 1
@@ -92,7 +90,7 @@ fields:
 		}
 		m -= zeros[digits&15]                   // digits <= 15
 		v := float64(int64(m)) / pow10[frac&15] // frac <= 15: the mask only tells the compiler so
-		if b[start] == '-' {
+		if sign == '-' {
 			v = -v
 		}
 		// The field must end here: the line end, or the separator, or
@@ -163,6 +161,9 @@ func digitsAt(b []byte, i int, m uint64) (uint64, int) {
 		i++
 	}
 }
+
+// signs is 1 for the bytes of a sign, '+' and '-', else 0.
+var signs = [256]uint8{'+': 1, '-': 1}
 
 // zeros[k] is what k digits' '0's add to digitsAt's m: '0'·(10^k − 1)/9.
 var zeros = func() (z [16]uint64) {
