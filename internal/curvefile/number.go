@@ -27,6 +27,10 @@ type numReader struct {
 	tempCol    int       // the temperature column
 	row        int       // the start of the row read stopped at
 	out        []float64 // read's out
+	// Where read takes rows: the time and temperature in out, and the
+	// readings time and temp have room for (their capacity, MaxReadings).
+	outTime, outTemp *float64
+	room             int
 }
 
 // read reads the fields of a row at b[i:] as numbers into out, at most
@@ -65,6 +69,10 @@ type numReader struct {
 // stay in registers, and allocates nothing.
 func (r *numReader) read(b []byte, i int, out []float64) (n, next int, eol bool) {
 	r.row, r.out = i, out // out in r, not in registers: the digits' loops need them
+	if r.rows == len(out) && r.rows > 0 { // else no row has rows numbers in out
+		r.outTime, r.outTemp = &out[r.timeCol], &out[r.tempCol]
+		r.room = min(cap(r.time), cap(r.temp), MaxReadings)
+	}
 fields:
 	for n < len(r.out) {
 		start := i
@@ -102,12 +110,12 @@ fields:
 				r.out[n] = v
 				n++
 				k := len(r.time)
-				if n != r.rows || k >= cap(r.time) || k >= cap(r.temp) || k >= MaxReadings {
+				if n != r.rows || k >= r.room {
 					return n, i, true
 				}
-				r.time = r.time[:k+1] // within the room presize made: no call here
+				r.time = r.time[:k+1] // within room: no call here
 				r.temp = r.temp[:k+1]
-				r.time[k], r.temp[k] = r.out[r.timeCol], r.out[r.tempCol]
+				r.time[k], r.temp[k] = *r.outTime, *r.outTemp
 				if i++; c == '\r' && i < len(b) && b[i] == '\n' {
 					i++
 				}
