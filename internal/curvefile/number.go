@@ -8,8 +8,8 @@ import (
 	"unsafe"
 )
 
-// pow10 holds the exactly representable powers of ten used by scanNum's
-// fast path.
+// pow10 holds the exactly representable powers of ten used by the fast
+// path of numReader.read and numReader.number.
 var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
 
@@ -61,14 +61,15 @@ type numReader struct {
 // reading while time and temp have room for one (their capacity, and
 // MaxReadings): its time and temperature are appended to them, and read
 // goes on with the next line. It stops at the first row it does not take,
-// or at the end of b; row is then that row's start, and the results are as
-// above for that row (n = 0 and next = len(b) at the end of b). Where rows
-// is -1 it reads the one row at i.
+// or at the end of b; r.row is then that row's start, and the results are
+// as above for that row (n = 0 and next = len(b) at the end of b). Where
+// rows is -1 it reads the one row at i (r.row = i).
 //
 // This is the reader's inner loop. It calls nothing, so that its values
 // stay in registers, and allocates nothing.
 func (r *numReader) read(b []byte, i int, out []float64) (n, next int, eol bool) {
-	r.row, r.out = i, out // out in r, not in registers: the digits' loops need them
+	// out is kept in r, not in registers: the digit loops need them.
+	r.row, r.out = i, out
 	if r.rows == len(out) && r.rows > 0 { // else no row has rows numbers in out
 		r.outTime, r.outTemp = &out[r.timeCol], &out[r.tempCol]
 		r.room = min(cap(r.time), cap(r.temp), MaxReadings)
@@ -155,10 +156,12 @@ fields:
 	return n, skipBlanks(b, i), false // the field after a separator starts after its blanks
 }
 
-// digitsAt reads the decimal digits at b[i:] onto m (m·10 + digit, for
-// each) and returns m and the index after the last digit. b must hold a
-// byte other than a digit after i. m wraps beyond 19 digits; the callers
-// count the digits and use m only for 15 at most.
+// digitsAt reads the decimal digits at b[i:] onto m and returns m and the
+// index after the last digit. b must hold a byte other than a digit after
+// i. For each digit m becomes m·10 plus the digit's byte, not its value
+// (one instruction fewer a digit): after k digits in all the caller takes
+// zeros[k] off. m wraps beyond 19 digits; the callers count the digits and
+// use m only for 15 at most.
 func digitsAt(b []byte, i int, m uint64) (uint64, int) {
 	for {
 		c := b[i]
