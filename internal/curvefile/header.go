@@ -414,12 +414,13 @@ func (p *parser) setColumns(cols []column, width int) error {
 		}
 	}
 	p.rs.v = make([]float64, len(p.cols))
-	p.num.sep, p.num.dec = p.sep, p.dec
-	p.num.rows, p.num.timeCol, p.num.tempCol = -1, p.timeCol, p.tempCol
+	p.num.sep, p.num.dec, p.num.rows = p.sep, p.dec, -1
 	p.lead = p.rs.v[:p.run[0]]
 	p.fast = p.width
-	if p.emf || p.timeScale != 1 || p.tempUnit != unitC {
+	if p.emf || p.timeScale != 1 || p.tempUnit != unitC || len(p.lead) != p.width {
 		p.fast = -1
+	} else {
+		p.num.outTime, p.num.outTemp = &p.lead[p.timeCol], &p.lead[p.tempCol]
 	}
 	return nil
 }

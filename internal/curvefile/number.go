@@ -22,13 +22,12 @@ type numReader struct {
 	scratch []byte // number text for strconv
 
 	time, temp []float64 // the readings so far (the file's, in s and °C)
-	rows       int       // the fields of a row read takes whole as a reading (parser.fast), or -1 (read reads one row)
-	timeCol    int       // the time column
-	tempCol    int       // the temperature column
 	row        int       // the start of the row read stopped at
-	out        []float64 // read's out
-	// Where read takes rows: the time and temperature in out, and the
-	// readings time and temp have room for (their capacity, MaxReadings).
+	// Where read takes whole rows as readings (lines sets these): the
+	// fields of such a row (parser.fast; else -1: read reads one row), the
+	// time and temperature in the out lines gives read, and the readings
+	// time and temp have room for (their capacity, MaxReadings).
+	rows             int
 	outTime, outTemp *float64
 	room             int
 }
@@ -54,8 +53,8 @@ type numReader struct {
 // read floating point numbers accurately", PLDI 1990): bit for bit what
 // strconv.ParseFloat gives (FuzzParseNum).
 //
-// Where rows is the width of a row (lines sets it), read reads on from
-// row to row: each row of rows numbers, no longer than MaxLine (only runs
+// Where rows is the width of a row (lines sets it, with outTime, outTemp
+// and room), read reads on from row to row: each row of rows numbers, no longer than MaxLine (only runs
 // of blanks can make it so: a number of the usual shape and its
 // separator take at most 18 bytes, and a row has at most MaxColumns), is a
 // reading while time and temp have room for one (their capacity, and
@@ -68,14 +67,9 @@ type numReader struct {
 // This is the reader's inner loop. It calls nothing, so that its values
 // stay in registers, and allocates nothing.
 func (r *numReader) read(b []byte, i int, out []float64) (n, next int, eol bool) {
-	// out is kept in r, not in registers: the digit loops need them.
-	r.row, r.out = i, out
-	if r.rows == len(out) && r.rows > 0 { // else no row has rows numbers in out
-		r.outTime, r.outTemp = &out[r.timeCol], &out[r.tempCol]
-		r.room = min(cap(r.time), cap(r.temp), MaxReadings)
-	}
+	r.row = i
 fields:
-	for n < len(r.out) {
+	for n < len(out) {
 		start := i
 		sign := b[i]
 		from := i + int(signs[sign]) // the first digit
@@ -108,7 +102,7 @@ fields:
 		for c := b[i]; ; c = b[i] {
 			switch {
 			case c == '\n' || c == '\r':
-				r.out[n] = v
+				out[n] = v
 				n++
 				k := len(r.time)
 				if n != r.rows || k >= r.room {
@@ -126,7 +120,7 @@ fields:
 				n = 0
 				continue fields
 			case c == r.sep && c != ' ':
-				r.out[n] = v
+				out[n] = v
 				n++
 				i++
 				continue fields
@@ -142,7 +136,7 @@ fields:
 					if r.sep != ' ' {
 						return n, start, false // text after the number
 					}
-					r.out[n] = v // the run of blanks was the separator
+					out[n] = v // the run of blanks was the separator
 					n++
 					i = j
 					continue fields

@@ -215,6 +215,7 @@ func (p *parser) lines() error {
 		// the one it stops at.
 		before := len(p.num.time)
 		p.num.rows = p.fast
+		p.num.room = min(cap(p.num.time), cap(p.num.temp), MaxReadings)
 		k, j, eol := p.num.read(b, i, p.lead)
 		p.num.rows = -1 // row's calls read one row
 		row := p.num.row
@@ -275,10 +276,11 @@ type parser struct {
 	tc         thermocouple.Type
 	cjMeta     float64
 	cjCol      int // the cold-junction column of an EMF file, or -1
-	// fast is the width of a row that lines takes on its own, all numbers
-	// read by one call of numReader.read into lead: p.width where the
-	// time is in s and the temperature in °C (nothing to convert) and no
-	// padding run is open; else -1 (every row goes to row and endRow).
+	// fast is the width of a row that numReader.read takes whole as a
+	// reading, all its fields numbers read into lead: p.width where the
+	// time is in s and the temperature in °C (nothing to convert), every
+	// column is a number and no padding run is open; else -1 (every row
+	// goes to row and endRow).
 	fast      int
 	lead      []float64 // rs.v[:run[0]]: the numbers at the start of a row
 	metaLines []int     // the line of each of c.Meta
