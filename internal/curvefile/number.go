@@ -185,7 +185,10 @@ var zeros = func() (z [16]uint64) {
 // within ±22 is converted as m·10^e or m/10^−e, one rounding of exact
 // operands (Clinger's fast path, as in read); any other goes to
 // strconv.ParseFloat. It returns the value and the index after the number;
-// ok is false where b[i:] starts with no number.
+// ok is false where b[i:] starts with no number. Its first lines read the
+// sign, digits and mark as read does: read keeps them inline because it
+// must call nothing (a call, even not taken, makes its loops spill; a
+// shared function is too large to be inlined).
 func (r *numReader) number(b []byte, i int) (v float64, end int, ok bool) {
 	start := i
 	if c := b[i]; c == '-' || c == '+' {
