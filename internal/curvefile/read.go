@@ -190,9 +190,10 @@ func (p *parser) presize(rest []byte) bool {
 }
 
 // lines reads the whole lines in the input buffer. The usual reading
-// line (numbers only, read by numReader.read in one call, in s and °C) is
-// taken here; the rest of a line that is not all numbers goes on in row
-// from where the numbers stopped; other lines go to lineAt.
+// lines (numbers only, in s and °C: parser.fast) are taken by
+// numReader.read itself, as many as follow each other in one call; the
+// rest of a line that is not all numbers goes on in row from where the
+// numbers stopped; other lines go to lineAt.
 func (p *parser) lines() error {
 	in := &p.in
 	b := in.buf[in.pos:in.lim]
