@@ -414,8 +414,14 @@ func (p *parser) setColumns(cols []column, width int) error {
 		}
 	}
 	p.rs.v = make([]float64, len(p.cols))
-	p.num = numReader{sep: p.sep, dec: p.dec}
-	p.plain = !p.emf
+	p.num.sep, p.num.dec, p.num.rows = p.sep, p.dec, -1
+	p.lead = p.rs.v[:p.run[0]]
+	p.fast = p.width
+	if p.emf || p.timeScale != 1 || p.tempUnit != unitC || len(p.lead) != p.width {
+		p.fast = -1
+	} else {
+		p.num.outTime, p.num.outTemp = &p.lead[p.timeCol], &p.lead[p.tempCol]
+	}
 	return nil
 }
 

@@ -182,17 +182,18 @@ func (p *parser) presize(rest []byte) bool {
 	if n == 0 {
 		return false
 	}
-	if n = min(p.size/max(n, 12)+16, MaxReadings); n > cap(p.time) {
-		p.time = append(make([]float64, 0, n), p.time...)
-		p.temp = append(make([]float64, 0, n), p.temp...)
+	if n = min(p.size/max(n, 12)+16, MaxReadings); n > cap(p.num.time) {
+		p.num.time = append(make([]float64, 0, n), p.num.time...)
+		p.num.temp = append(make([]float64, 0, n), p.num.temp...)
 	}
 	return true
 }
 
 // lines reads the whole lines in the input buffer. The usual reading
-// line (its first columns numbers, read by numReader.read, up to its line
-// end) is taken here; the rest of a line that is not all numbers goes on in
-// row from where the numbers stopped; other lines go to lineAt.
+// lines (numbers only, in s and °C: parser.fast) are taken by
+// numReader.read itself, as many as follow each other in one call; the
+// rest of a line that is not all numbers goes on in row from where the
+// numbers stopped; other lines go to lineAt.
 func (p *parser) lines() error {
 	in := &p.in
 	b := in.buf[in.pos:in.lim]
@@ -200,39 +201,35 @@ func (p *parser) lines() error {
 	if p.unsized && p.cols != nil {
 		p.unsized = !p.presize(b)
 	}
-	for i < len(b) {
+	for i < len(b) && p.cols == nil { // up to the header
 		p.line++
-		if p.cols == nil {
-			n, err := p.lineAt(b[i:])
-			if err != nil {
-				return err
-			}
-			if i += n; p.cols != nil && p.size > 0 {
-				p.unsized = !p.presize(b[i:])
-			}
-			continue
-		}
-		k, j, eol := p.num.read(b, i, p.rs.v[:p.run[0]])
-		if eol && k == p.width && p.plain && len(p.time) < MaxReadings {
-			t := p.rs.v[p.timeCol]
-			if p.timeScale != 1 {
-				t /= p.timeScale
-			}
-			p.time = append(p.time, t)
-			p.temp = append(p.temp, p.tempUnit.toC(p.rs.v[p.tempCol]))
-			if j-i > MaxLine {
-				return fmt.Errorf("line longer than %d bytes (1 MiB)", MaxLine)
-			}
-			if i = j + 1; b[j] == '\r' && i < len(b) && b[i] == '\n' {
-				i++
-			}
-			continue
-		}
-		n, err := p.row(b[i:], k, j-i, eol)
+		n, err := p.lineAt(b[i:])
 		if err != nil {
 			return err
 		}
-		i += n
+		if i += n; p.cols != nil && p.size > 0 {
+			p.unsized = !p.presize(b[i:])
+		}
+	}
+	for i < len(b) {
+		// The rows numReader.read takes whole (all of them, usually), then
+		// the one it stops at.
+		before := len(p.num.time)
+		p.num.rows = p.fast
+		p.num.room = min(cap(p.num.time), cap(p.num.temp), MaxReadings)
+		k, j, eol := p.num.read(b, i, p.lead)
+		p.num.rows = -1 // row's calls read one row
+		row := p.num.row
+		if p.line += len(p.num.time) - before; row >= len(b) {
+			i = row
+			break
+		}
+		p.line++
+		n, err := p.row(b[row:], k, j-row, eol)
+		if err != nil {
+			return err
+		}
+		i = row + n
 	}
 	in.pos += i
 	return nil
@@ -264,7 +261,6 @@ type parser struct {
 	c          *Curve
 	opt        Options
 	in         input
-	time, temp []float64 // readings so far (moved into c at the end)
 	line       int
 	headerLine int
 	sep        byte // '\t', ';', ',' or ' ' (runs of blanks)
@@ -280,15 +276,21 @@ type parser struct {
 	emf        bool // converting an EMF column
 	tc         thermocouple.Type
 	cjMeta     float64
-	cjCol      int   // the cold-junction column of an EMF file, or -1
-	plain      bool  // no EMF to convert, no padding run open: rows take the short way in lines
-	metaLines  []int // the line of each of c.Meta
-	swapCheck  bool  // headerless two columns: see whether they are swapped
-	pad        padding
-	rs         rowState  // the row being read
-	num        numReader // the numbers of a row, into rs.v
-	numBuf     []byte    // a quoted number and its line end
-	quote      []byte    // a quoted field with doubled quotes, unquoted
+	cjCol      int // the cold-junction column of an EMF file, or -1
+	// fast is the width of a row that numReader.read takes whole as a
+	// reading, all its fields numbers read into lead: p.width where the
+	// time is in s and the temperature in °C (nothing to convert), every
+	// column is a number and no padding run is open; else -1 (every row
+	// goes to row and endRow).
+	fast      int
+	lead      []float64 // rs.v[:run[0]]: the numbers at the start of a row
+	metaLines []int     // the line of each of c.Meta
+	swapCheck bool      // headerless two columns: see whether they are swapped
+	pad       padding
+	rs        rowState  // the row being read
+	num       numReader // the numbers of a row, into rs.v
+	numBuf    []byte    // a number otherField reads, and its line end
+	quote     []byte    // a quoted field with doubled quotes, unquoted
 }
 
 func (p *parser) note(format string, args ...any) {
@@ -303,9 +305,9 @@ func (p *parser) finish() (*Curve, error) {
 		return nil, &ParseError{File: c.Name, Line: 1, Err: errors.New("empty file")}
 	case p.cols == nil:
 		return nil, &ParseError{File: c.Name, Line: p.line, Err: errors.New("no header and no readings")}
-	case len(p.time) == 0 && p.pad.rows > 0:
+	case len(p.num.time) == 0 && p.pad.rows > 0:
 		return nil, &ParseError{File: c.Name, Line: p.pad.first, Err: p.pad.err}
-	case len(p.time) == 0:
+	case len(p.num.time) == 0:
 		return nil, &ParseError{File: c.Name, Line: p.headerLine, Err: errors.New("a header but no readings after it")}
 	}
 	if p.pad.rows > 0 {
@@ -318,11 +320,11 @@ func (p *parser) finish() (*Curve, error) {
 		}
 		p.note("%s:%d-%d: the last %d rows have no temperature in column %q (blank or NaN: padding), not read", c.Name, p.pad.first, p.pad.last, p.pad.rows, name)
 	}
-	if p.swapCheck && swapped(p.time, p.temp) {
-		p.time, p.temp = p.temp, p.time
+	if p.swapCheck && swapped(p.num.time, p.num.temp) {
+		p.num.time, p.num.temp = p.num.temp, p.num.time
 		p.note("%s:%d: no header, and the first column goes back while the second only rises: read the second column as the time (s) and the first as the temperature (°C) (--time-column and --temp-column name them otherwise)", c.Name, p.headerLine)
 	}
-	c.Time, c.Temp = p.time, p.temp
+	c.Time, c.Temp = p.num.time, p.num.temp
 	for i := range p.extra {
 		x := &p.extra[i]
 		ends := x.ends[:min(len(x.ends), len(c.Time))] // padding rows dropped

@@ -105,6 +105,17 @@ func TestReadDialects(t *testing.T) {
 			time: []float64{0.1, math.Copysign(0, -1)}, temp: []float64{1234.5678901234567, -40},
 		},
 		{
+			name: "blanks around fields, before a text column and after the last number",
+			in:   "time_s, temp_c , note\n0,  1300 ,  pour here\n 0.5\t,1299.5,\tx \n1 , 1299  ,y\n",
+			time: []float64{0, 0.5, 1}, temp: []float64{1300, 1299.5, 1299},
+			extra: []Column{{"note", []string{"pour here", "x", "y"}}},
+		},
+		{
+			name: "tab separated with spaces beside the tabs",
+			in:   "time_s\ttemp_c\n0 \t 1300\n0.5\t  1299.5  \n",
+			time: []float64{0, 0.5}, temp: []float64{1300, 1299.5},
+		},
+		{
 			name: "quoted names with doubled quotes",
 			in:   "time_s,temp_c,\"say \"\"hi\"\"\"\n0,1,\" a,b \"\n",
 			time: []float64{0}, temp: []float64{1},
@@ -178,6 +189,9 @@ func TestReadErrors(t *testing.T) {
 		{"UTF-16", "\xff\xfet\x00i\x00", 1, "UTF-16"},
 		{"UTF-16 without BOM", "t\x00i\x00m\x00e\x00", 1, "UTF-16"},
 		{"huge line", long, 3, "longer than"},
+		{"huge line of numbers, blanks after a separator", "time_s,temp_c\n0,1\n1," + strings.Repeat(" ", MaxLine) + "2\n", 3, "longer than"},
+		{"huge line of numbers, blanks after a number", "time_s,temp_c\n0,1\n1" + strings.Repeat(" ", MaxLine) + ",2\n3,4\n", 3, "longer than"},
+		{"huge line of numbers, blank separated", "0 1\n1" + strings.Repeat("\t", MaxLine) + "2\n", 2, "longer than"},
 		{"no time column", "seconds_since_boot,temp_c\n0,1\n", 1, "no time column"},
 		{"no temperature column", "time_s,pressure\n0,1\n", 1, "no temperature column"},
 		{"rankine", "time_s,Temp [°R]\n0,1\n", 1, `temperatures must be in °C, °F or K (unit "r" not accepted)`},

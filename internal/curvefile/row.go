@@ -105,7 +105,7 @@ func (p *parser) endRow(b []byte, e, n int) (int, error) {
 	if rs.hasBad { // padding: no temperature in this row
 		if p.pad.rows == 0 {
 			p.pad = padding{first: p.line, err: p.fieldError(&rs.bad)}
-			p.plain = false
+			p.fast = -1
 		}
 		p.pad.rows++
 		p.pad.last = p.line
@@ -133,11 +133,11 @@ func (p *parser) endRow(b []byte, e, n int) (int, error) {
 	} else {
 		temp = p.tempUnit.toC(rs.v[p.tempCol])
 	}
-	if len(p.time) == MaxReadings {
+	if len(p.num.time) == MaxReadings {
 		return 0, fmt.Errorf("more than %d readings: a cup's curve is minutes long; split the file", MaxReadings)
 	}
-	p.time = append(p.time, t)
-	p.temp = append(p.temp, temp)
+	p.num.time = append(p.num.time, t)
+	p.num.temp = append(p.num.temp, temp)
 	return lineEnd(b, e), nil
 }
 
@@ -180,9 +180,10 @@ func (p *parser) skipRest(b []byte, i, k int) (n, end int, err error) {
 	return n, e, nil
 }
 
-// otherField reads the field of column k at b[i] that numbers did not: a
-// text field (extra, ignored or beyond the header), a quoted field
-// (perhaps a number), or a numeric field without a number, which is the
+// otherField reads the field of column k at b[i] that numReader.read did
+// not: a text field (extra, ignored or beyond the header), a quoted field
+// (perhaps a number), a number of another shape than read's (an exponent,
+// more than 15 digits), or a numeric field without a number, which is the
 // row's error, or (blank or NaN) perhaps padding. It returns the index
 // after the field.
 func (p *parser) otherField(b []byte, i, k int) (int, error) {
@@ -207,6 +208,12 @@ func (p *parser) otherField(b []byte, i, k int) (int, error) {
 	} else {
 		i = p.textEnd(b, start)
 		f = trimRightBlanks(b[start:i])
+		if r >= roleTime && len(f) > 0 { // a number of a shape numReader.read leaves
+			if v, ok := parseNumIn(f, p.dec == ',', &p.numBuf); ok {
+				p.rs.v[k] = v
+				return i, nil
+			}
+		}
 	}
 	rs := &p.rs
 	switch {
