@@ -60,7 +60,14 @@ func TestResumedRunIsTheFullRun(t *testing.T) {
 		}{
 			{"modifier", depress(2), k, true},
 			{"inoculant", nuclei(1.5), k, true},
-			{"eutectic law", nil, func() Kinetics { k2 := k; e := *k.Eutectic; e.A *= 7; e.N = 2.3; k2.Eutectic = &e; return k2 }(), true},
+			{"eutectic law", nil, func() Kinetics {
+				k2 := k
+				e := *k.Eutectic
+				e.A *= 7
+				e.N = 2.3
+				k2.Eutectic = &e
+				return k2
+			}(), true},
 			{"eutectic below", nil, lower, true},
 			{"refiner", refiner, k, false},
 			{"eutectic above", nil, higher, false},
