@@ -35,6 +35,7 @@ type Saved struct {
 func eutecticFree(m cup) cup {
 	m.eutectic, m.eutecticLaw = 0, law{}
 	m.rings, m.radialLast, m.last = nil, nil, state{}
+	m.from, m.save = nil, nil // the run's own bookkeeping
 	return m
 }
 
