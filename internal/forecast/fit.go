@@ -201,6 +201,19 @@ type problem struct {
 	lastN   int
 	lastRes []float64
 	lastTr  sim.Truth
+	// saved is the minimiser's last own run of a eutectic fit (not a
+	// Jacobian column's) kept before its eutectic (sim.Saved), at savedTh
+	// over savedN readings: the Jacobian's columns of the eutectic law
+	// (ln(A·μ³), n) resume from it.
+	saved   *sim.Saved
+	savedTh [numPar]float64
+	savedN  int
+}
+
+// eutecticOnly reports whether parameter k of the model acts only on the
+// eutectic law (a step of it leaves the run before the eutectic as it was).
+func (m *model) eutecticOnly(k int) bool {
+	return m.law == LawEutectic && (k == parLnAMu3 || k == parN || k == parLnMu)
 }
 
 // ModelAlloy is the sim's alloy model for an alloy family and name: the
@@ -399,11 +412,31 @@ func median(x []float64) float64 {
 // The last run is kept: asked again for the same parameters and readings,
 // it is copied, not run.
 func (pb *problem) residuals(dst []float64, th [numPar]float64) ([]float64, sim.Truth, error) {
+	return pb.residualsFrom(dst, th, nil, pb.m.law == LawEutectic)
+}
+
+// residualsFrom is residuals resumed from the saved run from where the
+// run differs from it only in the eutectic law (sim.Saved.Curve), and,
+// with save set, keeping the run before the eutectic in pb.saved.
+func (pb *problem) residualsFrom(dst []float64, th [numPar]float64, from *sim.Saved, save bool) ([]float64, sim.Truth, error) {
 	if pb.lastRes != nil && pb.lastN == pb.n && pb.lastTh == th {
 		return append(dst[:0], pb.lastRes...), pb.lastTr, nil
 	}
 	pb.runs++
-	y, tr, err := pb.m.curve(th, nil, pb.times[:pb.n])
+	var y []float64
+	var tr sim.Truth
+	var err error
+	switch {
+	case from != nil:
+		y, tr, err = pb.m.curveFrom(from, th, nil, pb.times[:pb.n])
+	case save:
+		var sv *sim.Saved
+		if y, tr, sv, err = pb.m.curveSaved(th, nil, pb.times[:pb.n]); err == nil {
+			pb.saved, pb.savedTh, pb.savedN = sv, th, pb.n
+		}
+	default:
+		y, tr, err = pb.m.curve(th, nil, pb.times[:pb.n])
+	}
 	if err != nil {
 		return nil, tr, err
 	}
@@ -760,7 +793,12 @@ func (pb *problem) jacobian(x []float64) (*mat.Dense, []float64) {
 			h = -h
 			t[k] = th[k] + h
 		}
-		ri, _, err = pb.residuals(ri, t)
+		// a column of the eutectic law resumes from the run at th
+		var from *sim.Saved
+		if m.eutecticOnly(k) && pb.saved != nil && pb.savedTh == th && pb.savedN == pb.n {
+			from = pb.saved
+		}
+		ri, _, err = pb.residualsFrom(ri, t, from, false)
 		if err != nil {
 			return nil, nil
 		}

@@ -188,3 +188,25 @@ func (m *model) curve(th [numPar]float64, adds []sim.Addition, times []float64) 
 	p, k := m.params(th, adds)
 	return sim.Curve(p, k, times)
 }
+
+// curveSaved is curve, also keeping the run at its last step before the
+// eutectic (sim.CurveSaved) for the runs that differ from it only in the
+// eutectic to resume from (curveFrom).
+func (m *model) curveSaved(th [numPar]float64, adds []sim.Addition, times []float64) ([]float64, sim.Truth, *sim.Saved, error) {
+	if !inBounds(th) {
+		return nil, sim.Truth{}, nil, fmt.Errorf("forecast: parameters outside their bounds")
+	}
+	p, k := m.params(th, adds)
+	return sim.CurveSaved(p, k, times)
+}
+
+// curveFrom is curve resumed from the saved run sv where the run differs
+// from it only in the eutectic (sim.Saved.Curve: the same result as a
+// full run), else made in full.
+func (m *model) curveFrom(sv *sim.Saved, th [numPar]float64, adds []sim.Addition, times []float64) ([]float64, sim.Truth, error) {
+	if !inBounds(th) {
+		return nil, sim.Truth{}, fmt.Errorf("forecast: parameters outside their bounds")
+	}
+	p, k := m.params(th, adds)
+	return sv.Curve(p, k, times)
+}

@@ -108,6 +108,11 @@ type predictor struct {
 	// no-addition runs of newPredictor, the coarse scan of each edge
 	// search), and the model is deterministic.
 	seen map[pointsKey]pointsRun
+	// saved holds the no-addition run of each parameter vector kept before
+	// its eutectic (sim.Saved), for an inoculant's or a modifier's runs:
+	// they change only the eutectic, so they resume from it and skip the
+	// cooling of the liquid and the primary freezing they share.
+	saved map[[numPar]float64]*sim.Saved
 }
 
 // pointsKey and pointsRun are one run of predictor.points.
@@ -167,7 +172,24 @@ func (pr *predictor) points(th [numPar]float64, r float64) ([2]float64, bool) {
 	}
 	pr.runs++
 	var run pointsRun
-	if _, tr, err := pr.f.m.curve(th, pr.t.addition(r), pr.span); err == nil {
+	var tr sim.Truth
+	var err error
+	switch sv := pr.saved[th]; {
+	case pr.t.Law() != LawEutectic:
+		_, tr, err = pr.f.m.curve(th, pr.t.addition(r), pr.span)
+	case r == 0:
+		if _, tr, sv, err = pr.f.m.curveSaved(th, nil, pr.span); err == nil {
+			if pr.saved == nil {
+				pr.saved = map[[numPar]float64]*sim.Saved{}
+			}
+			pr.saved[th] = sv
+		}
+	case sv != nil:
+		_, tr, err = pr.f.m.curveFrom(sv, th, pr.t.addition(r), pr.span)
+	default:
+		_, tr, err = pr.f.m.curve(th, pr.t.addition(r), pr.span)
+	}
+	if err == nil {
 		lo, top, ok := arrestPoints(pr.f.Law, tr)
 		run = pointsRun{[2]float64{lo, top}, ok}
 	}

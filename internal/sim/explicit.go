@@ -98,11 +98,19 @@ func (k Kinetics) validate() error {
 // of the cup model to a measured curve evaluates; Simulate is the same model
 // with the alloy's own constants.
 func Curve(p Params, k Kinetics, times []float64) ([]float64, Truth, error) {
+	out, tr, _, err := curve(p, k, times, nil, nil)
+	return out, tr, err
+}
+
+// curve is Curve, resumed from the saved run from where it fits
+// (Saved.fits; resumed says so) and keeping its own run in save when
+// save is not nil.
+func curve(p Params, k Kinetics, times []float64, from, save *Saved) (out []float64, tr Truth, resumed bool, err error) {
 	if len(times) < 2 {
-		return nil, Truth{}, fmt.Errorf("sim: curve: %d times, want at least 2", len(times))
+		return nil, Truth{}, false, fmt.Errorf("sim: curve: %d times, want at least 2", len(times))
 	}
 	if err := k.validate(); err != nil {
-		return nil, Truth{}, err
+		return nil, Truth{}, false, err
 	}
 	p = p.withDefaults()
 	p.Fault = FaultNone
@@ -114,18 +122,18 @@ func Curve(p Params, k Kinetics, times []float64) ([]float64, Truth, error) {
 	p.kinetics = &k
 	last := times[len(times)-1]
 	if !(last > p.PourAtS) || math.IsInf(last, 0) {
-		return nil, Truth{}, fmt.Errorf("sim: curve: the last time %g s is not after the pour at %g s", last, p.PourAtS)
+		return nil, Truth{}, false, fmt.Errorf("sim: curve: the last time %g s is not after the pour at %g s", last, p.PourAtS)
 	}
 	p.DurationS = last + max(stepS, k.StepS)
 	if err := p.Validate(); err != nil {
-		return nil, Truth{}, err
+		return nil, Truth{}, false, err
 	}
-	f, m := p.run()
-	out := make([]float64, len(times))
+	f, m, resumed := p.runFrom(from, save)
+	out = make([]float64, len(times))
 	for i, t := range times {
 		out[i] = f.reading(t, p.AmbientC)
 	}
-	return out, m.truth(f, len(f.tc)), nil
+	return out, m.truth(f, len(f.tc)), resumed, nil
 }
 
 // reading is the noiseless thermocouple at logger time t, interpolated

@@ -63,6 +63,10 @@ type cup struct {
 	step float64
 
 	last state // the state at the end of the run
+
+	// from, when set, is the saved run this run resumes from; save, when
+	// set, keeps this run's state before the eutectic (Saved)
+	from, save *Saved
 }
 
 // fraction gives the equilibrium solid fraction of the primary phase at
@@ -294,8 +298,15 @@ func (m *cup) integrate(durS, fillS, lagS float64, emit func(*state)) {
 	}
 	full := -math.Expm1(-m.step / lagS)
 	mCore, mShell := m.mass*coreFrac, m.mass*(1-coreFrac)
-	emit(&s)
+	emitted := 1
+	if m.from != nil {
+		s, emitted = m.from.s, m.from.n
+	} else {
+		emit(&s)
+	}
 	for s.t < maxS-m.step/2 {
+		m.save.keep(&s, nil, emitted)
+		emitted++
 		dt := m.step
 		// Nuclei are born from the largest undercooling anywhere in the
 		// cup (convection carries them through the liquid).

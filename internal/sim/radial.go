@@ -296,8 +296,18 @@ func (m *cup) integrateRadial(durS, fillS, lagS float64, emit func(*state)) {
 		maxS = 1800
 	}
 	full := -math.Expm1(-m.step / lagS)
-	emit(&s)
+	emitted := 1
+	if sv := m.from; sv != nil {
+		s, emitted = sv.s, sv.n
+		copy(rs.zones, sv.zones)
+		copy(rs.primMax, sv.primMax)
+		copy(rs.eutMax, sv.eutMax)
+	} else {
+		emit(&s)
+	}
 	for s.t < maxS-m.step/2 {
+		m.save.keep(&s, &rs, emitted)
+		emitted++
 		for range sub {
 			m.radialStep(&g, &rs, &s, dt)
 			s.wall *= wallStep

@@ -136,7 +136,15 @@ func midPlateau(tr Truth, or float64) float64 {
 
 // run integrates the cup model with its defaults filled in.
 func (p Params) run() (fine, cup) {
-	m := p.model()
+	f, m, _ := p.runFrom(nil, nil)
+	return f, m
+}
+
+// runFrom is run, resumed from the saved run from where it fits
+// (Saved.fits; resumed says so), keeping its own run in save when save is
+// not nil.
+func (p Params) runFrom(from, save *Saved) (f fine, m cup, resumed bool) {
+	m = p.model()
 	if p.Fault == FaultShortPour {
 		// A third of a cup, poured barely above the first arrest.
 		m.mass /= 3
@@ -152,7 +160,21 @@ func (p Params) run() (fine, cup) {
 	if dur == 0 {
 		est = int(400 / m.step)
 	}
-	f := fine{offset: p.PourAtS, step: m.step, tc: make([]float64, 0, est), temp: make([]float64, 0, est), fs: make([]float64, 0, est), fsCore: make([]float64, 0, est), shell: make([]float64, 0, est)}
+	f = fine{offset: p.PourAtS, step: m.step, tc: make([]float64, 0, est), temp: make([]float64, 0, est), fs: make([]float64, 0, est), fsCore: make([]float64, 0, est), shell: make([]float64, 0, est)}
+	if m.radial != nil {
+		f.wallTC = make([]float64, 0, est)
+	}
+	maxS := dur
+	if maxS == 0 {
+		maxS = 1800
+	}
+	if from.fits(&m, p.FillS, p.Logger.LagS, p.PourAtS, maxS) {
+		f, m.from, resumed = from.resumeFine(est), from, true
+	}
+	if save != nil {
+		save.key, save.atC, save.fillS, save.lagS, save.offset = eutecticFree(m), m.eutectic, p.FillS, p.Logger.LagS, p.PourAtS
+		m.save = save
+	}
 	var last state
 	record := func(s *state) {
 		f.tc = append(f.tc, s.tc)
@@ -163,7 +185,6 @@ func (p Params) run() (fine, cup) {
 		last = *s
 	}
 	if m.radial != nil {
-		f.wallTC = make([]float64, 0, est)
 		m.integrateRadial(dur, p.FillS, p.Logger.LagS, func(s *state) {
 			record(s)
 			f.wallTC = append(f.wallTC, s.wallTC)
@@ -173,7 +194,12 @@ func (p Params) run() (fine, cup) {
 	}
 	f.primOn, f.eutOn, f.endT = last.primOn, last.eutOn, last.endT
 	m.last = last
-	return f, m
+	if save != nil {
+		save.cut(f)
+		m.save = nil
+	}
+	m.from = nil
+	return f, m, resumed
 }
 
 // truth reads the characteristic points off the first n fine steps.
