@@ -1,11 +1,11 @@
 package tui
 
 import (
-	"github.com/undercool-foundry/undercool/internal/cpuclock"
 	"testing"
 
 	tea "github.com/charmbracelet/bubbletea"
 
+	"github.com/undercool-foundry/undercool/internal/cpuclock"
 	"github.com/undercool-foundry/undercool/internal/limits"
 	"github.com/undercool-foundry/undercool/internal/sample"
 )

@@ -3,11 +3,12 @@ package curvefile
 import (
 	"bytes"
 	"fmt"
-	"github.com/undercool-foundry/undercool/internal/cpuclock"
 	"math"
 	"os"
 	"path/filepath"
 	"testing"
+
+	"github.com/undercool-foundry/undercool/internal/cpuclock"
 )
 
 // constructedFile builds a simulated cup log of n readings at rate Hz in

@@ -2,9 +2,9 @@ package forecast
 
 import (
 	"context"
-	"github.com/undercool-foundry/undercool/internal/cpuclock"
 	"testing"
 
+	"github.com/undercool-foundry/undercool/internal/cpuclock"
 	"github.com/undercool-foundry/undercool/internal/sim"
 )
 

@@ -3,11 +3,12 @@ package store
 import (
 	"context"
 	"fmt"
-	"github.com/undercool-foundry/undercool/internal/cpuclock"
 	"path/filepath"
 	"strconv"
 	"testing"
 	"time"
+
+	"github.com/undercool-foundry/undercool/internal/cpuclock"
 )
 
 // constructedSamples gives n constructed samples spread over days days
