@@ -188,7 +188,9 @@ const (
 //     last half-window of a curve is never used for a point, so a point is
 //     only reported once no further reading can change it;
 //   - the pour peak is the highest despiked reading once the curve has
-//     stayed pourDropC below it for 0.5 s, or has not risen above it for
+//     stayed pourDropC below it for 0.5 s without climbing back by
+//     pourDropC (a spike on a slow rise is followed by readings below it
+//     that still rise), or has not risen above it for
 //     shortArrest (and it reached Hints.MinPourC): a cup poured barely above
 //     its first arrest (a short or cold pour, a pure metal poured within a
 //     few kelvin of its freezing point) falls from the peak straight onto
@@ -333,7 +335,8 @@ type Analyzer struct {
 	sorted          []float64 // work space for the median
 	xmax            float64
 	xmaxI, pourConf int
-	pourBelow       int // consecutive readings below the peak by the pour drop
+	pourBelow       int     // consecutive readings below the peak by the pour drop, none rising above the first of them by it
+	pourFrom        float64 // the first reading of that run, °C
 
 	det   detector
 	probs []Problem
@@ -804,13 +807,19 @@ func (a *Analyzer) filter(upto int) {
 			if v > a.xmax {
 				a.xmax, a.xmaxI = v, k
 			}
-			if a.xmax >= a.h.MinPourC && v <= a.xmax-max(pourDropC, 10*sig) {
-				a.pourBelow++
-			} else {
+			drop := max(pourDropC, 10*sig)
+			switch {
+			case a.xmax < a.h.MinPourC || v > a.xmax-drop:
 				a.pourBelow = 0
+			case a.pourBelow == 0 || v > a.pourFrom+drop:
+				// a new run: the first below the peak, or one rising again
+				a.pourBelow, a.pourFrom = 1, v
+			default:
+				a.pourBelow++
 			}
-			// the fall must last half a second (at least 3 readings): a
-			// spike on the steep rise is no peak
+			// the fall must last half a second (at least 3 readings) without
+			// rising again: a spike on the rise is no peak, even where the
+			// rise takes longer than that to climb past it
 			// or the reading has stayed below the peak for shortArrest
 			// (see Analyze: a pour barely above the first arrest)
 			if a.pourBelow >= pourRun || a.xmax >= a.h.MinPourC && a.ts[k]-a.ts[a.xmaxI] >= a.shortArrest() {

@@ -198,3 +198,41 @@ func TestStartsHot(t *testing.T) {
 		t.Fatalf("%+v", r)
 	}
 }
+
+// A spike on a slowing pour rise is no pour peak. A thermocouple lagging the
+// melt approaches it ever more slowly; at 4 Hz the rise below (the readings'
+// distances from the peak, in the shape of a simulated radial cup's pour)
+// takes more than half a second to climb past a spike of some 35 °C on it,
+// so three readings lie below the spike by more than the pour drop, each
+// above the one before. The despiking lets steep readings through on the
+// pour, so this spike stays; the pour peak must still be the melt's, and
+// the spiked curve give the points of the unspiked one.
+func TestSpikeOnSlowingPourRise(t *testing.T) {
+	sh := shapes()[0]
+	tt, clean := sh.sample(sampling{rate: 4, noise: 0.1, seed: 11})
+	below := []float64{290.8, 217.3, 161.6, 119.2, 87.6, 63.4, 45, 32.2, 22.3, 14.9, 9.7, 6.0, 3.6, 1.8, 0.6, 0.2} // °C below the peak, one every 0.25 s up to it
+	p := sh.peak()
+	k0, _ := slices.BinarySearch(tt, 0)
+	for i := range k0 {
+		clean[i] = 25
+		if j := i - (k0 - len(below)); j >= 0 {
+			clean[i] = p - below[j]
+		}
+	}
+	spiked := slices.Clone(clean)
+	k := k0 - len(below) + 6
+	spiked[k] = p - 11 // 34 °C above its neighbours' path
+	want := Analyze(tt, clean, Options{Family: sh.family})
+	got := Analyze(tt, spiked, Options{Family: sh.family})
+	if len(got.Problems) != 0 || !got.Complete {
+		t.Fatalf("problems %v, complete %v", got.Problems, got.Complete)
+	}
+	if math.Abs(got.PourPeak.TimeS-want.PourPeak.TimeS) > 0.01 || !want.EutecticMin.OK {
+		t.Fatalf("pour peak at %.2f s, want %.2f s (the spike at %.2f s taken for it?)", got.PourPeak.TimeS, want.PourPeak.TimeS, tt[k])
+	}
+	for name, q := range livePoints(&want) {
+		if g := livePoints(&got)[name]; g.OK != q.OK || math.Abs(g.TempC-q.TempC) > 0.05 {
+			t.Errorf("%s: %+v with the spike, %+v without", name, g, q)
+		}
+	}
+}
