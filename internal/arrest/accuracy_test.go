@@ -149,6 +149,35 @@ func TestAccuracyNoisy(t *testing.T) {
 	acc.log(t, fmt.Sprintf("%d constructed noisy curves (noise ≤ 0.3 °C, spikes 1/500 of 10–40 °C, 0.25 °C steps, 4–50 Hz); %d spikes removed", cases, despiked))
 }
 
+// A quiet signal logged by a coarse logger: constructed curves without
+// noise, rounded to 0.25 °C, 4–50 Hz. The readings are a staircase whose
+// noise estimate is near zero while its steps are 0.25 °C; the end of
+// freezing must not be taken at the first step off the plateau (it was, up
+// to 6 °C early, on simulated cups logged so). The tolerances of
+// TestAccuracyNoisy.
+func TestAccuracyQuantised(t *testing.T) {
+	acc := newAccuracy("liquidus_min", 1.5, "liquidus", 1.5, "eutectic_min", 0.5, "eutectic_max", 0.5, "recalescence", 0.5, "solidus", 4.0)
+	// a pure metal's flat plateau, which rounding turns into one value for a
+	// minute, ending in a gentle fall (T' −1.5 °C/s at its steepest)
+	pure := &shape{name: "pure metal, flat plateau (constructed)", family: FamilyPure, anchorT: 0, anchorC: 470, pre: 3,
+		knots: knotSeq(knot{4, -2.2}, [2]float64{14, -1.8}, [2]float64{6, 0}, [2]float64{60, 0}, [2]float64{10, -1.5}, [2]float64{matched(10, 1.5, 0.3), -1.2}, [2]float64{60, -1.0})}
+	for _, sh := range append(shapes(), pure) {
+		want := sh.truth()
+		for _, rate := range []float64{4, 10, 25, 50} {
+			for _, phase := range []float64{0, 0.5} {
+				tt, v := sh.sample(sampling{rate: rate, phase: phase, quant: 0.25, seed: 7})
+				got := Analyze(tt, v, Options{Family: sh.family})
+				label := fmt.Sprintf("%s at %g Hz, phase %.2f, 0.25 °C steps", sh.name, rate, phase)
+				if !got.Complete || got.Invalid() {
+					t.Errorf("%s: complete %v, problems %v", label, got.Complete, got.Problems)
+				}
+				acc.check(t, label, got, want)
+			}
+		}
+	}
+	acc.log(t, "constructed curves without noise rounded to 0.25 °C, 4–50 Hz")
+}
+
 // The same logging faults at the ends of the supported rate range, 2, 100
 // and 200 Hz (noise 0.2 °C, spikes, 0.25 °C steps), 90 seeded constructed
 // cases, the same tolerances.

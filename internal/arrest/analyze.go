@@ -1650,20 +1650,24 @@ func (a *Analyzer) levelPoint(k int, v0, v1, level float64) Point {
 // shorter window sees the fall sooner, and the point only ever moves
 // toward it. Measured on the simulated cups over three seed sets (docs/
 // analysis.md, "Accuracy on simulated cups"), the end of freezing's median
-// and 95th-percentile error fall on both cup kinds.
+// and 95th-percentile error fall on both cup kinds. The noise every step
+// here weighs is at least the logger's rounding (quantum): a rounded quiet
+// plateau has a noise estimate near zero, and the first rounding step off
+// it would pass for the end of freezing.
 func (a *Analyzer) solidusPoint(i, j int) Point {
-	w := a.solidusWindow(i, j)
+	sig := max(a.sigma(j), a.quantum(a.det.eutI, j)/math.Sqrt(12))
+	w := a.solidusWindow(i, j, sig)
 	h := w / 2
 	// a flat-bottomed dip (T' reaching the solid's cooling rate and staying
 	// there) is searched from where T' first came down to its bottom
-	band := max(3*a.sigma(j)*a.gainD, flatShare*math.Abs(a.d[i]))
+	band := max(3*sig*a.gainD, flatShare*math.Abs(a.d[i]))
 	k := i
 	for k > a.det.eutI && a.d[k-1] <= a.d[i]+band {
 		k--
 	}
 	lo, hi := max(k-a.wd/2, h, a.det.eutI), min(j, a.xAvail(j)-h)
 	if w == 5 {
-		if pt, ok := a.steepestStep(i, j, lo, hi); ok {
+		if pt, ok := a.steepestStep(i, j, lo, hi, sig); ok {
 			return pt
 		}
 	}
@@ -1672,7 +1676,7 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 	}
 	ds := a.appendSlopes(a.dl[:0], curve.SavGol(w, 2, 1), lo, hi+1)
 	defer func() { a.dl = ds[:0] }()
-	m, first, mid, ok := a.dipBottom(ds, w, j)
+	m, first, mid, ok := a.dipBottom(ds, w, sig)
 	switch {
 	case m < 0:
 		return a.at(lo)
@@ -1685,7 +1689,7 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 		to := min(lo+int(math.Ceil(mid)), a.xAvail(j)-v/2)
 		if from+2 <= to {
 			dv := a.appendSlopes(ds[len(ds):], curve.SavGol(v, 2, 1), from, to+1)
-			if _, _, mv, ok := a.dipBottom(dv, v, j); ok && float64(from)+mv < float64(lo)+mid {
+			if _, _, mv, ok := a.dipBottom(dv, v, sig); ok && float64(from)+mv < float64(lo)+mid {
 				return a.atFrac(float64(from) + mv)
 			}
 		}
@@ -1708,7 +1712,7 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 // ok is false when the minimum or
 // its run reaches either end of ds (m is −1 when ds has fewer than three
 // values).
-func (a *Analyzer) dipBottom(ds []float64, w, j int) (m int, first, mid float64, ok bool) {
+func (a *Analyzer) dipBottom(ds []float64, w int, sig float64) (m int, first, mid float64, ok bool) {
 	if len(ds) < 3 {
 		return -1, 0, 0, false
 	}
@@ -1722,7 +1726,7 @@ func (a *Analyzer) dipBottom(ds []float64, w, j int) (m int, first, mid float64,
 	if m == 0 || m == last {
 		return m, 0, 0, false
 	}
-	level := ds[m] + 2*a.sigma(j)*curve.SavGol(w, 2, 1).NoiseGain()/a.dt
+	level := ds[m] + 2*sig*curve.SavGol(w, 2, 1).NoiseGain()/a.dt
 	l, r := 0, m
 	for ds[l] > level {
 		l++
@@ -1750,6 +1754,37 @@ func (a *Analyzer) dipBottom(ds []float64, w, j int) (m int, first, mid float64,
 	return m, fl, (fl + fr) / 2, true
 }
 
+// quantum is the logger's resolution as the readings from i to j show it,
+// °C: the smallest non-zero step between two despiked readings, where at
+// least nine steps in ten are whole multiples of it (the readings lie on a
+// grid); 0 otherwise (a smooth or noisy curve, whose steps vary freely).
+// A logger that rounds to q °C records a slow cooling as a staircase whose
+// noise estimate (the spread of the readings about a smooth curve, within
+// one noise block) is near zero, while its steps are q; the rounding error,
+// uniform within ±q/2, has σ = q/√12.
+func (a *Analyzer) quantum(i, j int) float64 {
+	i, j = max(i, 1), min(j, len(a.x)-1)
+	q := math.Inf(1)
+	for k := i; k <= j; k++ {
+		if d := math.Abs(a.x[k] - a.x[k-1]); d > 0 && d < q {
+			q = d
+		}
+	}
+	if math.IsInf(q, 1) {
+		return 0
+	}
+	off := 0
+	for k := i; k <= j; k++ {
+		if r := math.Abs(a.x[k]-a.x[k-1]) / q; math.Abs(r-math.Round(r)) > 1e-6 {
+			off++
+		}
+	}
+	if off*10 > j-i+1 {
+		return 0
+	}
+	return q
+}
+
 // atFrac is the smoothed T and the time at the fractional sample index f,
 // interpolated linearly between its two neighbours.
 func (a *Analyzer) atFrac(f float64) Point {
@@ -1766,7 +1801,7 @@ func (a *Analyzer) atFrac(f float64) Point {
 // stepShare of the step's slope (a neighbouring step the noise may pick
 // instead lies on the same cliff) and the step is sharpGain times steeper
 // than the 5-sample T' there; ok false otherwise.
-func (a *Analyzer) steepestStep(i, j, lo, hi int) (Point, bool) {
+func (a *Analyzer) steepestStep(i, j, lo, hi int, sig float64) (Point, bool) {
 	if lo+2 > hi {
 		return Point{}, false
 	}
@@ -1776,7 +1811,7 @@ func (a *Analyzer) steepestStep(i, j, lo, hi int) (Point, bool) {
 			best, bk = v, k
 		}
 	}
-	if bk < 0 || math.Sqrt2*a.sigma(j)/a.dt > stepShare*-best || -best < sharpGain*a.dipDepth(5, i, j) {
+	if bk < 0 || math.Sqrt2*sig/a.dt > stepShare*-best || -best < sharpGain*a.dipDepth(5, i, j) {
 		return Point{}, false
 	}
 	return Point{TempC: (a.x[bk] + a.x[bk+1]) / 2, TimeS: (a.ts[bk] + a.ts[bk+1]) / 2, OK: true}, true
@@ -1797,8 +1832,8 @@ func (a *Analyzer) steepestStep(i, j, lo, hi int) (Point, bool) {
 // shortest window that still resolves a deeper dip is taken; a gentle dip,
 // which a shorter window does not deepen beyond its noise, keeps the
 // steadier half window.
-func (a *Analyzer) solidusWindow(i, j int) int {
-	noise := a.sigma(j) / a.dt // σ_T' per unit noise gain
+func (a *Analyzer) solidusWindow(i, j int, sig float64) int {
+	noise := sig / a.dt // σ_T' per unit noise gain
 	w := min(curve.WindowSamples(a.h.SlopeS/2, a.rate, 2, 5), a.wd)
 	depth := a.dipDepth(w, i, j)
 	if curve.SavGol(w, 2, 1).NoiseGain()*noise > shortShare*depth {
