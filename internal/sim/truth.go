@@ -305,9 +305,27 @@ func (f *fine) points(n int, tr *Truth) {
 	// recalescence outranks the one taken (outranks) where T first fell
 	// below that one's minimum and then rises by more than recalOutrank
 	// times as much: the earlier was the wall's arrest conducted in.
+	// recalEnd is where a recalescence that starts at i ends: the next
+	// + → − crossing of T' after which T falls by recalMinC before T' turns
+	// up again (or never turns up); a pause with a smaller dip (radial cups
+	// show T' touching zero for a second or two, T dipping by under
+	// 0.01 °C, then rising by another 0.5–1 °C) is inside the recalescence,
+	// as a smaller rise is no recalescence (−1: still recalescing where the
+	// recording ends).
+	recalEnd := func(i int) int {
+		k := downCross(i+1, n)
+		for k > 0 {
+			u := upCross(k+1, n)
+			if u < 0 || f.tc[k]-f.tc[u-1] >= recalMinC {
+				return k
+			}
+			k = downCross(u+1, n)
+		}
+		return -1
+	}
 	i := upCross(start, n)
 	for i > 0 && i < n-1 {
-		k := downCross(i+1, n)
+		k := recalEnd(i)
 		if k < 0 {
 			// still recalescing where the recording ends: the minimum is
 			// known once T has risen by recalMinC, the maximum is not
