@@ -70,7 +70,7 @@ FIXED = {"al": 660.323, "zn": 419.527, "sn": 231.928}
 
 FAMILY = {"grey-iron": "iron", "al-si7": "aluminum", "pure-al": "pure", "pure-zn": "pure", "pure-sn": "pure"}
 # Eutectic windows of docs/analysis.md ("What counts as the eutectic"), degC; pure metals: open.
-WINDOW = {"iron": (1070.0, 1180.0), "aluminum": (545.0, 577.0), "pure": (-1e9, 1e9)}
+WINDOW = {"iron": (1070.0, 1180.0), "aluminum": (545.0, 577.0), "pure": (-math.inf, math.inf)}
 
 DT = 0.02  # the model's step, and the fine grid the centre curve is kept on, s
 ALLOYS = ["grey-iron", "al-si7", "grey-iron", "al-si7", "pure-al", "pure-zn", "pure-sn"]
@@ -107,7 +107,9 @@ def draw_cup(i):
     if alloy == "grey-iron":
         mat = "iron"
         te = float(rng.uniform(1140, 1155))
-        p.update(liquidus_c=te + float(rng.uniform(30, 95)), eutectic_c=te, melting_c=1538.0, k_part=0.5,
+        # liquidus above the iron family's eutectic window (1070-1180 degC), so that the primary
+        # arrest is one by the definitions
+        p.update(liquidus_c=float(rng.uniform(1185, 1250)), eutectic_c=te, melting_c=1538.0, k_part=0.5,
                  pour_c=0.0, dtn_p=float(rng.uniform(1.5, 5)), n_p=float(geo(1e8, 1e10, rng.uniform())),
                  mu_p=float(geo(3e-6, 3e-5, rng.uniform())), tau_p=float(rng.uniform(0.5, 2)),
                  eut_law="oldfield", a_e=float(geo(3e8, 3e10, rng.uniform())), dtn_e=0.0,
@@ -139,6 +141,13 @@ def draw_cup(i):
     p["phase_s"] = float(rng.uniform(0, 1)) / p["rate_hz"]
     p["seed"] = [2026, 12, i]
     return p
+
+
+def end_below(c):
+    """The temperature the centre must fall below before the record ends, degC: 35 degC below the
+    eutectic, and 15 degC below the family's eutectic window where it has one."""
+    lo = WINDOW[c["family"]][0]
+    return min(c["eutectic_c"] - 35, lo - 15 if math.isfinite(lo) else math.inf)
 
 
 class Cups:
@@ -219,6 +228,7 @@ class Cups:
         self.first = j == 0
         self.last = j == nb[cup_of] - 1
         self.pour = per("pour_c")
+        self.below = np.array([end_below(c) for c in cups])
 
     def scheil(self, T):
         x = (self.Tm - T) / np.maximum(self.Tm - self.TL, 1e-9)
@@ -309,7 +319,7 @@ class Cups:
             rec.append((T[self.centre].copy(), fs[self.j == 0].copy(), T[self.wall].copy(), fs[self.wallm].copy()))
             allsolid = np.minimum.reduceat(fs, np.concatenate([[0], np.cumsum(self.nb)[:-1]])) > 0.9995
             t_solid = np.where(allsolid & ~np.isfinite(t_solid), tnow, t_solid)
-            done |= (tnow > t_solid + 25) & (T[self.centre] < self.TE[self.j == 0] - 35)
+            done |= (tnow > t_solid + 40) & (T[self.centre] < self.below)
             if done.all() or tnow > tmax:
                 break
         cen = np.array([r[0] for r in rec]).T
@@ -426,7 +436,8 @@ def read_truth(t, T, family, hypo):
     eut = None
     if recs:
         eut = recs[0]
-        for b in recs[1:]:
+        # (a pure metal's single plateau is never reopened, docs/analysis.md)
+        for b in recs[1:] if family != "pure" else []:
             if tmin(b) < tmin(eut) and tmax(b) - tmin(b) > 2 * (tmax(eut) - tmin(eut)):
                 eut = b
     elif inwin:
@@ -447,12 +458,18 @@ def read_truth(t, T, family, hypo):
         k -= 1
     if k < im:
         out["eutectic_start"] = pt(k + int(np.argmax(dd[k:im + 1])))
+    # diagnostics (not points): the liquid's mean slope over the 10 s before the first arrest's
+    # minimum, and T' at the end of freezing
+    first = arrests[0][1] if arrests else i0
+    k10 = max(i0, first - int(round(10 / dt)))
+    out["liquid_rate"] = round(float((T[first] - T[k10]) / max(t[first] - t[k10], dt)), 3)
     # end of freezing: the most negative T' after the eutectic plateau; null when it falls
     # within 2 s of the record's end (the record stopped before it settled)
     ie = eut[2]
     js = ie + int(np.argmin(d[ie:]))
     if js < n - half:
         out["solidus"] = pt(js)
+        out["end_slope"] = round(float(d[js]), 3)
     return out
 
 
@@ -479,9 +496,11 @@ def main(argv):
     rec_dt = DT
     for b, c in enumerate(cups):
         cen, cfs, wT, wfs, t_solid = cen_all[b], cfs_all[b], wT_all[b], wfs_all[b], tsol_all[b]
-        # keep the record until 25 s after the whole cup is solid and 35 degC below the eutectic
+        # keep the record until 40 s after the whole cup is solid and 35 degC below the eutectic
         tt = np.arange(len(cen)) * rec_dt
-        end = np.nonzero((tt > t_solid + 25) & (cen < c["eutectic_c"] - 35))[0]
+        # (and 15 degC below the family's eutectic window, 545 degC for Al-Si)
+        below = end_below(c)
+        end = np.nonzero((tt > t_solid + 40) & (cen < below))[0]
         m = int(end[0]) + 1 if len(end) else len(cen)
         cen, cfs, wT, wfs = cen[:m], cfs[:m], wT[:m], wfs[:m]
         tc = lagged(cen, rec_dt, c["lag_s"], c["room_c"], c["pre_s"])
@@ -506,6 +525,9 @@ def main(argv):
             bb = max(0, int(round(tr["eutectic_max"]["s"] / rec_dt)) - npre)
             diag["centre_fs_at_eutectic_min"] = round(float(cfs[min(a, len(cfs) - 1)]), 4)
             diag["centre_fs_at_eutectic_max"] = round(float(cfs[min(bb, len(cfs) - 1)]), 4)
+        for key in ("liquid_rate", "end_slope"):
+            if key in tr:
+                diag[key + "_c_per_s"] = tr.pop(key)
         arrests = tr.pop("arrests")
         diag["arrests"] = arrests
         entry = dict(c)
