@@ -439,6 +439,9 @@ def read_truth(t, T, family, hypo):
         a = primary[0]
         if a[0] == "shoulder":
             out["liquidus"] = pt(a[1])
+        elif a[0] == "flat":
+            # T' just touches zero without a recalescence: the arrest's top of T'
+            out["liquidus"] = pt(a[1] + int(np.argmax(d[a[1]:a[2] + 1])))
         else:
             out["liquidus_min"] = at(tmin(a), a[1])
             out["liquidus"] = at(tmax(a), a[2])
