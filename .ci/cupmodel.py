@@ -53,6 +53,7 @@ import os
 import sys
 
 import numpy as np
+import scipy
 from scipy.linalg import solve_banded
 from scipy.ndimage import maximum_filter1d
 from scipy.signal import lfilter
@@ -77,10 +78,6 @@ WINDOW = {"iron": (1070.0, 1180.0), "aluminum": (545.0, 577.0), "pure": (-math.i
 
 DT = 0.02  # the model's step, and the fine grid the centre curve is kept on, s
 ALLOYS = ["grey-iron", "al-si7", "grey-iron", "al-si7", "pure-al", "pure-zn", "pure-sn"]
-
-
-def lerp(a, b, u):
-    return a + (b - a) * u
 
 
 def geo(a, b, u):
@@ -406,7 +403,7 @@ def arrests_of(T, d, i0, half):
             continue
         out.append(("shoulder", i, i))
     out.sort(key=lambda a: a[1])
-    # one shoulder per stretch between recalescences: keep those half a window apart
+    # of shoulders closer than half a window, the first
     keep = []
     for a in out:
         if a[0] == "shoulder" and keep and keep[-1][0] == "shoulder" and a[1] - keep[-1][1] <= half:
@@ -514,7 +511,7 @@ def main(argv):
         ncups = int(argv[argv.index("--cups") + 1])
     os.makedirs(outdir, exist_ok=True)
     cups = [draw_cup(i) for i in range(ncups)]
-    doc = {"model": "cupmodel.py", "numpy": np.__version__, "cups": []}
+    doc = {"model": "cupmodel.py", "numpy": np.__version__, "scipy": scipy.__version__, "cups": []}
     dt = float(argv[argv.index("--dt") + 1]) if "--dt" in argv else DT
     cen_all, cfs_all, wT_all, wfs_all, tsol_all = Cups(cups, dt).run()
     rec_dt = dt
