@@ -198,3 +198,38 @@ func TestAccuracyNoisyRateExtremes(t *testing.T) {
 	}
 	acc.log(t, "90 constructed noisy curves at 2, 100 and 200 Hz")
 }
+
+// A cup whose liquid cools fast (cold sand just after the pour, −5 °C/s)
+// and whose freezing ends with a shallow dip of T' (to −0.9 °C/s from the
+// plateau's −0.07) has its end of freezing all the same: the dip is less
+// than a third of the liquid's cooling rate, the depth that settles it at
+// once, but stands clear of the noise and T' comes back up from it before
+// the curve cools 10 °C below the eutectic window (it was null, with
+// no-end-of-freezing, here and on 20 Al-Si cups of the independent cup
+// model, TestIndependentCupModel). Constructed curves, 5–25 Hz, noise up
+// to 0.2 °C, the tolerances of TestAccuracyNoisy.
+func TestShallowEndOfFreezing(t *testing.T) {
+	// the liquidus is not checked here: the shape's primary arrest, 16 s
+	// after the pour on a liquid cooling at −4.5 °C/s, is not found (a
+	// limit of its own, docs/analysis.md "An independent cup model")
+	acc := newAccuracy("eutectic_min", 0.5, "eutectic_max", 0.5, "recalescence", 0.5, "solidus", 4.0)
+	sh := &shape{name: "Al-Si, fast liquid, shallow end of freezing (constructed)", family: FamilyAluminum, anchorT: 16, anchorC: 614, pre: 3,
+		knots: knotSeq(knot{2, -5.0}, [2]float64{8, -4.5}, [2]float64{6, -0.15}, [2]float64{matched(6, 4.35, 0.45), -0.6}, [2]float64{70, -0.55},
+			[2]float64{12, 0.1}, [2]float64{12, -0.03}, [2]float64{80, -0.07}, [2]float64{10, -0.9}, [2]float64{matched(10, 0.83, 0.3), -0.6}, [2]float64{110, -0.55})}
+	want := sh.truth()
+	if !want.Solidus.OK || !want.EutecticMin.OK || want.EutecticMin.TempC > AlSiEutecticC {
+		t.Fatalf("the construction has no eutectic in the window or no end of freezing: %+v", want)
+	}
+	for _, rate := range []float64{5, 10, 25} {
+		for _, noise := range []float64{0, 0.1, 0.2} {
+			tt, v := sh.sample(sampling{rate: rate, noise: noise, seed: 21})
+			got := Analyze(tt, v, Options{Family: sh.family})
+			label := fmt.Sprintf("%s at %g Hz, noise %.1f °C", sh.name, rate, noise)
+			if !got.Complete || got.Invalid() || len(got.Problems) != 0 {
+				t.Errorf("%s: complete %v, problems %v", label, got.Complete, got.Problems)
+			}
+			acc.check(t, label, got, want)
+		}
+	}
+	acc.log(t, "a constructed Al-Si curve with a fast-cooling liquid and a shallow end of freezing")
+}

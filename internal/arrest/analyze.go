@@ -990,10 +990,7 @@ func (a *Analyzer) detect() {
 			need := max(p, math.Abs(e.res.CoolingRateCps)/3)
 			dmin, dminI := e.dmin, e.dminI
 			dd, ts, confirm := a.d[:end], a.ts, a.h.ConfirmS
-			floor := math.Inf(-1) // see noDistinctEnd
-			if w := a.h.Eutectic; !w.Open() {
-				floor = w.LoC - belowWindowC
-			}
+			floor := a.solidFloor() // see noDistinctEnd and solidDip
 			back, below := false, false
 			for ; j < end; j++ {
 				v := dd[j]
@@ -1003,10 +1000,10 @@ func (a *Analyzer) detect() {
 				if back = a.shoulderPassed(v, dmin, h, p); back {
 					break
 				}
-				if e.eutRefD-dmin >= need && ts[j]-ts[dminI] >= confirm {
+				if ts[j]-ts[dminI] >= confirm && (e.eutRefD-dmin >= need || a.x[j] < floor && a.solidDip(v, dmin, p)) {
 					break
 				}
-				if below = a.x[j] < floor && e.eutRefD-dmin < need; below {
+				if below = a.x[j] < floor && e.eutRefD-dmin < need && a.h.Eutectic != (Range{}); below {
 					break
 				}
 			}
@@ -1332,31 +1329,16 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 			return
 		}
 	} else if !w.Open() && hi.TempC > w.HiC || a.primary(lo.TempC, long) {
-		// an arrest reaching above the eutectic window is a primary one,
-		// and only inside the liquidus window (where one is set) the
-		// liquidus
-		if r.EutecticMin.Provisional {
-			r.EutecticMin = Point{} // shown early, and not the eutectic after all
-		}
-		if !r.Liquidus.OK && a.h.Liquidus.Holds(hi.TempC) {
-			if !recal {
-				// a slight primary recalescence shows on the longer window
-				lo, hi, recal = a.refineMax(e.dminI, j, e.dmaxI, false)
-			}
-			r.Liquidus = hi
-			r.LiquidusMin = Point{}
-			if recal {
-				r.LiquidusMin = lo
-				r.LiquidusRecalescence = hi.TempC - lo.TempC
-			}
-		} else if r.LiquidusMin.Provisional {
-			r.LiquidusMin = Point{}
-		}
-		e.startArrest(j, a.d[j])
+		a.primaryArrest(j, lo, hi, recal)
 		return
 	}
 	if !recal {
 		lo, hi, recal = a.refineMax(e.dminI, j, e.dmaxI, true)
+		if !w.Open() && lo.TempC > w.HiC {
+			// a flat arrest the longer window places above the window
+			a.primaryArrest(j, lo, hi, recal)
+			return
+		}
 	}
 	if r.LiquidusMin.Provisional {
 		r.LiquidusMin = Point{} // shown early, and the eutectic after all
@@ -1383,6 +1365,33 @@ func (a *Analyzer) arrest(j int, lo, hi Point, recal, long bool) {
 	e.eutI, e.eutRecal = j, recal
 	e.stage = stageSolidus
 	e.dmin, e.dminI = a.d[j], j
+}
+
+// primaryArrest takes the arrest settled at j (lo, hi: its minimum and
+// maximum) for a primary one: an arrest reaching above the eutectic window
+// is, and only inside the liquidus window (where one is set) the liquidus;
+// the search goes on after it.
+func (a *Analyzer) primaryArrest(j int, lo, hi Point, recal bool) {
+	e := &a.det
+	r := &e.res
+	if r.EutecticMin.Provisional {
+		r.EutecticMin = Point{} // shown early, and not the eutectic after all
+	}
+	if !r.Liquidus.OK && a.h.Liquidus.Holds(hi.TempC) {
+		if !recal {
+			// a slight primary recalescence shows on the longer window
+			lo, hi, recal = a.refineMax(e.dminI, j, e.dmaxI, false)
+		}
+		r.Liquidus = hi
+		r.LiquidusMin = Point{}
+		if recal {
+			r.LiquidusMin = lo
+			r.LiquidusRecalescence = hi.TempC - lo.TempC
+		}
+	} else if r.LiquidusMin.Provisional {
+		r.LiquidusMin = Point{}
+	}
+	e.startArrest(j, a.d[j])
 }
 
 // eutecticStart is the start of eutectic freezing before the eutectic
@@ -1428,6 +1437,38 @@ func (a *Analyzer) eutecticStart(lo Point) Point {
 	}
 	pt.Provisional = lo.Provisional
 	return pt
+}
+
+// solidFloor is the temperature, °C, below which a curve that has shown no
+// dip of T' as deep as a third of the liquid's cooling rate is judged: 10 °C
+// (belowWindowC) below the alloy's eutectic window, or, for an alloy
+// without one (a pure metal), 10 °C below its plateau's top.
+func (a *Analyzer) solidFloor() float64 {
+	if w := a.h.Eutectic; !w.Open() {
+		return w.LoC - belowWindowC
+	}
+	r := &a.det.res
+	if r.EutecticMax.OK {
+		return r.EutecticMax.TempC - belowWindowC
+	}
+	return r.EutecticMin.TempC - belowWindowC
+}
+
+// solidDip reports whether the deepest T' after the eutectic plateau, dmin,
+// shallower than a third of the liquid's cooling rate (the depth that
+// settles an end of freezing by itself), still marks the end of freezing
+// once the curve has cooled below solidFloor (T' is v there): the dip
+// stands clear of the noise, more than the prominence p below the
+// plateau's T', and T' has come back up from it by p. A cup whose liquid
+// cooled fast (cold sand just after the pour: −2 to −6 °C/s) can end its
+// freezing with a dip of under 1 °C/s, a lean eutectic (Sn-Bi with 90 %
+// Sn) with one of a few hundredths. Waiting for the floor keeps a shallow
+// dip on the way down from the plateau (real Al-Si cups show one some
+// 10 °C above their end of freezing) from being taken before the deeper
+// one that follows; a curve whose T' falls to the solid's cooling rate and
+// stays there has no such minimum and keeps no-end-of-freezing.
+func (a *Analyzer) solidDip(v, dmin, p float64) bool {
+	return a.det.eutRefD-dmin >= p && v >= dmin+p
 }
 
 // noDistinctEnd ends the analysis at index j, where the curve has cooled

@@ -107,16 +107,13 @@ var knownWrong = map[string]string{}
 
 // disputed are the points where undercool and the independent read
 // disagree and the curve does not say which is right: printed, not
-// checked, with why.
-var disputed = map[string]string{
-	// Sn90 and Sn40 cool on at −0.3 to −0.5 °C/s after their eutectic with
-	// no sharp fall of dT/dt: undercool reports no distinct end of
-	// freezing (null, "no-end-of-freezing"); the read takes a shallow
-	// minimum of dT/dt (Sn90 −0.41 °C/s at 412 s against −0.38 around
-	// it; Sn40 −0.48 °C/s at 468 s, −0.41 to −0.46 after it).
-	"Sn90 solidus_c": "dT/dt has no distinct dip after the eutectic",
-	"Sn40 solidus_c": "dT/dt has no distinct dip after the eutectic",
-}
+// checked, with why. Empty since the end of freezing takes a dip shallower
+// than a third of the liquid's cooling rate once the curve has cooled
+// 10 °C below the plateau (arrest.solidDip): Sn90 and Sn40, whose dT/dt
+// dips by a few hundredths of a °C/s after their lean eutectic, had no end
+// of freezing where the read takes a shallow minimum; they now agree with
+// it.
+var disputed = map[string]string{}
 
 // realLimits names the Sn-Bi curves' alloys: an alloy entry with its own
 // detection windows (docs/limits.md), as a shop adding a tin-base alloy
@@ -567,15 +564,6 @@ func TestRealSnBiAgainstAuthor(t *testing.T) {
 	checkKnown(t, "Sn40 liquidus null", rec.LiquidusC == nil || math.Abs(*rec.LiquidusC-author["Sn40"][0]) <= 1,
 		fmt.Sprintf("liquidus %s, the author reads one arrest at %.2f °C", show(rec.LiquidusC), author["Sn40"][0]))
 
-	// Sn90 and Sn40 cool on after their eutectic with no distinct dip of
-	// dT/dt (disputed above): no end of freezing, said so, not fatal.
-	for _, name := range []string{"Sn90", "Sn40"} {
-		rec := assessReal(t, name)
-		if rec.SolidusC != nil || !has(rec.Problems, "no distinct end of freezing") || rec.Verdict == VerdictInvalid {
-			t.Errorf("%s: end of freezing %s, verdict %s, problems %q: want null, said, not invalid", name, show(rec.SolidusC), rec.Verdict, rec.Problems)
-		}
-	}
-
 	// Pure bismuth as a check cup (pure tin: TestRealTinCheckCup). The
 	// undercooling below the plateau against the independent read's
 	// recalescence, 266.71 → 269.70 °C, at the sum of its points'
@@ -705,7 +693,13 @@ func TestRealCutRecordings(t *testing.T) {
 			if r.Verdict != VerdictInvalid || !has(r.Problems, "ended before the end of freezing") || r.SolidusC != nil {
 				t.Errorf("%s: verdict %s, problems %q, end of freezing %s", id, r.Verdict, r.Problems, show(r.SolidusC))
 			}
-			if show(r.EutecticMinC) != show(full.EutecticMinC) || show(r.EutecticMaxC) != show(full.EutecticMaxC) {
+			// a cut within 10 s of the eutectic maximum (the longest
+			// ConfirmS) may come before the drop that settles it and leave
+			// the eutectic null (Sn90's plateau lasts 6 s); otherwise the
+			// points settled are the whole curve's
+			early := at-*full.EutecticMaxS < 10
+			kept := func(cut, whole *float64) bool { return early && cut == nil || show(cut) == show(whole) }
+			if !kept(r.EutecticMinC, full.EutecticMinC) || !kept(r.EutecticMaxC, full.EutecticMaxC) {
 				t.Errorf("%s: eutectic %s → %s, the whole curve %s → %s", id, show(r.EutecticMinC), show(r.EutecticMaxC), show(full.EutecticMinC), show(full.EutecticMaxC))
 			}
 			cuts++
