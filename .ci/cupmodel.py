@@ -378,19 +378,30 @@ def cross(T, d, i):
 
 def arrests_of(T, d, i0, half):
     """The arrests after index i0, in time order: ("recal", i, j) where T' crosses zero from - to +
-    at i and back at j with T rising at least 0.05 degC (docs/analysis.md), ("flat", i, j) for a
+    at i and back at j with T rising at least 0.05 degC and then falling at least 0.05 degC before
+    T' turns up again (docs/analysis.md), ("flat", i, j) for a
     smaller excursion (an arrest at zero), ("shoulder", i, i) for a local maximum of T' below zero
     (the largest T' within +-half readings, above both ends of that span)."""
     n = len(T)
     up = [int(i) for i in np.nonzero((d[:-1] < 0) & (d[1:] >= 0))[0] if i >= i0]
     down = [int(i) for i in np.nonzero((d[:-1] > 0) & (d[1:] <= 0))[0] if i >= i0]
     out = []
+    end = -1
     for i in up:
-        later = [j for j in down if j > i]
-        if not later:
+        if i <= end:
+            continue  # inside the recalescence before
+        # it ends at the first + -> - crossing after which T falls by 0.05 degC before T' turns up
+        # again (docs/analysis.md): a pause with a smaller dip is inside it
+        j = None
+        for k in (k for k in down if k > i):
+            nxt = [u for u in up if u > k]
+            if not nxt or T[k] - T[nxt[0]] >= 0.05:
+                j = k
+                break
+        if j is None:
             break  # the record ends on the rise
-        j = later[0]
         out.append(("recal" if T[j] - T[i] >= 0.05 else "flat", i, j))
+        end = j
     mx = maximum_filter1d(d, 2 * half + 1, mode="nearest")
     idx = np.nonzero((d == mx) & (d < 0))[0]
     for i in idx:
