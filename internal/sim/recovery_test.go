@@ -28,31 +28,45 @@ import (
 
 const recoveryCases = 240
 
-// radialBudget is how many checks on the radial cups may lie outside
-// their tolerances: the count last measured (issue 12: 176 before the
-// detector learnt to pick each arrest by what it is, then 27, then 22 once
-// the end of freezing is placed on the shortest window that resolves its
-// dip and a pour barely above its first arrest is confirmed, then 11 once
-// a later recalescence outranks a shoulder that just crossed zero, in the
-// truth and the detector alike, then 7 once the end of freezing's bottom
-// is also located on a window two thirds as long), so that the suite fails on any
-// regression while the rest are worked off. They are listed with -v;
-// docs/analysis.md ("Accuracy on simulated cups") says what they are.
-const radialBudget = 7
+// recoverySeeds are the seed sets the suite draws its cases from, each
+// recoveryCases cups of each kind: 2026 the set the detector was first
+// measured on, the others drawn later so that a change tuned to one set's
+// cases shows on the rest (issue 12: on three fresh sets 14, 11 and 10
+// radial checks lay outside where the first held 7).
+var recoverySeeds = []uint64{2026, 3001, 4001, 5001}
+
+// lumpedBudget and radialBudget are how many checks over all seed sets may
+// lie outside their tolerances: the counts last measured, so that the suite
+// fails on any regression while the rest are worked off. On the first set
+// alone: 176 radial checks before the detector learnt to pick each arrest
+// by what it is, then 27, then 22 once the end of freezing is placed on the
+// shortest window that resolves its dip and a pour barely above its first
+// arrest is confirmed, then 11 once a later recalescence outranks a
+// shoulder that just crossed zero, in the truth and the detector alike,
+// then 7 once the end of freezing's bottom is also located on a window two
+// thirds as long; the lumped cups there have none. Over the four sets now
+// 4 lumped and 28 radial (per set: 0/7, 1/8, 0/8, 3/5), most of them short
+// pours, which the cup check on the pour judges invalid. They are listed
+// with -v; docs/analysis.md ("Accuracy on simulated cups") says what they
+// are.
+const (
+	lumpedBudget = 4
+	radialBudget = 28
+)
 
 // recoveryAlloys are the alloys the suite draws from.
 var recoveryAlloys = []string{GreyIron, DuctileIron, AlSi7Mg, WhiteIron, PureAl, PureZn}
 
-// recoveryCase draws one seeded lumped cup and logger.
-func recoveryCase(i int) Params {
-	return drawCase(rand.New(rand.NewPCG(2026, uint64(i))), recoveryAlloys[i%len(recoveryAlloys)])
+// recoveryCase draws case i of seed set seed: one lumped cup and logger.
+func recoveryCase(seed uint64, i int) Params {
+	return drawCase(rand.New(rand.NewPCG(seed, uint64(i))), recoveryAlloys[i%len(recoveryAlloys)])
 }
 
-// radialCase draws one seeded radial cup and logger (its own seeds): a
-// third nearly lumped, a third strong gradient, a third in between
-// (radialBetween).
-func radialCase(i int) Params {
-	r := rand.New(rand.NewPCG(2027, uint64(i)))
+// radialCase draws case i of seed set seed: one radial cup and logger (its
+// own seeds, seed+1): a third nearly lumped, a third strong gradient, a
+// third in between (radialBetween).
+func radialCase(seed uint64, i int) Params {
+	r := rand.New(rand.NewPCG(seed+1, uint64(i)))
 	alloy := recoveryAlloys[i%len(recoveryAlloys)]
 	u := r.Float64()
 	switch r.IntN(3) {
@@ -187,69 +201,76 @@ func TestRecoveryOfSimulatedTruth(t *testing.T) {
 		stride = 5 // all families still (6 alloys, 5 coprime); the full 240 run without -race and -short
 	}
 	for _, kind := range []struct {
-		name string
-		draw func(int) Params
-	}{{"lumped", recoveryCase}, {"radial", radialCase}} {
+		name   string
+		draw   func(uint64, int) Params
+		budget int
+	}{{"lumped", recoveryCase, lumpedBudget}, {"radial", radialCase, radialBudget}} {
 		t.Run(kind.name, func(t *testing.T) {
 			checks := recoveryChecks()
 			var failures []string
+			perSet := map[uint64]int{}
 			var az arrest.Analyzer
 			n, faults := 0, 0
-			for i := 0; i < recoveryCases; i += stride {
-				n++
-				p := kind.draw(i)
-				out := Simulate(p)
-				if err := soundTruth(p, out.Truth); err != "" {
-					t.Errorf("case %d %s %s: the simulated truth itself is unsound: %s", i, p.Alloy, p.Fault, err)
-				}
-				tm, temp := out.Time, out.Temp
-				if out.Open != nil { // the logger's open-circuit readings never reach the core
-					k := slices.Index(out.Open, true)
-					tm, temp = tm[:k], temp[:k]
-				}
-				az.Reset()
-				res := az.Analyze(tm, temp, arrest.Options{Family: arrestFamily(p.Alloy)})
-				desc := fmt.Sprintf("%s case %d %s inoc %.2f mod %.2f %s %g Hz noise %.2f q %g spikes %g lag %.2f%s:", kind.name, i, p.Alloy, p.Inoculation, p.Modification, p.Fault, p.Logger.RateHz, p.Logger.NoiseC, p.Logger.QuantC, p.Logger.SpikeRate, p.Logger.LagS, radialDesc(p))
-				if p.Fault == FaultOpen || p.Fault == FaultPulledEarly {
-					faults++
-					if !res.Invalid() {
-						failures = append(failures, fmt.Sprintf("%s a faulty cup not flagged invalid (problems %v)", desc, res.Problems))
+			for _, seed := range recoverySeeds {
+				for i := 0; i < recoveryCases; i += stride {
+					n++
+					p := kind.draw(seed, i)
+					out := Simulate(p)
+					if err := soundTruth(p, out.Truth); err != "" {
+						t.Errorf("seed %d case %d %s %s: the simulated truth itself is unsound: %s", seed, i, p.Alloy, p.Fault, err)
 					}
-				}
-				// a recording that stops while the eutectic is unsettled has
-				// no maximum (or no eutectic) in the truth; from the noisy
-				// readings the detector may settle one (cutPlateau), and the
-				// result is invalid either way
-				cut := !out.Truth.EutecticMax.OK
-				for _, c := range checks {
-					want, wok := c.truth(&out.Truth)
-					got, gok := c.got(&res)
-					switch {
-					case wok && gok:
-						e := got - want
-						c.errs = append(c.errs, e)
-						if c.tol > 0 && math.Abs(e) > c.tol {
-							failures = append(failures, fmt.Sprintf("%s %s %.2f, truth %.2f (|error| %.2f > %.1f)", desc, c.name, got, want, math.Abs(e), c.tol))
-						}
-					case wok != gok:
-						c.nulls++
-						if c.tol > 0 && !(cut && !wok && strings.HasPrefix(c.name, "eutectic") || cut && c.name == "recalescence") {
-							failures = append(failures, fmt.Sprintf("%s %s found=%v (%.2f), truth found=%v (%.2f)", desc, c.name, gok, got, wok, want))
+					tm, temp := out.Time, out.Temp
+					if out.Open != nil { // the logger's open-circuit readings never reach the core
+						k := slices.Index(out.Open, true)
+						tm, temp = tm[:k], temp[:k]
+					}
+					az.Reset()
+					res := az.Analyze(tm, temp, arrest.Options{Family: arrestFamily(p.Alloy)})
+					desc := fmt.Sprintf("%s seed %d case %d %s inoc %.2f mod %.2f %s %g Hz noise %.2f q %g spikes %g lag %.2f%s:", kind.name, seed, i, p.Alloy, p.Inoculation, p.Modification, p.Fault, p.Logger.RateHz, p.Logger.NoiseC, p.Logger.QuantC, p.Logger.SpikeRate, p.Logger.LagS, radialDesc(p))
+					before := len(failures)
+					if p.Fault == FaultOpen || p.Fault == FaultPulledEarly {
+						faults++
+						if !res.Invalid() {
+							failures = append(failures, fmt.Sprintf("%s a faulty cup not flagged invalid (problems %v)", desc, res.Problems))
 						}
 					}
+					// a recording that stops while the eutectic is unsettled has
+					// no maximum (or no eutectic) in the truth; from the noisy
+					// readings the detector may settle one (cutPlateau), and the
+					// result is invalid either way
+					cut := !out.Truth.EutecticMax.OK
+					for _, c := range checks {
+						want, wok := c.truth(&out.Truth)
+						got, gok := c.got(&res)
+						switch {
+						case wok && gok:
+							e := got - want
+							c.errs = append(c.errs, e)
+							if c.tol > 0 && math.Abs(e) > c.tol {
+								failures = append(failures, fmt.Sprintf("%s %s %.2f, truth %.2f (|error| %.2f > %.1f)", desc, c.name, got, want, math.Abs(e), c.tol))
+							}
+						case wok != gok:
+							c.nulls++
+							if c.tol > 0 && !(cut && !wok && strings.HasPrefix(c.name, "eutectic") || cut && c.name == "recalescence") {
+								failures = append(failures, fmt.Sprintf("%s %s found=%v (%.2f), truth found=%v (%.2f)", desc, c.name, gok, got, wok, want))
+							}
+						}
+					}
+					perSet[seed] += len(failures) - before
 				}
 			}
-			logErrors(t, fmt.Sprintf("%d SIMULATED %s cups (%d cut short by a fault)", n, kind.name, faults), checks)
-			if kind.name == "radial" && len(failures) <= radialBudget {
-				t.Logf("%d checks outside the tolerances on %d radial cups (budget %d):", len(failures), n, radialBudget)
-				for _, f := range failures {
-					t.Log(f)
-				}
-				return
+			logErrors(t, fmt.Sprintf("%d SIMULATED %s cups over %d seed sets (%d cut short by a fault)", n, kind.name, len(recoverySeeds), faults), checks)
+			sets := make([]string, len(recoverySeeds))
+			for k, seed := range recoverySeeds {
+				sets[k] = fmt.Sprintf("%d: %d", seed, perSet[seed])
 			}
-			if len(failures) > 0 {
+			t.Logf("%d checks outside the tolerances on %d %s cups (budget %d; per seed set %s)", len(failures), n, kind.name, kind.budget, strings.Join(sets, ", "))
+			for _, f := range failures {
+				t.Log(f)
+			}
+			if len(failures) > kind.budget {
 				show := failures[:min(len(failures), 25)]
-				t.Errorf("%d failed checks on %d %s cups; first %d:\n%s", len(failures), n, kind.name, len(show), strings.Join(show, "\n"))
+				t.Errorf("%d failed checks on %d %s cups, more than the budget %d; first %d:\n%s", len(failures), n, kind.name, kind.budget, len(show), strings.Join(show, "\n"))
 			}
 		})
 	}
