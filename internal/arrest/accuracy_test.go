@@ -233,3 +233,59 @@ func TestShallowEndOfFreezing(t *testing.T) {
 	}
 	acc.log(t, "a constructed Al-Si curve with a fast-cooling liquid and a shallow end of freezing")
 }
+
+// A strong gradient's centre at a few readings a second: the plateau ends
+// in a cliff (T' from 0 to −26 °C/s within 0.23 s, then relaxing to
+// −13 °C/s over 0.75 s), too sharp for any window, and the end of freezing
+// is placed on the cliff's steps (steepestStep): on the first step whose
+// slope lies within a tenth of the steepest's, not on the steepest, which
+// noise or the relaxation may make the second. T' is most negative just
+// after the fall begins. Constructed pure-metal curves at 4 and 5 Hz, four
+// phases of the readings against the cliff, noise 0.05 °C: where the
+// steepest step follows one within a tenth of it, the point is that
+// earlier step's middle; on every phase it is within one reading interval
+// of the construction's most negative T'.
+func TestEndOfFreezingOnACliff(t *testing.T) {
+	sh := &shape{name: "pure metal, plateau ending in a cliff (constructed)", family: FamilyPure, anchorT: 0, anchorC: 470, pre: 3,
+		knots: knotSeq(knot{4, -2.2}, [2]float64{14, -1.8}, [2]float64{6, 0}, [2]float64{60, 0}, [2]float64{0.23, -26}, [2]float64{0.75, -13}, [2]float64{60, -3})}
+	want := sh.truth()
+	earlier := 0
+	for _, rate := range []float64{4, 5} {
+		for _, phase := range []float64{0, 0.25, 0.5, 0.75} {
+			tt, v := sh.sample(sampling{rate: rate, phase: phase, noise: 0.05, seed: 5})
+			got := Analyze(tt, v, Options{Family: sh.family})
+			label := fmt.Sprintf("%s at %g Hz, phase %.2f", sh.name, rate, phase)
+			if !got.Complete || got.Invalid() || !got.Solidus.OK {
+				t.Fatalf("%s: complete %v, problems %v, end of freezing %+v", label, got.Complete, got.Problems, got.Solidus)
+			}
+			// the steepest step within a second of the cliff, and the first
+			// of the run within a tenth of it before it
+			slope := func(k int) float64 { return (v[k+1] - v[k]) / (tt[k+1] - tt[k]) }
+			lo, _ := slices.BinarySearch(tt, want.Solidus.TimeS-1)
+			hi, _ := slices.BinarySearch(tt, want.Solidus.TimeS+1)
+			bk := lo
+			for k := lo; k < hi; k++ {
+				if slope(k) < slope(bk) {
+					bk = k
+				}
+			}
+			first := bk
+			for first > lo && slope(first-1) <= 0.9*slope(bk) {
+				first--
+			}
+			if first < bk {
+				earlier++
+			}
+			if mid := (tt[first] + tt[first+1]) / 2; math.Abs(got.Solidus.TimeS-mid) > 1e-9 {
+				t.Errorf("%s: end of freezing at %.3f s, want the middle of the cliff's first step, %.3f s (the steepest's: %.3f s)", label, got.Solidus.TimeS, mid, (tt[bk]+tt[bk+1])/2)
+			}
+			if d := math.Abs(got.Solidus.TimeS - want.Solidus.TimeS); d > 1/rate {
+				t.Errorf("%s: end of freezing %.3f s, %.3f s from the construction's, more than one reading interval", label, got.Solidus.TimeS, d)
+			}
+		}
+	}
+	if earlier == 0 {
+		t.Fatal("no phase puts a step within a tenth of the steepest before it: the case is not exercised")
+	}
+	t.Logf("%d of 8 phases take a step before the steepest", earlier)
+}

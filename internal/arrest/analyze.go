@@ -1836,12 +1836,17 @@ func (a *Analyzer) atFrac(f float64) Point {
 
 // steepestStep places an end of freezing too sharp even for a 5-sample
 // window (a strong gradient's centre logged at a few readings a second
-// drops 10–25 °C between two readings) between the two readings of the
-// steepest step among lo … hi: at the middle of that step, T their mean. It
-// does so only where the steps' own noise, σ·√2 per interval, is at most
-// stepShare of the step's slope (a neighbouring step the noise may pick
-// instead lies on the same cliff) and the step is sharpGain times steeper
-// than the 5-sample T' there; ok false otherwise.
+// drops 10–25 °C between two readings) on the cliff's first step: the
+// earliest of the unbroken run of steps up to the steepest among lo … hi
+// whose slopes lie within stepShare of the steepest's, at the middle of
+// that step, T the mean of its two readings. T' is most negative just
+// after the fall begins and relaxes after it, so the steepest step may be
+// the second of the cliff (simulated 4 Hz cups read 4.2–4.4 °C late on it,
+// 1.4 °C early on the first). It does so only where the steps' own noise,
+// σ·√2 per interval, is at most stepShare of the step's slope (a
+// neighbouring step the noise may pick instead lies on the same cliff) and
+// the step is sharpGain times steeper than the 5-sample T' there; ok false
+// otherwise.
 func (a *Analyzer) steepestStep(i, j, lo, hi int, sig float64) (Point, bool) {
 	if lo+2 > hi {
 		return Point{}, false
@@ -1854,6 +1859,14 @@ func (a *Analyzer) steepestStep(i, j, lo, hi int, sig float64) (Point, bool) {
 	}
 	if bk < 0 || math.Sqrt2*sig/a.dt > stepShare*-best || -best < sharpGain*a.dipDepth(5, i, j) {
 		return Point{}, false
+	}
+	// the cliff's first step within stepShare of the steepest: the noise
+	// cannot tell them apart, and T' is most negative just after the fall
+	// begins (the relaxation follows)
+	for ; bk > lo; bk-- {
+		if v := (a.x[bk] - a.x[bk-1]) / (a.ts[bk] - a.ts[bk-1]); v > (1-stepShare)*best {
+			break
+		}
 	}
 	return Point{TempC: (a.x[bk] + a.x[bk+1]) / 2, TimeS: (a.ts[bk] + a.ts[bk+1]) / 2, OK: true}, true
 }
