@@ -997,7 +997,7 @@ func (a *Analyzer) detect() {
 				if v < dmin {
 					dmin, dminI = v, j
 				}
-				if back = a.shoulderPassed(v, dmin, h, p); back {
+				if back = a.shoulderPassed(j, v, dmin, h, p); back {
 					break
 				}
 				if ts[j]-ts[dminI] >= confirm && (e.eutRefD-dmin >= need || a.x[j] < floor && a.solidDip(v, dmin, p)) {
@@ -1516,9 +1516,19 @@ func (a *Analyzer) outsideWindow(j int, lo, hi Point) {
 //
 // After a eutectic that did recalesce, the same rise reopens the search
 // too, but the recalescence that follows becomes the eutectic only if it
-// outranks the earlier one (outranks); else the earlier is restored.
-func (a *Analyzer) shoulderPassed(v, dmin, h, p float64) bool {
-	return a.reopens() && v > h && a.det.eutRefD-dmin > p
+// outranks the earlier one (outranks); else the earlier is restored. There
+// the rise (at index j) also reopens it where the fall before it was
+// shallower than p but the curve has cooled below the earlier minimum by
+// more than the drop that settles a recalescence's maximum (dropFloor, or
+// 6σ of T): on a noisy T' a wall's recalescence can be followed by a slow
+// fall of −0.1 °C/s, under the prominence, for tens of seconds, and the
+// centre's own recalescence then comes from several degrees lower.
+func (a *Analyzer) shoulderPassed(j int, v, dmin, h, p float64) bool {
+	if !a.reopens() || v <= h {
+		return false
+	}
+	e := &a.det
+	return e.eutRefD-dmin > p || e.eutRecal && a.sm(j) < e.res.EutecticMin.TempC-max(dropFloor, 6*a.sigma(j)*a.gainS)
 }
 
 // reopens tells whether a later arrest may take the eutectic's place

@@ -32,6 +32,19 @@ func outrankCases() []outrankCase {
 			from: 6, to: 7,
 		},
 		{
+			// the same with a larger first rise (T' up to 0.2 °C/s, about
+			// 0.6 °C) and the fall after it too shallow to stand out of a
+			// noisy T' (−0.1 °C/s, under the prominence at 0.2 °C of
+			// noise): the curve has cooled some 4 °C below the first
+			// minimum when the centre's own eutectic recalesces, which
+			// reopens the search as a deeper fall would
+			sh: &shape{name: "ductile iron, hypereutectic, wall shoulder just above zero, shallow fall, then the centre's own recalescence (constructed)",
+				family: FamilyIron, anchorT: 90, anchorC: 1150, pre: 3,
+				knots: seq(knot{4, -3.0}, [2]float64{40, -2.2}, [2]float64{8, 0.2}, [2]float64{8, -0.1}, [2]float64{40, -0.1},
+					[2]float64{10, 0.9}, [2]float64{10, -0.05}, [2]float64{60, -0.1}, [2]float64{8, -3.4}, [2]float64{matched(8, 3.3, 1.1), -2.3}, [2]float64{100, -1.7})},
+			from: 6, to: 7,
+		},
+		{
 			// a plateau wobbling about zero: two recalescences of like
 			// size (T' up to 0.1 °C/s each; T rises 0.35 and 0.55 °C, the
 			// second from 2 °C lower): the first stays
