@@ -289,3 +289,22 @@ func TestEndOfFreezingOnACliff(t *testing.T) {
 	}
 	t.Logf("%d of 8 phases take a step before the steepest", earlier)
 }
+
+// A pure metal's long flat plateau logged coarsely: 190 s at T' = 0, 4 Hz,
+// 0.25 °C of noise. The longer refinement window of an arrest that did not
+// recalesce must not find a recalescence in the noise somewhere along the
+// plateau: its T' has to rise above 4σ of its own noise (it was read as
+// 0.5–0.8 °C on simulated pure-Zn cups). 20 seeds; the eutectic points and
+// the recalescence within the tolerances of TestAccuracyNoisy.
+func TestLongNoisyPlateauHasNoRecalescence(t *testing.T) {
+	acc := newAccuracy("eutectic_min", 0.5, "eutectic_max", 0.5, "recalescence", 0.5)
+	sh := &shape{name: "pure metal, 190 s flat plateau (constructed)", family: FamilyPure, anchorT: 0, anchorC: 450, pre: 3,
+		knots: knotSeq(knot{4, -2.2}, [2]float64{10, -1.8}, [2]float64{6, 0}, [2]float64{190, 0}, [2]float64{8, -2.5}, [2]float64{matched(8, 2.5, 0.5), -2.0}, [2]float64{60, -1.5})}
+	want := sh.truth()
+	for seed := range uint64(20) {
+		tt, v := sh.sample(sampling{rate: 4, noise: 0.25, seed: 100 + seed})
+		got := Analyze(tt, v, Options{Family: sh.family})
+		acc.check(t, fmt.Sprintf("%s, 4 Hz, noise 0.25 °C, seed %d", sh.name, 100+seed), got, want)
+	}
+	acc.log(t, "a constructed 190 s pure-metal plateau at 4 Hz with 0.25 °C of noise, 20 seeds")
+}
