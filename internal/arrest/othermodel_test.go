@@ -8,12 +8,12 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
-	"slices"
 	"strconv"
 	"strings"
 	"testing"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
+	"github.com/undercool-foundry/undercool/internal/errdist"
 )
 
 // otherModelBudget is how many checks on the independent cup model's
@@ -90,17 +90,9 @@ func TestIndependentCupModel(t *testing.T) {
 		}
 	}
 	t.Logf("%d SIMULATED cups of the independent model; arrest − truth in °C:", len(doc.Cups))
-	t.Logf("%-13s %5s %8s %8s %8s %8s %8s %6s", "point", "n", "|e| med", "|e| p95", "|e| max", "min e", "max e", "null≠")
+	t.Log(errdist.Header())
 	for _, k := range checks {
-		abs := make([]float64, len(k.errs))
-		for i, e := range k.errs {
-			abs[i] = math.Abs(e)
-		}
-		lim := "-"
-		if k.tol > 0 {
-			lim = fmt.Sprintf("±%.1f", k.tol)
-		}
-		t.Logf("%-13s %5d %8.3f %8.3f %8.3f %8.3f %8.3f %6d  (limit %s)", k.name, len(k.errs), nearestRank(abs, 0.5), nearestRank(abs, 0.95), nearestRank(abs, 1), nearestRank(k.errs, 0), nearestRank(k.errs, 1), k.nulls, lim)
+		t.Log(errdist.Row(k.name, k.errs, k.nulls, k.tol))
 	}
 	t.Logf("%d checks outside the tolerances (budget %d):", len(failures), otherModelBudget)
 	for _, f := range failures {
@@ -239,15 +231,4 @@ func codes(ps []arrest.Problem) []string {
 		out = append(out, p.Code)
 	}
 	return out
-}
-
-// nearestRank is the q-quantile of xs by the nearest rank (NaN when empty).
-func nearestRank(xs []float64, q float64) float64 {
-	if len(xs) == 0 {
-		return math.NaN()
-	}
-	s := slices.Clone(xs)
-	slices.Sort(s)
-	k := int(math.Ceil(q*float64(len(s)))) - 1
-	return s[min(max(k, 0), len(s)-1)]
 }

@@ -9,6 +9,7 @@ import (
 	"testing"
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
+	"github.com/undercool-foundry/undercool/internal/errdist"
 )
 
 // The analysis core's main regression suite: internal/arrest on SIMULATED
@@ -285,35 +286,16 @@ func radialDesc(p Params) string {
 	return fmt.Sprintf(" radial zones %d wall h %.0f k %.0f/%.0f nuclei %.3g shell %.2f", r.Zones, r.WallHW, r.LiquidK, r.SolidK, r.WallNuclei, r.ShellFrac)
 }
 
-// logErrors prints the distribution of arrest − truth per point: the
-// median and 95th percentile of |error|, the extremes of the signed error
-// and the nulls that disagree.
+// logErrors prints the distribution of arrest − truth per point
+// (errdist.Row): the median and 95th percentile of |error|, the extremes of
+// the signed error and the nulls that disagree.
 func logErrors(t *testing.T, title string, checks []*pointCheck) {
 	t.Helper()
 	t.Logf("%s; arrest − truth in °C:", title)
-	t.Logf("%-13s %5s %8s %8s %8s %8s %8s %6s", "point", "n", "|e| med", "|e| p95", "|e| max", "min e", "max e", "null≠")
+	t.Log(errdist.Header())
 	for _, c := range checks {
-		abs := make([]float64, len(c.errs))
-		for k, e := range c.errs {
-			abs[k] = math.Abs(e)
-		}
-		lim := "-"
-		if c.tol > 0 {
-			lim = fmt.Sprintf("±%.1f", c.tol)
-		}
-		t.Logf("%-13s %5d %8.3f %8.3f %8.3f %8.3f %8.3f %6d  (limit %s)", c.name, len(c.errs), quantile(abs, 0.5), quantile(abs, 0.95), quantile(abs, 1), quantile(c.errs, 0), quantile(c.errs, 1), c.nulls, lim)
+		t.Log(errdist.Row(c.name, c.errs, c.nulls, c.tol))
 	}
-}
-
-// quantile is the q-quantile of xs by the nearest rank (NaN when empty).
-func quantile(xs []float64, q float64) float64 {
-	if len(xs) == 0 {
-		return math.NaN()
-	}
-	s := slices.Clone(xs)
-	slices.Sort(s)
-	k := int(math.Ceil(q*float64(len(s)))) - 1
-	return s[min(max(k, 0), len(s)-1)]
 }
 
 // soundTruth checks that a case's truth is what its physics promises:

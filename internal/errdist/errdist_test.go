@@ -1,0 +1,41 @@
+package errdist
+
+import (
+	"math"
+	"strings"
+	"testing"
+)
+
+// The nearest-rank quantile as defined by Hyndman and Fan's definition 1
+// (the inverse of the empirical distribution function; Amer. Statistician
+// 50 (1996) 361, recalled), on small worked cases.
+func TestQuantile(t *testing.T) {
+	xs := []float64{15, 20, 35, 40, 50}
+	for _, c := range []struct{ q, want float64 }{
+		{0, 15}, {0.05, 15}, {0.3, 20}, {0.4, 20}, {0.5, 35}, {0.95, 50}, {1, 50},
+	} {
+		if got := Quantile(xs, c.q); got != c.want {
+			t.Errorf("Quantile(%v, %g) = %g, want %g", xs, c.q, got, c.want)
+		}
+	}
+	if !math.IsNaN(Quantile(nil, 0.5)) {
+		t.Error("the quantile of no values is not NaN")
+	}
+	in := []float64{3, 1, 2}
+	Quantile(in, 0.5)
+	if in[0] != 3 || in[1] != 1 {
+		t.Errorf("Quantile changed its input: %v", in)
+	}
+}
+
+func TestRow(t *testing.T) {
+	got := Row("solidus", []float64{-1, 0.5, 2}, 1, 4)
+	for _, want := range []string{"solidus", "    3", "   1.000", "   2.000", "  -1.000", "(limit ±4.0)"} {
+		if !strings.Contains(got, want) {
+			t.Errorf("Row = %q, missing %q", got, want)
+		}
+	}
+	if !strings.Contains(Row("pour_peak", nil, 0, 0), "(limit -)") {
+		t.Error("a point without a tolerance shows no limit")
+	}
+}
