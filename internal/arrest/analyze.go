@@ -1703,7 +1703,7 @@ func (a *Analyzer) levelPoint(k int, v0, v1, level float64) Point {
 // sharp fall into a slowly relaxing bottom still averages the fall with
 // the bottom and puts the point late by up to half its length; the
 // shorter window sees the fall sooner, and the point only ever moves
-// toward it. Measured on the simulated cups over three seed sets (docs/
+// toward it. Measured on the simulated cups over four seed sets (docs/
 // analysis.md, "Accuracy on simulated cups"), the end of freezing's median
 // and 95th-percentile error fall on both cup kinds. The noise every step
 // here weighs is at least the logger's rounding (quantum): a rounded quiet
