@@ -4,7 +4,6 @@ import (
 	"bufio"
 	"encoding/json"
 	"fmt"
-	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -74,25 +73,18 @@ func TestIndependentCupModel(t *testing.T) {
 		for _, k := range checks {
 			want, wok := k.truth(c.Truth)
 			got, gok := k.got(&res)
-			switch {
-			case wok && gok:
-				e := got - want
-				k.errs = append(k.errs, e)
-				if k.tol > 0 && math.Abs(e) > k.tol {
-					failures = append(failures, fmt.Sprintf("%s %s %.2f, truth %.2f (|error| %.2f > %.1f)", desc, k.name, got, want, math.Abs(e), k.tol))
-				}
-			case wok != gok:
-				k.nulls++
-				if k.tol > 0 {
-					failures = append(failures, fmt.Sprintf("%s %s found=%v (%.2f), truth found=%v (%.2f) problems %v", desc, k.name, gok, got, wok, want, codes(res.Problems)))
-				}
+			switch miss, null := k.Add(got, gok, want, wok); {
+			case miss != "" && null:
+				failures = append(failures, fmt.Sprintf("%s %s problems %v", desc, miss, codes(res.Problems)))
+			case miss != "":
+				failures = append(failures, desc+" "+miss)
 			}
 		}
 	}
 	t.Logf("%d SIMULATED cups of the independent model; arrest − truth in °C:", len(doc.Cups))
 	t.Log(errdist.Header())
 	for _, k := range checks {
-		t.Log(errdist.Row(k.name, k.errs, k.nulls, k.tol))
+		t.Log(k.Row())
 	}
 	t.Logf("%d checks outside the tolerances (budget %d):", len(failures), otherModelBudget)
 	for _, f := range failures {
@@ -124,12 +116,9 @@ type otherCup struct {
 }
 
 type otherCheck struct {
-	name  string
-	tol   float64 // °C; 0: logged, not checked
-	truth func(map[string]json.RawMessage) (float64, bool)
-	got   func(*arrest.Result) (float64, bool)
-	errs  []float64
-	nulls int
+	errdist.Point // name, tolerance (0: logged, not checked), errors and disagreeing nulls
+	truth         func(map[string]json.RawMessage) (float64, bool)
+	got           func(*arrest.Result) (float64, bool)
 }
 
 // truthPoint reads a point {"c": …, "s": …} of the truth, or its null.
@@ -146,20 +135,20 @@ func truthPoint(key string) func(map[string]json.RawMessage) (float64, bool) {
 func otherChecks() []*otherCheck {
 	pt := func(p arrest.Point) (float64, bool) { return p.TempC, p.OK }
 	return []*otherCheck{
-		{name: "pour_peak", truth: truthPoint("pour_peak"), got: func(r *arrest.Result) (float64, bool) { return pt(r.PourPeak) }},
-		{name: "liquidus_min", truth: truthPoint("liquidus_min"), got: func(r *arrest.Result) (float64, bool) { return pt(r.LiquidusMin) }},
-		{name: "liquidus", tol: 1.5, truth: truthPoint("liquidus"), got: func(r *arrest.Result) (float64, bool) { return pt(r.Liquidus) }},
-		{name: "eutectic_start", truth: truthPoint("eutectic_start"), got: func(r *arrest.Result) (float64, bool) { return pt(r.EutecticStart) }},
-		{name: "eutectic_min", tol: 0.6, truth: truthPoint("eutectic_min"), got: func(r *arrest.Result) (float64, bool) { return pt(r.EutecticMin) }},
-		{name: "eutectic_max", tol: 0.6, truth: truthPoint("eutectic_max"), got: func(r *arrest.Result) (float64, bool) { return pt(r.EutecticMax) }},
-		{name: "recalescence", tol: 0.6, truth: func(m map[string]json.RawMessage) (float64, bool) {
+		{Point: errdist.Point{Name: "pour_peak"}, truth: truthPoint("pour_peak"), got: func(r *arrest.Result) (float64, bool) { return pt(r.PourPeak) }},
+		{Point: errdist.Point{Name: "liquidus_min"}, truth: truthPoint("liquidus_min"), got: func(r *arrest.Result) (float64, bool) { return pt(r.LiquidusMin) }},
+		{Point: errdist.Point{Name: "liquidus", Tol: 1.5}, truth: truthPoint("liquidus"), got: func(r *arrest.Result) (float64, bool) { return pt(r.Liquidus) }},
+		{Point: errdist.Point{Name: "eutectic_start"}, truth: truthPoint("eutectic_start"), got: func(r *arrest.Result) (float64, bool) { return pt(r.EutecticStart) }},
+		{Point: errdist.Point{Name: "eutectic_min", Tol: 0.6}, truth: truthPoint("eutectic_min"), got: func(r *arrest.Result) (float64, bool) { return pt(r.EutecticMin) }},
+		{Point: errdist.Point{Name: "eutectic_max", Tol: 0.6}, truth: truthPoint("eutectic_max"), got: func(r *arrest.Result) (float64, bool) { return pt(r.EutecticMax) }},
+		{Point: errdist.Point{Name: "recalescence", Tol: 0.6}, truth: func(m map[string]json.RawMessage) (float64, bool) {
 			var v *float64
 			if err := json.Unmarshal(m["recalescence_c"], &v); err != nil || v == nil {
 				return 0, false
 			}
 			return *v, true
 		}, got: func(r *arrest.Result) (float64, bool) { return r.Recalescence, r.RecalescenceOK }},
-		{name: "solidus", tol: 4, truth: truthPoint("solidus"), got: func(r *arrest.Result) (float64, bool) { return pt(r.Solidus) }},
+		{Point: errdist.Point{Name: "solidus", Tol: 4}, truth: truthPoint("solidus"), got: func(r *arrest.Result) (float64, bool) { return pt(r.Solidus) }},
 	}
 }
 

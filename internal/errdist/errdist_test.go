@@ -39,3 +39,30 @@ func TestRow(t *testing.T) {
 		t.Error("a point without a tolerance shows no limit")
 	}
 }
+
+func TestPointAdd(t *testing.T) {
+	p := Point{Name: "eutectic_min", Tol: 0.6}
+	for _, c := range []struct {
+		got, want     float64
+		gotOK, wantOK bool
+		miss, null    bool
+	}{
+		{1150.2, 1150.0, true, true, false, false},
+		{1151.0, 1150.0, true, true, true, false},
+		{0, 1150.0, false, true, true, true},
+		{1150.0, 0, true, false, true, true},
+		{0, 0, false, false, false, false},
+	} {
+		miss, null := p.Add(c.got, c.gotOK, c.want, c.wantOK)
+		if (miss != "") != c.miss || null != c.null {
+			t.Errorf("Add(%g, %v, %g, %v) = %q, %v", c.got, c.gotOK, c.want, c.wantOK, miss, null)
+		}
+	}
+	if len(p.Errs) != 2 || p.Nulls != 2 || math.Abs(p.Errs[1]-1) > 1e-9 {
+		t.Errorf("errors %v, nulls %d", p.Errs, p.Nulls)
+	}
+	logged := Point{Name: "pour_peak"}
+	if miss, _ := logged.Add(0, false, 1300, true); miss != "" || logged.Nulls != 1 {
+		t.Errorf("a point without a tolerance is logged, not missed: %q, nulls %d", miss, logged.Nulls)
+	}
+}

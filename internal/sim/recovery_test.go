@@ -166,32 +166,29 @@ func arrestFamily(alloy string) arrest.Family {
 }
 
 type pointCheck struct {
-	name  string
-	tol   float64 // °C; 0: logged, not checked
-	truth func(*Truth) (float64, bool)
-	got   func(*arrest.Result) (float64, bool)
-	errs  []float64 // arrest − truth, °C
-	nulls int       // null where the truth has a value, or a value where the truth is null
+	errdist.Point // name, tolerance (0: logged, not checked), errors and disagreeing nulls
+	truth         func(*Truth) (float64, bool)
+	got           func(*arrest.Result) (float64, bool)
 }
 
 // recoveryChecks are the points the suite compares, with their tolerances.
 func recoveryChecks() []*pointCheck {
 	return []*pointCheck{
-		{name: "pour_peak", truth: func(t *Truth) (float64, bool) { return t.PourPeak.TempC, t.PourPeak.OK },
+		{Point: errdist.Point{Name: "pour_peak"}, truth: func(t *Truth) (float64, bool) { return t.PourPeak.TempC, t.PourPeak.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.PourPeak.TempC, r.PourPeak.OK }},
-		{name: "liquidus_min", truth: func(t *Truth) (float64, bool) { return t.LiquidusMin.TempC, t.LiquidusMin.OK },
+		{Point: errdist.Point{Name: "liquidus_min"}, truth: func(t *Truth) (float64, bool) { return t.LiquidusMin.TempC, t.LiquidusMin.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.LiquidusMin.TempC, r.LiquidusMin.OK }},
-		{name: "liquidus", tol: 1.5, truth: func(t *Truth) (float64, bool) { return t.Liquidus.TempC, t.Liquidus.OK },
+		{Point: errdist.Point{Name: "liquidus", Tol: 1.5}, truth: func(t *Truth) (float64, bool) { return t.Liquidus.TempC, t.Liquidus.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.Liquidus.TempC, r.Liquidus.OK }},
-		{name: "eutectic_start", truth: func(t *Truth) (float64, bool) { return t.EutecticStart.TempC, t.EutecticStart.OK },
+		{Point: errdist.Point{Name: "eutectic_start"}, truth: func(t *Truth) (float64, bool) { return t.EutecticStart.TempC, t.EutecticStart.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.EutecticStart.TempC, r.EutecticStart.OK }},
-		{name: "eutectic_min", tol: 0.6, truth: func(t *Truth) (float64, bool) { return t.EutecticMin.TempC, t.EutecticMin.OK },
+		{Point: errdist.Point{Name: "eutectic_min", Tol: 0.6}, truth: func(t *Truth) (float64, bool) { return t.EutecticMin.TempC, t.EutecticMin.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.EutecticMin.TempC, r.EutecticMin.OK }},
-		{name: "eutectic_max", tol: 0.6, truth: func(t *Truth) (float64, bool) { return t.EutecticMax.TempC, t.EutecticMax.OK },
+		{Point: errdist.Point{Name: "eutectic_max", Tol: 0.6}, truth: func(t *Truth) (float64, bool) { return t.EutecticMax.TempC, t.EutecticMax.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.EutecticMax.TempC, r.EutecticMax.OK }},
-		{name: "recalescence", tol: 0.6, truth: func(t *Truth) (float64, bool) { return t.Recalescence, t.EutecticMin.OK && t.EutecticMax.OK },
+		{Point: errdist.Point{Name: "recalescence", Tol: 0.6}, truth: func(t *Truth) (float64, bool) { return t.Recalescence, t.EutecticMin.OK && t.EutecticMax.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.Recalescence, r.RecalescenceOK }},
-		{name: "solidus", tol: 4, truth: func(t *Truth) (float64, bool) { return t.Solidus.TempC, t.Solidus.OK },
+		{Point: errdist.Point{Name: "solidus", Tol: 4}, truth: func(t *Truth) (float64, bool) { return t.Solidus.TempC, t.Solidus.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.Solidus.TempC, r.Solidus.OK }},
 	}
 }
@@ -243,18 +240,9 @@ func TestRecoveryOfSimulatedTruth(t *testing.T) {
 					for _, c := range checks {
 						want, wok := c.truth(&out.Truth)
 						got, gok := c.got(&res)
-						switch {
-						case wok && gok:
-							e := got - want
-							c.errs = append(c.errs, e)
-							if c.tol > 0 && math.Abs(e) > c.tol {
-								failures = append(failures, fmt.Sprintf("%s %s %.2f, truth %.2f (|error| %.2f > %.1f)", desc, c.name, got, want, math.Abs(e), c.tol))
-							}
-						case wok != gok:
-							c.nulls++
-							if c.tol > 0 && !(cut && !wok && strings.HasPrefix(c.name, "eutectic") || cut && c.name == "recalescence") {
-								failures = append(failures, fmt.Sprintf("%s %s found=%v (%.2f), truth found=%v (%.2f)", desc, c.name, gok, got, wok, want))
-							}
+						miss, null := c.Add(got, gok, want, wok)
+						if miss != "" && !(null && cut && (!wok && strings.HasPrefix(c.Name, "eutectic") || c.Name == "recalescence")) {
+							failures = append(failures, desc+" "+miss)
 						}
 					}
 					perSet[seed] += len(failures) - before
@@ -294,7 +282,7 @@ func logErrors(t *testing.T, title string, checks []*pointCheck) {
 	t.Logf("%s; arrest − truth in °C:", title)
 	t.Log(errdist.Header())
 	for _, c := range checks {
-		t.Log(errdist.Row(c.name, c.errs, c.nulls, c.tol))
+		t.Log(c.Row())
 	}
 }
 
