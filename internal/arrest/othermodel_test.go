@@ -13,6 +13,7 @@ import (
 
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/errdist"
+	"github.com/undercool-foundry/undercool/internal/pyref"
 )
 
 // otherModelBudget is how many checks on the independent cup model's
@@ -157,25 +158,18 @@ func otherChecks() []*otherCheck {
 // Python with numpy and scipy is not there.
 func runCupModel(t *testing.T) string {
 	t.Helper()
-	mode := os.Getenv("UNDERCOOL_SCIPY")
-	py := os.Getenv("UNDERCOOL_PYTHON")
-	if py == "" {
-		py = "/usr/bin/python3"
-		if _, err := os.Stat(py); err != nil {
-			py = "python3"
-		}
-	}
+	py := pyref.Interpreter()
 	skip := func(why string) {
-		if mode == "required" {
+		if pyref.Required() {
 			t.Fatalf("scipy is required (UNDERCOOL_SCIPY=required): %s", why)
 		}
 		t.Skip(why)
 	}
-	if mode == "0" {
+	if pyref.Off() {
 		skip("UNDERCOOL_SCIPY=0")
 	}
-	if err := exec.Command(py, "-c", "import numpy, scipy.linalg, scipy.signal, scipy.ndimage").Run(); err != nil {
-		skip(fmt.Sprintf("%s cannot import numpy and scipy (%v); install python3-scipy", py, err))
+	if err := pyref.Imports(py, "numpy, scipy.linalg, scipy.signal, scipy.ndimage"); err != nil {
+		skip(err.Error())
 	}
 	dir := t.TempDir()
 	cmd := exec.Command(py, filepath.Join("..", "..", ".ci", "cupmodel.py"), dir)

@@ -15,6 +15,7 @@ import (
 	"github.com/undercool-foundry/undercool/internal/arrest"
 	"github.com/undercool-foundry/undercool/internal/curvefile"
 	"github.com/undercool-foundry/undercool/internal/limits"
+	"github.com/undercool-foundry/undercool/internal/pyref"
 )
 
 // The measured curves' arrests checked against an independent read.
@@ -218,25 +219,18 @@ func pointOf(r Record, key string) *float64 {
 // it cannot run) and why not.
 func scipyReads(t *testing.T) (map[string]realRead, string) {
 	t.Helper()
-	mode := os.Getenv("UNDERCOOL_SCIPY")
-	py := os.Getenv("UNDERCOOL_PYTHON")
-	if py == "" {
-		py = "/usr/bin/python3"
-		if _, err := os.Stat(py); err != nil {
-			py = "python3"
-		}
-	}
+	py := pyref.Interpreter()
 	fail := func(why string) (map[string]realRead, string) {
-		if mode == "required" {
+		if pyref.Required() {
 			t.Fatalf("scipy is required (UNDERCOOL_SCIPY=required): %s", why)
 		}
 		return nil, why
 	}
-	if mode == "0" {
+	if pyref.Off() {
 		return nil, "UNDERCOOL_SCIPY=0"
 	}
-	if err := exec.Command(py, "-c", "import scipy.signal").Run(); err != nil {
-		return fail(fmt.Sprintf("%s cannot import scipy.signal (%v); install python3-scipy", py, err))
+	if err := pyref.Imports(py, "scipy.signal"); err != nil {
+		return fail(err.Error())
 	}
 	dir := realData(t)
 	out, err := exec.Command(py, filepath.Join("..", "..", ".ci", "arrest_read.py"), dir).Output()

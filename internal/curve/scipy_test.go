@@ -7,6 +7,8 @@ import (
 	"os/exec"
 	"path/filepath"
 	"testing"
+
+	"github.com/undercool-foundry/undercool/internal/pyref"
 )
 
 // TestAgainstScipy compares Kernel.Apply with scipy.signal.savgol_filter
@@ -25,15 +27,12 @@ func TestAgainstScipy(t *testing.T) {
 	if mode == "" {
 		t.Skip("set UNDERCOOL_SCIPY=1 (or =required) to compare with scipy.signal.savgol_filter; needs python3-scipy")
 	}
-	py := os.Getenv("UNDERCOOL_PYTHON")
-	if py == "" {
-		py = "/usr/bin/python3"
-	}
-	if err := exec.Command(py, "-c", "import scipy.signal").Run(); err != nil {
-		if mode == "required" {
-			t.Fatalf("scipy is required (UNDERCOOL_SCIPY=required) but %s cannot import scipy.signal: %v", py, err)
+	py := pyref.Interpreter()
+	if err := pyref.Imports(py, "scipy.signal"); err != nil {
+		if pyref.Required() {
+			t.Fatalf("scipy is required (UNDERCOOL_SCIPY=required): %v", err)
 		}
-		t.Skipf("%s cannot import scipy.signal (%v); install python3-scipy", py, err)
+		t.Skip(err.Error())
 	}
 	files, _ := filepath.Glob("../../testdata/sim/*.csv")
 	files = append(files, "testdata/constructed.csv")
