@@ -118,14 +118,28 @@ func Parse(data []byte, name string) (*Book, error) {
 			b.Alloys[n] = a
 		}
 		a.Name = n
+		// an empty table ([chemistry], [metric], a reference's slopes or
+		// depressors) says what leaving it out says
 		if len(a.Chemistry) == 0 {
-			a.Chemistry = nil // an empty [chemistry] table says what leaving it out says
+			a.Chemistry = nil
+		}
+		if len(a.Metrics) == 0 {
+			a.Metrics = nil
+		}
+		if len(a.Reference.LiquidusSlopes) == 0 {
+			a.Reference.LiquidusSlopes = nil
+		}
+		if len(a.Reference.EutecticDepressors) == 0 {
+			a.Reference.EutecticDepressors = nil
 		}
 		for _, l := range a.Metrics {
 			if l != nil && len(l.Spoils) == 0 {
 				l.Spoils = nil // "spoils = []" says what leaving it out says
 			}
 		}
+	}
+	if len(b.InoculantTables) == 0 {
+		b.InoculantTables = nil // an empty [inoculant] table says what leaving it out says
 	}
 	b.nameInoculants()
 	if err := b.validate(data, name); err != nil {
