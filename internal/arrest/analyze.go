@@ -118,30 +118,33 @@ func (o Options) hints() Hints {
 
 // Limits of the raw reading and the detector's fixed thresholds.
 const (
-	MaxValidC    = 1800 // above: thermocouple fault (open circuit pegs high, no cup gets this hot)
-	MinValidC    = -50  // below: thermocouple fault (reversed or open)
-	SpikeMinC    = 3    // smallest spike removed, °C
-	MinRateHz    = 0.5  // slower logging is taken for a wrong time column
-	MaxRateHz    = 2000 // so is faster
-	StepFaultC   = 30   // a sustained jump of more than this between readings after the pour is a fault, °C
-	NoisyC       = 1.0  // noise above this, °C (robust σ), makes the curve untrustworthy
-	pourDropC    = 3    // the pour peak is settled once the reading is this far below it, °C
-	rateReadings = 21   // readings whose median interval fixes the sample rate
-	slopeFloor   = 0.02 // smallest hysteresis on T', °C/s
-	promFloor    = 0.05 // smallest prominence of an arrest in T', °C/s
-	dropFloor    = 0.3  // smallest temperature drop that settles a recalescence maximum, °C
-	promShare    = 0.15 // an arrest's prominence is at least this share of the preceding minimum of |T'|
-	longFactor   = 2    // refinement window of a flat eutectic arrest, in SlopeS
-	shortShare   = 0.03 // see solidusPoint
-	negShare     = 0.05 // see longArrest
-	holdShare    = 0.2  // see settle
-	flatShare    = 0.2  // see solidusPoint
-	belowWindowC = 10   // see noDistinctEnd, °C
-	sharpGain    = 1.1  // see steepestStep
-	dipSigmas    = 3    // see solidusWindow
-	stepShare    = 0.1  // see steepestStep
-	fallShare    = 0.04 // an arrest's fall is at least this share of |T'|min before it
-	blockRangeC  = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
+	MaxValidC      = 1800 // above: thermocouple fault (open circuit pegs high, no cup gets this hot)
+	MinValidC      = -50  // below: thermocouple fault (reversed or open)
+	SpikeMinC      = 3    // smallest spike removed, °C
+	MinRateHz      = 0.5  // slower logging is taken for a wrong time column
+	MaxRateHz      = 2000 // so is faster
+	StepFaultC     = 30   // a sustained jump of more than this between readings after the pour is a fault, °C
+	NoisyC         = 1.0  // noise above this, °C (robust σ), makes the curve untrustworthy
+	pourDropC      = 3    // the pour peak is settled once the reading is this far below it, °C
+	rateReadings   = 21   // readings whose median interval fixes the sample rate
+	slopeFloor     = 0.02 // smallest hysteresis on T', °C/s
+	promFloor      = 0.05 // smallest prominence of an arrest in T', °C/s
+	dropFloor      = 0.3  // smallest temperature drop that settles a recalescence maximum, °C
+	promShare      = 0.15 // an arrest's prominence is at least this share of the preceding minimum of |T'|
+	longFactor     = 2    // refinement window of a flat eutectic arrest, in SlopeS
+	shortShare     = 0.03 // see solidusPoint
+	negShare       = 0.05 // see longArrest
+	holdShare      = 0.2  // see settle
+	flatShare      = 0.2  // see solidusPoint
+	belowWindowC   = 10   // see noDistinctEnd, °C
+	sharpGain      = 1.1  // see steepestStep
+	dipSigmas      = 3    // see solidusWindow
+	stepShare      = 0.1  // see steepestStep
+	sharpStepShare = 0.2  // see steepestStep
+	sharpShare     = 0.65 // see sharpFall
+	locShare       = 0.15 // see solidusPoint
+	fallShare      = 0.04 // an arrest's fall is at least this share of |T'|min before it
+	blockRangeC    = 60   // a 2 s noise block spanning more than this is the pour, not noise, °C
 )
 
 // Stable problem codes.
@@ -1697,15 +1700,25 @@ func (a *Analyzer) levelPoint(k int, v0, v1, level float64) Point {
 // is where the bottom is first reached, not wherever noise puts its lowest
 // sample. The bottom is the middle of the run of T' near its minimum
 // (dipBottom). That run is then searched again, from a quarter window
-// before its start up to its middle, on a window two thirds as long (at least
-// five samples), and its bottom there is taken where it lies earlier: the
+// before its start, on a window two thirds as long (at least five
+// samples), and its bottom there is taken where it lies earlier: the
 // window chosen is as short as the dip's depth and noise allow, which on a
 // sharp fall into a slowly relaxing bottom still averages the fall with
 // the bottom and puts the point late by up to half its length; the
 // shorter window sees the fall sooner, and the point only ever moves
-// toward it. Measured on the simulated cups over four seed sets (docs/
-// analysis.md, "Accuracy on simulated cups"), the end of freezing's median
-// and 95th-percentile error fall on both cup kinds. The noise every step
+// toward it. After a fall the T' window cannot resolve (sharpFall) the
+// search reaches half the shorter window past the bottom so far and is
+// repeated on ever shorter windows (each two thirds of the last, down to
+// five samples) while the next one's T' noise stays below locShare of the
+// dip's depth: a flat bottom reached within a second reads on a 4 s window
+// as a bottom a second or more late (simulated 4–5 Hz cups 4.3–5.4 °C
+// low). After a gentler fall one step is taken, its search ending at the
+// bottom so far: the bottom of a rounded dip has no early side for a
+// shorter window to find, and on its noisier T' repeated steps that keep
+// only the earlier bottom would walk early (simulated ductile-iron cups up
+// to 4.7 °C high). Measured on the simulated cups over four seed sets
+// (docs/analysis.md, "Accuracy on simulated cups"), the end of freezing's
+// median and 95th-percentile error fall on both cup kinds. The noise every step
 // here weighs is at least the logger's rounding (quantum): a rounded quiet
 // plateau has a noise estimate near zero, and the first rounding step off
 // it would pass for the end of freezing.
@@ -1721,8 +1734,9 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 		k--
 	}
 	lo, hi := max(k-a.wd/2, h, a.det.eutI), min(j, a.xAvail(j)-h)
+	sharp := a.sharpFall(i)
 	if w == 5 {
-		if pt, ok := a.steepestStep(i, j, lo, hi, sig); ok {
+		if pt, ok := a.steepestStep(i, j, lo, hi, sig, sharp); ok {
 			return pt
 		}
 	}
@@ -1738,18 +1752,48 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 	case !ok:
 		return a.at(lo + m)
 	}
-	// the bottom located again on a window two thirds as long, never later
-	if v := max(5, (2*w/3)|1); v < w {
-		from := max(lo+int(math.Floor(first))-w/4, v/2, a.det.eutI)
-		to := min(lo+int(math.Ceil(mid)), a.xAvail(j)-v/2)
-		if from+2 <= to {
-			dv := a.appendSlopes(ds[len(ds):], curve.SavGol(v, 2, 1), from, to+1)
-			if _, _, mv, ok := a.dipBottom(dv, v, sig); ok && float64(from)+mv < float64(lo)+mid {
-				return a.atFrac(float64(from) + mv)
-			}
+	// the bottom located again on a window two thirds as long, never
+	// later; after a sharp fall again and again down to five samples
+	at, start := float64(lo)+mid, float64(lo)+first
+	depth := -ds[m]
+	for v := max(5, (2*w/3)|1); v < w; w, v = v, max(5, (2*v/3)|1) {
+		from := max(int(math.Floor(start))-w/4, v/2, a.det.eutI)
+		to := int(math.Ceil(at))
+		if sharp {
+			to += v / 2
+		}
+		to = min(to, a.xAvail(j)-v/2)
+		if from+2 > to {
+			break
+		}
+		dv := a.appendSlopes(ds[len(ds):], curve.SavGol(v, 2, 1), from, to+1)
+		_, fv, mv, ok := a.dipBottom(dv, v, sig)
+		if !ok || float64(from)+mv >= at {
+			break
+		}
+		at, start = float64(from)+mv, float64(from)+fv
+		if !sharp || curve.SavGol(max(5, (2*v/3)|1), 2, 1).NoiseGain()*sig/a.dt > locShare*depth {
+			break
 		}
 	}
-	return a.atFrac(float64(lo) + mid)
+	return a.atFrac(at)
+}
+
+// sharpFall reports whether T' fell into the end-of-freezing dip at sample
+// i (its most negative value on the T' window) as sharply as that window
+// can show: T' took at most sharpShare of the window's span to come down
+// from halfway between the eutectic's T' and its minimum (the same halfway
+// level that ends the plateau, solidus) to the minimum. A fall much shorter
+// than the window, T' dropping by several °C/s within a second, reads on
+// it as a ramp half the window long; a fall the window resolves takes
+// longer.
+func (a *Analyzer) sharpFall(i int) bool {
+	half := (a.det.eutRefD + a.d[i]) / 2
+	k := i
+	for k > a.det.eutI && a.d[k] < half {
+		k--
+	}
+	return a.ts[i]-a.ts[k] <= sharpShare*float64(a.wd-1)*a.dt
 }
 
 // dipBottom finds the bottom of the end-of-freezing dip in ds, T' on a
@@ -1860,8 +1904,14 @@ func (a *Analyzer) atFrac(f float64) Point {
 // σ·√2 per interval, is at most stepShare of the step's slope (a
 // neighbouring step the noise may pick instead lies on the same cliff) and
 // the step is sharpGain times steeper than the 5-sample T' there; ok false
-// otherwise.
-func (a *Analyzer) steepestStep(i, j, lo, hi int, sig float64) (Point, bool) {
+// otherwise. After a fall sharper than the T' window resolves (sharpFall)
+// the cliff itself says the dip is sharp, so sharpGain is not asked, and
+// its steps may be noisier, up to sharpStepShare of the slope: the steps
+// before the cliff lie near
+// zero, far outside the cliff's share, and a few readings of nearly equal
+// steep steps otherwise read on a 5-sample T' at their middle, a reading
+// late (simulated 4–5 Hz cups 4.3–5.1 °C low).
+func (a *Analyzer) steepestStep(i, j, lo, hi int, sig float64, sharp bool) (Point, bool) {
 	if lo+2 > hi {
 		return Point{}, false
 	}
@@ -1871,7 +1921,11 @@ func (a *Analyzer) steepestStep(i, j, lo, hi int, sig float64) (Point, bool) {
 			best, bk = v, k
 		}
 	}
-	if bk < 0 || math.Sqrt2*sig/a.dt > stepShare*-best || -best < sharpGain*a.dipDepth(5, i, j) {
+	noise := stepShare
+	if sharp {
+		noise = sharpStepShare
+	}
+	if bk < 0 || math.Sqrt2*sig/a.dt > noise*-best || !sharp && -best < sharpGain*a.dipDepth(5, i, j) {
 		return Point{}, false
 	}
 	// the cliff's first step within stepShare of the steepest: the noise
