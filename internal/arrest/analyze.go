@@ -230,8 +230,11 @@ const (
 //     whose kind hangs on its length and that settles sooner is held
 //     (settle): long if T' then stays within max(P, 0.2·(top − cooling
 //     before)) of its top (zero after a recalescence) for 3·Hints.SlopeS,
-//     short once it falls below that. Liquidus is null when no arrest
-//     precedes the eutectic;
+//     short once it falls below that. A pure metal's arrest without
+//     recalescence whose T' has reached zero is long as soon as it has
+//     lasted 3·Hints.SlopeS, and settles then (plateauHeld) without
+//     waiting for T' to fall. Liquidus is null when no arrest precedes
+//     the eutectic;
 //   - the alloy's windows (Hints.Eutectic, Hints.Liquidus): an arrest
 //     reaching above the eutectic window is a primary arrest, the liquidus
 //     only inside the liquidus window; an arrest taken for the eutectic
@@ -1057,13 +1060,14 @@ func (a *Analyzer) quietRun(j, end int, h, p float64) int {
 	case phaseRise:
 		dmax, dmaxI := e.dmax, e.dmaxI
 		fall := dmax - max(p, fallShare*math.Abs(e.dmin))
+		single := !a.reopens()
 		for ; j < end; j++ {
 			v := d[j]
 			if v > dmax {
 				dmax, dmaxI = v, j
 				fall = dmax - max(p, fallShare*math.Abs(e.dmin))
 			}
-			if v > h || v < fall {
+			if v > h || v < fall || single && a.ts[j]-a.ts[e.start] >= a.shortArrest() {
 				break
 			}
 		}
@@ -1134,6 +1138,13 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 		if e.sub == phaseRise && d < e.dmax-max(p, fallShare*math.Abs(e.dmin)) {
 			pt := a.extremum(e.dmaxI)
 			a.settle(j, pt, pt, false, p)
+			return
+		}
+		// a pure metal's single plateau is settled once it is long, without
+		// waiting for T' to fall at its end (plateauHeld)
+		if e.sub == phaseRise && a.plateauHeld(j, p) {
+			pt := a.extremum(e.dmaxI)
+			a.arrest(j, pt, pt, false, true)
 		}
 	case phasePos:
 		if d > e.dmax {
@@ -1251,6 +1262,17 @@ func (a *Analyzer) arrestSpan(recal bool, p float64) (from int, ok bool) {
 	top := min(peak, 0)
 	k := a.riseStart((e.dmin+top)/2, e.dmaxI)
 	return a.riseStart((a.slopeBefore(k)+top)/2, e.dmaxI), true
+}
+
+// plateauHeld tells whether a pure metal's arrest without recalescence is
+// its single plateau at index j: T' has risen to near zero and stayed
+// there for shortArrest (longArrest). The plateau then needs no fall of
+// T' to settle: a check cup's plateau holds T' at zero for minutes, and a
+// rise of T' near its end (the centre's last liquid freezing) would
+// otherwise pass for the plateau's recalescence, minutes late (on a radial
+// cup of the independent model, at 125 s of a plateau that began at 10 s).
+func (a *Analyzer) plateauHeld(j int, p float64) bool {
+	return !a.reopens() && a.d[a.det.dmaxI] >= 0 && a.ts[j]-a.ts[a.det.start] >= a.shortArrest() && a.longArrest(j, false, p)
 }
 
 // longArrest tells whether the arrest is long at index j: it can be

@@ -114,3 +114,44 @@ func TestNoisyPlateauCrossings(t *testing.T) {
 		}
 	}
 }
+
+// A pure metal's plateau with no undercooling that T' approaches from
+// below, held at zero for 90 s, and a rise of T' to +0.6 °C/s for a second
+// and a half near its end (the centre's last liquid freezing: T lifts by
+// about 0.45 °C) before the end of freezing. The plateau is the fixed point
+// (ITS-90 660.323 °C, Preston-Thomas, Metrologia 27 (1990) 3) and starts
+// where T' reaches zero, 48 s after the pour peak; the late rise is not its
+// recalescence. Settled once long (plateauHeld), the plateau is read at its
+// start within 0.1 °C, with no recalescence, and shown live before the
+// late rise (an independent cup model's radial pure-Al cup had read it at
+// that rise, 115 s late, with 0.68 °C of recalescence).
+func TestPureMetalPlateauBeforeALateRise(t *testing.T) {
+	sh := &shape{name: "pure Al plateau with a late rise (constructed)", family: FamilyPure, anchorT: 48, anchorC: its90AlC, pre: 5,
+		knots: []knot{{0, 0}, {3, -1.8}, {40, -1.5}, {48, 0}, {138, 0}, {139, 0.6}, {140.5, 0.6}, {141.5, 0}, {143, 0}, {153, -2.5}, {153 + matched(10, 2.5, 0.7), -1.8}, {260, -1.4}}}
+	for _, smp := range []sampling{
+		{rate: 10},
+		{rate: 4, phase: 0.5},
+		{rate: 10, noise: 0.05, quant: 0.01, seed: 5},
+		{rate: 25, noise: 0.1, quant: 0.1, seed: 6},
+	} {
+		tt, v := sh.sample(smp)
+		label := fmt.Sprintf("%s, %g Hz, noise %g", sh.name, smp.rate, smp.noise)
+		r := Analyze(tt, v, Options{Family: FamilyPure})
+		if !r.EutecticMin.OK || !r.Complete || r.Invalid() {
+			t.Errorf("%s: plateau not found cleanly: %+v", label, r)
+			continue
+		}
+		if e := r.EutecticMin.TempC - its90AlC; math.Abs(e) > 0.1 {
+			t.Errorf("%s: plateau read %.3f °C, ITS-90 %.3f °C", label, r.EutecticMin.TempC, its90AlC)
+		}
+		if r.EutecticMin.TimeS > 70 || r.Recalescence > 0.1 {
+			t.Errorf("%s: plateau read at %.1f s with %.2f °C recalescence, want its start (48 s) and none", label, r.EutecticMin.TimeS, r.Recalescence)
+		}
+		early, ev := cutAt(tt, v, 120)
+		live := Analyze(early, ev, Options{Family: FamilyPure, Live: true})
+		if !live.EutecticMin.OK || live.EutecticMin.TempC != r.EutecticMin.TempC || live.EutecticMin.TimeS != r.EutecticMin.TimeS {
+			t.Errorf("%s: live at 120 s the plateau is %+v, offline %+v", label, live.EutecticMin, r.EutecticMin)
+		}
+		t.Logf("%s: plateau %+.3f °C from ITS-90 at %.1f s, recalescence %.2f °C", label, r.EutecticMin.TempC-its90AlC, r.EutecticMin.TimeS, r.Recalescence)
+	}
+}

@@ -26,11 +26,12 @@ import (
 // up as outside the window, 1 liquidus, 8 eutectic points of 5 cups); 6
 // once a shallow end-of-freezing dip settles below the floor, a flat
 // arrest refined to above the window is a primary one and a
-// recalescence's pause is inside it: a liquidus shoulder missed at 4 Hz,
-// two pure metals' first plateau crossings, a 5 Hz nucleation cusp (2) and
-// one recalescence 0.63 °C low. docs/analysis.md ("An independent cup
-// model") lists them with the reasons.
-const otherModelBudget = 6
+// recalescence's pause is inside it; 5 once a pure metal's plateau
+// settles when long (plateauHeld): a liquidus shoulder missed at 4 Hz, a
+// pure-Zn plateau's first crossing, a 5 Hz nucleation cusp (2) and one
+// recalescence 0.63 °C low. docs/analysis.md ("An independent cup model")
+// lists them with the reasons.
+const otherModelBudget = 5
 
 // TestIndependentCupModel runs .ci/cupmodel.py, a radial cup model written
 // independently of internal/sim (its own geometry, heat flow, nucleation
