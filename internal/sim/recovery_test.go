@@ -192,6 +192,14 @@ func recoveryChecks() []*pointCheck {
 			got: func(r *arrest.Result) (float64, bool) { return r.Recalescence, r.RecalescenceOK }},
 		{Point: errdist.Point{Name: "solidus", Tol: 4}, truth: func(t *Truth) (float64, bool) { return t.Solidus.TempC, t.Solidus.OK },
 			got: func(r *arrest.Result) (float64, bool) { return r.Solidus.TempC, r.Solidus.OK }},
+		// the times, logged: on a flat plateau a point far along it reads
+		// the right temperature at the wrong time
+		{Point: errdist.Point{Name: "eutectic_min_s"}, truth: func(t *Truth) (float64, bool) { return t.EutecticMin.TimeS, t.EutecticMin.OK },
+			got: func(r *arrest.Result) (float64, bool) { return r.EutecticMin.TimeS, r.EutecticMin.OK }},
+		{Point: errdist.Point{Name: "eutectic_max_s"}, truth: func(t *Truth) (float64, bool) { return t.EutecticMax.TimeS, t.EutecticMax.OK },
+			got: func(r *arrest.Result) (float64, bool) { return r.EutecticMax.TimeS, r.EutecticMax.OK }},
+		{Point: errdist.Point{Name: "solidus_s"}, truth: func(t *Truth) (float64, bool) { return t.Solidus.TimeS, t.Solidus.OK },
+			got: func(r *arrest.Result) (float64, bool) { return r.Solidus.TimeS, r.Solidus.OK }},
 	}
 }
 
@@ -281,7 +289,7 @@ func radialDesc(p Params) string {
 // the signed error and the nulls that disagree.
 func logErrors(t *testing.T, title string, checks []*pointCheck) {
 	t.Helper()
-	t.Logf("%s; arrest − truth in °C:", title)
+	t.Logf("%s; arrest − truth in °C (rows ending _s: in s):", title)
 	t.Log(errdist.Header())
 	for _, c := range checks {
 		t.Log(c.Row())
