@@ -201,7 +201,10 @@ const (
 //     no pour transient (filling takes seconds, practice) stays below its
 //     highest reading for three T' windows; the arrest search begins half a
 //     T' window after the peak (where T' no longer reaches back over it),
-//     going back there when the peak is confirmed later;
+//     going back there when the peak is confirmed later. Where no reading
+//     fell pourDropC below the peak before it was confirmed and T' there is
+//     already within P of zero, the search begins inside the arrest the pour
+//     fell onto (its rise is the fall from the peak);
 //   - an arrest is a local maximum of T' that rises max(P, 0.15·|T'min|)
 //     above the minimum T'min before it and falls max(P, 0.04·|T'min|) after
 //     it, P = max(0.05 °C/s, 8σ_T');
@@ -341,6 +344,7 @@ type Analyzer struct {
 	sorted          []float64 // work space for the median
 	xmax            float64
 	xmaxI, pourConf int
+	pourFlat        bool    // the pour peak was confirmed without the reading falling pourDropC below it
 	pourBelow       int     // consecutive readings below the peak by the pour drop, none rising above the first of them by it
 	pourFrom        float64 // the first reading of that run, °C
 
@@ -829,7 +833,7 @@ func (a *Analyzer) filter(upto int) {
 			// or the reading has stayed below the peak for shortArrest
 			// (see Analyze: a pour barely above the first arrest)
 			if a.pourBelow >= pourRun || a.xmax >= a.h.MinPourC && a.ts[k]-a.ts[a.xmaxI] >= a.shortArrest() {
-				a.pourConf = k
+				a.pourConf, a.pourFlat = k, slices.Min(x[a.xmaxI:k+1]) > a.xmax-pourDropC
 			}
 		}
 		k = max(k, 1) // ≤ end, as end > i
@@ -979,6 +983,14 @@ func (a *Analyzer) detect() {
 			e.res.PourPeak = Point{TempC: a.x[a.xmaxI], TimeS: a.ts[a.xmaxI], OK: true}
 			e.stage = stageArrest
 			e.startArrest(j, d)
+			if a.pourFlat && d >= -p {
+				// the pour fell straight onto an arrest (a cup poured within
+				// a few kelvin of it: the reading never fell pourDropC below
+				// the peak): T' is within the prominence of zero already, so
+				// no rise into the arrest can follow, and the fall from the
+				// peak was the arrest's valley
+				e.sub, e.dmax, e.dmaxI = phaseRise, d, j
+			}
 		case stageArrest:
 			if e.hold.on {
 				a.holding(j, d)

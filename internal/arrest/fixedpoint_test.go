@@ -155,3 +155,34 @@ func TestPureMetalPlateauBeforeALateRise(t *testing.T) {
 		t.Logf("%s: plateau %+.3f °C from ITS-90 at %.1f s, recalescence %.2f °C", label, r.EutecticMin.TempC-its90AlC, r.EutecticMin.TimeS, r.Recalescence)
 	}
 }
+
+// A pure-aluminium check cup poured within a kelvin of its freezing point
+// (a short or cold pour): the thermocouple rises to a peak 0.6 °C above the
+// plateau and comes straight down onto it, never 3 °C below the peak until
+// the plateau ends. The arrest search then begins on the plateau itself,
+// T' already at zero; the plateau must still be found at the fixed point
+// (ITS-90 660.323 °C, Preston-Thomas, Metrologia 27 (1990) 3) within
+// 0.1 °C, and the end of freezing after it (simulated radial pure-Al cups
+// so poured had read no plateau at all, "ended-early").
+func TestPureMetalPouredOntoItsPlateau(t *testing.T) {
+	sh := &shape{name: "pure Al poured onto its plateau (constructed)", family: FamilyPure, anchorT: 1.6, anchorC: its90AlC, pre: 5,
+		knots: []knot{{0, 0}, {0.8, -0.6}, {1.6, 0}, {110, 0}, {120, -2.5}, {120 + matched(10, 2.5, 0.7), -1.8}, {230, -1.4}}}
+	for _, smp := range []sampling{
+		{rate: 10},
+		{rate: 4, phase: 0.5},
+		{rate: 10, noise: 0.05, quant: 0.01, seed: 5},
+		{rate: 25, noise: 0.15, quant: 0.1, seed: 6},
+	} {
+		tt, v := sh.sample(smp)
+		label := fmt.Sprintf("%s, %g Hz, noise %g", sh.name, smp.rate, smp.noise)
+		r := Analyze(tt, v, Options{Family: FamilyPure})
+		if !r.EutecticMin.OK || !r.Solidus.OK || !r.Complete || r.Invalid() {
+			t.Errorf("%s: plateau not found cleanly: plateau %+v, end of freezing %+v, problems %v", label, r.EutecticMin, r.Solidus, r.Problems)
+			continue
+		}
+		if e := r.EutecticMin.TempC - its90AlC; math.Abs(e) > 0.1 {
+			t.Errorf("%s: plateau read %.3f °C, ITS-90 %.3f °C", label, r.EutecticMin.TempC, its90AlC)
+		}
+		t.Logf("%s: peak %+.2f °C above ITS-90, plateau %+.3f °C from it at %.1f s", label, r.PourPeak.TempC-its90AlC, r.EutecticMin.TempC-its90AlC, r.EutecticMin.TimeS)
+	}
+}
