@@ -177,12 +177,14 @@ const (
 //   - the sample rate is the median interval of the first 21 readings, and
 //     every window is set in seconds from it (2 Hz to 200 Hz); a rate outside
 //     MinRateHz … MaxRateHz stops the analysis ("odd-rate");
-//     single-sample spikes are replaced by a neighbour's reading
+//     single-sample spikes are replaced by their neighbours' mean
 //     (curve.SpikeAt, threshold max(SpikeMinC, 6σ) plus the local slope);
-//   - σ, the noise, is the median of curve.NoiseFast over 2 s blocks (not those
-//     spanning the pour), using only blocks already complete at each
-//     reading, so every decision depends on the data up to a fixed distance
-//     after it and never on later data;
+//   - σ, the noise, is the median of curve.NoiseFast over 2 s blocks (at
+//     least 16 readings; not those spanning the pour), using only blocks
+//     already complete at each reading, so every decision depends on the
+//     data up to a fixed distance after it and never on later data; until
+//     a block after the pour has ended, the arrest search takes σ from the
+//     readings since it began (earlyNoise);
 //   - T is the quadratic Savitzky–Golay smoothing over Hints.SmoothS and T'
 //     the quadratic Savitzky–Golay derivative over Hints.SlopeS; at the start
 //     T is the polynomial of the first window (scipy's "interp"), and T' is
@@ -783,6 +785,30 @@ func (a *Analyzer) sigma(i int) float64 {
 	return a.sigByCount[k]
 }
 
+// earlyNoise is the noise σ the arrest search judges T' at index j against
+// while no noise block after the pour has ended (validBlocks is 0): from
+// the third differences e = x[i] − 3x[i−1] + 3x[i−2] − x[i−3] of the
+// despiked readings from the search's start to the last one T' at j uses,
+// σ = mean|e|·√(π/2)/√20 (white noise gives e the variance 20σ², and a
+// bend of the curve up to a parabola none), 0 for fewer than five
+// readings. A slow logger ends its first whole block after the pour half a
+// minute in (16 readings a block at 1 Hz); until then σ would be 0, the
+// thresholds their floors, and the wobble of a noisy T' on the cooling
+// liquid would pass for a primary arrest (simulated iron cups at 1 Hz:
+// liquidus 50–140 °C high).
+func (a *Analyzer) earlyNoise(j int) float64 {
+	from, to := a.det.start, min(j+a.wd/2+1, len(a.x))
+	if to-from < 5 {
+		return 0
+	}
+	x := a.x[from:to]
+	s := 0.0
+	for i := 3; i < len(x); i++ {
+		s += math.Abs(x[i] - 3*x[i-1] + 3*x[i-2] - x[i-3])
+	}
+	return s / float64(len(x)-3) * math.Sqrt(math.Pi/2) / math.Sqrt(20)
+}
+
 // validBlocks is the number of valid noise blocks behind sigma(i).
 func (a *Analyzer) validBlocks(i int) int {
 	return a.validByCount[min(i/a.block, len(a.validByCount)-1)]
@@ -947,6 +973,10 @@ func (a *Analyzer) detect() {
 		j := e.j
 		d := a.d[j]
 		sig := a.sigmaAt(&a.curD, j)
+		early := e.stage != stagePour && a.validBlocks(j) == 0
+		if early {
+			sig = a.earlyNoise(j)
+		}
 		if e.stage != stagePour && sig > NoisyC && a.validBlocks(j) >= 5 {
 			// Too noisy: nothing from here on is used.
 			a.stop(j, len(a.raw), CodeNoisy, fmt.Sprintf("too noisy to trust: the reading scatters by about %.1f °C (more than %.1f °C) from %.0f s on; check the thermocouple, its wiring and earthing", sig, float64(NoisyC), a.ts[j]))
@@ -962,7 +992,7 @@ func (a *Analyzer) detect() {
 		}
 		// indices j … end−1 share this noise estimate (and so h and p)
 		end := j + 1
-		if a.curD.hi > a.curD.lo {
+		if !early && a.curD.hi > a.curD.lo {
 			end = min(len(a.d), a.curD.hi)
 		}
 		switch e.stage {

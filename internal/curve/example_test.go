@@ -25,7 +25,7 @@ func Example() {
 	fmt.Printf("smoothed x[20] %.2f °C, slope %.2f °C/s\n", smooth[20], slope[20])
 	// Output:
 	// window 11 samples, 1 spike removed
-	// x[12] 1222.60 -> 1197.80 °C
+	// x[12] 1222.60 -> 1197.60 °C
 	// smoothed x[20] 1196.00 °C, slope -2.00 °C/s
 }
 

@@ -51,12 +51,16 @@ var recoverySeeds = []uint64{2026, 3001, 4001, 5001}
 // down to five-sample windows (TestSharpEndOfFreezingAtFewReadingsASecond),
 // then 3 and 10 (0/1, 1/2, 0/4, 2/3) once an arrest search that begins on
 // a plateau the pour fell straight onto starts inside that arrest
-// (TestPureMetalPouredOntoItsPlateau), most of them short pours, which the
+// (TestPureMetalPouredOntoItsPlateau), then 3 and 11 (0/1, 1/2, 0/5, 2/3)
+// once the arrest search judges T' against the noise of the readings so
+// far while no noise block after the pour has ended (earlyNoise): a 4 Hz
+// Al-Si liquidus 3 s after the search began had been found only because
+// the noise was taken as 0 there. Most of them are short pours, which the
 // cup check on the pour judges invalid. They are listed with -v;
 // docs/analysis.md ("Accuracy on simulated cups") says what they are.
 const (
 	lumpedBudget = 3
-	radialBudget = 10
+	radialBudget = 11
 )
 
 // recoveryAlloys are the alloys the suite draws from.
@@ -353,5 +357,35 @@ func TestSharpEndOfFreezingAtFewReadingsASecond(t *testing.T) {
 		} else {
 			t.Logf("%s: end of freezing %+.2f °C from the truth", label, e)
 		}
+	}
+}
+
+// Iron cups logged once a second (below the suite's 4–50 Hz; seed set 7007,
+// drawn for a trial of slow loggers): the liquidus must lie within the
+// suite's 1.5 °C of the truth. Case 102 (no spikes): while no 16-reading
+// noise block after the pour had ended, the arrest search took the noise
+// as 0 and read the wobble of T' on the cooling liquid as the liquidus,
+// 131 °C high (earlyNoise). Case 144: an 11 °C spike on the liquid's
+// 2.7 °C/s slope was missed by the median test and read 102 °C high
+// (curve.SpikeAt now also weighs the neighbours' mean).
+func TestSlowLoggerLiquidus(t *testing.T) {
+	for _, c := range []struct {
+		i      int
+		spikes bool
+	}{{102, false}, {144, true}} {
+		p := recoveryCase(7007, c.i)
+		p.Logger.RateHz = 1
+		if !c.spikes {
+			p.Logger.SpikeRate = 0
+		}
+		out := Simulate(p)
+		res := arrest.Analyze(out.Time, out.Temp, arrest.Options{Family: arrestFamily(p.Alloy)})
+		want := out.Truth.Liquidus
+		label := fmt.Sprintf("seed 7007 case %d %s at 1 Hz, noise %.2f °C, spikes %v", c.i, p.Alloy, p.Logger.NoiseC, c.spikes)
+		if !want.OK || !res.Liquidus.OK || math.Abs(res.Liquidus.TempC-want.TempC) > 1.5 {
+			t.Errorf("%s: liquidus %+v, truth %+v (tolerance 1.5 °C)", label, res.Liquidus, want)
+			continue
+		}
+		t.Logf("%s: liquidus %+.2f °C from the truth", label, res.Liquidus.TempC-want.TempC)
 	}
 }
