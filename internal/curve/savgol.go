@@ -27,10 +27,17 @@ type Kernel struct {
 	Window, Order, Deriv int
 
 	half int
-	// rows[r] holds the weights that give the output at window position r
-	// (0 … Window−1) from the Window samples; rows[half] is the centre kernel.
-	// Weights are per sample^Deriv; Apply and At divide by dt^Deriv.
-	rows [][]float64
+	// centre holds the weights that give the output at the window's centre
+	// from its Window samples, per sample^Deriv (Apply and At divide by
+	// dt^Deriv).
+	centre []float64
+	// proj[a][j] is the weight of sample j in the fitted polynomial's
+	// coefficient of z^a, z = (position − half)/half; an edge output at
+	// window position r is Σ_a a!/(a−Deriv)! z_r^(a−Deriv) (proj[a]·window)
+	// / half^Deriv (edgeAt). Only Order+1 such rows are kept, not one row
+	// of weights per window position: those would be Window² numbers, half
+	// a gigabyte for the 8 s window of a 1 kHz logger.
+	proj [][]float64
 }
 
 type kernelKey struct{ window, order, deriv int }
@@ -95,33 +102,50 @@ func newKernel(window, order, deriv int) *Kernel {
 	// Coefficient b_a of the fit = Σ_j (G⁻¹Aᵀ)[a][j] y_j. The deriv-th
 	// derivative at z_r, per unit of z, is Σ_a b_a a!/(a−deriv)! z_r^(a−deriv);
 	// per sample it is divided by scale^deriv.
-	proj := make([]float64, np*window)
+	proj := make([][]float64, np)
 	for a := 0; a < np; a++ {
+		proj[a] = make([]float64, window)
 		for j := 0; j < window; j++ {
 			s := 0.0
 			for b := 0; b < np; b++ {
 				s += inv[a*np+b] * zp[j*np+b]
 			}
-			proj[a*window+j] = s
+			proj[a][j] = s
 		}
 	}
-	rows := make([][]float64, window)
-	unit := math.Pow(scale, float64(deriv))
-	for r := 0; r < window; r++ {
-		z := float64(r-half) / scale
-		row := make([]float64, window)
-		for a := deriv; a < np; a++ {
-			f := fallingFactorial(a, deriv) * math.Pow(z, float64(a-deriv)) // Pow(0, 0) = 1
-			for j := 0; j < window; j++ {
-				row[j] += f * proj[a*window+j]
-			}
-		}
-		for j := range row {
-			row[j] /= unit
-		}
-		rows[r] = row
+	k := &Kernel{Window: window, Order: order, Deriv: deriv, half: half, proj: proj}
+	k.centre = k.EdgeCoefficients(half)
+	return k
+}
+
+// weight is the factor a!/(a−Deriv)! z_r^(a−Deriv) by which the
+// polynomial's coefficient of z^a enters the output at window position r,
+// per unit of z (divide by unit for per sample).
+func (k *Kernel) weight(a, r int) float64 {
+	z := float64(r-k.half) / float64(k.half)
+	return fallingFactorial(a, k.Deriv) * math.Pow(z, float64(a-k.Deriv)) // Pow(0, 0) = 1
+}
+
+// unit is half^Deriv, the conversion from per unit of z to per sample.
+func (k *Kernel) unit() float64 { return math.Pow(float64(k.half), float64(k.Deriv)) }
+
+// edgeAt is the output at window position r of the fit to the Window
+// samples w (per sample^Deriv), from the projections p[a] = proj[a]·w
+// (edgeProj).
+func (k *Kernel) edgeAt(r int, p []float64) float64 {
+	v := 0.0
+	for a := k.Deriv; a < len(k.proj); a++ {
+		v += k.weight(a, r) * p[a]
 	}
-	return &Kernel{Window: window, Order: order, Deriv: deriv, half: half, rows: rows}
+	return v / k.unit()
+}
+
+// edgeProj appends the projections proj[a]·w of the window w to p.
+func (k *Kernel) edgeProj(p, w []float64) []float64 {
+	for _, row := range k.proj {
+		p = append(p, dot(row, w))
+	}
+	return p
 }
 
 func fallingFactorial(a, d int) float64 {
@@ -180,19 +204,32 @@ func invert(m []float64, n int) []float64 {
 // Coefficients returns the centre weights, per sample^Deriv, in window order:
 // the output at i is Σ_k c[k]·x[i−Window/2+k]. The slice is shared; do not
 // modify it.
-func (k *Kernel) Coefficients() []float64 { return k.rows[k.half] }
+func (k *Kernel) Coefficients() []float64 { return k.centre }
 
 // EdgeCoefficients returns the weights for the output at window position r
 // (0 … Window−1) of a fit to one window of samples; r = Window/2 is the
-// centre. The slice is shared; do not modify it.
-func (k *Kernel) EdgeCoefficients(r int) []float64 { return k.rows[r] }
+// centre. The slice is computed on each call (Window numbers).
+func (k *Kernel) EdgeCoefficients(r int) []float64 {
+	row := make([]float64, k.Window)
+	for a := k.Deriv; a < len(k.proj); a++ {
+		f := k.weight(a, r)
+		for j, c := range k.proj[a] {
+			row[j] += f * c
+		}
+	}
+	unit := k.unit()
+	for j := range row {
+		row[j] /= unit
+	}
+	return row
+}
 
 // NoiseGain is √Σc², the factor by which the kernel scales the standard
 // deviation of white noise (per sample^Deriv; divide by dt^Deriv for units
 // of time).
 func (k *Kernel) NoiseGain() float64 {
 	s := 0.0
-	for _, c := range k.rows[k.half] {
+	for _, c := range k.centre {
 		s += c * c
 	}
 	return math.Sqrt(s)
@@ -206,17 +243,17 @@ func (k *Kernel) At(x []float64, i int, dt float64) float64 {
 	if n < k.Window {
 		panic(fmt.Sprintf("curve: %d samples are fewer than the window %d", n, k.Window))
 	}
-	var row []float64
-	var win []float64
+	var v float64
+	var p [8]float64 // Order+1 projections; orders above 7 allocate
 	switch {
 	case i < k.half:
-		row, win = k.rows[i], x[:k.Window]
+		v = k.edgeAt(i, k.edgeProj(p[:0], x[:k.Window]))
 	case i >= n-k.half:
-		row, win = k.rows[i-(n-k.Window)], x[n-k.Window:]
+		v = k.edgeAt(i-(n-k.Window), k.edgeProj(p[:0], x[n-k.Window:]))
 	default:
-		row, win = k.rows[k.half], x[i-k.half:i+k.half+1]
+		v = dot(k.centre, x[i-k.half:i+k.half+1])
 	}
-	return dot(row, win) / math.Pow(dt, float64(k.Deriv))
+	return v / math.Pow(dt, float64(k.Deriv))
 }
 
 // AtGrowing is At for a curve that is still growing: for i < Window/2 the
@@ -226,24 +263,30 @@ func (k *Kernel) At(x []float64, i int, dt float64) float64 {
 func (k *Kernel) AtGrowing(x []float64, i int, dt float64) float64 {
 	var v float64
 	if i < k.half {
-		v = dot(k.rows[i], x[:k.Window])
+		var p [8]float64
+		v = k.edgeAt(i, k.edgeProj(p[:0], x[:k.Window]))
 	} else {
-		v = dot(k.rows[k.half], x[i-k.half:i+k.half+1])
+		v = dot(k.centre, x[i-k.half:i+k.half+1])
 	}
 	if k.Deriv == 0 {
 		return v
 	}
-	return v / math.Pow(dt, float64(k.Deriv))
+	return v * (1 / math.Pow(dt, float64(k.Deriv))) // as AppendGrowing, bit for bit
 }
 
 // AppendGrowing appends AtGrowing(x, i, dt) for i = from … to−1 to dst and
 // returns it (x must reach to−1+Window/2).
 func (k *Kernel) AppendGrowing(dst, x []float64, from, to int, dt float64) []float64 {
 	inv := 1 / math.Pow(dt, float64(k.Deriv))
-	h, c := k.half, k.rows[k.half]
+	h, c := k.half, k.centre
+	var pa [8]float64
+	var p []float64 // the start edge's projections, once
 	for i := from; i < to; i++ {
 		if i < h {
-			dst = append(dst, dot(k.rows[i], x[:k.Window])*inv)
+			if p == nil {
+				p = k.edgeProj(pa[:0], x[:k.Window])
+			}
+			dst = append(dst, k.edgeAt(i, p)*inv)
 			continue
 		}
 		dst = append(dst, dot(c, x[i-h:i+h+1])*inv)
@@ -267,11 +310,13 @@ func (k *Kernel) Apply(dst, x []float64, dt float64) []float64 {
 	}
 	inv := 1 / math.Pow(dt, float64(k.Deriv))
 	h := k.half
+	var pa, pb [8]float64
+	p, q := k.edgeProj(pa[:0], x[:k.Window]), k.edgeProj(pb[:0], x[n-k.Window:])
 	for i := 0; i < h; i++ {
-		dst[i] = dot(k.rows[i], x[:k.Window]) * inv
-		dst[n-h+i] = dot(k.rows[h+1+i], x[n-k.Window:]) * inv
+		dst[i] = k.edgeAt(i, p) * inv
+		dst[n-h+i] = k.edgeAt(h+1+i, q) * inv
 	}
-	c := k.rows[h]
+	c := k.centre
 	for i := h; i < n-h; i++ {
 		dst[i] = dot(c, x[i-h:i+h+1]) * inv
 	}
