@@ -376,6 +376,11 @@ type detector struct {
 
 	eutI int
 
+	// earlySum is Σ|third differences| of the readings from earlyFrom+3 to
+	// earlyTo−1, kept as the readings behind earlyNoise grow
+	earlyFrom, earlyTo int
+	earlySum           float64
+
 	// prev is the recalescing eutectic a reopened search may outrank
 	// (outranks), kept until the next arrest settles
 	prev outrankable
@@ -795,18 +800,23 @@ func (a *Analyzer) sigma(i int) float64 {
 // minute in (16 readings a block at 1 Hz); until then σ would be 0, the
 // thresholds their floors, and the wobble of a noisy T' on the cooling
 // liquid would pass for a primary arrest (simulated iron cups at 1 Hz:
-// liquidus 50–140 °C high).
+// liquidus 50–140 °C high). The sum grows with the readings (det.earlySum),
+// one term a reading.
 func (a *Analyzer) earlyNoise(j int) float64 {
-	from, to := a.det.start, min(j+a.wd/2+1, len(a.x))
+	e := &a.det
+	from, to := e.start, min(j+a.wd/2+1, len(a.x))
 	if to-from < 5 {
 		return 0
 	}
-	x := a.x[from:to]
-	s := 0.0
-	for i := 3; i < len(x); i++ {
-		s += math.Abs(x[i] - 3*x[i-1] + 3*x[i-2] - x[i-3])
+	if e.earlyFrom != from || e.earlyTo < from+3 || e.earlyTo > to {
+		e.earlyFrom, e.earlyTo, e.earlySum = from, from+3, 0
 	}
-	return s / float64(len(x)-3) * math.Sqrt(math.Pi/2) / math.Sqrt(20)
+	x := a.x
+	for i := e.earlyTo; i < to; i++ {
+		e.earlySum += math.Abs(x[i] - 3*x[i-1] + 3*x[i-2] - x[i-3])
+	}
+	e.earlyTo = to
+	return e.earlySum / float64(to-from-3) * math.Sqrt(math.Pi/2) / math.Sqrt(20)
 }
 
 // validBlocks is the number of valid noise blocks behind sigma(i).
