@@ -1856,18 +1856,26 @@ func (a *Analyzer) solidusPoint(i, j int) Point {
 // sharpFall reports whether T' fell into the end-of-freezing dip at sample
 // i (its most negative value on the T' window) as sharply as that window
 // can show: T' took at most sharpShare of the window's span to come down
-// from halfway between the eutectic's T' and its minimum (the same halfway
-// level that ends the plateau, solidus) to the minimum. A fall much shorter
+// from halfway between the eutectic's T' and its minimum (plateauEnd, the
+// end of the plateau) to the minimum. A fall much shorter
 // than the window, T' dropping by several °C/s within a second, reads on
 // it as a ramp half the window long; a fall the window resolves takes
 // longer.
 func (a *Analyzer) sharpFall(i int) bool {
+	return a.ts[i]-a.ts[a.plateauEnd(i)] <= sharpShare*float64(a.wd-1)*a.dt
+}
+
+// plateauEnd is the end of the eutectic plateau before the end-of-freezing
+// dip whose T' is most negative at sample i: the last index, going back
+// from i no further than the eutectic, where T' has not yet fallen halfway
+// from the eutectic's value to that minimum.
+func (a *Analyzer) plateauEnd(i int) int {
 	half := (a.det.eutRefD + a.d[i]) / 2
 	k := i
 	for k > a.det.eutI && a.d[k] < half {
 		k--
 	}
-	return a.ts[i]-a.ts[k] <= sharpShare*float64(a.wd-1)*a.dt
+	return k
 }
 
 // dipBottom finds the bottom of the end-of-freezing dip in ds, T' on a
@@ -2074,13 +2082,7 @@ func (a *Analyzer) solidus() {
 	r := &e.res
 	r.Solidus = a.solidusPoint(e.dminI, e.j)
 	r.EutecticStart.Provisional, r.EutecticMin.Provisional, r.EutecticMax.Provisional = false, false, false
-	// end of the plateau: where T' has fallen halfway from the eutectic's
-	// value to its minimum
-	half := (e.eutRefD + e.dmin) / 2
-	k := e.dminI
-	for k > e.eutI && a.d[k] < half {
-		k--
-	}
+	k := a.plateauEnd(e.dminI)
 	r.PlateauS = a.ts[k] - r.EutecticMin.TimeS
 	if r.PlateauS < 0 {
 		r.PlateauS = 0
