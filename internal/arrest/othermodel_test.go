@@ -29,9 +29,14 @@ import (
 // recalescence's pause is inside it; 5 once a pure metal's plateau
 // settles when long (plateauHeld): a liquidus shoulder missed at 4 Hz, a
 // pure-Zn plateau's first crossing, a 5 Hz nucleation cusp (2) and one
-// recalescence 0.63 °C low. docs/analysis.md ("An independent cup model")
-// lists them with the reasons.
-const otherModelBudget = 5
+// recalescence 0.63 °C low; 2 once a recalescence's minimum is located
+// again on shorter windows (recalMin), a pure metal's plateau is held only
+// for the time T' spends near zero, and a check cup's chill shoulder is
+// outranked by its recalescence: a liquidus shoulder missed at 4 Hz, and
+// a pure-Zn plateau whose first touch of zero the noise hides.
+// docs/analysis.md ("An independent cup model") lists them with the
+// reasons.
+const otherModelBudget = 2
 
 // TestIndependentCupModel runs .ci/cupmodel.py, a radial cup model written
 // independently of internal/sim (its own geometry, heat flow, nucleation
@@ -44,12 +49,23 @@ const otherModelBudget = 5
 // it has one, is a miss too. The model needs Python 3 with numpy and scipy
 // (Debian's python3-scipy): UNDERCOOL_PYTHON names the interpreter, the
 // test skips with the reason where it cannot run and fails when
-// UNDERCOOL_SCIPY=required.
+// UNDERCOOL_SCIPY=required. UNDERCOOL_CUPMODEL_CUPS=N draws N cups instead
+// of the model's 84 (the first 84 are the same); the cups beyond them were
+// not looked at while the detector was tuned, and the budget holds for the
+// 84 only, so a larger run reports its checks and fails on none.
 func TestIndependentCupModel(t *testing.T) {
 	if testing.Short() {
 		t.Skip("-short: the cup model takes about 30 s")
 	}
-	dir := runCupModel(t)
+	ncups := 0
+	if s := os.Getenv("UNDERCOOL_CUPMODEL_CUPS"); s != "" {
+		n, err := strconv.Atoi(s)
+		if err != nil || n < 1 {
+			t.Fatalf("UNDERCOOL_CUPMODEL_CUPS=%q: want a number of cups, 1 or more", s)
+		}
+		ncups = n
+	}
+	dir := runCupModel(t, ncups)
 	var doc struct {
 		Cups []otherCup
 	}
@@ -60,7 +76,7 @@ func TestIndependentCupModel(t *testing.T) {
 	if err := json.Unmarshal(raw, &doc); err != nil {
 		t.Fatalf("cups.json: %v", err)
 	}
-	if len(doc.Cups) < 60 {
+	if ncups == 0 && len(doc.Cups) < 60 {
 		t.Fatalf("cupmodel.py wrote %d cups, want at least 60", len(doc.Cups))
 	}
 	checks := otherChecks()
@@ -88,9 +104,16 @@ func TestIndependentCupModel(t *testing.T) {
 	for _, k := range checks {
 		t.Log(k.Row())
 	}
-	t.Logf("%d checks outside the tolerances (budget %d):", len(failures), otherModelBudget)
+	if ncups != 0 {
+		t.Logf("%d checks outside the tolerances on %d cups (the budget, %d, holds for the model's 84):", len(failures), len(doc.Cups), otherModelBudget)
+	} else {
+		t.Logf("%d checks outside the tolerances (budget %d):", len(failures), otherModelBudget)
+	}
 	for _, f := range failures {
 		t.Log(f)
+	}
+	if ncups != 0 {
+		return // a larger draw is reported, not judged against the budget
 	}
 	if len(failures) > otherModelBudget {
 		t.Errorf("%d checks outside the tolerances on %d cups of the independent model, budget %d (listed above)", len(failures), len(doc.Cups), otherModelBudget)
@@ -154,10 +177,11 @@ func otherChecks() []*otherCheck {
 	}
 }
 
-// runCupModel runs .ci/cupmodel.py into a temporary directory and returns
-// it; it skips the test (fails it with UNDERCOOL_SCIPY=required) where
-// Python with numpy and scipy is not there.
-func runCupModel(t *testing.T) string {
+// runCupModel runs .ci/cupmodel.py into a temporary directory (ncups cups,
+// 0 for the model's default) and returns it; it skips the test (fails it
+// with UNDERCOOL_SCIPY=required) where Python with numpy and scipy is not
+// there.
+func runCupModel(t *testing.T, ncups int) string {
 	t.Helper()
 	py := pyref.Interpreter()
 	skip := func(why string) {
@@ -173,7 +197,11 @@ func runCupModel(t *testing.T) string {
 		skip(err.Error())
 	}
 	dir := t.TempDir()
-	cmd := exec.Command(py, filepath.Join("..", "..", ".ci", "cupmodel.py"), dir)
+	args := []string{filepath.Join("..", "..", ".ci", "cupmodel.py"), dir}
+	if ncups > 0 {
+		args = append(args, "--cups", strconv.Itoa(ncups))
+	}
+	cmd := exec.Command(py, args...)
 	if out, err := cmd.CombinedOutput(); err != nil {
 		t.Fatalf("cupmodel.py: %v\n%s", err, out)
 	}
