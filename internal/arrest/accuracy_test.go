@@ -207,15 +207,41 @@ func TestAccuracyNoisyRateExtremes(t *testing.T) {
 // the curve cools 10 °C below the eutectic window (it was null, with
 // no-end-of-freezing, here and on 20 Al-Si cups of the independent cup
 // model, TestIndependentCupModel). Constructed curves, 5–25 Hz, noise up
-// to 0.2 °C, the tolerances of TestAccuracyNoisy.
+// to 0.2 °C, the tolerances of TestAccuracyNoisy. The second shape relaxes
+// only slowly after its dip (to −0.7 °C/s, back up by 0.08 °C/s by the
+// floor, as on five Al-Si cups of the independent model drawn beyond its
+// first 84): T' must come back up from the dip by the hysteresis, not by
+// the larger arrest prominence (solidDip).
 func TestShallowEndOfFreezing(t *testing.T) {
 	// the liquidus is not checked here: the shape's primary arrest, 16 s
 	// after the pour on a liquid cooling at −4.5 °C/s, is not found (a
 	// limit of its own, docs/analysis.md "An independent cup model")
 	acc := newAccuracy("eutectic_min", 0.5, "eutectic_max", 0.5, "recalescence", 0.5, "solidus", 4.0)
-	sh := &shape{name: "Al-Si, fast liquid, shallow end of freezing (constructed)", family: FamilyAluminum, anchorT: 16, anchorC: 614, pre: 3,
-		knots: knotSeq(knot{2, -5.0}, [2]float64{8, -4.5}, [2]float64{6, -0.15}, [2]float64{matched(6, 4.35, 0.45), -0.6}, [2]float64{70, -0.55},
-			[2]float64{12, 0.1}, [2]float64{12, -0.03}, [2]float64{80, -0.07}, [2]float64{10, -0.9}, [2]float64{matched(10, 0.83, 0.3), -0.6}, [2]float64{110, -0.55})}
+	liquid := []float64{8, -4.5, 6, -0.15, matched(6, 4.35, 0.45), -0.6, 70, -0.55, 12, 0.1, 12, -0.03, 80, -0.07}
+	for _, end := range []struct {
+		name  string
+		steps []float64
+	}{
+		{"shallow end of freezing", []float64{10, -0.9, matched(10, 0.83, 0.3), -0.6, 110, -0.55}},
+		{"shallow end of freezing, slow relaxation", []float64{10, -0.7, matched(10, 0.63, 0.08), -0.62, 110, -0.6}},
+	} {
+		var steps [][2]float64
+		for _, v := range [][]float64{liquid, end.steps} {
+			for k := 0; k < len(v); k += 2 {
+				steps = append(steps, [2]float64{v[k], v[k+1]})
+			}
+		}
+		sh := &shape{name: "Al-Si, fast liquid, " + end.name + " (constructed)", family: FamilyAluminum, anchorT: 16, anchorC: 614, pre: 3,
+			knots: knotSeq(knot{2, -5.0}, steps...)}
+		shallowEnd(t, acc, sh)
+	}
+	acc.log(t, "constructed Al-Si curves with a fast-cooling liquid and a shallow end of freezing")
+}
+
+// shallowEnd analyses sh at 5–25 Hz with noise up to 0.2 °C for
+// TestShallowEndOfFreezing.
+func shallowEnd(t *testing.T, acc *accuracy, sh *shape) {
+	t.Helper()
 	want := sh.truth()
 	if !want.Solidus.OK || !want.EutecticMin.OK || want.EutecticMin.TempC > AlSiEutecticC {
 		t.Fatalf("the construction has no eutectic in the window or no end of freezing: %+v", want)
@@ -231,7 +257,6 @@ func TestShallowEndOfFreezing(t *testing.T) {
 			acc.check(t, label, got, want)
 		}
 	}
-	acc.log(t, "a constructed Al-Si curve with a fast-cooling liquid and a shallow end of freezing")
 }
 
 // A strong gradient's centre at a few readings a second: the plateau ends
@@ -307,4 +332,26 @@ func TestLongNoisyPlateauHasNoRecalescence(t *testing.T) {
 		acc.check(t, fmt.Sprintf("%s, 4 Hz, noise 0.25 °C, seed %d", sh.name, 100+seed), got, want)
 	}
 	acc.log(t, "a constructed 190 s pure-metal plateau at 4 Hz with 0.25 °C of noise, 20 seeds")
+}
+
+// A cup whose T' falls from the eutectic plateau to the solid's cooling
+// rate and stays there, still steepening slowly (−0.6 to −0.66 °C/s),
+// has no distinct end of freezing: no T' minimum that it comes back up
+// from by the hysteresis. It keeps solidus_c null with no-end-of-freezing
+// on every logger, the noise (up to 0.2 °C) making no dip of its own.
+// Constructed curves (the liquid of TestShallowEndOfFreezing).
+func TestNoDistinctEndOfFreezing(t *testing.T) {
+	sh := &shape{name: "Al-Si, fast liquid, no distinct end of freezing (constructed)", family: FamilyAluminum, anchorT: 16, anchorC: 614, pre: 3,
+		knots: knotSeq(knot{2, -5.0}, [2]float64{8, -4.5}, [2]float64{6, -0.15}, [2]float64{matched(6, 4.35, 0.45), -0.6}, [2]float64{70, -0.55},
+			[2]float64{12, 0.1}, [2]float64{12, -0.03}, [2]float64{80, -0.07}, [2]float64{14, -0.6}, [2]float64{100, -0.66})}
+	for _, rate := range []float64{5, 10, 25} {
+		for k, noise := range []float64{0, 0.1, 0.2} {
+			tt, v := sh.sample(sampling{rate: rate, noise: noise, seed: uint64(41 + k)})
+			got := Analyze(tt, v, Options{Family: sh.family})
+			label := fmt.Sprintf("%s at %g Hz, noise %.1f °C", sh.name, rate, noise)
+			if c := codes(got); got.Solidus.OK || !got.Complete || got.Invalid() || len(c) != 1 || c[0] != CodeNoEnd {
+				t.Errorf("%s: end of freezing %+v, complete %v, problems %v; want none, complete, no-end-of-freezing", label, got.Solidus, got.Complete, got.Problems)
+			}
+		}
+	}
 }
