@@ -355,3 +355,39 @@ func TestNoDistinctEndOfFreezing(t *testing.T) {
 		}
 	}
 }
+
+// An Al-Si eutectic whose recalescence slows to a crawl before its top (T'
+// falls from +0.12 to +0.02 °C/s and rises by under 1 °C over the next
+// 60 s, as on Al-Si cups of the independent cup model drawn beyond its
+// first 84, TestIndependentCupModel) has its maximum where T' at last
+// returns to zero, not where the noise first takes T' below zero on the
+// slow climb: a maximum taken is given up while the curve rises more than
+// six times the smoothed curve's noise above it (arrestStep). Constructed
+// curves, 4–25 Hz, noise up to 0.25 °C, a 0.1 °C step on some, the
+// tolerances of TestIndependentCupModel (0.6 °C; 4.0 °C for the end of
+// freezing).
+func TestSlowRisingEutecticMaximum(t *testing.T) {
+	acc := newAccuracy("eutectic_min", 0.6, "eutectic_max", 0.6, "recalescence", 0.6, "solidus", 4.0)
+	sh := &shape{name: "Al-Si7Mg, grain refined, a slow climb to the eutectic maximum (constructed)", family: FamilyAluminum, anchorT: 66, anchorC: 614, pre: 5,
+		knots: knotSeq(knot{4, -1.3}, [2]float64{56, -1.0}, [2]float64{10, -0.15}, [2]float64{matched(10, 0.85, 0.45), -0.6}, [2]float64{64, -0.55},
+			[2]float64{12, 0.12}, [2]float64{8, 0.02}, [2]float64{60, 0.01}, [2]float64{10, -0.03}, [2]float64{60, -0.07},
+			[2]float64{12, -1.4}, [2]float64{matched(12, 1.33, 0.5), -0.9}, [2]float64{110, -0.7})}
+	want := sh.truth()
+	if !want.EutecticMax.OK || want.EutecticMax.TimeS < 150 {
+		t.Fatalf("the construction's maximum is not at the end of the slow climb: %+v", want.EutecticMax)
+	}
+	for _, rate := range []float64{4, 10, 25} {
+		for _, s := range []struct{ noise, quant float64 }{{0, 0}, {0.1, 0.1}, {0.25, 0}, {0.25, 0.1}} {
+			for seed := range uint64(3) {
+				tt, v := sh.sample(sampling{rate: rate, noise: s.noise, quant: s.quant, seed: 40 + seed})
+				got := Analyze(tt, v, Options{Family: sh.family})
+				label := fmt.Sprintf("%s at %g Hz, noise %.2f °C, step %g, seed %d", sh.name, rate, s.noise, s.quant, 40+seed)
+				if !got.Complete || got.Invalid() || len(got.Problems) != 0 {
+					t.Errorf("%s: complete %v, problems %v", label, got.Complete, got.Problems)
+				}
+				acc.check(t, label, got, want)
+			}
+		}
+	}
+	acc.log(t, "constructed Al-Si curves with a slow climb to the eutectic maximum")
+}

@@ -1152,6 +1152,15 @@ func (e *detector) startArrest(j int, d float64) {
 	e.cand = -1
 }
 
+// arrestStep advances the arrest under way by reading j, whose smoothed T'
+// is d (°C/s), with hysteresis h and prominence p (°C/s). In the valley
+// and the rise it watches for a recalescence (d above h) or a shoulder
+// (a rise and fall of T' by the prominence); in the recalescence the
+// maximum is T' crossing back to zero, taken as a candidate and settled
+// once T' falls below −h or the curve falls below it by the drop (6·σ_T of
+// the smoothed curve, at least dropFloor). A candidate is given up when the
+// curve rises above it by the drop: noise took T' below zero on a
+// slow climb, and the recalescence goes on (TestSlowRisingEutecticMaximum).
 func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 	e := &a.det
 	switch e.sub {
@@ -1209,11 +1218,15 @@ func (a *Analyzer) arrestStep(j int, d, h, p float64) {
 			e.lastAbove, e.cand = j, -1
 			return
 		}
+		drop := max(dropFloor, 6*(a.sigma(j)*a.gainS)) // 6·σ_T
+		if e.cand >= 0 && a.sm(j) > e.maxPt.TempC+drop {
+			e.cand = -1 // risen past the crossing by as much: the recalescence goes on
+		}
 		if e.cand < 0 && d <= 0 {
 			e.cand = j
 			e.maxPt = a.crossing(j - 1)
 		}
-		if e.cand >= 0 && (d < -h || a.sm(j) < e.maxPt.TempC-max(dropFloor, 6*(a.sigma(j)*a.gainS))) { // 6·σ_T
+		if e.cand >= 0 && (d < -h || a.sm(j) < e.maxPt.TempC-drop) {
 			a.settle(j, e.minPt, e.maxPt, true, p)
 		}
 	}
